@@ -1,0 +1,2 @@
+//! The `detent` command-line tool: a thin front end over detent-compiler.
+fn main() {}

@@ -1,0 +1,8 @@
+//! detent-compiler: the engine behind the `detent` CLI and the `detent::machine!` macro.
+//!
+//! Data flows one way: [`syntax`] (tokens to AST) -> [`model`] (resolved machine)
+//! -> {[`check`], [`minimize`], [`tour`], [`logic`]} -> [`emit`]. The reference
+//! interpreter in [`interp`] defines what a machine means; every back end is tested
+//! against it.
+
+pub mod logic;

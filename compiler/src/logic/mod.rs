@@ -1,0 +1,1 @@
+//! The hardware port: state assignment, excitation, two-level minimization, NAND/NOR.
