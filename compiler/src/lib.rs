@@ -5,4 +5,8 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
+pub mod diag;
+pub mod interp;
 pub mod logic;
+pub mod model;
+pub mod syntax;

@@ -1,0 +1,525 @@
+//! The resolved machine: names turned into dense ids, groups flattened, guards as BDDs.
+//!
+//! [`resolve`] turns a [`MachineAst`] into a [`Machine`] or reports name errors. All
+//! later stages (checker, interpreter, minimizer, back ends) read only the `Machine`.
+//!
+//! Numbering is declaration order everywhere: states in the order their `state`
+//! keywords appear (inside groups too), events, inputs, outputs and actions in the
+//! order of their lists. These are the numbers every back end uses.
+
+pub mod bdd;
+mod resolve;
+
+pub use bdd::{Bdd, BddStore};
+pub use resolve::{resolve, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES};
+
+use crate::diag::Lint;
+use crate::syntax::ast::{DispatchStyle, LevelAttr, Policy, Vis};
+use proc_macro2::Span;
+
+macro_rules! id_type {
+    ($(#[$doc:meta])* $name:ident) => {
+        $(#[$doc])*
+        #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+        pub struct $name(pub u32);
+
+        impl $name {
+            /// The id as an index into the machine's tables.
+            pub fn index(self) -> usize {
+                self.0 as usize
+            }
+
+            /// The id of the `i`th item.
+            pub fn from_index(i: usize) -> Self {
+                $name(i as u32)
+            }
+        }
+    };
+}
+
+id_type!(
+    /// A state, numbered in declaration order.
+    StateId
+);
+id_type!(
+    /// An event, numbered in declaration order (`Tick` is 0 in a clocked machine).
+    EventId
+);
+id_type!(
+    /// An input, numbered in declaration order; also its BDD variable.
+    InputId
+);
+id_type!(
+    /// An output line, numbered in declaration order.
+    OutputId
+);
+id_type!(
+    /// An action hook, numbered in declaration order.
+    ActionId
+);
+id_type!(
+    /// A group, numbered in declaration order.
+    GroupId
+);
+id_type!(
+    /// A rule, numbered in source order.
+    RuleId
+);
+
+/// A declared name (event, input, output or action).
+#[derive(Clone, Debug)]
+pub struct Item {
+    /// The name.
+    pub name: String,
+    /// Where it is declared.
+    pub span: Span,
+    /// Its doc comment lines.
+    pub doc: Vec<String>,
+}
+
+/// Lint level attributes on one node (machine, group or state), in source order.
+pub type LintLevels = Vec<(Lint, LevelAttr)>;
+
+/// Where a rule is written: a state's body or a group's.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Scope {
+    /// A state's own rules.
+    State(StateId),
+    /// A group's rules, inherited by every member.
+    Group(GroupId),
+}
+
+/// The rules of one scope, indexed by the event they name.
+#[derive(Clone, Debug, Default)]
+pub struct ScopeRules {
+    /// Rules naming each event, sorted by event id.
+    pub named: Vec<(EventId, Vec<RuleId>)>,
+    /// `_` rules (and, in a clocked machine, every rule).
+    pub wildcard: Vec<RuleId>,
+}
+
+impl ScopeRules {
+    /// The rules of this scope that apply to `event`, if the scope has any for it.
+    pub fn lookup(&self, event: EventId) -> Option<&[RuleId]> {
+        match self.named.binary_search_by_key(&event, |(e, _)| *e) {
+            Ok(i) => Some(&self.named[i].1),
+            Err(_) if !self.wildcard.is_empty() => Some(&self.wildcard),
+            Err(_) => None,
+        }
+    }
+}
+
+/// A state.
+#[derive(Clone, Debug)]
+pub struct State {
+    /// The name.
+    pub name: String,
+    /// Where the name is written.
+    pub span: Span,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// Marked `terminal`.
+    pub terminal: bool,
+    /// The innermost enclosing group.
+    pub parent: Option<GroupId>,
+    /// Moore outputs written on the state itself.
+    pub emit: Vec<OutputId>,
+    /// All Moore outputs: the state's and every enclosing group's, ascending.
+    pub moore: Vec<OutputId>,
+    /// `enter do` actions, in order.
+    pub enter: Vec<ActionId>,
+    /// `leave do` actions, in order.
+    pub leave: Vec<ActionId>,
+    /// The state's own rules.
+    pub rules: ScopeRules,
+    /// Lint attributes on the state.
+    pub lints: LintLevels,
+}
+
+/// A group of states.
+#[derive(Clone, Debug)]
+pub struct Group {
+    /// The name.
+    pub name: String,
+    /// Where the name is written.
+    pub span: Span,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// The enclosing group.
+    pub parent: Option<GroupId>,
+    /// Moore outputs shared by every member.
+    pub emit: Vec<OutputId>,
+    /// `enter do` actions.
+    pub enter: Vec<ActionId>,
+    /// `leave do` actions.
+    pub leave: Vec<ActionId>,
+    /// The group's rules.
+    pub rules: ScopeRules,
+    /// Every state inside the group, nested groups included, ascending.
+    pub states: Vec<StateId>,
+    /// Lint attributes on the group.
+    pub lints: LintLevels,
+}
+
+/// A guard over inputs, kept in the author's shape for code generation; its exact
+/// meaning is the rule's [`Rule::guard`] BDD.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Guard {
+    /// An input's value.
+    Input(InputId),
+    /// A constant.
+    Const(bool),
+    /// Negation.
+    Not(Box<Guard>),
+    /// Conjunction.
+    And(Box<Guard>, Box<Guard>),
+    /// Disjunction.
+    Or(Box<Guard>, Box<Guard>),
+}
+
+impl Guard {
+    /// Evaluates the guard under a valuation of the inputs.
+    pub fn eval(&self, inputs: &dyn Fn(InputId) -> bool) -> bool {
+        match self {
+            Guard::Input(i) => inputs(*i),
+            Guard::Const(b) => *b,
+            Guard::Not(g) => !g.eval(inputs),
+            Guard::And(a, b) => a.eval(inputs) && b.eval(inputs),
+            Guard::Or(a, b) => a.eval(inputs) || b.eval(inputs),
+        }
+    }
+}
+
+/// Where a rule goes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Target {
+    /// Internal transition: no state change, no enter/leave actions.
+    Stay,
+    /// To a state (possibly the current one: an external self-transition).
+    To(StateId),
+}
+
+/// What fires a rule.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Trigger {
+    /// The named events.
+    Events(Vec<EventId>),
+    /// `_`: every event the scope names nowhere else.
+    Wildcard,
+    /// The clock of a clocked machine (no trigger written).
+    Tick,
+}
+
+/// A rule.
+#[derive(Clone, Debug)]
+pub struct Rule {
+    /// Where the rule starts.
+    pub span: Span,
+    /// Where its guard is written (the rule's span when it has none).
+    pub guard_span: Span,
+    /// The state or group whose body holds it.
+    pub scope: Scope,
+    /// What fires it.
+    pub trigger: Trigger,
+    /// The guard as written (`None`: always true).
+    pub guard_expr: Option<Guard>,
+    /// The guard's meaning.
+    pub guard: Bdd,
+    /// Where it goes.
+    pub target: Target,
+    /// Mealy outputs of the rule, ascending.
+    pub mealy: Vec<OutputId>,
+    /// The rule's own actions, in written order.
+    pub actions: Vec<ActionId>,
+}
+
+/// A property expression (`never P`).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Prop {
+    /// An input's value in the step.
+    Input(InputId),
+    /// An output is high after the step.
+    Output(OutputId),
+    /// An action ran in the step.
+    Action(ActionId),
+    /// The state after the step is this one.
+    InState(StateId),
+    /// The state after the step is inside this group.
+    InGroup(GroupId),
+    /// A constant.
+    Const(bool),
+    /// Negation.
+    Not(Box<Prop>),
+    /// Conjunction.
+    And(Box<Prop>, Box<Prop>),
+    /// Disjunction.
+    Or(Box<Prop>, Box<Prop>),
+}
+
+/// A declared property.
+#[derive(Clone, Debug)]
+pub enum Property {
+    /// `never P;`
+    Never {
+        /// The condition that must never hold.
+        prop: Prop,
+        /// The declaration's span.
+        span: Span,
+        /// The property as written, for messages.
+        text: String,
+    },
+    /// `recover to S except T, U;`
+    Recover {
+        /// The state that must stay reachable.
+        target: StateId,
+        /// Exempted states.
+        except: Vec<StateId>,
+        /// The declaration's span.
+        span: Span,
+        /// The property as written, for messages.
+        text: String,
+    },
+}
+
+/// A resolved machine.
+#[derive(Clone, Debug)]
+pub struct Machine {
+    /// The machine's name (UpperCamelCase).
+    pub name: String,
+    /// Where the name is written.
+    pub span: Span,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// Visibility of the generated module.
+    pub vis: Vis,
+    /// No `events` line: one implicit `Tick` event.
+    pub clocked: bool,
+    /// Events (just `Tick` when clocked).
+    pub events: Vec<Item>,
+    /// Inputs.
+    pub inputs: Vec<Item>,
+    /// Outputs.
+    pub outputs: Vec<Item>,
+    /// Actions.
+    pub actions: Vec<Item>,
+    /// States, in declaration order.
+    pub states: Vec<State>,
+    /// Groups, in declaration order.
+    pub groups: Vec<Group>,
+    /// Rules, in source order.
+    pub rules: Vec<Rule>,
+    /// The start state.
+    pub start: StateId,
+    /// What happens on uncovered (state, event, valuation).
+    pub policy: Policy,
+    /// Where `unhandled` is written, if it is.
+    pub policy_span: Option<Span>,
+    /// The Rust back end's dispatch style.
+    pub dispatch: DispatchStyle,
+    /// `#[minimize]`.
+    pub minimize: bool,
+    /// Declared properties.
+    pub properties: Vec<Property>,
+    /// Lint attributes on the machine.
+    pub lints: LintLevels,
+    /// The node table of every guard.
+    pub bdd: BddStore,
+}
+
+/// A node in the scope tree, for lint-level lookup.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Site {
+    /// The whole machine.
+    Machine,
+    /// A state (and, outward, its groups and the machine).
+    State(StateId),
+    /// A group (and, outward, its parents and the machine).
+    Group(GroupId),
+}
+
+impl Machine {
+    /// Looks a state up by name.
+    pub fn state_id(&self, name: &str) -> Option<StateId> {
+        self.states
+            .iter()
+            .position(|s| s.name == name)
+            .map(StateId::from_index)
+    }
+
+    /// Looks an event up by name.
+    pub fn event_id(&self, name: &str) -> Option<EventId> {
+        self.events
+            .iter()
+            .position(|s| s.name == name)
+            .map(EventId::from_index)
+    }
+
+    /// Looks an input up by name.
+    pub fn input_id(&self, name: &str) -> Option<InputId> {
+        self.inputs
+            .iter()
+            .position(|s| s.name == name)
+            .map(InputId::from_index)
+    }
+
+    /// The state's name.
+    pub fn state_name(&self, s: StateId) -> &str {
+        &self.states[s.index()].name
+    }
+
+    /// The event's name.
+    pub fn event_name(&self, e: EventId) -> &str {
+        &self.events[e.index()].name
+    }
+
+    /// The enclosing groups of a state, innermost first.
+    pub fn ancestors(&self, s: StateId) -> Vec<GroupId> {
+        let mut out = Vec::new();
+        let mut g = self.states[s.index()].parent;
+        while let Some(id) = g {
+            out.push(id);
+            g = self.groups[id.index()].parent;
+        }
+        out
+    }
+
+    /// The scopes searched for a state's rules, innermost first.
+    pub fn scope_chain(&self, s: StateId) -> Vec<Scope> {
+        let mut chain = vec![Scope::State(s)];
+        chain.extend(self.ancestors(s).into_iter().map(Scope::Group));
+        chain
+    }
+
+    /// The rules of one scope.
+    pub fn scope_rules(&self, scope: Scope) -> &ScopeRules {
+        match scope {
+            Scope::State(s) => &self.states[s.index()].rules,
+            Scope::Group(g) => &self.groups[g.index()].rules,
+        }
+    }
+
+    /// The scope used for (state, event) and its rules for that event: the first scope,
+    /// innermost outward, with any rule naming the event or a `_` rule (LANGUAGE.md,
+    /// "Rules and scopes"). `None` when no scope has a rule for it.
+    pub fn rules_for(&self, s: StateId, e: EventId) -> Option<(Scope, &[RuleId])> {
+        let mut scope = Scope::State(s);
+        loop {
+            if let Some(rules) = self.scope_rules(scope).lookup(e) {
+                return Some((scope, rules));
+            }
+            let parent = match scope {
+                Scope::State(s) => self.states[s.index()].parent,
+                Scope::Group(g) => self.groups[g.index()].parent,
+            };
+            scope = Scope::Group(parent?);
+        }
+    }
+
+    /// The events that some scope of the state names explicitly, ascending. Every other
+    /// event resolves like [`Machine::rest_rules`]; this is the alphabet compression the
+    /// checker uses to stay linear in the spec's size.
+    pub fn named_events(&self, s: StateId) -> Vec<EventId> {
+        let mut evs: Vec<EventId> = self
+            .scope_chain(s)
+            .into_iter()
+            .flat_map(|sc| self.scope_rules(sc).named.iter().map(|(e, _)| *e))
+            .collect();
+        evs.sort_unstable();
+        evs.dedup();
+        evs
+    }
+
+    /// How the events that no scope of the state names resolve: the first `_` rules
+    /// on the chain, or `None`.
+    pub fn rest_rules(&self, s: StateId) -> Option<(Scope, &[RuleId])> {
+        self.scope_chain(s).into_iter().find_map(|sc| {
+            let r = self.scope_rules(sc);
+            (!r.wildcard.is_empty()).then_some((sc, r.wildcard.as_slice()))
+        })
+    }
+
+    /// Is the state inside the group (at any depth)?
+    pub fn group_contains(&self, g: GroupId, s: StateId) -> bool {
+        self.groups[g.index()].states.binary_search(&s).is_ok()
+    }
+
+    /// The actions a rule runs when it fires in state `from`, in order: leave actions of
+    /// `from`, then of each group of `from` that does not contain the target (innermost
+    /// first); the rule's actions; then enter actions of each group of the target that
+    /// does not contain `from` (outermost first), then the target's. `stay` runs only
+    /// the rule's actions; a rule back to `from` runs `from`'s leave and enter actions
+    /// but not its groups' (LANGUAGE.md, "Action order").
+    pub fn transition_actions(&self, from: StateId, rule: RuleId) -> Vec<ActionId> {
+        let r = &self.rules[rule.index()];
+        let to = match r.target {
+            Target::Stay => return r.actions.clone(),
+            Target::To(t) => t,
+        };
+        let mut out = self.states[from.index()].leave.clone();
+        for g in self.ancestors(from) {
+            if !self.group_contains(g, to) {
+                out.extend_from_slice(&self.groups[g.index()].leave);
+            }
+        }
+        out.extend_from_slice(&r.actions);
+        for g in self.ancestors(to).into_iter().rev() {
+            if !self.group_contains(g, from) {
+                out.extend_from_slice(&self.groups[g.index()].enter);
+            }
+        }
+        out.extend_from_slice(&self.states[to.index()].enter);
+        out
+    }
+
+    /// The state a rule leads to when it fires in `from`.
+    pub fn target_of(&self, from: StateId, rule: RuleId) -> StateId {
+        match self.rules[rule.index()].target {
+            Target::Stay => from,
+            Target::To(t) => t,
+        }
+    }
+
+    /// The level a lint has at a site: the innermost `allow`/`warn`/`deny` attribute
+    /// that names it (state, then its groups outward, then the machine), if any.
+    pub fn lint_attr(&self, lint: Lint, site: Site) -> Option<LevelAttr> {
+        let find = |levels: &LintLevels| {
+            levels
+                .iter()
+                .rev()
+                .find(|(l, _)| *l == lint)
+                .map(|(_, lvl)| *lvl)
+        };
+        let mut group = match site {
+            Site::Machine => None,
+            Site::State(s) => {
+                let st = &self.states[s.index()];
+                if let Some(l) = find(&st.lints) {
+                    return Some(l);
+                }
+                st.parent
+            }
+            Site::Group(g) => Some(g),
+        };
+        while let Some(g) = group {
+            let gr = &self.groups[g.index()];
+            if let Some(l) = find(&gr.lints) {
+                return Some(l);
+            }
+            group = gr.parent;
+        }
+        find(&self.lints)
+    }
+
+    /// The site a rule's diagnostics belong to.
+    pub fn rule_site(&self, rule: RuleId) -> Site {
+        match self.rules[rule.index()].scope {
+            Scope::State(s) => Site::State(s),
+            Scope::Group(g) => Site::Group(g),
+        }
+    }
+
+    /// The input ids a BDD depends on.
+    pub fn guard_inputs(&self, guard: Bdd) -> Vec<InputId> {
+        self.bdd.support(guard).into_iter().map(InputId).collect()
+    }
+}

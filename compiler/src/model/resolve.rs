@@ -1,0 +1,748 @@
+//! Name resolution: [`MachineAst`] to [`Machine`].
+//!
+//! Reports every name error it finds (not just the first): undefined and duplicate
+//! names, a group used as a target, triggers in a clocked machine, a missing
+//! `start`, and the limits of LANGUAGE.md.
+
+use super::*;
+use crate::diag::Diagnostic;
+use crate::syntax::ast::{self, Attr, Body, DeclKind, Expr, Member, MachineAst};
+use std::collections::HashMap;
+
+/// Most states a machine may have.
+pub const MAX_STATES: usize = 65_535;
+/// Most events a machine may have.
+pub const MAX_EVENTS: usize = 65_535;
+/// Most inputs a machine may have.
+pub const MAX_INPUTS: usize = 64;
+
+/// Resolves every machine of a file; also reports machines with the same name.
+pub fn resolve_file(file: &ast::File) -> (Vec<Machine>, Vec<Diagnostic>) {
+    let mut machines = Vec::new();
+    let mut errors = Vec::new();
+    let mut seen: HashMap<&str, Span> = HashMap::new();
+    for m in &file.machines {
+        if let Some(first) = seen.get(m.name.name.as_str()) {
+            let mut d = Diagnostic::name_error(
+                m.name.span,
+                format!("machine `{}` is defined twice", m.name.name),
+            );
+            d.related.push((*first, "first defined here".into()));
+            errors.push(d);
+            continue;
+        }
+        seen.insert(&m.name.name, m.name.span);
+        match resolve(m) {
+            Ok(machine) => machines.push(machine),
+            Err(mut e) => errors.append(&mut e),
+        }
+    }
+    (machines, errors)
+}
+
+/// What a name in the input/output/action namespace denotes.
+#[derive(Clone, Copy)]
+enum Signal {
+    Input(InputId),
+    Output(OutputId),
+    Action(ActionId),
+}
+
+/// What a name in the state/group namespace denotes.
+#[derive(Clone, Copy)]
+enum Place {
+    State(StateId),
+    Group(GroupId),
+}
+
+struct Resolver<'a> {
+    ast: &'a MachineAst,
+    errors: Vec<Diagnostic>,
+    events: Vec<Item>,
+    event_ids: HashMap<String, EventId>,
+    inputs: Vec<Item>,
+    outputs: Vec<Item>,
+    actions: Vec<Item>,
+    signals: HashMap<String, (Signal, Span)>,
+    places: HashMap<String, (Place, Span)>,
+    states: Vec<State>,
+    groups: Vec<Group>,
+    rules: Vec<Rule>,
+    bdd: BddStore,
+    clocked: bool,
+}
+
+/// Resolves one machine.
+pub fn resolve(ast: &MachineAst) -> Result<Machine, Vec<Diagnostic>> {
+    let r = Resolver {
+        ast,
+        errors: Vec::new(),
+        events: Vec::new(),
+        event_ids: HashMap::new(),
+        inputs: Vec::new(),
+        outputs: Vec::new(),
+        actions: Vec::new(),
+        signals: HashMap::new(),
+        places: HashMap::new(),
+        states: Vec::new(),
+        groups: Vec::new(),
+        rules: Vec::new(),
+        bdd: BddStore::new(),
+        clocked: true,
+    };
+    r.run()
+}
+
+fn item(d: &ast::DocIdent) -> Item {
+    Item {
+        name: d.ident.name.clone(),
+        span: d.ident.span,
+        doc: d.doc.clone(),
+    }
+}
+
+impl<'a> Resolver<'a> {
+    fn err(&mut self, span: Span, msg: impl Into<String>) {
+        self.errors.push(Diagnostic::name_error(span, msg));
+    }
+
+    fn run(mut self) -> Result<Machine, Vec<Diagnostic>> {
+        let ast = self.ast;
+        let mut seen_decl: HashMap<&'static str, Span> = HashMap::new();
+        let mut start: Option<&ast::Ident> = None;
+        let mut policy = Policy::Complete;
+        let mut policy_span = None;
+        let mut never = Vec::new();
+        let mut recover = Vec::new();
+        for d in &ast.decls {
+            let key = match &d.kind {
+                DeclKind::Events(_) => "events",
+                DeclKind::Inputs(_) => "inputs",
+                DeclKind::Outputs(_) => "outputs",
+                DeclKind::Actions(_) => "actions",
+                DeclKind::Start(_) => "start",
+                DeclKind::Unhandled(_) => "unhandled",
+                DeclKind::Never(_) => "never",
+                DeclKind::Recover { .. } => "recover",
+            };
+            if key != "never" && key != "recover" {
+                if let Some(first) = seen_decl.get(key) {
+                    let mut e = Diagnostic::name_error(
+                        d.span,
+                        format!("`{key}` is declared twice; a declaration appears at most once"),
+                    );
+                    e.related.push((*first, "first declared here".into()));
+                    self.errors.push(e);
+                    continue;
+                }
+                seen_decl.insert(key, d.span);
+            }
+            match &d.kind {
+                DeclKind::Events(list) => {
+                    self.clocked = false;
+                    if list.len() > MAX_EVENTS {
+                        self.err(
+                            d.span,
+                            format!(
+                                "{} events declared; the limit is {MAX_EVENTS}",
+                                list.len()
+                            ),
+                        );
+                        continue;
+                    }
+                    for e in list {
+                        if let Some(&prev) = self.event_ids.get(&e.ident.name) {
+                            let first = self.events[prev.index()].span;
+                            let mut diag = Diagnostic::name_error(
+                                e.ident.span,
+                                format!("event `{}` is declared twice", e.ident.name),
+                            );
+                            diag.related.push((first, "first declared here".into()));
+                            self.errors.push(diag);
+                            continue;
+                        }
+                        let id = EventId::from_index(self.events.len());
+                        self.event_ids.insert(e.ident.name.clone(), id);
+                        self.events.push(item(e));
+                    }
+                }
+                DeclKind::Inputs(list) => {
+                    if list.len() > MAX_INPUTS {
+                        self.err(
+                            d.span,
+                            format!(
+                                "{} inputs declared; the limit is {MAX_INPUTS}",
+                                list.len()
+                            ),
+                        );
+                        continue;
+                    }
+                    for e in list {
+                        let id = InputId::from_index(self.inputs.len());
+                        if self.declare_signal(e, Signal::Input(id)) {
+                            self.inputs.push(item(e));
+                        }
+                    }
+                }
+                DeclKind::Outputs(list) => {
+                    for e in list {
+                        let id = OutputId::from_index(self.outputs.len());
+                        if self.declare_signal(e, Signal::Output(id)) {
+                            self.outputs.push(item(e));
+                        }
+                    }
+                }
+                DeclKind::Actions(list) => {
+                    for e in list {
+                        let id = ActionId::from_index(self.actions.len());
+                        if self.declare_signal(e, Signal::Action(id)) {
+                            self.actions.push(item(e));
+                        }
+                    }
+                }
+                DeclKind::Start(s) => start = Some(s),
+                DeclKind::Unhandled(p) => {
+                    policy = *p;
+                    policy_span = Some(d.span);
+                }
+                DeclKind::Never(e) => never.push((e, d.span)),
+                DeclKind::Recover { target, except } => recover.push((target, except, d.span)),
+            }
+        }
+        if self.clocked {
+            self.events.push(Item {
+                name: "Tick".into(),
+                span: ast.name.span,
+                doc: vec!["One clock tick.".into()],
+            });
+        }
+
+        // States and groups: ids in declaration order.
+        self.declare_members(&ast.members, None);
+        if self.states.len() > MAX_STATES {
+            self.err(
+                ast.name.span,
+                format!(
+                    "{} states declared; the limit is {MAX_STATES}",
+                    self.states.len()
+                ),
+            );
+            return Err(self.errors);
+        }
+        if self.states.is_empty() {
+            self.err(ast.name.span, format!("machine `{}` has no states", ast.name.name));
+        }
+        // Bodies: rules, emits, enter/leave.
+        let mut state_counter = 0usize;
+        let mut group_counter = 0usize;
+        self.resolve_members(&ast.members, &mut state_counter, &mut group_counter);
+
+        // Moore outputs: own plus every enclosing group's.
+        for i in 0..self.states.len() {
+            let mut moore = self.states[i].emit.clone();
+            let mut g = self.states[i].parent;
+            while let Some(id) = g {
+                moore.extend_from_slice(&self.groups[id.index()].emit);
+                g = self.groups[id.index()].parent;
+            }
+            moore.sort_unstable();
+            moore.dedup();
+            self.states[i].moore = moore;
+        }
+
+        let start = match start {
+            None => {
+                self.err(
+                    ast.name.span,
+                    format!(
+                        "machine `{}` has no `start` declaration",
+                        ast.name.name
+                    ),
+                );
+                None
+            }
+            Some(s) => self.state_ref(s, "start state"),
+        };
+
+        let mut properties = Vec::new();
+        for (e, span) in never {
+            if let Some(prop) = self.prop(e) {
+                properties.push(Property::Never {
+                    prop,
+                    span,
+                    text: format!("never {}", crate::syntax::print::print_expr(e)),
+                });
+            }
+        }
+        for (target, except, span) in recover {
+            let t = self.state_ref(target, "recovery target");
+            let ex: Vec<Option<StateId>> = except
+                .iter()
+                .map(|x| self.state_ref(x, "exception"))
+                .collect();
+            if let (Some(target), true) = (t, ex.iter().all(Option::is_some)) {
+                let names: Vec<&str> = except.iter().map(|x| x.name.as_str()).collect();
+                let text = if names.is_empty() {
+                    format!("recover to {}", target_name(&self.states, target))
+                } else {
+                    format!(
+                        "recover to {} except {}",
+                        target_name(&self.states, target),
+                        names.join(", ")
+                    )
+                };
+                properties.push(Property::Recover {
+                    target,
+                    except: ex.into_iter().flatten().collect(),
+                    span,
+                    text,
+                });
+            }
+        }
+
+        let mut lints = Vec::new();
+        let mut dispatch = DispatchStyle::Table;
+        let mut minimize = false;
+        for a in &ast.attrs {
+            match a {
+                Attr::Dispatch(d, _) => dispatch = *d,
+                Attr::Minimize(_) => minimize = true,
+                Attr::Lint(..) => {}
+            }
+        }
+        self.lint_attrs(&ast.attrs, &mut lints);
+
+        if !self.errors.is_empty() {
+            return Err(self.errors);
+        }
+        Ok(Machine {
+            name: ast.name.name.clone(),
+            span: ast.name.span,
+            doc: ast.doc.clone(),
+            vis: ast.vis,
+            clocked: self.clocked,
+            events: self.events,
+            inputs: self.inputs,
+            outputs: self.outputs,
+            actions: self.actions,
+            states: self.states,
+            groups: self.groups,
+            rules: self.rules,
+            start: start.unwrap_or(StateId(0)),
+            policy,
+            policy_span,
+            dispatch,
+            minimize,
+            properties,
+            lints,
+            bdd: self.bdd,
+        })
+    }
+
+    fn declare_signal(&mut self, e: &ast::DocIdent, sig: Signal) -> bool {
+        if let Some((prev, first)) = self.signals.get(&e.ident.name) {
+            let kind = match prev {
+                Signal::Input(_) => "an input",
+                Signal::Output(_) => "an output",
+                Signal::Action(_) => "an action",
+            };
+            let mut diag = Diagnostic::name_error(
+                e.ident.span,
+                format!("`{}` is already declared as {kind}", e.ident.name),
+            );
+            diag.related.push((*first, "first declared here".into()));
+            diag.notes.push(
+                "inputs, outputs and actions share one namespace: they become hook \
+                 functions and struct fields in generated code"
+                    .into(),
+            );
+            self.errors.push(diag);
+            return false;
+        }
+        self.signals
+            .insert(e.ident.name.clone(), (sig, e.ident.span));
+        true
+    }
+
+    fn declare_place(&mut self, name: &ast::Ident, place: Place) -> bool {
+        if let Some((_, first)) = self.places.get(&name.name) {
+            let mut diag = Diagnostic::name_error(
+                name.span,
+                format!("`{}` is already the name of a state or group", name.name),
+            );
+            diag.related.push((*first, "first declared here".into()));
+            self.errors.push(diag);
+            return false;
+        }
+        self.places.insert(name.name.clone(), (place, name.span));
+        true
+    }
+
+    fn declare_members(&mut self, members: &[Member], parent: Option<GroupId>) {
+        for m in members {
+            match m {
+                Member::State(s) => {
+                    let id = StateId::from_index(self.states.len());
+                    self.declare_place(&s.name, Place::State(id));
+                    self.states.push(State {
+                        name: s.name.name.clone(),
+                        span: s.name.span,
+                        doc: s.doc.clone(),
+                        terminal: s.terminal,
+                        parent,
+                        emit: Vec::new(),
+                        moore: Vec::new(),
+                        enter: Vec::new(),
+                        leave: Vec::new(),
+                        rules: ScopeRules::default(),
+                        lints: Vec::new(),
+                    });
+                    let mut g = parent;
+                    while let Some(gid) = g {
+                        self.groups[gid.index()].states.push(id);
+                        g = self.groups[gid.index()].parent;
+                    }
+                }
+                Member::Group(gr) => {
+                    let id = GroupId::from_index(self.groups.len());
+                    self.declare_place(&gr.name, Place::Group(id));
+                    self.groups.push(Group {
+                        name: gr.name.name.clone(),
+                        span: gr.name.span,
+                        doc: gr.doc.clone(),
+                        parent,
+                        emit: Vec::new(),
+                        enter: Vec::new(),
+                        leave: Vec::new(),
+                        rules: ScopeRules::default(),
+                        states: Vec::new(),
+                        lints: Vec::new(),
+                    });
+                    self.declare_members(&gr.members, Some(id));
+                }
+            }
+        }
+    }
+
+    fn resolve_members(&mut self, members: &[Member], sc: &mut usize, gc: &mut usize) {
+        for m in members {
+            match m {
+                Member::State(s) => {
+                    let id = StateId::from_index(*sc);
+                    *sc += 1;
+                    let emit = self.outputs_ref(&s.emit);
+                    let mut lints = Vec::new();
+                    self.lint_attrs(&s.attrs, &mut lints);
+                    let (enter, leave, rules) = self.resolve_body(&s.body, Scope::State(id));
+                    let st = &mut self.states[id.index()];
+                    st.emit = emit;
+                    st.enter = enter;
+                    st.leave = leave;
+                    st.rules = rules;
+                    st.lints = lints;
+                }
+                Member::Group(g) => {
+                    let id = GroupId::from_index(*gc);
+                    *gc += 1;
+                    let emit = self.outputs_ref(&g.emit);
+                    let mut lints = Vec::new();
+                    self.lint_attrs(&g.attrs, &mut lints);
+                    let (enter, leave, rules) = self.resolve_body(&g.body, Scope::Group(id));
+                    let gr = &mut self.groups[id.index()];
+                    gr.emit = emit;
+                    gr.enter = enter;
+                    gr.leave = leave;
+                    gr.rules = rules;
+                    gr.lints = lints;
+                    self.resolve_members(&g.members, sc, gc);
+                }
+            }
+        }
+    }
+
+    fn lint_attrs(&mut self, attrs: &[Attr], out: &mut LintLevels) {
+        for a in attrs {
+            if let Attr::Lint(level, names, _) = a {
+                for n in names {
+                    match Lint::from_name(&n.name) {
+                        None => {
+                            let known: Vec<&str> = Lint::ALL
+                                .iter()
+                                .filter(|l| !l.is_hard_error())
+                                .map(|l| l.name())
+                                .collect();
+                            let mut d = Diagnostic::name_error(
+                                n.span,
+                                format!("unknown lint `{}`", n.name),
+                            );
+                            d.helps.push(format!("lints that levels apply to: {}", known.join(", ")));
+                            self.errors.push(d);
+                        }
+                        Some(l) if l.is_hard_error() && *level != LevelAttr::Deny => {
+                            let mut d = Diagnostic::name_error(
+                                n.span,
+                                format!("`{}` is always an error and cannot be allowed or lowered", l.name()),
+                            );
+                            if l == Lint::Incomplete {
+                                d.helps.push(
+                                    "to leave (state, event) pairs unhandled on purpose, declare \
+                                     `unhandled ignore;` or `unhandled reject;`"
+                                        .into(),
+                                );
+                            }
+                            self.errors.push(d);
+                        }
+                        Some(l) => out.push((l, *level)),
+                    }
+                }
+            }
+        }
+    }
+
+    fn outputs_ref(&mut self, list: &[ast::Ident]) -> Vec<OutputId> {
+        let mut out = Vec::new();
+        for i in list {
+            match self.signals.get(&i.name) {
+                Some((Signal::Output(o), _)) => out.push(*o),
+                Some(_) => self.err(i.span, format!("`{}` is not an output", i.name)),
+                None => self.err(i.span, format!("undefined output `{}`", i.name)),
+            }
+        }
+        out.sort_unstable();
+        out.dedup();
+        out
+    }
+
+    fn actions_ref(&mut self, list: &[ast::Ident]) -> Vec<ActionId> {
+        let mut out = Vec::new();
+        for i in list {
+            match self.signals.get(&i.name) {
+                Some((Signal::Action(a), _)) => out.push(*a),
+                Some(_) => self.err(i.span, format!("`{}` is not an action", i.name)),
+                None => self.err(i.span, format!("undefined action `{}`", i.name)),
+            }
+        }
+        out
+    }
+
+    fn state_ref(&mut self, i: &ast::Ident, what: &str) -> Option<StateId> {
+        match self.places.get(&i.name) {
+            Some((Place::State(s), _)) => Some(*s),
+            Some((Place::Group(_), _)) => {
+                let mut d = Diagnostic::name_error(
+                    i.span,
+                    format!("`{}` is a group; the {what} must be a state", i.name),
+                );
+                d.helps.push("name one of the group's states".into());
+                self.errors.push(d);
+                None
+            }
+            None => {
+                self.err(i.span, format!("undefined state `{}`", i.name));
+                None
+            }
+        }
+    }
+
+    fn resolve_body(
+        &mut self,
+        body: &[Body],
+        scope: Scope,
+    ) -> (Vec<ActionId>, Vec<ActionId>, ScopeRules) {
+        let mut enter = Vec::new();
+        let mut leave = Vec::new();
+        let mut named: HashMap<EventId, Vec<RuleId>> = HashMap::new();
+        let mut wildcard = Vec::new();
+        for b in body {
+            match b {
+                Body::Enter(list, _) => {
+                    let mut a = self.actions_ref(list);
+                    enter.append(&mut a);
+                }
+                Body::Leave(list, _) => {
+                    let mut a = self.actions_ref(list);
+                    leave.append(&mut a);
+                }
+                Body::Rule(rule) => {
+                    if let Some(rule) = self.resolve_rule(rule, scope) {
+                        let id = RuleId::from_index(self.rules.len());
+                        match &rule.trigger {
+                            Trigger::Events(evs) => {
+                                for e in evs {
+                                    named.entry(*e).or_default().push(id);
+                                }
+                            }
+                            Trigger::Wildcard | Trigger::Tick => wildcard.push(id),
+                        }
+                        self.rules.push(rule);
+                    }
+                }
+            }
+        }
+        let mut named: Vec<(EventId, Vec<RuleId>)> = named.into_iter().collect();
+        named.sort_unstable_by_key(|(e, _)| *e);
+        (enter, leave, ScopeRules { named, wildcard })
+    }
+
+    fn resolve_rule(&mut self, rule: &ast::RuleAst, scope: Scope) -> Option<Rule> {
+        let before = self.errors.len();
+        let trigger = match (&rule.trigger, self.clocked) {
+            (None, true) => Trigger::Tick,
+            (None, false) => {
+                self.err(
+                    rule.span,
+                    "this rule has no trigger; in an event-driven machine every rule names \
+                     its events (or `_`)",
+                );
+                Trigger::Tick
+            }
+            (Some(t), true) => {
+                let span = match t {
+                    ast::Trigger::Events(e) => e[0].span,
+                    ast::Trigger::Wildcard(s) => *s,
+                };
+                let mut d = Diagnostic::name_error(
+                    span,
+                    "a trigger in a clocked machine: a machine without an `events` line steps \
+                     on every clock tick, and its rules have no trigger",
+                );
+                d.helps.push("remove the trigger, or declare the machine's `events`".into());
+                self.errors.push(d);
+                Trigger::Tick
+            }
+            (Some(ast::Trigger::Wildcard(_)), false) => Trigger::Wildcard,
+            (Some(ast::Trigger::Events(list)), false) => {
+                let mut ids = Vec::new();
+                for e in list {
+                    match self.event_ids.get(&e.name) {
+                        Some(&id) => {
+                            if ids.contains(&id) {
+                                self.err(e.span, format!("event `{}` is named twice in this trigger", e.name));
+                            }
+                            ids.push(id);
+                        }
+                        None => self.err(e.span, format!("undefined event `{}`", e.name)),
+                    }
+                }
+                Trigger::Events(ids)
+            }
+        };
+        let (guard_expr, guard) = match &rule.guard {
+            None => (None, Bdd::TRUE),
+            Some(e) => match self.guard(e) {
+                Some((g, b)) => (Some(g), b),
+                None => (None, Bdd::TRUE),
+            },
+        };
+        let target = match &rule.target {
+            ast::Target::Stay(_) => Target::Stay,
+            ast::Target::State(t) => match self.state_ref(t, "target of a rule") {
+                Some(s) => Target::To(s),
+                None => Target::Stay,
+            },
+        };
+        let mealy = self.outputs_ref(&rule.emit);
+        let actions = self.actions_ref(&rule.actions);
+        if self.errors.len() > before {
+            return None;
+        }
+        Some(Rule {
+            span: rule.span,
+            guard_span: rule.guard.as_ref().map(|g| g.span()).unwrap_or(rule.span),
+            scope,
+            trigger,
+            guard_expr,
+            guard,
+            target,
+            mealy,
+            actions,
+        })
+    }
+
+    fn guard(&mut self, e: &Expr) -> Option<(Guard, Bdd)> {
+        Some(match e {
+            Expr::Name(i) => match self.signals.get(&i.name) {
+                Some((Signal::Input(id), _)) => {
+                    let id = *id;
+                    (Guard::Input(id), self.bdd.var(id.0))
+                }
+                Some(_) => {
+                    self.err(
+                        i.span,
+                        format!("`{}` is not an input; guards read inputs only", i.name),
+                    );
+                    return None;
+                }
+                None => {
+                    self.err(i.span, format!("undefined input `{}`", i.name));
+                    return None;
+                }
+            },
+            Expr::In(i) => {
+                self.err(i.span, "`in` is only allowed in properties");
+                return None;
+            }
+            Expr::Const(b, _) => (Guard::Const(*b), self.bdd.constant(*b)),
+            Expr::Not(inner, _) => {
+                let (g, b) = self.guard(inner)?;
+                let nb = self.bdd.not(b);
+                (Guard::Not(Box::new(g)), nb)
+            }
+            Expr::Paren(inner, _) => self.guard(inner)?,
+            Expr::And(a, b) => {
+                let ga = self.guard(a);
+                let gb = self.guard(b);
+                let ((ga, ba), (gb, bb)) = (ga?, gb?);
+                let r = self.bdd.and(ba, bb);
+                (Guard::And(Box::new(ga), Box::new(gb)), r)
+            }
+            Expr::Or(a, b) => {
+                let ga = self.guard(a);
+                let gb = self.guard(b);
+                let ((ga, ba), (gb, bb)) = (ga?, gb?);
+                let r = self.bdd.or(ba, bb);
+                (Guard::Or(Box::new(ga), Box::new(gb)), r)
+            }
+        })
+    }
+
+    fn prop(&mut self, e: &Expr) -> Option<Prop> {
+        Some(match e {
+            Expr::Name(i) => match self.signals.get(&i.name) {
+                Some((Signal::Input(x), _)) => Prop::Input(*x),
+                Some((Signal::Output(x), _)) => Prop::Output(*x),
+                Some((Signal::Action(x), _)) => Prop::Action(*x),
+                None => {
+                    self.err(
+                        i.span,
+                        format!("undefined name `{}`: expected an input, output or action", i.name),
+                    );
+                    return None;
+                }
+            },
+            Expr::In(i) => match self.places.get(&i.name) {
+                Some((Place::State(s), _)) => Prop::InState(*s),
+                Some((Place::Group(g), _)) => Prop::InGroup(*g),
+                None => {
+                    self.err(i.span, format!("undefined state or group `{}`", i.name));
+                    return None;
+                }
+            },
+            Expr::Const(b, _) => Prop::Const(*b),
+            Expr::Not(inner, _) => Prop::Not(Box::new(self.prop(inner)?)),
+            Expr::Paren(inner, _) => self.prop(inner)?,
+            Expr::And(a, b) => {
+                let (a, b) = (self.prop(a), self.prop(b));
+                Prop::And(Box::new(a?), Box::new(b?))
+            }
+            Expr::Or(a, b) => {
+                let (a, b) = (self.prop(a), self.prop(b));
+                Prop::Or(Box::new(a?), Box::new(b?))
+            }
+        })
+    }
+}
+
+fn target_name(states: &[State], s: StateId) -> &str {
+    &states[s.index()].name
+}

@@ -1,0 +1,275 @@
+//! The syntax tree of the machine spec language, exactly as written.
+//!
+//! Nothing here is resolved: names are strings with spans. [`crate::model`] turns an
+//! AST into a [`crate::model::Machine`] with dense ids.
+
+use proc_macro2::Span;
+
+/// A name as written, with where it was written.
+#[derive(Clone, Debug)]
+pub struct Ident {
+    /// The identifier text.
+    pub name: String,
+    /// Where it appears.
+    pub span: Span,
+}
+
+impl PartialEq for Ident {
+    fn eq(&self, other: &Self) -> bool {
+        self.name == other.name
+    }
+}
+
+/// A whole spec file or macro input: zero or more machines.
+#[derive(Clone, Debug, Default)]
+pub struct File {
+    /// The machines, in source order.
+    pub machines: Vec<MachineAst>,
+}
+
+/// Visibility of the generated module.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Vis {
+    /// No visibility keyword: a private module.
+    #[default]
+    Private,
+    /// `pub`.
+    Pub,
+    /// `pub(crate)`.
+    PubCrate,
+}
+
+/// The Rust back end's dispatch style.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum DispatchStyle {
+    /// `static` tables indexed by state and event (the default).
+    #[default]
+    Table,
+    /// Nested `match` expressions.
+    Match,
+}
+
+/// A lint level attribute: `allow`, `warn` or `deny`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LevelAttr {
+    /// `#[allow(..)]`: silence.
+    Allow,
+    /// `#[warn(..)]`: report as a warning.
+    Warn,
+    /// `#[deny(..)]`: report as an error.
+    Deny,
+}
+
+/// An attribute on a machine, group or state.
+#[derive(Clone, Debug)]
+pub enum Attr {
+    /// `#[dispatch(table)]` or `#[dispatch(match)]`.
+    Dispatch(DispatchStyle, Span),
+    /// `#[allow(a, b)]`, `#[warn(..)]`, `#[deny(..)]`.
+    Lint(LevelAttr, Vec<Ident>, Span),
+    /// `#[minimize]`.
+    Minimize(Span),
+}
+
+/// What `unhandled` says about uncovered (state, event, valuation) triples.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Policy {
+    /// Uncovered triples are errors (the default).
+    #[default]
+    Complete,
+    /// Uncovered events do nothing.
+    Ignore,
+    /// Uncovered events do nothing and are reported to the caller.
+    Reject,
+}
+
+impl Policy {
+    /// The keyword as written in a spec.
+    pub fn keyword(self) -> &'static str {
+        match self {
+            Policy::Complete => "complete",
+            Policy::Ignore => "ignore",
+            Policy::Reject => "reject",
+        }
+    }
+}
+
+/// A list entry with its doc comment (`/// doc` before the name).
+#[derive(Clone, Debug)]
+pub struct DocIdent {
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// The name.
+    pub ident: Ident,
+}
+
+/// A declaration at the top of a machine.
+#[derive(Clone, Debug)]
+pub enum DeclKind {
+    /// `events A, B;`
+    Events(Vec<DocIdent>),
+    /// `inputs a, b;`
+    Inputs(Vec<DocIdent>),
+    /// `outputs a, b;`
+    Outputs(Vec<DocIdent>),
+    /// `actions a, b;`
+    Actions(Vec<DocIdent>),
+    /// `start S;`
+    Start(Ident),
+    /// `unhandled complete|ignore|reject;`
+    Unhandled(Policy),
+    /// `never P;`
+    Never(Expr),
+    /// `recover to S except T, U;`
+    Recover {
+        /// The state that must stay reachable.
+        target: Ident,
+        /// States exempted from the obligation.
+        except: Vec<Ident>,
+    },
+}
+
+/// A declaration with the span of its keyword.
+#[derive(Clone, Debug)]
+pub struct Decl {
+    /// What is declared.
+    pub kind: DeclKind,
+    /// The keyword's span.
+    pub span: Span,
+}
+
+/// A machine as written.
+#[derive(Clone, Debug)]
+pub struct MachineAst {
+    /// Attributes other than doc comments.
+    pub attrs: Vec<Attr>,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// Visibility of the generated module.
+    pub vis: Vis,
+    /// The machine's name.
+    pub name: Ident,
+    /// Declarations, in source order.
+    pub decls: Vec<Decl>,
+    /// States and groups, in source order.
+    pub members: Vec<Member>,
+}
+
+/// A state or a group.
+#[derive(Clone, Debug)]
+pub enum Member {
+    /// `state X ...`
+    State(StateAst),
+    /// `group G { ... }`
+    Group(GroupAst),
+}
+
+/// A state as written.
+#[derive(Clone, Debug)]
+pub struct StateAst {
+    /// Attributes other than doc comments.
+    pub attrs: Vec<Attr>,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// `terminal state`.
+    pub terminal: bool,
+    /// The state's name.
+    pub name: Ident,
+    /// Moore outputs (`emit a, b`).
+    pub emit: Vec<Ident>,
+    /// Rules and enter/leave actions.
+    pub body: Vec<Body>,
+}
+
+/// A group as written.
+#[derive(Clone, Debug)]
+pub struct GroupAst {
+    /// Attributes other than doc comments.
+    pub attrs: Vec<Attr>,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// The group's name.
+    pub name: Ident,
+    /// Moore outputs shared by every member.
+    pub emit: Vec<Ident>,
+    /// Rules and enter/leave actions of the group itself.
+    pub body: Vec<Body>,
+    /// Nested states and groups.
+    pub members: Vec<Member>,
+}
+
+/// An item in a state or group body.
+#[derive(Clone, Debug)]
+pub enum Body {
+    /// `enter do a, b;`
+    Enter(Vec<Ident>, Span),
+    /// `leave do a, b;`
+    Leave(Vec<Ident>, Span),
+    /// A rule.
+    Rule(RuleAst),
+}
+
+/// What fires a rule.
+#[derive(Clone, Debug)]
+pub enum Trigger {
+    /// `A | B`
+    Events(Vec<Ident>),
+    /// `_`: every event no other rule of the scope names.
+    Wildcard(Span),
+}
+
+/// Where a rule goes.
+#[derive(Clone, Debug)]
+pub enum Target {
+    /// `stay`: internal transition.
+    Stay(Span),
+    /// A named state.
+    State(Ident),
+}
+
+/// A rule as written.
+#[derive(Clone, Debug)]
+pub struct RuleAst {
+    /// The trigger; `None` in clocked machines.
+    pub trigger: Option<Trigger>,
+    /// The guard after `if`.
+    pub guard: Option<Expr>,
+    /// The target after `=>`.
+    pub target: Target,
+    /// Mealy outputs (`, emit a`).
+    pub emit: Vec<Ident>,
+    /// Actions (`, do f`).
+    pub actions: Vec<Ident>,
+    /// Span of the rule's first token.
+    pub span: Span,
+}
+
+/// A guard or property expression.
+#[derive(Clone, Debug)]
+pub enum Expr {
+    /// A name (an input in guards; an input, output or action in properties).
+    Name(Ident),
+    /// `in X` (properties only).
+    In(Ident),
+    /// `true` or `false`.
+    Const(bool, Span),
+    /// `!e`
+    Not(Box<Expr>, Span),
+    /// `a && b`
+    And(Box<Expr>, Box<Expr>),
+    /// `a || b`
+    Or(Box<Expr>, Box<Expr>),
+    /// `(e)`: kept so that printing round-trips the author's grouping.
+    Paren(Box<Expr>, Span),
+}
+
+impl Expr {
+    /// The span of the expression's first token.
+    pub fn span(&self) -> Span {
+        match self {
+            Expr::Name(i) | Expr::In(i) => i.span,
+            Expr::Const(_, s) | Expr::Not(_, s) | Expr::Paren(_, s) => *s,
+            Expr::And(a, _) | Expr::Or(a, _) => a.span(),
+        }
+    }
+}

@@ -1,0 +1,51 @@
+//! Tokens to syntax tree. One parser serves the macro (a `proc_macro2::TokenStream`
+//! handed over by rustc) and the CLI (a file tokenized by `proc_macro2`, whose spans
+//! carry line and column).
+
+pub mod ast;
+pub mod parse;
+pub mod print;
+
+pub use parse::parse_tokens;
+
+use proc_macro2::{Span, TokenStream};
+
+/// Largest spec file the tool reads (LANGUAGE.md, "Limits").
+pub const MAX_FILE_BYTES: u64 = 64 * 1024 * 1024;
+
+/// A syntax error: a message at a span.
+#[derive(Clone, Debug)]
+pub struct SyntaxError {
+    /// What is wrong.
+    pub message: String,
+    /// Where.
+    pub span: Span,
+}
+
+impl From<syn::Error> for SyntaxError {
+    fn from(e: syn::Error) -> Self {
+        SyntaxError {
+            message: e.to_string(),
+            span: e.span(),
+        }
+    }
+}
+
+/// Tokenizes spec text as Rust tokens (with line/column spans) and parses it.
+pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
+    if text.len() as u64 > MAX_FILE_BYTES {
+        return Err(SyntaxError {
+            message: format!(
+                "the spec is {} bytes; the limit is {} bytes (64 MiB)",
+                text.len(),
+                MAX_FILE_BYTES
+            ),
+            span: Span::call_site(),
+        });
+    }
+    let tokens: TokenStream = text.parse().map_err(|e: proc_macro2::LexError| SyntaxError {
+        message: format!("cannot tokenize: {e}"),
+        span: e.span(),
+    })?;
+    Ok(parse_tokens(tokens)?)
+}

@@ -1,0 +1,676 @@
+//! The parser: Rust tokens to [`ast`](super::ast), built on syn.
+//!
+//! The same code parses the input of `detent::machine!` and a `.detent` file read by
+//! the CLI (tokenized by `proc_macro2`, with line/column spans). Recursion (nested
+//! groups, nested parentheses in guards) is bounded by [`MAX_NESTING`], so hostile
+//! input cannot overflow the stack.
+
+use super::ast::*;
+use proc_macro2::{Delimiter, Span, TokenStream, TokenTree};
+use syn::ext::IdentExt;
+use syn::parse::{ParseStream, Parser};
+use syn::{Attribute, Token};
+
+/// Deepest nesting of groups, or of parentheses and `!` in one expression, that the
+/// parser accepts.
+pub const MAX_NESTING: usize = 128;
+
+/// Most operands (names and constants) one guard or property may have. Bounds the
+/// depth of expression trees, so no later pass can overflow the stack on them.
+pub const MAX_TERMS: usize = 1024;
+
+mod kw {
+    syn::custom_keyword!(machine);
+    syn::custom_keyword!(events);
+    syn::custom_keyword!(inputs);
+    syn::custom_keyword!(outputs);
+    syn::custom_keyword!(actions);
+    syn::custom_keyword!(start);
+    syn::custom_keyword!(unhandled);
+    syn::custom_keyword!(never);
+    syn::custom_keyword!(recover);
+    syn::custom_keyword!(to);
+    syn::custom_keyword!(except);
+    syn::custom_keyword!(state);
+    syn::custom_keyword!(group);
+    syn::custom_keyword!(terminal);
+    syn::custom_keyword!(enter);
+    syn::custom_keyword!(leave);
+    syn::custom_keyword!(emit);
+    syn::custom_keyword!(stay);
+    syn::custom_keyword!(complete);
+    syn::custom_keyword!(ignore);
+    syn::custom_keyword!(reject);
+}
+
+/// Words with a fixed meaning in the language that cannot name a state, event,
+/// input, output, action or group.
+pub const RESERVED: &[&str] = &["stay"];
+
+/// Parses a token stream (macro input, or a tokenized file) into a [`File`].
+pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
+    check_token_depth(&tokens)?;
+    parse_file.parse2(tokens)
+}
+
+/// Refuses token trees nested deeper than the language can use, before syn recurses
+/// into them. Iterative, so depth itself cannot overflow the stack here.
+fn check_token_depth(tokens: &TokenStream) -> syn::Result<()> {
+    // Groups nest (machine braces, group braces) and guards nest parentheses; allow
+    // the language's own nesting plus a margin for machine and attribute brackets.
+    let limit = MAX_NESTING + 8;
+    let mut stack: Vec<proc_macro2::token_stream::IntoIter> = vec![tokens.clone().into_iter()];
+    while let Some(top) = stack.last_mut() {
+        match top.next() {
+            Some(TokenTree::Group(g)) => {
+                if stack.len() >= limit {
+                    return Err(syn::Error::new(
+                        g.span_open(),
+                        format!("brackets nested deeper than {limit} levels"),
+                    ));
+                }
+                if g.delimiter() != Delimiter::None || !g.stream().is_empty() {
+                    stack.push(g.stream().into_iter());
+                }
+            }
+            Some(_) => {}
+            None => {
+                stack.pop();
+            }
+        }
+    }
+    Ok(())
+}
+
+fn parse_file(input: ParseStream) -> syn::Result<File> {
+    let mut machines = Vec::new();
+    while !input.is_empty() {
+        machines.push(parse_machine(input)?);
+    }
+    Ok(File { machines })
+}
+
+/// Attributes split into doc lines and the rest.
+struct Attrs {
+    doc: Vec<String>,
+    attrs: Vec<Attr>,
+    first_span: Option<Span>,
+}
+
+fn parse_attrs(input: ParseStream, allow_machine_attrs: bool) -> syn::Result<Attrs> {
+    let raw = input.call(Attribute::parse_outer)?;
+    let mut out = Attrs {
+        doc: Vec::new(),
+        attrs: Vec::new(),
+        first_span: raw.first().map(|a| a.pound_token.span),
+    };
+    for attr in raw {
+        let span = attr.pound_token.span;
+        let path = attr.path();
+        let name = path
+            .get_ident()
+            .map(|i| i.to_string())
+            .unwrap_or_else(|| quote::ToTokens::to_token_stream(path).to_string());
+        match name.as_str() {
+            "doc" => {
+                let syn::Meta::NameValue(nv) = &attr.meta else {
+                    return Err(syn::Error::new(span, "expected `#[doc = \"...\"]`"));
+                };
+                let syn::Expr::Lit(syn::ExprLit {
+                    lit: syn::Lit::Str(s),
+                    ..
+                }) = &nv.value
+                else {
+                    return Err(syn::Error::new(span, "expected a string in `#[doc = ...]`"));
+                };
+                let text = s.value();
+                for line in text.split('\n') {
+                    out.doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
+                }
+            }
+            "allow" | "warn" | "deny" => {
+                let level = match name.as_str() {
+                    "allow" => LevelAttr::Allow,
+                    "warn" => LevelAttr::Warn,
+                    _ => LevelAttr::Deny,
+                };
+                let lints = attr.parse_args_with(|input: ParseStream| {
+                    let list =
+                        syn::punctuated::Punctuated::<syn::Ident, Token![,]>::parse_terminated(
+                            input,
+                        )?;
+                    Ok(list.into_iter().map(ident).collect::<Vec<_>>())
+                })?;
+                if lints.is_empty() {
+                    return Err(syn::Error::new(
+                        span,
+                        format!("`#[{name}(...)]` needs at least one lint name"),
+                    ));
+                }
+                out.attrs.push(Attr::Lint(level, lints, span));
+            }
+            "dispatch" if allow_machine_attrs => {
+                let style = attr.parse_args_with(|input: ParseStream| {
+                    let word = input.call(syn::Ident::parse_any)?;
+                    match word.to_string().as_str() {
+                        "table" => Ok(DispatchStyle::Table),
+                        "match" => Ok(DispatchStyle::Match),
+                        other => Err(syn::Error::new(
+                            word.span(),
+                            format!("unknown dispatch style `{other}`; expected `table` or `match`"),
+                        )),
+                    }
+                })?;
+                out.attrs.push(Attr::Dispatch(style, span));
+            }
+            "minimize" if allow_machine_attrs => {
+                if !matches!(attr.meta, syn::Meta::Path(_)) {
+                    return Err(syn::Error::new(span, "`#[minimize]` takes no arguments"));
+                }
+                out.attrs.push(Attr::Minimize(span));
+            }
+            "dispatch" | "minimize" => {
+                return Err(syn::Error::new(
+                    span,
+                    format!("`#[{name}]` applies to a machine, not to a state or group"),
+                ));
+            }
+            other => {
+                let allowed = if allow_machine_attrs {
+                    "`dispatch`, `minimize`, `allow`, `warn`, `deny`"
+                } else {
+                    "`allow`, `warn`, `deny`"
+                };
+                return Err(syn::Error::new(
+                    span,
+                    format!("unknown attribute `{other}`; expected one of {allowed}"),
+                ));
+            }
+        }
+    }
+    Ok(out)
+}
+
+fn ident(i: syn::Ident) -> Ident {
+    Ident {
+        name: i.to_string(),
+        span: i.span(),
+    }
+}
+
+/// Parses a name: a Rust identifier that is not a Rust keyword nor reserved here.
+fn parse_name(input: ParseStream, what: &str) -> syn::Result<Ident> {
+    if input.peek(syn::Ident) {
+        let i: syn::Ident = input.parse()?;
+        let name = i.to_string();
+        if RESERVED.contains(&name.as_str()) {
+            return Err(syn::Error::new(
+                i.span(),
+                format!("`{name}` is a reserved word and cannot name {what}"),
+            ));
+        }
+        let name = name.strip_prefix("r#").map(str::to_string).unwrap_or(name);
+        return Ok(Ident {
+            name,
+            span: i.span(),
+        });
+    }
+    if input.peek(syn::Ident::peek_any) {
+        let i = input.call(syn::Ident::parse_any)?;
+        return Err(syn::Error::new(
+            i.span(),
+            format!("expected {what}, found Rust keyword `{i}`"),
+        ));
+    }
+    Err(input.error(format!("expected {what}")))
+}
+
+fn parse_machine(input: ParseStream) -> syn::Result<MachineAst> {
+    let attrs = parse_attrs(input, true)?;
+    let vis = if input.peek(Token![pub]) {
+        input.parse::<Token![pub]>()?;
+        if input.peek(syn::token::Paren) {
+            let content;
+            syn::parenthesized!(content in input);
+            let word = content.call(syn::Ident::parse_any)?;
+            if word != "crate" || !content.is_empty() {
+                return Err(syn::Error::new(
+                    word.span(),
+                    "only `pub` and `pub(crate)` are supported here",
+                ));
+            }
+            Vis::PubCrate
+        } else {
+            Vis::Pub
+        }
+    } else {
+        Vis::Private
+    };
+    if !input.peek(kw::machine) {
+        return Err(input.error("expected `machine`"));
+    }
+    input.parse::<kw::machine>()?;
+    let name = parse_name(input, "a machine name")?;
+    let content;
+    syn::braced!(content in input);
+    let mut decls = Vec::new();
+    let mut members = Vec::new();
+    while !content.is_empty() {
+        let item_attrs = parse_attrs(&content, false)?;
+        if let Some(decl) = try_parse_decl(&content)? {
+            if let Some(span) = item_attrs.first_span {
+                return Err(syn::Error::new(
+                    span,
+                    "a doc comment or attribute here documents nothing: put doc comments \
+                     before each name in the list, and lint attributes on the machine",
+                ));
+            }
+            if !members.is_empty() {
+                return Err(syn::Error::new(
+                    decl.span,
+                    "declarations come before states and groups",
+                ));
+            }
+            decls.push(decl);
+        } else {
+            members.push(parse_member(&content, item_attrs, 0)?);
+        }
+    }
+    Ok(MachineAst {
+        attrs: attrs.attrs,
+        doc: attrs.doc,
+        vis,
+        name,
+        decls,
+        members,
+    })
+}
+
+fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
+    let span = input.span();
+    let kind = if input.peek(kw::events) {
+        input.parse::<kw::events>()?;
+        DeclKind::Events(parse_doc_list(input, "an event name")?)
+    } else if input.peek(kw::inputs) {
+        input.parse::<kw::inputs>()?;
+        DeclKind::Inputs(parse_doc_list(input, "an input name")?)
+    } else if input.peek(kw::outputs) {
+        input.parse::<kw::outputs>()?;
+        DeclKind::Outputs(parse_doc_list(input, "an output name")?)
+    } else if input.peek(kw::actions) {
+        input.parse::<kw::actions>()?;
+        DeclKind::Actions(parse_doc_list(input, "an action name")?)
+    } else if input.peek(kw::start) {
+        input.parse::<kw::start>()?;
+        let name = parse_name(input, "the start state's name")?;
+        DeclKind::Start(name)
+    } else if input.peek(kw::unhandled) {
+        input.parse::<kw::unhandled>()?;
+        let policy = if input.peek(kw::complete) {
+            input.parse::<kw::complete>()?;
+            Policy::Complete
+        } else if input.peek(kw::ignore) {
+            input.parse::<kw::ignore>()?;
+            Policy::Ignore
+        } else if input.peek(kw::reject) {
+            input.parse::<kw::reject>()?;
+            Policy::Reject
+        } else {
+            return Err(input.error("expected `complete`, `ignore` or `reject`"));
+        };
+        DeclKind::Unhandled(policy)
+    } else if input.peek(kw::never) {
+        input.parse::<kw::never>()?;
+        DeclKind::Never(parse_expr(input, true, 0, &mut 0)?)
+    } else if input.peek(kw::recover) {
+        input.parse::<kw::recover>()?;
+        if !input.peek(kw::to) {
+            return Err(input.error("expected `to` after `recover`"));
+        }
+        input.parse::<kw::to>()?;
+        let target = parse_name(input, "a state name")?;
+        let except = if input.peek(kw::except) {
+            input.parse::<kw::except>()?;
+            parse_list(input, "a state name")?
+        } else {
+            Vec::new()
+        };
+        DeclKind::Recover { target, except }
+    } else {
+        return Ok(None);
+    };
+    expect_semi(input)?;
+    Ok(Some(Decl { kind, span }))
+}
+
+fn expect_semi(input: ParseStream) -> syn::Result<()> {
+    if input.peek(Token![;]) {
+        input.parse::<Token![;]>()?;
+        Ok(())
+    } else {
+        Err(input.error("expected `;`"))
+    }
+}
+
+/// `attr* IDENT (',' attr* IDENT)* ','?` up to (not including) `;`.
+fn parse_doc_list(input: ParseStream, what: &str) -> syn::Result<Vec<DocIdent>> {
+    let mut items = Vec::new();
+    loop {
+        let attrs = input.call(Attribute::parse_outer)?;
+        let mut doc = Vec::new();
+        for attr in attrs {
+            let is_doc = attr.path().is_ident("doc");
+            let text = match (&attr.meta, is_doc) {
+                (
+                    syn::Meta::NameValue(syn::MetaNameValue {
+                        value:
+                            syn::Expr::Lit(syn::ExprLit {
+                                lit: syn::Lit::Str(s),
+                                ..
+                            }),
+                        ..
+                    }),
+                    true,
+                ) => s.value(),
+                _ => {
+                    return Err(syn::Error::new(
+                        attr.pound_token.span,
+                        "only doc comments may stand before a name in a list",
+                    ))
+                }
+            };
+            for line in text.split('\n') {
+                doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
+            }
+        }
+        let ident = parse_name(input, what)?;
+        items.push(DocIdent { doc, ident });
+        if input.peek(Token![,]) {
+            input.parse::<Token![,]>()?;
+            if input.peek(Token![;]) {
+                break;
+            }
+        } else {
+            break;
+        }
+    }
+    Ok(items)
+}
+
+/// `IDENT (',' IDENT)* ','?`, stopping before `;`, `{`, or `, do`.
+fn parse_list(input: ParseStream, what: &str) -> syn::Result<Vec<Ident>> {
+    let mut items = vec![parse_name(input, what)?];
+    while input.peek(Token![,]) && !input.peek2(Token![do]) {
+        input.parse::<Token![,]>()?;
+        if input.peek(Token![;]) || input.peek(syn::token::Brace) {
+            break;
+        }
+        items.push(parse_name(input, what)?);
+    }
+    Ok(items)
+}
+
+fn parse_member(input: ParseStream, attrs: Attrs, depth: usize) -> syn::Result<Member> {
+    if depth >= MAX_NESTING {
+        return Err(input.error(format!("groups nested deeper than {MAX_NESTING} levels")));
+    }
+    if input.peek(kw::group) {
+        input.parse::<kw::group>()?;
+        let name = parse_name(input, "a group name")?;
+        let emit = parse_emit_header(input)?;
+        let content;
+        syn::braced!(content in input);
+        let mut body = Vec::new();
+        let mut members = Vec::new();
+        while !content.is_empty() {
+            let item_attrs = parse_attrs(&content, false)?;
+            if is_member_start(&content) {
+                members.push(parse_member(&content, item_attrs, depth + 1)?);
+            } else {
+                if let Some(span) = item_attrs.first_span {
+                    return Err(syn::Error::new(
+                        span,
+                        "attributes and doc comments go on states and groups, not on rules",
+                    ));
+                }
+                body.push(parse_body(&content)?);
+            }
+        }
+        return Ok(Member::Group(GroupAst {
+            attrs: attrs.attrs,
+            doc: attrs.doc,
+            name,
+            emit,
+            body,
+            members,
+        }));
+    }
+    let terminal = if input.peek(kw::terminal) {
+        input.parse::<kw::terminal>()?;
+        true
+    } else {
+        false
+    };
+    if !input.peek(kw::state) {
+        return Err(input.error(if terminal {
+            "expected `state` after `terminal`"
+        } else {
+            "expected `state`, `group`, or a declaration"
+        }));
+    }
+    input.parse::<kw::state>()?;
+    let name = parse_name(input, "a state name")?;
+    let emit = parse_emit_header(input)?;
+    let mut body = Vec::new();
+    if input.peek(Token![;]) {
+        input.parse::<Token![;]>()?;
+    } else if input.peek(syn::token::Brace) {
+        let content;
+        syn::braced!(content in input);
+        while !content.is_empty() {
+            if content.peek(Token![#]) {
+                return Err(content.error(
+                    "attributes and doc comments go on states and groups, not on rules",
+                ));
+            }
+            if is_member_start(&content) {
+                return Err(content.error(
+                    "a state cannot contain states or groups; use a group to nest states",
+                ));
+            }
+            body.push(parse_body(&content)?);
+        }
+    } else {
+        return Err(input.error("expected `;`, `{`, or `emit` after the state name"));
+    }
+    Ok(Member::State(StateAst {
+        attrs: attrs.attrs,
+        doc: attrs.doc,
+        terminal,
+        name,
+        emit,
+        body,
+    }))
+}
+
+/// A member begins with `state X`, `terminal state`, or `group X`.
+fn is_member_start(input: ParseStream) -> bool {
+    (input.peek(kw::state) && input.peek2(syn::Ident))
+        || (input.peek(kw::group) && input.peek2(syn::Ident))
+        || (input.peek(kw::terminal) && input.peek2(kw::state))
+}
+
+fn parse_emit_header(input: ParseStream) -> syn::Result<Vec<Ident>> {
+    if input.peek(kw::emit) {
+        input.parse::<kw::emit>()?;
+        parse_list(input, "an output name")
+    } else {
+        Ok(Vec::new())
+    }
+}
+
+fn parse_body(input: ParseStream) -> syn::Result<Body> {
+    if (input.peek(kw::enter) || input.peek(kw::leave)) && input.peek2(Token![do]) {
+        let span = input.span();
+        let enter = input.peek(kw::enter);
+        if enter {
+            input.parse::<kw::enter>()?;
+        } else {
+            input.parse::<kw::leave>()?;
+        }
+        input.parse::<Token![do]>()?;
+        let list = parse_list(input, "an action name")?;
+        expect_semi(input)?;
+        return Ok(if enter {
+            Body::Enter(list, span)
+        } else {
+            Body::Leave(list, span)
+        });
+    }
+    parse_rule(input).map(Body::Rule)
+}
+
+fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
+    let span = input.span();
+    let trigger = if input.peek(Token![_]) {
+        let t: Token![_] = input.parse()?;
+        Some(Trigger::Wildcard(t.span))
+    } else if input.peek(syn::Ident::peek_any) && !input.peek(Token![if]) {
+        let mut events = vec![parse_name(input, "an event name")?];
+        while input.peek(Token![|]) && !input.peek(Token![||]) {
+            input.parse::<Token![|]>()?;
+            events.push(parse_name(input, "an event name")?);
+        }
+        Some(Trigger::Events(events))
+    } else {
+        None
+    };
+    let guard = if input.peek(Token![if]) {
+        input.parse::<Token![if]>()?;
+        Some(parse_expr(input, false, 0, &mut 0)?)
+    } else {
+        None
+    };
+    if !input.peek(Token![=>]) {
+        return Err(input.error(if trigger.is_none() && guard.is_none() {
+            "expected a rule (`Event => Target;`), `enter do`, `leave do`, a state or a group"
+        } else {
+            "expected `=>`"
+        }));
+    }
+    input.parse::<Token![=>]>()?;
+    let target = if input.peek(kw::stay) {
+        let s: kw::stay = input.parse()?;
+        Target::Stay(s.span)
+    } else {
+        Target::State(parse_name(input, "a target state or `stay`")?)
+    };
+    let mut emit = Vec::new();
+    let mut actions = Vec::new();
+    if input.peek(Token![,]) && input.peek2(kw::emit) {
+        input.parse::<Token![,]>()?;
+        input.parse::<kw::emit>()?;
+        emit = parse_list(input, "an output name")?;
+    }
+    if input.peek(Token![,]) && input.peek2(Token![do]) {
+        input.parse::<Token![,]>()?;
+        input.parse::<Token![do]>()?;
+        actions = parse_list(input, "an action name")?;
+    }
+    if input.peek(Token![,]) {
+        return Err(input.error("expected `, emit ...` before `, do ...`, then `;`"));
+    }
+    expect_semi(input)?;
+    Ok(RuleAst {
+        trigger,
+        guard,
+        target,
+        emit,
+        actions,
+        span,
+    })
+}
+
+fn parse_expr(
+    input: ParseStream,
+    props: bool,
+    depth: usize,
+    terms: &mut usize,
+) -> syn::Result<Expr> {
+    let mut left = parse_and(input, props, depth, terms)?;
+    while input.peek(Token![||]) {
+        input.parse::<Token![||]>()?;
+        let right = parse_and(input, props, depth, terms)?;
+        left = Expr::Or(Box::new(left), Box::new(right));
+    }
+    Ok(left)
+}
+
+fn parse_and(
+    input: ParseStream,
+    props: bool,
+    depth: usize,
+    terms: &mut usize,
+) -> syn::Result<Expr> {
+    let mut left = parse_not(input, props, depth, terms)?;
+    while input.peek(Token![&&]) {
+        input.parse::<Token![&&]>()?;
+        let right = parse_not(input, props, depth, terms)?;
+        left = Expr::And(Box::new(left), Box::new(right));
+    }
+    Ok(left)
+}
+
+fn parse_not(
+    input: ParseStream,
+    props: bool,
+    depth: usize,
+    terms: &mut usize,
+) -> syn::Result<Expr> {
+    if depth >= MAX_NESTING {
+        return Err(input.error(format!(
+            "expression nested deeper than {MAX_NESTING} levels"
+        )));
+    }
+    if input.peek(Token![!]) {
+        let bang: Token![!] = input.parse()?;
+        let inner = parse_not(input, props, depth + 1, terms)?;
+        return Ok(Expr::Not(Box::new(inner), bang.span));
+    }
+    if input.peek(syn::token::Paren) {
+        let content;
+        let paren = syn::parenthesized!(content in input);
+        let inner = parse_expr(&content, props, depth + 1, terms)?;
+        if !content.is_empty() {
+            return Err(content.error("expected `)`, `&&` or `||`"));
+        }
+        return Ok(Expr::Paren(Box::new(inner), paren.span.open()));
+    }
+    *terms += 1;
+    if *terms > MAX_TERMS {
+        return Err(input.error(format!(
+            "expression has more than {MAX_TERMS} operands"
+        )));
+    }
+    if input.peek(syn::LitBool) {
+        let b: syn::LitBool = input.parse()?;
+        return Ok(Expr::Const(b.value, b.span));
+    }
+    if input.peek(Token![in]) {
+        let tok: Token![in] = input.parse()?;
+        if !props {
+            return Err(syn::Error::new(
+                tok.span,
+                "`in STATE` is only allowed in `never` properties, not in guards",
+            ));
+        }
+        let name = parse_name(input, "a state or group name")?;
+        return Ok(Expr::In(name));
+    }
+    let what = if props {
+        "an input, output or action name, `in STATE`, `!`, `(`, `true` or `false`"
+    } else {
+        "an input name, `!`, `(`, `true` or `false`"
+    };
+    parse_name(input, what).map(Expr::Name)
+}
