@@ -1,2 +1,74 @@
 //! The `detent` command-line tool: a thin front end over detent-compiler.
-fn main() {}
+//!
+//! It parses flags, reads files, calls the compiler and prints. Exit codes: 0 success;
+//! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
+//! file, or `equiv` found a difference); 2 usage or I/O error.
+
+mod commands;
+mod io;
+
+use clap::{Parser, Subcommand, ValueEnum};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// detent: checks, minimizes and compiles firmware state machines.
+#[derive(Parser, Debug)]
+#[command(name = "detent", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+/// Output format for reports.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ReportFormat {
+    /// Human-readable text.
+    Text,
+    /// JSON (stable; see DESIGN.md).
+    Json,
+    /// SARIF 2.1.0 for code-scanning tools.
+    Sarif,
+}
+
+/// Output format for the state table.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum TableFormat {
+    /// Aligned columns for a terminal.
+    Text,
+    /// JSON.
+    Json,
+    /// Comma-separated values, one row per rule.
+    Csv,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Check specs for completeness, determinism, reachability, dead ends and properties.
+    Check {
+        /// Spec files to check.
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+        /// Report format.
+        #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
+        format: ReportFormat,
+        /// `--deny warnings`: treat every warning as an error.
+        #[arg(long, value_name = "warnings")]
+        deny: Option<String>,
+        /// Silence a lint (repeatable).
+        #[arg(long, value_name = "LINT")]
+        allow: Vec<String>,
+    },
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let code = match cli.command {
+        Command::Check {
+            files,
+            format,
+            deny,
+            allow,
+        } => commands::check(&files, format, deny.as_deref(), &allow),
+    };
+    ExitCode::from(code)
+}

@@ -8,6 +8,7 @@
 //! order of their lists. These are the numbers every back end uses.
 
 pub mod bdd;
+pub mod graph;
 mod resolve;
 
 pub use bdd::{Bdd, BddStore};

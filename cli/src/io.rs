@@ -1,0 +1,156 @@
+//! Reading specs and writing outputs: size limits, UTF-8, atomic writes.
+
+use detent_compiler::check::{self, render, FileReport};
+use detent_compiler::model::Machine;
+use detent_compiler::syntax::MAX_FILE_BYTES;
+use std::io::Write;
+use std::path::Path;
+
+/// Exit code: success.
+pub const OK: u8 = 0;
+/// Exit code: the spec has errors, a file is stale, or machines differ.
+pub const FAILED: u8 = 1;
+/// Exit code: usage or I/O error.
+pub const USAGE: u8 = 2;
+
+/// Prints an error about usage or I/O and returns the exit code for it.
+pub fn usage_error(msg: impl std::fmt::Display) -> u8 {
+    eprintln!("error: {msg}");
+    USAGE
+}
+
+/// Reads a text file, refusing files over the size limit and text that is not UTF-8.
+/// `-` reads standard input.
+pub fn read_text(path: &str) -> Result<String, String> {
+    let bytes = if path == "-" {
+        let mut buf = Vec::new();
+        std::io::Read::read_to_end(
+            &mut std::io::Read::take(std::io::stdin(), MAX_FILE_BYTES + 1),
+            &mut buf,
+        )
+        .map_err(|e| format!("cannot read standard input: {e}"))?;
+        buf
+    } else {
+        let meta = std::fs::metadata(path).map_err(|e| format!("cannot read `{path}`: {e}"))?;
+        if meta.is_dir() {
+            return Err(format!("`{path}` is a directory, not a file"));
+        }
+        if meta.len() > MAX_FILE_BYTES {
+            return Err(format!(
+                "`{path}` is {} bytes; the limit is {MAX_FILE_BYTES} bytes (64 MiB)",
+                meta.len()
+            ));
+        }
+        std::fs::read(path).map_err(|e| format!("cannot read `{path}`: {e}"))?
+    };
+    if bytes.len() as u64 > MAX_FILE_BYTES {
+        return Err(format!(
+            "`{path}` is over the limit of {MAX_FILE_BYTES} bytes (64 MiB)"
+        ));
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        format!(
+            "`{path}` is not valid UTF-8 (first bad byte at offset {})",
+            e.utf8_error().valid_up_to()
+        )
+    })
+}
+
+/// Prints a file report's diagnostics as text to stderr.
+pub fn print_report_text(report: &FileReport) {
+    let src = render::Source {
+        name: &report.file,
+        text: &report.text,
+    };
+    for d in report.diagnostics() {
+        eprintln!("{}", render::render_text(d, &src));
+    }
+}
+
+/// Loads one error-free machine from a spec file for commands other than `check`.
+/// Errors are printed; the `Err` holds the exit code.
+pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
+    let file = path.display().to_string();
+    let text = read_text(&file).map_err(usage_error)?;
+    let report = check::check_source(&file, &text);
+    if report.has_errors() {
+        let errors: Vec<_> = report.diagnostics().filter(|d| d.is_error()).cloned().collect();
+        let src = render::Source {
+            name: &report.file,
+            text: &report.text,
+        };
+        for d in &errors {
+            eprintln!("{}", render::render_text(d, &src));
+        }
+        eprintln!("{}", render::summary_text(errors.len(), 0));
+        return Err(FAILED);
+    }
+    let mut machines: Vec<Machine> = report.machines.into_iter().filter_map(|m| m.machine).collect();
+    match name {
+        Some(n) => match machines.iter().position(|m| m.name == n) {
+            Some(i) => Ok(machines.swap_remove(i)),
+            None => {
+                let names: Vec<&str> = machines.iter().map(|m| m.name.as_str()).collect();
+                Err(usage_error(format!(
+                    "`{file}` has no machine `{n}`; it has: {}",
+                    names.join(", ")
+                )))
+            }
+        },
+        None => match machines.len() {
+            0 => Err(usage_error(format!("`{file}` defines no machine"))),
+            1 => Ok(machines.remove(0)),
+            _ => {
+                let names: Vec<&str> = machines.iter().map(|m| m.name.as_str()).collect();
+                Err(usage_error(format!(
+                    "`{file}` has several machines ({}); choose one with --machine NAME",
+                    names.join(", ")
+                )))
+            }
+        },
+    }
+}
+
+/// Writes a file atomically: a temporary file in the same folder, flushed and synced,
+/// then renamed over the target. A failure leaves any previous file untouched.
+pub fn write_atomic(path: &Path, contents: &[u8]) -> Result<(), String> {
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .ok_or_else(|| format!("`{}` is not a file path", path.display()))?
+        .to_string_lossy()
+        .to_string();
+    let tmp = dir.join(format!(".{name}.detent-tmp-{}", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(contents)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    result.map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        format!("cannot write `{}`: {e}", path.display())
+    })
+}
+
+/// `--check` support: compares `contents` with the file at `path`. Returns true when
+/// the file exists and is identical.
+pub fn is_fresh(path: &Path, contents: &[u8]) -> bool {
+    std::fs::read(path).is_ok_and(|old| old == contents)
+}
+
+/// Prints a line to standard output; a closed pipe (`detent ... | head`) ends the
+/// process quietly instead of panicking.
+pub fn out(line: impl std::fmt::Display) {
+    let mut stdout = std::io::stdout().lock();
+    if let Err(e) = writeln!(stdout, "{line}") {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            std::process::exit(0);
+        }
+        eprintln!("error: cannot write to standard output: {e}");
+        std::process::exit(i32::from(USAGE));
+    }
+}

@@ -1,0 +1,578 @@
+//! The checker: every lint of LANGUAGE.md over a resolved [`Machine`].
+//!
+//! Coverage and overlap are decided exactly on BDDs of the guards of one
+//! (state, event-class) cell, so they never enumerate `2^inputs`. Reachability and
+//! dead ends use the successor graph (a guard counts as satisfiable unless its BDD is
+//! `false`); traps are bottom strongly connected components (Tarjan). Work is linear
+//! in the number of (state, named event) cells plus the rules they hold.
+//!
+//! Levels: hard errors (`syntax`, `name`, `incomplete`, `overlapping_rules`,
+//! `property`) always stay errors. Every other lint takes the innermost
+//! `#[allow/warn/deny]` naming it on the state, its groups outward, then the machine;
+//! [`Options`] (`--allow`, `--deny warnings`) apply after that.
+
+pub mod render;
+
+use crate::diag::{Diagnostic, Lint, Severity};
+use crate::model::graph::{strongly_connected, CellEvents};
+use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
+use crate::syntax::ast::{LevelAttr, Policy};
+use std::collections::HashSet;
+
+/// Command-line level changes, applied after the spec's own attributes.
+#[derive(Clone, Debug, Default)]
+pub struct Options {
+    /// Lints to silence (`--allow LINT`).
+    pub allow: Vec<Lint>,
+    /// Turn every remaining warning into an error (`--deny warnings`).
+    pub deny_warnings: bool,
+}
+
+/// Applies command-line options to diagnostics.
+pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> {
+    diags
+        .into_iter()
+        .filter(|d| d.lint.is_hard_error() || !opts.allow.contains(&d.lint))
+        .map(|mut d| {
+            if opts.deny_warnings && d.severity == Severity::Warning {
+                d.severity = Severity::Error;
+            }
+            d
+        })
+        .collect()
+}
+
+/// Runs every lint on a machine and applies the spec's lint attributes.
+pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
+    let mut c = Checker {
+        m,
+        out: Vec::new(),
+    };
+    c.coverage_and_overlap();
+    c.reachability();
+    c.never_true_guards();
+    c.unused_declarations();
+    c.naming();
+    sort_diagnostics(&mut c.out);
+    c.out
+}
+
+/// Orders diagnostics by source position, then lint.
+pub fn sort_diagnostics(diags: &mut [Diagnostic]) {
+    diags.sort_by_key(|d| {
+        let pos = d
+            .span
+            .map(|s| {
+                let lc = s.start();
+                (lc.line, lc.column)
+            })
+            .unwrap_or((0, 0));
+        (pos, d.lint)
+    });
+}
+
+struct Checker<'a> {
+    m: &'a Machine,
+    out: Vec<Diagnostic>,
+}
+
+/// Names of the inputs a guard expression mentions, in declaration order.
+pub fn guard_mentions(g: &Guard, out: &mut Vec<InputId>) {
+    match g {
+        Guard::Input(i) => {
+            if !out.contains(i) {
+                out.push(*i);
+            }
+        }
+        Guard::Const(_) => {}
+        Guard::Not(a) => guard_mentions(a, out),
+        Guard::And(a, b) | Guard::Or(a, b) => {
+            guard_mentions(a, out);
+            guard_mentions(b, out);
+        }
+    }
+}
+
+impl Checker<'_> {
+    /// Adds a diagnostic whose level the spec's attributes at `site` may change.
+    fn emit(&mut self, mut d: Diagnostic, site: Site) {
+        if !d.lint.is_hard_error() {
+            match self.m.lint_attr(d.lint, site) {
+                Some(LevelAttr::Allow) => return,
+                Some(LevelAttr::Warn) => d.severity = Severity::Warning,
+                Some(LevelAttr::Deny) => d.severity = Severity::Error,
+                None => {}
+            }
+        }
+        self.out.push(d);
+    }
+
+    /// A witness over the inputs that `rules` mention: the values of `path` (a partial
+    /// valuation from the BDD), others false.
+    fn witness(&self, rules: &[RuleId], path: &[(u32, bool)]) -> Vec<(String, bool)> {
+        let mut mentioned = Vec::new();
+        for r in rules {
+            if let Some(g) = &self.m.rules[r.index()].guard_expr {
+                guard_mentions(g, &mut mentioned);
+            }
+        }
+        for &(v, _) in path {
+            if !mentioned.contains(&InputId(v)) {
+                mentioned.push(InputId(v));
+            }
+        }
+        mentioned.sort_unstable();
+        mentioned
+            .into_iter()
+            .map(|i| {
+                let val = path
+                    .iter()
+                    .find(|(v, _)| *v == i.0)
+                    .map(|(_, b)| *b)
+                    .unwrap_or(false);
+                (self.m.inputs[i.index()].name.clone(), val)
+            })
+            .collect()
+    }
+
+    fn coverage_and_overlap(&mut self) {
+        let m = self.m;
+        let mut bdd = m.bdd.clone();
+        let mut reported_pairs: HashSet<(RuleId, RuleId)> = HashSet::new();
+        for si in 0..m.states.len() {
+            let s = StateId::from_index(si);
+            let state_name = &m.states[si].name;
+            for cell in m.cells(s) {
+                let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
+                // Overlap: any two guards of the scope used that can both be true.
+                for (i, &a) in rules.iter().enumerate() {
+                    for &b in &rules[i + 1..] {
+                        let both =
+                            bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
+                        if both.is_false() || !reported_pairs.insert((a, b)) {
+                            continue;
+                        }
+                        let event = match &cell.events {
+                            CellEvents::One(e) => *e,
+                            CellEvents::Rest => m.rest_events(s)[0],
+                        };
+                        let path = bdd.sat_one(both).unwrap_or_default();
+                        let witness = self.witness(&[a, b], &path);
+                        let mut d = Diagnostic::new(
+                            Lint::OverlappingRules,
+                            Some(m.rules[b.index()].span),
+                            format!(
+                                "two rules can both fire in state `{state_name}` on event `{}`",
+                                m.event_name(event)
+                            ),
+                        )
+                        .with_state(state_name)
+                        .with_event(m.event_name(event));
+                        d.related
+                            .push((m.rules[a.index()].span, "the other rule".into()));
+                        d.notes.push(format!(
+                            "both fire when {}",
+                            render::valuation_text(&witness)
+                        ));
+                        d.helps.push(
+                            "make the guards exclusive; rule order does not pick one".into(),
+                        );
+                        d.witness = Some(witness);
+                        self.emit(d, Site::State(s));
+                    }
+                }
+                // Coverage.
+                if m.policy != Policy::Complete {
+                    continue;
+                }
+                let mut covered = Bdd::FALSE;
+                for &r in rules {
+                    covered = bdd.or(covered, m.rules[r.index()].guard);
+                }
+                if covered.is_true() {
+                    continue;
+                }
+                let gap = bdd.not(covered);
+                let path = bdd.sat_one(gap).unwrap_or_default();
+                let witness = self.witness(rules, &path);
+                for e in m.cell_events(s, &cell.events) {
+                    let event = m.event_name(e);
+                    let message = if rules.is_empty() {
+                        format!("state `{state_name}` has no rule for event `{event}`")
+                    } else {
+                        format!(
+                            "state `{state_name}` does not handle event `{event}` for every input value"
+                        )
+                    };
+                    let mut d = Diagnostic::new(Lint::Incomplete, Some(m.states[si].span), message)
+                        .with_state(state_name)
+                        .with_event(event);
+                    if !rules.is_empty() {
+                        d.notes.push(format!(
+                            "no rule fires when {}",
+                            render::valuation_text(&witness)
+                        ));
+                        d.witness = Some(witness.clone());
+                    } else if !witness.is_empty() {
+                        d.witness = Some(witness.clone());
+                    }
+                    d.helps.push(if m.clocked {
+                        "add a rule for the uncovered case, or declare `unhandled ignore;` to \
+                         hold the state"
+                            .to_string()
+                    } else {
+                        format!(
+                            "add a rule for `{event}` here or in an enclosing group, or declare \
+                             `unhandled ignore;` (or `reject`) to leave it unhandled"
+                        )
+                    });
+                    self.emit(d, Site::State(s));
+                }
+            }
+        }
+    }
+
+    fn reachability(&mut self) {
+        let m = self.m;
+        let succ = m.successor_lists();
+        let reachable = m.reachable_states();
+        for (i, st) in m.states.iter().enumerate() {
+            if !reachable[i] {
+                let d = Diagnostic::new(
+                    Lint::UnreachableState,
+                    Some(st.span),
+                    format!("state `{}` is unreachable from the start state `{}`", st.name, m.state_name(m.start)),
+                )
+                .with_state(&st.name)
+                .help("add a rule that leads here, or remove the state");
+                self.emit(d, Site::State(StateId::from_index(i)));
+            }
+        }
+        // Traps: bottom strongly connected components of the reachable part, unless the
+        // whole reachable part is one component.
+        let (comp, n_comp) = strongly_connected(&succ, &reachable);
+        if n_comp <= 1 {
+            return;
+        }
+        let mut leaves = vec![false; n_comp];
+        let mut members: Vec<Vec<StateId>> = vec![Vec::new(); n_comp];
+        for (i, &c) in comp.iter().enumerate() {
+            if c == u32::MAX {
+                continue;
+            }
+            members[c as usize].push(StateId::from_index(i));
+            if succ[i].iter().any(|t| comp[t.index()] != c) {
+                leaves[c as usize] = true;
+            }
+        }
+        for c in 0..n_comp {
+            if leaves[c] || members[c].is_empty() {
+                continue;
+            }
+            let states = &members[c];
+            if states.iter().any(|s| m.states[s.index()].terminal) {
+                continue;
+            }
+            let first = states[0];
+            let names: Vec<&str> = states.iter().map(|s| m.state_name(*s)).collect();
+            let mut d = if states.len() == 1 {
+                Diagnostic::new(
+                    Lint::DeadEnd,
+                    Some(m.states[first.index()].span),
+                    format!("state `{}` is a dead end: no rule leads out of it", names[0]),
+                )
+                .help("add a way out, or mark the state `terminal` if it is a latched fault")
+            } else {
+                Diagnostic::new(
+                    Lint::DeadEnd,
+                    Some(m.states[first.index()].span),
+                    format!(
+                        "states {} trap the machine: no rule leads out of them",
+                        names
+                            .iter()
+                            .map(|n| format!("`{n}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+                .help("add a way out of the set, or mark one of its states `terminal`")
+            };
+            d = d.with_state(names[0]);
+            d.states = names.iter().map(|s| s.to_string()).collect();
+            self.emit(d, Site::State(first));
+        }
+    }
+
+    fn never_true_guards(&mut self) {
+        let m = self.m;
+        for (i, r) in m.rules.iter().enumerate() {
+            if r.guard_expr.is_some() && r.guard.is_false() {
+                let d = Diagnostic::new(
+                    Lint::NeverTrueGuard,
+                    Some(r.guard_span),
+                    "this guard is never true: no input values satisfy it",
+                )
+                .note("the rule can never fire");
+                self.emit(d, m.rule_site(RuleId::from_index(i)));
+            }
+        }
+    }
+
+    fn unused_declarations(&mut self) {
+        let m = self.m;
+        let mut event_used = vec![m.clocked; m.events.len()];
+        let mut input_used = vec![false; m.inputs.len()];
+        let mut output_used = vec![false; m.outputs.len()];
+        let mut action_used = vec![false; m.actions.len()];
+        let mut any_wildcard = false;
+        for r in &m.rules {
+            match &r.trigger {
+                crate::model::Trigger::Events(evs) => {
+                    for e in evs {
+                        event_used[e.index()] = true;
+                    }
+                }
+                crate::model::Trigger::Wildcard => any_wildcard = true,
+                crate::model::Trigger::Tick => {}
+            }
+            if let Some(g) = &r.guard_expr {
+                let mut ins = Vec::new();
+                guard_mentions(g, &mut ins);
+                for i in ins {
+                    input_used[i.index()] = true;
+                }
+            }
+            for o in &r.mealy {
+                output_used[o.index()] = true;
+            }
+            for a in &r.actions {
+                action_used[a.index()] = true;
+            }
+        }
+        for st in &m.states {
+            for o in &st.emit {
+                output_used[o.index()] = true;
+            }
+            for a in st.enter.iter().chain(&st.leave) {
+                action_used[a.index()] = true;
+            }
+        }
+        for g in &m.groups {
+            for o in &g.emit {
+                output_used[o.index()] = true;
+            }
+            for a in g.enter.iter().chain(&g.leave) {
+                action_used[a.index()] = true;
+            }
+        }
+        let groups: [(&str, &[crate::model::Item], Vec<bool>); 4] = [
+            ("event", &m.events, {
+                if any_wildcard {
+                    vec![true; m.events.len()]
+                } else {
+                    event_used
+                }
+            }),
+            ("input", &m.inputs, input_used),
+            ("output", &m.outputs, output_used),
+            ("action", &m.actions, action_used),
+        ];
+        for (kind, items, used) in groups {
+            for (item, used) in items.iter().zip(used) {
+                if !used {
+                    let what = match kind {
+                        "event" => "no rule names it",
+                        "input" => "no guard reads it",
+                        "output" => "no state, group or rule emits it",
+                        _ => "no rule, `enter` or `leave` runs it",
+                    };
+                    let d = Diagnostic::new(
+                        Lint::UnusedDeclaration,
+                        Some(item.span),
+                        format!("{kind} `{}` is never used: {what}", item.name),
+                    );
+                    self.emit(d, Site::Machine);
+                }
+            }
+        }
+    }
+
+    fn naming(&mut self) {
+        let m = self.m;
+        let mut found: Vec<(Diagnostic, Site)> = Vec::new();
+        let camel = |kind: &str, name: &str, span, site, found: &mut Vec<(Diagnostic, Site)>| {
+            if !is_upper_camel(name) {
+                found.push((
+                    Diagnostic::new(
+                        Lint::Naming,
+                        Some(span),
+                        format!("{kind} `{name}` should have an UpperCamelCase name"),
+                    )
+                    .help(format!("rename it `{}`", to_upper_camel(name))),
+                    site,
+                ));
+            }
+        };
+        camel("machine", &m.name, m.span, Site::Machine, &mut found);
+        for (i, s) in m.states.iter().enumerate() {
+            camel("state", &s.name, s.span, Site::State(StateId::from_index(i)), &mut found);
+        }
+        for (i, g) in m.groups.iter().enumerate() {
+            let site = Site::Group(crate::model::GroupId::from_index(i));
+            camel("group", &g.name, g.span, site, &mut found);
+        }
+        if !m.clocked {
+            for e in &m.events {
+                camel("event", &e.name, e.span, Site::Machine, &mut found);
+            }
+        }
+        for (kind, items) in [("input", &m.inputs), ("output", &m.outputs), ("action", &m.actions)]
+        {
+            for it in items {
+                if !is_snake(&it.name) {
+                    found.push((
+                        Diagnostic::new(
+                            Lint::Naming,
+                            Some(it.span),
+                            format!("{kind} `{}` should have a snake_case name", it.name),
+                        )
+                        .help(format!("rename it `{}`", to_snake(&it.name))),
+                        Site::Machine,
+                    ));
+                }
+            }
+        }
+        for (d, site) in found {
+            self.emit(d, site);
+        }
+    }
+}
+
+/// UpperCamelCase: starts with an uppercase letter, no underscores.
+pub fn is_upper_camel(name: &str) -> bool {
+    let name = name.trim_start_matches("r#");
+    name.chars().next().is_some_and(|c| c.is_ascii_uppercase()) && !name.contains('_')
+}
+
+/// snake_case: lowercase letters, digits and single underscores.
+pub fn is_snake(name: &str) -> bool {
+    let name = name.trim_start_matches("r#");
+    !name.is_empty()
+        && name
+            .chars()
+            .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_')
+        && !name.starts_with(|c: char| c.is_ascii_digit())
+}
+
+/// Converts a name to snake_case (`FloatUp` -> `float_up`).
+pub fn to_snake(name: &str) -> String {
+    let mut out = String::new();
+    let chars: Vec<char> = name.chars().collect();
+    for (i, &c) in chars.iter().enumerate() {
+        if c.is_uppercase() {
+            let prev_lower = i > 0 && (chars[i - 1].is_lowercase() || chars[i - 1].is_ascii_digit());
+            let next_lower = chars.get(i + 1).is_some_and(|n| n.is_lowercase());
+            let prev_upper = i > 0 && chars[i - 1].is_uppercase();
+            if i > 0 && !out.ends_with('_') && (prev_lower || (prev_upper && next_lower)) {
+                out.push('_');
+            }
+            out.extend(c.to_lowercase());
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+/// Converts a name to UpperCamelCase (`float_up` -> `FloatUp`).
+pub fn to_upper_camel(name: &str) -> String {
+    name.split('_')
+        .filter(|p| !p.is_empty())
+        .map(|p| {
+            let mut cs = p.chars();
+            match cs.next() {
+                Some(f) => f.to_uppercase().chain(cs).collect::<String>(),
+                None => String::new(),
+            }
+        })
+        .collect()
+}
+
+/// The findings about one machine of a file (or about a file that does not parse).
+#[derive(Debug)]
+pub struct MachineReport {
+    /// The machine's name; `None` when the file does not parse.
+    pub name: Option<String>,
+    /// The resolved machine, when resolution succeeded.
+    pub machine: Option<Machine>,
+    /// Findings, sorted by position.
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+/// Everything `detent check` found in one source.
+#[derive(Debug)]
+pub struct FileReport {
+    /// The file name as given.
+    pub file: String,
+    /// The file's text (for snippets).
+    pub text: String,
+    /// One report per machine, in source order.
+    pub machines: Vec<MachineReport>,
+}
+
+impl FileReport {
+    /// Every diagnostic of the file.
+    pub fn diagnostics(&self) -> impl Iterator<Item = &Diagnostic> {
+        self.machines.iter().flat_map(|m| m.diagnostics.iter())
+    }
+
+    /// True when some diagnostic is an error.
+    pub fn has_errors(&self) -> bool {
+        self.diagnostics().any(Diagnostic::is_error)
+    }
+}
+
+/// Parses, resolves and checks spec text: the whole of `detent check` for one file.
+pub fn check_source(file: &str, text: &str) -> FileReport {
+    let mut machines = Vec::new();
+    match crate::syntax::parse_source(text) {
+        Err(e) => machines.push(MachineReport {
+            name: None,
+            machine: None,
+            diagnostics: vec![Diagnostic::new(Lint::Syntax, Some(e.span), e.message)],
+        }),
+        Ok(ast) => {
+            let mut seen = HashSet::new();
+            for m in &ast.machines {
+                let mut diagnostics = Vec::new();
+                if !seen.insert(m.name.name.clone()) {
+                    diagnostics.push(Diagnostic::name_error(
+                        m.name.span,
+                        format!("machine `{}` is defined twice in this file", m.name.name),
+                    ));
+                }
+                let machine = match crate::model::resolve(m) {
+                    Ok(machine) => {
+                        diagnostics.extend(check_machine(&machine));
+                        Some(machine)
+                    }
+                    Err(errors) => {
+                        diagnostics.extend(errors);
+                        None
+                    }
+                };
+                sort_diagnostics(&mut diagnostics);
+                machines.push(MachineReport {
+                    name: Some(m.name.name.clone()),
+                    machine,
+                    diagnostics,
+                });
+            }
+        }
+    }
+    FileReport {
+        file: file.to_string(),
+        text: text.to_string(),
+        machines,
+    }
+}
