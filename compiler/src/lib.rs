@@ -10,3 +10,4 @@ pub mod interp;
 pub mod logic;
 pub mod model;
 pub mod syntax;
+pub mod check;
