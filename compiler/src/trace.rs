@@ -67,7 +67,11 @@ pub struct TraceError {
 
 impl fmt::Display for TraceError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "line {}, column {}: {}", self.line, self.column, self.message)
+        write!(
+            f,
+            "line {}, column {}: {}",
+            self.line, self.column, self.message
+        )
     }
 }
 
@@ -110,7 +114,12 @@ pub fn start_json(m: &Machine) -> String {
     format!(
         "{{\"step\":0,\"state\":{},\"moore\":{}}}",
         json_str(&start.name),
-        json_names(start.moore.iter().map(|o| m.outputs[o.index()].name.as_str()))
+        json_names(
+            start
+                .moore
+                .iter()
+                .map(|o| m.outputs[o.index()].name.as_str())
+        )
     )
 }
 
@@ -245,7 +254,10 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceStep, Tra
             ));
         };
         if key.is_empty() {
-            return Err(err(at, format!("missing input name before `=` in `{word}`")));
+            return Err(err(
+                at,
+                format!("missing input name before `=` in `{word}`"),
+            ));
         }
         let id = lookup_input(m, key).map_err(|msg| err(at, msg))?;
         let value_at = at + key.len() + 1;
@@ -361,9 +373,7 @@ fn json_step(m: &Machine, v: Spanned, line: usize) -> Result<TraceStep, (usize, 
                         _ => {
                             return Err((
                                 val.at,
-                                format!(
-                                    "input `{name}` must be true, false, 0 or 1"
-                                ),
+                                format!("input `{name}` must be true, false, 0 or 1"),
                             ))
                         }
                     };
@@ -483,7 +493,9 @@ impl JsonParser<'_> {
                                 self.pos += 1;
                                 break;
                             }
-                            _ => return Err((self.pos, "expected `,` or `}` in JSON object".into())),
+                            _ => {
+                                return Err((self.pos, "expected `,` or `}` in JSON object".into()))
+                            }
                         }
                     }
                 }
@@ -505,7 +517,9 @@ impl JsonParser<'_> {
                                 self.pos += 1;
                                 break;
                             }
-                            _ => return Err((self.pos, "expected `,` or `]` in JSON array".into())),
+                            _ => {
+                                return Err((self.pos, "expected `,` or `]` in JSON array".into()))
+                            }
                         }
                     }
                 }
@@ -896,7 +910,11 @@ Stop
         );
         assert_eq!(
             error(&m, "a=1 Go"),
-            (1, 1, "a step starts with the event name, found `a=1`".into())
+            (
+                1,
+                1,
+                "a step starts with the event name, found `a=1`".into()
+            )
         );
         // Columns count characters, not bytes.
         assert_eq!(error(&m, "Go\u{e9} a=1").1, 1);
