@@ -58,6 +58,28 @@ enum Command {
         #[arg(long, value_name = "LINT")]
         allow: Vec<String>,
     },
+    /// Print the state table: present state, event, guard, next state, outputs, actions.
+    Table {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Table format.
+        #[arg(long, value_enum, default_value_t = TableFormat::Text)]
+        format: TableFormat,
+    },
+    /// Run a trace through the reference interpreter; prints JSON lines.
+    Run {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Trace file (one step per line: `Event input=0|1 ...`), or `-` for stdin.
+        #[arg(long, value_name = "TRACEFILE")]
+        trace: String,
+    },
 }
 
 fn main() -> ExitCode {
@@ -69,6 +91,16 @@ fn main() -> ExitCode {
             deny,
             allow,
         } => commands::check(&files, format, deny.as_deref(), &allow),
+        Command::Table {
+            file,
+            machine,
+            format,
+        } => commands::table(&file, machine.as_deref(), format),
+        Command::Run {
+            file,
+            machine,
+            trace,
+        } => commands::run(&file, machine.as_deref(), &trace),
     };
     ExitCode::from(code)
 }

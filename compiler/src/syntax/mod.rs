@@ -47,5 +47,5 @@ pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
         message: format!("cannot tokenize: {e}"),
         span: e.span(),
     })?;
-    Ok(parse_tokens(tokens)?)
+    Ok(parse::parse_tokens_of_text(tokens, text)?)
 }

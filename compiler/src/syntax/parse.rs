@@ -53,6 +53,62 @@ pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
     parse_file.parse2(tokens)
 }
 
+/// Parses a token stream tokenized from `text`, skipping the token-tree depth walk
+/// when a scan of the text proves the nesting shallow (the walk copies every token,
+/// which is most of the cost on large files).
+pub(crate) fn parse_tokens_of_text(tokens: TokenStream, text: &str) -> syn::Result<File> {
+    match text_bracket_depth(text) {
+        Some(depth) if depth <= MAX_NESTING => parse_file.parse2(tokens),
+        _ => parse_tokens(tokens),
+    }
+}
+
+/// The deepest bracket nesting of `text` outside comments, or `None` when the text
+/// holds a quote outside comments (string and character literals can hide brackets,
+/// so the caller falls back to the exact token walk).
+fn text_bracket_depth(text: &str) -> Option<usize> {
+    let bytes = text.as_bytes();
+    let (mut i, mut depth, mut max) = (0usize, 0usize, 0usize);
+    while i < bytes.len() {
+        match bytes[i] {
+            b'/' if bytes.get(i + 1) == Some(&b'/') => {
+                while i < bytes.len() && bytes[i] != b'\n' {
+                    i += 1;
+                }
+                continue;
+            }
+            b'/' if bytes.get(i + 1) == Some(&b'*') => {
+                // Block comments nest in Rust.
+                let mut level = 0usize;
+                while i < bytes.len() {
+                    if bytes[i] == b'/' && bytes.get(i + 1) == Some(&b'*') {
+                        level += 1;
+                        i += 2;
+                    } else if bytes[i] == b'*' && bytes.get(i + 1) == Some(&b'/') {
+                        level -= 1;
+                        i += 2;
+                        if level == 0 {
+                            break;
+                        }
+                    } else {
+                        i += 1;
+                    }
+                }
+                continue;
+            }
+            b'"' | b'\'' => return None,
+            b'(' | b'[' | b'{' => {
+                depth += 1;
+                max = max.max(depth);
+            }
+            b')' | b']' | b'}' => depth = depth.saturating_sub(1),
+            _ => {}
+        }
+        i += 1;
+    }
+    Some(max)
+}
+
 /// Refuses token trees nested deeper than the language can use, before syn recurses
 /// into them. Iterative, so depth itself cannot overflow the stack here.
 fn check_token_depth(tokens: &TokenStream) -> syn::Result<()> {
