@@ -33,8 +33,7 @@
 use crate::diag::{Diagnostic, Lint, TraceStep};
 use crate::model::graph::CellEvents;
 use crate::model::{
-    ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, RuleId,
-    StateId,
+    ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, RuleId, StateId,
 };
 use std::collections::VecDeque;
 
@@ -77,9 +76,7 @@ impl StepTable {
             for cell in m.cells(s) {
                 let event = match cell.events {
                     CellEvents::One(e) => e,
-                    CellEvents::Rest => {
-                        *rest_event.get_or_insert_with(|| m.rest_events(s)[0])
-                    }
+                    CellEvents::Rest => *rest_event.get_or_insert_with(|| m.rest_events(s)[0]),
                 };
                 let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
                 let mut taken = Bdd::FALSE;
@@ -163,9 +160,7 @@ fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
                 bdd.var(i.0)
             }
         }
-        Prop::Output(o) => {
-            bdd.constant(f.moore.binary_search(o).is_ok() || f.mealy.contains(o))
-        }
+        Prop::Output(o) => bdd.constant(f.moore.binary_search(o).is_ok() || f.mealy.contains(o)),
         Prop::Action(a) => bdd.constant(f.actions.contains(a)),
         Prop::InState(s) => bdd.constant(f.to == *s),
         Prop::InGroup(g) => bdd.constant(m.group_contains(*g, f.to)),
@@ -332,11 +327,7 @@ fn check_never_in(
 
 /// Proves `recover to target except ...`, or returns the closest state that cannot
 /// recover, with the shortest trace to it.
-pub fn check_recover(
-    m: &Machine,
-    target: StateId,
-    except: &[StateId],
-) -> Option<RecoverViolation> {
+pub fn check_recover(m: &Machine, target: StateId, except: &[StateId]) -> Option<RecoverViolation> {
     let mut bdd = m.bdd.clone();
     let table = StepTable::build(m, &mut bdd);
     check_recover_in(m, &bdd, &table, target, except)
@@ -473,14 +464,14 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                     name_list(v.actions.iter().map(|a| m.actions[a.index()].name.clone())),
                 ));
                 if n == 0 {
-                    d = d.note("step 0 is the start state before any event, with every input false");
+                    d = d
+                        .note("step 0 is the start state before any event, with every input false");
                 } else if let Some((e, _)) = v.trace.last() {
                     d = d.with_event(m.event_name(*e));
                 }
                 d.trace = Some(trace_steps(m, &v.trace));
-                d.helps.push(
-                    "replay the trace with `detent run --trace` to see each step".into(),
-                );
+                d.helps
+                    .push("replay the trace with `detent run --trace` to see each step".into());
                 out.push(d);
             }
             Property::Recover {
