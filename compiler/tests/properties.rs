@@ -690,6 +690,16 @@ fn hundred_thousand_state_chain() {
     let v = check_recover(&m, t, ex).expect("no way back");
     assert_eq!(m.state_name(v.state), "C1");
     assert_eq!(v.stuck.len(), N - 1);
+    // Informal timing for the report (printed with --nocapture; never asserted).
+    let t0 = std::time::Instant::now();
+    let props = detent_compiler::check::property::check_properties(&m);
+    let t1 = std::time::Instant::now();
     let diags = property_diags(&m);
+    eprintln!(
+        "100k chain: check_properties (3 properties) {:?}; full check_machine {:?}",
+        t1 - t0,
+        t1.elapsed()
+    );
+    assert_eq!(props.len(), 3);
     assert_eq!(diags.len(), 3);
 }
