@@ -11,6 +11,7 @@
 //! `#[allow/warn/deny]` naming it on the state, its groups outward, then the machine;
 //! [`Options`] (`--allow`, `--deny warnings`) apply after that.
 
+pub mod property;
 pub mod render;
 
 use crate::diag::{Diagnostic, Lint, Severity};
@@ -53,6 +54,7 @@ pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     c.never_true_guards();
     c.unused_declarations();
     c.naming();
+    c.out.extend(property::check_properties(m));
     sort_diagnostics(&mut c.out);
     c.out
 }
