@@ -11,4 +11,6 @@ pub mod interp;
 pub mod logic;
 pub mod model;
 pub mod syntax;
+pub mod table;
+pub mod trace;
 pub mod check;

@@ -400,7 +400,7 @@ fn parse_doc_list(input: ParseStream, what: &str) -> syn::Result<Vec<DocIdent>> 
 /// `IDENT (',' IDENT)* ','?`, stopping before `;`, `{`, or `, do`.
 fn parse_list(input: ParseStream, what: &str) -> syn::Result<Vec<Ident>> {
     let mut items = vec![parse_name(input, what)?];
-    while input.peek(Token![,]) && !input.peek2(Token![do]) {
+    while input.peek(Token![,]) && !input.peek2(Token![do]) && !input.peek2(kw::emit) {
         input.parse::<Token![,]>()?;
         if input.peek(Token![;]) || input.peek(syn::token::Brace) {
             break;
