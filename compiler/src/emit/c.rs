@@ -82,6 +82,12 @@ pub fn c_stem(m: &Machine) -> String {
     c_ident(&to_snake(&m.name))
 }
 
+/// True when `step` calls hooks (some guard reads an input or some transition runs an
+/// action); `hooks` may then not be NULL.
+pub fn needs_hooks(m: &Machine) -> bool {
+    Layout::new(m).needs_hooks()
+}
+
 /// The sizes of the tables [`generate_c`] writes for a machine.
 pub fn table_sizes(m: &Machine) -> TableSizes {
     let l = Layout::new(m);
@@ -94,10 +100,9 @@ pub fn table_sizes(m: &Machine) -> TableSizes {
     if l.has_guards() {
         bytes += t_rows * l.guard_ty.1;
     }
-    if l.out_words > 0 {
-        bytes += (s + t_rows + 1) * row;
-    } else {
-        bytes += 1;
+    bytes += row.max(1) + s * row;
+    if l.has_mealy() {
+        bytes += t_rows * row;
     }
     if !l.act_list.is_empty() {
         bytes += (t_rows + 1) * l.act_start_ty.1 + l.act_list.len() * l.action_ty.1;
@@ -270,6 +275,10 @@ impl Layout {
         }
     }
 
+    fn has_mealy(&self) -> bool {
+        self.trans.iter().any(|t| t.mealy.iter().any(|&w| w != 0))
+    }
+
     fn has_guards(&self) -> bool {
         !self.guards.is_empty()
     }
@@ -410,21 +419,33 @@ fn number_rows(out: &mut String, values: &[u64], hex: bool) {
     }
 }
 
-/// The C spellings of everything the files name.
-struct Names {
-    /// `bilge_pump`
-    p: String,
-    /// `BILGE_PUMP`
-    up: String,
-    states: Vec<String>,
-    events: Vec<String>,
-    outputs: Vec<String>,
-    inputs: Vec<String>,
-    actions: Vec<String>,
+/// The C spellings of everything the generated files name, indexed by the model's ids.
+/// Spec names are kept, except that a C or C++ keyword gets a trailing `_`, a
+/// character outside `[A-Za-z0-9_]` becomes `_uXXXX`, and a spelling already taken in
+/// the same C namespace gets `_2`, `_3`, ... appended.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CNames {
+    /// The prefix of every name, the file stem (`bilge_pump`).
+    pub p: String,
+    /// The prefix of every constant (`BILGE_PUMP`).
+    pub up: String,
+    /// State enum constants (`BILGE_PUMP_S_IDLE`).
+    pub states: Vec<String>,
+    /// Event enum constants (`BILGE_PUMP_E_FLOAT_UP`).
+    pub events: Vec<String>,
+    /// Members of `struct <p>_outputs`.
+    pub outputs: Vec<String>,
+    /// Input members of `struct <p>_hooks`.
+    pub inputs: Vec<String>,
+    /// Action members of `struct <p>_hooks`.
+    pub actions: Vec<String>,
 }
 
-impl Names {
-    fn new(m: &Machine) -> Names {
+use CNames as Names;
+
+impl CNames {
+    /// The C spellings for a machine.
+    pub fn new(m: &Machine) -> CNames {
         let p = c_stem(m);
         let up = p.to_uppercase();
         let screaming = |prefix: &str, items: &mut dyn Iterator<Item = &str>| {
@@ -735,24 +756,27 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
     })
     .0;
     let w = l.out_words;
-    if w > 0 {
-        let _ = writeln!(c, "static const {word_ty} {p}_mealy_[{}][{w}] = {{", t_rows + 1);
+    let _ = writeln!(
+        c,
+        "/* All outputs low: the Mealy mask of no rule, and the outputs of a bad call. */"
+    );
+    let zeros = vec!["0x0u"; w.max(1)].join(", ");
+    let _ = writeln!(c, "static const {word_ty} {p}_zero_[{}] = {{ {zeros} }};\n", w.max(1));
+    if l.has_mealy() {
+        let _ = writeln!(c, "static const {word_ty} {p}_mealy_[{t_rows}][{w}] = {{");
         let zero = vec![0u64; w];
         let rows = l
             .trans
             .iter()
             .map(|t| &t.mealy)
-            .chain(std::iter::repeat_n(&zero, t_rows + 1 - l.trans.len()));
+            .chain(std::iter::repeat_n(&zero, t_rows - l.trans.len()));
         for row in rows {
             let cells: Vec<String> = row.iter().map(|v| format!("0x{v:x}u")).collect();
             let _ = writeln!(c, "    {{ {} }},", cells.join(", "));
         }
         let _ = writeln!(c, "}};\n");
-        let _ = writeln!(
-            c,
-            "/* Row {t_rows} of {p}_mealy_ is all zero: the Mealy mask of no rule. */"
-        );
-        let _ = writeln!(c, "#define {up}_NO_MEALY_ {t_rows}u\n");
+    }
+    if w > 0 {
         let _ = writeln!(c, "static const {word_ty} {p}_moore_[{s_count}][{w}] = {{");
         for (si, row) in l.moore.iter().enumerate() {
             let cells: Vec<String> = row.iter().map(|v| format!("0x{v:x}u")).collect();
@@ -818,9 +842,6 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         );
     }
     let _ = writeln!(c, "}}\n");
-    if w == 0 {
-        let _ = writeln!(c, "static const {word_ty} {p}_zero_[1] = {{ 0u }};\n");
-    }
 
     // Inputs.
     let used_inputs = l.inputs_used.iter().any(|&b| b);
@@ -911,25 +932,17 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         "void {p}_init(struct {p}_machine *m)\n{{\n    if (m != NULL) {{\n        m->state = ({st_ty}){};\n    }}\n}}\n",
         n.states[m.start.index()]
     );
-    let (moore_of, mealy_of, zero) = if w > 0 {
-        (
-            format!("{p}_moore_"),
-            format!("{p}_mealy_"),
-            format!("{p}_mealy_[{up}_NO_MEALY_]"),
-        )
-    } else {
-        (String::new(), String::new(), format!("{p}_zero_"))
-    };
+    let zero = format!("{p}_zero_");
     let moore_row = |s: &str| {
         if w > 0 {
-            format!("{moore_of}[{s}]")
+            format!("{p}_moore_[{s}]")
         } else {
             zero.clone()
         }
     };
     let mealy_row = |t: &str| {
-        if w > 0 {
-            format!("{mealy_of}[{t}]")
+        if l.has_mealy() {
+            format!("{p}_mealy_[{t}]")
         } else {
             zero.clone()
         }
