@@ -28,7 +28,11 @@ pub fn run(args: &GenCArgs) -> u8 {
     };
     let report = check::check_source(&file, &text);
     if report.has_errors() {
-        let errors: Vec<_> = report.diagnostics().filter(|d| d.is_error()).cloned().collect();
+        let errors: Vec<_> = report
+            .diagnostics()
+            .filter(|d| d.is_error())
+            .cloned()
+            .collect();
         let src = render::Source {
             name: &report.file,
             text: &report.text,
@@ -82,7 +86,10 @@ pub fn run(args: &GenCArgs) -> u8 {
             let path: PathBuf = Path::new(&dir).join(format!("{}.{ext}", files.stem));
             if args.check {
                 if !io::is_fresh(&path, contents.as_bytes()) {
-                    eprintln!("stale: `{}` differs from what `detent gen c` writes", path.display());
+                    eprintln!(
+                        "stale: `{}` differs from what `detent gen c` writes",
+                        path.display()
+                    );
                     stale += 1;
                 }
             } else if let Err(e) = io::write_atomic(&path, contents.as_bytes()) {
@@ -94,7 +101,10 @@ pub fn run(args: &GenCArgs) -> u8 {
         }
     }
     if stale > 0 {
-        eprintln!("{stale} file{} out of date", if stale == 1 { "" } else { "s" });
+        eprintln!(
+            "{stale} file{} out of date",
+            if stale == 1 { "" } else { "s" }
+        );
         FAILED
     } else {
         OK

@@ -137,7 +137,8 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
     let mut raw: u32 = m.start.0;
     let mut out = Vec::new();
     for c in cmds {
-        let valid = |e: i64| (0..m.events.len() as i64).contains(&e) && (raw as usize) < m.states.len();
+        let valid =
+            |e: i64| (0..m.events.len() as i64).contains(&e) && (raw as usize) < m.states.len();
         let line = match c {
             Cmd::SetState(n) => {
                 raw = *n;
@@ -160,7 +161,13 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                     "-".to_string()
                 } else {
                     (0..m.outputs.len())
-                        .map(|i| if outs.iter().any(|o| o.index() == i) { '1' } else { '0' })
+                        .map(|i| {
+                            if outs.iter().any(|o| o.index() == i) {
+                                '1'
+                            } else {
+                                '0'
+                            }
+                        })
                         .collect()
                 };
                 let acts = if r.actions.is_empty() {
@@ -184,7 +191,11 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
 pub fn harness_main(m: &Machine) -> String {
     let n = CNames::new(m);
     let p = &n.p;
-    let st_ty = if m.states.len() <= 256 { "uint8_t" } else { "uint16_t" };
+    let st_ty = if m.states.len() <= 256 {
+        "uint8_t"
+    } else {
+        "uint16_t"
+    };
     let mut c = String::new();
     let _ = writeln!(
         c,
@@ -256,7 +267,12 @@ pub fn build_harness(dir: &Path, m: &Machine, files: &CFiles) -> Result<PathBuf,
     let exe = dir.join("harness");
     let out = Command::new(gcc)
         .args(STRICT_FLAGS)
-        .args(["-g", "-O1", "-fsanitize=address,undefined", "-fno-sanitize-recover=all"])
+        .args([
+            "-g",
+            "-O1",
+            "-fsanitize=address,undefined",
+            "-fno-sanitize-recover=all",
+        ])
         .arg(&c)
         .arg(&main)
         .arg("-o")
@@ -287,12 +303,17 @@ pub fn run_harness(exe: &Path, cmds: &[Cmd]) -> Result<Vec<String>, String> {
         .map_err(|e| format!("cannot run {}: {e}", exe.display()))?;
     let text = trace_text(cmds);
     if let Some(mut stdin) = child.stdin.take() {
-        stdin.write_all(text.as_bytes()).map_err(|e| e.to_string())?;
+        stdin
+            .write_all(text.as_bytes())
+            .map_err(|e| e.to_string())?;
     }
     let out = child.wait_with_output().map_err(|e| e.to_string())?;
     let stderr = String::from_utf8_lossy(&out.stderr);
     if !out.status.success() || !stderr.trim().is_empty() {
         return Err(format!("harness failed ({}):\n{stderr}", out.status));
     }
-    Ok(String::from_utf8_lossy(&out.stdout).lines().map(str::to_string).collect())
+    Ok(String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .map(str::to_string)
+        .collect())
 }

@@ -94,9 +94,8 @@ pub fn table_sizes(m: &Machine) -> TableSizes {
     let s = m.states.len();
     let t_rows = l.trans.len().max(1);
     let row = l.out_words * l.out_word_bytes;
-    let mut bytes = cell_count(m) * l.range_ty.1
-        + l.range_start.len() * l.trans_ty.1
-        + t_rows * l.target_ty.1;
+    let mut bytes =
+        cell_count(m) * l.range_ty.1 + l.range_start.len() * l.trans_ty.1 + t_rows * l.target_ty.1;
     if l.has_guards() {
         bytes += t_rows * l.guard_ty.1;
     }
@@ -304,17 +303,95 @@ fn mark_inputs(g: &Guard, used: &mut [bool]) {
 /// `<stdbool.h>` and `<stddef.h>` define as macros. A name of the spec that is one of
 /// them gets a trailing `_` in C.
 const RESERVED: &[&str] = &[
-    "auto", "break", "case", "char", "const", "continue", "default", "do", "double",
-    "else", "enum", "extern", "float", "for", "goto", "if", "inline", "int", "long",
-    "register", "restrict", "return", "short", "signed", "sizeof", "static", "struct",
-    "switch", "typedef", "union", "unsigned", "void", "volatile", "while", "bool", "true",
-    "false", "NULL", "asm", "catch", "class", "const_cast", "delete", "dynamic_cast",
-    "explicit", "export", "friend", "mutable", "namespace", "new", "operator", "private",
-    "protected", "public", "reinterpret_cast", "static_cast", "template", "this", "throw",
-    "try", "typeid", "typename", "using", "virtual", "wchar_t", "and", "or", "not", "xor",
-    "bitand", "bitor", "compl", "and_eq", "or_eq", "xor_eq", "not_eq", "alignas",
-    "alignof", "char16_t", "char32_t", "constexpr", "decltype", "noexcept", "nullptr",
-    "static_assert", "thread_local", "offsetof", "errno", "assert",
+    "auto",
+    "break",
+    "case",
+    "char",
+    "const",
+    "continue",
+    "default",
+    "do",
+    "double",
+    "else",
+    "enum",
+    "extern",
+    "float",
+    "for",
+    "goto",
+    "if",
+    "inline",
+    "int",
+    "long",
+    "register",
+    "restrict",
+    "return",
+    "short",
+    "signed",
+    "sizeof",
+    "static",
+    "struct",
+    "switch",
+    "typedef",
+    "union",
+    "unsigned",
+    "void",
+    "volatile",
+    "while",
+    "bool",
+    "true",
+    "false",
+    "NULL",
+    "asm",
+    "catch",
+    "class",
+    "const_cast",
+    "delete",
+    "dynamic_cast",
+    "explicit",
+    "export",
+    "friend",
+    "mutable",
+    "namespace",
+    "new",
+    "operator",
+    "private",
+    "protected",
+    "public",
+    "reinterpret_cast",
+    "static_cast",
+    "template",
+    "this",
+    "throw",
+    "try",
+    "typeid",
+    "typename",
+    "using",
+    "virtual",
+    "wchar_t",
+    "and",
+    "or",
+    "not",
+    "xor",
+    "bitand",
+    "bitor",
+    "compl",
+    "and_eq",
+    "or_eq",
+    "xor_eq",
+    "not_eq",
+    "alignas",
+    "alignof",
+    "char16_t",
+    "char32_t",
+    "constexpr",
+    "decltype",
+    "noexcept",
+    "nullptr",
+    "static_assert",
+    "thread_local",
+    "offsetof",
+    "errno",
+    "assert",
 ];
 
 /// A C identifier for a spec name: characters outside `[A-Za-z0-9_]` become `_uXXXX`.
@@ -412,7 +489,13 @@ fn number_rows(out: &mut String, values: &[u64], hex: bool) {
         out.push_str("    ");
         let cells: Vec<String> = chunk
             .iter()
-            .map(|v| if hex { format!("0x{v:x}u") } else { format!("{v}u") })
+            .map(|v| {
+                if hex {
+                    format!("0x{v:x}u")
+                } else {
+                    format!("{v}u")
+                }
+            })
             .collect();
         out.push_str(&cells.join(", "));
         out.push_str(",\n");
@@ -463,10 +546,22 @@ impl CNames {
             &mut m.events.iter().map(|s| s.name.as_str()),
         );
         let mut namer = Namer::new();
-        let outputs = m.outputs.iter().map(|o| namer.name(c_ident(&o.name))).collect();
+        let outputs = m
+            .outputs
+            .iter()
+            .map(|o| namer.name(c_ident(&o.name)))
+            .collect();
         let mut namer = Namer::new();
-        let inputs = m.inputs.iter().map(|o| namer.name(c_ident(&o.name))).collect();
-        let actions = m.actions.iter().map(|o| namer.name(c_ident(&o.name))).collect();
+        let inputs = m
+            .inputs
+            .iter()
+            .map(|o| namer.name(c_ident(&o.name)))
+            .collect();
+        let actions = m
+            .actions
+            .iter()
+            .map(|o| namer.name(c_ident(&o.name)))
+            .collect();
         Names {
             p,
             up,
@@ -732,11 +827,7 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
     if l.has_guards() {
         let mut vals: Vec<u64> = l.trans.iter().map(|t| t.guard as u64).collect();
         vals.resize(t_rows, 0);
-        let _ = writeln!(
-            c,
-            "static const {} {p}_guard_[{t_rows}] = {{",
-            l.guard_ty.0
-        );
+        let _ = writeln!(c, "static const {} {p}_guard_[{t_rows}] = {{", l.guard_ty.0);
         number_rows(&mut c, &vals, false);
         let _ = writeln!(c, "}};\n");
     }
@@ -761,7 +852,11 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         "/* All outputs low: the Mealy mask of no rule, and the outputs of a bad call. */"
     );
     let zeros = vec!["0x0u"; w.max(1)].join(", ");
-    let _ = writeln!(c, "static const {word_ty} {p}_zero_[{}] = {{ {zeros} }};\n", w.max(1));
+    let _ = writeln!(
+        c,
+        "static const {word_ty} {p}_zero_[{}] = {{ {zeros} }};\n",
+        w.max(1)
+    );
     if l.has_mealy() {
         let _ = writeln!(c, "static const {word_ty} {p}_mealy_[{t_rows}][{w}] = {{");
         let zero = vec![0u64; w];
@@ -814,12 +909,18 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
     }
 
     // Names.
-    let _ = writeln!(c, "static const char *const {p}_state_names_[{s_count}] = {{");
+    let _ = writeln!(
+        c,
+        "static const char *const {p}_state_names_[{s_count}] = {{"
+    );
     for st in &m.states {
         let _ = writeln!(c, "    {},", c_string(&st.name));
     }
     let _ = writeln!(c, "}};\n");
-    let _ = writeln!(c, "static const char *const {p}_event_names_[{e_count}] = {{");
+    let _ = writeln!(
+        c,
+        "static const char *const {p}_event_names_[{e_count}] = {{"
+    );
     for ev in &m.events {
         let _ = writeln!(c, "    {},", c_string(&ev.name));
     }
@@ -831,7 +932,10 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         "static void {p}_put_outputs_(const {word_ty} *moore, const {word_ty} *mealy,\n    struct {p}_outputs *out)\n{{"
     );
     if w == 0 {
-        let _ = writeln!(c, "    (void)moore;\n    (void)mealy;\n    out->reserved_ = 0u;");
+        let _ = writeln!(
+            c,
+            "    (void)moore;\n    (void)mealy;\n    out->reserved_ = 0u;"
+        );
     }
     for (i, cname) in n.outputs.iter().enumerate() {
         let k = i / l.out_word_bits;
@@ -898,7 +1002,10 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         );
         for (i, cname) in n.actions.iter().enumerate() {
             if l.actions_used[i] {
-                let _ = writeln!(c, "    case {i}u:\n        hooks->{cname}(ctx);\n        break;");
+                let _ = writeln!(
+                    c,
+                    "    case {i}u:\n        hooks->{cname}(ctx);\n        break;"
+                );
             }
         }
         let _ = writeln!(c, "    default:\n        break;\n    }}\n}}\n");
@@ -910,12 +1017,18 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         );
         for (i, cname) in n.inputs.iter().enumerate() {
             if l.inputs_used[i] {
-                let _ = writeln!(c, "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}");
+                let _ = writeln!(
+                    c,
+                    "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}"
+                );
             }
         }
         for (i, cname) in n.actions.iter().enumerate() {
             if l.actions_used[i] {
-                let _ = writeln!(c, "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}");
+                let _ = writeln!(
+                    c,
+                    "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}"
+                );
             }
         }
         let _ = writeln!(c, "    return true;\n}}\n");
@@ -959,7 +1072,10 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
         "    if (out == NULL) {{\n        return -1;\n    }}\n    {p}_put_outputs_({zero}, {zero}, out);\n    if (m == NULL || (unsigned int)ev >= (unsigned int){up}_EVENT_COUNT\n        || (unsigned int)m->state >= (unsigned int){up}_STATE_COUNT) {{\n        return -1;\n    }}"
     );
     if l.needs_hooks() {
-        let _ = writeln!(c, "    if (!{p}_hooks_ok_(hooks)) {{\n        return -1;\n    }}");
+        let _ = writeln!(
+            c,
+            "    if (!{p}_hooks_ok_(hooks)) {{\n        return -1;\n    }}"
+        );
     } else {
         let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
     }
