@@ -482,6 +482,24 @@ fn doc_block(out: &mut String, indent: &str, lines: &[String]) {
     }
 }
 
+/// Words of `text` joined into lines of at most 80 characters, separated by `sep`.
+fn wrap(text: &str, sep: &str) -> String {
+    let mut lines: Vec<String> = vec![String::new()];
+    for word in text.split_whitespace() {
+        let last = lines.last_mut().map_or(0, |l| l.len());
+        if last > 0 && last + 1 + word.len() > 80 {
+            lines.push(String::new());
+        }
+        if let Some(l) = lines.last_mut() {
+            if !l.is_empty() {
+                l.push(' ');
+            }
+            l.push_str(word);
+        }
+    }
+    lines.join(sep)
+}
+
 /// Writes a C initializer list of numbers, wrapped.
 fn number_rows(out: &mut String, values: &[u64], hex: bool) {
     const PER_LINE: usize = 12;
@@ -733,9 +751,12 @@ fn header(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
                 needed.push(&n.actions[i]);
             }
         }
-        format!(
-            "`hooks` must not be NULL, nor may any of these members be NULL: {}.",
-            needed.join(", ")
+        wrap(
+            &format!(
+                "`hooks` must not be NULL, nor may any of these members be NULL: {}.",
+                needed.join(", ")
+            ),
+            "\n * ",
         )
     } else {
         "`hooks` may be NULL: this machine reads no inputs and runs no actions.".to_string()
@@ -751,7 +772,7 @@ fn header(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
     );
     let _ = writeln!(
         h,
-        "int {p}_step(struct {p}_machine *m, enum {p}_event ev, const struct {p}_hooks *hooks,\n    void *ctx, struct {p}_outputs *out);\n"
+        "int {p}_step(struct {p}_machine *m, enum {p}_event ev,\n    const struct {p}_hooks *hooks, void *ctx, struct {p}_outputs *out);\n"
     );
     let _ = writeln!(
         h,
@@ -1062,7 +1083,7 @@ fn source(m: &Machine, l: &Layout, n: &Names, source_name: &str) -> String {
     };
     let _ = writeln!(
         c,
-        "int {p}_step(struct {p}_machine *m, enum {p}_event ev, const struct {p}_hooks *hooks,\n    void *ctx, struct {p}_outputs *out)\n{{\n    unsigned int s;\n    unsigned int r;\n    unsigned int t;\n    unsigned int t_end;"
+        "int {p}_step(struct {p}_machine *m, enum {p}_event ev,\n    const struct {p}_hooks *hooks, void *ctx, struct {p}_outputs *out)\n{{\n    unsigned int s;\n    unsigned int r;\n    unsigned int t;\n    unsigned int t_end;"
     );
     if used_inputs {
         let _ = writeln!(c, "    struct {p}_inputs_ in;");

@@ -166,8 +166,8 @@ void bilge_pump_init(struct bilge_pump_machine *m)
     }
 }
 
-int bilge_pump_step(struct bilge_pump_machine *m, enum bilge_pump_event ev, const struct bilge_pump_hooks *hooks,
-    void *ctx, struct bilge_pump_outputs *out)
+int bilge_pump_step(struct bilge_pump_machine *m, enum bilge_pump_event ev,
+    const struct bilge_pump_hooks *hooks, void *ctx, struct bilge_pump_outputs *out)
 {
     unsigned int s;
     unsigned int r;

@@ -82,15 +82,16 @@ void bilge_pump_init(struct bilge_pump_machine *m);
  * event is ignored (`unhandled ignore`): nothing runs, the state stays, `out` gets the Moore
  * outputs of the state.
  *
- * `hooks` must not be NULL, nor may any of these members be NULL: pump_current_ok, start_timer, log_fault.
+ * `hooks` must not be NULL, nor may any of these members be NULL: pump_current_ok,
+ * start_timer, log_fault.
  *
  * Returns 0 when a rule fired, 1 when the event was ignored or rejected, -1 on a
  * bad argument: `m` or `out` NULL, `ev` out of range, `m->state` not a state
  * (a corrupt stored byte), or missing hooks. On -1 nothing runs, the state is
  * unchanged and `out` (when not NULL) is all false.
  */
-int bilge_pump_step(struct bilge_pump_machine *m, enum bilge_pump_event ev, const struct bilge_pump_hooks *hooks,
-    void *ctx, struct bilge_pump_outputs *out);
+int bilge_pump_step(struct bilge_pump_machine *m, enum bilge_pump_event ev,
+    const struct bilge_pump_hooks *hooks, void *ctx, struct bilge_pump_outputs *out);
 
 /** The state's name as in the spec, or "?" when `s` is not a state. */
 const char *bilge_pump_state_name(enum bilge_pump_state s);
