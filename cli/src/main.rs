@@ -4,6 +4,7 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
+mod cmd_gen_c;
 mod commands;
 mod io;
 
@@ -80,6 +81,18 @@ enum Command {
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
     },
+    /// Generate code from a spec.
+    Gen {
+        #[command(subcommand)]
+        target: GenTarget,
+    },
+}
+
+/// What `detent gen` writes.
+#[derive(Subcommand, Debug)]
+enum GenTarget {
+    /// C99 header and source per machine.
+    C(cmd_gen_c::GenCArgs),
 }
 
 fn main() -> ExitCode {
@@ -101,6 +114,9 @@ fn main() -> ExitCode {
             machine,
             trace,
         } => commands::run(&file, machine.as_deref(), &trace),
+        Command::Gen {
+            target: GenTarget::C(args),
+        } => cmd_gen_c::run(&args),
     };
     ExitCode::from(code)
 }
