@@ -12,6 +12,12 @@ use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
+// Parsing a large spec allocates millions of small tokens. With mimalloc, `detent check`
+// of a 2,000-state spec runs 1.12 G instructions instead of 1.49 G with the system
+// allocator (valgrind --tool=callgrind, scripts/gen_big_spec.py 2000 16).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 /// detent: checks, minimizes and compiles firmware state machines.
 #[derive(Parser, Debug)]
 #[command(name = "detent", version, about, long_about = None)]
