@@ -6,3 +6,4 @@
 //! against it.
 
 pub mod logic;
+pub mod minimize;
