@@ -96,10 +96,16 @@ impl fmt::Display for DfaError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             DfaError::DeltaLength { expected, actual } => {
-                write!(f, "transition table has {actual} entries, expected {expected}")
+                write!(
+                    f,
+                    "transition table has {actual} entries, expected {expected}"
+                )
             }
             DfaError::InitialLength { expected, actual } => {
-                write!(f, "initial labels have {actual} entries, expected {expected}")
+                write!(
+                    f,
+                    "initial labels have {actual} entries, expected {expected}"
+                )
             }
             DfaError::TargetOutOfRange {
                 state,
@@ -135,11 +141,7 @@ impl Dfa {
                 actual: self.initial.len(),
             });
         }
-        if let Some(i) = self
-            .delta
-            .iter()
-            .position(|&t| t as usize >= self.n_states)
-        {
+        if let Some(i) = self.delta.iter().position(|&t| t as usize >= self.n_states) {
             return Err(DfaError::TargetOutOfRange {
                 state: (i / self.n_symbols) as u32,
                 symbol: (i % self.n_symbols) as u32,
@@ -285,9 +287,7 @@ pub fn hopcroft(dfa: &Dfa) -> Partition {
 
     // Initial worklist: every initial block but one of the largest (for a complete
     // DFA the preimages of all blocks but one determine the last one).
-    let largest = (0..p.n_blocks())
-        .max_by_key(|&b| p.size(b))
-        .unwrap_or(0);
+    let largest = (0..p.n_blocks()).max_by_key(|&b| p.size(b)).unwrap_or(0);
     let mut work: Vec<u32> = (0..p.n_blocks() as u32)
         .filter(|&b| b as usize != largest)
         .collect();
@@ -725,7 +725,10 @@ impl fmt::Display for DistinguishError {
                 write!(f, "machines have different alphabets ({a} and {b} symbols)")
             }
             DistinguishError::StartOutOfRange { start, n_states } => {
-                write!(f, "start state {start} out of range (machine has {n_states})")
+                write!(
+                    f,
+                    "start state {start} out of range (machine has {n_states})"
+                )
             }
             DistinguishError::Malformed(e) => write!(f, "malformed machine: {e}"),
         }
