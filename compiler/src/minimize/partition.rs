@@ -292,12 +292,12 @@ pub fn hopcroft(dfa: &Dfa) -> Partition {
         .filter(|&b| b as usize != largest)
         .collect();
 
+    // The splitter's members are copied first: marking reorders elements inside
+    // blocks, the splitter block included.
     let mut splitter: Vec<u32> = Vec::new();
     let mut touched: Vec<u32> = Vec::new();
     while let Some(b) = work.pop() {
         for a in 0..k {
-            // Copy the splitter's members: marking reorders elements inside blocks,
-            // the splitter block included.
             splitter.clear();
             splitter.extend_from_slice(p.members(b as usize));
             for &t in &splitter {
@@ -322,14 +322,28 @@ pub fn hopcroft(dfa: &Dfa) -> Partition {
 }
 
 /// A refinable partition: the states of each block are contiguous in `elems`.
-/// Marked states of a block sit at the front of its range.
+/// Marked states of a block sit at the front of its range. Per-state and per-block
+/// fields are stored together so that marking a state costs one cache miss for the
+/// state and one for its block.
 struct Refinable {
     elems: Vec<u32>,
-    pos: Vec<u32>,
-    block_of: Vec<u32>,
-    start: Vec<u32>,
-    end: Vec<u32>,
-    marked: Vec<u32>,
+    state: Vec<StateSlot>,
+    block: Vec<BlockSlot>,
+}
+
+#[derive(Clone, Copy)]
+struct StateSlot {
+    /// Position of the state in `elems`.
+    pos: u32,
+    /// Block of the state.
+    block: u32,
+}
+
+#[derive(Clone, Copy)]
+struct BlockSlot {
+    start: u32,
+    end: u32,
+    marked: u32,
 }
 
 impl Refinable {
@@ -344,90 +358,96 @@ impl Refinable {
         for i in 1..=nb {
             start[i] += start[i - 1];
         }
-        let end: Vec<u32> = start[1..].to_vec();
-        start.truncate(nb);
-        let mut fill = start.clone();
+        let block: Vec<BlockSlot> = (0..nb)
+            .map(|b| BlockSlot {
+                start: start[b],
+                end: start[b + 1],
+                marked: 0,
+            })
+            .collect();
+        let mut fill = start;
         let mut elems = vec![0u32; n];
-        let mut pos = vec![0u32; n];
+        let mut state = vec![StateSlot { pos: 0, block: 0 }; n];
         for (s, &c) in initial.class_of.iter().enumerate() {
             let at = fill[c as usize];
             elems[at as usize] = s as u32;
-            pos[s] = at;
+            state[s] = StateSlot { pos: at, block: c };
             fill[c as usize] += 1;
         }
         Refinable {
             elems,
-            pos,
-            block_of: initial.class_of.clone(),
-            start,
-            end,
-            marked: vec![0; nb],
+            state,
+            block,
         }
     }
 
     fn n_blocks(&self) -> usize {
-        self.start.len()
+        self.block.len()
     }
 
     fn size(&self, b: usize) -> u32 {
-        self.end[b] - self.start[b]
+        self.block[b].end - self.block[b].start
     }
 
     fn members(&self, b: usize) -> &[u32] {
-        &self.elems[self.start[b] as usize..self.end[b] as usize]
+        let BlockSlot { start, end, .. } = self.block[b];
+        &self.elems[start as usize..end as usize]
     }
 
     /// Moves `s` into the marked front of its block; records the block the first time.
     #[inline]
     fn mark(&mut self, s: u32, touched: &mut Vec<u32>) {
-        let b = self.block_of[s as usize] as usize;
-        let m = self.marked[b];
+        let StateSlot { pos: here, block: b } = self.state[s as usize];
+        let blk = &mut self.block[b as usize];
+        let m = blk.marked;
+        let target = blk.start + m;
+        if here < target {
+            // Already marked. Cannot happen within one splitter (a source has one
+            // successor per symbol); the check keeps the structure sound anyway.
+            return;
+        }
         if m == 0 {
-            touched.push(b as u32);
+            touched.push(b);
         }
-        let target = self.start[b] + m;
-        let here = self.pos[s as usize];
-        if here >= target {
-            // Not yet marked (each source is marked at most once per splitter, since it
-            // has one successor per symbol; the check keeps the structure sound anyway).
-            let other = self.elems[target as usize];
-            self.elems[target as usize] = s;
-            self.elems[here as usize] = other;
-            self.pos[s as usize] = target;
-            self.pos[other as usize] = here;
-            self.marked[b] = m + 1;
-        }
+        blk.marked = m + 1;
+        let other = self.elems[target as usize];
+        self.elems[target as usize] = s;
+        self.elems[here as usize] = other;
+        self.state[s as usize].pos = target;
+        self.state[other as usize].pos = here;
     }
 
     /// Splits block `x` into its marked and unmarked parts, when both are non-empty.
     /// The smaller part becomes a new block, whose id is returned.
     fn split(&mut self, x: usize) -> Option<usize> {
-        let m = self.marked[x];
-        self.marked[x] = 0;
-        let (s, e) = (self.start[x], self.end[x]);
-        if m == e - s {
+        let BlockSlot { start, end, marked } = self.block[x];
+        self.block[x].marked = 0;
+        if marked == end - start {
             return None;
         }
-        let mid = s + m;
-        let z = self.start.len();
-        let (zs, ze) = if m <= e - mid {
-            self.start[x] = mid;
-            (s, mid)
+        let mid = start + marked;
+        let z = self.block.len();
+        let (zs, ze) = if marked <= end - mid {
+            self.block[x].start = mid;
+            (start, mid)
         } else {
-            self.end[x] = mid;
-            (mid, e)
+            self.block[x].end = mid;
+            (mid, end)
         };
-        self.start.push(zs);
-        self.end.push(ze);
-        self.marked.push(0);
+        self.block.push(BlockSlot {
+            start: zs,
+            end: ze,
+            marked: 0,
+        });
         for &st in &self.elems[zs as usize..ze as usize] {
-            self.block_of[st as usize] = z as u32;
+            self.state[st as usize].block = z as u32;
         }
         Some(z)
     }
 
     fn into_partition(self) -> Partition {
-        canonical(&self.block_of, self.start.len())
+        let block_of: Vec<u32> = self.state.iter().map(|s| s.block).collect();
+        canonical(&block_of, self.block.len())
     }
 }
 
