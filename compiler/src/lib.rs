@@ -5,4 +5,5 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
+pub mod emit;
 pub mod logic;
