@@ -296,11 +296,19 @@ fn samples_are_valid_xml_naming_every_node_and_cluster() {
             assert!(found.contains(&nd.name), "{name}: node {} missing", nd.name);
         }
         for c in &d.clusters {
-            assert!(found.contains(&c.name), "{name}: cluster {} missing", c.name);
+            assert!(
+                found.contains(&c.name),
+                "{name}: cluster {} missing",
+                c.name
+            );
         }
         for e in &d.edges {
             if !e.label.is_empty() {
-                assert!(found.contains(&e.label), "{name}: label {} missing", e.label);
+                assert!(
+                    found.contains(&e.label),
+                    "{name}: label {} missing",
+                    e.label
+                );
             }
         }
         if let Err(msg) = check_geometry(&d, &layout(&d)) {
@@ -327,13 +335,20 @@ fn cycle_long_edges_self_loops_and_nested_clusters() {
         .iter()
         .find(|e| e.from == Some(0) && e.to == 4)
         .expect("A -> E drawn");
-    assert!(long.segs.len() >= 5, "long edge has {} pieces", long.segs.len());
+    assert!(
+        long.segs.len() >= 5,
+        "long edge has {} pieces",
+        long.segs.len()
+    );
     // The empty cluster still gets a rectangle and its name.
     assert!(lay.clusters[3].w > 0.0 && lay.clusters[3].h > 0.0);
     let svg = render_svg(&d);
     let found = texts(&svg);
     assert!(found.contains(&"Lonely".to_string()));
-    assert!(found.contains(&"back <to> A".to_string()), "escaped label round-trips");
+    assert!(
+        found.contains(&"back <to> A".to_string()),
+        "escaped label round-trips"
+    );
     assert!(svg.contains("&lt;&amp;&gt;"));
     // Start marker and terminal double border.
     assert!(lay.start_dot.is_some() && lay.start_edge.is_some());

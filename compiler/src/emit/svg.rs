@@ -21,8 +21,8 @@ mod layout;
 pub use layout::{layout, EdgeGeometry, Layout, PathSeg, Point, Rect};
 
 use layout::{
-    DETAIL_GAP, HEADER_FONT, NAME_FONT, NAME_LH, NODE_PAD_Y, START_R, TEXT_FONT,
-    TEXT_LH, TITLE_FONT,
+    DETAIL_GAP, HEADER_FONT, NAME_FONT, NAME_LH, NODE_PAD_Y, START_R, TEXT_FONT, TEXT_LH,
+    TITLE_FONT,
 };
 use std::fmt::Write as _;
 
@@ -218,14 +218,6 @@ pub fn render_svg(d: &Diagram) -> String {
             num(r.h),
             CLUSTER_FILLS[depth[c] % CLUSTER_FILLS.len()]
         );
-        let _ = writeln!(
-            svg,
-            r##"<text x="{}" y="{}" font-size="{}" font-weight="bold" fill="#3c4f73">{}</text>"##,
-            num(r.x + 10.0),
-            num(r.y + 6.0 + HEADER_FONT),
-            num(HEADER_FONT),
-            escape(&d.clusters[c].name)
-        );
     }
     svg.push_str("</g>\n<g class=\"edges\">\n");
     if let (Some(dot), Some(e)) = (lay.start_dot, &lay.start_edge) {
@@ -240,6 +232,22 @@ pub fn render_svg(d: &Diagram) -> String {
     }
     for e in &lay.edges {
         write_edge(&mut svg, e);
+    }
+    svg.push_str("</g>\n");
+    // Cluster names go over the edges, with a halo of the cluster's own fill, so that an
+    // edge crossing a cluster's top never hides its name.
+    svg.push_str("<g class=\"cluster-names\">\n");
+    for c in 0..d.clusters.len() {
+        let r = lay.clusters[c];
+        let _ = writeln!(
+            svg,
+            r##"<text x="{}" y="{}" font-size="{}" font-weight="bold" fill="#3c4f73" stroke="{}" stroke-width="3" stroke-linejoin="round" paint-order="stroke">{}</text>"##,
+            num(r.x + 10.0),
+            num(r.y + 6.0 + HEADER_FONT),
+            num(HEADER_FONT),
+            CLUSTER_FILLS[depth[c] % CLUSTER_FILLS.len()],
+            escape(&d.clusters[c].name)
+        );
     }
     svg.push_str("</g>\n<g class=\"nodes\">\n");
     for (i, nd) in d.nodes.iter().enumerate() {
