@@ -20,12 +20,14 @@
 //!    Fenwick tree. O(sweeps * (N log N + S log N)) for N items and S segments.
 //! 5. **Coordinates.** Horizontal positions obey difference constraints
 //!    (`x_b >= x_a + gap`: neighbours in a rank, cluster walls, cluster members inside
-//!    their walls), which form a DAG. Starting from the leftmost packing, each round
-//!    moves every item to the median of its neighbours (above, below, or both,
-//!    alternating), then restores the constraints by averaging the push-right and the
-//!    push-left repair of that wish (both are feasible, so their mean is too: the set is
-//!    convex). This is a simple form of the priority/median placement of Sugiyama et al.
-//!    with the balancing idea of Brandes and Köpf (2001). O(rounds * (N + C)).
+//!    their walls), which form a DAG. The inner items of a long edge share one variable
+//!    (a straight vertical run, the priority the priority method of Sugiyama et al. gives
+//!    to virtual nodes) unless that would cross another run or pass a cluster on both
+//!    sides. Each round moves every variable to the median of its neighbours (above,
+//!    below, or both, alternating; leaves follow but do not pull) and projects that wish
+//!    onto the constraints with the block-merging "satisfy" step of Dwyer, Marriott and
+//!    Stuckey (2005), then one clamp sweep each way frees items stuck to a block.
+//!    O(rounds * C log^2 C) for C constraints.
 //! 6. **Routing.** An edge runs straight down through each rank band it crosses and as a
 //!    cubic Bézier with vertical tangents between bands, so the path is smooth (C1) and
 //!    never cuts through a band beside a node. Self-loops sit on the right of the node
@@ -858,10 +860,7 @@ pub fn layout(d: &Diagram) -> Layout {
             }
             None => (Vec::new(), None, None),
         };
-        let from = match ch.merged {
-            Some(m) => Some(merged[m].from),
-            None => None,
-        };
+        let from = ch.merged.map(|m| merged[m].from);
         let to = match ch.merged {
             Some(m) => merged[m].to,
             None => start.unwrap_or(0),
@@ -1283,8 +1282,8 @@ fn place_x(
             cons.push((i, rvar(c), it.rext + CL_PAD));
         }
     }
-    for c in 0..nc {
-        if let Some(p) = cparent[c] {
+    for (c, parent) in cparent.iter().enumerate() {
+        if let Some(p) = *parent {
             cons.push((lvar(p), lvar(c), CL_PAD));
             cons.push((rvar(c), rvar(p), CL_PAD));
         }
@@ -1302,6 +1301,7 @@ fn place_x(
             var[i] = run[0];
         }
     };
+    let runs = compatible_runs(runs, items, ord, cpath);
     let mut all = var.clone();
     for r in &runs {
         apply(&mut all, r);
@@ -1309,6 +1309,7 @@ fn place_x(
     if topo_order(&all, &cons, nv).is_some() {
         var = all;
     } else {
+        // A cycle through three or more runs and walls: fall back to one run at a time.
         for r in &runs {
             let mut trial = var.clone();
             apply(&mut trial, r);
@@ -1317,7 +1318,7 @@ fn place_x(
             }
         }
     }
-    let (incoming, _outgoing) = var_graph(&var, &cons, nv);
+    let (incoming, outgoing) = var_graph(&var, &cons, nv);
     let topo = match topo_order(&var, &cons, nv) {
         Some(t) => t,
         None => {
@@ -1439,6 +1440,29 @@ fn place_x(
             }
         }
         satisfy(&topo, &incoming, &wish, &weight, &mut x);
+        // Satisfy never splits a block, so an item merged into a block it would rather
+        // leave stays stuck to it; one sweep each way moves every variable as close to
+        // its wish as its current neighbours allow (each step keeps x feasible).
+        for forward in [false, true] {
+            let mut step = |v: usize| {
+                let lo = incoming[v]
+                    .iter()
+                    .map(|&(a, g)| x[a] + g)
+                    .fold(f64::NEG_INFINITY, f64::max);
+                let hi = outgoing[v]
+                    .iter()
+                    .map(|&(b, g)| x[b] - g)
+                    .fold(f64::INFINITY, f64::min);
+                if lo <= hi {
+                    x[v] = wish[v].clamp(lo, hi);
+                }
+            };
+            if forward {
+                topo.iter().for_each(|&v| step(v));
+            } else {
+                topo.iter().rev().for_each(|&v| step(v));
+            }
+        }
     }
     // Every slot takes its variable's position; shift so the leftmost thing sits at the
     // margin.
@@ -1455,6 +1479,69 @@ fn place_x(
         out.iter_mut().for_each(|v| *v += shift);
     }
     out
+}
+
+/// Keeps the runs (inner items of long edges, longest first) that can each be drawn as
+/// one straight line: a run must not swap sides with an accepted run on two ranks they
+/// share (their inner segments would cross), nor pass a cluster that does not hold it on
+/// both sides. These are the conflicts that make merged constraints cyclic, found in
+/// O(runs^2 * shared ranks + run items * clusters per rank) instead of one cycle test per run.
+fn compatible_runs(
+    runs: Vec<Vec<usize>>,
+    items: &[Item],
+    ord: &Orderer,
+    cpath: &[Vec<usize>],
+) -> Vec<Vec<usize>> {
+    let nranks = ord.ranks.len();
+    // Block range (first, last position) of each cluster on each rank.
+    let mut ranges: BTreeMap<(usize, usize), (usize, usize)> = BTreeMap::new();
+    for (i, it) in items.iter().enumerate() {
+        if let Some(c) = it.cluster {
+            for &k in &cpath[c] {
+                let e = ranges
+                    .entry((it.rank, k))
+                    .or_insert((ord.pos[i], ord.pos[i]));
+                e.0 = e.0.min(ord.pos[i]);
+                e.1 = e.1.max(ord.pos[i]);
+            }
+        }
+    }
+    let mut per_rank: Vec<Vec<(usize, usize, usize)>> = vec![Vec::new(); nranks];
+    for (&(r, c), &(lo, hi)) in &ranges {
+        per_rank[r].push((c, lo, hi));
+    }
+    let mut accepted: Vec<Vec<usize>> = Vec::new();
+    'runs: for run in runs {
+        let mut side: BTreeMap<usize, bool> = BTreeMap::new();
+        for &i in &run {
+            let it = &items[i];
+            let own: &[usize] = it.cluster.map(|c| cpath[c].as_slice()).unwrap_or(&[]);
+            for &(c, lo, hi) in &per_rank[it.rank] {
+                if own.contains(&c) {
+                    continue;
+                }
+                let left = ord.pos[i] < lo;
+                debug_assert!(left || ord.pos[i] > hi);
+                if *side.entry(c).or_insert(left) != left {
+                    continue 'runs;
+                }
+            }
+        }
+        let (lo, hi) = (items[run[0]].rank, items[run[run.len() - 1]].rank);
+        for other in &accepted {
+            let (olo, ohi) = (items[other[0]].rank, items[other[other.len() - 1]].rank);
+            let (a, b) = (lo.max(olo), hi.min(ohi));
+            if a >= b {
+                continue;
+            }
+            let first = ord.pos[run[a - lo]] < ord.pos[other[a - olo]];
+            if (a + 1..=b).any(|r| (ord.pos[run[r - lo]] < ord.pos[other[r - olo]]) != first) {
+                continue 'runs;
+            }
+        }
+        accepted.push(run);
+    }
+    accepted
 }
 
 /// Incoming and outgoing constraint lists over variables (largest gap per pair).
@@ -1506,13 +1593,46 @@ fn topo_order(var: &[usize], cons: &[(usize, usize, f64)], nv: usize) -> Option<
     (topo.len() == count).then_some(topo)
 }
 
+/// A constraint into a block, ordered by its key for the block's max-heap.
+#[derive(Clone, Copy, Debug)]
+struct HeapEntry {
+    /// Stored key; the actual key is this plus the block's `key_shift`.
+    key: f64,
+    left: usize,
+    right: usize,
+    gap: f64,
+}
+
+impl PartialEq for HeapEntry {
+    fn eq(&self, other: &Self) -> bool {
+        self.cmp(other) == std::cmp::Ordering::Equal
+    }
+}
+impl Eq for HeapEntry {}
+impl PartialOrd for HeapEntry {
+    fn partial_cmp(&self, other: &Self) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(other))
+    }
+}
+impl Ord for HeapEntry {
+    fn cmp(&self, other: &Self) -> std::cmp::Ordering {
+        self.key
+            .total_cmp(&other.key)
+            .then(self.left.cmp(&other.left))
+            .then(self.right.cmp(&other.right))
+    }
+}
+
 /// Moves `x` to a position near `wish` that meets every constraint `x_b >= x_a + gap`:
 /// the block-merging "satisfy" step of Dwyer, Marriott and Stuckey, "Fast Node Overlap
 /// Removal" (Graph Drawing 2005). Variables are visited in topological order; each one
 /// starts as its own block at its wish, and while some constraint into its block is
-/// violated, the most violated one is made tight by merging the two blocks, which then sit
-/// at the weighted mean of their members' wishes. A merged block only moves left as a
-/// whole, so constraints already met stay met. O(C) per merge, at most V merges.
+/// violated, the most violated one is made tight by merging the two blocks, which then
+/// sit at the weighted mean of their members' wishes. Only the part left of the new
+/// variable moves left, so constraints already met stay met. Each block keeps its
+/// incoming constraints in a max-heap keyed by `x_a + gap - offset_b` (lazily refreshed:
+/// keys only go stale downwards), and the smaller heap is poured into the larger on a
+/// merge: O(C log^2 C) in all.
 fn satisfy(
     topo: &[usize],
     incoming: &[Vec<(usize, f64)>],
@@ -1520,13 +1640,14 @@ fn satisfy(
     weight: &[f64],
     x: &mut [f64],
 ) {
+    use std::collections::BinaryHeap;
     struct Block {
         vars: Vec<usize>,
         wsum: f64,
         /// Sum of weight * (wish - offset) over the members.
         wpos: f64,
-        /// Constraints (left var, right var, gap) into the block, some now internal.
-        inc: Vec<(usize, usize, f64)>,
+        heap: BinaryHeap<HeapEntry>,
+        key_shift: f64,
     }
     let nv = wish.len();
     let mut block_of = vec![usize::MAX; nv];
@@ -1535,29 +1656,45 @@ fn satisfy(
     let posn = |b: &Block| b.wpos / b.wsum;
     for &v in topo {
         let w = weight[v].max(1e-9);
+        let heap: BinaryHeap<HeapEntry> = incoming[v]
+            .iter()
+            .map(|&(a, g)| HeapEntry {
+                key: posn(&blocks[block_of[a]]) + offset[a] + g,
+                left: a,
+                right: v,
+                gap: g,
+            })
+            .collect();
         blocks.push(Block {
             vars: vec![v],
             wsum: w,
             wpos: w * wish[v],
-            inc: incoming[v].iter().map(|&(a, g)| (a, v, g)).collect(),
+            heap,
+            key_shift: 0.0,
         });
         block_of[v] = blocks.len() - 1;
         loop {
             let b = block_of[v];
-            let here = posn(&blocks[b]);
-            let mut worst: Option<(f64, usize, usize, f64)> = None;
-            let mut inc = std::mem::take(&mut blocks[b].inc);
-            inc.retain(|&(a, _, _)| block_of[a] != b);
-            for &(a, r, g) in &inc {
-                let viol = posn(&blocks[block_of[a]]) + offset[a] + g - (here + offset[r]);
-                if viol > 1e-7 && worst.is_none_or(|(wv, ..)| viol > wv) {
-                    worst = Some((viol, a, r, g));
-                }
+            let Some(top) = blocks[b].heap.pop() else {
+                break;
+            };
+            let left = block_of[top.left];
+            if left == b {
+                continue; // internal now
             }
-            blocks[b].inc = inc;
-            let Some((_, a, r, g)) = worst else { break };
-            // Offsets of block b's members in the frame of a's block.
-            let left = block_of[a];
+            let actual = posn(&blocks[left]) + offset[top.left] + top.gap - offset[top.right];
+            let stored = top.key + blocks[b].key_shift;
+            if (actual - stored).abs() > 1e-7 {
+                let key = actual - blocks[b].key_shift;
+                blocks[b].heap.push(HeapEntry { key, ..top });
+                continue;
+            }
+            if actual - posn(&blocks[b]) <= 1e-7 {
+                blocks[b].heap.push(top);
+                break;
+            }
+            // Merge: offsets of b's members in the frame of the left block differ by delta.
+            let (a, r, g) = (top.left, top.right, top.gap);
             let delta = offset[a] + g - offset[r];
             let (keep, gone, shift) = if blocks[left].vars.len() >= blocks[b].vars.len() {
                 (left, b, delta)
@@ -1569,16 +1706,41 @@ fn satisfy(
                 offset[m] += shift;
                 block_of[m] = keep;
             }
+            // Keys of constraints into `gone` fall by `shift` as their right ends moved.
+            blocks[gone].key_shift -= shift;
             let (gw, gp) = (
                 blocks[gone].wsum,
                 blocks[gone].wpos - blocks[gone].wsum * shift,
             );
-            let ginc = std::mem::take(&mut blocks[gone].inc);
-            let k = &mut blocks[keep];
-            k.vars.extend(moved);
-            k.wsum += gw;
-            k.wpos += gp;
-            k.inc.extend(ginc);
+            let gone_heap = std::mem::take(&mut blocks[gone].heap);
+            let gone_shift = blocks[gone].key_shift;
+            let kb = &mut blocks[keep];
+            kb.vars.extend(moved);
+            kb.wsum += gw;
+            kb.wpos += gp;
+            let (mut big, big_shift, small, small_shift) = if kb.heap.len() >= gone_heap.len() {
+                (
+                    std::mem::take(&mut kb.heap),
+                    kb.key_shift,
+                    gone_heap,
+                    gone_shift,
+                )
+            } else {
+                (
+                    gone_heap,
+                    gone_shift,
+                    std::mem::take(&mut kb.heap),
+                    kb.key_shift,
+                )
+            };
+            for e in small {
+                big.push(HeapEntry {
+                    key: e.key + small_shift - big_shift,
+                    ..e
+                });
+            }
+            kb.heap = big;
+            kb.key_shift = big_shift;
         }
     }
     for &v in topo {
