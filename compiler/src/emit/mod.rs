@@ -1,3 +1,5 @@
-//! Back ends: code and drawings generated from a resolved [`crate::model::Machine`].
+//! Back ends: code and drawings generated from a resolved [`crate::model::Machine`]
+//! (or, for [`svg`], from a machine-independent diagram description).
 
 pub mod c;
+pub mod svg;
