@@ -5,7 +5,6 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
-<<<<<<< HEAD
 pub mod check;
 pub mod diag;
 pub mod emit;
