@@ -8,6 +8,7 @@
 pub mod diag;
 pub mod interp;
 pub mod logic;
+pub mod minimize;
 pub mod model;
 pub mod syntax;
 pub mod table;
