@@ -12,5 +12,6 @@ pub mod minimize;
 pub mod model;
 pub mod syntax;
 pub mod table;
+pub mod tour;
 pub mod trace;
 pub mod check;
