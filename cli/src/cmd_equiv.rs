@@ -39,7 +39,11 @@ fn view_json(v: &StepView) -> Value {
 
 fn view_text(label: &str, v: &StepView) -> String {
     if v.outcome == "start" {
-        return format!("  {label}: starts in `{}` with Moore outputs [{}]", v.from, v.moore.join(", "));
+        return format!(
+            "  {label}: starts in `{}` with Moore outputs [{}]",
+            v.from,
+            v.moore.join(", ")
+        );
     }
     format!(
         "  {label}: `{}` -> `{}` ({}), mealy [{}], moore [{}], actions [{}]",
@@ -99,9 +103,16 @@ pub fn equiv(file_a: &Path, file_b: &Path, machine: Option<&str>, format: PlainF
             if d.witness.is_empty() {
                 t.push_str(" (the start states)");
             } else {
-                t.push_str(&format!("; shortest distinguishing sequence ({} steps):", d.witness.len()));
+                t.push_str(&format!(
+                    "; shortest distinguishing sequence ({} steps):",
+                    d.witness.len()
+                ));
                 for (i, s) in d.witness.iter().enumerate() {
-                    t.push_str(&format!("\n  {}. {}", i + 1, step_text(&s.event, &s.inputs)));
+                    t.push_str(&format!(
+                        "\n  {}. {}",
+                        i + 1,
+                        step_text(&s.event, &s.inputs)
+                    ));
                 }
             }
             t.push_str(&format!("\nat step {}:\n", d.step));

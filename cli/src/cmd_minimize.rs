@@ -31,7 +31,11 @@ pub fn load_machines(path: &Path, name: Option<&str>) -> Result<Vec<Machine>, u8
         // Prints the errors the same way every other command does.
         return io::load_machine(path, None).map(|m| vec![m]);
     }
-    let machines: Vec<Machine> = report.machines.into_iter().filter_map(|m| m.machine).collect();
+    let machines: Vec<Machine> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
     if machines.is_empty() {
         return Err(io::usage_error(format!("`{file}` defines no machine")));
     }

@@ -10,16 +10,21 @@ use detent_compiler::interp::Outcome;
 use detent_compiler::minimize::equiv::{distinguish_states, equiv};
 use detent_compiler::minimize::machine::minimized_ast;
 use detent_compiler::minimize::{minimize, minimized_machine, minimized_spec};
+use detent_compiler::model::{EventId, Machine, StateId};
 use detent_compiler::syntax::ast::{self, Body, Member};
 use detent_compiler::syntax::print::print_machine;
-use detent_compiler::model::{EventId, Machine, StateId};
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
 
 fn machine(text: &str) -> Machine {
     let report = check_source("t.detent", text);
     let errors: Vec<_> = report.diagnostics().filter(|d| d.is_error()).collect();
     assert!(errors.is_empty(), "{text}\n{errors:#?}");
-    report.machines.into_iter().next().and_then(|m| m.machine).expect("a machine")
+    report
+        .machines
+        .into_iter()
+        .next()
+        .and_then(|m| m.machine)
+        .expect("a machine")
 }
 
 fn class_names(m: &Machine) -> Vec<Vec<String>> {
@@ -52,7 +57,11 @@ fn mod_six_counter_observed_mod_three() {
     );
     assert_eq!(
         class_names(&m),
-        vec![names(&["P0", "P3"]), names(&["P1", "P4"]), names(&["P2", "P5"])]
+        vec![
+            names(&["P0", "P3"]),
+            names(&["P1", "P4"]),
+            names(&["P2", "P5"])
+        ]
     );
     let q = minimized_machine(&m);
     assert_eq!(q.states.len(), 3);
@@ -148,7 +157,10 @@ fn enter_and_leave_actions_move_onto_rules() {
         vec![names(&["Idle"]), names(&["Run1", "Run2"])]
     );
     let text = minimized_spec(&m);
-    assert!(!text.contains("enter do") && !text.contains("leave do"), "{text}");
+    assert!(
+        !text.contains("enter do") && !text.contains("leave do"),
+        "{text}"
+    );
     assert!(text.contains("Go => Run1, do beep;"), "{text}");
     assert!(text.contains("Go => Run1, do boop, beep;"), "{text}");
     assert!(text.contains("Back => Idle, do boop;"), "{text}");
@@ -157,10 +169,7 @@ fn enter_and_leave_actions_move_onto_rules() {
     assert!(equiv(&m, &q).unwrap().is_none());
     // Moving the enter action naively (keeping `enter do beep` on the merged state
     // and also on the rules) would double it: the re-parsed quotient would then differ.
-    let doubled = text.replace(
-        "state Run1 {",
-        "state Run1 {\n        enter do beep;",
-    );
+    let doubled = text.replace("state Run1 {", "state Run1 {\n        enter do beep;");
     let bad = machine(&doubled);
     assert!(equiv(&m, &bad).unwrap().is_some());
 }
@@ -203,9 +212,15 @@ fn groups_flatten_with_moore_sets_and_group_properties() {
         ]
     );
     let text = minimized_spec(&m);
-    assert!(text.contains("never (in Pumping || in Draining) && alarm;"), "{text}");
+    assert!(
+        text.contains("never (in Pumping || in Draining) && alarm;"),
+        "{text}"
+    );
     assert!(text.contains("state Draining emit pump {"), "{text}");
-    assert!(text.contains("ManualOn => Draining, do start_timer;"), "{text}");
+    assert!(
+        text.contains("ManualOn => Draining, do start_timer;"),
+        "{text}"
+    );
     let q = machine(&text);
     assert!(equiv(&m, &q).unwrap().is_none());
 }
@@ -235,7 +250,9 @@ fn equivalent_states_lint_lists_each_class() {
            state P0 emit z { Inc => P1; }  state P1 { Inc => P0; }
            state P3 emit z { Inc => P1; } }",
     );
-    assert!(report.diagnostics().all(|d| d.lint != Lint::EquivalentStates));
+    assert!(report
+        .diagnostics()
+        .all(|d| d.lint != Lint::EquivalentStates));
 }
 
 // ---------------------------------------------------------------------------------
@@ -256,12 +273,20 @@ fn traces_agree(m: &Machine, q: &Machine, seed: u64) {
             let rm = m.step(sm, ev, ins);
             let rq = q.step(sq, evq, ins);
             let on = |mm: &Machine, v: Vec<detent_compiler::model::OutputId>| -> Vec<String> {
-                v.into_iter().map(|o| mm.outputs[o.index()].name.clone()).collect()
+                v.into_iter()
+                    .map(|o| mm.outputs[o.index()].name.clone())
+                    .collect()
             };
             let an = |mm: &Machine, v: &[detent_compiler::model::ActionId]| -> Vec<String> {
-                v.iter().map(|a| mm.actions[a.index()].name.clone()).collect()
+                v.iter()
+                    .map(|a| mm.actions[a.index()].name.clone())
+                    .collect()
             };
-            let ctx = format!("seed {seed}, step {i}, {} in {}", m.event_name(ev), m.state_name(sm));
+            let ctx = format!(
+                "seed {seed}, step {i}, {} in {}",
+                m.event_name(ev),
+                m.state_name(sm)
+            );
             assert_eq!(on(m, rm.outputs()), on(q, rq.outputs()), "{ctx}");
             assert_eq!(an(m, &rm.actions), an(q, &rq.actions), "{ctx}");
             assert_eq!(
@@ -269,7 +294,9 @@ fn traces_agree(m: &Machine, q: &Machine, seed: u64) {
                 rq.outcome == Outcome::Rejected,
                 "{ctx}"
             );
-            let rep = min.representative_of(rm.to).expect("reached states are reachable");
+            let rep = min
+                .representative_of(rm.to)
+                .expect("reached states are reachable");
             assert_eq!(m.state_name(rep), q.state_name(rq.to), "{ctx}");
             sm = rm.to;
             sq = rq.to;
@@ -288,7 +315,10 @@ fn check_pipeline(m: &Machine, seed: u64, spec: &str) -> (bool, usize) {
     assert_eq!(p.states.len(), q.states.len());
 
     // Equivalent by the product search and by interpreter traces.
-    assert!(equiv(m, &q).unwrap().is_none(), "seed {seed}\n{spec}\n{text}");
+    assert!(
+        equiv(m, &q).unwrap().is_none(),
+        "seed {seed}\n{spec}\n{text}"
+    );
     assert!(equiv(m, &p).unwrap().is_none(), "seed {seed}\n{text}");
     traces_agree(m, &q, seed);
 
@@ -312,7 +342,10 @@ fn check_pipeline(m: &Machine, seed: u64, spec: &str) -> (bool, usize) {
             );
         }
     }
-    (min.classes.iter().any(|c| c.len() > 1), min.unreachable.len())
+    (
+        min.classes.iter().any(|c| c.len() > 1),
+        min.unreachable.len(),
+    )
 }
 
 /// `m` flattened (each reachable state its own class) with every state duplicated as
@@ -359,10 +392,30 @@ fn with_duplicates(m: &Machine, rng: &mut Rng) -> String {
 #[test]
 fn random_specs_minimize_to_equivalent_minimal_machines() {
     let configs = [
-        GenConfig { states: (2, 10), ..GenConfig::default() },
-        GenConfig { states: (3, 12), events: 0, ..GenConfig::default() },
-        GenConfig { states: (3, 12), inputs: 0, groups: false, outputs: 1, actions: 1, ..GenConfig::default() },
-        GenConfig { states: (6, 16), events: 4, inputs: 3, outputs: 1, ..GenConfig::default() },
+        GenConfig {
+            states: (2, 10),
+            ..GenConfig::default()
+        },
+        GenConfig {
+            states: (3, 12),
+            events: 0,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            states: (3, 12),
+            inputs: 0,
+            groups: false,
+            outputs: 1,
+            actions: 1,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            states: (6, 16),
+            events: 4,
+            inputs: 3,
+            outputs: 1,
+            ..GenConfig::default()
+        },
     ];
     let (mut merged, mut total, mut dropped) = (0, 0, 0);
     for (ci, cfg) in configs.iter().enumerate() {
@@ -391,7 +444,10 @@ fn random_specs_minimize_to_equivalent_minimal_machines() {
                     continue;
                 };
                 let b = d.state_id(&format!("{}Dup", m.state_name(StateId::from_index(s))));
-                if let (Some(ca), Some(cb)) = (dmin.class_of[a.index()], b.and_then(|b| dmin.class_of[b.index()])) {
+                if let (Some(ca), Some(cb)) = (
+                    dmin.class_of[a.index()],
+                    b.and_then(|b| dmin.class_of[b.index()]),
+                ) {
                     assert_eq!(ca, cb, "seed {seed}: a state and its duplicate must merge");
                 }
             }
@@ -402,6 +458,9 @@ fn random_specs_minimize_to_equivalent_minimal_machines() {
         }
     }
     // The corpus must exercise merging and unreachable states, or the test proves little.
-    assert!(merged >= total / 3, "only {merged} of {total} specs had merges");
+    assert!(
+        merged >= total / 3,
+        "only {merged} of {total} specs had merges"
+    );
     assert!(dropped > 0, "no spec had unreachable states");
 }

@@ -326,7 +326,12 @@ pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> 
     let local: Vec<(EventId, Vec<bool>)> = alphabet
         .symbols
         .iter()
-        .map(|sym| (side.event_of_ref[sym.event.index()], side.local_inputs(&sym.inputs)))
+        .map(|sym| {
+            (
+                side.event_of_ref[sym.event.index()],
+                side.local_inputs(&sym.inputs),
+            )
+        })
         .collect();
     let moore_of = |s: StateId| {
         mapped_sorted(

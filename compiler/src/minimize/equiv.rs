@@ -39,10 +39,18 @@ impl fmt::Display for DeclMismatch {
                 if v.is_empty() {
                     "none".to_string()
                 } else {
-                    v.iter().map(|n| format!("`{n}`")).collect::<Vec<_>>().join(", ")
+                    v.iter()
+                        .map(|n| format!("`{n}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
                 }
             };
-            write!(f, "\n  {kind}: only in A: {}; only in B: {}", list(a), list(b))?;
+            write!(
+                f,
+                "\n  {kind}: only in A: {}; only in B: {}",
+                list(a),
+                list(b)
+            )?;
         }
         Ok(())
     }
@@ -233,8 +241,16 @@ pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, DeclMismatc
     let mut last = None;
     for &x in &word {
         let sym = &alphabet.symbols[x as usize];
-        let ra = a.step(pa, sa.event_of_ref[sym.event.index()], &sa.local_inputs(&sym.inputs));
-        let rb = b.step(pb, sb.event_of_ref[sym.event.index()], &sb.local_inputs(&sym.inputs));
+        let ra = a.step(
+            pa,
+            sa.event_of_ref[sym.event.index()],
+            &sa.local_inputs(&sym.inputs),
+        );
+        let rb = b.step(
+            pb,
+            sb.event_of_ref[sym.event.index()],
+            &sb.local_inputs(&sym.inputs),
+        );
         pa = ra.to;
         pb = rb.to;
         last = Some((ra, rb));

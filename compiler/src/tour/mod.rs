@@ -454,3 +454,51 @@ pub fn tour(m: &Machine) -> Tour {
         strongly_connected: sc,
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::assignment;
+
+    /// The cheapest assignment by trying every permutation (small n only).
+    fn brute(cost: &[Vec<i64>]) -> i64 {
+        fn go(cost: &[Vec<i64>], row: usize, used: &mut Vec<bool>) -> i64 {
+            if row == cost.len() {
+                return 0;
+            }
+            let mut best = i64::MAX;
+            for j in 0..cost.len() {
+                if !used[j] {
+                    used[j] = true;
+                    best = best.min(cost[row][j] + go(cost, row + 1, used));
+                    used[j] = false;
+                }
+            }
+            best
+        }
+        go(cost, 0, &mut vec![false; cost.len()])
+    }
+
+    #[test]
+    fn hungarian_matches_brute_force() {
+        let mut x: u64 = 12345;
+        let mut next = || {
+            x = x
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (x >> 33) % 20
+        };
+        for n in 1..=6 {
+            for _ in 0..30 {
+                let cost: Vec<Vec<i64>> = (0..n)
+                    .map(|_| (0..n).map(|_| next() as i64).collect())
+                    .collect();
+                let a = assignment(&cost);
+                let mut cols = a.clone();
+                cols.sort_unstable();
+                assert_eq!(cols, (0..n).collect::<Vec<_>>(), "a permutation");
+                let total: i64 = a.iter().enumerate().map(|(i, &j)| cost[i][j]).sum();
+                assert_eq!(total, brute(&cost), "{cost:?}");
+            }
+        }
+    }
+}
