@@ -10,7 +10,7 @@
 
 use std::time::Instant;
 
-use detent_compiler::minimize::partition::{hopcroft, moore_refinement, Dfa};
+use detent_compiler::minimize::partition::{hopcroft_with_stats, moore_refinement, Dfa};
 
 fn arg(args: &[String], i: usize, default: usize) -> usize {
     match args.get(i) {
@@ -34,10 +34,11 @@ fn main() {
     let gen = t.elapsed();
 
     let t = Instant::now();
-    let p = if moore {
-        moore_refinement(&dfa)
+    let (p, stats) = if moore {
+        (moore_refinement(&dfa), None)
     } else {
-        hopcroft(&dfa)
+        let (p, s) = hopcroft_with_stats(&dfa);
+        (p, Some(s))
     };
     let run = t.elapsed();
     println!(
@@ -48,4 +49,14 @@ fn main() {
         run.as_secs_f64(),
         gen.as_secs_f64()
     );
+    if let Some(s) = stats {
+        println!(
+            "  {} splitters, {} marks ({:.2} per k n log2 n), {} splits, {:.1} ns per mark",
+            s.splitters,
+            s.marks,
+            s.marks as f64 / (k as f64 * n as f64 * (n as f64).log2()),
+            s.splits,
+            run.as_nanos() as f64 / s.marks.max(1) as f64
+        );
+    }
 }

@@ -26,10 +26,15 @@
 //!   the smaller half of each split), so one entry per block suffices and the splitters
 //!   of a popped block are processed symbol by symbol.
 //!
-//! What is still slow: the inverse lists are scanned per (state, symbol) with poor cache
-//! locality on large random tables, so past a few million transitions the run is bound
-//! by memory latency rather than by the n log n count of steps. The CSR build is a
-//! two-pass counting sort, O(k n), and dominates on tables that refine in few rounds.
+//! What is still slow: every mark is a few dependent random loads (the inverse list of
+//! a splitter member, the marked state's slot, its block's slot, the element swapped
+//! with it), so once the tables leave the caches the time per step grows several-fold
+//! (about 90 ns per mark at 2^14 states, 490 ns at 2^20 on a shared machine; see
+//! BENCHMARKS.md) and the growth from 2^14 to 2^20 states is well above n log n even
+//! though the step count is not. Keeping the transitions in a refinable partition of
+//! their own, grouped by (symbol, target block) as in A. Valmari and P. Lehtinen,
+//! "Efficient minimization of DFAs with partial transition functions" (2008), would
+//! make each splitter's incoming transitions one contiguous range.
 //!
 //! [`moore_refinement`] is the naive baseline, E. F. Moore's iterated refinement
 //! ("Gedanken-experiments on sequential machines", 1956): recompute every state's
@@ -253,14 +258,37 @@ impl Partition {
 ///
 /// When `dfa` is malformed (see [`Dfa::validate`]).
 pub fn hopcroft(dfa: &Dfa) -> Partition {
+    hopcroft_with_stats(dfa).0
+}
+
+/// Step counts of one [`hopcroft`] run, for benchmarks: they grow as k n log n, while
+/// the time per step grows with the working set once it leaves the caches.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct HopcroftStats {
+    /// (block, symbol) splitters processed.
+    pub splitters: u64,
+    /// States marked: incoming transitions scanned over all splitters.
+    pub marks: u64,
+    /// Block splits.
+    pub splits: u64,
+}
+
+/// [`hopcroft`], also returning its step counts.
+///
+/// # Panics
+///
+/// When `dfa` is malformed (see [`Dfa::validate`]).
+pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
     dfa.assert_valid();
+    let mut stats = HopcroftStats::default();
     let n = dfa.n_states;
     let k = dfa.n_symbols;
     if n == 0 {
-        return Partition {
+        let empty = Partition {
             class_of: Vec::new(),
             n_classes: 0,
         };
+        return (empty, stats);
     }
 
     // Inverse transitions as CSR keyed by (target, symbol): the sources of the
@@ -297,12 +325,14 @@ pub fn hopcroft(dfa: &Dfa) -> Partition {
     let mut splitter: Vec<u32> = Vec::new();
     let mut touched: Vec<u32> = Vec::new();
     while let Some(b) = work.pop() {
+        stats.splitters += k as u64;
         for a in 0..k {
             splitter.clear();
             splitter.extend_from_slice(p.members(b as usize));
             for &t in &splitter {
                 let key = t as usize * k + a;
                 let (lo, hi) = (inv_off[key] as usize, inv_off[key + 1] as usize);
+                stats.marks += (hi - lo) as u64;
                 for &s in &inv_src[lo..hi] {
                     p.mark(s, &mut touched);
                 }
@@ -312,13 +342,14 @@ pub fn hopcroft(dfa: &Dfa) -> Partition {
                 // for all symbols (Hopcroft's rule: if (X, c) is pending, both halves
                 // must be; otherwise the smaller one suffices).
                 if let Some(z) = p.split(x as usize) {
+                    stats.splits += 1;
                     work.push(z as u32);
                 }
             }
             touched.clear();
         }
     }
-    p.into_partition()
+    (p.into_partition(), stats)
 }
 
 /// A refinable partition: the states of each block are contiguous in `elems`.
@@ -397,7 +428,10 @@ impl Refinable {
     /// Moves `s` into the marked front of its block; records the block the first time.
     #[inline]
     fn mark(&mut self, s: u32, touched: &mut Vec<u32>) {
-        let StateSlot { pos: here, block: b } = self.state[s as usize];
+        let StateSlot {
+            pos: here,
+            block: b,
+        } = self.state[s as usize];
         let blk = &mut self.block[b as usize];
         let m = blk.marked;
         let target = blk.start + m;
