@@ -31,9 +31,7 @@
 //! per-state copies.
 
 use crate::diag::{Diagnostic, Lint, TraceStep};
-use crate::model::{
-    ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId,
-};
+use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
 use std::collections::VecDeque;
 
 const NONE: u32 = u32::MAX;
