@@ -14,4 +14,5 @@ pub mod minimize;
 pub mod model;
 pub mod syntax;
 pub mod table;
+pub mod tour;
 pub mod trace;
