@@ -4,6 +4,8 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
+mod cmd_draw;
+mod cmd_import;
 mod commands;
 mod io;
 
@@ -80,6 +82,29 @@ enum Command {
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
     },
+    /// Draw the state diagram as Graphviz DOT or as SVG (drawn by detent itself).
+    Draw {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Diagram format.
+        #[arg(long, value_enum, default_value_t = cmd_draw::DrawFormat::Dot)]
+        format: cmd_draw::DrawFormat,
+        /// Write here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT")]
+        out: Option<PathBuf>,
+    },
+    /// Read a state table in the CSV form of `table --format csv` back into a spec.
+    Import {
+        /// The CSV file (`-` for standard input).
+        #[arg(value_name = "TABLE.csv")]
+        table: PathBuf,
+        /// Write the spec here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT.detent")]
+        out: Option<PathBuf>,
+    },
 }
 
 fn main() -> ExitCode {
@@ -101,6 +126,13 @@ fn main() -> ExitCode {
             machine,
             trace,
         } => commands::run(&file, machine.as_deref(), &trace),
+        Command::Draw {
+            file,
+            machine,
+            format,
+            out,
+        } => cmd_draw::draw(&file, machine.as_deref(), format, out.as_deref()),
+        Command::Import { table, out } => cmd_import::import(&table, out.as_deref()),
     };
     ExitCode::from(code)
 }

@@ -7,6 +7,7 @@
 
 pub mod diag;
 pub mod emit;
+pub mod import;
 pub mod interp;
 pub mod logic;
 pub mod model;

@@ -14,10 +14,12 @@
 //!
 //! Inherited group rules are drawn from each member state that actually uses them (the
 //! scope lookup of [`Machine::rules_for`], so a member that overrides an event does not
-//! get the group's edge for it). Drawing them once from the cluster border would be
-//! shorter, but it would be false for members that override the rule, and the SVG
-//! renderer has no cluster-to-node edges; per-member edges read the same in both
-//! outputs and every edge is true of its source state. A rule's trigger is shown as
+//! get the group's edge for it), so that every edge is true of its source state. When
+//! every member of a group uses one of the group's rules for the same events and the
+//! rule leads out of the group, the DOT writer draws it once, from the cluster's border
+//! ([`lifted_group_rules`], Graphviz's `ltail`): in the greenhouse example that turns
+//! four long `WindAlarm` edges into one. The SVG renderer draws node-to-node edges
+//! only, so it keeps the per-member edges. A rule's trigger is shown as
 //! written for the events it governs in that state: its event names (only those for
 //! which scope lookup picks it there), `_` for a wildcard rule, nothing in a clocked
 //! machine. Actions on an edge are the rule's own (`do` list); the leave and enter
@@ -92,9 +94,77 @@ pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     parts.join(" ")
 }
 
+/// A group rule drawn once from its group's cluster (see [`lifted_group_rules`]).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct GroupTransition {
+    /// The group whose cluster the edge leaves.
+    pub group: GroupId,
+    /// The target state, outside the group.
+    pub to: StateId,
+    /// The rules drawn on this edge.
+    pub rules: Vec<RuleId>,
+    /// One [`rule_label`] per rule.
+    pub lines: Vec<String>,
+}
+
+/// The rules of each group that every member state uses for the same (non-empty) set of
+/// events and that lead out of the group: drawing them once from the cluster says the
+/// same as drawing them from every member. Merged per (group, target), groups in
+/// declaration order.
+pub fn lifted_group_rules(m: &Machine) -> Vec<GroupTransition> {
+    let mut out: Vec<GroupTransition> = Vec::new();
+    for (gi, group) in m.groups.iter().enumerate() {
+        let g = GroupId::from_index(gi);
+        let Some(&first) = group.states.first() else {
+            continue;
+        };
+        let own: Vec<RuleId> = (0..m.rules.len())
+            .map(RuleId::from_index)
+            .filter(|r| m.rules[r.index()].scope == crate::model::Scope::Group(g))
+            .collect();
+        for r in own {
+            let crate::model::Target::To(to) = m.rules[r.index()].target else {
+                continue;
+            };
+            if m.group_contains(g, to) {
+                continue;
+            }
+            let events_of = |s: StateId| -> Vec<EventId> {
+                (0..m.events.len())
+                    .map(EventId::from_index)
+                    .filter(|&e| m.rules_for(s, e).is_some_and(|(_, rs)| rs.contains(&r)))
+                    .collect()
+            };
+            let evs = events_of(first);
+            if evs.is_empty() || group.states.iter().any(|&s| events_of(s) != evs) {
+                continue;
+            }
+            let line = rule_label(m, &evs, r);
+            match out.iter_mut().find(|t| t.group == g && t.to == to) {
+                Some(t) => {
+                    t.rules.push(r);
+                    t.lines.push(line);
+                }
+                None => out.push(GroupTransition {
+                    group: g,
+                    to,
+                    rules: vec![r],
+                    lines: vec![line],
+                }),
+            }
+        }
+    }
+    out
+}
+
 /// The edges of the drawing, sources in state order; the edges of one source in the
 /// order of their first rule (events in declaration order, rules in source order).
 pub fn transitions(m: &Machine) -> Vec<Transition> {
+    transitions_except(m, &[])
+}
+
+/// [`transitions`] without the rules in `skip` (those drawn from a cluster instead).
+pub fn transitions_except(m: &Machine, skip: &[RuleId]) -> Vec<Transition> {
     let mut out = Vec::new();
     for si in 0..m.states.len() {
         let s = StateId::from_index(si);
@@ -105,7 +175,7 @@ pub fn transitions(m: &Machine) -> Vec<Transition> {
             let Some((_, rules)) = m.rules_for(s, e) else {
                 continue;
             };
-            for &r in rules {
+            for &r in rules.iter().filter(|r| !skip.contains(r)) {
                 match used.iter_mut().find(|(_, u, _)| *u == r) {
                     Some((_, _, evs)) => evs.push(e),
                     None => used.push((m.target_of(s, r), r, vec![e])),
@@ -276,6 +346,23 @@ mod tests {
             group_header(&m, GroupId(0)),
             ["Running", "emit pump", "enter do start_timer"]
         );
+    }
+
+    #[test]
+    fn group_rules_used_by_every_member_are_lifted() {
+        let m = machine(PUMP);
+        let lifted = lifted_group_rules(&m);
+        // `ManualOff => Idle` is used by both members; `Tick => DryRun` is overridden in
+        // Pumping, so it stays on Draining alone.
+        assert_eq!(lifted.len(), 1);
+        assert_eq!(lifted[0].group, GroupId(0));
+        assert_eq!(m.state_name(lifted[0].to), "Idle");
+        assert_eq!(lifted[0].lines, ["ManualOff"]);
+        let rest = transitions_except(&m, &lifted[0].rules);
+        assert_eq!(rest.len(), 8);
+        assert!(rest
+            .iter()
+            .all(|t| !(m.state_name(t.to) == "Idle" && t.from != StateId(0))));
     }
 
     #[test]

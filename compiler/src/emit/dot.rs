@@ -5,8 +5,9 @@
 //! in bold and, below it, the Moore outputs and enter/leave actions; groups are nested
 //! `cluster_N` subgraphs headed by the group name, its own Moore outputs and its
 //! enter/leave actions; a small point node `start` has an edge into the start state;
-//! terminal states have a double border (`peripheries=2`); each (source, target) pair
-//! is one edge whose label has one left-justified line per rule
+//! terminal states have a double border (`peripheries=2`); a group rule that every
+//! member uses leaves the cluster's border (`ltail`, with `compound=true`); each
+//! (source, target) pair is one edge whose label has one left-justified line per rule
 //! (`event [guard] / outputs; do actions`).
 //!
 //! Node ids are `s<state number>` and cluster ids `cluster_<group number>`, so no name
@@ -15,7 +16,7 @@
 //!
 //! Cost: linear in the size of the drawing ([`super::diagram::transitions`]).
 
-use super::diagram::{group_header, state_detail, transitions};
+use super::diagram::{group_header, lifted_group_rules, state_detail, transitions_except};
 use crate::model::{GroupId, Machine, StateId};
 use std::fmt::Write;
 
@@ -141,7 +142,7 @@ pub fn to_dot(m: &Machine) -> String {
     let _ = writeln!(out, "digraph {} {{", quote(&m.name));
     let _ = writeln!(
         out,
-        "  graph [label=<<b>{}</b>>, labelloc=t, fontname=\"Helvetica\", nodesep=0.5];",
+        "  graph [label=<<b>{}</b>>, labelloc=t, fontname=\"Helvetica\", nodesep=0.5, compound=true];",
         html(&m.name)
     );
     out.push_str(
@@ -151,7 +152,22 @@ pub fn to_dot(m: &Machine) -> String {
     out.push_str("  start [shape=point, width=0.15, label=\"\"];\n");
     write_members(&mut out, m, None, 1);
     let _ = writeln!(out, "  start -> s{};", m.start.index());
-    for t in transitions(m) {
+    let lifted = lifted_group_rules(m);
+    for t in &lifted {
+        // Graphviz clips an edge at the cluster named by `ltail`; the edge starts at the
+        // group's first state.
+        let via = m.groups[t.group.index()].states[0];
+        let _ = writeln!(
+            out,
+            "  s{} -> s{} [ltail=cluster_{}, label={}];",
+            via.index(),
+            t.to.index(),
+            t.group.index(),
+            quote_lines(&t.lines)
+        );
+    }
+    let skip: Vec<_> = lifted.iter().flat_map(|t| t.rules.iter().copied()).collect();
+    for t in transitions_except(m, &skip) {
         let _ = write!(out, "  s{} -> s{}", t.from.index(), t.to.index());
         if t.lines.iter().any(|l| !l.is_empty()) {
             let _ = write!(out, " [label={}]", quote_lines(&t.lines));
@@ -197,7 +213,7 @@ mod tests {
         let dot = to_dot(&ms[0]);
         // Written by hand from the conventions in the module docs.
         let expected = r##"digraph "M" {
-  graph [label=<<b>M</b>>, labelloc=t, fontname="Helvetica", nodesep=0.5];
+  graph [label=<<b>M</b>>, labelloc=t, fontname="Helvetica", nodesep=0.5, compound=true];
   node [shape=box, style=rounded, fontname="Helvetica", fontsize=12];
   edge [fontname="Helvetica", fontsize=10];
   start [shape=point, width=0.15, label=""];
@@ -207,10 +223,10 @@ mod tests {
     s1 [label=<<b>B</b><br/><font point-size="10">on</font>>, peripheries=2];
   }
   start -> s0;
+  s1 -> s0 [ltail=cluster_0, label="Stop\l"];
   s0 -> s1 [label="Go / do beep\l"];
   s0 -> s0 [label="Stop\l"];
   s1 -> s1 [label="Go\l"];
-  s1 -> s0 [label="Stop\l"];
 }
 "##;
         assert_eq!(dot, expected);
