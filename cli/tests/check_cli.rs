@@ -43,7 +43,8 @@ const CLEAN: &str =
 /// One warning (unused input), no error.
 const WARNS: &str = "machine Warns { events Go; inputs spare; start A; state A { Go => stay; } }";
 /// One error (incomplete: Go unhandled in B) and nothing else.
-const ERRS: &str = "machine Errs { events Go; start A; state A { Go => B; } state B { Go => B; } state C { } }";
+const ERRS: &str =
+    "machine Errs { events Go; start A; state A { Go => B; } state B { Go => B; } state C { } }";
 /// The warning silenced by the spec itself.
 const ALLOWED: &str = "#[allow(unused_declaration)]
 machine Allowed { events Go; inputs spare; start A; state A { Go => stay; } }";
@@ -71,7 +72,11 @@ fn exit_codes_and_json_shape() {
     let o = detent(&["check", &errs]);
     assert_eq!(code(&o), 1);
     assert!(stderr(&o).contains("error[incomplete]"), "{}", stderr(&o));
-    assert_eq!(code(&detent(&["check", "--format", "yaml", &clean])), 2, "usage");
+    assert_eq!(
+        code(&detent(&["check", "--format", "yaml", &clean])),
+        2,
+        "usage"
+    );
 
     let o = detent(&["check", "--format", "json", &errs, &warns]);
     assert_eq!(code(&o), 1);
@@ -99,8 +104,14 @@ fn exit_codes_and_json_shape() {
         .flat_map(|m| m["diagnostics"].as_array().into_iter().flatten())
         .filter_map(|d| d["level"].as_str())
         .collect();
-    assert_eq!(errors as usize, levels.iter().filter(|l| **l == "error").count());
-    assert_eq!(warnings as usize, levels.iter().filter(|l| **l == "warning").count());
+    assert_eq!(
+        errors as usize,
+        levels.iter().filter(|l| **l == "error").count()
+    );
+    assert_eq!(
+        warnings as usize,
+        levels.iter().filter(|l| **l == "warning").count()
+    );
     assert_eq!(machines[1]["diagnostics"][0]["lint"], "unused_declaration");
     assert_eq!(machines[1]["diagnostics"][0]["level"], "warning");
 }
@@ -125,7 +136,12 @@ fn deny_warnings_allow_and_spec_attributes() {
         "unused_declaration",
         &warns,
     ]);
-    assert_eq!(code(&o), 0, "--allow silences before --deny promotes: {}", stderr(&o));
+    assert_eq!(
+        code(&o),
+        0,
+        "--allow silences before --deny promotes: {}",
+        stderr(&o)
+    );
     assert_eq!(
         code(&detent(&["check", "--deny", "warnings", &allowed])),
         0,
@@ -142,7 +158,10 @@ fn deny_warnings_allow_and_spec_attributes() {
         2,
         "hard errors cannot be allowed"
     );
-    assert_eq!(code(&detent(&["check", "--allow", "no_such_lint", &warns])), 2);
+    assert_eq!(
+        code(&detent(&["check", "--allow", "no_such_lint", &warns])),
+        2
+    );
     assert_eq!(code(&detent(&["check", "--deny", "naming", &warns])), 2);
 }
 
@@ -155,10 +174,16 @@ fn sarif_for_many_files() {
     assert_eq!(code(&o), 1);
     let v: Value = serde_json::from_str(&stdout(&o)).expect("SARIF is JSON");
     assert_eq!(v["version"], "2.1.0");
-    assert_eq!(v["runs"].as_array().map(Vec::len), Some(1), "one run for all files");
+    assert_eq!(
+        v["runs"].as_array().map(Vec::len),
+        Some(1),
+        "one run for all files"
+    );
     let results = v["runs"][0]["results"].as_array().expect("results");
     assert_eq!(results[0]["ruleId"], "unused_declaration");
-    assert!(results.iter().any(|r| r["ruleId"] == "incomplete" && r["level"] == "error"));
+    assert!(results
+        .iter()
+        .any(|r| r["ruleId"] == "incomplete" && r["level"] == "error"));
     let uris: Vec<&str> = results
         .iter()
         .filter_map(|r| r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"].as_str())
@@ -191,7 +216,11 @@ fn bad_inputs_exit_2() {
     assert_eq!(code(&o), 2);
     assert!(stderr(&o).contains("cannot read"), "{}", stderr(&o));
     let o = detent(&["check", &clean, &missing]);
-    assert_eq!(code(&o), 2, "an unreadable file among good ones still exits 2");
+    assert_eq!(
+        code(&o),
+        2,
+        "an unreadable file among good ones still exits 2"
+    );
 
     let bad_utf8 = d.join("latin1.detent");
     std::fs::write(&bad_utf8, b"machine M { events Caf\xe9; }").expect("write");
@@ -219,9 +248,19 @@ fn draw_and_import_commands() {
         .expect("kiln");
     let o = detent(&["draw", &kiln]);
     assert_eq!(code(&o), 0);
-    assert!(stdout(&o).starts_with("digraph \"Kiln\" {"), "DOT by default");
+    assert!(
+        stdout(&o).starts_with("digraph \"Kiln\" {"),
+        "DOT by default"
+    );
     let out = d.join("kiln.svg");
-    let o = detent(&["draw", &kiln, "--format", "svg", "-o", &out.display().to_string()]);
+    let o = detent(&[
+        "draw",
+        &kiln,
+        "--format",
+        "svg",
+        "-o",
+        &out.display().to_string(),
+    ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert!(stdout(&o).is_empty(), "-o writes the file, not stdout");
     let svg = std::fs::read_to_string(&out).expect("SVG written");

@@ -43,7 +43,12 @@ impl fmt::Display for ImportError {
         match (self.row, self.column) {
             (0, _) => write!(f, "{}", self.message),
             (r, 0) => write!(f, "row {r}: {}", self.message),
-            (r, c) => write!(f, "row {r}, column {c} ({}): {}", column_name(c), self.message),
+            (r, c) => write!(
+                f,
+                "row {r}, column {c} ({}): {}",
+                column_name(c),
+                self.message
+            ),
         }
     }
 }
@@ -51,10 +56,15 @@ impl fmt::Display for ImportError {
 impl std::error::Error for ImportError {}
 
 /// The header record, field by field.
-pub const HEADER: [&str; 7] = ["state", "event", "guard", "next", "mealy", "actions", "moore"];
+pub const HEADER: [&str; 7] = [
+    "state", "event", "guard", "next", "mealy", "actions", "moore",
+];
 
 fn column_name(c: usize) -> &'static str {
-    HEADER.get(c.wrapping_sub(1)).copied().unwrap_or("past the last field")
+    HEADER
+        .get(c.wrapping_sub(1))
+        .copied()
+        .unwrap_or("past the last field")
 }
 
 fn err<T>(row: usize, column: usize, message: impl Into<String>) -> Result<T, ImportError> {
@@ -270,7 +280,10 @@ impl<'a> ExprReader<'a> {
                 return err(
                     row,
                     column,
-                    format!("unexpected `{ch}` at character {} of `{text}`", text[..i].chars().count() + 1),
+                    format!(
+                        "unexpected `{ch}` at character {} of `{text}`",
+                        text[..i].chars().count() + 1
+                    ),
                 );
             }
         }
@@ -391,7 +404,13 @@ struct Names {
 impl Names {
     /// Checks every name in an expression; `Property` also allows outputs, actions and
     /// `in STATE`.
-    fn check_expr(&self, e: &Expr, kind: ExprKind, row: usize, column: usize) -> Result<(), ImportError> {
+    fn check_expr(
+        &self,
+        e: &Expr,
+        kind: ExprKind,
+        row: usize,
+        column: usize,
+    ) -> Result<(), ImportError> {
         match e {
             Expr::Name(n) => {
                 let ok = self.inputs.contains(&n.name)
@@ -403,16 +422,28 @@ impl Names {
                     } else {
                         "input, output or action"
                     };
-                    return err(row, column, format!("`{}` is not a declared {what}", n.name));
+                    return err(
+                        row,
+                        column,
+                        format!("`{}` is not a declared {what}", n.name),
+                    );
                 }
                 Ok(())
             }
             Expr::In(s) => {
                 if kind == ExprKind::Guard {
-                    return err(row, column, "`in STATE` is allowed in properties only, not in guards");
+                    return err(
+                        row,
+                        column,
+                        "`in STATE` is allowed in properties only, not in guards",
+                    );
                 }
                 if !self.states.contains_key(&s.name) {
-                    return err(row, column, format!("`in {}`: no state record lists `{}`", s.name, s.name));
+                    return err(
+                        row,
+                        column,
+                        format!("`in {}`: no state record lists `{}`", s.name, s.name),
+                    );
                 }
                 Ok(())
             }
@@ -425,7 +456,14 @@ impl Names {
         }
     }
 
-    fn check_list(&self, list: &[String], declared: &[String], what: &str, row: usize, column: usize) -> Result<(), ImportError> {
+    fn check_list(
+        &self,
+        list: &[String],
+        declared: &[String],
+        what: &str,
+        row: usize,
+        column: usize,
+    ) -> Result<(), ImportError> {
         for n in list {
             if !declared.contains(n) {
                 return err(row, column, format!("`{n}` is not a declared {what}"));
@@ -437,8 +475,18 @@ impl Names {
 
 /// Declaration keys in the order `docs/table-csv.md` lists them.
 const DECLS: [&str; 12] = [
-    "@machine", "@vis", "@dispatch", "@minimize", "@events", "@inputs", "@outputs", "@actions",
-    "@start", "@unhandled", "@never", "@recover",
+    "@machine",
+    "@vis",
+    "@dispatch",
+    "@minimize",
+    "@events",
+    "@inputs",
+    "@outputs",
+    "@actions",
+    "@start",
+    "@unhandled",
+    "@never",
+    "@recover",
 ];
 
 /// Reads a CSV state table into a syntax tree with one machine (see the module docs).
@@ -451,9 +499,25 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         match header.fields.get(i) {
             Some(f) if f.trim() == *want => {}
             Some(f) => {
-                return err(header.row, i + 1, format!("the header says `{f}` here; expected `{want}` (the header is `{}`)", HEADER.join(",")))
+                return err(
+                    header.row,
+                    i + 1,
+                    format!(
+                        "the header says `{f}` here; expected `{want}` (the header is `{}`)",
+                        HEADER.join(",")
+                    ),
+                )
             }
-            None => return err(header.row, i + 1, format!("the header stops before `{want}`; it is `{}`", HEADER.join(","))),
+            None => {
+                return err(
+                    header.row,
+                    i + 1,
+                    format!(
+                        "the header stops before `{want}`; it is `{}`",
+                        HEADER.join(",")
+                    ),
+                )
+            }
         }
     }
     for r in &records {
@@ -466,14 +530,21 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             return err(
                 r.row,
                 column,
-                format!("{what}: it has {} fields, every row has 7 ({})", r.fields.len(), HEADER.join(",")),
+                format!(
+                    "{what}: it has {} fields, every row has 7 ({})",
+                    r.fields.len(),
+                    HEADER.join(",")
+                ),
             );
         }
     }
     let body = &records[1..];
 
     // Declarations: a prefix of `@` records.
-    let n_decl = body.iter().take_while(|r| r.fields[0].starts_with('@')).count();
+    let n_decl = body
+        .iter()
+        .take_while(|r| r.fields[0].starts_with('@'))
+        .count();
     let (decl_rows, rows) = body.split_at(n_decl);
     let mut seen: HashMap<&str, usize> = HashMap::new();
     let mut name = None;
@@ -490,14 +561,25 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         let value = r.fields[1].trim();
         let row = r.row;
         if !DECLS.contains(&key) {
-            return err(row, 1, format!("unknown declaration `{key}`; the declarations are {}", DECLS.join(", ")));
+            return err(
+                row,
+                1,
+                format!(
+                    "unknown declaration `{key}`; the declarations are {}",
+                    DECLS.join(", ")
+                ),
+            );
         }
         if let Some(c) = (2..7).find(|&c| !r.fields[c].trim().is_empty()) {
             return err(row, c + 1, format!("a `{key}` record has its value in the `event` field and the other fields empty"));
         }
         if key != "@never" && key != "@recover" {
             if let Some(first) = seen.insert(key, row) {
-                return err(row, 1, format!("`{key}` appears twice (first at row {first})"));
+                return err(
+                    row,
+                    1,
+                    format!("`{key}` appears twice (first at row {first})"),
+                );
             }
         }
         match key {
@@ -509,13 +591,25 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
                 vis = match value {
                     "pub" => Vis::Pub,
                     "pub(crate)" => Vis::PubCrate,
-                    _ => return err(row, 2, format!("`@vis` is `pub` or `pub(crate)`, not `{value}`")),
+                    _ => {
+                        return err(
+                            row,
+                            2,
+                            format!("`@vis` is `pub` or `pub(crate)`, not `{value}`"),
+                        )
+                    }
                 }
             }
             "@dispatch" => match value {
                 "match" => attrs.push(Attr::Dispatch(DispatchStyle::Match, Span::call_site())),
                 "table" => attrs.push(Attr::Dispatch(DispatchStyle::Table, Span::call_site())),
-                _ => return err(row, 2, format!("`@dispatch` is `match` or `table`, not `{value}`")),
+                _ => {
+                    return err(
+                        row,
+                        2,
+                        format!("`@dispatch` is `match` or `table`, not `{value}`"),
+                    )
+                }
             },
             "@minimize" => {
                 if !value.is_empty() {
@@ -526,12 +620,19 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             "@events" => {
                 let list = names(value, row, 2, "event")?;
                 if list.is_empty() {
-                    return err(row, 2, "`@events` lists no event; leave the record out for a clocked machine");
+                    return err(
+                        row,
+                        2,
+                        "`@events` lists no event; leave the record out for a clocked machine",
+                    );
                 }
                 events = Some(list);
             }
             "@inputs" | "@outputs" | "@actions" => {
-                let i = ["@inputs", "@outputs", "@actions"].iter().position(|k| *k == key).unwrap_or(0);
+                let i = ["@inputs", "@outputs", "@actions"]
+                    .iter()
+                    .position(|k| *k == key)
+                    .unwrap_or(0);
                 lists[i] = Some(names(value, row, 2, &key[1..key.len() - 1])?);
             }
             "@start" => {
@@ -539,12 +640,19 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
                 start = Some((value.to_owned(), row));
             }
             "@unhandled" => {
-                policy = Some(match value {
-                    "complete" => Policy::Complete,
-                    "ignore" => Policy::Ignore,
-                    "reject" => Policy::Reject,
-                    _ => return err(row, 2, format!("`@unhandled` is `complete`, `ignore` or `reject`, not `{value}`")),
-                })
+                policy =
+                    Some(match value {
+                        "complete" => Policy::Complete,
+                        "ignore" => Policy::Ignore,
+                        "reject" => Policy::Reject,
+                        _ => return err(
+                            row,
+                            2,
+                            format!(
+                                "`@unhandled` is `complete`, `ignore` or `reject`, not `{value}`"
+                            ),
+                        ),
+                    })
             }
             "@never" => nevers.push((value.to_owned(), row)),
             _ => recovers.push((value.to_owned(), row)),
@@ -575,7 +683,11 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     // Names in one namespace must be distinct.
     let mut declared: HashMap<&str, usize> = HashMap::new();
     let decl_row = |key: &str| seen.get(key).copied().unwrap_or(0);
-    for (key, list) in [("@inputs", &inputs), ("@outputs", &outputs), ("@actions", &actions)] {
+    for (key, list) in [
+        ("@inputs", &inputs),
+        ("@outputs", &outputs),
+        ("@actions", &actions),
+    ] {
         for n in list {
             if let Some(first) = declared.insert(n, decl_row(key)) {
                 return err(decl_row(key), 2, format!("`{n}` is declared twice (inputs, outputs and actions share one namespace; first at row {first})"));
@@ -585,7 +697,11 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     if let Some(evs) = &events {
         for (i, e) in evs.iter().enumerate() {
             if evs[..i].contains(e) {
-                return err(decl_row("@events"), 2, format!("event `{e}` is listed twice"));
+                return err(
+                    decl_row("@events"),
+                    2,
+                    format!("event `{e}` is listed twice"),
+                );
             }
         }
     }
@@ -623,15 +739,31 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         let st = f[0].trim();
         check_name(st, row, 1, "state")?;
         if let Some(&i) = names_.states.get(st) {
-            return err(row, 1, format!("state `{st}` has two state records (first at row {})", states[i].row));
+            return err(
+                row,
+                1,
+                format!(
+                    "state `{st}` has two state records (first at row {})",
+                    states[i].row
+                ),
+            );
         }
-        if let Some(c) = [2usize, 4, 5].into_iter().find(|&c| !f[c].trim().is_empty()) {
+        if let Some(c) = [2usize, 4, 5]
+            .into_iter()
+            .find(|&c| !f[c].trim().is_empty())
+        {
             return err(row, c + 1, format!("a state record (empty `event`) has empty `guard`, `mealy` and `actions` fields; `{}` is here", f[c].trim()));
         }
         let terminal = match f[3].trim() {
             "" => false,
             "terminal" => true,
-            other => return err(row, 4, format!("a state record's `next` is `terminal` or empty, not `{other}`")),
+            other => {
+                return err(
+                    row,
+                    4,
+                    format!("a state record's `next` is `terminal` or empty, not `{other}`"),
+                )
+            }
         };
         let moore = names(&f[6], row, 7, "output")?;
         names_.check_list(&moore, &names_.outputs, "output", row, 7)?;
@@ -645,10 +777,18 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         });
     }
     if states.is_empty() {
-        return err(first_row.min(records.len()), 0, "the table has no state records");
+        return err(
+            first_row.min(records.len()),
+            0,
+            "the table has no state records",
+        );
     }
     if !names_.states.contains_key(&start) {
-        return err(start_row, 2, format!("the start state `{start}` has no state record"));
+        return err(
+            start_row,
+            2,
+            format!("the start state `{start}` has no state record"),
+        );
     }
     for r in rows {
         let f = &r.fields;
@@ -663,7 +803,8 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         };
         if !names_.events.iter().any(|e| e == event) {
             let hint = if names_.clocked {
-                "this machine is clocked (no `@events` record), so its one event is `Tick`".to_owned()
+                "this machine is clocked (no `@events` record), so its one event is `Tick`"
+                    .to_owned()
             } else {
                 format!("the events are {}", names_.events.join(", "))
             };
@@ -679,7 +820,13 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         };
         let target = match f[3].trim() {
             "stay" => Target::Stay(Span::call_site()),
-            "" => return err(row, 4, "a rule row's `next` is `stay` or a state name; it is empty"),
+            "" => {
+                return err(
+                    row,
+                    4,
+                    "a rule row's `next` is `stay` or a state name; it is empty",
+                )
+            }
             t if names_.states.contains_key(t) => Target::State(ident(t)),
             t => return err(row, 4, format!("the next state `{t}` has no state record")),
         };
@@ -692,10 +839,14 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         moore.sort();
         want.sort();
         if moore != want {
-            return err(row, 7, format!(
+            return err(
+                row,
+                7,
+                format!(
                 "the Moore outputs `{}` disagree with the state record of `{st}` (row {}: `{}`)",
                 f[6].trim(), states[si].row, states[si].moore.join(" ")
-            ));
+            ),
+            );
         }
         states[si].rules.push(RuleAst {
             trigger: (!names_.clocked).then(|| Trigger::Events(vec![ident(event)])),
@@ -725,7 +876,10 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         decls.push(decl(DeclKind::Events(doc_list(evs))));
     }
     for (list, make) in [
-        (&names_.inputs, DeclKind::Inputs as fn(Vec<DocIdent>) -> DeclKind),
+        (
+            &names_.inputs,
+            DeclKind::Inputs as fn(Vec<DocIdent>) -> DeclKind,
+        ),
         (&names_.outputs, DeclKind::Outputs),
         (&names_.actions, DeclKind::Actions),
     ] {
@@ -794,7 +948,10 @@ pub fn import_spec(text: &str) -> Result<String, ImportError> {
         .map_err(|e| whole(format!("the rebuilt spec does not parse: {}", e.message)))?;
     let (_, errors) = crate::model::resolve_file(&parsed);
     if let Some(d) = errors.first() {
-        return Err(whole(format!("the rebuilt spec has an error: {}", d.message)));
+        return Err(whole(format!(
+            "the rebuilt spec has an error: {}",
+            d.message
+        )));
     }
     Ok(spec)
 }

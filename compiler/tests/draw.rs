@@ -80,7 +80,10 @@ fn run_dot(source: &str, what: &str) -> String {
         .expect("write to dot");
     let out = child.wait_with_output().expect("dot runs");
     let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(out.status.success(), "dot rejected the DOT of {what}: {stderr}\n{source}");
+    assert!(
+        out.status.success(),
+        "dot rejected the DOT of {what}: {stderr}\n{source}"
+    );
     assert!(
         !stderr.contains("Warning") && !stderr.contains("Error"),
         "dot warned about {what}: {stderr}"
@@ -104,10 +107,18 @@ fn check_dot(m: &Machine, what: &str) {
         .collect::<Vec<_>>()
         .join("\n");
     for st in &m.states {
-        assert!(text.contains(&st.name), "{what}: state `{}` drawn by dot", st.name);
+        assert!(
+            text.contains(&st.name),
+            "{what}: state `{}` drawn by dot",
+            st.name
+        );
     }
     for g in &m.groups {
-        assert!(text.contains(&g.name), "{what}: group `{}` drawn by dot", g.name);
+        assert!(
+            text.contains(&g.name),
+            "{what}: group `{}` drawn by dot",
+            g.name
+        );
     }
     let clusters = source.matches("subgraph cluster_").count();
     assert_eq!(clusters, m.groups.len(), "{what}: one cluster per group");
@@ -127,9 +138,15 @@ fn dot_of_nested_groups_is_read_by_graphviz() {
     let source = dot::to_dot(&m);
     // Outer's Halt is used by every member and leaves the group: drawn once from the
     // cluster. Middle's Back is overridden by Inner2 (`Back => stay`): per member.
-    assert!(source.contains("[ltail=cluster_0, label=\"Halt\\l\"]"), "{source}");
+    assert!(
+        source.contains("[ltail=cluster_0, label=\"Halt\\l\"]"),
+        "{source}"
+    );
     assert!(!source.contains("ltail=cluster_1"), "{source}");
-    assert!(source.contains("label=\"Go [a || !b && (a || b)] / x; do f\\l\"]"), "{source}");
+    assert!(
+        source.contains("label=\"Go [a || !b && (a || b)] / x; do f\\l\"]"),
+        "{source}"
+    );
     // Nesting: Core's cluster opens inside Middle's, inside Outer's.
     let outer = source.find("subgraph cluster_0").expect("Outer");
     let middle = source.find("subgraph cluster_1").expect("Middle");

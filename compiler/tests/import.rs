@@ -20,7 +20,11 @@ fn machine(text: &str) -> Machine {
 fn assert_same_behaviour(a: &Machine, b: &Machine, what: &str) {
     let names = |m: &Machine| m.states.iter().map(|s| s.name.clone()).collect::<Vec<_>>();
     assert_eq!(names(a), names(b), "{what}: same states in the same order");
-    assert_eq!(a.state_name(a.start), b.state_name(b.start), "{what}: start");
+    assert_eq!(
+        a.state_name(a.start),
+        b.state_name(b.start),
+        "{what}: start"
+    );
     assert_eq!(a.events.len(), b.events.len(), "{what}: events");
     let inputs: Vec<&str> = a.inputs.iter().map(|i| i.name.as_str()).collect();
     assert!(inputs.len() <= 12, "{what}: few enough inputs to enumerate");
@@ -44,14 +48,31 @@ fn assert_same_behaviour(a: &Machine, b: &Machine, what: &str) {
                 let ra = a.step(s, e, &va);
                 let rb = b.step(s, eb, &vb);
                 let outs = |m: &Machine, o: Vec<detent_compiler::model::OutputId>| -> Vec<String> {
-                    o.iter().map(|o| m.outputs[o.index()].name.clone()).collect()
+                    o.iter()
+                        .map(|o| m.outputs[o.index()].name.clone())
+                        .collect()
                 };
                 let acts = |m: &Machine, r: &detent_compiler::interp::StepResult| -> Vec<String> {
-                    r.actions.iter().map(|x| m.actions[x.index()].name.clone()).collect()
+                    r.actions
+                        .iter()
+                        .map(|x| m.actions[x.index()].name.clone())
+                        .collect()
                 };
-                let ctx = format!("{what}: {} on {} with {va:?}", a.state_name(s), a.event_name(e));
-                assert_eq!(a.state_name(ra.to), b.state_name(rb.to), "{ctx}: next state");
-                assert_eq!(outs(a, ra.outputs()), outs(b, rb.outputs()), "{ctx}: outputs");
+                let ctx = format!(
+                    "{what}: {} on {} with {va:?}",
+                    a.state_name(s),
+                    a.event_name(e)
+                );
+                assert_eq!(
+                    a.state_name(ra.to),
+                    b.state_name(rb.to),
+                    "{ctx}: next state"
+                );
+                assert_eq!(
+                    outs(a, ra.outputs()),
+                    outs(b, rb.outputs()),
+                    "{ctx}: outputs"
+                );
                 assert_eq!(acts(a, &ra), acts(b, &rb), "{ctx}: actions");
                 assert_eq!(ra.handled(), rb.handled(), "{ctx}: handled");
                 assert_eq!(
@@ -79,13 +100,24 @@ fn every_example_round_trips_through_csv() {
         let spec = import_spec(&csv).unwrap_or_else(|e| panic!("{what}: {e}"));
         let imported = machine(&spec);
         assert_same_behaviour(&original, &imported, &what);
-        assert_eq!(original.properties.len(), imported.properties.len(), "{what}");
+        assert_eq!(
+            original.properties.len(),
+            imported.properties.len(),
+            "{what}"
+        );
         assert_eq!(original.policy, imported.policy, "{what}");
         // The imported spec checks clean when the original does, and its table is the
         // same file again (a fixed point after one round).
         let report = detent_compiler::check::check_source("imported.detent", &spec);
-        assert!(!report.has_errors(), "{what}: imported spec has errors:\n{spec}");
-        assert_eq!(to_csv(&imported), csv, "{what}: export of the import is the same table");
+        assert!(
+            !report.has_errors(),
+            "{what}: imported spec has errors:\n{spec}"
+        );
+        assert_eq!(
+            to_csv(&imported),
+            csv,
+            "{what}: export of the import is the same table"
+        );
         n += 1;
     }
     assert!(n >= 6, "every example was tried");
@@ -117,7 +149,10 @@ fn the_documented_example_imports() {
     assert_eq!(m.name, "Tank");
     assert_eq!(m.states.len(), 3);
     assert!(m.states[2].terminal);
-    assert!(spec.contains("Fill if !(full || leak) => Filling;"), "{spec}");
+    assert!(
+        spec.contains("Fill if !(full || leak) => Filling;"),
+        "{spec}"
+    );
     assert!(spec.contains("never in Filling && alarm;"), "{spec}");
     assert!(spec.contains("recover to Empty except Broken;"), "{spec}");
     // LF line ends and a byte-order mark are accepted too.
@@ -152,31 +187,68 @@ fn bad_tables_are_reported_at_row_and_column() {
     assert!(e.message.contains("unknown declaration `@eventz`"), "{e}");
     // Bad quoting: a quote inside an unquoted field, text after a closing quote, and a
     // quoted field never closed.
-    assert_eq!(at(error(&with_row(12, "Empty,Fill,!(fu\"ll),Filling,,,"))), (12, 3));
-    assert_eq!(at(error(&with_row(12, "Empty,\"Fill\"x,,Filling,,,"))), (12, 2));
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill,!(fu\"ll),Filling,,,"))),
+        (12, 3)
+    );
+    assert_eq!(
+        at(error(&with_row(12, "Empty,\"Fill\"x,,Filling,,,"))),
+        (12, 2)
+    );
     let e = error(&with_row(17, "Broken,,,terminal,,,\"alarm"));
     assert_eq!(at(e.clone()), (17, 7), "{e}");
     assert!(e.message.contains("not closed"), "{e}");
     // Duplicate state record.
     let e = error(&with_row(14, "Empty,,,,,,"));
     assert_eq!(at(e.clone()), (14, 1), "{e}");
-    assert!(e.message.contains("two state records (first at row 11)"), "{e}");
+    assert!(
+        e.message.contains("two state records (first at row 11)"),
+        "{e}"
+    );
     // Names that are not declared, where they are used.
     assert_eq!(at(error(&with_row(12, "Empty,Fil,,Filling,,,"))), (12, 2));
-    assert_eq!(at(error(&with_row(12, "Empty,Fill,ful,Filling,,,"))), (12, 3));
-    assert_eq!(at(error(&with_row(12, "Empty,Fill,full &&,Filling,,,"))), (12, 3));
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill,ful,Filling,,,"))),
+        (12, 3)
+    );
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill,full &&,Filling,,,"))),
+        (12, 3)
+    );
     assert_eq!(at(error(&with_row(12, "Empty,Fill,,Nowhere,,,"))), (12, 4));
-    assert_eq!(at(error(&with_row(12, "Empty,Fill,,Filling,valve2,,"))), (12, 5));
-    assert_eq!(at(error(&with_row(12, "Empty,Fill,,Filling,,lg,"))), (12, 6));
-    assert_eq!(at(error(&with_row(15, "Filling,Fill,full,stay,,,alarm"))), (15, 7));
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill,,Filling,valve2,,"))),
+        (12, 5)
+    );
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill,,Filling,,lg,"))),
+        (12, 6)
+    );
+    assert_eq!(
+        at(error(&with_row(15, "Filling,Fill,full,stay,,,alarm"))),
+        (15, 7)
+    );
     assert_eq!(at(error(&with_row(9, "@never,in Nowhere,,,,,"))), (9, 2));
     assert_eq!(at(error(&with_row(7, "@start,Nowhere,,,,,"))), (7, 2));
-    assert_eq!(at(error(&with_row(2, "@machine,type,,,,,"))), (2, 2), "a keyword");
-    assert_eq!(at(error(&with_row(1, "state,event,guard,next,mealy,action,moore"))), (1, 6));
+    assert_eq!(
+        at(error(&with_row(2, "@machine,type,,,,,"))),
+        (2, 2),
+        "a keyword"
+    );
+    assert_eq!(
+        at(error(&with_row(
+            1,
+            "state,event,guard,next,mealy,action,moore"
+        ))),
+        (1, 6)
+    );
     // A missing declaration is reported at the first state record.
     assert_eq!(at(error(&with_row(7, ""))), (11, 1));
     // A lone carriage return.
-    assert_eq!(at(error(&with_row(12, "Empty,Fill\r,,Filling,,,"))), (12, 2));
+    assert_eq!(
+        at(error(&with_row(12, "Empty,Fill\r,,Filling,,,"))),
+        (12, 2)
+    );
     assert_eq!(at(error("")), (0, 0));
 }
 
@@ -184,13 +256,17 @@ fn bad_tables_are_reported_at_row_and_column() {
 fn csv_reader_follows_rfc_4180() {
     // RFC 4180, section 2: quoted fields may hold commas, doubled quotes and line
     // breaks; a final record end is optional.
-    let recs = parse_csv("a,\"b,c\",\"say \"\"hi\"\"\"\r\n\"two\nlines\",,\"\"\nlast,x,y").expect("parses");
+    let recs = parse_csv("a,\"b,c\",\"say \"\"hi\"\"\"\r\n\"two\nlines\",,\"\"\nlast,x,y")
+        .expect("parses");
     assert_eq!(recs.len(), 3);
     assert_eq!(recs[0].fields, ["a", "b,c", "say \"hi\""]);
     assert_eq!(recs[1].fields, ["two\nlines", "", ""]);
     assert_eq!(recs[1].row, 2);
     assert_eq!(recs[2].fields, ["last", "x", "y"]);
-    assert_eq!(recs[2].row, 3, "a line break inside quotes does not start a row");
+    assert_eq!(
+        recs[2].row, 3,
+        "a line break inside quotes does not start a row"
+    );
 }
 
 #[test]

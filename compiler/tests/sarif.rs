@@ -35,7 +35,10 @@ fn fix_patterns(v: &mut Value) -> usize {
 
 fn validate(log: &Value) {
     let errors = schema_errors(log);
-    assert!(errors.is_empty(), "SARIF log violates the 2.1.0 schema: {errors:#?}");
+    assert!(
+        errors.is_empty(),
+        "SARIF log violates the 2.1.0 schema: {errors:#?}"
+    );
 }
 
 fn schema_errors(log: &Value) -> Vec<String> {
@@ -47,7 +50,10 @@ fn schema_errors(log: &Value) -> Vec<String> {
     // published.
     let mut schema = schema();
     let fixed = fix_patterns(&mut schema);
-    assert_eq!(fixed, 2, "the known flaw is in the two `language` properties");
+    assert_eq!(
+        fixed, 2,
+        "the known flaw is in the two `language` properties"
+    );
     let validator = jsonschema::draft4::new(&schema).expect("the SARIF schema compiles");
     validator
         .iter_errors(log)
@@ -94,7 +100,10 @@ fn log_validates_against_the_schema() {
     // And the validator does reject what the standard forbids.
     let mut bad = log.clone();
     bad["runs"][0]["results"][0]["level"] = Value::from("fatal");
-    assert!(!schema_errors(&bad).is_empty(), "an unknown level is rejected");
+    assert!(
+        !schema_errors(&bad).is_empty(),
+        "an unknown level is rejected"
+    );
     let mut bad = log.clone();
     bad["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["region"]["startLine"] =
         Value::from(0);
@@ -116,7 +125,9 @@ fn log_carries_rules_results_locations_and_witnesses() {
     for (i, lint) in Lint::ALL.iter().enumerate() {
         assert_eq!(rules[i]["id"], lint.name());
         assert_eq!(rules[i]["shortDescription"]["text"], lint.summary());
-        assert!(rules[i]["help"]["text"].as_str().is_some_and(|t| t.len() > 20));
+        assert!(rules[i]["help"]["text"]
+            .as_str()
+            .is_some_and(|t| t.len() > 20));
         assert_eq!(
             rules[i]["defaultConfiguration"]["level"],
             lint.default_severity().name()
@@ -131,7 +142,9 @@ fn log_carries_rules_results_locations_and_witnesses() {
         assert_eq!(rules[idx]["id"], id, "ruleIndex points at the rule");
         assert!(matches!(res["level"].as_str(), Some("error" | "warning")));
         let loc = &res["locations"][0]["physicalLocation"];
-        assert!(loc["artifactLocation"]["uri"].as_str().is_some_and(|u| u.starts_with("specs/")));
+        assert!(loc["artifactLocation"]["uri"]
+            .as_str()
+            .is_some_and(|u| u.starts_with("specs/")));
     }
     let find = |id: &str| {
         results
@@ -149,7 +162,10 @@ fn log_carries_rules_results_locations_and_witnesses() {
         9
     );
     let text = overlap["message"]["text"].as_str().unwrap_or_default();
-    assert!(text.contains("a = true, b = true"), "witness in the message: {text}");
+    assert!(
+        text.contains("a = true, b = true"),
+        "witness in the message: {text}"
+    );
     assert_eq!(overlap["properties"]["witness"]["a"], true);
     // Incomplete: Idle on Stop, and Busy on Go.
     assert!(results
@@ -168,7 +184,10 @@ fn log_carries_rules_results_locations_and_witnesses() {
         "specs/broken.detent"
     );
     let artifacts = runs[0]["artifacts"].as_array().expect("artifacts");
-    assert_eq!(artifacts[1]["location"]["uri"], "specs/other%20dir/ok.detent");
+    assert_eq!(
+        artifacts[1]["location"]["uri"],
+        "specs/other%20dir/ok.detent"
+    );
 }
 
 #[test]

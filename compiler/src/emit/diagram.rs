@@ -376,7 +376,10 @@ mod tests {
         assert_eq!(d.nodes[0].cluster, None);
         assert!(d.nodes[3].terminal && !d.nodes[0].terminal);
         assert_eq!(d.nodes[3].detail, ["alarm"]);
-        assert_eq!(d.clusters[0].name, "Running · emit pump · enter do start_timer");
+        assert_eq!(
+            d.clusters[0].name,
+            "Running · emit pump · enter do start_timer"
+        );
         assert_eq!(d.start, Some(0));
         assert_eq!(d.edges.len(), 10);
         assert_eq!(

@@ -75,11 +75,7 @@ pub fn html(text: &str) -> String {
 fn html_label(head: &str, rest: &[String]) -> String {
     let mut out = format!("<<b>{}</b>", html(head));
     for line in rest {
-        let _ = write!(
-            out,
-            "<br/><font point-size=\"10\">{}</font>",
-            html(line)
-        );
+        let _ = write!(out, "<br/><font point-size=\"10\">{}</font>", html(line));
     }
     out.push('>');
     out
@@ -166,7 +162,10 @@ pub fn to_dot(m: &Machine) -> String {
             quote_lines(&t.lines)
         );
     }
-    let skip: Vec<_> = lifted.iter().flat_map(|t| t.rules.iter().copied()).collect();
+    let skip: Vec<_> = lifted
+        .iter()
+        .flat_map(|t| t.rules.iter().copied())
+        .collect();
     for t in transitions_except(m, &skip) {
         let _ = write!(out, "  s{} -> s{}", t.from.index(), t.to.index());
         if t.lines.iter().any(|l| !l.is_empty()) {
