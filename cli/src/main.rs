@@ -8,6 +8,8 @@ mod cmd_gen_c;
 mod cmd_equiv;
 mod cmd_minimize;
 mod cmd_tour;
+mod cmd_draw;
+mod cmd_import;
 mod commands;
 mod io;
 
@@ -125,6 +127,29 @@ enum Command {
         #[arg(long, value_enum, default_value_t = cmd_equiv::PlainFormat::Text)]
         format: cmd_equiv::PlainFormat,
     },
+    /// Draw the state diagram as Graphviz DOT or as SVG (drawn by detent itself).
+    Draw {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Diagram format.
+        #[arg(long, value_enum, default_value_t = cmd_draw::DrawFormat::Dot)]
+        format: cmd_draw::DrawFormat,
+        /// Write here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT")]
+        out: Option<PathBuf>,
+    },
+    /// Read a state table in the CSV form of `table --format csv` back into a spec.
+    Import {
+        /// The CSV file (`-` for standard input).
+        #[arg(value_name = "TABLE.csv")]
+        table: PathBuf,
+        /// Write the spec here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT.detent")]
+        out: Option<PathBuf>,
+    },
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -177,6 +202,13 @@ fn main() -> ExitCode {
             machine,
             format,
         } => cmd_tour::tour(&file, machine.as_deref(), format),
+        Command::Draw {
+            file,
+            machine,
+            format,
+            out,
+        } => cmd_draw::draw(&file, machine.as_deref(), format, out.as_deref()),
+        Command::Import { table, out } => cmd_import::import(&table, out.as_deref()),
     };
     ExitCode::from(code)
 }

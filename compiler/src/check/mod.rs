@@ -13,6 +13,7 @@
 
 pub mod property;
 pub mod render;
+pub mod sarif;
 
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::model::graph::{strongly_connected, CellEvents};
