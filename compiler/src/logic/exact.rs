@@ -329,22 +329,50 @@ impl Search<'_> {
         }
     }
 
-    /// Lower bound on the cost still to pay: rows that pairwise share no alive column
-    /// need distinct columns, each at least its cheapest alive column.
+    /// Lower bound on the cost still to pay, the larger of two classic bounds:
+    /// * rows that pairwise share no alive column need distinct columns, each costing at
+    ///   least that row's cheapest alive column (independent-set bound);
+    /// * every row pays at least the smallest share `cost(c) / alive rows of c` over its
+    ///   columns, since a cover's cost splits over the rows its columns cover
+    ///   (fractional bound).
     fn lower_bound(&self, state: &State) -> u64 {
         let m = self.matrix;
-        let mut order: Vec<usize> = (0..m.row_cols.len())
-            .filter(|&r| state.row_alive[r])
-            .collect();
-        order.sort_by_key(|&r| {
-            m.row_cols[r]
+        let alive_rows_of = |c: usize| {
+            m.col_rows[c]
                 .iter()
-                .filter(|&&c| state.col_alive[c as usize])
+                .filter(|&&r| state.row_alive[r as usize])
                 .count()
-        });
+        };
+        let share: Vec<f64> = (0..m.col_rows.len())
+            .map(|c| {
+                if state.col_alive[c] {
+                    m.col_cost[c] as f64 / alive_rows_of(c).max(1) as f64
+                } else {
+                    f64::INFINITY
+                }
+            })
+            .collect();
+        let mut order: Vec<(usize, usize)> = Vec::new();
+        let mut fractional = 0f64;
+        for r in 0..m.row_cols.len() {
+            if !state.row_alive[r] {
+                continue;
+            }
+            let mut degree = 0;
+            let mut least = f64::INFINITY;
+            for &c in &m.row_cols[r] {
+                if state.col_alive[c as usize] {
+                    degree += 1;
+                    least = least.min(share[c as usize]);
+                }
+            }
+            fractional += least;
+            order.push((degree, r));
+        }
+        order.sort_unstable();
         let mut used = vec![false; m.col_rows.len()];
-        let mut bound = 0;
-        for r in order {
+        let mut independent = 0;
+        for (_, r) in order {
             let cols = || {
                 m.row_cols[r]
                     .iter()
@@ -354,12 +382,14 @@ impl Search<'_> {
             if cols().any(|c| used[c]) {
                 continue;
             }
-            bound += cols().map(|c| m.col_cost[c]).min().unwrap_or(0);
+            independent += cols().map(|c| m.col_cost[c]).min().unwrap_or(0);
             for c in cols() {
                 used[c] = true;
             }
         }
-        bound
+        // Round the fractional bound up, allowing for float error.
+        let fractional = (fractional - 1e-6).ceil().max(0.0) as u64;
+        independent.max(fractional)
     }
 
     fn branch(&mut self, mut state: State) {

@@ -21,6 +21,8 @@
 //! (literals, then products). The result is a prime and irredundant cover, not
 //! necessarily a minimum. The tautology check is the unate-recursive one as well.
 
+use std::collections::HashSet;
+
 use super::cube::Cube;
 use super::exact::CoverCost;
 
@@ -138,33 +140,28 @@ pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
     merge_halves(bit, comp_neg, comp_pos)
 }
 
-/// `x'·A + x·B`, with cubes common to both halves keeping no literal of `x`, and cubes
-/// of one half contained in a cube of the other also lifted.
+/// `x'·A + x·B`, with cubes common to both halves (found by hashing) keeping no literal
+/// of `x`. Single-cube containment is removed only while the halves are small (it is
+/// quadratic); a few contained cubes in an off-set cost time, not correctness.
 fn merge_halves(bit: u64, neg: Vec<Cube>, pos: Vec<Cube>) -> Vec<Cube> {
+    let in_pos: HashSet<Cube> = pos.iter().copied().collect();
+    let in_neg: HashSet<Cube> = neg.iter().copied().collect();
     let mut out = Vec::with_capacity(neg.len() + pos.len());
-    let mut pos_used = vec![false; pos.len()];
     for a in &neg {
-        if let Some(j) = pos.iter().position(|b| b == a) {
-            pos_used[j] = true;
-            out.push(*a);
-        } else if pos.iter().any(|b| b.contains(a)) {
-            // a lies in both halves' complements: lift it.
+        if in_pos.contains(a) {
             out.push(*a);
         } else {
             out.push(Cube::new(a.value, a.care | bit));
         }
     }
-    for (j, b) in pos.iter().enumerate() {
-        if pos_used[j] {
-            continue;
-        }
-        if neg.iter().any(|a| a.contains(b)) {
-            out.push(*b);
-        } else {
+    for b in &pos {
+        if !in_neg.contains(b) {
             out.push(Cube::new(b.value | bit, b.care | bit));
         }
     }
-    remove_contained(&mut out);
+    if out.len() <= 512 {
+        remove_contained(&mut out);
+    }
     out
 }
 
