@@ -10,4 +10,5 @@ pub mod interp;
 pub mod logic;
 pub mod model;
 pub mod syntax;
+pub mod trace;
 pub mod check;

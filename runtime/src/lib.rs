@@ -76,6 +76,12 @@
 //! on_transition(State::Idle, Event::FloatUp, State::Pumping);
 //! ```
 //!
+//! With `defmt` on, defmt's derive fills the never-called `Format::format` method
+//! with `unreachable!()` (defmt calls `_format_tag`/`_format_data` instead), so a
+//! scan of the whole crate's assembly finds a panic there; check panic-freedom from
+//! the entry points (`step`, `restore`) instead, as `detent-tests`' harness does with
+//! `NoStdReport::check_entry_points`.
+//!
 //! The expansions never contain `unsafe` written in the user's crate, so they work in
 //! a `#![forbid(unsafe_code)]` crate. Both macros assume the runtime is reachable as
 //! `::detent` (the serde attribute takes a string path, which cannot use `$crate`).

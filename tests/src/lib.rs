@@ -1,1 +1,75 @@
-//! Shared helpers for the workspace-level tests.
+//! Shared helpers for the workspace-level tests: a random spec generator, the
+//! no_std / panic-free build harness, and where to find the Python reference tools.
+
+pub mod gen;
+pub mod nostd;
+
+use std::path::{Path, PathBuf};
+
+/// The workspace root (the directory holding the top-level `Cargo.toml`).
+pub fn workspace_root() -> PathBuf {
+    let manifest_dir = Path::new(env!("CARGO_MANIFEST_DIR"));
+    // This crate lives at `<root>/tests`.
+    manifest_dir
+        .parent()
+        .map_or_else(|| manifest_dir.to_path_buf(), Path::to_path_buf)
+}
+
+/// The Python interpreter for external-reference tests: `$DETENT_PYTHON` if set,
+/// else `<workspace root>/.venv/bin/python` if it exists, else an error telling the
+/// reader to run `scripts/test.sh` (tests must fail on it, never skip).
+pub fn python() -> Result<PathBuf, String> {
+    python_from(
+        std::env::var_os("DETENT_PYTHON").map(PathBuf::from),
+        &workspace_root(),
+    )
+}
+
+fn python_from(from_env: Option<PathBuf>, root: &Path) -> Result<PathBuf, String> {
+    if let Some(path) = from_env.filter(|p| !p.as_os_str().is_empty()) {
+        return if path.exists() {
+            Ok(path)
+        } else {
+            Err(format!(
+                "DETENT_PYTHON is set to {}, which does not exist; fix it or run scripts/test.sh to install the test environment",
+                path.display()
+            ))
+        };
+    }
+    let venv = root.join(".venv").join("bin").join("python");
+    if venv.exists() {
+        return Ok(venv);
+    }
+    Err(format!(
+        "no Python found: DETENT_PYTHON is not set and {} does not exist; run scripts/test.sh to install the test environment",
+        venv.display()
+    ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn workspace_root_holds_the_workspace_manifest() {
+        let manifest = std::fs::read_to_string(workspace_root().join("Cargo.toml")).unwrap();
+        assert!(manifest.contains("[workspace]"));
+    }
+
+    #[test]
+    fn python_prefers_the_env_var_then_the_venv_then_fails_with_advice() {
+        let dir = std::env::temp_dir().join(format!("detent-python-{}", std::process::id()));
+        let bin = dir.join(".venv").join("bin");
+        std::fs::create_dir_all(&bin).unwrap();
+        let missing = python_from(None, &dir).unwrap_err();
+        assert!(missing.contains("run scripts/test.sh"), "{missing}");
+        std::fs::write(bin.join("python"), "").unwrap();
+        assert_eq!(python_from(None, &dir).unwrap(), bin.join("python"));
+        let chosen = dir.join("chosen-python");
+        std::fs::write(&chosen, "").unwrap();
+        assert_eq!(python_from(Some(chosen.clone()), &dir).unwrap(), chosen);
+        let bad = python_from(Some(dir.join("nope")), &dir).unwrap_err();
+        assert!(bad.contains("scripts/test.sh"), "{bad}");
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}

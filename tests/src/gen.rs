@@ -1,0 +1,359 @@
+//! A generator of random, well-formed machine specs for differential testing.
+//!
+//! Every spec it writes resolves and has no checker errors: each scope's rules for
+//! one trigger split the input space into an exact partition (so rules never
+//! overlap), and under `unhandled complete` every partition is whole and every
+//! (state, event) finds a scope with rules. Under `ignore` and `reject` parts of a
+//! partition are dropped at random, so uncovered valuations occur. Specs exercise
+//! guards over a few inputs, `A | B` triggers, `_`, nested groups with inherited rules
+//! and Moore outputs, enter/leave actions, Mealy outputs, `stay` and external
+//! self-transitions, and clocked machines.
+//!
+//! Seeded and reproducible: the same seed and config give the same text.
+
+use std::fmt::Write;
+
+/// A small deterministic random number generator (SplitMix64).
+#[derive(Clone, Debug)]
+pub struct Rng(u64);
+
+impl Rng {
+    /// A generator from a seed.
+    pub fn new(seed: u64) -> Self {
+        Rng(seed ^ 0x9E37_79B9_7F4A_7C15)
+    }
+
+    /// The next 64 random bits.
+    pub fn next_u64(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+
+    /// A number in `0..n` (`n > 0`).
+    pub fn below(&mut self, n: usize) -> usize {
+        (self.next_u64() % n.max(1) as u64) as usize
+    }
+
+    /// True with probability `p`.
+    pub fn chance(&mut self, p: f64) -> bool {
+        (self.next_u64() >> 11) as f64 / ((1u64 << 53) as f64) < p
+    }
+
+    /// A number in `lo..=hi`.
+    pub fn range(&mut self, lo: usize, hi: usize) -> usize {
+        lo + self.below(hi - lo + 1)
+    }
+}
+
+/// What kind of spec to generate.
+#[derive(Clone, Debug)]
+pub struct GenConfig {
+    /// Fewest and most states.
+    pub states: (usize, usize),
+    /// Number of events (0 makes a clocked machine).
+    pub events: usize,
+    /// Number of inputs.
+    pub inputs: usize,
+    /// Number of outputs.
+    pub outputs: usize,
+    /// Number of actions.
+    pub actions: usize,
+    /// Allow groups (nested up to three deep).
+    pub groups: bool,
+    /// `None`: pick a policy at random.
+    pub policy: Option<&'static str>,
+}
+
+impl Default for GenConfig {
+    fn default() -> Self {
+        GenConfig {
+            states: (2, 8),
+            events: 3,
+            inputs: 2,
+            outputs: 2,
+            actions: 2,
+            groups: true,
+            policy: None,
+        }
+    }
+}
+
+/// A scope in the generated member tree.
+enum Node {
+    State(usize),
+    Group(usize, Vec<Node>),
+}
+
+/// Generates one spec named `Random<seed>`.
+pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
+    let mut rng = Rng::new(seed);
+    let n_states = rng.range(cfg.states.0.max(1), cfg.states.1.max(cfg.states.0.max(1)));
+    let policy = cfg
+        .policy
+        .unwrap_or(["complete", "ignore", "reject"][rng.below(3)]);
+    let clocked = cfg.events == 0;
+    let events: Vec<String> = (0..cfg.events).map(|i| format!("Ev{i}")).collect();
+    let inputs: Vec<String> = (0..cfg.inputs).map(|i| format!("in{i}")).collect();
+    let outputs: Vec<String> = (0..cfg.outputs).map(|i| format!("out{i}")).collect();
+    let actions: Vec<String> = (0..cfg.actions).map(|i| format!("act{i}")).collect();
+
+    // Member tree: states in order, some wrapped in groups.
+    let mut n_groups = 0usize;
+    let tree = build_tree(&mut rng, 0, n_states, cfg.groups, 0, &mut n_groups);
+
+    let mut g = Gen {
+        rng,
+        policy,
+        clocked,
+        events,
+        inputs,
+        outputs,
+        actions,
+        n_states,
+        out: String::new(),
+    };
+    let mut s = String::new();
+    let _ = writeln!(s, "#[allow(unreachable_state, dead_end, unused_declaration)]");
+    let _ = writeln!(s, "pub machine Random{seed} {{");
+    if !clocked {
+        let _ = writeln!(s, "    events {};", g.events.join(", "));
+    }
+    if !g.inputs.is_empty() {
+        let _ = writeln!(s, "    inputs {};", g.inputs.join(", "));
+    }
+    if !g.outputs.is_empty() {
+        let _ = writeln!(s, "    outputs {};", g.outputs.join(", "));
+    }
+    if !g.actions.is_empty() {
+        let _ = writeln!(s, "    actions {};", g.actions.join(", "));
+    }
+    let _ = writeln!(s, "    start S0;");
+    let _ = writeln!(s, "    unhandled {policy};");
+    g.out = s;
+    for node in &tree {
+        g.node(node, 1, false);
+    }
+    g.out.push_str("}\n");
+    g.out
+}
+
+fn build_tree(
+    rng: &mut Rng,
+    lo: usize,
+    hi: usize,
+    groups: bool,
+    depth: usize,
+    n_groups: &mut usize,
+) -> Vec<Node> {
+    let mut out = Vec::new();
+    let mut i = lo;
+    while i < hi {
+        if groups && depth < 3 && hi - i >= 2 && rng.chance(0.3) {
+            let len = rng.range(1, (hi - i).min(4));
+            let id = *n_groups;
+            *n_groups += 1;
+            let inner = build_tree(rng, i, i + len, groups, depth + 1, n_groups);
+            out.push(Node::Group(id, inner));
+            i += len;
+        } else {
+            out.push(Node::State(i));
+            i += 1;
+        }
+    }
+    out
+}
+
+struct Gen {
+    rng: Rng,
+    policy: &'static str,
+    clocked: bool,
+    events: Vec<String>,
+    inputs: Vec<String>,
+    outputs: Vec<String>,
+    actions: Vec<String>,
+    n_states: usize,
+    out: String,
+}
+
+impl Gen {
+    fn indent(&mut self, level: usize) {
+        for _ in 0..level {
+            self.out.push_str("    ");
+        }
+    }
+
+    fn pick_some(&mut self, names: &[String], p: f64) -> Vec<String> {
+        names
+            .iter()
+            .filter(|_| self.rng.chance(p))
+            .cloned()
+            .collect()
+    }
+
+    /// An exact partition of the input space as guard texts (`None` = always).
+    fn partition(&mut self) -> Vec<Option<String>> {
+        let n = self.inputs.len();
+        if n == 0 || self.rng.chance(0.35) {
+            return vec![None];
+        }
+        let x = self.inputs[self.rng.below(n)].clone();
+        let y = self.inputs[self.rng.below(n)].clone();
+        match self.rng.below(4) {
+            0 => vec![Some(x.clone()), Some(format!("!{x}"))],
+            1 if x != y => vec![
+                Some(format!("{x} && {y}")),
+                Some(format!("{x} && !{y}")),
+                Some(format!("!{x}")),
+            ],
+            2 if x != y => vec![
+                Some(format!("{x} || {y}")),
+                Some(format!("!({x} || {y})")),
+            ],
+            _ => vec![Some(format!("!!{x}")), Some(format!("!{x}"))],
+        }
+    }
+
+    /// Writes the rules of one trigger: one rule per part of a partition.
+    fn rules(&mut self, trigger: &str, level: usize) {
+        let parts = self.partition();
+        for guard in parts {
+            if self.policy != "complete" && self.rng.chance(0.25) {
+                continue;
+            }
+            let target = if self.rng.chance(0.2) {
+                "stay".to_string()
+            } else {
+                format!("S{}", self.rng.below(self.n_states))
+            };
+            let outputs = self.outputs.clone();
+            let actions = self.actions.clone();
+            let emit = self.pick_some(&outputs, 0.25);
+            let act = self.pick_some(&actions, 0.3);
+            self.indent(level);
+            let mut line = String::new();
+            if !trigger.is_empty() {
+                line.push_str(trigger);
+                line.push(' ');
+            }
+            if let Some(g) = guard {
+                let _ = write!(line, "if {g} ");
+            }
+            let _ = write!(line, "=> {target}");
+            if !emit.is_empty() {
+                let _ = write!(line, ", emit {}", emit.join(", "));
+            }
+            if !act.is_empty() {
+                let _ = write!(line, ", do {}", act.join(", "));
+            }
+            line.push_str(";\n");
+            self.out.push_str(&line);
+        }
+    }
+
+    /// Writes a scope's rules. `must_cover`: every event needs a rule here (no
+    /// enclosing scope provides one).
+    fn scope_rules(&mut self, level: usize, must_cover: bool, is_group: bool) -> bool {
+        if self.clocked {
+            let write = must_cover || self.rng.chance(if is_group { 0.5 } else { 0.7 });
+            if write {
+                self.rules("", level);
+            }
+            return write;
+        }
+        let p = if is_group { 0.3 } else { 0.6 };
+        let mut handled: Vec<usize> = (0..self.events.len())
+            .filter(|_| self.rng.chance(p))
+            .collect();
+        // A `_` rule covers the rest; otherwise, when coverage is required here, name
+        // every event.
+        let wildcard = self.rng.chance(0.3);
+        if must_cover && !wildcard {
+            handled = (0..self.events.len()).collect();
+        }
+        let mut i = 0;
+        while i < handled.len() {
+            let take = if i + 1 < handled.len() && self.rng.chance(0.3) { 2 } else { 1 };
+            let trig: Vec<String> = handled[i..i + take]
+                .iter()
+                .map(|&e| self.events[e].clone())
+                .collect();
+            self.rules(&trig.join(" | "), level);
+            i += take;
+        }
+        if wildcard && handled.len() < self.events.len() {
+            self.rules("_", level);
+            return true;
+        }
+        handled.len() == self.events.len()
+    }
+
+    fn enter_leave(&mut self, level: usize) {
+        let actions = self.actions.clone();
+        for kw in ["enter", "leave"] {
+            if self.rng.chance(0.25) {
+                let list = self.pick_some(&actions, 0.5);
+                if !list.is_empty() {
+                    self.indent(level);
+                    let _ = writeln!(self.out, "{kw} do {};", list.join(", "));
+                }
+            }
+        }
+    }
+
+    /// `covered`: an enclosing group covers every event.
+    fn node(&mut self, node: &Node, level: usize, covered: bool) {
+        let outputs = self.outputs.clone();
+        match node {
+            Node::State(i) => {
+                let emit = self.pick_some(&outputs, 0.3);
+                self.indent(level);
+                let terminal = if self.rng.chance(0.05) { "terminal " } else { "" };
+                let _ = write!(self.out, "{terminal}state S{i}");
+                if !emit.is_empty() {
+                    let _ = write!(self.out, " emit {}", emit.join(", "));
+                }
+                self.out.push_str(" {\n");
+                self.enter_leave(level + 1);
+                let must = !covered && self.policy == "complete";
+                self.scope_rules(level + 1, must, false);
+                self.indent(level);
+                self.out.push_str("}\n");
+            }
+            Node::Group(id, members) => {
+                let emit = self.pick_some(&outputs, 0.3);
+                self.indent(level);
+                let _ = write!(self.out, "group G{id}");
+                if !emit.is_empty() {
+                    let _ = write!(self.out, " emit {}", emit.join(", "));
+                }
+                self.out.push_str(" {\n");
+                self.enter_leave(level + 1);
+                let full = self.scope_rules(level + 1, false, true);
+                for m in members {
+                    self.node(m, level + 1, covered || full);
+                }
+                self.indent(level);
+                self.out.push_str("}\n");
+            }
+        }
+    }
+}
+
+/// A random trace for a machine: `len` steps of (event number, input values).
+pub fn random_trace(
+    rng: &mut Rng,
+    n_events: usize,
+    n_inputs: usize,
+    len: usize,
+) -> Vec<(usize, Vec<bool>)> {
+    (0..len)
+        .map(|_| {
+            let e = rng.below(n_events.max(1));
+            let ins = (0..n_inputs).map(|_| rng.chance(0.5)).collect();
+            (e, ins)
+        })
+        .collect()
+}
