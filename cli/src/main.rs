@@ -4,6 +4,7 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
+mod cmd_gen_rust;
 mod commands;
 mod io;
 
@@ -58,6 +59,19 @@ enum Command {
         #[arg(long, value_name = "LINT")]
         allow: Vec<String>,
     },
+    /// Generate code from a spec.
+    Gen {
+        /// What to generate.
+        #[command(subcommand)]
+        target: GenTarget,
+    },
+}
+
+/// Back ends of `detent gen`.
+#[derive(Subcommand, Debug)]
+enum GenTarget {
+    /// no_std Rust with table or match dispatch.
+    Rust(cmd_gen_rust::GenRustArgs),
 }
 
 fn main() -> ExitCode {
@@ -69,6 +83,9 @@ fn main() -> ExitCode {
             deny,
             allow,
         } => commands::check(&files, format, deny.as_deref(), &allow),
+        Command::Gen {
+            target: GenTarget::Rust(args),
+        } => cmd_gen_rust::run(&args),
     };
     ExitCode::from(code)
 }

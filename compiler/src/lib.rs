@@ -6,6 +6,7 @@
 //! against it.
 
 pub mod diag;
+pub mod emit;
 pub mod interp;
 pub mod logic;
 pub mod model;

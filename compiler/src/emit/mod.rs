@@ -1,0 +1,3 @@
+//! Back ends: code generated from a resolved [`crate::model::Machine`].
+
+pub mod rust;
