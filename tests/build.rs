@@ -36,26 +36,45 @@ fn main() {
         },
     ];
     let mut all = String::new();
-    let mut index = String::from("/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n");
+    let mut index = String::from(
+        "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
+    );
     for (ci, cfg) in configs.iter().enumerate() {
         for k in 0..SEEDS {
             let seed = 1000 + k * 10 + ci as u64;
             let spec = gen::random_spec(seed, cfg);
             let report = check_source("random.detent", &spec);
-            assert!(!report.has_errors(), "generator made a spec with errors:\n{spec}");
-            let m = report.machines.into_iter().find_map(|m| m.machine).expect("one machine");
+            assert!(
+                !report.has_errors(),
+                "generator made a spec with errors:\n{spec}"
+            );
+            let m = report
+                .machines
+                .into_iter()
+                .find_map(|m| m.machine)
+                .expect("one machine");
             let case = format!("s{seed}");
             let spec_path = out.join(format!("{case}.detent"));
             std::fs::write(&spec_path, &spec).expect("write spec");
-            for (style, suffix) in [(DispatchStyle::Table, "table"), (DispatchStyle::Match, "match")] {
-                let code = generate_file(&format!("{case}.detent"), std::slice::from_ref(&m), Some(style));
+            for (style, suffix) in [
+                (DispatchStyle::Table, "table"),
+                (DispatchStyle::Match, "match"),
+            ] {
+                let code = generate_file(
+                    &format!("{case}.detent"),
+                    std::slice::from_ref(&m),
+                    Some(style),
+                );
                 std::fs::write(out.join(format!("{case}_{suffix}.rs")), code).expect("write code");
             }
             let snake = module_name(&m);
             let _ = writeln!(all, "#[allow(deprecated)]\npub mod {case} {{");
             let _ = writeln!(all, "    pub mod table {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_table.rs\")); }}");
             let _ = writeln!(all, "    pub mod matched {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_match.rs\")); }}");
-            let _ = writeln!(all, "    pub mod inline {{ ::detent::machine! {{\n{spec}\n    }} }}");
+            let _ = writeln!(
+                all,
+                "    pub mod inline {{ ::detent::machine! {{\n{spec}\n    }} }}"
+            );
             let _ = writeln!(
                 all,
                 "    #[::detent::machine_file(file = {:?}, dispatch = \"match\")]\n    pub mod file {{}}",
@@ -86,10 +105,18 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "    impl {path}::Hooks for crate::Recorder {{");
     for (i, input) in m.inputs.iter().enumerate() {
-        let _ = writeln!(s, "        fn {}(&mut self) -> bool {{ self.input({i}) }}", input.name);
+        let _ = writeln!(
+            s,
+            "        fn {}(&mut self) -> bool {{ self.input({i}) }}",
+            input.name
+        );
     }
     for (i, action) in m.actions.iter().enumerate() {
-        let _ = writeln!(s, "        fn {}(&mut self) {{ self.action({i}) }}", action.name);
+        let _ = writeln!(
+            s,
+            "        fn {}(&mut self) {{ self.action({i}) }}",
+            action.name
+        );
     }
     let _ = writeln!(s, "    }}");
     let outputs: Vec<String> = m.outputs.iter().map(|o| format!("o.{}", o.name)).collect();

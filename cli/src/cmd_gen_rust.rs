@@ -52,7 +52,10 @@ pub fn run(args: &GenRustArgs) -> u8 {
     }
     if report.has_errors() {
         let errors = diagnostics.iter().filter(|d| d.is_error()).count();
-        eprintln!("{}", render::summary_text(errors, diagnostics.len() - errors));
+        eprintln!(
+            "{}",
+            render::summary_text(errors, diagnostics.len() - errors)
+        );
         eprintln!("detent: no code generated");
         return FAILED;
     }

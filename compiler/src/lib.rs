@@ -5,6 +5,7 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
+pub mod check;
 pub mod diag;
 pub mod emit;
 pub mod interp;
@@ -12,4 +13,3 @@ pub mod logic;
 pub mod model;
 pub mod syntax;
 pub mod trace;
-pub mod check;

@@ -113,7 +113,9 @@ fn parse_args(args: TokenStream) -> syn::Result<FileArgs> {
                 other => {
                     return Err(syn::Error::new(
                         lit.span(),
-                        format!("unknown dispatch style `{other}`: expected \"table\" or \"match\""),
+                        format!(
+                            "unknown dispatch style `{other}`: expected \"table\" or \"match\""
+                        ),
                     ))
                 }
             });
@@ -161,7 +163,10 @@ pub fn file(args: TokenStream, item: TokenStream) -> TokenStream {
 fn expand_file(args: TokenStream, item: TokenStream) -> syn::Result<TokenStream> {
     let args = parse_args(args)?;
     let mut module: syn::ItemMod = syn::parse2(item).map_err(|e| {
-        syn::Error::new(e.span(), "`#[machine_file(..)]` goes on a `mod name { .. }`")
+        syn::Error::new(
+            e.span(),
+            "`#[machine_file(..)]` goes on a `mod name { .. }`",
+        )
     })?;
     let Some((brace, user_items)) = module.content.take() else {
         return Err(syn::Error::new_spanned(
@@ -175,9 +180,8 @@ fn expand_file(args: TokenStream, item: TokenStream) -> syn::Result<TokenStream>
         .map(std::path::PathBuf::from)
         .unwrap_or_default();
     let path = base.join(&written);
-    let text = std::fs::read_to_string(&path).map_err(|e| {
-        syn::Error::new(lit_span, format!("cannot read `{}`: {e}", path.display()))
-    })?;
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| syn::Error::new(lit_span, format!("cannot read `{}`: {e}", path.display())))?;
     let wanted = args.machine.as_ref().map(syn::LitStr::value);
     // The file's tokens must carry line/column spans, which proc-macro2 gives only in
     // its own (fallback) implementation: use it while checking, then switch back.
@@ -213,7 +217,7 @@ fn expand_file(args: TokenStream, item: TokenStream) -> syn::Result<TokenStream>
         #out
         #(#attrs)*
         #doc
-        #[allow(non_camel_case_types, non_snake_case)]
+        #[allow(non_camel_case_types, non_snake_case, clippy::nonminimal_bool, clippy::if_same_then_else)]
         #vis mod #name {
             // Rebuild when the spec changes.
             const _: &str = include_str!(#path_text);
@@ -275,7 +279,11 @@ fn check_file(
     if !outcome.errors.is_empty() {
         return Ok(outcome);
     }
-    let mut machines: Vec<_> = report.machines.into_iter().filter_map(|m| m.machine).collect();
+    let mut machines: Vec<_> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
     if let Some(name) = wanted {
         machines.retain(|m| m.name == name);
         if machines.is_empty() {
@@ -286,7 +294,9 @@ fn check_file(
         }
     }
     match machines.as_slice() {
-        [] => outcome.errors.push(format!("`{written}` defines no machine")),
+        [] => outcome
+            .errors
+            .push(format!("`{written}` defines no machine")),
         [m] => {
             outcome.doc = rust::module_doc(m).to_string();
             outcome.items = rust::machine_items(m, dispatch.unwrap_or(m.dispatch)).to_string();

@@ -45,11 +45,14 @@ impl Recorder {
     }
 }
 
+/// Runs one form of a machine over a trace of (event number, input values).
+pub type Runner = fn(&[(usize, Vec<bool>)]) -> Vec<Observed>;
+
 /// A generated machine and its runners.
 pub struct Case {
     name: &'static str,
     spec: &'static str,
-    runners: &'static [(&'static str, fn(&[(usize, Vec<bool>)]) -> Vec<Observed>)],
+    runners: &'static [(&'static str, Runner)],
 }
 
 include!(concat!(env!("OUT_DIR"), "/differential.rs"));
@@ -58,7 +61,9 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
     let report = check_source("case.detent", spec);
     let m = report.machines.into_iter().find_map(|m| m.machine).unwrap();
     let outputs = |set: &[OutputId]| -> Vec<bool> {
-        (0..m.outputs.len()).map(|i| set.contains(&OutputId::from_index(i))).collect()
+        (0..m.outputs.len())
+            .map(|i| set.contains(&OutputId::from_index(i)))
+            .collect()
     };
     let mut state: StateId = m.start;
     let mut out = vec![Observed {

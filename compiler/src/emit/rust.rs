@@ -49,7 +49,7 @@ pub fn machine_tokens(m: &Machine, style: DispatchStyle) -> TokenStream {
     let items = machine_items(m, style);
     quote! {
         #doc
-        #[allow(non_camel_case_types, non_snake_case)]
+        #[allow(non_camel_case_types, non_snake_case, clippy::nonminimal_bool, clippy::if_same_then_else)]
         #vis mod #name {
             #items
         }
@@ -111,10 +111,12 @@ pub fn generate_file(source: &str, machines: &[Machine], style: Option<DispatchS
             let mut text = prettyplease::unparse(&file);
             for (i, inner) in extras.iter().enumerate() {
                 let marker = format!("const __DETENT_EXTRAS_{i}: () = ();");
-                let Some(at) = text.find(&marker) else { continue };
+                let Some(at) = text.find(&marker) else {
+                    continue;
+                };
                 let line_start = text[..at].rfind('\n').map_or(0, |p| p + 1);
                 let indent = text[line_start..at].to_string();
-                let mut block = format!("::detent::__derive_extras! {{\n");
+                let mut block = String::from("::detent::__derive_extras! {\n");
                 for line in inner.lines() {
                     if line.is_empty() {
                         block.push('\n');
@@ -349,6 +351,7 @@ impl<'a> Gen<'a> {
                     let v = !b;
                     (quote!(#v), Prec::Unary)
                 }
+                Folded::Expr(Guard::Not(inner)) => return self.guard_at(inner, outer),
                 Folded::Expr(a) => {
                     let inner = self.guard_at(a, Prec::Unary);
                     (quote!(!#inner), Prec::Unary)
@@ -708,7 +711,10 @@ impl<'a> Gen<'a> {
         let mut moore_groups: Vec<(&[OutputId], Vec<TokenStream>)> = Vec::new();
         for (i, s) in m.states.iter().enumerate() {
             let v = self.state_variant(StateId::from_index(i));
-            match moore_groups.iter_mut().find(|(set, _)| *set == s.moore.as_slice()) {
+            match moore_groups
+                .iter_mut()
+                .find(|(set, _)| *set == s.moore.as_slice())
+            {
                 Some((_, vs)) => vs.push(v),
                 None => moore_groups.push((&s.moore, vec![v])),
             }
@@ -734,7 +740,11 @@ impl<'a> Gen<'a> {
             let mut unhandled_events = false;
             for e in 0..m.events.len() {
                 match m.rules_for(s, crate::model::EventId::from_index(e)) {
-                    Some((_, rules)) if rules.iter().any(|r| !matches!(self.rule_guard(*r), RuleGuard::Never)) => {
+                    Some((_, rules))
+                        if rules
+                            .iter()
+                            .any(|r| !matches!(self.rule_guard(*r), RuleGuard::Never)) =>
+                    {
                         match groups.iter_mut().find(|(rs, _)| *rs == rules) {
                             Some((_, es)) => es.push(e),
                             None => groups.push((rules, vec![e])),
