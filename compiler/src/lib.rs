@@ -5,7 +5,6 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
-pub mod check;
 pub mod diag;
 pub mod emit;
 pub mod interp;
@@ -13,3 +12,4 @@ pub mod logic;
 pub mod model;
 pub mod syntax;
 pub mod trace;
+pub mod check;

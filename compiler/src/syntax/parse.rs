@@ -125,8 +125,7 @@ fn parse_attrs(input: ParseStream, allow_machine_attrs: bool) -> syn::Result<Att
                 };
                 let text = s.value();
                 for line in text.split('\n') {
-                    out.doc
-                        .push(line.strip_prefix(' ').unwrap_or(line).to_string());
+                    out.doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
                 }
             }
             "allow" | "warn" | "deny" => {
@@ -158,9 +157,7 @@ fn parse_attrs(input: ParseStream, allow_machine_attrs: bool) -> syn::Result<Att
                         "match" => Ok(DispatchStyle::Match),
                         other => Err(syn::Error::new(
                             word.span(),
-                            format!(
-                                "unknown dispatch style `{other}`; expected `table` or `match`"
-                            ),
+                            format!("unknown dispatch style `{other}`; expected `table` or `match`"),
                         )),
                     }
                 })?;
@@ -472,12 +469,14 @@ fn parse_member(input: ParseStream, attrs: Attrs, depth: usize) -> syn::Result<M
         syn::braced!(content in input);
         while !content.is_empty() {
             if content.peek(Token![#]) {
-                return Err(content
-                    .error("attributes and doc comments go on states and groups, not on rules"));
+                return Err(content.error(
+                    "attributes and doc comments go on states and groups, not on rules",
+                ));
             }
             if is_member_start(&content) {
-                return Err(content
-                    .error("a state cannot contain states or groups; use a group to nest states"));
+                return Err(content.error(
+                    "a state cannot contain states or groups; use a group to nest states",
+                ));
             }
             body.push(parse_body(&content)?);
         }
@@ -649,7 +648,9 @@ fn parse_not(
     }
     *terms += 1;
     if *terms > MAX_TERMS {
-        return Err(input.error(format!("expression has more than {MAX_TERMS} operands")));
+        return Err(input.error(format!(
+            "expression has more than {MAX_TERMS} operands"
+        )));
     }
     if input.peek(syn::LitBool) {
         let b: syn::LitBool = input.parse()?;
