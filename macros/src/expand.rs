@@ -180,8 +180,15 @@ fn expand_file(args: TokenStream, item: TokenStream) -> syn::Result<TokenStream>
         .map(std::path::PathBuf::from)
         .unwrap_or_default();
     let path = base.join(&written);
-    let text = std::fs::read_to_string(&path)
-        .map_err(|e| syn::Error::new(lit_span, format!("cannot read `{}`: {e}", path.display())))?;
+    let text = std::fs::read_to_string(&path).map_err(|e| {
+        syn::Error::new(
+            lit_span,
+            format!(
+                "cannot read the spec `{written}`: {e}\n= note: the path is relative to the \
+                 directory of the crate's Cargo.toml"
+            ),
+        )
+    })?;
     let wanted = args.machine.as_ref().map(syn::LitStr::value);
     // The file's tokens must carry line/column spans, which proc-macro2 gives only in
     // its own (fallback) implementation: use it while checking, then switch back.

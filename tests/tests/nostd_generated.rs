@@ -79,12 +79,18 @@ fn generated_code_is_no_std_and_panic_free_in_both_styles() {
         let text = std::fs::read_to_string(file).unwrap();
         let report = check_source(&file.display().to_string(), &text);
         assert!(!report.has_errors(), "{} has errors", file.display());
-        let mut machines: Vec<Machine> =
-            report.machines.into_iter().filter_map(|m| m.machine).collect();
+        let mut machines: Vec<Machine> = report
+            .machines
+            .into_iter()
+            .filter_map(|m| m.machine)
+            .collect();
         for m in &mut machines {
             m.vis = Vis::Pub;
         }
-        for (style, name) in [(DispatchStyle::Table, "table"), (DispatchStyle::Match, "match")] {
+        for (style, name) in [
+            (DispatchStyle::Table, "table"),
+            (DispatchStyle::Match, "match"),
+        ] {
             let mut code = generate_file("spec.detent", &machines, Some(style));
             let mut roots = Vec::new();
             for (i, m) in machines.iter().enumerate() {
@@ -93,13 +99,21 @@ fn generated_code_is_no_std_and_panic_free_in_both_styles() {
                     roots.push(format!("{entry}{i}"));
                 }
             }
-            let stem = file.file_stem().unwrap().to_string_lossy().replace('-', "_");
+            let stem = file
+                .file_stem()
+                .unwrap()
+                .to_string_lossy()
+                .replace('-', "_");
             let crate_name = format!("nostd_{stem}_{name}");
             let built = build_nostd_and_check(&crate_name, &code)
                 .unwrap_or_else(|e| panic!("{} ({name}): {e}", file.display()));
             let roots: Vec<&str> = roots.iter().map(String::as_str).collect();
             for root in &roots {
-                assert!(built.defines(root), "{root} missing: {:?}", built.functions());
+                assert!(
+                    built.defines(root),
+                    "{root} missing: {:?}",
+                    built.functions()
+                );
             }
             built
                 .check_entry_points(&roots)
