@@ -1,6 +1,11 @@
-//! Writes the differential-test machines into `OUT_DIR`: random specs (fixed seeds)
-//! from `src/gen.rs`, their `gen rust` output in both dispatch styles, inline and
-//! file-form macro copies, and per-form runners that drive a machine over a trace.
+//! Two jobs for the tests of this crate:
+//!
+//! - Compiles the committed generated C of `tests/c/specs/bilge_pump.detent` (in
+//!   `tests/c/ffi/`) into a static library, so the FFI test can drive it from Rust.
+//!   The test `ffi_files_are_fresh` keeps those files equal to what `gen c` writes.
+//! - Writes the differential-test machines into `OUT_DIR`: random specs (fixed seeds)
+//!   from `src/gen.rs`, their `gen rust` output in both dispatch styles, inline and
+//!   file-form macro copies, and per-form runners that drive a machine over a trace.
 
 #[path = "src/gen.rs"]
 #[allow(dead_code)]
@@ -17,6 +22,25 @@ use std::path::PathBuf;
 const SEEDS: u64 = 8;
 
 fn main() {
+    compile_c_ffi();
+    write_differential_machines();
+}
+
+fn compile_c_ffi() {
+    println!("cargo:rerun-if-changed=c/ffi/bilge_pump.c");
+    println!("cargo:rerun-if-changed=c/ffi/bilge_pump.h");
+    cc::Build::new()
+        .file("c/ffi/bilge_pump.c")
+        .include("c/ffi")
+        .std("c99")
+        .flag_if_supported("-Wall")
+        .flag_if_supported("-Wextra")
+        .flag_if_supported("-pedantic")
+        .warnings_into_errors(true)
+        .compile("detent_c_ffi");
+}
+
+fn write_differential_machines() {
     println!("cargo:rerun-if-changed=src/gen.rs");
     println!("cargo:rerun-if-changed=build.rs");
     let out = PathBuf::from(std::env::var_os("OUT_DIR").expect("cargo sets OUT_DIR"));

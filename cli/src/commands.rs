@@ -1,11 +1,11 @@
 //! One function per subcommand. Each returns the process exit code.
 
 use crate::io::{self, FAILED, OK, USAGE};
-use crate::ReportFormat;
+use crate::{ReportFormat, TableFormat};
 use detent_compiler::check::{self, render, Options};
 use detent_compiler::diag::Lint;
 use serde_json::{json, Value};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// `detent check FILE... [--format] [--deny warnings] [--allow LINT]...`
 pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow: &[String]) -> u8 {
@@ -34,7 +34,9 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
                 ));
             }
             Some(l) if l.is_hard_error() => {
-                return io::usage_error(format!("`{name}` is always an error and cannot be allowed"))
+                return io::usage_error(format!(
+                    "`{name}` is always an error and cannot be allowed"
+                ))
             }
             Some(l) => opts.allow.push(l),
         }
@@ -58,7 +60,11 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
             }
         }
     }
-    let all: Vec<_> = reports.iter().flat_map(|r| r.diagnostics()).cloned().collect();
+    let all: Vec<_> = reports
+        .iter()
+        .flat_map(|r| r.diagnostics())
+        .cloned()
+        .collect();
     let (errors, warnings) = render::count(&all);
     match format {
         ReportFormat::Text => {
@@ -104,4 +110,44 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
     } else {
         OK
     }
+}
+
+/// `detent table FILE [--machine NAME] [--format text|json|csv]`
+pub fn table(file: &Path, machine: Option<&str>, format: TableFormat) -> u8 {
+    let m = match io::load_machine(file, machine) {
+        Ok(m) => m,
+        Err(code) => return code,
+    };
+    let format = match format {
+        TableFormat::Text => detent_compiler::table::TableFormat::Text,
+        TableFormat::Json => detent_compiler::table::TableFormat::Json,
+        TableFormat::Csv => detent_compiler::table::TableFormat::Csv,
+    };
+    let text = detent_compiler::table::render(&m, format);
+    io::out(text.trim_end_matches('\n'));
+    OK
+}
+
+/// `detent run FILE [--machine NAME] --trace TRACEFILE|-`
+pub fn run(file: &Path, machine: Option<&str>, trace: &str) -> u8 {
+    let m = match io::load_machine(file, machine) {
+        Ok(m) => m,
+        Err(code) => return code,
+    };
+    let text = match io::read_text(trace) {
+        Ok(t) => t,
+        Err(e) => return io::usage_error(e),
+    };
+    let steps = match detent_compiler::trace::parse_trace(&m, &text) {
+        Ok(s) => s,
+        Err(e) => {
+            let name = if trace == "-" { "<stdin>" } else { trace };
+            eprintln!("error: {name}:{}:{}: {}", e.line, e.column, e.message);
+            return USAGE;
+        }
+    };
+    for line in detent_compiler::trace::run_json_lines(&m, &steps) {
+        io::out(line);
+    }
+    OK
 }

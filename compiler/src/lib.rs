@@ -5,11 +5,13 @@
 //! interpreter in [`interp`] defines what a machine means; every back end is tested
 //! against it.
 
+pub mod check;
 pub mod diag;
 pub mod emit;
 pub mod interp;
 pub mod logic;
+pub mod minimize;
 pub mod model;
 pub mod syntax;
+pub mod table;
 pub mod trace;
-pub mod check;

@@ -1,0 +1,112 @@
+//! `detent gen c FILE [-o OUTDIR] [--check]`: C99 header and source per machine.
+
+use crate::io::{self, FAILED, OK, USAGE};
+use detent_compiler::check::{self, render};
+use detent_compiler::emit::c::{cell_count, generate_c, CFiles, MAX_C_CELLS};
+use std::path::{Path, PathBuf};
+
+/// Arguments of `detent gen c`.
+#[derive(clap::Args, Debug)]
+pub struct GenCArgs {
+    /// The spec file; every machine in it gets `<snake>.h` and `<snake>.c`.
+    pub file: PathBuf,
+    /// Folder to write into (default: the current folder).
+    #[arg(short = 'o', value_name = "OUTDIR")]
+    pub out_dir: Option<PathBuf>,
+    /// Compare with the files on disk instead of writing; exit 1 when any is stale or
+    /// missing.
+    #[arg(long)]
+    pub check: bool,
+}
+
+/// Runs `detent gen c` and returns the exit code.
+pub fn run(args: &GenCArgs) -> u8 {
+    let file = args.file.display().to_string();
+    let text = match io::read_text(&file) {
+        Ok(t) => t,
+        Err(e) => return io::usage_error(e),
+    };
+    let report = check::check_source(&file, &text);
+    if report.has_errors() {
+        let errors: Vec<_> = report
+            .diagnostics()
+            .filter(|d| d.is_error())
+            .cloned()
+            .collect();
+        let src = render::Source {
+            name: &report.file,
+            text: &report.text,
+        };
+        for d in &errors {
+            eprintln!("{}", render::render_text(d, &src));
+        }
+        eprintln!("{}", render::summary_text(errors.len(), 0));
+        return FAILED;
+    }
+    // The banner names the file without its folder, so the output does not depend on
+    // where the command runs from.
+    let banner_name = args
+        .file
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_else(|| file.clone());
+    let mut outputs: Vec<CFiles> = Vec::new();
+    for m in report.machines.iter().filter_map(|r| r.machine.as_ref()) {
+        if cell_count(m) > MAX_C_CELLS {
+            return io::usage_error(format!(
+                "machine `{}` has {} states x {} events = {} cells; the C back end's dense \
+                 table is limited to {MAX_C_CELLS} cells",
+                m.name,
+                m.states.len(),
+                m.events.len(),
+                cell_count(m)
+            ));
+        }
+        let files = generate_c(m, &banner_name);
+        if let Some(other) = outputs.iter().find(|o| o.stem == files.stem) {
+            return io::usage_error(format!(
+                "two machines of `{file}` would both write `{}.h` (`{}` and `{}`); rename one",
+                files.stem, other.stem, m.name
+            ));
+        }
+        outputs.push(files);
+    }
+    if outputs.is_empty() {
+        return io::usage_error(format!("`{file}` defines no machine"));
+    }
+    let dir = args.out_dir.clone().unwrap_or_else(|| PathBuf::from("."));
+    if !args.check {
+        if let Err(e) = std::fs::create_dir_all(&dir) {
+            return io::usage_error(format!("cannot create `{}`: {e}", dir.display()));
+        }
+    }
+    let mut stale = 0usize;
+    for files in &outputs {
+        for (ext, contents) in [("h", &files.header), ("c", &files.source)] {
+            let path: PathBuf = Path::new(&dir).join(format!("{}.{ext}", files.stem));
+            if args.check {
+                if !io::is_fresh(&path, contents.as_bytes()) {
+                    eprintln!(
+                        "stale: `{}` differs from what `detent gen c` writes",
+                        path.display()
+                    );
+                    stale += 1;
+                }
+            } else if let Err(e) = io::write_atomic(&path, contents.as_bytes()) {
+                io::usage_error(e);
+                return USAGE;
+            } else {
+                io::out(format!("wrote {}", path.display()));
+            }
+        }
+    }
+    if stale > 0 {
+        eprintln!(
+            "{stale} file{} out of date",
+            if stale == 1 { "" } else { "s" }
+        );
+        FAILED
+    } else {
+        OK
+    }
+}

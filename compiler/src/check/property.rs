@@ -1,0 +1,523 @@
+//! Proved properties: `never P;` and `recover to S except T, U;` (LANGUAGE.md,
+//! "Properties"), reported as the `property` lint with a shortest counterexample.
+//!
+//! **Steps.** A step of the machine is a (state, event class, guard atom) triple. For
+//! each (state, event-class) cell the input space is partitioned, with BDDs (Bryant
+//! 1986), into the region where each rule of the scope used fires (rule `i`'s guard
+//! minus the guards of rules `0..i`, the same first-match order as the reference
+//! interpreter, so even an overlapping spec replays exactly) and the uncovered
+//! remainder (an ignored or rejected step). Every valuation in one atom makes the same
+//! step, so one concrete valuation (`sat_one`, unmentioned inputs false) stands for it.
+//! No `2^inputs` enumeration happens anywhere.
+//!
+//! **`never P`.** P is evaluated symbolically on each step: the facts a step fixes
+//! (state after the step, Moore and Mealy outputs, actions run incl. enter/leave) turn
+//! every non-input atom of P into a constant, leaving a BDD over the inputs P names;
+//! the step violates P iff that BDD and the step's atom intersect, and the witness is
+//! a satisfying valuation of the intersection. The search is breadth-first from the
+//! start state over states (step 0 first: the start state, all inputs false, no
+//! actions, no Mealy outputs), so the first violation found has the shortest trace;
+//! parent pointers (one `u32` triple per state) rebuild it.
+//!
+//! **`recover to S`.** Forward breadth-first reachability from the start that does not
+//! expand exempted states (so states reachable only through them are exempt too), and
+//! backward reachability from S over the reversed step graph (paths through exempted
+//! states count: some input sequence reaches S). The first reached state, in BFS
+//! order, that cannot reach S is the violation with the shortest trace.
+//!
+//! **Cost.** Building the step table is linear in the (state, named event) cells plus
+//! their rules, times the BDD operations on those rules' guards; each search then visits
+//! every step once: O(states + steps) time and memory, with flat `u32` tables and no
+//! per-state copies.
+
+use crate::diag::{Diagnostic, Lint, TraceStep};
+use crate::model::graph::CellEvents;
+use crate::model::{
+    ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, RuleId, StateId,
+};
+use std::collections::VecDeque;
+
+const NONE: u32 = u32::MAX;
+
+/// One step out of a state: an event, the input region (atom) that makes it, the rule
+/// that fires (`None`: ignored or rejected) and the state after it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Step {
+    /// A representative event of the step's event class.
+    pub event: EventId,
+    /// The inputs that make this step (disjoint from the other atoms of its cell).
+    pub atom: Bdd,
+    /// The rule that fires, if any.
+    pub rule: Option<RuleId>,
+    /// The state after the step.
+    pub to: StateId,
+}
+
+/// Every step of every state, as one flat table (`steps[start[s]..start[s + 1]]` are
+/// the steps out of state `s`).
+#[derive(Clone, Debug)]
+pub struct StepTable {
+    /// Offsets into `steps`, one per state plus one.
+    pub start: Vec<u32>,
+    /// The steps, grouped by source state.
+    pub steps: Vec<Step>,
+}
+
+impl StepTable {
+    /// Builds the table; new BDD nodes (atoms) go into `bdd`, a copy of the machine's
+    /// store.
+    pub fn build(m: &Machine, bdd: &mut BddStore) -> StepTable {
+        let mut start = Vec::with_capacity(m.states.len() + 1);
+        let mut steps = Vec::new();
+        for si in 0..m.states.len() {
+            start.push(steps.len() as u32);
+            let s = StateId::from_index(si);
+            let mut rest_event = None;
+            for cell in m.cells(s) {
+                let event = match cell.events {
+                    CellEvents::One(e) => e,
+                    CellEvents::Rest => *rest_event.get_or_insert_with(|| m.rest_events(s)[0]),
+                };
+                let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
+                let mut taken = Bdd::FALSE;
+                for &r in rules {
+                    let atom = bdd.and_not(m.rules[r.index()].guard, taken);
+                    taken = bdd.or(taken, m.rules[r.index()].guard);
+                    if !atom.is_false() {
+                        steps.push(Step {
+                            event,
+                            atom,
+                            rule: Some(r),
+                            to: m.target_of(s, r),
+                        });
+                    }
+                }
+                let rest = bdd.not(taken);
+                if !rest.is_false() {
+                    steps.push(Step {
+                        event,
+                        atom: rest,
+                        rule: None,
+                        to: s,
+                    });
+                }
+            }
+        }
+        start.push(steps.len() as u32);
+        StepTable { start, steps }
+    }
+
+    /// The steps out of a state.
+    pub fn of(&self, s: StateId) -> &[Step] {
+        &self.steps[self.start[s.index()] as usize..self.start[s.index() + 1] as usize]
+    }
+}
+
+/// A concrete trace from the start state: (event, full input valuation) per step.
+pub type Trace = Vec<(EventId, Vec<bool>)>;
+
+/// A violated `never P`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct NeverViolation {
+    /// The shortest trace whose last step makes P true (empty: step 0 does).
+    pub trace: Trace,
+    /// The state after the violating step.
+    pub state: StateId,
+    /// Outputs high after the violating step, ascending.
+    pub outputs: Vec<OutputId>,
+    /// Actions run in the violating step, in order.
+    pub actions: Vec<ActionId>,
+}
+
+/// A violated `recover to S`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct RecoverViolation {
+    /// The reachable state (closest to the start) from which S cannot be reached.
+    pub state: StateId,
+    /// The shortest trace from the start to it that avoids exempted states.
+    pub trace: Trace,
+    /// Every reachable, non-exempt state that cannot reach S, in BFS order.
+    pub stuck: Vec<StateId>,
+}
+
+/// The facts one step fixes, against which P is evaluated.
+struct Facts<'a> {
+    to: StateId,
+    moore: &'a [OutputId],
+    mealy: &'a [OutputId],
+    actions: &'a [ActionId],
+    /// Step 0: every input reads false.
+    step0: bool,
+}
+
+/// P on one step, as a BDD over the inputs P names (a constant when it names none).
+fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
+    match p {
+        Prop::Input(i) => {
+            if f.step0 {
+                Bdd::FALSE
+            } else {
+                bdd.var(i.0)
+            }
+        }
+        Prop::Output(o) => bdd.constant(f.moore.binary_search(o).is_ok() || f.mealy.contains(o)),
+        Prop::Action(a) => bdd.constant(f.actions.contains(a)),
+        Prop::InState(s) => bdd.constant(f.to == *s),
+        Prop::InGroup(g) => bdd.constant(m.group_contains(*g, f.to)),
+        Prop::Const(b) => bdd.constant(*b),
+        Prop::Not(a) => {
+            let x = prop_bdd(m, bdd, a, f);
+            bdd.not(x)
+        }
+        Prop::And(a, b) => {
+            let x = prop_bdd(m, bdd, a, f);
+            if x.is_false() {
+                return x;
+            }
+            let y = prop_bdd(m, bdd, b, f);
+            bdd.and(x, y)
+        }
+        Prop::Or(a, b) => {
+            let x = prop_bdd(m, bdd, a, f);
+            if x.is_true() {
+                return x;
+            }
+            let y = prop_bdd(m, bdd, b, f);
+            bdd.or(x, y)
+        }
+    }
+}
+
+fn mentions_actions(p: &Prop) -> bool {
+    match p {
+        Prop::Action(_) => true,
+        Prop::Not(a) => mentions_actions(a),
+        Prop::And(a, b) | Prop::Or(a, b) => mentions_actions(a) || mentions_actions(b),
+        _ => false,
+    }
+}
+
+/// A full valuation from a satisfying region: `sat_one`, unmentioned inputs false.
+fn valuation(m: &Machine, bdd: &BddStore, region: Bdd) -> Vec<bool> {
+    let mut v = vec![false; m.inputs.len()];
+    for (var, val) in bdd.sat_one(region).unwrap_or_default() {
+        if let Some(slot) = v.get_mut(var as usize) {
+            *slot = val;
+        }
+    }
+    v
+}
+
+/// Breadth-first parent pointers: for each reached state, the state and step index
+/// that first reached it (`NONE` for the start and for unreached states).
+struct Bfs {
+    parent_state: Vec<u32>,
+    parent_step: Vec<u32>,
+    seen: Vec<bool>,
+}
+
+impl Bfs {
+    fn new(n: usize) -> Bfs {
+        Bfs {
+            parent_state: vec![NONE; n],
+            parent_step: vec![NONE; n],
+            seen: vec![false; n],
+        }
+    }
+
+    /// The trace from the start to `s`, one valuation per step.
+    fn trace_to(&self, m: &Machine, bdd: &BddStore, table: &StepTable, s: StateId) -> Trace {
+        let mut rev = Vec::new();
+        let mut cur = s.index();
+        while self.parent_step[cur] != NONE {
+            let step = table.steps[self.parent_step[cur] as usize];
+            rev.push((step.event, valuation(m, bdd, step.atom)));
+            cur = self.parent_state[cur] as usize;
+        }
+        rev.reverse();
+        rev
+    }
+}
+
+/// Proves `never P`, or returns the shortest counterexample.
+pub fn check_never(m: &Machine, prop: &Prop) -> Option<NeverViolation> {
+    let mut bdd = m.bdd.clone();
+    let table = StepTable::build(m, &mut bdd);
+    check_never_in(m, &mut bdd, &table, prop)
+}
+
+fn check_never_in(
+    m: &Machine,
+    bdd: &mut BddStore,
+    table: &StepTable,
+    prop: &Prop,
+) -> Option<NeverViolation> {
+    let start = m.start;
+    let start_moore = &m.states[start.index()].moore;
+    let step0 = Facts {
+        to: start,
+        moore: start_moore,
+        mealy: &[],
+        actions: &[],
+        step0: true,
+    };
+    if prop_bdd(m, bdd, prop, &step0).is_true() {
+        return Some(NeverViolation {
+            trace: Vec::new(),
+            state: start,
+            outputs: start_moore.clone(),
+            actions: Vec::new(),
+        });
+    }
+    let need_actions = mentions_actions(prop);
+    let mut bfs = Bfs::new(m.states.len());
+    bfs.seen[start.index()] = true;
+    let mut queue = VecDeque::from([start]);
+    let mut actions = Vec::new();
+    while let Some(s) = queue.pop_front() {
+        let base = table.start[s.index()];
+        for (k, step) in table.of(s).iter().enumerate() {
+            let (mealy, acts): (&[OutputId], &[ActionId]) = match step.rule {
+                Some(r) => {
+                    if need_actions {
+                        actions = m.transition_actions(s, r);
+                    }
+                    (&m.rules[r.index()].mealy, &actions)
+                }
+                None => (&[], &[]),
+            };
+            let facts = Facts {
+                to: step.to,
+                moore: &m.states[step.to.index()].moore,
+                mealy,
+                actions: acts,
+                step0: false,
+            };
+            let p = prop_bdd(m, bdd, prop, &facts);
+            let hit = bdd.and(p, step.atom);
+            if !hit.is_false() {
+                let mut trace = bfs.trace_to(m, bdd, table, s);
+                trace.push((step.event, valuation(m, bdd, hit)));
+                let mut outputs = facts.moore.to_vec();
+                outputs.extend_from_slice(mealy);
+                outputs.sort_unstable();
+                outputs.dedup();
+                let actions = match step.rule {
+                    Some(r) => m.transition_actions(s, r),
+                    None => Vec::new(),
+                };
+                return Some(NeverViolation {
+                    trace,
+                    state: step.to,
+                    outputs,
+                    actions,
+                });
+            }
+            let t = step.to.index();
+            if !bfs.seen[t] {
+                bfs.seen[t] = true;
+                bfs.parent_state[t] = s.0;
+                bfs.parent_step[t] = base + k as u32;
+                queue.push_back(step.to);
+            }
+        }
+    }
+    None
+}
+
+/// Proves `recover to target except ...`, or returns the closest state that cannot
+/// recover, with the shortest trace to it.
+pub fn check_recover(m: &Machine, target: StateId, except: &[StateId]) -> Option<RecoverViolation> {
+    let mut bdd = m.bdd.clone();
+    let table = StepTable::build(m, &mut bdd);
+    check_recover_in(m, &bdd, &table, target, except)
+}
+
+/// Which states can reach `target` (itself included), by a backward breadth-first
+/// search over the reversed step graph (a flat CSR table).
+pub fn can_reach(table: &StepTable, target: StateId) -> Vec<bool> {
+    let n = table.start.len() - 1;
+    let mut in_deg = vec![0u32; n + 1];
+    for st in &table.steps {
+        in_deg[st.to.index() + 1] += 1;
+    }
+    for i in 0..n {
+        in_deg[i + 1] += in_deg[i];
+    }
+    let offsets = in_deg;
+    let mut fill = offsets.clone();
+    let mut preds = vec![0u32; table.steps.len()];
+    for s in 0..n {
+        for st in table.of(StateId::from_index(s)) {
+            let slot = &mut fill[st.to.index()];
+            preds[*slot as usize] = s as u32;
+            *slot += 1;
+        }
+    }
+    let mut ok = vec![false; n];
+    ok[target.index()] = true;
+    let mut queue = VecDeque::from([target.0]);
+    while let Some(t) = queue.pop_front() {
+        let t = t as usize;
+        for &p in &preds[offsets[t] as usize..offsets[t + 1] as usize] {
+            if !ok[p as usize] {
+                ok[p as usize] = true;
+                queue.push_back(p);
+            }
+        }
+    }
+    ok
+}
+
+fn check_recover_in(
+    m: &Machine,
+    bdd: &BddStore,
+    table: &StepTable,
+    target: StateId,
+    except: &[StateId],
+) -> Option<RecoverViolation> {
+    let ok = can_reach(table, target);
+    let mut exempt = vec![false; m.states.len()];
+    for e in except {
+        exempt[e.index()] = true;
+    }
+    let mut bfs = Bfs::new(m.states.len());
+    bfs.seen[m.start.index()] = true;
+    let mut queue = VecDeque::from([m.start]);
+    let mut stuck = Vec::new();
+    while let Some(s) = queue.pop_front() {
+        if exempt[s.index()] {
+            continue;
+        }
+        if !ok[s.index()] {
+            stuck.push(s);
+        }
+        let base = table.start[s.index()];
+        for (k, step) in table.of(s).iter().enumerate() {
+            let t = step.to.index();
+            if !bfs.seen[t] {
+                bfs.seen[t] = true;
+                bfs.parent_state[t] = s.0;
+                bfs.parent_step[t] = base + k as u32;
+                queue.push_back(step.to);
+            }
+        }
+    }
+    let first = *stuck.first()?;
+    Some(RecoverViolation {
+        state: first,
+        trace: bfs.trace_to(m, bdd, table, first),
+        stuck,
+    })
+}
+
+/// A trace in the diagnostic's form: event names and every input's value per step.
+pub fn trace_steps(m: &Machine, trace: &Trace) -> Vec<TraceStep> {
+    trace
+        .iter()
+        .map(|(e, v)| TraceStep {
+            event: m.event_name(*e).to_string(),
+            inputs: m
+                .inputs
+                .iter()
+                .enumerate()
+                .map(|(i, it)| (it.name.clone(), v.get(i).copied().unwrap_or(false)))
+                .collect(),
+        })
+        .collect()
+}
+
+fn name_list(names: impl Iterator<Item = String>) -> String {
+    let v: Vec<String> = names.map(|n| format!("`{n}`")).collect();
+    if v.is_empty() {
+        "none".into()
+    } else {
+        v.join(", ")
+    }
+}
+
+/// Proves every declared property of a machine; one `property` error per violated one.
+pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
+    if m.properties.is_empty() {
+        return Vec::new();
+    }
+    let mut bdd = m.bdd.clone();
+    let table = StepTable::build(m, &mut bdd);
+    let mut out = Vec::new();
+    for p in &m.properties {
+        match p {
+            Property::Never { prop, span, text } => {
+                let Some(v) = check_never_in(m, &mut bdd, &table, prop) else {
+                    continue;
+                };
+                let n = v.trace.len();
+                let state = m.state_name(v.state);
+                let mut d = Diagnostic::new(
+                    Lint::Property,
+                    Some(*span),
+                    format!("property `{text}` is violated at step {n}"),
+                )
+                .with_state(state)
+                .note(format!(
+                    "after step {n} the machine is in `{state}`; outputs high: {}; actions run: {}",
+                    name_list(v.outputs.iter().map(|o| m.outputs[o.index()].name.clone())),
+                    name_list(v.actions.iter().map(|a| m.actions[a.index()].name.clone())),
+                ));
+                if n == 0 {
+                    d = d
+                        .note("step 0 is the start state before any event, with every input false");
+                } else if let Some((e, _)) = v.trace.last() {
+                    d = d.with_event(m.event_name(*e));
+                }
+                d.trace = Some(trace_steps(m, &v.trace));
+                d.helps
+                    .push("replay the trace with `detent run --trace` to see each step".into());
+                out.push(d);
+            }
+            Property::Recover {
+                target,
+                except,
+                span,
+                text,
+            } => {
+                let Some(v) = check_recover_in(m, &bdd, &table, *target, except) else {
+                    continue;
+                };
+                let state = m.state_name(v.state);
+                let goal = m.state_name(*target);
+                let mut d = Diagnostic::new(
+                    Lint::Property,
+                    Some(*span),
+                    format!(
+                        "property `{text}` is violated: state `{state}` cannot get back to `{goal}`"
+                    ),
+                )
+                .with_state(state)
+                .note(format!(
+                    "`{state}` is reached in {} step(s), and no input sequence leads from it to `{goal}`",
+                    v.trace.len()
+                ));
+                if v.stuck.len() > 1 {
+                    const SHOWN: usize = 8;
+                    let more = v.stuck.len().saturating_sub(SHOWN);
+                    let mut list = name_list(
+                        v.stuck
+                            .iter()
+                            .take(SHOWN)
+                            .map(|s| m.state_name(*s).to_string()),
+                    );
+                    if more > 0 {
+                        list.push_str(&format!(" and {more} more"));
+                    }
+                    d = d.note(format!("states that cannot recover: {list}"));
+                }
+                d.trace = Some(trace_steps(m, &v.trace));
+                d.helps.push(format!(
+                    "add a way from `{state}` back to `{goal}`, or list it after `except` if it is a latched fault"
+                ));
+                out.push(d);
+            }
+        }
+    }
+    out
+}

@@ -1,0 +1,782 @@
+//! The state table of a machine: `detent table`.
+//!
+//! One row per (present state, event, rule that applies), states then events in
+//! declaration order, the rules of one (state, event) in source order. The rule that
+//! applies is found by scope lookup ([`Machine::rules_for`]: the state's rules naming the
+//! event, its `_`, then each enclosing group's, innermost first), so inherited group
+//! rules and `_` rules appear on every state they govern: the table is the flattened
+//! machine.
+//!
+//! Columns: present state, event, guard (spec syntax, `-` when none), next state, kind,
+//! Mealy outputs, actions (the whole sequence the step runs, from
+//! [`Machine::transition_actions`]: leave actions, the rule's, enter actions), and the
+//! Moore outputs of the present state.
+//!
+//! `next` is always the state after the step (for `stay`, the present state's name);
+//! `kind` says how it is reached:
+//! - `move`: to another state;
+//! - `self`: an external self-transition (`=> S` in `S`: leave and enter actions run);
+//! - `stay`: an internal transition (no enter/leave actions);
+//! - `ignore`, `reject`, `missing`: no rule covers these valuations (`guard` is the
+//!   uncovered condition as a sum of disjoint cubes, `-` when no rule exists at all);
+//!   `ignore`/`reject` follow the machine's `unhandled` policy, and `missing` is an
+//!   `incomplete` error under `unhandled complete`.
+//!
+//! Formats: [`to_text`] (aligned columns with a header, for a terminal), [`to_json`],
+//! and [`to_csv`] (RFC 4180; the interchange form `detent import` reads back, described
+//! in `docs/table-csv.md`: it adds declaration rows and one row per state so that the
+//! machine can be rebuilt from the file alone).
+//!
+//! Cost: O(states x events x rules per scope) rows; the uncovered condition of each
+//! (state, event) is one BDD disjunction of its rules' guards.
+
+use crate::model::{
+    ActionId, Bdd, BddStore, EventId, Guard, Machine, OutputId, Prop, Property, RuleId, StateId,
+    Target,
+};
+use crate::syntax::ast::{self, DispatchStyle, Expr, Policy, Vis};
+use crate::syntax::print::print_expr;
+use crate::trace::{json_names, json_str};
+use proc_macro2::Span;
+use std::fmt::Write;
+
+/// How a row's step reaches its next state.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum RowKind {
+    /// A rule to another state.
+    Move,
+    /// A rule back to the present state: an external self-transition.
+    SelfLoop,
+    /// A `stay` rule: an internal transition.
+    Stay,
+    /// Uncovered; `unhandled ignore` makes it do nothing.
+    Ignore,
+    /// Uncovered; `unhandled reject` makes it do nothing and report a rejection.
+    Reject,
+    /// Uncovered under `unhandled complete`: an `incomplete` error.
+    Missing,
+}
+
+impl RowKind {
+    /// The word shown in the `kind` column.
+    pub fn name(self) -> &'static str {
+        match self {
+            RowKind::Move => "move",
+            RowKind::SelfLoop => "self",
+            RowKind::Stay => "stay",
+            RowKind::Ignore => "ignore",
+            RowKind::Reject => "reject",
+            RowKind::Missing => "missing",
+        }
+    }
+
+    /// True for the rows of uncovered valuations.
+    pub fn is_unhandled(self) -> bool {
+        matches!(self, RowKind::Ignore | RowKind::Reject | RowKind::Missing)
+    }
+}
+
+/// One row of the state table.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Row {
+    /// The present state.
+    pub state: StateId,
+    /// The event.
+    pub event: EventId,
+    /// The rule that fires; `None` on an unhandled row.
+    pub rule: Option<RuleId>,
+    /// The guard in spec syntax (for unhandled rows, the uncovered condition); `None`
+    /// when the row holds for every valuation.
+    pub guard: Option<String>,
+    /// The state after the step.
+    pub next: StateId,
+    /// How the next state is reached.
+    pub kind: RowKind,
+    /// The rule's Mealy outputs, ascending.
+    pub mealy: Vec<OutputId>,
+    /// Every action the step runs, in order.
+    pub actions: Vec<ActionId>,
+    /// The present state's Moore outputs, ascending.
+    pub moore: Vec<OutputId>,
+}
+
+/// The output formats of `detent table`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TableFormat {
+    /// Aligned columns for a terminal.
+    Text,
+    /// One JSON object.
+    Json,
+    /// RFC 4180 CSV, the form `detent import` reads.
+    Csv,
+}
+
+impl TableFormat {
+    /// Looks a format up by its command-line name (`text`, `json`, `csv`).
+    pub fn from_name(name: &str) -> Option<TableFormat> {
+        match name {
+            "text" => Some(TableFormat::Text),
+            "json" => Some(TableFormat::Json),
+            "csv" => Some(TableFormat::Csv),
+            _ => None,
+        }
+    }
+}
+
+/// Renders the table in a format.
+pub fn render(m: &Machine, format: TableFormat) -> String {
+    match format {
+        TableFormat::Text => to_text(m),
+        TableFormat::Json => to_json(m),
+        TableFormat::Csv => to_csv(m),
+    }
+}
+
+/// The rows of the state table, states then events in declaration order.
+pub fn rows(m: &Machine) -> Vec<Row> {
+    // The uncovered condition needs BDD operations, which extend the node table: work on
+    // a copy so that the machine stays untouched.
+    let mut bdd = m.bdd.clone();
+    let unhandled = match m.policy {
+        Policy::Complete => RowKind::Missing,
+        Policy::Ignore => RowKind::Ignore,
+        Policy::Reject => RowKind::Reject,
+    };
+    let mut out = Vec::new();
+    for (si, st) in m.states.iter().enumerate() {
+        let s = StateId::from_index(si);
+        for ei in 0..m.events.len() {
+            let e = EventId::from_index(ei);
+            let rules: &[RuleId] = m.rules_for(s, e).map_or(&[], |(_, r)| r);
+            let mut covered = Bdd::FALSE;
+            for &r in rules {
+                let rule = &m.rules[r.index()];
+                covered = bdd.or(covered, rule.guard);
+                let kind = match rule.target {
+                    Target::Stay => RowKind::Stay,
+                    Target::To(t) if t == s => RowKind::SelfLoop,
+                    Target::To(_) => RowKind::Move,
+                };
+                out.push(Row {
+                    state: s,
+                    event: e,
+                    rule: Some(r),
+                    guard: rule.guard_expr.as_ref().map(|g| guard_text(m, g)),
+                    next: m.target_of(s, r),
+                    kind,
+                    mealy: rule.mealy.clone(),
+                    actions: m.transition_actions(s, r),
+                    moore: st.moore.clone(),
+                });
+            }
+            if !covered.is_true() {
+                let rest = bdd.not(covered);
+                out.push(Row {
+                    state: s,
+                    event: e,
+                    rule: None,
+                    guard: (!rest.is_true()).then(|| cubes_text(m, &bdd, rest)),
+                    next: s,
+                    kind: unhandled,
+                    mealy: Vec::new(),
+                    actions: Vec::new(),
+                    moore: st.moore.clone(),
+                });
+            }
+        }
+    }
+    out
+}
+
+fn ident(name: &str) -> ast::Ident {
+    ast::Ident {
+        name: name.to_owned(),
+        span: Span::call_site(),
+    }
+}
+
+fn guard_expr(m: &Machine, g: &Guard) -> Expr {
+    match g {
+        Guard::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
+        Guard::Const(b) => Expr::Const(*b, Span::call_site()),
+        Guard::Not(a) => Expr::Not(Box::new(guard_expr(m, a)), Span::call_site()),
+        Guard::And(a, b) => Expr::And(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
+        Guard::Or(a, b) => Expr::Or(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
+    }
+}
+
+/// A guard in spec syntax, with the parentheses its structure needs (the syntax
+/// printer's rules: `!` binds tighter than `&&`, `&&` than `||`).
+pub fn guard_text(m: &Machine, g: &Guard) -> String {
+    print_expr(&guard_expr(m, g))
+}
+
+/// A BDD over inputs in spec syntax, as a disjunction of its disjoint cubes (literals in
+/// input order): `!a || a && !b`. `true` and `false` for the constants.
+pub fn bdd_text(m: &Machine, f: Bdd) -> String {
+    cubes_text(m, &m.bdd, f)
+}
+
+fn cubes_text(m: &Machine, store: &BddStore, f: Bdd) -> String {
+    if f.is_false() {
+        return "false".into();
+    }
+    if f.is_true() {
+        return "true".into();
+    }
+    let cubes: Vec<String> = store
+        .cubes(f)
+        .into_iter()
+        .map(|cube| {
+            cube.iter()
+                .map(|&(v, value)| {
+                    let name = &m.inputs[v as usize].name;
+                    if value {
+                        name.clone()
+                    } else {
+                        format!("!{name}")
+                    }
+                })
+                .collect::<Vec<_>>()
+                .join(" && ")
+        })
+        .collect();
+    cubes.join(" || ")
+}
+
+fn prop_expr(m: &Machine, p: &Prop) -> Expr {
+    let sp = Span::call_site();
+    match p {
+        Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
+        Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
+        Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
+        Prop::InGroup(g) => {
+            // Flattened: `in G` is "in one of G's states".
+            let mut states = m.groups[g.index()].states.iter();
+            match states.next() {
+                None => Expr::Const(false, sp),
+                Some(&first) => states.fold(Expr::In(ident(m.state_name(first))), |acc, &s| {
+                    Expr::Or(Box::new(acc), Box::new(Expr::In(ident(m.state_name(s)))))
+                }),
+            }
+        }
+        Prop::Const(b) => Expr::Const(*b, sp),
+        Prop::Not(a) => Expr::Not(Box::new(prop_expr(m, a)), sp),
+        Prop::And(a, b) => Expr::And(Box::new(prop_expr(m, a)), Box::new(prop_expr(m, b))),
+        Prop::Or(a, b) => Expr::Or(Box::new(prop_expr(m, a)), Box::new(prop_expr(m, b))),
+    }
+}
+
+/// A `never` property in spec syntax over states only: `in G` for a group becomes the
+/// disjunction of `in S` over the group's states, so that it survives flattening.
+pub fn flat_prop_text(m: &Machine, p: &Prop) -> String {
+    print_expr(&prop_expr(m, p))
+}
+
+fn output_names<'a>(m: &'a Machine, list: &[OutputId]) -> Vec<&'a str> {
+    list.iter()
+        .map(|o| m.outputs[o.index()].name.as_str())
+        .collect()
+}
+
+fn action_names<'a>(m: &'a Machine, list: &[ActionId]) -> Vec<&'a str> {
+    list.iter()
+        .map(|a| m.actions[a.index()].name.as_str())
+        .collect()
+}
+
+fn terminal_states(m: &Machine) -> Vec<&str> {
+    m.states
+        .iter()
+        .filter(|s| s.terminal)
+        .map(|s| s.name.as_str())
+        .collect()
+}
+
+/// The table as aligned text columns with a title line and a header, for a terminal.
+/// Lists are joined with `, `; an empty cell shows `-`.
+pub fn to_text(m: &Machine) -> String {
+    let mut out = String::new();
+    let mut title = Vec::new();
+    if m.clocked {
+        title.push("clocked".to_string());
+    }
+    title.push(format!("start {}", m.state_name(m.start)));
+    title.push(format!("unhandled {}", m.policy.keyword()));
+    let terminal = terminal_states(m);
+    if !terminal.is_empty() {
+        title.push(format!("terminal {}", terminal.join(", ")));
+    }
+    let _ = writeln!(out, "machine {} ({})", m.name, title.join(", "));
+
+    let cell = |list: Vec<&str>| {
+        if list.is_empty() {
+            "-".to_string()
+        } else {
+            list.join(", ")
+        }
+    };
+    let header = [
+        "state", "event", "guard", "next", "kind", "mealy", "actions", "moore",
+    ];
+    let mut table: Vec<[String; 8]> = vec![header.map(str::to_string)];
+    for r in rows(m) {
+        table.push([
+            m.state_name(r.state).to_string(),
+            m.event_name(r.event).to_string(),
+            r.guard.clone().unwrap_or_else(|| "-".into()),
+            m.state_name(r.next).to_string(),
+            r.kind.name().to_string(),
+            cell(output_names(m, &r.mealy)),
+            cell(action_names(m, &r.actions)),
+            cell(output_names(m, &r.moore)),
+        ]);
+    }
+    let mut widths = [0usize; 8];
+    for row in &table {
+        for (w, c) in widths.iter_mut().zip(row) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    for row in &table {
+        let mut line = String::new();
+        for (i, c) in row.iter().enumerate() {
+            if i > 0 {
+                line.push_str("  ");
+            }
+            line.push_str(c);
+            if i + 1 < row.len() {
+                line.extend(std::iter::repeat_n(' ', widths[i] - c.chars().count()));
+            }
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+    }
+    out
+}
+
+/// The table as one JSON object: `{"machine":..,"clocked":..,"start":..,"unhandled":..,
+/// "terminal":[..],"rows":[{"state":..,"event":..,"guard":..|null,"next":..,"kind":..,
+/// "mealy":[..],"actions":[..],"moore":[..]}, ..]}`, followed by a newline.
+pub fn to_json(m: &Machine) -> String {
+    let rows: Vec<String> = rows(m)
+        .iter()
+        .map(|r| {
+            format!(
+                "{{\"state\":{},\"event\":{},\"guard\":{},\"next\":{},\"kind\":{},\"mealy\":{},\"actions\":{},\"moore\":{}}}",
+                json_str(m.state_name(r.state)),
+                json_str(m.event_name(r.event)),
+                r.guard.as_deref().map_or_else(|| "null".to_string(), json_str),
+                json_str(m.state_name(r.next)),
+                json_str(r.kind.name()),
+                json_names(output_names(m, &r.mealy).into_iter()),
+                json_names(action_names(m, &r.actions).into_iter()),
+                json_names(output_names(m, &r.moore).into_iter()),
+            )
+        })
+        .collect();
+    format!(
+        "{{\"machine\":{},\"clocked\":{},\"start\":{},\"unhandled\":{},\"terminal\":{},\"rows\":[{}]}}\n",
+        json_str(&m.name),
+        m.clocked,
+        json_str(m.state_name(m.start)),
+        json_str(m.policy.keyword()),
+        json_names(terminal_states(m).into_iter()),
+        rows.join(",")
+    )
+}
+
+/// One CSV field, quoted as RFC 4180 requires when it holds a comma, a quote or a line
+/// break (quotes inside are doubled).
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\r', '\n']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_owned()
+    }
+}
+
+fn csv_record(out: &mut String, fields: [&str; 7]) {
+    let f: Vec<String> = fields.iter().map(|s| csv_field(s)).collect();
+    out.push_str(&f.join(","));
+    out.push_str("\r\n");
+}
+
+fn csv_decl(out: &mut String, key: &str, value: &str) {
+    csv_record(out, [key, value, "", "", "", "", ""]);
+}
+
+/// The table as RFC 4180 CSV (CRLF line ends), self-sufficient for `detent import`; the
+/// format is specified in `docs/table-csv.md`. In brief: the header
+/// `state,event,guard,next,mealy,actions,moore`; declaration rows whose `state` field is
+/// `@machine`, `@events`, `@inputs`, `@outputs`, `@actions`, `@start`, `@unhandled`,
+/// `@never`, `@recover` (and `@vis`, `@dispatch`, `@minimize` when not the default),
+/// value in the `event` field; then per state a state row (empty `event`; `next` is
+/// `terminal` or empty; `moore` its Moore outputs) followed by its rule rows (`next` is
+/// `stay` for an internal transition). Lists are joined by one space. Unhandled rows are
+/// left out: the `@unhandled` row says what they do.
+pub fn to_csv(m: &Machine) -> String {
+    let mut out = String::new();
+    csv_record(
+        &mut out,
+        [
+            "state", "event", "guard", "next", "mealy", "actions", "moore",
+        ],
+    );
+    let join = |names: Vec<&str>| names.join(" ");
+    csv_decl(&mut out, "@machine", &m.name);
+    match m.vis {
+        Vis::Private => {}
+        Vis::Pub => csv_decl(&mut out, "@vis", "pub"),
+        Vis::PubCrate => csv_decl(&mut out, "@vis", "pub(crate)"),
+    }
+    if m.dispatch == DispatchStyle::Match {
+        csv_decl(&mut out, "@dispatch", "match");
+    }
+    if m.minimize {
+        csv_decl(&mut out, "@minimize", "");
+    }
+    if !m.clocked {
+        csv_decl(
+            &mut out,
+            "@events",
+            &join(m.events.iter().map(|e| e.name.as_str()).collect()),
+        );
+    }
+    csv_decl(
+        &mut out,
+        "@inputs",
+        &join(m.inputs.iter().map(|e| e.name.as_str()).collect()),
+    );
+    csv_decl(
+        &mut out,
+        "@outputs",
+        &join(m.outputs.iter().map(|e| e.name.as_str()).collect()),
+    );
+    csv_decl(
+        &mut out,
+        "@actions",
+        &join(m.actions.iter().map(|e| e.name.as_str()).collect()),
+    );
+    csv_decl(&mut out, "@start", m.state_name(m.start));
+    csv_decl(&mut out, "@unhandled", m.policy.keyword());
+    for p in &m.properties {
+        match p {
+            Property::Never { prop, .. } => csv_decl(&mut out, "@never", &flat_prop_text(m, prop)),
+            Property::Recover { target, except, .. } => {
+                let mut text = m.state_name(*target).to_string();
+                if !except.is_empty() {
+                    let names: Vec<&str> = except.iter().map(|s| m.state_name(*s)).collect();
+                    let _ = write!(text, " except {}", names.join(", "));
+                }
+                csv_decl(&mut out, "@recover", &text);
+            }
+        }
+    }
+    let all = rows(m);
+    let mut next_row = all.iter().peekable();
+    for (si, st) in m.states.iter().enumerate() {
+        let s = StateId::from_index(si);
+        let moore = join(output_names(m, &st.moore));
+        csv_record(
+            &mut out,
+            [
+                &st.name,
+                "",
+                "",
+                if st.terminal { "terminal" } else { "" },
+                "",
+                "",
+                &moore,
+            ],
+        );
+        while let Some(r) = next_row.next_if(|r| r.state == s) {
+            if r.kind.is_unhandled() {
+                continue;
+            }
+            let next = if r.kind == RowKind::Stay {
+                "stay"
+            } else {
+                m.state_name(r.next)
+            };
+            csv_record(
+                &mut out,
+                [
+                    &st.name,
+                    m.event_name(r.event),
+                    r.guard.as_deref().unwrap_or(""),
+                    next,
+                    &join(output_names(m, &r.mealy)),
+                    &join(action_names(m, &r.actions)),
+                    &moore,
+                ],
+            );
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn machine(src: &str) -> Machine {
+        let file = crate::syntax::parse_source(src).expect("test spec parses");
+        let (mut machines, errors) = crate::model::resolve_file(&file);
+        assert!(errors.is_empty(), "test spec resolves: {errors:?}");
+        machines.remove(0)
+    }
+
+    /// Guards (printed back in spec syntax), partly covered pairs under `unhandled
+    /// ignore`, an inherited group rule and Moore output, a terminal state, and
+    /// properties (`in Wet` flattened to its states in the CSV).
+    const TANK: &str = "
+        pub machine Tank {
+            events Fill, Drain;
+            inputs full, leak;
+            outputs valve, alarm;
+            actions log;
+            start Empty;
+            unhandled ignore;
+            never in Wet && alarm;
+            recover to Empty except Broken;
+
+            state Empty {
+                Fill if !(full || leak) => Filling;
+                Fill if leak && !full => Broken, emit alarm, do log;
+            }
+            group Wet emit valve {
+                Drain => Empty;
+                state Filling {
+                    Fill if full => stay;
+                }
+            }
+            terminal state Broken emit alarm;
+        }";
+
+    /// The Gate machine of the trace tests: `_` at two levels, enter/leave actions,
+    /// `stay` against a self-transition, `unhandled reject`.
+    const GATE: &str = "
+        machine Gate {
+            events Open, Close, Knock, Ping;
+            outputs busy;
+            actions log, ring, door_in, door_out, shut_in, shut_out;
+            start Shut;
+            unhandled reject;
+            recover to Shut except Locked, Ajar;
+
+            group Door {
+                enter do door_in;
+                leave do door_out;
+                Knock => stay, do ring;
+                _ => Shut, do log;
+                state Shut {
+                    enter do shut_in;
+                    leave do shut_out;
+                    Open => Ajar;
+                    Ping => Locked;
+                }
+                state Ajar emit busy {
+                    Close => Shut;
+                    _ => stay;
+                }
+            }
+            state Locked {
+                Open => Shut;
+            }
+        }";
+
+    #[test]
+    fn text_table_of_guards_and_ignored_rest() {
+        let m = machine(TANK);
+        // Worked by hand: Empty's two Fill guards cover `!full`, so `full` is left to
+        // `unhandled ignore`; Filling inherits Wet's Drain rule and Moore output.
+        let expected = "\
+machine Tank (start Empty, unhandled ignore, terminal Broken)
+state    event  guard            next     kind    mealy  actions  moore
+Empty    Fill   !(full || leak)  Filling  move    -      -        -
+Empty    Fill   leak && !full    Broken   move    alarm  log      -
+Empty    Fill   full             Empty    ignore  -      -        -
+Empty    Drain  -                Empty    ignore  -      -        -
+Filling  Fill   full             Filling  stay    -      -        valve
+Filling  Fill   !full            Filling  ignore  -      -        valve
+Filling  Drain  -                Empty    move    -      -        valve
+Broken   Fill   -                Broken   ignore  -      -        alarm
+Broken   Drain  -                Broken   ignore  -      -        alarm
+";
+        assert_eq!(to_text(&m), expected);
+    }
+
+    #[test]
+    fn text_table_of_wildcards_actions_and_reject() {
+        let m = machine(GATE);
+        // The same steps as the trace test `wildcards_scopes_and_reject`.
+        let expected = "\
+machine Gate (start Shut, unhandled reject)
+state   event  guard  next    kind    mealy  actions                 moore
+Shut    Open   -      Ajar    move    -      shut_out                -
+Shut    Close  -      Shut    self    -      shut_out, log, shut_in  -
+Shut    Knock  -      Shut    stay    -      ring                    -
+Shut    Ping   -      Locked  move    -      shut_out, door_out      -
+Ajar    Open   -      Ajar    stay    -      -                       busy
+Ajar    Close  -      Shut    move    -      shut_in                 busy
+Ajar    Knock  -      Ajar    stay    -      -                       busy
+Ajar    Ping   -      Ajar    stay    -      -                       busy
+Locked  Open   -      Shut    move    -      door_in, shut_in        -
+Locked  Close  -      Locked  reject  -      -                       -
+Locked  Knock  -      Locked  reject  -      -                       -
+Locked  Ping   -      Locked  reject  -      -                       -
+";
+        assert_eq!(to_text(&m), expected);
+    }
+
+    #[test]
+    fn json_table() {
+        let m = machine(TANK);
+        let expected = concat!(
+            r#"{"machine":"Tank","clocked":false,"start":"Empty","unhandled":"ignore","terminal":["Broken"],"rows":["#,
+            r#"{"state":"Empty","event":"Fill","guard":"!(full || leak)","next":"Filling","kind":"move","mealy":[],"actions":[],"moore":[]},"#,
+            r#"{"state":"Empty","event":"Fill","guard":"leak && !full","next":"Broken","kind":"move","mealy":["alarm"],"actions":["log"],"moore":[]},"#,
+            r#"{"state":"Empty","event":"Fill","guard":"full","next":"Empty","kind":"ignore","mealy":[],"actions":[],"moore":[]},"#,
+            r#"{"state":"Empty","event":"Drain","guard":null,"next":"Empty","kind":"ignore","mealy":[],"actions":[],"moore":[]},"#,
+            r#"{"state":"Filling","event":"Fill","guard":"full","next":"Filling","kind":"stay","mealy":[],"actions":[],"moore":["valve"]},"#,
+            r#"{"state":"Filling","event":"Fill","guard":"!full","next":"Filling","kind":"ignore","mealy":[],"actions":[],"moore":["valve"]},"#,
+            r#"{"state":"Filling","event":"Drain","guard":null,"next":"Empty","kind":"move","mealy":[],"actions":[],"moore":["valve"]},"#,
+            r#"{"state":"Broken","event":"Fill","guard":null,"next":"Broken","kind":"ignore","mealy":[],"actions":[],"moore":["alarm"]},"#,
+            r#"{"state":"Broken","event":"Drain","guard":null,"next":"Broken","kind":"ignore","mealy":[],"actions":[],"moore":["alarm"]}"#,
+            "]}\n"
+        );
+        let got = to_json(&m);
+        assert_eq!(got, expected);
+        // And it is JSON.
+        let v: serde_json::Value = serde_json::from_str(&got).unwrap();
+        assert_eq!(v["rows"].as_array().map(Vec::len), Some(9));
+    }
+
+    #[test]
+    fn csv_tables() {
+        let tank = "state,event,guard,next,mealy,actions,moore\r\n\
+@machine,Tank,,,,,\r\n\
+@vis,pub,,,,,\r\n\
+@events,Fill Drain,,,,,\r\n\
+@inputs,full leak,,,,,\r\n\
+@outputs,valve alarm,,,,,\r\n\
+@actions,log,,,,,\r\n\
+@start,Empty,,,,,\r\n\
+@unhandled,ignore,,,,,\r\n\
+@never,in Filling && alarm,,,,,\r\n\
+@recover,Empty except Broken,,,,,\r\n\
+Empty,,,,,,\r\n\
+Empty,Fill,!(full || leak),Filling,,,\r\n\
+Empty,Fill,leak && !full,Broken,alarm,log,\r\n\
+Filling,,,,,,valve\r\n\
+Filling,Fill,full,stay,,,valve\r\n\
+Filling,Drain,,Empty,,,valve\r\n\
+Broken,,,terminal,,,alarm\r\n";
+        assert_eq!(to_csv(&machine(TANK)), tank);
+        let gate = "state,event,guard,next,mealy,actions,moore\r\n\
+@machine,Gate,,,,,\r\n\
+@events,Open Close Knock Ping,,,,,\r\n\
+@inputs,,,,,,\r\n\
+@outputs,busy,,,,,\r\n\
+@actions,log ring door_in door_out shut_in shut_out,,,,,\r\n\
+@start,Shut,,,,,\r\n\
+@unhandled,reject,,,,,\r\n\
+@recover,\"Shut except Locked, Ajar\",,,,,\r\n\
+Shut,,,,,,\r\n\
+Shut,Open,,Ajar,,shut_out,\r\n\
+Shut,Close,,Shut,,shut_out log shut_in,\r\n\
+Shut,Knock,,stay,,ring,\r\n\
+Shut,Ping,,Locked,,shut_out door_out,\r\n\
+Ajar,,,,,,busy\r\n\
+Ajar,Open,,stay,,,busy\r\n\
+Ajar,Close,,Shut,,shut_in,busy\r\n\
+Ajar,Knock,,stay,,,busy\r\n\
+Ajar,Ping,,stay,,,busy\r\n\
+Locked,,,,,,\r\n\
+Locked,Open,,Shut,,door_in shut_in,\r\n";
+        assert_eq!(to_csv(&machine(GATE)), gate);
+    }
+
+    #[test]
+    fn clocked_table_and_missing_rows() {
+        // A clocked machine has no `@events` row and its event is `Tick`; under
+        // `unhandled complete` an uncovered valuation is a `missing` row (the checker
+        // reports it as `incomplete`; the table still shows it).
+        let m = machine(
+            "#[dispatch(match)]
+            machine Det {
+                inputs bit;
+                outputs found;
+                start S0;
+                state S0 { if bit => S1; }
+                state S1 emit found { if bit => S1; if !bit => S0; }
+            }",
+        );
+        assert_eq!(
+            to_text(&m),
+            "\
+machine Det (clocked, start S0, unhandled complete)
+state  event  guard  next  kind     mealy  actions  moore
+S0     Tick   bit    S1    move     -      -        -
+S0     Tick   !bit   S0    missing  -      -        -
+S1     Tick   bit    S1    self     -      -        found
+S1     Tick   !bit   S0    move     -      -        found
+"
+        );
+        assert_eq!(
+            to_csv(&m),
+            "state,event,guard,next,mealy,actions,moore\r\n\
+@machine,Det,,,,,\r\n\
+@dispatch,match,,,,,\r\n\
+@inputs,bit,,,,,\r\n\
+@outputs,found,,,,,\r\n\
+@actions,,,,,,\r\n\
+@start,S0,,,,,\r\n\
+@unhandled,complete,,,,,\r\n\
+S0,,,,,,\r\n\
+S0,Tick,bit,S1,,,\r\n\
+S1,,,,,,found\r\n\
+S1,Tick,bit,S1,,,found\r\n\
+S1,Tick,!bit,S0,,,found\r\n"
+        );
+    }
+
+    #[test]
+    fn guard_and_bdd_text() {
+        let m = machine(
+            "machine G {
+                events E;
+                inputs a, b, c;
+                start S;
+                state S {
+                    E if !(a && b) || !c && (a || b) => stay;
+                    E if a && b && c => stay;
+                }
+            }",
+        );
+        let g0 = m.rules[0].guard_expr.as_ref().unwrap();
+        assert_eq!(guard_text(&m, g0), "!(a && b) || !c && (a || b)");
+        // The first guard is !(a && b) || ...: its complement is a && b && c (the
+        // second rule), one cube.
+        let mut store = m.bdd.clone();
+        let rest = store.not(m.rules[0].guard);
+        assert_eq!(cubes_text(&m, &store, rest), "a && b && c");
+        assert_eq!(bdd_text(&m, Bdd::TRUE), "true");
+        assert_eq!(bdd_text(&m, Bdd::FALSE), "false");
+        // The two rules cover everything: no unhandled row.
+        assert!(rows(&m).iter().all(|r| !r.kind.is_unhandled()));
+    }
+
+    #[test]
+    fn csv_quoting_follows_rfc_4180() {
+        // RFC 4180, section 2, rules 6 and 7: fields with commas, quotes or line breaks
+        // are enclosed in double quotes, and a quote inside is doubled.
+        assert_eq!(csv_field("plain"), "plain");
+        assert_eq!(csv_field("a, b"), "\"a, b\"");
+        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(csv_field("two\nlines"), "\"two\nlines\"");
+        assert_eq!(csv_field(""), "");
+    }
+}

@@ -1,0 +1,433 @@
+//! Every spec in `examples/` parses, resolves, checks clean, runs a hand-worked trace
+//! through the reference interpreter, and satisfies its own `never` / `recover to`
+//! properties by exhaustive exploration (an independent reference for the checker's
+//! property search: plain breadth-first search over states x events x all input
+//! valuations, fine for the few inputs the examples have).
+
+use detent_compiler::check::check_source;
+use detent_compiler::interp::StepResult;
+use detent_compiler::model::{EventId, Machine, Prop, Property, StateId};
+use detent_compiler::trace::parse_trace;
+use std::collections::VecDeque;
+use std::path::PathBuf;
+
+fn examples_dir() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../examples")
+}
+
+/// Every `examples/*.detent`, sorted by name.
+fn example_files() -> Vec<(String, String)> {
+    let mut files: Vec<(String, String)> = std::fs::read_dir(examples_dir())
+        .expect("examples/ exists")
+        .filter_map(|e| e.ok())
+        .map(|e| e.path())
+        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
+        .map(|p| {
+            let name = p
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default();
+            let text = std::fs::read_to_string(&p).expect("example is readable");
+            (name, text)
+        })
+        .collect();
+    files.sort();
+    files
+}
+
+fn load(name: &str, text: &str) -> Machine {
+    let file = detent_compiler::syntax::parse_source(text)
+        .unwrap_or_else(|e| panic!("{name}: syntax error: {}", e.message));
+    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
+    assert!(errors.is_empty(), "{name}: resolve errors: {errors:?}");
+    assert_eq!(machines.len(), 1, "{name}: one machine per example");
+    machines.remove(0)
+}
+
+/// One step, compactly: `To [outputs] {actions}`, plus ` unhandled` when no rule fired.
+fn show(m: &Machine, r: &StepResult) -> String {
+    let outs: Vec<&str> = r
+        .outputs()
+        .iter()
+        .map(|o| m.outputs[o.index()].name.as_str())
+        .collect();
+    let acts: Vec<&str> = r
+        .actions
+        .iter()
+        .map(|a| m.actions[a.index()].name.as_str())
+        .collect();
+    let mut s = format!(
+        "{} [{}] {{{}}}",
+        m.state_name(r.to),
+        outs.join(" "),
+        acts.join(" ")
+    );
+    if !r.handled() {
+        s.push_str(" unhandled");
+    }
+    s
+}
+
+/// The expected steps of each example's hand-worked trace `examples/<name>.trace`
+/// (worked out by hand from LANGUAGE.md's meaning): (spec file, steps).
+fn hand_traces() -> Vec<(&'static str, Vec<&'static str>)> {
+    vec![
+        (
+            "debounce.detent",
+            vec![
+                "Pressing1 [] {}",
+                "Released [] {}",
+                "Pressing1 [] {}",
+                "Pressing2 [] {}",
+                "Pressed [pressed press_edge] {on_press}",
+                "Pressed [pressed] {}",
+                "Releasing1 [pressed] {}",
+                "Pressed [pressed] {}",
+                "Releasing1 [pressed] {}",
+                "Releasing2 [pressed] {}",
+                "Released [] {on_release}",
+            ],
+        ),
+        (
+            "frame_parser.detent",
+            vec![
+                "Hunt [] {} unhandled",
+                "Length [receiving] {reset_frame}",
+                "Payload [receiving] {store_length}",
+                "Payload [receiving] {store_byte}",
+                "Checksum [receiving] {store_byte}",
+                "Hunt [frame_ready] {deliver_frame}",
+                "Length [receiving] {reset_frame}",
+                // InFrame's Sync rule from Length back to Length: a self-transition.
+                "Length [receiving] {count_resync reset_frame}",
+                "Hunt [] {count_gap}",
+            ],
+        ),
+        (
+            "greenhouse.detent",
+            vec![
+                "Heating [heater] {}",
+                "Holding [] {}",
+                "Venting [vent_open] {}",
+                "Circulating [circulation_fan] {log_rain}",
+                "StormHold [] {log_wind}",
+                "StormHold [heater] {}",
+                "Holding [] {log_wind}",
+            ],
+        ),
+        (
+            "kiln.detent",
+            vec![
+                "Idle [] {sound_buzzer}",
+                "Ramping [heater lid_lock] {log_cycle_start close_contactor}",
+                "Ramping [heater lid_lock] {}",
+                "Soaking [lid_lock] {start_soak_timer}",
+                "Soaking [heater lid_lock] {}",
+                "Cooling [vent_fan lid_lock] {open_contactor}",
+                "Idle [] {log_cycle_end sound_buzzer}",
+                "Ramping [heater lid_lock] {log_cycle_start close_contactor}",
+                "Fault [vent_fan fault_lamp] {open_contactor log_cycle_end log_fault}",
+                "Fault [vent_fan fault_lamp] {}",
+            ],
+        ),
+        (
+            "locker.detent",
+            vec![
+                "Entering [keypad_lit] {buffer_digit}",
+                "Locked [] {clear_buffer count_failure beep_error}",
+                "Entering [keypad_lit] {buffer_digit}",
+                "Unlocked [bolt_released] {clear_buffer reset_failures release_bolt}",
+                "Unlocked [bolt_released] {}",
+                "Locked [] {engage_bolt}",
+                "Entering [keypad_lit] {buffer_digit}",
+                "Lockout [lockout_lamp] {clear_buffer count_failure start_lockout_timer}",
+                "Lockout [lockout_lamp] {beep_error}",
+                "Locked [] {reset_failures}",
+            ],
+        ),
+        (
+            "pattern_detector.detent",
+            vec![
+                "Got1 [] {}",
+                "Got10 [] {}",
+                "Got101 [] {}",
+                "Found [found] {}",
+                "Got10 [] {}",
+                "Got101 [] {}",
+                "Found [found] {}",
+                "Got10 [] {}",
+                "Idle [] {}",
+            ],
+        ),
+    ]
+}
+
+#[test]
+fn there_are_enough_examples_and_each_has_a_trace() {
+    let files: Vec<String> = example_files().into_iter().map(|(n, _)| n).collect();
+    assert!(files.len() >= 5, "at least five examples, found {files:?}");
+    let traced: Vec<&str> = hand_traces().iter().map(|t| t.0).collect();
+    for f in &files {
+        assert!(
+            traced.contains(&f.as_str()),
+            "{f} has no hand-worked trace in this test"
+        );
+    }
+}
+
+#[test]
+fn examples_check_clean() {
+    for (name, text) in example_files() {
+        let report = check_source(&name, &text);
+        let findings: Vec<String> = report.diagnostics().map(|d| d.message.clone()).collect();
+        assert!(findings.is_empty(), "{name}: {findings:?}");
+    }
+}
+
+#[test]
+fn examples_run_hand_worked_traces() {
+    let files = example_files();
+    for (name, expected) in hand_traces() {
+        let text = &files
+            .iter()
+            .find(|(n, _)| n == name)
+            .unwrap_or_else(|| panic!("examples/{name} is missing"))
+            .1;
+        let m = load(name, text);
+        let trace_path = examples_dir().join(name.replace(".detent", ".trace"));
+        let trace = std::fs::read_to_string(&trace_path)
+            .unwrap_or_else(|e| panic!("{}: {e}", trace_path.display()));
+        let steps = parse_trace(&m, &trace).unwrap_or_else(|e| panic!("{name}: {e}"));
+        let mut state = m.start;
+        let got: Vec<String> = steps
+            .iter()
+            .map(|s| {
+                let r = m.step(state, s.event, &s.inputs);
+                state = r.to;
+                show(&m, &r)
+            })
+            .collect();
+        assert_eq!(got, expected, "{name}");
+    }
+}
+
+/// What a `never` property sees in one step.
+struct StepView<'a> {
+    m: &'a Machine,
+    to: StateId,
+    inputs: &'a [bool],
+    result: Option<&'a StepResult>,
+}
+
+fn eval(p: &Prop, v: &StepView) -> bool {
+    match p {
+        Prop::Input(i) => v.inputs.get(i.index()).copied().unwrap_or(false),
+        Prop::Output(o) => match v.result {
+            Some(r) => r.outputs().contains(o),
+            None => v.m.states[v.to.index()].moore.contains(o),
+        },
+        Prop::Action(a) => v.result.is_some_and(|r| r.actions.contains(a)),
+        Prop::InState(s) => v.to == *s,
+        Prop::InGroup(g) => v.m.group_contains(*g, v.to),
+        Prop::Const(b) => *b,
+        Prop::Not(a) => !eval(a, v),
+        Prop::And(a, b) => eval(a, v) && eval(b, v),
+        Prop::Or(a, b) => eval(a, v) || eval(b, v),
+    }
+}
+
+/// Every (state, step result) transition: all events x all input valuations.
+fn successors(m: &Machine, s: StateId) -> Vec<(Vec<bool>, StepResult)> {
+    let n = m.inputs.len();
+    assert!(n <= 12, "exhaustive exploration is for small examples");
+    let mut out = Vec::new();
+    for e in 0..m.events.len() {
+        for bits in 0..(1u32 << n) {
+            let inputs: Vec<bool> = (0..n).map(|i| bits >> i & 1 == 1).collect();
+            let r = m.step(s, EventId::from_index(e), &inputs);
+            out.push((inputs, r));
+        }
+    }
+    out
+}
+
+/// States reachable from the start without expanding through `blocked` states.
+fn reachable(m: &Machine, blocked: &[StateId]) -> Vec<bool> {
+    let mut seen = vec![false; m.states.len()];
+    let mut queue = VecDeque::from([m.start]);
+    seen[m.start.index()] = true;
+    while let Some(s) = queue.pop_front() {
+        if blocked.contains(&s) {
+            continue;
+        }
+        for (_, r) in successors(m, s) {
+            if !seen[r.to.index()] {
+                seen[r.to.index()] = true;
+                queue.push_back(r.to);
+            }
+        }
+    }
+    seen
+}
+
+#[test]
+fn examples_satisfy_their_properties_exhaustively() {
+    let mut checked = 0;
+    for (name, text) in example_files() {
+        let m = load(&name, &text);
+        let live = reachable(&m, &[]);
+        for p in &m.properties {
+            checked += 1;
+            match p {
+                Property::Never { prop, text, .. } => {
+                    let start = StepView {
+                        m: &m,
+                        to: m.start,
+                        inputs: &[],
+                        result: None,
+                    };
+                    assert!(!eval(prop, &start), "{name}: `{text}` holds at step 0");
+                    for s in (0..m.states.len()).map(StateId::from_index) {
+                        if !live[s.index()] {
+                            continue;
+                        }
+                        for (inputs, r) in successors(&m, s) {
+                            let v = StepView {
+                                m: &m,
+                                to: r.to,
+                                inputs: &inputs,
+                                result: Some(&r),
+                            };
+                            assert!(
+                                !eval(prop, &v),
+                                "{name}: `{text}` holds after {} --{}--> {}",
+                                m.state_name(s),
+                                m.event_name(r.event),
+                                m.state_name(r.to)
+                            );
+                        }
+                    }
+                }
+                Property::Recover {
+                    target,
+                    except,
+                    text,
+                    ..
+                } => {
+                    // Backward reachability to the target over every transition.
+                    let mut reaches = vec![false; m.states.len()];
+                    reaches[target.index()] = true;
+                    let edges: Vec<(StateId, StateId)> = (0..m.states.len())
+                        .map(StateId::from_index)
+                        .flat_map(|s| successors(&m, s).into_iter().map(move |(_, r)| (s, r.to)))
+                        .collect();
+                    let mut changed = true;
+                    while changed {
+                        changed = false;
+                        for &(a, b) in &edges {
+                            if reaches[b.index()] && !reaches[a.index()] {
+                                reaches[a.index()] = true;
+                                changed = true;
+                            }
+                        }
+                    }
+                    let obliged = reachable(&m, except);
+                    for (i, st) in m.states.iter().enumerate() {
+                        let exempt = except.contains(&StateId::from_index(i));
+                        if obliged[i] && !exempt {
+                            assert!(reaches[i], "{name}: `{text}` fails from `{}`", st.name);
+                        }
+                    }
+                }
+            }
+        }
+    }
+    assert!(
+        checked >= 10,
+        "the examples declare properties ({checked} checked)"
+    );
+}
+
+/// Splits RFC 4180 CSV into records of fields (quoted fields, doubled quotes, CRLF).
+fn csv_records(text: &str) -> Vec<Vec<String>> {
+    let mut records = Vec::new();
+    let mut record = Vec::new();
+    let mut field = String::new();
+    let mut quoted = false;
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        match (quoted, c) {
+            (true, '"') if chars.peek() == Some(&'"') => {
+                chars.next();
+                field.push('"');
+            }
+            (true, '"') => quoted = false,
+            (true, c) => field.push(c),
+            (false, '"') if field.is_empty() => quoted = true,
+            (false, ',') => record.push(std::mem::take(&mut field)),
+            (false, '\r') if chars.peek() == Some(&'\n') => {}
+            (false, '\n') => {
+                record.push(std::mem::take(&mut field));
+                records.push(std::mem::take(&mut record));
+            }
+            (false, c) => field.push(c),
+        }
+    }
+    records
+}
+
+#[test]
+fn examples_tables_render_consistently() {
+    use detent_compiler::table;
+    for (name, text) in example_files() {
+        let m = load(&name, &text);
+        let rows = table::rows(&m);
+        // Clean examples are complete or use a policy: no `missing` rows.
+        assert!(
+            rows.iter().all(|r| r.kind != table::RowKind::Missing),
+            "{name}: missing rows"
+        );
+        let json: serde_json::Value =
+            serde_json::from_str(&table::to_json(&m)).expect("table JSON parses");
+        assert_eq!(
+            json["rows"].as_array().map(Vec::len),
+            Some(rows.len()),
+            "{name}"
+        );
+        let text_table = table::to_text(&m);
+        assert_eq!(text_table.lines().count(), rows.len() + 2, "{name}");
+
+        let records = csv_records(&table::to_csv(&m));
+        assert!(records.iter().all(|r| r.len() == 7), "{name}: 7 fields");
+        assert_eq!(
+            records[0],
+            ["state", "event", "guard", "next", "mealy", "actions", "moore"]
+        );
+        let state_rows: Vec<&str> = records
+            .iter()
+            .filter(|r| !r[0].starts_with('@') && r[1].is_empty())
+            .map(|r| r[0].as_str())
+            .collect();
+        let names: Vec<&str> = m.states.iter().map(|s| s.name.as_str()).collect();
+        assert_eq!(
+            state_rows,
+            names[..],
+            "{name}: one state row per state, in order"
+        );
+        let rule_rows = records
+            .iter()
+            .skip(1)
+            .filter(|r| !r[0].starts_with('@') && !r[1].is_empty())
+            .count();
+        assert_eq!(
+            rule_rows,
+            rows.iter().filter(|r| !r.kind.is_unhandled()).count(),
+            "{name}"
+        );
+        let properties = records
+            .iter()
+            .filter(|r| r[0] == "@never" || r[0] == "@recover")
+            .count();
+        assert_eq!(properties, m.properties.len(), "{name}");
+    }
+}

@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# Installs everything the tests need, then runs every test, lint and build check.
+#
+#   scripts/test.sh
+#
+# Debian packages: iverilog (Verilog simulation), gcc-arm-none-eabi (Cortex-M
+# cross-builds), graphviz (DOT parsing), cppcheck (C static analysis), librsvg2-bin
+# (SVG rendering). Python packages (sympy, automata-lib) go into .venv/. Nothing is
+# skipped: a tool that cannot be installed makes this script fail and say why.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+say() { printf '\n== %s\n' "$*"; }
+
+say "Debian packages"
+missing=()
+for pair in iverilog:iverilog arm-none-eabi-gcc:gcc-arm-none-eabi arm-none-eabi-size:binutils-arm-none-eabi \
+            dot:graphviz cppcheck:cppcheck rsvg-convert:librsvg2-bin gcc:gcc; do
+  tool=${pair%%:*}; pkg=${pair#*:}
+  command -v "$tool" >/dev/null 2>&1 || missing+=("$pkg")
+done
+if [ ${#missing[@]} -gt 0 ]; then
+  echo "installing: ${missing[*]}"
+  if [ "$(id -u)" -eq 0 ]; then SUDO=""; else SUDO="sudo"; fi
+  $SUDO apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${missing[@]}" >/dev/null
+fi
+for tool in iverilog vvp arm-none-eabi-gcc arm-none-eabi-size dot cppcheck rsvg-convert gcc; do
+  command -v "$tool" >/dev/null 2>&1 || { echo "error: $tool is still missing after installing"; exit 1; }
+done
+
+say "Python reference tools (.venv)"
+if [ ! -x .venv/bin/python ]; then
+  python3 -m venv .venv
+fi
+.venv/bin/python -m pip install -q --disable-pip-version-check -r tests/python/requirements.txt
+export DETENT_PYTHON="$PWD/.venv/bin/python"
+
+say "Format and lints"
+cargo fmt --all -- --check
+cargo clippy --workspace --all-targets -- -D warnings
+
+say "Runtime features"
+for f in defmt serde defmt-trace; do
+  cargo build -q -p detent --features "$f"
+done
+cargo build -q -p detent --all-features
+
+say "Tests"
+if cargo nextest --version >/dev/null 2>&1; then
+  cargo nextest run --workspace --no-fail-fast
+else
+  cargo test --workspace --no-fail-fast
+fi
+cargo test --workspace --doc
+
+say "Examples: the README's main command"
+cargo run -q -p detent-cli -- check examples/*.detent
