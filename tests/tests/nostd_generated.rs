@@ -123,3 +123,36 @@ fn generated_code_is_no_std_and_panic_free_in_both_styles() {
     }
     assert_eq!(checked, files.len() * 2);
 }
+
+#[test]
+fn generated_code_builds_with_every_runtime_feature() {
+    // defmt derives and the per-transition trace, serde derives: the generated enums
+    // and structs go through the runtime's `__derive_extras!`/`__trace_transition!`.
+    let path = workspace_root().join("tests/specs/door_lock.detent");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let report = check_source("door_lock.detent", &text);
+    let machines: Vec<Machine> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
+    for (style, name) in [
+        (DispatchStyle::Table, "table"),
+        (DispatchStyle::Match, "match"),
+    ] {
+        let mut code = generate_file("door_lock.detent", &machines, Some(style));
+        code.push_str(&entry_points(&machines[0], "0"));
+        let options = detent_tests::nostd::NoStdOptions {
+            detent_features: vec!["defmt-trace".into(), "serde".into()],
+            env: vec![("DEFMT_LOG".into(), "trace".into())],
+            ..Default::default()
+        };
+        let built = detent_tests::nostd::build_nostd_and_check_with(
+            &format!("nostd_features_{name}"),
+            &code,
+            &options,
+        )
+        .unwrap_or_else(|e| panic!("{name}: {e}"));
+        assert!(built.defines("step_entry0"), "{:?}", built.functions());
+    }
+}

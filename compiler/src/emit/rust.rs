@@ -81,7 +81,7 @@ pub fn machine_items(m: &Machine, style: DispatchStyle) -> TokenStream {
     let g = Gen::new(m);
     let types = g.types();
     let hooks = g.hooks();
-    let machine_impl = g.machine_impl(style);
+    let machine_impl = g.machine_impl();
     let body = match style {
         DispatchStyle::Table => g.table_dispatch(),
         DispatchStyle::Match => g.match_dispatch(),
@@ -588,7 +588,7 @@ impl<'a> Gen<'a> {
 
     /// `impl Machine` (all but `step` and `outputs`, which the dispatch style writes),
     /// `Default` and the runtime's `StateMachine`.
-    fn machine_impl(&self, _style: DispatchStyle) -> TokenStream {
+    fn machine_impl(&self) -> TokenStream {
         let m = self.m;
         let start = self.state_variant(m.start);
         let state_ty = &self.state_ty;
