@@ -122,6 +122,28 @@ fn write_differential_machines() {
     index.push_str("];\n");
     all.push_str(&index);
     std::fs::write(out.join("differential.rs"), all).expect("write differential.rs");
+
+    // A machine past 256 states: `State` becomes `#[repr(u16)]`.
+    let mut wide = String::from("pub machine Wide {\n    events Next, Back;\n    start W0;\n");
+    for i in 0..300 {
+        let _ = writeln!(
+            wide,
+            "    state W{i} {{ Next => W{}; Back => W{}; }}",
+            (i + 1) % 300,
+            (i + 299) % 300
+        );
+    }
+    wide.push_str("}\n");
+    let wide_path = out.join("wide.detent");
+    std::fs::write(&wide_path, wide).expect("write wide.detent");
+    std::fs::write(
+        out.join("wide.rs"),
+        format!(
+            "#[::detent::machine_file(file = {:?})]\npub mod wide {{}}\n",
+            wide_path.display().to_string()
+        ),
+    )
+    .expect("write wide.rs");
 }
 
 /// A `Hooks` impl for the test recorder and a `run_<form>` function for one form.
