@@ -4,12 +4,14 @@
 # without the machine (both with warm dependencies; the leaf crate alone rebuilds).
 #
 # Usage: scripts/measure-macro-expansion.sh [STATES] [RUNS]
+# With OPT_MACROS=1 the crates build the macro optimized
+# (`[profile.dev.build-override] opt-level = 3`, common practice for heavy macros).
 set -euo pipefail
 states=${1:-1000}
 runs=${2:-3}
 root=$(cd "$(dirname "$0")/.." && pwd)
 work=$(mktemp -d)
-target=${CARGO_TARGET_DIR:-$root/target}/macro-expansion-bench
+target=${CARGO_TARGET_DIR:-$root/target}/macro-expansion-bench${OPT_MACROS:+-opt}
 trap 'rm -rf "$work"' EXIT
 
 # A ring of states with guards, a group-free layout, Moore and Mealy outputs and
@@ -49,6 +51,9 @@ publish = false
 detent = { path = "$root/runtime" }
 [workspace]
 TOML
+  if [[ ${OPT_MACROS:-0} == 1 ]]; then
+    printf '[profile.dev.build-override]\nopt-level = 3\n' >>"$dir/Cargo.toml"
+  fi
   cp "$root/Cargo.lock" "$dir/Cargo.lock"
   {
     if [[ $2 == 1 ]]; then

@@ -8,6 +8,23 @@
 //!   (A crate cannot export a function-like and an attribute macro under one name, so
 //!   the file form is `machine_file`.)
 //!
+//! Where the file form puts the code: a file with one machine (or `machine = "Name"`
+//! picking one) has its items (`State`, `Event`, `Outputs`, `Hooks`, `Machine`, the
+//! private tables) placed directly in the user's `mod`, whose name and visibility
+//! win over the spec's; the machine's doc comment is added when the `mod` has none.
+//! A file with several machines gets one `<vis> mod <snake_name>` per machine inside
+//! the user's `mod`. The user's items stay; they must not reuse the generated names.
+//! `const _: &str = include_str!("<spec>")` makes cargo rebuild when the spec changes.
+//!
+//! Every machine goes through `detent_compiler::check::check_machine` (every lint);
+//! a machine with errors generates no code. `#[minimize]` is not applied yet: the
+//! machine is generated as written.
+//!
+//! Compile time: a 1,000-state, 4-event machine adds about 1.2 s (table) or 3.1 s
+//! (match) to a debug build with the macro built unoptimized, and 0.4 s or 1.3 s with
+//! `[profile.dev.build-override] opt-level = 3` in the user's Cargo.toml
+//! (`scripts/measure-macro-expansion.sh`).
+//!
 //! Warnings (unreachable states, unused declarations, ...) surface as compiler
 //! warnings through a deprecated dummy item used at the offending span: stable Rust
 //! has no warning API for procedural macros. `#[allow(deprecated)]` silences them and
