@@ -91,11 +91,18 @@ fn generated_code_is_no_std_and_panic_free_in_both_styles() {
             (DispatchStyle::Table, "table"),
             (DispatchStyle::Match, "match"),
         ] {
-            let mut code = generate_file("spec.detent", &machines, Some(style));
+            // Warning-free too: a rustc warning in generated code is an error here.
+            let mut code = String::from("#![deny(warnings)]\n");
+            code.push_str(&generate_file("spec.detent", &machines, Some(style)));
             let mut roots = Vec::new();
             for (i, m) in machines.iter().enumerate() {
                 code.push_str(&entry_points(m, &i.to_string()));
                 for entry in ["step_entry", "restore_entry", "outputs_entry", "name_entry"] {
+                    // `outputs` of a machine without outputs returns a zero-sized
+                    // value: an empty function the optimizer may fold into another.
+                    if entry == "outputs_entry" && m.outputs.is_empty() {
+                        continue;
+                    }
                     roots.push(format!("{entry}{i}"));
                 }
             }

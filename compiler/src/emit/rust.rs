@@ -246,6 +246,24 @@ fn uint(max: usize) -> TokenStream {
     }
 }
 
+/// Whether `tokens` mention the identifier `name` anywhere (macro arguments too).
+fn uses_ident(tokens: &TokenStream, name: &str) -> bool {
+    tokens.clone().into_iter().any(|t| match t {
+        proc_macro2::TokenTree::Ident(i) => i == name,
+        proc_macro2::TokenTree::Group(g) => uses_ident(&g.stream(), name),
+        _ => false,
+    })
+}
+
+/// A parameter name, `_`-prefixed when the body does not use it.
+fn param(name: &str, used: bool) -> Ident {
+    if used {
+        ident(name)
+    } else {
+        ident(&format!("_{name}"))
+    }
+}
+
 fn lit(n: usize) -> Literal {
     Literal::usize_unsuffixed(n)
 }
@@ -769,6 +787,12 @@ impl<'a> Gen<'a> {
             quote!(#v => match event { #(#event_arms,)* #rest })
         });
         let step_doc = self.step_doc();
+        // A machine without guards or actions (or without rules) leaves a parameter
+        // unused: name it `_x` then, so the code builds warning-free.
+        let state_arms: Vec<TokenStream> = state_arms.collect();
+        let arms = quote!(#(#state_arms)*);
+        let hooks_param = param("hooks", uses_ident(&arms, "hooks"));
+        let event_param = param("event", uses_ident(&arms, "event"));
         quote! {
             impl Machine {
                 /// The Moore outputs of the current state.
@@ -779,8 +803,8 @@ impl<'a> Gen<'a> {
                 #step_doc
                 pub fn step<H: Hooks + ?Sized>(
                     &mut self,
-                    event: Event,
-                    hooks: &mut H,
+                    #event_param: Event,
+                    #hooks_param: &mut H,
                 ) -> Result<Outputs, ::detent::Rejected> {
                     let from = self.state;
                     match from {
@@ -971,10 +995,10 @@ impl<'a> Gen<'a> {
                     Some(mask) => *mask,
                     None => [0; #k],
                 };
-                outputs_from(moore, #mealy)
+                return Ok(outputs_from(moore, #mealy));
             }
         } else {
-            quote!(Outputs {})
+            quote!(return Ok(Outputs {});)
         };
 
         let guard_fn = if has_guards {
@@ -1055,7 +1079,7 @@ impl<'a> Gen<'a> {
             #run_actions
             self.state = to;
             #trace
-            return Ok({ #step_outputs });
+            #step_outputs
         };
         let select = if has_guards {
             quote! {
@@ -1074,6 +1098,7 @@ impl<'a> Gen<'a> {
         };
         let step_doc = self.step_doc();
         let unhandled = self.unhandled();
+        let hooks_param = param("hooks", has_guards || has_actions);
         quote! {
             /// One rule as it fires in one state.
             struct Rule {
@@ -1102,7 +1127,7 @@ impl<'a> Gen<'a> {
                 pub fn step<H: Hooks + ?Sized>(
                     &mut self,
                     event: Event,
-                    hooks: &mut H,
+                    #hooks_param: &mut H,
                 ) -> Result<Outputs, ::detent::Rejected> {
                     let from = self.state;
                     let (first, count) = match CELLS.get(from as usize).and_then(|row| row.get(event as usize)) {
