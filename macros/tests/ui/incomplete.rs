@@ -1,9 +1,10 @@
 detent::machine! {
     machine Lamp {
         events On, Off;
+        outputs light;
         start Dark;
         state Dark { On => Lit; }
-        state Lit { Off => Dark; On => stay; }
+        state Lit emit light { Off => Dark; On => stay; }
     }
 }
 

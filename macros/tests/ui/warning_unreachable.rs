@@ -3,9 +3,10 @@
 detent::machine! {
     machine Fan {
         events Toggle;
+        outputs spin;
         start Off;
         state Off { Toggle => On; }
-        state On { Toggle => Off; }
+        state On emit spin { Toggle => Off; }
         state Spare { Toggle => Off; }
     }
 }
