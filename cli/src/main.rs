@@ -5,6 +5,7 @@
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
 mod cmd_gen_c;
+mod cmd_gen_rust;
 mod cmd_equiv;
 mod cmd_minimize;
 mod cmd_tour;
@@ -162,6 +163,8 @@ enum Command {
 enum GenTarget {
     /// C99 header and source per machine.
     C(cmd_gen_c::GenCArgs),
+    /// no_std Rust with table or match dispatch.
+    Rust(cmd_gen_rust::GenRustArgs),
 }
 
 fn main() -> ExitCode {
@@ -186,6 +189,9 @@ fn main() -> ExitCode {
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),
+        Command::Gen {
+            target: GenTarget::Rust(args),
+        } => cmd_gen_rust::run(&args),
         Command::Minimize {
             file,
             machine,
