@@ -125,8 +125,9 @@ fn write_differential_machines() {
 
     // A machine past 256 states: `State` becomes `#[repr(u16)]`.
     // `home` in W0 alone keeps the states apart (no `equivalent_states` warning).
-    let mut wide =
-        String::from("pub machine Wide {\n    events Next, Back;\n    outputs home;\n    start W0;\n");
+    let mut wide = String::from(
+        "pub machine Wide {\n    events Next, Back;\n    outputs home;\n    start W0;\n",
+    );
     for i in 0..300 {
         let _ = writeln!(
             wide,

@@ -4,13 +4,13 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
+mod cmd_draw;
+mod cmd_equiv;
 mod cmd_gen_c;
 mod cmd_gen_rust;
-mod cmd_equiv;
+mod cmd_import;
 mod cmd_minimize;
 mod cmd_tour;
-mod cmd_draw;
-mod cmd_import;
 mod commands;
 mod io;
 
