@@ -5,6 +5,7 @@
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
 mod cmd_gen_c;
+mod cmd_logic;
 mod commands;
 mod io;
 
@@ -81,6 +82,8 @@ enum Command {
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
     },
+    /// State assignment, minimized flip-flop and output equations, gate costs, Verilog.
+    Logic(cmd_logic::LogicArgs),
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -117,6 +120,7 @@ fn main() -> ExitCode {
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),
+        Command::Logic(args) => cmd_logic::run(&args),
     };
     ExitCode::from(code)
 }
