@@ -139,7 +139,9 @@ impl Progress {
             return;
         }
         let width = 30u64;
-        let filled = (done.min(total) * width).checked_div(total).unwrap_or(width);
+        let filled = (done.min(total) * width)
+            .checked_div(total)
+            .unwrap_or(width);
         eprint!(
             "\rsearching assignments [{}{}] {done}/{total}",
             "#".repeat(filled as usize),
@@ -241,10 +243,22 @@ pub fn run(args: &LogicArgs) -> u8 {
         }
     }
     match args.format {
-        LogicFormat::Json => {
-            io::out(json_report(&m, &design, &cost, map, auto.as_ref(), elapsed.as_secs_f64()))
-        }
-        LogicFormat::Text => text_report(&m, &design, &cost, map, auto.as_ref(), elapsed.as_secs_f64()),
+        LogicFormat::Json => io::out(json_report(
+            &m,
+            &design,
+            &cost,
+            map,
+            auto.as_ref(),
+            elapsed.as_secs_f64(),
+        )),
+        LogicFormat::Text => text_report(
+            &m,
+            &design,
+            &cost,
+            map,
+            auto.as_ref(),
+            elapsed.as_secs_f64(),
+        ),
     }
     OK
 }
@@ -303,10 +317,24 @@ fn text_report(
         d.encoding.kind.name(),
         d.encoding.bits
     ));
-    let width = m.states.iter().map(|s| s.name.len()).max().unwrap_or(5).max(5);
-    io::out(format!("  {:<width$}  code ({})", "state", d.state_vars.join(" ")));
+    let width = m
+        .states
+        .iter()
+        .map(|s| s.name.len())
+        .max()
+        .unwrap_or(5)
+        .max(5);
+    io::out(format!(
+        "  {:<width$}  code ({})",
+        "state",
+        d.state_vars.join(" ")
+    ));
     for (i, s) in m.states.iter().enumerate() {
-        io::out(format!("  {:<width$}  {}", s.name, d.encoding.code_string(i)));
+        io::out(format!(
+            "  {:<width$}  {}",
+            s.name,
+            d.encoding.code_string(i)
+        ));
     }
     if !d.pin_vars.is_empty() {
         io::out(format!("pins: {}", d.pin_vars.join(" ")));
@@ -333,7 +361,10 @@ fn text_report(
             (Map::Nor, Some(c)) => (c.literals, c.method),
             _ => (f.cover.literals, f.cover.method),
         };
-        io::out(format!("{eq}    [{}, {lits} literals]", method_name(method)));
+        io::out(format!(
+            "{eq}    [{}, {lits} literals]",
+            method_name(method)
+        ));
     }
     io::out("");
     io::out(cost_line(cost, map));
@@ -360,8 +391,16 @@ fn json_report(
                 Some((on, dc)) => (json!(on), json!(dc)),
                 // Too wide for minterm lists: the sets as cube strings.
                 None => (
-                    json!(f.on_cubes.iter().map(|c| c.to_string(n)).collect::<Vec<_>>()),
-                    json!(f.dc_cubes.iter().map(|c| c.to_string(n)).collect::<Vec<_>>()),
+                    json!(f
+                        .on_cubes
+                        .iter()
+                        .map(|c| c.to_string(n))
+                        .collect::<Vec<_>>()),
+                    json!(f
+                        .dc_cubes
+                        .iter()
+                        .map(|c| c.to_string(n))
+                        .collect::<Vec<_>>()),
                 ),
             };
             let mut o = json!({

