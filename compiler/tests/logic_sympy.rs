@@ -54,7 +54,10 @@ fn sopform(functions: &[Function]) -> Vec<(usize, f64)> {
         .write_all(serde_json::Value::Array(input).to_string().as_bytes())
         .expect("write functions to sopform.py");
     let out = child.wait_with_output().expect("sopform.py output");
-    assert!(out.status.success(), "sopform.py failed (is sympy installed?)");
+    assert!(
+        out.status.success(),
+        "sopform.py failed (is sympy installed?)"
+    );
     let parsed: Vec<serde_json::Value> =
         serde_json::from_slice(&out.stdout).expect("sopform.py prints JSON");
     parsed
@@ -74,7 +77,7 @@ fn exact_never_worse_than_sympy_sopform() {
     let mut functions = Vec::new();
     for round in 0..40 {
         let n = 2 + round % 9; // 2..=10
-        // Dense up to 8 variables; sparser at 9-10 so that SOPform stays quick.
+                               // Dense up to 8 variables; sparser at 9-10 so that SOPform stays quick.
         let (on, dc) = if n <= 8 { (300, 150) } else { (60, 60) };
         functions.push(random_function(&mut rng, n, on, dc));
     }

@@ -57,7 +57,9 @@ impl Cube {
     pub fn parse(s: &str) -> Result<Cube, String> {
         let n = s.chars().count();
         if n > 64 {
-            return Err(format!("cube `{s}` has {n} variables; at most 64 are supported"));
+            return Err(format!(
+                "cube `{s}` has {n} variables; at most 64 are supported"
+            ));
         }
         let mut cube = Cube::UNIVERSE;
         for (i, ch) in s.chars().enumerate() {
@@ -210,7 +212,9 @@ mod tests {
         assert_eq!(a.distance(&c), 1);
         assert!(a.intersect(&c).is_none());
         assert_eq!(
-            Cube::parse("1---").unwrap().intersect(&Cube::parse("--01").unwrap()),
+            Cube::parse("1---")
+                .unwrap()
+                .intersect(&Cube::parse("--01").unwrap()),
             Some(Cube::parse("1-01").unwrap())
         );
         assert_eq!(b.consensus(&c), Some(Cube::parse("--0-").unwrap()));
@@ -230,7 +234,9 @@ mod tests {
         assert_eq!(f.cofactor(&by), Some(Cube::parse("--01").unwrap()));
         assert_eq!(f.cofactor(&Cube::parse("0---").unwrap()), None);
         let mut ms = Vec::new();
-        Cube::parse("1-0-").unwrap().for_each_minterm(4, |m| ms.push(m));
+        Cube::parse("1-0-")
+            .unwrap()
+            .for_each_minterm(4, |m| ms.push(m));
         ms.sort();
         assert_eq!(ms, vec![0b1000, 0b1001, 0b1100, 0b1101]);
         assert_eq!(Cube::parse("1-0-").unwrap().minterm_count(4), 4);

@@ -107,7 +107,7 @@ pub struct ExactResult {
 }
 
 /// Default node budget of the branch and bound in [`minimize_exact`].
-pub const DEFAULT_NODE_BUDGET: u64 = 200_000;
+pub const DEFAULT_NODE_BUDGET: u64 = 50_000;
 
 /// Exact minimum sum of products (cost: literals, then products) of the function of `n`
 /// variables with on-set `on` and don't-cares `dc` (a minterm listed in both counts as
@@ -260,7 +260,9 @@ impl Search<'_> {
                 if !state.row_alive[r] {
                     continue;
                 }
-                let mut alive_cols = m.row_cols[r].iter().filter(|&&c| state.col_alive[c as usize]);
+                let mut alive_cols = m.row_cols[r]
+                    .iter()
+                    .filter(|&&c| state.col_alive[c as usize]);
                 match (alive_cols.next(), alive_cols.next()) {
                     (None, _) => return false,
                     (Some(&c), None) => {
@@ -276,7 +278,9 @@ impl Search<'_> {
                 if !state.col_alive[c2] {
                     continue;
                 }
-                let Some(&r) = m.col_rows[c2].iter().find(|&&r| state.row_alive[r as usize])
+                let Some(&r) = m.col_rows[c2]
+                    .iter()
+                    .find(|&&r| state.row_alive[r as usize])
                 else {
                     state.col_alive[c2] = false;
                     changed = true;
@@ -305,7 +309,9 @@ impl Search<'_> {
                 if !state.row_alive[r1] {
                     continue;
                 }
-                let Some(&c) = m.row_cols[r1].iter().find(|&&c| state.col_alive[c as usize])
+                let Some(&c) = m.row_cols[r1]
+                    .iter()
+                    .find(|&&c| state.col_alive[c as usize])
                 else {
                     return false;
                 };

@@ -251,7 +251,10 @@ mod tests {
     }
 
     fn vars() -> Vec<String> {
-        ["q1", "q0", "x", "ev1"].iter().map(|s| s.to_string()).collect()
+        ["q1", "q0", "x", "ev1"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect()
     }
 
     #[test]
@@ -293,7 +296,7 @@ mod tests {
         let both = two_level_cost(Form::NandNand, &[&c, &d]);
         assert_eq!(both.shared_terms, 1);
         assert_eq!(both.gates, 4 + 2); // + NAND(x, ev1) + output NAND
-        // f = x (single literal): a wire. f = x': an inverter. Constants: nothing.
+                                       // f = x (single literal): a wire. f = x': an inverter. Constants: nothing.
         let wire = two_level_cost(Form::NandNand, &[&cover(&["--1-"])]);
         assert_eq!((wire.gates, wire.gate_inputs), (0, 0));
         let inv = two_level_cost(Form::NandNand, &[&cover(&["--0-"])]);

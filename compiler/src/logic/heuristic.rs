@@ -55,7 +55,10 @@ fn split_variable(cubes: &[Cube]) -> Option<(u64, bool)> {
             continue;
         }
         let binate = ones[b] > 0 && zeros[b] > 0;
-        let key = (if binate { ones[b].min(zeros[b]) } else { 0 }, ones[b] + zeros[b]);
+        let key = (
+            if binate { ones[b].min(zeros[b]) } else { 0 },
+            ones[b] + zeros[b],
+        );
         if best.is_none_or(|(_, _, k)| key > k) {
             best = Some((1u64 << b, binate, key));
         }
@@ -82,8 +85,14 @@ pub fn tautology(cubes: &[Cube]) -> bool {
         // that takes every variable against its only phase is uncovered).
         Some((_, false)) => false,
         Some((bit, true)) => {
-            let pos = Cube { value: bit, care: bit };
-            let neg = Cube { value: 0, care: bit };
+            let pos = Cube {
+                value: bit,
+                care: bit,
+            };
+            let neg = Cube {
+                value: 0,
+                care: bit,
+            };
             tautology(&cofactor(cubes, &neg)) && tautology(&cofactor(cubes, &pos))
         }
     }
@@ -133,8 +142,14 @@ pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
     let Some((bit, _)) = split_variable(cubes) else {
         return Vec::new();
     };
-    let pos = Cube { value: bit, care: bit };
-    let neg = Cube { value: 0, care: bit };
+    let pos = Cube {
+        value: bit,
+        care: bit,
+    };
+    let neg = Cube {
+        value: 0,
+        care: bit,
+    };
     let comp_neg = complement(&cofactor(cubes, &neg));
     let comp_pos = complement(&cofactor(cubes, &pos));
     merge_halves(bit, comp_neg, comp_pos)

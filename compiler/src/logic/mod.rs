@@ -30,11 +30,16 @@ use cube::full_mask;
 
 /// Largest number of variables for which [`minimize`] runs the exact method.
 ///
-/// Measured (release build, this repository's 2-core machine, `cargo run --release
-/// --example logic_export -- --measure`): random functions with 1/3 on, 1/6 don't-care
-/// take about 2 ms at 8 variables, 25 ms at 10, 0.5 s at 12 and several seconds at 13-14
-/// (the prime count grows about 2.5x per variable), so exact stops at 12; with the node
-/// budget the exact run is also bounded when its cyclic core is hard.
+/// Measured (release build, shared 2-core machine, `cargo run --release -p
+/// detent-compiler --example logic_export -- --measure --sizes 6,8,10,11,12 --count 2`)
+/// on random functions with 1/3 of the minterms on and 1/6 don't-care: 6-8 variables
+/// take under 1 ms, 10 variables 0.1-0.9 s (2,000-40,000 branch-and-bound nodes), and
+/// at 11-12 variables (1,200-2,900 primes) the cyclic core of such dense functions
+/// exhausts the node budget ([`exact::DEFAULT_NODE_BUDGET`], 50,000 nodes, a few
+/// seconds) while the heuristic takes 20-70 ms and is 5-10% above the best cover found.
+/// Sparse or structured functions (state-machine equations) stay exact well past 10
+/// variables, so the variable limit is 12 and the node budget is the real guard: when
+/// it runs out the result is reported as [`Method::Heuristic`].
 pub const EXACT_MAX_VARS: usize = 12;
 
 /// A single-output function in minterm form (for up to about 20 variables).
@@ -109,7 +114,12 @@ impl Function {
             return Err(format!("{n} variables; at most 64 are supported"));
         }
         let full = full_mask(n);
-        if let Some(m) = self.on.iter().chain(self.dc.iter()).find(|&&m| m & !full != 0) {
+        if let Some(m) = self
+            .on
+            .iter()
+            .chain(self.dc.iter())
+            .find(|&&m| m & !full != 0)
+        {
             return Err(format!("minterm {m} does not fit in {n} variables"));
         }
         Ok(())
@@ -143,7 +153,9 @@ impl Function {
         for &m in self.on.iter().chain(self.dc.iter()) {
             care_or_on[m as usize] = true;
         }
-        let off = (0..1u64 << n).filter(|&m| !care_or_on[m as usize]).collect();
+        let off = (0..1u64 << n)
+            .filter(|&m| !care_or_on[m as usize])
+            .collect();
         Ok(Function {
             vars: self.vars.clone(),
             on: off,
@@ -158,7 +170,11 @@ impl Function {
         CubeFunction {
             vars: self.vars.clone(),
             on: self.on.iter().map(|&m| Cube::minterm(n, m)).collect(),
-            dc: self.pure_dc().iter().map(|&m| Cube::minterm(n, m)).collect(),
+            dc: self
+                .pure_dc()
+                .iter()
+                .map(|&m| Cube::minterm(n, m))
+                .collect(),
         }
     }
 }
@@ -171,8 +187,15 @@ impl CubeFunction {
             return Err(format!("{n} variables; at most 64 are supported"));
         }
         let full = full_mask(n);
-        if let Some(c) = self.on.iter().chain(self.dc.iter()).find(|c| c.care & !full != 0) {
-            return Err(format!("cube {c:?} uses a variable beyond the {n} declared"));
+        if let Some(c) = self
+            .on
+            .iter()
+            .chain(self.dc.iter())
+            .find(|c| c.care & !full != 0)
+        {
+            return Err(format!(
+                "cube {c:?} uses a variable beyond the {n} declared"
+            ));
         }
         Ok(())
     }
@@ -240,7 +263,9 @@ pub fn check_cover(f: &Function, cover: &Cover) -> Result<(), String> {
     }
     for c in &cover.cubes {
         if c.care & !full != 0 {
-            return Err(format!("cube {c:?} uses a variable beyond the {n} declared"));
+            return Err(format!(
+                "cube {c:?} uses a variable beyond the {n} declared"
+            ));
         }
         let mut bad = None;
         c.for_each_minterm(n, |m| {
@@ -280,10 +305,7 @@ pub fn check_cube_cover(f: &CubeFunction, cover: &Cover) -> Result<(), String> {
     let allowed: Vec<Cube> = f.on.iter().chain(f.dc.iter()).copied().collect();
     for c in &cover.cubes {
         if !heuristic::cube_covered(c, &allowed) {
-            return Err(format!(
-                "cover cube {} meets the off-set",
-                c.to_string(n)
-            ));
+            return Err(format!("cover cube {} meets the off-set", c.to_string(n)));
         }
     }
     Ok(())

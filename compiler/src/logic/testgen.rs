@@ -95,6 +95,52 @@ pub fn random_cube_function(
     }
 }
 
+/// A cube-list function with a planted cover: `planted` random cubes of `literals`
+/// literals each, every one split into the 8 sub-cubes on 3 further free variables (so
+/// the on-set is given as `8 * planted` cubes). Returns the function and the planted
+/// cover's literal count (an upper bound on the minimum). Needs `n >= literals + 3`.
+pub fn planted_cube_function(
+    rng: &mut SplitMix64,
+    n: usize,
+    planted: usize,
+    literals: usize,
+) -> (CubeFunction, usize) {
+    let mut on = Vec::new();
+    let mut total = 0;
+    for _ in 0..planted {
+        let mut care = 0u64;
+        while (care.count_ones() as usize) < literals.min(n) {
+            care |= 1u64 << rng.below(n as u64);
+        }
+        let cube = Cube::new(rng.next_u64(), care);
+        total += cube.literals();
+        let mut extra = Vec::new();
+        while extra.len() < 3 && (care.count_ones() as usize) + extra.len() < n {
+            let bit = 1u64 << rng.below(n as u64);
+            if care & bit == 0 && !extra.contains(&bit) {
+                extra.push(bit);
+            }
+        }
+        let extra_care: u64 = extra.iter().fold(0, |a, b| a | b);
+        for k in 0..(1u64 << extra.len()) {
+            let value = extra
+                .iter()
+                .enumerate()
+                .filter(|&(i, _)| k >> i & 1 == 1)
+                .fold(cube.value, |a, (_, b)| a | b);
+            on.push(Cube::new(value, care | extra_care));
+        }
+    }
+    (
+        CubeFunction {
+            vars: var_names(n),
+            on,
+            dc: Vec::new(),
+        },
+        total,
+    )
+}
+
 /// The fixed benchmark set of minterm functions: `count` functions of each size in
 /// `sizes`, 1/3 on and 1/6 don't-care, seeded by `seed ^ n`.
 pub fn benchmark_functions(seed: u64, sizes: &[usize], count: usize) -> Vec<Function> {
