@@ -14,6 +14,7 @@ use detent_compiler::logic::gates::{format_gates, format_pos, format_sop, Form, 
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::logic::Method;
 use detent_compiler::model::Machine;
+use detent_compiler::tour::{tour, TourStep};
 use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
@@ -157,22 +158,18 @@ impl Progress {
     }
 }
 
-/// The testbench steps: the transition tour when one is available; for now a seeded
-/// random trace of a few steps per region of the machine, inputs fair coins.
+/// The testbench steps: the transition tour (every reachable rule fired at least once,
+/// resets where the machine is not strongly connected).
 fn testbench_steps(m: &Machine) -> Vec<TbStep> {
-    let len = (8 * m.rules.len()).clamp(64, 4096);
-    let mut x = 0x2545_F491_4F6C_DD1Du64 ^ m.states.len() as u64;
-    let mut next = move || {
-        x ^= x << 13;
-        x ^= x >> 7;
-        x ^= x << 17;
-        x
-    };
-    let n_events = m.events.len().max(1) as u64;
-    (0..len)
-        .map(|_| TbStep::Step {
-            event: (next() % n_events) as usize,
-            inputs: (0..m.inputs.len()).map(|_| next() & 1 == 1).collect(),
+    tour(m)
+        .steps
+        .into_iter()
+        .map(|s| match s {
+            TourStep::Reset => TbStep::Reset,
+            TourStep::Step { event, inputs } => TbStep::Step {
+                event: event.index(),
+                inputs,
+            },
         })
         .collect()
 }

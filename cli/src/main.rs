@@ -6,6 +6,9 @@
 
 mod cmd_gen_c;
 mod cmd_logic;
+mod cmd_equiv;
+mod cmd_minimize;
+mod cmd_tour;
 mod commands;
 mod io;
 
@@ -82,6 +85,41 @@ enum Command {
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
     },
+    /// Minimize: merge equivalent states, drop unreachable ones.
+    Minimize {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine (default: every machine of the file).
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_minimize::MinimizeFormat::Text)]
+        format: cmd_minimize::MinimizeFormat,
+    },
+    /// Compare two machines; print a shortest distinguishing input sequence.
+    Equiv {
+        /// The first spec file.
+        file_a: PathBuf,
+        /// The second spec file.
+        file_b: PathBuf,
+        /// Which machine of each file, when a file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_equiv::PlainFormat::Text)]
+        format: cmd_equiv::PlainFormat,
+    },
+    /// Print an input sequence that fires every reachable transition.
+    Tour {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_equiv::PlainFormat::Text)]
+        format: cmd_equiv::PlainFormat,
+    },
     /// State assignment, minimized flip-flop and output equations, gate costs, Verilog.
     Logic(cmd_logic::LogicArgs),
     /// Generate code from a spec.
@@ -121,6 +159,22 @@ fn main() -> ExitCode {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),
         Command::Logic(args) => cmd_logic::run(&args),
+        Command::Minimize {
+            file,
+            machine,
+            format,
+        } => cmd_minimize::minimize(&file, machine.as_deref(), format),
+        Command::Equiv {
+            file_a,
+            file_b,
+            machine,
+            format,
+        } => cmd_equiv::equiv(&file_a, &file_b, machine.as_deref(), format),
+        Command::Tour {
+            file,
+            machine,
+            format,
+        } => cmd_tour::tour(&file, machine.as_deref(), format),
     };
     ExitCode::from(code)
 }

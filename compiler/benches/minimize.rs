@@ -1,0 +1,126 @@
+//! Minimization benchmarks: Hopcroft against the naive Moore baseline, and against
+//! regex-automata's own minimizer on the same DFAs.
+//!
+//! ```text
+//! cargo bench -p detent-compiler --bench minimize
+//! python3 scripts/plot_minimize.py      # docs/minimize-growth.svg and the tables
+//! ```
+//!
+//! Groups:
+//! - `random`: uniform random complete DFAs, 8 symbols, 4 initial labels, 2^10..2^20
+//!   states. Random tables are already minimal and Moore needs only about log n
+//!   rounds on them, so this is Moore's best case.
+//! - `chain`: a chain on symbol 0 (state i -> i+1, the last loops), the other 7 symbols
+//!   loop, only the last state labelled: n distinct states and n Moore rounds, the
+//!   baseline's O(k n^2) worst case.
+//! - `regex`: `[01]*1[01]{N}` built by regex-automata with and without its minimizer
+//!   (the difference is its minimizer's cost) against Hopcroft on the exported
+//!   unminimized DFA (2^(N+1) + 3 states; the parameter in the id is the state count).
+//!
+//! Sample counts are small (10, flat sampling) so the whole run stays within a few
+//! minutes on two shared cores; read the results as ratios within one run.
+
+#[path = "../tests/support/regex_export.rs"]
+#[allow(dead_code)]
+mod regex_export;
+
+use std::hint::black_box;
+use std::time::Duration;
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, SamplingMode};
+use detent_compiler::minimize::partition::{hopcroft, moore_refinement, Dfa};
+
+const SYMBOLS: usize = 8;
+
+fn chain(n: usize) -> Dfa {
+    let mut delta = Vec::with_capacity(n * SYMBOLS);
+    for s in 0..n {
+        delta.push((s + 1).min(n - 1) as u32);
+        delta.extend(std::iter::repeat_n(s as u32, SYMBOLS - 1));
+    }
+    let mut initial = vec![0; n];
+    initial[n - 1] = 1;
+    Dfa {
+        n_states: n,
+        n_symbols: SYMBOLS,
+        delta,
+        initial,
+    }
+}
+
+fn bench_random(c: &mut Criterion) {
+    let mut g = c.benchmark_group("random");
+    g.sampling_mode(SamplingMode::Flat)
+        .sample_size(10)
+        .warm_up_time(Duration::from_millis(300))
+        .measurement_time(Duration::from_secs(2));
+    for log in [10u32, 12, 14, 16, 18, 20] {
+        let n = 1usize << log;
+        let dfa = Dfa::random(n, SYMBOLS, 4, 0x5EED + log as u64);
+        g.bench_with_input(BenchmarkId::new("hopcroft", n), &dfa, |b, d| {
+            b.iter(|| black_box(hopcroft(d)).n_classes)
+        });
+        if log <= 18 {
+            g.bench_with_input(BenchmarkId::new("moore", n), &dfa, |b, d| {
+                b.iter(|| black_box(moore_refinement(d)).n_classes)
+            });
+        }
+    }
+    g.finish();
+}
+
+fn bench_chain(c: &mut Criterion) {
+    let mut g = c.benchmark_group("chain");
+    g.sampling_mode(SamplingMode::Flat)
+        .sample_size(10)
+        .warm_up_time(Duration::from_millis(300))
+        .measurement_time(Duration::from_secs(2));
+    for log in [10u32, 12, 14, 16, 18, 20] {
+        let n = 1usize << log;
+        let dfa = chain(n);
+        g.bench_with_input(BenchmarkId::new("hopcroft", n), &dfa, |b, d| {
+            b.iter(|| black_box(hopcroft(d)).n_classes)
+        });
+        // Moore's n rounds: about 0.3 s at 2^12 already, 16x per doubling beyond.
+        if log <= 12 {
+            g.bench_with_input(BenchmarkId::new("moore", n), &dfa, |b, d| {
+                b.iter(|| black_box(moore_refinement(d)).n_classes)
+            });
+        }
+    }
+    g.finish();
+}
+
+fn bench_regex(c: &mut Criterion) {
+    let mut g = c.benchmark_group("regex");
+    g.sampling_mode(SamplingMode::Flat)
+        .sample_size(10)
+        .warm_up_time(Duration::from_millis(300))
+        .measurement_time(Duration::from_secs(2));
+    // regex-automata's minimizer compares each splitter with every block, quadratic
+    // in the states: about 7 s per build at N = 12 (2^13 states) here, so it runs up
+    // to N = 11; for N = 14 and 16 only the unminimized build and Hopcroft run.
+    for n in [8u32, 9, 10, 11, 14, 16] {
+        let pattern = format!("[01]*1[01]{{{n}}}");
+        let patterns = [pattern.as_str()];
+        let exported = regex_export::export(&regex_export::build(&patterns, false, false));
+        let states = exported.dfa.n_states;
+        g.bench_with_input(BenchmarkId::new("ra_build_nomin", states), &n, |b, _| {
+            b.iter(|| black_box(regex_export::build(&patterns, false, false)))
+        });
+        if n <= 11 {
+            g.bench_with_input(BenchmarkId::new("ra_build_min", states), &n, |b, _| {
+                b.iter(|| black_box(regex_export::build(&patterns, true, false)))
+            });
+        }
+        g.bench_with_input(
+            BenchmarkId::new("hopcroft_exported", states),
+            &exported.dfa,
+            |b, d| b.iter(|| black_box(hopcroft(d)).n_classes),
+        );
+    }
+    g.finish();
+}
+
+criterion_group!(benches, bench_random, bench_chain, bench_regex);
+criterion_main!(benches);

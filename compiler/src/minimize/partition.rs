@@ -1,0 +1,985 @@
+//! Partition refinement over a complete deterministic transition system.
+//!
+//! This is the machine-independent core of detent's minimizer. A [`Dfa`] is a complete
+//! transition table over dense ids (`n_states` states, `n_symbols` symbols) plus an
+//! *initial label* per state: states with different labels are never equivalent. The
+//! label carries everything observable about a state (for detent machines: Moore outputs,
+//! and whatever the encoder folds in); observable per-transition outputs are folded into
+//! the symbol alphabet or the labels by the caller.
+//!
+//! # Method and cost
+//!
+//! [`hopcroft`] follows J. Hopcroft, "An n log n algorithm for minimizing states in a
+//! finite automaton" (1971): it refines the coarsest partition compatible with the
+//! initial labels by splitters (block, symbol) until every block is stable.
+//!
+//! - Time O(k n log n) for `n` states and `k` symbols: each split enqueues only the
+//!   smaller half, so a state is in an enqueued splitter at most log2 n times per symbol,
+//!   and each time its incoming transitions on that symbol are scanned once.
+//! - Memory O(k n): the inverse transition lists are built once as a flat CSR array
+//!   (one `u32` offset and one `u32` source per transition), the refinable partition
+//!   takes six `u32` per state (elements, positions, block of each state; start, end and
+//!   marked count per block), and the worklist holds at most one entry per block. For
+//!   1,000,000 states x 8 symbols that is about 100 MB beside the 32 MB input table.
+//! - Worklist entries are blocks, not (block, symbol) pairs: every block that enters the
+//!   worklist enters it for all symbols at once (the initial blocks bar the largest, and
+//!   the smaller half of each split), so one entry per block suffices and the splitters
+//!   of a popped block are processed symbol by symbol.
+//!
+//! What is still slow: every mark is a few dependent random loads (the inverse list of
+//! a splitter member, the marked state's slot, its block's slot, the element swapped
+//! with it), so once the tables leave the caches the time per step grows several-fold
+//! (about 90 ns per mark at 2^14 states, 490 ns at 2^20 on a shared machine; see
+//! BENCHMARKS.md) and the growth from 2^14 to 2^20 states is well above n log n even
+//! though the step count is not. Keeping the transitions in a refinable partition of
+//! their own, grouped by (symbol, target block) as in A. Valmari and P. Lehtinen,
+//! "Efficient minimization of DFAs with partial transition functions" (2008), would
+//! make each splitter's incoming transitions one contiguous range.
+//!
+//! [`moore_refinement`] is the naive baseline, E. F. Moore's iterated refinement
+//! ("Gedanken-experiments on sequential machines", 1956): recompute every state's
+//! signature (its block and the blocks of its successors) until no block splits.
+//! O(k n) per round and up to n rounds, so O(k n^2) in the worst case (a chain that
+//! splits one state per round); on random tables it needs only about log n rounds.
+//!
+//! [`distinguish`] searches the product of two machines breadth-first from a pair of
+//! start states and returns a shortest input word after which their observations
+//! differ, in O(k n_a n_b) time in the worst case.
+
+use std::collections::{HashMap, HashSet, VecDeque};
+use std::fmt;
+use std::hash::{BuildHasherDefault, Hasher};
+
+/// A complete deterministic transition system with dense ids.
+///
+/// `delta` is row-major: the successor of state `s` on symbol `a` is
+/// `delta[s * n_symbols + a]`. `initial[s]` is an arbitrary label; two states with
+/// different labels are never equivalent (this is how outputs are carried).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Dfa {
+    /// Number of states; states are `0..n_states`.
+    pub n_states: usize,
+    /// Number of symbols; symbols are `0..n_symbols`.
+    pub n_symbols: usize,
+    /// Row-major successor table of length `n_states * n_symbols`.
+    pub delta: Vec<u32>,
+    /// Initial block label per state (length `n_states`).
+    pub initial: Vec<u32>,
+}
+
+/// Why a [`Dfa`] is malformed.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum DfaError {
+    /// `delta.len()` is not `n_states * n_symbols`.
+    DeltaLength {
+        /// The expected length.
+        expected: usize,
+        /// The actual length.
+        actual: usize,
+    },
+    /// `initial.len()` is not `n_states`.
+    InitialLength {
+        /// The expected length.
+        expected: usize,
+        /// The actual length.
+        actual: usize,
+    },
+    /// A successor is not a state.
+    TargetOutOfRange {
+        /// The source state.
+        state: u32,
+        /// The symbol.
+        symbol: u32,
+        /// The out-of-range successor.
+        target: u32,
+    },
+    /// More states than dense `u32` ids can name.
+    TooManyStates(usize),
+}
+
+impl fmt::Display for DfaError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            DfaError::DeltaLength { expected, actual } => {
+                write!(
+                    f,
+                    "transition table has {actual} entries, expected {expected}"
+                )
+            }
+            DfaError::InitialLength { expected, actual } => {
+                write!(
+                    f,
+                    "initial labels have {actual} entries, expected {expected}"
+                )
+            }
+            DfaError::TargetOutOfRange {
+                state,
+                symbol,
+                target,
+            } => write!(
+                f,
+                "state {state} goes to {target} on symbol {symbol}, which is not a state"
+            ),
+            DfaError::TooManyStates(n) => write!(f, "{n} states do not fit in u32 ids"),
+        }
+    }
+}
+
+impl std::error::Error for DfaError {}
+
+impl Dfa {
+    /// Checks the table shape and that every successor is a state.
+    pub fn validate(&self) -> Result<(), DfaError> {
+        if self.n_states >= u32::MAX as usize {
+            return Err(DfaError::TooManyStates(self.n_states));
+        }
+        let expected = self.n_states * self.n_symbols;
+        if self.delta.len() != expected {
+            return Err(DfaError::DeltaLength {
+                expected,
+                actual: self.delta.len(),
+            });
+        }
+        if self.initial.len() != self.n_states {
+            return Err(DfaError::InitialLength {
+                expected: self.n_states,
+                actual: self.initial.len(),
+            });
+        }
+        if let Some(i) = self.delta.iter().position(|&t| t as usize >= self.n_states) {
+            return Err(DfaError::TargetOutOfRange {
+                state: (i / self.n_symbols) as u32,
+                symbol: (i % self.n_symbols) as u32,
+                target: self.delta[i],
+            });
+        }
+        Ok(())
+    }
+
+    /// The successor of `state` on `symbol`.
+    #[inline]
+    pub fn next(&self, state: u32, symbol: u32) -> u32 {
+        self.delta[state as usize * self.n_symbols + symbol as usize]
+    }
+
+    /// A pseudo-random complete DFA for tests and benchmarks: successors uniform over
+    /// all states, labels uniform over `0..n_labels` (SplitMix64 from `seed`, so the
+    /// same arguments always give the same table).
+    pub fn random(n_states: usize, n_symbols: usize, n_labels: u32, seed: u64) -> Dfa {
+        let mut rng = SplitMix64(seed);
+        let delta = (0..n_states * n_symbols)
+            .map(|_| rng.below(n_states as u64) as u32)
+            .collect();
+        let initial = (0..n_states)
+            .map(|_| rng.below(n_labels.max(1) as u64) as u32)
+            .collect();
+        Dfa {
+            n_states,
+            n_symbols,
+            delta,
+            initial,
+        }
+    }
+
+    fn assert_valid(&self) {
+        if let Err(e) = self.validate() {
+            panic!("malformed Dfa: {e}");
+        }
+    }
+}
+
+/// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number
+/// generators", 2014): a tiny deterministic generator for test tables.
+struct SplitMix64(u64);
+
+impl SplitMix64 {
+    fn next_u64(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+
+    /// Uniform in `0..n` (multiply-shift; the bias is below 2^-32 for the sizes used).
+    fn below(&mut self, n: u64) -> u64 {
+        ((self.next_u64() >> 32) * n) >> 32
+    }
+}
+
+/// A partition of the states: `class_of[s]` is the class of state `s`.
+///
+/// Classes are numbered canonically, in the order of their first member (the class of
+/// state 0 is 0, the next state not in it opens class 1, and so on), so two equal
+/// partitions have equal `class_of` vectors.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Partition {
+    /// The class of each state.
+    pub class_of: Vec<u32>,
+    /// The number of classes.
+    pub n_classes: usize,
+}
+
+impl Partition {
+    /// Canonical partition from arbitrary per-state labels (equal labels, same class).
+    pub fn from_labels(labels: &[u32]) -> Partition {
+        let mut map: HashMap<u32, u32, FastHash> = HashMap::default();
+        let class_of = labels
+            .iter()
+            .map(|&l| {
+                let next = map.len() as u32;
+                *map.entry(l).or_insert(next)
+            })
+            .collect();
+        Partition {
+            class_of,
+            n_classes: map.len(),
+        }
+    }
+
+    /// The classes, in class order, each listing its members in increasing state order.
+    pub fn classes(&self) -> Vec<Vec<u32>> {
+        let mut out = vec![Vec::new(); self.n_classes];
+        for (s, &c) in self.class_of.iter().enumerate() {
+            out[c as usize].push(s as u32);
+        }
+        out
+    }
+}
+
+/// Hopcroft's partition refinement (1971): the coarsest partition of `dfa`'s states
+/// that refines the initial labels and is stable under every symbol, i.e. the state
+/// equivalence of the machine. O(k n log n) time, O(k n) memory (see the module doc).
+///
+/// All states take part, reachable or not; restrict with [`restrict_to_reachable`]
+/// first when only the reachable part matters.
+///
+/// # Panics
+///
+/// When `dfa` is malformed (see [`Dfa::validate`]).
+pub fn hopcroft(dfa: &Dfa) -> Partition {
+    hopcroft_with_stats(dfa).0
+}
+
+/// Step counts of one [`hopcroft`] run, for benchmarks: they grow as k n log n, while
+/// the time per step grows with the working set once it leaves the caches.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct HopcroftStats {
+    /// (block, symbol) splitters processed.
+    pub splitters: u64,
+    /// States marked: incoming transitions scanned over all splitters.
+    pub marks: u64,
+    /// Block splits.
+    pub splits: u64,
+}
+
+/// [`hopcroft`], also returning its step counts.
+///
+/// # Panics
+///
+/// When `dfa` is malformed (see [`Dfa::validate`]).
+pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
+    dfa.assert_valid();
+    let mut stats = HopcroftStats::default();
+    let n = dfa.n_states;
+    let k = dfa.n_symbols;
+    if n == 0 {
+        let empty = Partition {
+            class_of: Vec::new(),
+            n_classes: 0,
+        };
+        return (empty, stats);
+    }
+
+    // Inverse transitions as CSR keyed by (target, symbol): the sources of the
+    // transitions into `t` on `a` are `inv_src[inv_off[t*k+a]..inv_off[t*k+a+1]]`.
+    // Built by a two-pass counting sort.
+    let mut inv_off = vec![0u32; n * k + 1];
+    for (i, &t) in dfa.delta.iter().enumerate() {
+        inv_off[t as usize * k + i % k + 1] += 1;
+    }
+    for i in 1..inv_off.len() {
+        inv_off[i] += inv_off[i - 1];
+    }
+    let mut inv_src = vec![0u32; n * k];
+    {
+        let mut fill = inv_off[..n * k].to_vec();
+        for (i, &t) in dfa.delta.iter().enumerate() {
+            let key = t as usize * k + i % k;
+            inv_src[fill[key] as usize] = (i / k) as u32;
+            fill[key] += 1;
+        }
+    }
+
+    let mut p = Refinable::new(&Partition::from_labels(&dfa.initial));
+
+    // Initial worklist: every initial block but one of the largest (for a complete
+    // DFA the preimages of all blocks but one determine the last one).
+    let largest = (0..p.n_blocks()).max_by_key(|&b| p.size(b)).unwrap_or(0);
+    let mut work: Vec<u32> = (0..p.n_blocks() as u32)
+        .filter(|&b| b as usize != largest)
+        .collect();
+
+    // The splitter's members are copied first: marking reorders elements inside
+    // blocks, the splitter block included.
+    let mut splitter: Vec<u32> = Vec::new();
+    let mut touched: Vec<u32> = Vec::new();
+    while let Some(b) = work.pop() {
+        stats.splitters += k as u64;
+        for a in 0..k {
+            splitter.clear();
+            splitter.extend_from_slice(p.members(b as usize));
+            for &t in &splitter {
+                let key = t as usize * k + a;
+                let (lo, hi) = (inv_off[key] as usize, inv_off[key + 1] as usize);
+                stats.marks += (hi - lo) as u64;
+                for &s in &inv_src[lo..hi] {
+                    p.mark(s, &mut touched);
+                }
+            }
+            for &x in &touched {
+                // Split off the smaller half as a new block; it enters the worklist
+                // for all symbols (Hopcroft's rule: if (X, c) is pending, both halves
+                // must be; otherwise the smaller one suffices).
+                if let Some(z) = p.split(x as usize) {
+                    stats.splits += 1;
+                    work.push(z as u32);
+                }
+            }
+            touched.clear();
+        }
+    }
+    (p.into_partition(), stats)
+}
+
+/// A refinable partition: the states of each block are contiguous in `elems`.
+/// Marked states of a block sit at the front of its range. Per-state and per-block
+/// fields are stored together so that marking a state costs one cache miss for the
+/// state and one for its block.
+struct Refinable {
+    elems: Vec<u32>,
+    state: Vec<StateSlot>,
+    block: Vec<BlockSlot>,
+}
+
+#[derive(Clone, Copy)]
+struct StateSlot {
+    /// Position of the state in `elems`.
+    pos: u32,
+    /// Block of the state.
+    block: u32,
+}
+
+#[derive(Clone, Copy)]
+struct BlockSlot {
+    start: u32,
+    end: u32,
+    marked: u32,
+}
+
+impl Refinable {
+    fn new(initial: &Partition) -> Refinable {
+        let n = initial.class_of.len();
+        let nb = initial.n_classes;
+        // Counting sort of the states by initial block.
+        let mut start = vec![0u32; nb + 1];
+        for &c in &initial.class_of {
+            start[c as usize + 1] += 1;
+        }
+        for i in 1..=nb {
+            start[i] += start[i - 1];
+        }
+        let block: Vec<BlockSlot> = (0..nb)
+            .map(|b| BlockSlot {
+                start: start[b],
+                end: start[b + 1],
+                marked: 0,
+            })
+            .collect();
+        let mut fill = start;
+        let mut elems = vec![0u32; n];
+        let mut state = vec![StateSlot { pos: 0, block: 0 }; n];
+        for (s, &c) in initial.class_of.iter().enumerate() {
+            let at = fill[c as usize];
+            elems[at as usize] = s as u32;
+            state[s] = StateSlot { pos: at, block: c };
+            fill[c as usize] += 1;
+        }
+        Refinable {
+            elems,
+            state,
+            block,
+        }
+    }
+
+    fn n_blocks(&self) -> usize {
+        self.block.len()
+    }
+
+    fn size(&self, b: usize) -> u32 {
+        self.block[b].end - self.block[b].start
+    }
+
+    fn members(&self, b: usize) -> &[u32] {
+        let BlockSlot { start, end, .. } = self.block[b];
+        &self.elems[start as usize..end as usize]
+    }
+
+    /// Moves `s` into the marked front of its block; records the block the first time.
+    #[inline]
+    fn mark(&mut self, s: u32, touched: &mut Vec<u32>) {
+        let StateSlot {
+            pos: here,
+            block: b,
+        } = self.state[s as usize];
+        let blk = &mut self.block[b as usize];
+        let m = blk.marked;
+        let target = blk.start + m;
+        if here < target {
+            // Already marked. Cannot happen within one splitter (a source has one
+            // successor per symbol); the check keeps the structure sound anyway.
+            return;
+        }
+        if m == 0 {
+            touched.push(b);
+        }
+        blk.marked = m + 1;
+        let other = self.elems[target as usize];
+        self.elems[target as usize] = s;
+        self.elems[here as usize] = other;
+        self.state[s as usize].pos = target;
+        self.state[other as usize].pos = here;
+    }
+
+    /// Splits block `x` into its marked and unmarked parts, when both are non-empty.
+    /// The smaller part becomes a new block, whose id is returned.
+    fn split(&mut self, x: usize) -> Option<usize> {
+        let BlockSlot { start, end, marked } = self.block[x];
+        self.block[x].marked = 0;
+        if marked == end - start {
+            return None;
+        }
+        let mid = start + marked;
+        let z = self.block.len();
+        let (zs, ze) = if marked <= end - mid {
+            self.block[x].start = mid;
+            (start, mid)
+        } else {
+            self.block[x].end = mid;
+            (mid, end)
+        };
+        self.block.push(BlockSlot {
+            start: zs,
+            end: ze,
+            marked: 0,
+        });
+        for &st in &self.elems[zs as usize..ze as usize] {
+            self.state[st as usize].block = z as u32;
+        }
+        Some(z)
+    }
+
+    fn into_partition(self) -> Partition {
+        let block_of: Vec<u32> = self.state.iter().map(|s| s.block).collect();
+        canonical(&block_of, self.block.len())
+    }
+}
+
+/// Renumbers dense block ids `0..n_blocks` by first member in state order.
+fn canonical(block_of: &[u32], n_blocks: usize) -> Partition {
+    let mut rename = vec![u32::MAX; n_blocks];
+    let mut next = 0u32;
+    let class_of = block_of
+        .iter()
+        .map(|&b| {
+            let r = &mut rename[b as usize];
+            if *r == u32::MAX {
+                *r = next;
+                next += 1;
+            }
+            *r
+        })
+        .collect();
+    Partition {
+        class_of,
+        n_classes: next as usize,
+    }
+}
+
+/// Moore's iterated signature refinement: the naive O(k n^2) baseline, used to test
+/// [`hopcroft`] and as the benchmark baseline. Each round gives every state the
+/// signature (class, class of each successor) and renumbers; it stops when a round
+/// splits nothing. Returns the same canonical partition as [`hopcroft`].
+///
+/// # Panics
+///
+/// When `dfa` is malformed (see [`Dfa::validate`]).
+pub fn moore_refinement(dfa: &Dfa) -> Partition {
+    dfa.assert_valid();
+    let n = dfa.n_states;
+    let k = dfa.n_symbols;
+    let mut part = Partition::from_labels(&dfa.initial);
+    let w = k + 1;
+    let mut sig = vec![0u32; n * w];
+    loop {
+        for s in 0..n {
+            let row = &mut sig[s * w..(s + 1) * w];
+            row[0] = part.class_of[s];
+            for a in 0..k {
+                row[a + 1] = part.class_of[dfa.delta[s * k + a] as usize];
+            }
+        }
+        let mut ids: HashMap<&[u32], u32, FastHash> = HashMap::default();
+        ids.reserve(part.n_classes * 2);
+        let class_of: Vec<u32> = (0..n)
+            .map(|s| {
+                let next = ids.len() as u32;
+                *ids.entry(&sig[s * w..(s + 1) * w]).or_insert(next)
+            })
+            .collect();
+        let n_classes = ids.len();
+        // The new partition refines the old one (the old class is part of the
+        // signature), so an equal count means nothing split.
+        let done = n_classes == part.n_classes;
+        part = Partition {
+            class_of,
+            n_classes,
+        };
+        if done {
+            return part;
+        }
+    }
+}
+
+/// A fast non-cryptographic hasher (multiply-rotate, as in common practice for
+/// compiler-internal tables) so the Moore baseline is not dominated by SipHash.
+#[derive(Default)]
+struct Fx(u64);
+
+impl Hasher for Fx {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut buf = [0u8; 8];
+            buf[..chunk.len()].copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(buf));
+        }
+    }
+    fn write_u32(&mut self, i: u32) {
+        self.add(i as u64);
+    }
+    fn write_u64(&mut self, i: u64) {
+        self.add(i);
+    }
+    fn write_usize(&mut self, i: usize) {
+        self.add(i as u64);
+    }
+}
+
+impl Fx {
+    #[inline]
+    fn add(&mut self, x: u64) {
+        self.0 = (self.0.rotate_left(5) ^ x).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
+    }
+}
+
+type FastHash = BuildHasherDefault<Fx>;
+
+/// The states reachable from `start` (breadth-first search), as a flag per state.
+///
+/// # Panics
+///
+/// When `start` is not a state or `dfa` is malformed.
+pub fn reachable(dfa: &Dfa, start: u32) -> Vec<bool> {
+    dfa.assert_valid();
+    assert!(
+        (start as usize) < dfa.n_states,
+        "start state {start} out of range"
+    );
+    let k = dfa.n_symbols;
+    let mut seen = vec![false; dfa.n_states];
+    let mut queue = VecDeque::new();
+    seen[start as usize] = true;
+    queue.push_back(start);
+    while let Some(s) = queue.pop_front() {
+        for &t in &dfa.delta[s as usize * k..(s as usize + 1) * k] {
+            if !seen[t as usize] {
+                seen[t as usize] = true;
+                queue.push_back(t);
+            }
+        }
+    }
+    seen
+}
+
+/// A [`Dfa`] restricted to the states reachable from a start state.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Restricted {
+    /// The reachable part, renumbered densely in increasing order of old id.
+    pub dfa: Dfa,
+    /// The start state in the new numbering.
+    pub start: u32,
+    /// Old id of each new state.
+    pub old_of_new: Vec<u32>,
+    /// New id of each old state, `None` for unreachable states.
+    pub new_of_old: Vec<Option<u32>>,
+}
+
+/// Restricts `dfa` to the states reachable from `start`, keeping their relative order.
+///
+/// # Panics
+///
+/// When `start` is not a state or `dfa` is malformed.
+pub fn restrict_to_reachable(dfa: &Dfa, start: u32) -> Restricted {
+    let seen = reachable(dfa, start);
+    let k = dfa.n_symbols;
+    let mut new_of_old = vec![None; dfa.n_states];
+    let mut old_of_new = Vec::new();
+    for (s, &r) in seen.iter().enumerate() {
+        if r {
+            new_of_old[s] = Some(old_of_new.len() as u32);
+            old_of_new.push(s as u32);
+        }
+    }
+    let mut delta = Vec::with_capacity(old_of_new.len() * k);
+    for &s in &old_of_new {
+        for &t in &dfa.delta[s as usize * k..(s as usize + 1) * k] {
+            // Successors of reachable states are reachable.
+            delta.push(new_of_old[t as usize].unwrap_or(u32::MAX));
+        }
+    }
+    let initial = old_of_new
+        .iter()
+        .map(|&s| dfa.initial[s as usize])
+        .collect();
+    Restricted {
+        dfa: Dfa {
+            n_states: old_of_new.len(),
+            n_symbols: k,
+            delta,
+            initial,
+        },
+        start: new_of_old[start as usize].unwrap_or(0),
+        old_of_new,
+        new_of_old,
+    }
+}
+
+/// The quotient of `dfa` by `partition`: one state per class (its label and successors
+/// taken from the class's first member). `None` when the partition is not a
+/// congruence: some class mixes labels, or two members of a class go to different
+/// classes on some symbol.
+///
+/// # Panics
+///
+/// When `dfa` is malformed or `partition` does not cover its states.
+pub fn quotient(dfa: &Dfa, partition: &Partition) -> Option<Dfa> {
+    dfa.assert_valid();
+    assert_eq!(partition.class_of.len(), dfa.n_states, "partition size");
+    let k = dfa.n_symbols;
+    let m = partition.n_classes;
+    let mut rep = vec![u32::MAX; m];
+    for (s, &c) in partition.class_of.iter().enumerate() {
+        if rep[c as usize] == u32::MAX {
+            rep[c as usize] = s as u32;
+        }
+    }
+    if rep.contains(&u32::MAX) {
+        return None;
+    }
+    let cls = |s: u32| partition.class_of[s as usize];
+    let mut delta = Vec::with_capacity(m * k);
+    for &r in &rep {
+        for a in 0..k {
+            delta.push(cls(dfa.delta[r as usize * k + a]));
+        }
+    }
+    let initial: Vec<u32> = rep.iter().map(|&r| dfa.initial[r as usize]).collect();
+    for s in 0..dfa.n_states {
+        let c = cls(s as u32) as usize;
+        if dfa.initial[s] != initial[c] {
+            return None;
+        }
+        for a in 0..k {
+            if cls(dfa.delta[s * k + a]) != delta[c * k + a] {
+                return None;
+            }
+        }
+    }
+    Some(Dfa {
+        n_states: m,
+        n_symbols: k,
+        delta,
+        initial,
+    })
+}
+
+/// One side of an equivalence query for [`distinguish`]: a machine, its start state,
+/// and what can be observed of it.
+///
+/// `state_label(s)` is observed in every state entered (and in the start state);
+/// `step_label(s, a)` is observed when symbol `a` is taken from state `s` (a Mealy
+/// output, an action signature). Labels are compared between the two sides, so both
+/// must use the same encoding.
+pub struct Observed<'a, S, T>
+where
+    S: Fn(u32) -> u64,
+    T: Fn(u32, u32) -> u64,
+{
+    /// The machine.
+    pub dfa: &'a Dfa,
+    /// The start state.
+    pub start: u32,
+    /// Per-state observation.
+    pub state_label: S,
+    /// Per-transition observation.
+    pub step_label: T,
+}
+
+/// The observations of a plain [`Dfa`]: its initial labels, nothing on transitions.
+pub fn observe_labels(
+    dfa: &Dfa,
+    start: u32,
+) -> Observed<'_, impl Fn(u32) -> u64 + '_, impl Fn(u32, u32) -> u64> {
+    Observed {
+        dfa,
+        start,
+        state_label: move |s: u32| dfa.initial[s as usize] as u64,
+        step_label: |_: u32, _: u32| 0u64,
+    }
+}
+
+/// Why [`distinguish`] could not compare two machines.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum DistinguishError {
+    /// The machines have different alphabets.
+    SymbolCount {
+        /// Symbols of the first machine.
+        a: usize,
+        /// Symbols of the second machine.
+        b: usize,
+    },
+    /// A start state is not a state of its machine.
+    StartOutOfRange {
+        /// The start state given.
+        start: u32,
+        /// States of that machine.
+        n_states: usize,
+    },
+    /// A machine is malformed.
+    Malformed(DfaError),
+}
+
+impl fmt::Display for DistinguishError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            DistinguishError::SymbolCount { a, b } => {
+                write!(f, "machines have different alphabets ({a} and {b} symbols)")
+            }
+            DistinguishError::StartOutOfRange { start, n_states } => {
+                write!(
+                    f,
+                    "start state {start} out of range (machine has {n_states})"
+                )
+            }
+            DistinguishError::Malformed(e) => write!(f, "malformed machine: {e}"),
+        }
+    }
+}
+
+impl std::error::Error for DistinguishError {}
+
+/// Pairs up to this many (n_a * n_b) use a flat bit set for the visited map.
+const FLAT_VISITED_LIMIT: usize = 1 << 27;
+
+/// A shortest word telling `a` and `b` apart, or `None` when they are equivalent.
+///
+/// Breadth-first search over the product machine from `(a.start, b.start)`, with
+/// parent pointers. The empty word distinguishes when the start labels differ; a word
+/// `w·x` distinguishes when after `w` the two step labels on `x` differ, or the state
+/// labels of the states entered on `x` do. The visited map is a flat bit set when
+/// `n_a * n_b` is at most 2^27, a hash set beyond. O(k n_a n_b) time at worst,
+/// memory proportional to the pairs visited.
+pub fn distinguish<SA, TA, SB, TB>(
+    a: &Observed<'_, SA, TA>,
+    b: &Observed<'_, SB, TB>,
+) -> Result<Option<Vec<u32>>, DistinguishError>
+where
+    SA: Fn(u32) -> u64,
+    TA: Fn(u32, u32) -> u64,
+    SB: Fn(u32) -> u64,
+    TB: Fn(u32, u32) -> u64,
+{
+    for side in [a.dfa, b.dfa] {
+        side.validate().map_err(DistinguishError::Malformed)?;
+    }
+    if a.dfa.n_symbols != b.dfa.n_symbols {
+        return Err(DistinguishError::SymbolCount {
+            a: a.dfa.n_symbols,
+            b: b.dfa.n_symbols,
+        });
+    }
+    for (start, dfa) in [(a.start, a.dfa), (b.start, b.dfa)] {
+        if start as usize >= dfa.n_states {
+            return Err(DistinguishError::StartOutOfRange {
+                start,
+                n_states: dfa.n_states,
+            });
+        }
+    }
+    let k = a.dfa.n_symbols;
+    let nb = b.dfa.n_states as u64;
+    if (a.state_label)(a.start) != (b.state_label)(b.start) {
+        return Ok(Some(Vec::new()));
+    }
+
+    enum Visited {
+        Flat(Vec<u64>),
+        Sparse(HashSet<u64, FastHash>),
+    }
+    impl Visited {
+        /// Marks `key`; true when it was new.
+        fn insert(&mut self, key: u64) -> bool {
+            match self {
+                Visited::Flat(bits) => {
+                    let (w, bit) = ((key / 64) as usize, 1u64 << (key % 64));
+                    let new = bits[w] & bit == 0;
+                    bits[w] |= bit;
+                    new
+                }
+                Visited::Sparse(set) => set.insert(key),
+            }
+        }
+    }
+    let pairs = a.dfa.n_states.saturating_mul(b.dfa.n_states);
+    let mut visited = if pairs <= FLAT_VISITED_LIMIT {
+        Visited::Flat(vec![0u64; pairs.div_ceil(64)])
+    } else {
+        Visited::Sparse(HashSet::default())
+    };
+
+    // Queue entries: (state in a, state in b, index of parent entry, symbol taken).
+    let mut queue: Vec<(u32, u32, u32, u32)> = vec![(a.start, b.start, u32::MAX, 0)];
+    visited.insert(a.start as u64 * nb + b.start as u64);
+    let mut head = 0usize;
+    while head < queue.len() {
+        let (p, q, _, _) = queue[head];
+        for x in 0..k as u32 {
+            let (p2, q2) = (a.dfa.next(p, x), b.dfa.next(q, x));
+            let differs = (a.step_label)(p, x) != (b.step_label)(q, x)
+                || (a.state_label)(p2) != (b.state_label)(q2);
+            if differs {
+                let mut word = vec![x];
+                let mut at = head;
+                while queue[at].2 != u32::MAX {
+                    word.push(queue[at].3);
+                    at = queue[at].2 as usize;
+                }
+                word.reverse();
+                return Ok(Some(word));
+            }
+            if visited.insert(p2 as u64 * nb + q2 as u64) {
+                queue.push((p2, q2, head as u32, x));
+            }
+        }
+        head += 1;
+    }
+    Ok(None)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn dfa(k: usize, delta: &[u32], initial: &[u32]) -> Dfa {
+        Dfa {
+            n_states: initial.len(),
+            n_symbols: k,
+            delta: delta.to_vec(),
+            initial: initial.to_vec(),
+        }
+    }
+
+    #[test]
+    fn validate_rejects_bad_tables() {
+        assert!(matches!(
+            dfa(2, &[0, 1, 1], &[0, 0]).validate(),
+            Err(DfaError::DeltaLength { .. })
+        ));
+        assert!(matches!(
+            dfa(1, &[0, 2], &[0, 0]).validate(),
+            Err(DfaError::TargetOutOfRange { target: 2, .. })
+        ));
+        let mut short = dfa(1, &[0, 1], &[0, 0]);
+        short.initial.pop();
+        assert!(matches!(
+            short.validate(),
+            Err(DfaError::InitialLength { .. })
+        ));
+    }
+
+    #[test]
+    fn empty_and_symbolless() {
+        // No states: no classes. No symbols: classes are exactly the label classes.
+        assert_eq!(hopcroft(&dfa(1, &[], &[])).n_classes, 0);
+        let d = dfa(0, &[], &[5, 7, 5, 9]);
+        let p = hopcroft(&d);
+        assert_eq!(p.class_of, vec![0, 1, 0, 2]);
+        assert_eq!(p, moore_refinement(&d));
+    }
+
+    #[test]
+    fn split_halves_keep_the_structure_consistent() {
+        // A chain 0 -> 1 -> 2 -> 3 -> 3 where only 3 is labelled 1: every state is
+        // distinguished by its distance to 3, so all four classes are singletons.
+        let d = dfa(1, &[1, 2, 3, 3], &[0, 0, 0, 1]);
+        let p = hopcroft(&d);
+        assert_eq!(p.n_classes, 4);
+        assert_eq!(p.class_of, vec![0, 1, 2, 3]);
+        assert_eq!(p, moore_refinement(&d));
+    }
+
+    #[test]
+    fn from_labels_is_canonical() {
+        let p = Partition::from_labels(&[9, 3, 9, 4, 3]);
+        assert_eq!(p.class_of, vec![0, 1, 0, 2, 1]);
+        assert_eq!(p.classes(), vec![vec![0, 2], vec![1, 4], vec![3]]);
+    }
+
+    #[test]
+    fn distinguish_checks_alphabets_and_starts() {
+        let a = dfa(1, &[0], &[0]);
+        let b = dfa(2, &[0, 0], &[0]);
+        assert!(matches!(
+            distinguish(&observe_labels(&a, 0), &observe_labels(&b, 0)),
+            Err(DistinguishError::SymbolCount { a: 1, b: 2 })
+        ));
+        assert!(matches!(
+            distinguish(&observe_labels(&a, 0), &observe_labels(&a, 3)),
+            Err(DistinguishError::StartOutOfRange { start: 3, .. })
+        ));
+    }
+
+    #[test]
+    fn distinguish_uses_step_labels() {
+        // One state, one symbol, a self-loop; the two sides differ only in the output
+        // of the transition, so the shortest witness is the one-symbol word [0].
+        let d = dfa(1, &[0], &[0]);
+        let a = Observed {
+            dfa: &d,
+            start: 0,
+            state_label: |_| 0,
+            step_label: |_, _| 1,
+        };
+        let b = Observed {
+            dfa: &d,
+            start: 0,
+            state_label: |_| 0,
+            step_label: |_, _| 2,
+        };
+        assert_eq!(distinguish(&a, &b), Ok(Some(vec![0])));
+        assert_eq!(distinguish(&a, &a), Ok(None));
+    }
+}
