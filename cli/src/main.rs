@@ -9,6 +9,7 @@ mod cmd_equiv;
 mod cmd_gen_c;
 mod cmd_gen_rust;
 mod cmd_import;
+mod cmd_logic;
 mod cmd_minimize;
 mod cmd_tour;
 mod commands;
@@ -151,6 +152,8 @@ enum Command {
         #[arg(short = 'o', value_name = "OUT.detent")]
         out: Option<PathBuf>,
     },
+    /// State assignment, minimized flip-flop and output equations, gate costs, Verilog.
+    Logic(cmd_logic::LogicArgs),
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -192,6 +195,7 @@ fn main() -> ExitCode {
         Command::Gen {
             target: GenTarget::Rust(args),
         } => cmd_gen_rust::run(&args),
+        Command::Logic(args) => cmd_logic::run(&args),
         Command::Minimize {
             file,
             machine,
