@@ -128,7 +128,11 @@ pub fn table(file: &Path, machine: Option<&str>, format: TableFormat) -> u8 {
 
 /// `detent run FILE [--machine NAME] --trace TRACEFILE|-`
 pub fn run(file: &Path, machine: Option<&str>, trace: &str) -> u8 {
-    let m = match io::load_machine(file, machine) {
+    // A violated property leaves the machine well defined: `run` replays its
+    // counterexample on the spec as it is.
+    let loaded = io::load_machines_tolerating(file, &[Lint::Property])
+        .and_then(|ms| io::pick_machine(file, ms, machine));
+    let m = match loaded {
         Ok(m) => m,
         Err(code) => return code,
     };

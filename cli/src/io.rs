@@ -1,6 +1,7 @@
 //! Reading specs and writing outputs: size limits, UTF-8, atomic writes.
 
 use detent_compiler::check::{self, render, FileReport};
+use detent_compiler::diag::Lint;
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::MAX_FILE_BYTES;
 use std::io::Write;
@@ -70,15 +71,21 @@ pub fn print_report_text(report: &FileReport) {
 /// Loads every machine of a spec file for commands other than `check`, refusing a
 /// file with errors. Errors are printed; the `Err` holds the exit code.
 pub fn load_machines(path: &Path) -> Result<Vec<Machine>, u8> {
+    load_machines_tolerating(path, &[])
+}
+
+/// Like [`load_machines`], but errors of the `tolerated` lints do not refuse the file
+/// (`run` replays the counterexample of a violated property on the machine itself).
+pub fn load_machines_tolerating(path: &Path, tolerated: &[Lint]) -> Result<Vec<Machine>, u8> {
     let file = path.display().to_string();
     let text = read_text(&file).map_err(usage_error)?;
     let report = check::check_source(&file, &text);
-    if report.has_errors() {
-        let errors: Vec<_> = report
-            .diagnostics()
-            .filter(|d| d.is_error())
-            .cloned()
-            .collect();
+    let errors: Vec<_> = report
+        .diagnostics()
+        .filter(|d| d.is_error() && !tolerated.contains(&d.lint))
+        .cloned()
+        .collect();
+    if !errors.is_empty() {
         let src = render::Source {
             name: &report.file,
             text: &report.text,
@@ -99,8 +106,16 @@ pub fn load_machines(path: &Path) -> Result<Vec<Machine>, u8> {
 /// Loads one error-free machine (`--machine NAME`, or the file's only machine).
 /// Errors are printed; the `Err` holds the exit code.
 pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
+    pick_machine(path, load_machines(path)?, name)
+}
+
+/// Chooses `--machine NAME`, or the file's only machine.
+pub fn pick_machine(
+    path: &Path,
+    mut machines: Vec<Machine>,
+    name: Option<&str>,
+) -> Result<Machine, u8> {
     let file = path.display().to_string();
-    let mut machines = load_machines(path)?;
     match name {
         Some(n) => match machines.iter().position(|m| m.name == n) {
             Some(i) => Ok(machines.swap_remove(i)),

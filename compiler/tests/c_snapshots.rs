@@ -1,0 +1,27 @@
+//! Snapshot tests of the generated C, so that a change in output is seen in review.
+
+use detent_compiler::emit::c::generate_c;
+
+fn machine(name: &str) -> detent_compiler::model::Machine {
+    let path = format!("{}/../examples/{name}", env!("CARGO_MANIFEST_DIR"));
+    let text = std::fs::read_to_string(&path).expect("example exists");
+    let report = detent_compiler::check::check_source(name, &text);
+    assert!(!report.has_errors(), "{name} checks clean");
+    report.machines.into_iter().next().unwrap().machine.unwrap()
+}
+
+#[test]
+fn locker_header_and_source() {
+    let files = generate_c(&machine("locker.detent"), "locker.detent");
+    insta::assert_snapshot!("locker_h", files.header);
+    insta::assert_snapshot!("locker_c", files.source);
+}
+
+#[test]
+fn clocked_pattern_detector() {
+    let files = generate_c(
+        &machine("pattern_detector.detent"),
+        "pattern_detector.detent",
+    );
+    insta::assert_snapshot!("pattern_detector_c", files.source);
+}
