@@ -75,12 +75,19 @@ fn the_minimized_machine_behaves_like_the_spec_under_the_interpreter() {
             let r = m.step(state, detent_compiler::model::EventId::from_index(e), &[]);
             state = r.to;
             let out = generated.step(Event::ALL[e], &mut log).unwrap();
-            let pump_expected = r.outputs().iter().any(|o| m.outputs[o.index()].name == "pump");
+            let pump_expected = r
+                .outputs()
+                .iter()
+                .any(|o| m.outputs[o.index()].name == "pump");
             assert_eq!(out.pump, pump_expected);
             assert_eq!(generated.state().name(), {
                 // The generated state is the first member of the class.
                 let name = m.state_name(state);
-                if name == "Emptying" { "Draining" } else { name }
+                if name == "Emptying" {
+                    "Draining"
+                } else {
+                    name
+                }
             });
         }
     }

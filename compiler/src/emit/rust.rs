@@ -97,9 +97,8 @@ pub fn machine_items(m: &Machine, style: DispatchStyle) -> TokenStream {
         class[1..].iter().map(move |s| {
             let name = &m.states[s.index()].name;
             let alias = ident(name);
-            let doc = format!(
-                "`{name}` has the same behaviour as `{rep}`: `#[minimize]` merged them."
-            );
+            let doc =
+                format!("`{name}` has the same behaviour as `{rep}`: `#[minimize]` merged them.");
             quote! {
                 #[doc = #doc]
                 #[allow(non_upper_case_globals)]
