@@ -107,7 +107,7 @@ pub struct ExactResult {
 }
 
 /// Default node budget of the branch and bound in [`minimize_exact`].
-pub const DEFAULT_NODE_BUDGET: u64 = 50_000;
+pub const DEFAULT_NODE_BUDGET: u64 = 10_000;
 
 /// Exact minimum sum of products (cost: literals, then products) of the function of `n`
 /// variables with on-set `on` and don't-cares `dc` (a minterm listed in both counts as
@@ -237,8 +237,9 @@ struct Search<'a> {
     matrix: &'a Matrix,
     nodes: u64,
     budget: u64,
-    /// Set once the node budget ran out: from then on open nodes are completed greedily
-    /// and the result is no longer a proven minimum.
+    /// Set once the node budget ran out: from then on the search only completes the
+    /// current first dive greedily (if no cover is known yet) and drops every other open
+    /// node; the result is no longer a proven minimum.
     exhausted: bool,
     /// Whether independent components are solved separately.
     split: bool,
@@ -518,7 +519,7 @@ impl Search<'_> {
         let mut best_value = eval(&u, &mut rc);
         let mut best_u = u.clone();
         let mut best_rc = rc.clone();
-        let iterations = if state.mult.is_empty() { 150 } else { 25 };
+        let iterations = if state.mult.is_empty() { 150 } else { 15 };
         let mut step = 1.0f64;
         let mut stale = 0;
         let mut g = vec![0f64; m.row_cols.len()];
@@ -650,7 +651,12 @@ impl Search<'_> {
             self.exhausted = true;
         }
         if self.exhausted {
-            return self.greedy(state).filter(|&(cost, _)| cost < upper);
+            // Only the first dive (no cover found yet on this path) is completed, once;
+            // every other open node is dropped, keeping the best cover found.
+            if upper != u64::MAX {
+                return None;
+            }
+            return self.greedy(state);
         }
         let m = self.matrix;
         let mut rounds = 0;
@@ -679,7 +685,7 @@ impl Search<'_> {
                 return None;
             }
             rounds += 1;
-            if fixed == 0 || rounds == 4 {
+            if fixed == 0 || rounds == 2 {
                 if fixed > 0 && !self.reduce(&mut state) {
                     return None;
                 }
