@@ -30,7 +30,7 @@ use cube::full_mask;
 /// Measured (release build, shared 2-core machine at load 8-9, `cargo run --release -p
 /// detent-compiler --example logic_export -- --measure --sizes 10,11,12 --count 3`) on
 /// random functions with 1/3 of the minterms on and 1/6 don't-care: 6-8 variables take
-/// well under 1 ms, 10 variables 2-50 ms (50-300 branch-and-bound nodes with the
+/// well under 1 ms, 10 variables 2-50 ms (17-300 branch-and-bound nodes with the
 /// Lagrangian bound), 11 variables 0.15-0.3 s, except one whose cyclic core exhausts the
 /// node budget ([`exact::DEFAULT_NODE_BUDGET`], 10,000 nodes, about 6 s here), and at 12
 /// variables (2,900 primes) all three exhaust it (2-15 s here) while the heuristic takes

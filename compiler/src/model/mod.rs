@@ -9,8 +9,8 @@
 
 pub mod bdd;
 pub mod graph;
-mod resolve;
 pub mod steps;
+mod resolve;
 
 pub use bdd::{Bdd, BddStore};
 pub use resolve::{resolve, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES};
