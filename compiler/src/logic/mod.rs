@@ -30,16 +30,17 @@ use cube::full_mask;
 
 /// Largest number of variables for which [`minimize`] runs the exact method.
 ///
-/// Measured (release build, shared 2-core machine, `cargo run --release -p
-/// detent-compiler --example logic_export -- --measure --sizes 6,8,10,11,12 --count 2`)
-/// on random functions with 1/3 of the minterms on and 1/6 don't-care: 6-8 variables
-/// take under 1 ms, 10 variables 0.1-0.9 s (2,000-40,000 branch-and-bound nodes), and
-/// at 11-12 variables (1,200-2,900 primes) the cyclic core of such dense functions
-/// exhausts the node budget ([`exact::DEFAULT_NODE_BUDGET`], 50,000 nodes, a few
-/// seconds) while the heuristic takes 20-70 ms and is 5-10% above the best cover found.
-/// Sparse or structured functions (state-machine equations) stay exact well past 10
-/// variables, so the variable limit is 12 and the node budget is the real guard: when
-/// it runs out the result is reported as [`Method::Heuristic`].
+/// Measured (release build, shared 2-core machine at load 8-9, `cargo run --release -p
+/// detent-compiler --example logic_export -- --measure --sizes 10,11,12 --count 3`) on
+/// random functions with 1/3 of the minterms on and 1/6 don't-care: 6-8 variables take
+/// well under 1 ms, 10 variables 2-50 ms (17-300 branch-and-bound nodes with the
+/// Lagrangian bound), 11 variables 0.15-0.3 s, except one whose cyclic core exhausts the
+/// node budget ([`exact::DEFAULT_NODE_BUDGET`], 10,000 nodes, about 6 s here), and at 12
+/// variables (2,900 primes) all three exhaust it (2-15 s here) while the heuristic takes
+/// about 0.1 s and is 9-12% above the best cover found. Sparse or structured functions
+/// (state-machine equations) stay exact well past 10 variables, so the variable limit is
+/// 12 and the node budget is the real guard: when it runs out the result is reported as
+/// [`Method::Heuristic`].
 pub const EXACT_MAX_VARS: usize = 12;
 
 /// A single-output function in minterm form (for up to about 20 variables).
