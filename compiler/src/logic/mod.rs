@@ -221,7 +221,15 @@ pub fn minimize(f: &Function) -> Result<Cover, String> {
     f.validate()?;
     let n = f.vars.len();
     if n <= EXACT_MAX_VARS {
-        let result = exact::minimize_exact(n, &f.on, &f.pure_dc(), exact::DEFAULT_NODE_BUDGET);
+        // Past 10 variables one node costs far more (thousands of primes) and dense
+        // functions exhaust any budget: cap the search so that `detent logic` stays
+        // responsive (a tenth of the budget: about 1 s at worst on 12 variables here).
+        let budget = if n > 10 {
+            exact::DEFAULT_NODE_BUDGET / 10
+        } else {
+            exact::DEFAULT_NODE_BUDGET
+        };
+        let result = exact::minimize_exact(n, &f.on, &f.pure_dc(), budget);
         if result.proven {
             return Ok(Cover::new(result.cubes, Method::Exact));
         }
