@@ -280,37 +280,119 @@ pub struct HopcroftStats {
 /// When `dfa` is malformed (see [`Dfa::validate`]).
 pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
     dfa.assert_valid();
-    let mut stats = HopcroftStats::default();
-    let n = dfa.n_states;
-    let k = dfa.n_symbols;
-    if n == 0 {
+    if dfa.n_states == 0 {
         let empty = Partition {
             class_of: Vec::new(),
             n_classes: 0,
         };
-        return (empty, stats);
+        return (empty, HopcroftStats::default());
     }
+    // Transition ids `s * k + a` are `u32` whenever they fit (always, below 2^29
+    // states at 8 symbols), halving the inverse index against `u64`.
+    if dfa.delta.len() <= u32::MAX as usize {
+        refine::<u32>(dfa)
+    } else {
+        refine::<u64>(dfa)
+    }
+}
 
-    // Inverse transitions as CSR keyed by (target, symbol): the sources of the
-    // transitions into `t` on `a` are `inv_src[inv_off[t*k+a]..inv_off[t*k+a+1]]`.
-    // Built by a two-pass counting sort.
-    let mut inv_off = vec![0u32; n * k + 1];
-    for (i, &t) in dfa.delta.iter().enumerate() {
-        inv_off[t as usize * k + i % k + 1] += 1;
+/// An unsigned index type for transition ids and offsets into the inverse lists.
+trait Index: Copy {
+    const ZERO: Self;
+    fn from_usize(i: usize) -> Self;
+    fn to_usize(self) -> usize;
+}
+
+impl Index for u32 {
+    const ZERO: Self = 0;
+    #[inline(always)]
+    fn from_usize(i: usize) -> Self {
+        i as u32
     }
-    for i in 1..inv_off.len() {
-        inv_off[i] += inv_off[i - 1];
+    #[inline(always)]
+    fn to_usize(self) -> usize {
+        self as usize
     }
-    let mut inv_src = vec![0u32; n * k];
-    {
-        let mut fill = inv_off[..n * k].to_vec();
-        for (i, &t) in dfa.delta.iter().enumerate() {
-            let key = t as usize * k + i % k;
-            inv_src[fill[key] as usize] = (i / k) as u32;
-            fill[key] += 1;
+}
+
+impl Index for u64 {
+    const ZERO: Self = 0;
+    #[inline(always)]
+    fn from_usize(i: usize) -> Self {
+        i as u64
+    }
+    #[inline(always)]
+    fn to_usize(self) -> usize {
+        self as usize
+    }
+}
+
+/// Sources per chunk of the two-pass marking loop: the first pass issues the
+/// independent loads of a chunk, the second does the dependent work on warm lines.
+/// 32 chunks of state slots, block slots and element slots fit easily in L1.
+const CHUNK: usize = 32;
+
+/// Members per batch of popped blocks: enough independent inverse lists and sources
+/// to keep a dozen misses in flight, few enough that their lines stay in L1/L2.
+const BATCH: usize = 64;
+
+/// The inverse of the transition function, grouped by target: the transitions into
+/// `t` are the ids `s * k + a` in `trans[off[t]..off[t + 1]]`, in increasing order.
+struct Inverse<I> {
+    off: Vec<I>,
+    trans: Vec<I>,
+}
+
+impl<I: Index> Inverse<I> {
+    /// Counting sort by target: one histogram pass over `delta`, and one scatter pass
+    /// backwards that turns the inclusive prefix sums into start offsets in place.
+    fn new(dfa: &Dfa) -> Inverse<I> {
+        let n = dfa.n_states;
+        let mut off = vec![I::ZERO; n + 1];
+        for &t in &dfa.delta {
+            let c = &mut off[t as usize];
+            *c = I::from_usize(c.to_usize() + 1);
         }
+        let mut sum = 0usize;
+        for c in off.iter_mut() {
+            sum += c.to_usize();
+            *c = I::from_usize(sum);
+        }
+        let mut trans = vec![I::ZERO; dfa.delta.len()];
+        for (i, &t) in dfa.delta.iter().enumerate().rev() {
+            let c = &mut off[t as usize];
+            let at = c.to_usize() - 1;
+            *c = I::from_usize(at);
+            trans[at] = I::from_usize(i);
+        }
+        Inverse { off, trans }
     }
 
+    /// The transitions into `t`.
+    #[inline]
+    fn of(&self, t: u32) -> &[I] {
+        let t = t as usize;
+        &self.trans[self.off[t].to_usize()..self.off[t + 1].to_usize()]
+    }
+
+    /// Loads the first line of the inverse list of each target in `chunk` (see
+    /// [`Refinable::warm`]).
+    #[inline]
+    fn warm(&self, chunk: &[u32]) -> u32 {
+        let mut acc = 0u32;
+        for &t in chunk {
+            if let Some(i) = self.trans.get(self.off[t as usize].to_usize()) {
+                acc ^= i.to_usize() as u32;
+            }
+        }
+        acc
+    }
+}
+
+fn refine<I: Index>(dfa: &Dfa) -> (Partition, HopcroftStats) {
+    let mut stats = HopcroftStats::default();
+    let k = dfa.n_symbols;
+    let inv = Inverse::<I>::new(dfa);
     let mut p = Refinable::new(&Partition::from_labels(&dfa.initial));
 
     // Initial worklist: every initial block but one of the largest (for a complete
@@ -320,22 +402,71 @@ pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
         .filter(|&b| b as usize != largest)
         .collect();
 
-    // The splitter's members are copied first: marking reorders elements inside
-    // blocks, the splitter block included.
-    let mut splitter: Vec<u32> = Vec::new();
+    // Work goes in batches of popped blocks; all buffers are reused across batches.
+    let shift = k.is_power_of_two().then(|| k.trailing_zeros());
+    let mut members: Vec<u32> = Vec::new();
+    let mut member_bounds: Vec<usize> = Vec::new();
+    let mut by_symbol: Vec<Vec<u32>> = vec![Vec::new(); k];
+    let mut sources: Vec<u32> = Vec::new();
+    let mut group_ends: Vec<usize> = Vec::new();
     let mut touched: Vec<u32> = Vec::new();
-    while let Some(b) = work.pop() {
-        stats.splitters += k as u64;
-        for a in 0..k {
-            splitter.clear();
-            splitter.extend_from_slice(p.members(b as usize));
-            for &t in &splitter {
-                let key = t as usize * k + a;
-                let (lo, hi) = (inv_off[key] as usize, inv_off[key + 1] as usize);
-                stats.marks += (hi - lo) as u64;
-                for &s in &inv_src[lo..hi] {
+    let mut warm = 0u32;
+    while !work.is_empty() {
+        // A batch: pop blocks until about BATCH members are in hand, snapshotting
+        // their members (marking reorders elements inside blocks, the splitters'
+        // own included). Each block is still its own splitter; a snapshot taken
+        // before an earlier batch member splits the block is a union of current
+        // blocks, which is as valid a splitter and no larger than when it was queued.
+        members.clear();
+        member_bounds.clear();
+        member_bounds.push(0);
+        while members.len() < BATCH {
+            let Some(b) = work.pop() else { break };
+            members.extend_from_slice(p.members(b as usize));
+            member_bounds.push(members.len());
+        }
+        stats.splitters += (k * (member_bounds.len() - 1)) as u64;
+
+        // Sources of the batch's incoming transitions, grouped by (block, symbol).
+        sources.clear();
+        group_ends.clear();
+        for w in member_bounds.windows(2) {
+            for chunk in members[w[0]..w[1]].chunks(CHUNK) {
+                warm ^= inv.warm(chunk);
+                for &t in chunk {
+                    for &i in inv.of(t) {
+                        let i = i.to_usize();
+                        let (s, a) = match shift {
+                            Some(sh) => (i >> sh, i & (k - 1)),
+                            None => (i / k, i % k),
+                        };
+                        by_symbol[a].push(s as u32);
+                    }
+                }
+            }
+            for bucket in by_symbol.iter_mut() {
+                sources.extend_from_slice(bucket);
+                group_ends.push(sources.len());
+                bucket.clear();
+            }
+        }
+        stats.marks += sources.len() as u64;
+
+        // Mark group by group, splitting the touched blocks at each group's end.
+        // The lines of each CHUNK of sources are loaded ahead in one pass.
+        let mut at = 0usize;
+        let mut warmed = 0usize;
+        for &end in &group_ends {
+            while at < end {
+                if at == warmed {
+                    warmed = (at + CHUNK).min(sources.len());
+                    warm ^= p.warm(&sources[at..warmed]);
+                }
+                let stop = end.min(warmed);
+                for &s in &sources[at..stop] {
                     p.mark(s, &mut touched);
                 }
+                at = stop;
             }
             for &x in &touched {
                 // Split off the smaller half as a new block; it enters the worklist
@@ -349,13 +480,15 @@ pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
             touched.clear();
         }
     }
+    // The warm-up loads must not be optimized away.
+    std::hint::black_box(warm);
     (p.into_partition(), stats)
 }
 
 /// A refinable partition: the states of each block are contiguous in `elems`.
 /// Marked states of a block sit at the front of its range. Per-state and per-block
-/// fields are stored together so that marking a state costs one cache miss for the
-/// state and one for its block.
+/// fields are stored together (array of structs), since marking reads both fields of
+/// a state and all three of its block: one cache line each.
 struct Refinable {
     elems: Vec<u32>,
     state: Vec<StateSlot>,
@@ -370,7 +503,9 @@ struct StateSlot {
     block: u32,
 }
 
+/// 16 bytes, so that a slot never straddles two cache lines.
 #[derive(Clone, Copy)]
+#[repr(align(16))]
 struct BlockSlot {
     start: u32,
     end: u32,
@@ -389,13 +524,12 @@ impl Refinable {
         for i in 1..=nb {
             start[i] += start[i - 1];
         }
-        let block: Vec<BlockSlot> = (0..nb)
-            .map(|b| BlockSlot {
-                start: start[b],
-                end: start[b + 1],
-                marked: 0,
-            })
-            .collect();
+        let mut block: Vec<BlockSlot> = Vec::with_capacity(n);
+        block.extend((0..nb).map(|b| BlockSlot {
+            start: start[b],
+            end: start[b + 1],
+            marked: 0,
+        }));
         let mut fill = start;
         let mut elems = vec![0u32; n];
         let mut state = vec![StateSlot { pos: 0, block: 0 }; n];
@@ -423,6 +557,21 @@ impl Refinable {
     fn members(&self, b: usize) -> &[u32] {
         let BlockSlot { start, end, .. } = self.block[b];
         &self.elems[start as usize..end as usize]
+    }
+
+    /// Loads, without changing anything, the lines that marking `chunk` will touch:
+    /// each state's slot, its block's slot and its element slot. The loads of
+    /// different states are independent, so the processor overlaps their misses,
+    /// where [`Refinable::mark`] alone would wait for each chain in turn. Returns a
+    /// value folded from the loads, for the caller to keep them alive.
+    #[inline]
+    fn warm(&self, chunk: &[u32]) -> u32 {
+        let mut acc = 0u32;
+        for &s in chunk {
+            let StateSlot { pos, block } = self.state[s as usize];
+            acc ^= self.block[block as usize].marked ^ self.elems[pos as usize];
+        }
+        acc
     }
 
     /// Moves `s` into the marked front of its block; records the block the first time.
