@@ -430,18 +430,21 @@ fn refine<I: Index>(dfa: &Dfa) -> (Partition, HopcroftStats) {
         // Sources of the batch's incoming transitions, grouped by (block, symbol).
         sources.clear();
         group_ends.clear();
+        // The inverse lists of each CHUNK of members (across blocks) are loaded ahead.
+        let mut warmed = 0usize;
         for w in member_bounds.windows(2) {
-            for chunk in members[w[0]..w[1]].chunks(CHUNK) {
-                warm ^= inv.warm(chunk);
-                for &t in chunk {
-                    for &i in inv.of(t) {
-                        let i = i.to_usize();
-                        let (s, a) = match shift {
-                            Some(sh) => (i >> sh, i & (k - 1)),
-                            None => (i / k, i % k),
-                        };
-                        by_symbol[a].push(s as u32);
-                    }
+            for (j, &t) in members.iter().enumerate().take(w[1]).skip(w[0]) {
+                if j == warmed {
+                    warmed = (j + CHUNK).min(members.len());
+                    warm ^= inv.warm(&members[j..warmed]);
+                }
+                for &i in inv.of(t) {
+                    let i = i.to_usize();
+                    let (s, a) = match shift {
+                        Some(sh) => (i >> sh, i & (k - 1)),
+                        None => (i / k, i % k),
+                    };
+                    by_symbol[a].push(s as u32);
                 }
             }
             for bucket in by_symbol.iter_mut() {
@@ -503,9 +506,7 @@ struct StateSlot {
     block: u32,
 }
 
-/// 16 bytes, so that a slot never straddles two cache lines.
 #[derive(Clone, Copy)]
-#[repr(align(16))]
 struct BlockSlot {
     start: u32,
     end: u32,
