@@ -16,25 +16,48 @@
 //! - Time O(k n log n) for `n` states and `k` symbols: each split enqueues only the
 //!   smaller half, so a state is in an enqueued splitter at most log2 n times per symbol,
 //!   and each time its incoming transitions on that symbol are scanned once.
-//! - Memory O(k n): the inverse transition lists are built once as a flat CSR array
-//!   (one `u32` offset and one `u32` source per transition), the refinable partition
-//!   takes six `u32` per state (elements, positions, block of each state; start, end and
-//!   marked count per block), and the worklist holds at most one entry per block. For
-//!   1,000,000 states x 8 symbols that is about 100 MB beside the 32 MB input table.
+//! - Memory O(k n): the inverse transitions are built once by a counting sort on the
+//!   target, as one `u32` offset per state and one `u32` transition id `s * k + a` per
+//!   transition (`u64` only when `n k` exceeds `u32`), so the source and the symbol of
+//!   each incoming transition come from one word; the refinable partition takes three
+//!   `u32` per state (element, position, block) and three per block (start, end,
+//!   marked count), and the worklist holds at most one entry per block. For 1,000,000
+//!   states x 8 symbols that is about 60 MB beside the 32 MB input table.
 //! - Worklist entries are blocks, not (block, symbol) pairs: every block that enters the
 //!   worklist enters it for all symbols at once (the initial blocks bar the largest, and
 //!   the smaller half of each split), so one entry per block suffices and the splitters
 //!   of a popped block are processed symbol by symbol.
 //!
-//! What is still slow: every mark is a few dependent random loads (the inverse list of
-//! a splitter member, the marked state's slot, its block's slot, the element swapped
-//! with it), so once the tables leave the caches the time per step grows several-fold
-//! (about 90 ns per mark at 2^14 states, 490 ns at 2^20 on a shared machine; see
-//! BENCHMARKS.md) and the growth from 2^14 to 2^20 states is well above n log n even
-//! though the step count is not. Keeping the transitions in a refinable partition of
-//! their own, grouped by (symbol, target block) as in A. Valmari and P. Lehtinen,
-//! "Efficient minimization of DFAs with partial transition functions" (2008), would
-//! make each splitter's incoming transitions one contiguous range.
+//! # Memory traffic
+//!
+//! On large random tables nearly every step is a cache (and TLB) miss: the inverse list
+//! of a splitter member, then per source its state slot, its block slot and its
+//! element slot. Done one source at a time these misses form a chain the processor
+//! must wait out in turn. The loop is therefore organized so that independent misses
+//! overlap, without changing what is computed:
+//!
+//! - blocks are popped in *batches* of about 64 members (each block stays its own
+//!   splitter: a block snapshotted before an earlier batch member splits it is a union
+//!   of current blocks, as valid a splitter and no larger than when it was queued, so
+//!   the O(k n log n) bound stands);
+//! - the sources of a batch are gathered first, one pass over the members' inverse
+//!   lists, bucketed by (block, symbol) into one flat reused buffer (no per-splitter
+//!   allocation);
+//! - both that pass and the marking pass work in chunks of 32: a first loop issues the
+//!   loads of the whole chunk (independent of each other, so their misses overlap), the
+//!   second does the dependent work on lines already in L1.
+//!
+//! Per-state slots (position, block) and per-block slots (start, end, marked) stay
+//! arrays of structs: marking reads both fields of a state and all of its block, so
+//! one line each. Keeping the transitions in a refinable partition of their own,
+//! grouped by (symbol, target block), as A. Valmari and P. Lehtinen do ("Efficient
+//! minimization of DFAs with partial transition functions", 2008), would make a
+//! splitter's incoming transitions one contiguous range, but every split would then
+//! move the transitions into the new block, one random inverse lookup per member of
+//! it: the same misses, moved rather than removed, so it is not done here. On random
+//! tables at 2^20 states the batched loop is about 3x faster than the direct one; the
+//! remaining growth above n log n is memory latency, shown in BENCHMARKS.md against a
+//! baseline walk over the same inverse lists.
 //!
 //! [`moore_refinement`] is the naive baseline, E. F. Moore's iterated refinement
 //! ("Gedanken-experiments on sequential machines", 1956): recompute every state's
