@@ -54,27 +54,44 @@ def tables(data):
     for group in ("random", "chain"):
         h = data.get((group, "hopcroft"), {})
         m = data.get((group, "moore"), {})
+        w = data.get((group, "walk"), {})
         if not h:
             continue
         out.append(f"\n**{group}** (8 symbols)\n")
-        out.append("| states | hopcroft | moore | moore / hopcroft | hopcroft growth per doubling | n log n growth per doubling |")
-        out.append("|---:|---:|---:|---:|---:|---:|")
+        if w:
+            out.append("| states | hopcroft | moore | moore / hopcroft | walk | hopcroft / walk | hopcroft growth per doubling | walk growth per doubling | n log n growth per doubling |")
+            out.append("|---:|---:|---:|---:|---:|---:|---:|---:|---:|")
+        else:
+            out.append("| states | hopcroft | moore | moore / hopcroft | hopcroft growth per doubling | n log n growth per doubling |")
+            out.append("|---:|---:|---:|---:|---:|---:|")
         sizes = sorted(h)
         for i, n in enumerate(sizes):
             mo = m.get(n)
             ratio = f"{mo / h[n]:.2f}x" if mo else "-"
+            wg = "-"
             if i > 0:
                 prev = sizes[i - 1]
                 steps = math.log2(n / prev)
                 g = (h[n] / h[prev]) ** (1 / steps)
                 ref = (nlogn(n) / nlogn(prev)) ** (1 / steps)
                 growth, refg = f"{g:.2f}x", f"{ref:.2f}x"
+                if n in w and prev in w:
+                    wg = f"{(w[n] / w[prev]) ** (1 / steps):.2f}x"
             else:
                 growth, refg = "-", "-"
-            out.append(f"| {n} | {fmt_time(h[n])} | {fmt_time(mo) if mo else '-'} | {ratio} | {growth} | {refg} |")
+            if w:
+                wn = w.get(n)
+                out.append(
+                    f"| {n} | {fmt_time(h[n])} | {fmt_time(mo) if mo else '-'} | {ratio} | "
+                    f"{fmt_time(wn) if wn else '-'} | {f'{h[n] / wn:.2f}x' if wn else '-'} | {growth} | {wg} | {refg} |"
+                )
+            else:
+                out.append(f"| {n} | {fmt_time(h[n])} | {fmt_time(mo) if mo else '-'} | {ratio} | {growth} | {refg} |")
         lo, hi = 1 << 14, 1 << 20
         if lo in h and hi in h:
             out.append(f"\n{group}: 2^14 -> 2^20 hopcroft time x{h[hi] / h[lo]:.0f}, n log n x{nlogn(hi) / nlogn(lo):.0f}, n x64.")
+        if lo in w and hi in w:
+            out.append(f"{group}: 2^14 -> 2^20 walk time x{w[hi] / w[lo]:.0f} for the same k n scanned transitions per state.")
     nomin = data.get(("regex", "ra_build_nomin"), {})
     mini = data.get(("regex", "ra_build_min"), {})
     hop = data.get(("regex", "hopcroft_exported"), {})
@@ -97,6 +114,7 @@ def svg(data, path):
     series = [
         (("random", "hopcroft"), "hopcroft, random", "#1f77b4", ""),
         (("random", "moore"), "moore, random", "#1f77b4", "6,4"),
+        (("random", "walk"), "walk baseline, random", "#9467bd", "2,2"),
         (("chain", "hopcroft"), "hopcroft, chain", "#d62728", ""),
         (("chain", "moore"), "moore, chain", "#d62728", "6,4"),
         (("regex", "hopcroft_exported"), "hopcroft, regex export", "#2ca02c", ""),

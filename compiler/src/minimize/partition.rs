@@ -16,25 +16,48 @@
 //! - Time O(k n log n) for `n` states and `k` symbols: each split enqueues only the
 //!   smaller half, so a state is in an enqueued splitter at most log2 n times per symbol,
 //!   and each time its incoming transitions on that symbol are scanned once.
-//! - Memory O(k n): the inverse transition lists are built once as a flat CSR array
-//!   (one `u32` offset and one `u32` source per transition), the refinable partition
-//!   takes six `u32` per state (elements, positions, block of each state; start, end and
-//!   marked count per block), and the worklist holds at most one entry per block. For
-//!   1,000,000 states x 8 symbols that is about 100 MB beside the 32 MB input table.
+//! - Memory O(k n): the inverse transitions are built once by a counting sort on the
+//!   target, as one `u32` offset per state and one `u32` transition id `s * k + a` per
+//!   transition (`u64` only when `n k` exceeds `u32`), so the source and the symbol of
+//!   each incoming transition come from one word; the refinable partition takes three
+//!   `u32` per state (element, position, block) and three per block (start, end,
+//!   marked count), and the worklist holds at most one entry per block. For 1,000,000
+//!   states x 8 symbols that is about 60 MB beside the 32 MB input table.
 //! - Worklist entries are blocks, not (block, symbol) pairs: every block that enters the
 //!   worklist enters it for all symbols at once (the initial blocks bar the largest, and
 //!   the smaller half of each split), so one entry per block suffices and the splitters
 //!   of a popped block are processed symbol by symbol.
 //!
-//! What is still slow: every mark is a few dependent random loads (the inverse list of
-//! a splitter member, the marked state's slot, its block's slot, the element swapped
-//! with it), so once the tables leave the caches the time per step grows several-fold
-//! (about 90 ns per mark at 2^14 states, 490 ns at 2^20 on a shared machine; see
-//! BENCHMARKS.md) and the growth from 2^14 to 2^20 states is well above n log n even
-//! though the step count is not. Keeping the transitions in a refinable partition of
-//! their own, grouped by (symbol, target block) as in A. Valmari and P. Lehtinen,
-//! "Efficient minimization of DFAs with partial transition functions" (2008), would
-//! make each splitter's incoming transitions one contiguous range.
+//! # Memory traffic
+//!
+//! On large random tables nearly every step is a cache (and TLB) miss: the inverse list
+//! of a splitter member, then per source its state slot, its block slot and its
+//! element slot. Done one source at a time these misses form a chain the processor
+//! must wait out in turn. The loop is therefore organized so that independent misses
+//! overlap, without changing what is computed:
+//!
+//! - blocks are popped in *batches* of about 64 members (each block stays its own
+//!   splitter: a block snapshotted before an earlier batch member splits it is a union
+//!   of current blocks, as valid a splitter and no larger than when it was queued, so
+//!   the O(k n log n) bound stands);
+//! - the sources of a batch are gathered first, one pass over the members' inverse
+//!   lists, bucketed by (block, symbol) into one flat reused buffer (no per-splitter
+//!   allocation);
+//! - both that pass and the marking pass work in chunks of 32: a first loop issues the
+//!   loads of the whole chunk (independent of each other, so their misses overlap), the
+//!   second does the dependent work on lines already in L1.
+//!
+//! Per-state slots (position, block) and per-block slots (start, end, marked) stay
+//! arrays of structs: marking reads both fields of a state and all of its block, so
+//! one line each. Keeping the transitions in a refinable partition of their own,
+//! grouped by (symbol, target block), as A. Valmari and P. Lehtinen do ("Efficient
+//! minimization of DFAs with partial transition functions", 2008), would make a
+//! splitter's incoming transitions one contiguous range, but every split would then
+//! move the transitions into the new block, one random inverse lookup per member of
+//! it: the same misses, moved rather than removed, so it is not done here. On random
+//! tables at 2^20 states the batched loop is about 3x faster than the direct one; the
+//! remaining growth above n log n is memory latency, shown in BENCHMARKS.md against a
+//! baseline walk over the same inverse lists.
 //!
 //! [`moore_refinement`] is the naive baseline, E. F. Moore's iterated refinement
 //! ("Gedanken-experiments on sequential machines", 1956): recompute every state's
@@ -280,37 +303,119 @@ pub struct HopcroftStats {
 /// When `dfa` is malformed (see [`Dfa::validate`]).
 pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
     dfa.assert_valid();
-    let mut stats = HopcroftStats::default();
-    let n = dfa.n_states;
-    let k = dfa.n_symbols;
-    if n == 0 {
+    if dfa.n_states == 0 {
         let empty = Partition {
             class_of: Vec::new(),
             n_classes: 0,
         };
-        return (empty, stats);
+        return (empty, HopcroftStats::default());
     }
+    // Transition ids `s * k + a` are `u32` whenever they fit (always, below 2^29
+    // states at 8 symbols), halving the inverse index against `u64`.
+    if dfa.delta.len() <= u32::MAX as usize {
+        refine::<u32>(dfa)
+    } else {
+        refine::<u64>(dfa)
+    }
+}
 
-    // Inverse transitions as CSR keyed by (target, symbol): the sources of the
-    // transitions into `t` on `a` are `inv_src[inv_off[t*k+a]..inv_off[t*k+a+1]]`.
-    // Built by a two-pass counting sort.
-    let mut inv_off = vec![0u32; n * k + 1];
-    for (i, &t) in dfa.delta.iter().enumerate() {
-        inv_off[t as usize * k + i % k + 1] += 1;
+/// An unsigned index type for transition ids and offsets into the inverse lists.
+trait Index: Copy {
+    const ZERO: Self;
+    fn from_usize(i: usize) -> Self;
+    fn to_usize(self) -> usize;
+}
+
+impl Index for u32 {
+    const ZERO: Self = 0;
+    #[inline(always)]
+    fn from_usize(i: usize) -> Self {
+        i as u32
     }
-    for i in 1..inv_off.len() {
-        inv_off[i] += inv_off[i - 1];
+    #[inline(always)]
+    fn to_usize(self) -> usize {
+        self as usize
     }
-    let mut inv_src = vec![0u32; n * k];
-    {
-        let mut fill = inv_off[..n * k].to_vec();
-        for (i, &t) in dfa.delta.iter().enumerate() {
-            let key = t as usize * k + i % k;
-            inv_src[fill[key] as usize] = (i / k) as u32;
-            fill[key] += 1;
+}
+
+impl Index for u64 {
+    const ZERO: Self = 0;
+    #[inline(always)]
+    fn from_usize(i: usize) -> Self {
+        i as u64
+    }
+    #[inline(always)]
+    fn to_usize(self) -> usize {
+        self as usize
+    }
+}
+
+/// Sources per chunk of the two-pass marking loop: the first pass issues the
+/// independent loads of a chunk, the second does the dependent work on warm lines.
+/// 32 chunks of state slots, block slots and element slots fit easily in L1.
+const CHUNK: usize = 32;
+
+/// Members per batch of popped blocks: enough independent inverse lists and sources
+/// to keep a dozen misses in flight, few enough that their lines stay in L1/L2.
+const BATCH: usize = 64;
+
+/// The inverse of the transition function, grouped by target: the transitions into
+/// `t` are the ids `s * k + a` in `trans[off[t]..off[t + 1]]`, in increasing order.
+struct Inverse<I> {
+    off: Vec<I>,
+    trans: Vec<I>,
+}
+
+impl<I: Index> Inverse<I> {
+    /// Counting sort by target: one histogram pass over `delta`, and one scatter pass
+    /// backwards that turns the inclusive prefix sums into start offsets in place.
+    fn new(dfa: &Dfa) -> Inverse<I> {
+        let n = dfa.n_states;
+        let mut off = vec![I::ZERO; n + 1];
+        for &t in &dfa.delta {
+            let c = &mut off[t as usize];
+            *c = I::from_usize(c.to_usize() + 1);
         }
+        let mut sum = 0usize;
+        for c in off.iter_mut() {
+            sum += c.to_usize();
+            *c = I::from_usize(sum);
+        }
+        let mut trans = vec![I::ZERO; dfa.delta.len()];
+        for (i, &t) in dfa.delta.iter().enumerate().rev() {
+            let c = &mut off[t as usize];
+            let at = c.to_usize() - 1;
+            *c = I::from_usize(at);
+            trans[at] = I::from_usize(i);
+        }
+        Inverse { off, trans }
     }
 
+    /// The transitions into `t`.
+    #[inline]
+    fn of(&self, t: u32) -> &[I] {
+        let t = t as usize;
+        &self.trans[self.off[t].to_usize()..self.off[t + 1].to_usize()]
+    }
+
+    /// Loads the first line of the inverse list of each target in `chunk` (see
+    /// [`Refinable::warm`]).
+    #[inline]
+    fn warm(&self, chunk: &[u32]) -> u32 {
+        let mut acc = 0u32;
+        for &t in chunk {
+            if let Some(i) = self.trans.get(self.off[t as usize].to_usize()) {
+                acc ^= i.to_usize() as u32;
+            }
+        }
+        acc
+    }
+}
+
+fn refine<I: Index>(dfa: &Dfa) -> (Partition, HopcroftStats) {
+    let mut stats = HopcroftStats::default();
+    let k = dfa.n_symbols;
+    let inv = Inverse::<I>::new(dfa);
     let mut p = Refinable::new(&Partition::from_labels(&dfa.initial));
 
     // Initial worklist: every initial block but one of the largest (for a complete
@@ -320,22 +425,74 @@ pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
         .filter(|&b| b as usize != largest)
         .collect();
 
-    // The splitter's members are copied first: marking reorders elements inside
-    // blocks, the splitter block included.
-    let mut splitter: Vec<u32> = Vec::new();
+    // Work goes in batches of popped blocks; all buffers are reused across batches.
+    let shift = k.is_power_of_two().then(|| k.trailing_zeros());
+    let mut members: Vec<u32> = Vec::new();
+    let mut member_bounds: Vec<usize> = Vec::new();
+    let mut by_symbol: Vec<Vec<u32>> = vec![Vec::new(); k];
+    let mut sources: Vec<u32> = Vec::new();
+    let mut group_ends: Vec<usize> = Vec::new();
     let mut touched: Vec<u32> = Vec::new();
-    while let Some(b) = work.pop() {
-        stats.splitters += k as u64;
-        for a in 0..k {
-            splitter.clear();
-            splitter.extend_from_slice(p.members(b as usize));
-            for &t in &splitter {
-                let key = t as usize * k + a;
-                let (lo, hi) = (inv_off[key] as usize, inv_off[key + 1] as usize);
-                stats.marks += (hi - lo) as u64;
-                for &s in &inv_src[lo..hi] {
+    let mut warm = 0u32;
+    while !work.is_empty() {
+        // A batch: pop blocks until about BATCH members are in hand, snapshotting
+        // their members (marking reorders elements inside blocks, the splitters'
+        // own included). Each block is still its own splitter; a snapshot taken
+        // before an earlier batch member splits the block is a union of current
+        // blocks, which is as valid a splitter and no larger than when it was queued.
+        members.clear();
+        member_bounds.clear();
+        member_bounds.push(0);
+        while members.len() < BATCH {
+            let Some(b) = work.pop() else { break };
+            members.extend_from_slice(p.members(b as usize));
+            member_bounds.push(members.len());
+        }
+        stats.splitters += (k * (member_bounds.len() - 1)) as u64;
+
+        // Sources of the batch's incoming transitions, grouped by (block, symbol).
+        sources.clear();
+        group_ends.clear();
+        // The inverse lists of each CHUNK of members (across blocks) are loaded ahead.
+        let mut warmed = 0usize;
+        for w in member_bounds.windows(2) {
+            for (j, &t) in members.iter().enumerate().take(w[1]).skip(w[0]) {
+                if j == warmed {
+                    warmed = (j + CHUNK).min(members.len());
+                    warm ^= inv.warm(&members[j..warmed]);
+                }
+                for &i in inv.of(t) {
+                    let i = i.to_usize();
+                    let (s, a) = match shift {
+                        Some(sh) => (i >> sh, i & (k - 1)),
+                        None => (i / k, i % k),
+                    };
+                    by_symbol[a].push(s as u32);
+                }
+            }
+            for bucket in by_symbol.iter_mut() {
+                sources.extend_from_slice(bucket);
+                group_ends.push(sources.len());
+                bucket.clear();
+            }
+        }
+        stats.marks += sources.len() as u64;
+
+        // Mark group by group, splitting the touched blocks at each group's end.
+        // The lines of each CHUNK of sources are loaded ahead in one pass.
+        let mut at = 0usize;
+        let mut warmed = 0usize;
+        for &end in &group_ends {
+            while at < end {
+                if at == warmed {
+                    warmed = (at + CHUNK).min(sources.len());
+                    warm ^= p.warm(&sources[at..warmed]);
+                }
+                let stop = end.min(warmed);
+                for &s in &sources[at..stop] {
                     p.mark(s, &mut touched);
                 }
+                at = stop;
             }
             for &x in &touched {
                 // Split off the smaller half as a new block; it enters the worklist
@@ -349,13 +506,15 @@ pub fn hopcroft_with_stats(dfa: &Dfa) -> (Partition, HopcroftStats) {
             touched.clear();
         }
     }
+    // The warm-up loads must not be optimized away.
+    std::hint::black_box(warm);
     (p.into_partition(), stats)
 }
 
 /// A refinable partition: the states of each block are contiguous in `elems`.
 /// Marked states of a block sit at the front of its range. Per-state and per-block
-/// fields are stored together so that marking a state costs one cache miss for the
-/// state and one for its block.
+/// fields are stored together (array of structs), since marking reads both fields of
+/// a state and all three of its block: one cache line each.
 struct Refinable {
     elems: Vec<u32>,
     state: Vec<StateSlot>,
@@ -389,13 +548,12 @@ impl Refinable {
         for i in 1..=nb {
             start[i] += start[i - 1];
         }
-        let block: Vec<BlockSlot> = (0..nb)
-            .map(|b| BlockSlot {
-                start: start[b],
-                end: start[b + 1],
-                marked: 0,
-            })
-            .collect();
+        let mut block: Vec<BlockSlot> = Vec::with_capacity(n);
+        block.extend((0..nb).map(|b| BlockSlot {
+            start: start[b],
+            end: start[b + 1],
+            marked: 0,
+        }));
         let mut fill = start;
         let mut elems = vec![0u32; n];
         let mut state = vec![StateSlot { pos: 0, block: 0 }; n];
@@ -423,6 +581,21 @@ impl Refinable {
     fn members(&self, b: usize) -> &[u32] {
         let BlockSlot { start, end, .. } = self.block[b];
         &self.elems[start as usize..end as usize]
+    }
+
+    /// Loads, without changing anything, the lines that marking `chunk` will touch:
+    /// each state's slot, its block's slot and its element slot. The loads of
+    /// different states are independent, so the processor overlaps their misses,
+    /// where [`Refinable::mark`] alone would wait for each chain in turn. Returns a
+    /// value folded from the loads, for the caller to keep them alive.
+    #[inline]
+    fn warm(&self, chunk: &[u32]) -> u32 {
+        let mut acc = 0u32;
+        for &s in chunk {
+            let StateSlot { pos, block } = self.state[s as usize];
+            acc ^= self.block[block as usize].marked ^ self.elems[pos as usize];
+        }
+        acc
     }
 
     /// Moves `s` into the marked front of its block; records the block the first time.
