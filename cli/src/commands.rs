@@ -34,7 +34,9 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
                 ));
             }
             Some(l) if l.is_hard_error() => {
-                return io::usage_error(format!("`{name}` is always an error and cannot be allowed"))
+                return io::usage_error(format!(
+                    "`{name}` is always an error and cannot be allowed"
+                ))
             }
             Some(l) => opts.allow.push(l),
         }
@@ -58,7 +60,11 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
             }
         }
     }
-    let all: Vec<_> = reports.iter().flat_map(|r| r.diagnostics()).cloned().collect();
+    let all: Vec<_> = reports
+        .iter()
+        .flat_map(|r| r.diagnostics())
+        .cloned()
+        .collect();
     let (errors, warnings) = render::count(&all);
     match format {
         ReportFormat::Text => {

@@ -74,7 +74,11 @@ pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
     let text = read_text(&file).map_err(usage_error)?;
     let report = check::check_source(&file, &text);
     if report.has_errors() {
-        let errors: Vec<_> = report.diagnostics().filter(|d| d.is_error()).cloned().collect();
+        let errors: Vec<_> = report
+            .diagnostics()
+            .filter(|d| d.is_error())
+            .cloned()
+            .collect();
         let src = render::Source {
             name: &report.file,
             text: &report.text,
@@ -85,7 +89,11 @@ pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
         eprintln!("{}", render::summary_text(errors.len(), 0));
         return Err(FAILED);
     }
-    let mut machines: Vec<Machine> = report.machines.into_iter().filter_map(|m| m.machine).collect();
+    let mut machines: Vec<Machine> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
     match name {
         Some(n) => match machines.iter().position(|m| m.name == n) {
             Some(i) => Ok(machines.swap_remove(i)),

@@ -101,9 +101,7 @@ impl Lint {
             }
             Lint::OverlappingRules => "Two rules of one scope can both fire for the same event.",
             Lint::UnreachableState => "No path from the start state reaches this state.",
-            Lint::DeadEnd => {
-                "A non-terminal state, or a closed set of states, has no way out."
-            }
+            Lint::DeadEnd => "A non-terminal state, or a closed set of states, has no way out.",
             Lint::NeverTrueGuard => "A guard that no input valuation satisfies.",
             Lint::UnusedDeclaration => "An event, input, output or action that nothing uses.",
             Lint::EquivalentStates => "States with the same behaviour that minimization merges.",

@@ -87,13 +87,18 @@ fn a_missing_event_everywhere_is_incomplete_for_each_state() {
         .iter()
         .map(|d| (d.state.clone().unwrap(), d.event.clone().unwrap()))
         .collect();
-    assert_eq!(pairs, [("S".into(), "Stop".into()), ("T".into(), "Stop".into())]);
+    assert_eq!(
+        pairs,
+        [("S".into(), "Stop".into()), ("T".into(), "Stop".into())]
+    );
 }
 
 #[test]
 fn ignore_and_reject_silence_incomplete() {
     for policy in ["ignore", "reject"] {
-        let text = format!("machine M {{ events Go, Stop; start S; unhandled {policy}; state S {{ Go => S; }} }}");
+        let text = format!(
+            "machine M {{ events Go, Stop; start S; unhandled {policy}; state S {{ Go => S; }} }}"
+        );
         assert!(only(&text, Lint::Incomplete).is_empty());
     }
 }
@@ -146,7 +151,12 @@ fn overlapping_rules_give_the_valuation_that_fires_both() {
     assert_eq!(pos(d), (7, 9));
     assert_eq!(pos_of_related(d), (6, 9));
     let w = witness(d);
-    let get = |n: &str| w.iter().find(|(x, _)| *x == n).map(|p| p.1).unwrap_or(false);
+    let get = |n: &str| {
+        w.iter()
+            .find(|(x, _)| *x == n)
+            .map(|p| p.1)
+            .unwrap_or(false)
+    };
     // Both guards hold under the witness.
     assert!((get("a") || get("c")) && !get("a"));
 }
@@ -206,7 +216,9 @@ fn dead_ends_single_and_sets_and_terminal() {
     assert_eq!(found[0].states, ["B"]);
     assert_eq!(found[1].states, ["C", "D"]);
     // `terminal` silences it.
-    let terminal = text.replace("state B", "terminal state B").replace("state D", "terminal state D");
+    let terminal = text
+        .replace("state B", "terminal state B")
+        .replace("state D", "terminal state D");
     assert!(only(&terminal, Lint::DeadEnd).is_empty());
 }
 
@@ -252,8 +264,12 @@ fn naming_convention() {
     let found = only(text, Lint::Naming);
     let msgs: Vec<&str> = found.iter().map(|d| d.message.as_str()).collect();
     assert_eq!(found.len(), 4, "{msgs:#?}");
-    assert!(found.iter().any(|d| d.helps.iter().any(|h| h == "rename it `BadName`")));
-    assert!(found.iter().any(|d| d.helps.iter().any(|h| h == "rename it `bad_input`")));
+    assert!(found
+        .iter()
+        .any(|d| d.helps.iter().any(|h| h == "rename it `BadName`")));
+    assert!(found
+        .iter()
+        .any(|d| d.helps.iter().any(|h| h == "rename it `bad_input`")));
 }
 
 #[test]
@@ -276,7 +292,13 @@ fn lint_levels_follow_the_innermost_attribute() {
         .iter()
         .map(|d| (d.state.clone().unwrap(), d.severity))
         .collect();
-    assert_eq!(levels, [("B".into(), Severity::Warning), ("C".into(), Severity::Error)]);
+    assert_eq!(
+        levels,
+        [
+            ("B".into(), Severity::Warning),
+            ("C".into(), Severity::Error)
+        ]
+    );
 }
 
 #[test]
@@ -286,7 +308,9 @@ fn hard_errors_cannot_be_allowed() {
     assert_eq!(found.len(), 1);
     assert!(found[0].message.contains("cannot be allowed"));
     let text = "#[allow(no_such_lint)] machine M { events Go; start S; state S { Go => S; } }";
-    assert!(only(text, Lint::Name)[0].message.contains("unknown lint `no_such_lint`"));
+    assert!(only(text, Lint::Name)[0]
+        .message
+        .contains("unknown lint `no_such_lint`"));
 }
 
 #[test]
@@ -294,9 +318,21 @@ fn options_allow_and_deny_warnings() {
     let text = "machine M { events Go; start S; state S { Go => S; } state Lost { Go => S; } }";
     let all = diags(text);
     assert_eq!(all.len(), 1);
-    let denied = apply_options(all.clone(), &Options { allow: vec![], deny_warnings: true });
+    let denied = apply_options(
+        all.clone(),
+        &Options {
+            allow: vec![],
+            deny_warnings: true,
+        },
+    );
     assert_eq!(denied[0].severity, Severity::Error);
-    let allowed = apply_options(all, &Options { allow: vec![Lint::UnreachableState], deny_warnings: true });
+    let allowed = apply_options(
+        all,
+        &Options {
+            allow: vec![Lint::UnreachableState],
+            deny_warnings: true,
+        },
+    );
     assert!(allowed.is_empty());
 }
 
@@ -334,26 +370,44 @@ fn name_errors() {
 #[test]
 fn limits_are_enforced_with_messages() {
     let inputs: Vec<String> = (0..65).map(|i| format!("i{i}")).collect();
-    let text = format!("machine M {{ inputs {}; start S; state S; }}", inputs.join(", "));
+    let text = format!(
+        "machine M {{ inputs {}; start S; state S; }}",
+        inputs.join(", ")
+    );
     let d = &only(&text, Lint::Name)[0];
-    assert!(d.message.contains("65 inputs declared; the limit is 64"), "{}", d.message);
+    assert!(
+        d.message.contains("65 inputs declared; the limit is 64"),
+        "{}",
+        d.message
+    );
     let mut states = String::from("machine M { start S0; unhandled ignore; ");
     for i in 0..65_536 {
         states.push_str(&format!("state S{i}; "));
     }
     states.push('}');
     let d = &only(&states, Lint::Name)[0];
-    assert!(d.message.contains("65536 states declared; the limit is 65535"), "{}", d.message);
+    assert!(
+        d.message
+            .contains("65536 states declared; the limit is 65535"),
+        "{}",
+        d.message
+    );
 }
 
 #[test]
 fn sixty_four_inputs_are_fine_when_each_rule_names_few() {
     let inputs: Vec<String> = (0..64).map(|i| format!("i{i}")).collect();
-    let mut text = format!("machine M {{ events Go; inputs {}; start S; ", inputs.join(", "));
+    let mut text = format!(
+        "machine M {{ events Go; inputs {}; start S; ",
+        inputs.join(", ")
+    );
     text.push_str("state S { Go if i0 && i63 => S; Go if !(i0 && i63) => stay; } }");
     let found = diags(&text);
     // Only the unused inputs i1..i62 are reported; coverage and overlap are decided.
-    assert!(found.iter().all(|d| d.lint == Lint::UnusedDeclaration), "{found:#?}");
+    assert!(
+        found.iter().all(|d| d.lint == Lint::UnusedDeclaration),
+        "{found:#?}"
+    );
     assert_eq!(found.len(), 62);
 }
 
@@ -361,8 +415,17 @@ fn sixty_four_inputs_are_fine_when_each_rule_names_few() {
 fn text_rendering_has_rustc_shape() {
     let text = "machine M {\n    events Go, Stop;\n    start S;\n    state S { Go => S; }\n}\n";
     let report = check_source("shape.detent", text);
-    let d = report.diagnostics().find(|d| d.lint == Lint::Incomplete).unwrap();
-    let out = render::render_text(d, &render::Source { name: "shape.detent", text });
+    let d = report
+        .diagnostics()
+        .find(|d| d.lint == Lint::Incomplete)
+        .unwrap();
+    let out = render::render_text(
+        d,
+        &render::Source {
+            name: "shape.detent",
+            text,
+        },
+    );
     let expected = "error[incomplete]: state `S` has no rule for event `Stop`
  --> shape.detent:4:11
   |
@@ -386,7 +449,13 @@ fn json_rendering_has_the_documented_fields() {
     assert_eq!(v["event"], "Go");
     assert_eq!(v["states"], serde_json::json!(["S"]));
     assert_eq!(v["witness"], serde_json::json!({"ok": false}));
-    assert_eq!(v["span"], serde_json::json!({"file": "x.detent", "line": 1, "column": 50}));
+    assert_eq!(
+        v["span"],
+        serde_json::json!({"file": "x.detent", "line": 1, "column": 50})
+    );
     let keys: Vec<&String> = v.as_object().unwrap().keys().collect();
-    assert_eq!(&keys[..8], ["lint", "level", "message", "state", "event", "states", "witness", "span"]);
+    assert_eq!(
+        &keys[..8],
+        ["lint", "level", "message", "state", "event", "states", "witness", "span"]
+    );
 }

@@ -67,11 +67,17 @@ fn every_construct_parses() {
     assert_eq!(m.name.name, "Kiln");
     assert_eq!(m.vis, Vis::PubCrate);
     assert_eq!(m.doc, vec!["A kiln.", "Second line."]);
-    assert!(matches!(m.attrs[0], Attr::Dispatch(DispatchStyle::Match, _)));
+    assert!(matches!(
+        m.attrs[0],
+        Attr::Dispatch(DispatchStyle::Match, _)
+    ));
     assert!(matches!(m.attrs[1], Attr::Minimize(_)));
     match &m.attrs[2] {
         Attr::Lint(LevelAttr::Allow, names, _) => {
-            assert_eq!(names.iter().map(|n| n.name.as_str()).collect::<Vec<_>>(), ["naming", "dead_end"])
+            assert_eq!(
+                names.iter().map(|n| n.name.as_str()).collect::<Vec<_>>(),
+                ["naming", "dead_end"]
+            )
         }
         other => panic!("{other:?}"),
     }
@@ -88,7 +94,10 @@ fn every_construct_parses() {
         DeclKind::Actions(a) => assert_eq!(a.len(), 2, "trailing comma accepted"),
         other => panic!("{other:?}"),
     }
-    assert!(matches!(m.decls[5].kind, DeclKind::Unhandled(Policy::Reject)));
+    assert!(matches!(
+        m.decls[5].kind,
+        DeclKind::Unhandled(Policy::Reject)
+    ));
     match &m.decls[7].kind {
         // `in Firing && lamp || (beep)` is `(in Firing && lamp) || (beep)`.
         DeclKind::Never(Expr::Or(a, b)) => {
@@ -105,26 +114,40 @@ fn every_construct_parses() {
         other => panic!("{other:?}"),
     }
     assert_eq!(m.members.len(), 3);
-    let Member::State(idle) = &m.members[0] else { panic!() };
+    let Member::State(idle) = &m.members[0] else {
+        panic!()
+    };
     assert_eq!(idle.emit[0].name, "lamp");
-    let Body::Rule(r) = &idle.body[0] else { panic!() };
+    let Body::Rule(r) = &idle.body[0] else {
+        panic!()
+    };
     assert!(matches!(&r.trigger, Some(Trigger::Events(e)) if e[0].name == "DoorShut"));
     assert!(matches!(&r.guard, Some(Expr::And(..))));
     assert!(matches!(&r.target, Target::State(t) if t.name == "Firing"));
     assert_eq!(r.emit.len(), 1);
     assert_eq!(r.actions.len(), 2);
-    let Body::Rule(w) = &idle.body[1] else { panic!() };
+    let Body::Rule(w) = &idle.body[1] else {
+        panic!()
+    };
     assert!(matches!(w.trigger, Some(Trigger::Wildcard(_))));
     assert!(matches!(w.target, Target::Stay(_)));
-    let Member::Group(g) = &m.members[1] else { panic!() };
+    let Member::Group(g) = &m.members[1] else {
+        panic!()
+    };
     assert_eq!(g.doc, vec!["The firing phases."]);
     assert!(matches!(g.attrs[0], Attr::Lint(LevelAttr::Warn, _, _)));
     assert!(matches!(g.body[0], Body::Enter(..)));
     assert!(matches!(g.body[1], Body::Leave(..)));
     assert_eq!(g.members.len(), 2);
-    let Member::Group(inner) = &g.members[1] else { panic!() };
-    assert!(matches!(&inner.members[0], Member::State(s) if s.name.name == "Soak" && s.body.is_empty()));
-    let Member::State(fault) = &m.members[2] else { panic!() };
+    let Member::Group(inner) = &g.members[1] else {
+        panic!()
+    };
+    assert!(
+        matches!(&inner.members[0], Member::State(s) if s.name.name == "Soak" && s.body.is_empty())
+    );
+    let Member::State(fault) = &m.members[2] else {
+        panic!()
+    };
     assert!(fault.terminal);
     assert!(matches!(fault.attrs[0], Attr::Lint(LevelAttr::Deny, _, _)));
 }
@@ -136,10 +159,14 @@ fn clocked_rules_have_no_trigger_and_comments_are_skipped() {
          state A { if bit => B; if !bit => stay; } // line
          state B emit found { => A; } }",
     );
-    let Member::State(a) = &f.machines[0].members[0] else { panic!() };
+    let Member::State(a) = &f.machines[0].members[0] else {
+        panic!()
+    };
     let Body::Rule(r) = &a.body[0] else { panic!() };
     assert!(r.trigger.is_none());
-    let Member::State(b) = &f.machines[0].members[1] else { panic!() };
+    let Member::State(b) = &f.machines[0].members[1] else {
+        panic!()
+    };
     let Body::Rule(r) = &b.body[0] else { panic!() };
     assert!(r.trigger.is_none() && r.guard.is_none());
 }
@@ -163,27 +190,105 @@ fn syntax_errors_have_locations() {
     // Each case: text, expected message fragment, line, column.
     let cases: &[(&str, &str, usize, usize)] = &[
         ("machin M {}", "expected `machine`", 1, 1),
-        ("machine M { start A; state A { X => ; } }", "expected a target state or `stay`", 1, 37),
-        ("machine M {\n  start A;\n  state A { X => A }\n}", "expected `;`", 3, 20),
-        ("machine M { events A; start S; state S; events B; }", "declarations come before states", 1, 41),
-        ("machine M { start S; state S { Go if a = b => S; } }", "expected `=>`", 1, 40),
-        ("machine M { start S; state S { Go if => S; } }", "expected an input name", 1, 38),
-        ("machine M { unhandled maybe; }", "expected `complete`, `ignore` or `reject`", 1, 23),
+        (
+            "machine M { start A; state A { X => ; } }",
+            "expected a target state or `stay`",
+            1,
+            37,
+        ),
+        (
+            "machine M {\n  start A;\n  state A { X => A }\n}",
+            "expected `;`",
+            3,
+            20,
+        ),
+        (
+            "machine M { events A; start S; state S; events B; }",
+            "declarations come before states",
+            1,
+            41,
+        ),
+        (
+            "machine M { start S; state S { Go if a = b => S; } }",
+            "expected `=>`",
+            1,
+            40,
+        ),
+        (
+            "machine M { start S; state S { Go if => S; } }",
+            "expected an input name",
+            1,
+            38,
+        ),
+        (
+            "machine M { unhandled maybe; }",
+            "expected `complete`, `ignore` or `reject`",
+            1,
+            23,
+        ),
         ("machine M { start fn; }", "found Rust keyword `fn`", 1, 19),
         ("machine M { start stay; }", "reserved word", 1, 19),
-        ("machine M { start S; state S { Go if in S => S; } }", "only allowed in `never`", 1, 38),
-        ("#[frobnicate] machine M {}", "unknown attribute `frobnicate`", 1, 1),
-        ("#[dispatch(tree)] machine M {}", "unknown dispatch style `tree`", 1, 12),
-        ("machine M { start S; #[dispatch(match)] state S; }", "applies to a machine", 1, 22),
-        ("machine M { start S; state S { state T; } }", "a state cannot contain states", 1, 32),
-        ("machine M { /// doc\n events A; }", "documents nothing", 1, 13),
-        ("machine M { start S; state S { Go => S, do a, emit b; } }", "expected `, emit ...` before `, do ...`", 1, 45),
-        ("machine M { recover Idle; }", "expected `to` after `recover`", 1, 21),
-        ("machine M { start S; terminal S; }", "expected `state` after `terminal`", 1, 31),
+        (
+            "machine M { start S; state S { Go if in S => S; } }",
+            "only allowed in `never`",
+            1,
+            38,
+        ),
+        (
+            "#[frobnicate] machine M {}",
+            "unknown attribute `frobnicate`",
+            1,
+            1,
+        ),
+        (
+            "#[dispatch(tree)] machine M {}",
+            "unknown dispatch style `tree`",
+            1,
+            12,
+        ),
+        (
+            "machine M { start S; #[dispatch(match)] state S; }",
+            "applies to a machine",
+            1,
+            22,
+        ),
+        (
+            "machine M { start S; state S { state T; } }",
+            "a state cannot contain states",
+            1,
+            32,
+        ),
+        (
+            "machine M { /// doc\n events A; }",
+            "documents nothing",
+            1,
+            13,
+        ),
+        (
+            "machine M { start S; state S { Go => S, do a, emit b; } }",
+            "expected `, emit ...` before `, do ...`",
+            1,
+            45,
+        ),
+        (
+            "machine M { recover Idle; }",
+            "expected `to` after `recover`",
+            1,
+            21,
+        ),
+        (
+            "machine M { start S; terminal S; }",
+            "expected `state` after `terminal`",
+            1,
+            31,
+        ),
     ];
     for (text, fragment, line, col) in cases {
         let (msg, l, c) = error(text);
-        assert!(msg.contains(fragment), "{text:?}: message {msg:?} lacks {fragment:?}");
+        assert!(
+            msg.contains(fragment),
+            "{text:?}: message {msg:?} lacks {fragment:?}"
+        );
         assert_eq!((l, c), (*line, *col), "{text:?}: {msg}");
     }
 }

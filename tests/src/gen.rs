@@ -116,7 +116,10 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         out: String::new(),
     };
     let mut s = String::new();
-    let _ = writeln!(s, "#[allow(unreachable_state, dead_end, unused_declaration)]");
+    let _ = writeln!(
+        s,
+        "#[allow(unreachable_state, dead_end, unused_declaration)]"
+    );
     let _ = writeln!(s, "pub machine Random{seed} {{");
     if !clocked {
         let _ = writeln!(s, "    events {};", g.events.join(", "));
@@ -208,10 +211,7 @@ impl Gen {
                 Some(format!("{x} && !{y}")),
                 Some(format!("!{x}")),
             ],
-            2 if x != y => vec![
-                Some(format!("{x} || {y}")),
-                Some(format!("!({x} || {y})")),
-            ],
+            2 if x != y => vec![Some(format!("{x} || {y}")), Some(format!("!({x} || {y})"))],
             _ => vec![Some(format!("!!{x}")), Some(format!("!{x}"))],
         }
     }
@@ -275,7 +275,11 @@ impl Gen {
         }
         let mut i = 0;
         while i < handled.len() {
-            let take = if i + 1 < handled.len() && self.rng.chance(0.3) { 2 } else { 1 };
+            let take = if i + 1 < handled.len() && self.rng.chance(0.3) {
+                2
+            } else {
+                1
+            };
             let trig: Vec<String> = handled[i..i + take]
                 .iter()
                 .map(|&e| self.events[e].clone())
@@ -310,7 +314,11 @@ impl Gen {
             Node::State(i) => {
                 let emit = self.pick_some(&outputs, 0.3);
                 self.indent(level);
-                let terminal = if self.rng.chance(0.05) { "terminal " } else { "" };
+                let terminal = if self.rng.chance(0.05) {
+                    "terminal "
+                } else {
+                    ""
+                };
                 let _ = write!(self.out, "{terminal}state S{i}");
                 if !emit.is_empty() {
                     let _ = write!(self.out, " emit {}", emit.join(", "));

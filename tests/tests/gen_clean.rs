@@ -8,9 +8,21 @@ use detent_tests::gen::{random_spec, GenConfig};
 fn random_specs_check_without_errors() {
     let configs = [
         GenConfig::default(),
-        GenConfig { events: 0, ..GenConfig::default() },
-        GenConfig { inputs: 0, groups: false, ..GenConfig::default() },
-        GenConfig { states: (10, 30), events: 6, inputs: 4, ..GenConfig::default() },
+        GenConfig {
+            events: 0,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            inputs: 0,
+            groups: false,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            states: (10, 30),
+            events: 6,
+            inputs: 4,
+            ..GenConfig::default()
+        },
     ];
     let mut checked = 0;
     for (ci, cfg) in configs.iter().enumerate() {
@@ -18,7 +30,10 @@ fn random_specs_check_without_errors() {
             let text = random_spec(seed * 10 + ci as u64, cfg);
             let report = check_source("random.detent", &text);
             let errors: Vec<_> = report.diagnostics().filter(|d| d.is_error()).collect();
-            assert!(errors.is_empty(), "seed {seed} config {ci}:\n{text}\n{errors:#?}");
+            assert!(
+                errors.is_empty(),
+                "seed {seed} config {ci}:\n{text}\n{errors:#?}"
+            );
             assert!(report.machines[0].machine.is_some());
             checked += 1;
         }
@@ -32,7 +47,18 @@ fn generator_is_deterministic_and_varied() {
     assert_eq!(random_spec(7, &cfg), random_spec(7, &cfg));
     assert_ne!(random_spec(7, &cfg), random_spec(8, &cfg));
     let all: String = (0..50).map(|s| random_spec(s, &cfg)).collect();
-    for needle in ["group ", "enter do", "leave do", "_ ", " | ", "=> stay", "emit ", "unhandled reject", "unhandled ignore", "unhandled complete"] {
+    for needle in [
+        "group ",
+        "enter do",
+        "leave do",
+        "_ ",
+        " | ",
+        "=> stay",
+        "emit ",
+        "unhandled reject",
+        "unhandled ignore",
+        "unhandled complete",
+    ] {
         assert!(all.contains(needle), "no spec contains `{needle}`");
     }
 }

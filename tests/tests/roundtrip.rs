@@ -9,7 +9,10 @@ use proptest::prelude::*;
 /// Everything of a model except spans and BDD node numbers.
 fn fingerprint(m: &Machine) -> String {
     let names = |items: &[detent_compiler::model::Item]| {
-        items.iter().map(|i| (i.name.clone(), i.doc.clone())).collect::<Vec<_>>()
+        items
+            .iter()
+            .map(|i| (i.name.clone(), i.doc.clone()))
+            .collect::<Vec<_>>()
     };
     let mut s = format!(
         "{} {:?} {:?} {} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {} {:?}\n",
@@ -30,14 +33,31 @@ fn fingerprint(m: &Machine) -> String {
     for st in &m.states {
         s += &format!(
             "state {} {:?} {} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {:?}\n",
-            st.name, st.doc, st.terminal, st.parent, st.emit, st.moore, st.enter, st.leave,
-            st.rules.named, st.rules.wildcard, st.lints
+            st.name,
+            st.doc,
+            st.terminal,
+            st.parent,
+            st.emit,
+            st.moore,
+            st.enter,
+            st.leave,
+            st.rules.named,
+            st.rules.wildcard,
+            st.lints
         );
     }
     for g in &m.groups {
         s += &format!(
             "group {} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {:?}\n",
-            g.name, g.parent, g.emit, g.enter, g.leave, g.rules.named, g.rules.wildcard, g.states, g.lints
+            g.name,
+            g.parent,
+            g.emit,
+            g.enter,
+            g.leave,
+            g.rules.named,
+            g.rules.wildcard,
+            g.states,
+            g.lints
         );
     }
     for r in &m.rules {
@@ -48,10 +68,15 @@ fn fingerprint(m: &Machine) -> String {
     }
     for p in &m.properties {
         match p {
-            detent_compiler::model::Property::Never { prop, text, .. } => s += &format!("never {prop:?} {text}\n"),
-            detent_compiler::model::Property::Recover { target, except, text, .. } => {
-                s += &format!("recover {target:?} {except:?} {text}\n")
+            detent_compiler::model::Property::Never { prop, text, .. } => {
+                s += &format!("never {prop:?} {text}\n")
             }
+            detent_compiler::model::Property::Recover {
+                target,
+                except,
+                text,
+                ..
+            } => s += &format!("recover {target:?} {except:?} {text}\n"),
         }
     }
     s
@@ -67,9 +92,25 @@ fn models(text: &str) -> Vec<String> {
 fn config(kind: u8) -> GenConfig {
     match kind % 4 {
         0 => GenConfig::default(),
-        1 => GenConfig { events: 0, ..GenConfig::default() },
-        2 => GenConfig { states: (1, 20), events: 5, inputs: 4, outputs: 3, actions: 3, ..GenConfig::default() },
-        _ => GenConfig { inputs: 0, outputs: 0, actions: 0, groups: false, ..GenConfig::default() },
+        1 => GenConfig {
+            events: 0,
+            ..GenConfig::default()
+        },
+        2 => GenConfig {
+            states: (1, 20),
+            events: 5,
+            inputs: 4,
+            outputs: 3,
+            actions: 3,
+            ..GenConfig::default()
+        },
+        _ => GenConfig {
+            inputs: 0,
+            outputs: 0,
+            actions: 0,
+            groups: false,
+            ..GenConfig::default()
+        },
     }
 }
 

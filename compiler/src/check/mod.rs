@@ -45,10 +45,7 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
-    let mut c = Checker {
-        m,
-        out: Vec::new(),
-    };
+    let mut c = Checker { m, out: Vec::new() };
     c.coverage_and_overlap();
     c.reachability();
     c.never_true_guards();
@@ -149,8 +146,7 @@ impl Checker<'_> {
                 // Overlap: any two guards of the scope used that can both be true.
                 for (i, &a) in rules.iter().enumerate() {
                     for &b in &rules[i + 1..] {
-                        let both =
-                            bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
+                        let both = bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
                         if both.is_false() || !reported_pairs.insert((a, b)) {
                             continue;
                         }
@@ -176,9 +172,8 @@ impl Checker<'_> {
                             "both fire when {}",
                             render::valuation_text(&witness)
                         ));
-                        d.helps.push(
-                            "make the guards exclusive; rule order does not pick one".into(),
-                        );
+                        d.helps
+                            .push("make the guards exclusive; rule order does not pick one".into());
                         d.witness = Some(witness);
                         self.emit(d, Site::State(s));
                     }
@@ -243,7 +238,11 @@ impl Checker<'_> {
                 let d = Diagnostic::new(
                     Lint::UnreachableState,
                     Some(st.span),
-                    format!("state `{}` is unreachable from the start state `{}`", st.name, m.state_name(m.start)),
+                    format!(
+                        "state `{}` is unreachable from the start state `{}`",
+                        st.name,
+                        m.state_name(m.start)
+                    ),
                 )
                 .with_state(&st.name)
                 .help("add a rule that leads here, or remove the state");
@@ -281,7 +280,10 @@ impl Checker<'_> {
                 Diagnostic::new(
                     Lint::DeadEnd,
                     Some(m.states[first.index()].span),
-                    format!("state `{}` is a dead end: no rule leads out of it", names[0]),
+                    format!(
+                        "state `{}` is a dead end: no rule leads out of it",
+                        names[0]
+                    ),
                 )
                 .help("add a way out, or mark the state `terminal` if it is a latched fault")
             } else {
@@ -417,7 +419,13 @@ impl Checker<'_> {
         };
         camel("machine", &m.name, m.span, Site::Machine, &mut found);
         for (i, s) in m.states.iter().enumerate() {
-            camel("state", &s.name, s.span, Site::State(StateId::from_index(i)), &mut found);
+            camel(
+                "state",
+                &s.name,
+                s.span,
+                Site::State(StateId::from_index(i)),
+                &mut found,
+            );
         }
         for (i, g) in m.groups.iter().enumerate() {
             let site = Site::Group(crate::model::GroupId::from_index(i));
@@ -428,8 +436,11 @@ impl Checker<'_> {
                 camel("event", &e.name, e.span, Site::Machine, &mut found);
             }
         }
-        for (kind, items) in [("input", &m.inputs), ("output", &m.outputs), ("action", &m.actions)]
-        {
+        for (kind, items) in [
+            ("input", &m.inputs),
+            ("output", &m.outputs),
+            ("action", &m.actions),
+        ] {
             for it in items {
                 if !is_snake(&it.name) {
                     found.push((
@@ -472,7 +483,8 @@ pub fn to_snake(name: &str) -> String {
     let chars: Vec<char> = name.chars().collect();
     for (i, &c) in chars.iter().enumerate() {
         if c.is_uppercase() {
-            let prev_lower = i > 0 && (chars[i - 1].is_lowercase() || chars[i - 1].is_ascii_digit());
+            let prev_lower =
+                i > 0 && (chars[i - 1].is_lowercase() || chars[i - 1].is_ascii_digit());
             let next_lower = chars.get(i + 1).is_some_and(|n| n.is_lowercase());
             let prev_upper = i > 0 && chars[i - 1].is_uppercase();
             if i > 0 && !out.ends_with('_') && (prev_lower || (prev_upper && next_lower)) {

@@ -50,7 +50,13 @@ pub fn line_col(span: Span) -> (usize, usize) {
 /// Renders one diagnostic in rustc's shape.
 pub fn render_text(d: &Diagnostic, src: &Source) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "{}[{}]: {}", d.severity.name(), d.lint.name(), d.message);
+    let _ = writeln!(
+        out,
+        "{}[{}]: {}",
+        d.severity.name(),
+        d.lint.name(),
+        d.message
+    );
     let mut spans: Vec<(Span, char, &str)> = Vec::new();
     if let Some(s) = d.span {
         spans.push((s, '^', ""));
@@ -119,7 +125,13 @@ pub fn render_text(d: &Diagnostic, src: &Source) -> String {
 
 /// The summary line printed after text diagnostics.
 pub fn summary_text(errors: usize, warnings: usize) -> String {
-    let plural = |n: usize, w: &str| if n == 1 { format!("1 {w}") } else { format!("{n} {w}s") };
+    let plural = |n: usize, w: &str| {
+        if n == 1 {
+            format!("1 {w}")
+        } else {
+            format!("{n} {w}s")
+        }
+    };
     format!(
         "detent: {}, {}",
         plural(errors, "error"),
@@ -185,6 +197,9 @@ pub fn diagnostic_json(d: &Diagnostic, file: &str) -> Value {
 
 /// Counts errors and warnings.
 pub fn count(diags: &[Diagnostic]) -> (usize, usize) {
-    let errors = diags.iter().filter(|d| d.severity == Severity::Error).count();
+    let errors = diags
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+        .count();
     (errors, diags.len() - errors)
 }

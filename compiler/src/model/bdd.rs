@@ -190,8 +190,16 @@ impl BddStore {
         let na = self.node(a);
         let nb = self.node(b);
         let var = na.var.min(nb.var);
-        let (a_lo, a_hi) = if na.var == var { (na.lo, na.hi) } else { (a, a) };
-        let (b_lo, b_hi) = if nb.var == var { (nb.lo, nb.hi) } else { (b, b) };
+        let (a_lo, a_hi) = if na.var == var {
+            (na.lo, na.hi)
+        } else {
+            (a, a)
+        };
+        let (b_lo, b_hi) = if nb.var == var {
+            (nb.lo, nb.hi)
+        } else {
+            (b, b)
+        };
         let lo = self.apply(op, a_lo, b_lo, memo);
         let hi = self.apply(op, a_hi, b_hi, memo);
         let r = self.mk(var, lo, hi);

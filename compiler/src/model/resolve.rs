@@ -6,7 +6,7 @@
 
 use super::*;
 use crate::diag::Diagnostic;
-use crate::syntax::ast::{self, Attr, Body, DeclKind, Expr, Member, MachineAst};
+use crate::syntax::ast::{self, Attr, Body, DeclKind, Expr, MachineAst, Member};
 use std::collections::HashMap;
 
 /// Most states a machine may have.
@@ -143,10 +143,7 @@ impl<'a> Resolver<'a> {
                     if list.len() > MAX_EVENTS {
                         self.err(
                             d.span,
-                            format!(
-                                "{} events declared; the limit is {MAX_EVENTS}",
-                                list.len()
-                            ),
+                            format!("{} events declared; the limit is {MAX_EVENTS}", list.len()),
                         );
                         continue;
                     }
@@ -170,10 +167,7 @@ impl<'a> Resolver<'a> {
                     if list.len() > MAX_INPUTS {
                         self.err(
                             d.span,
-                            format!(
-                                "{} inputs declared; the limit is {MAX_INPUTS}",
-                                list.len()
-                            ),
+                            format!("{} inputs declared; the limit is {MAX_INPUTS}", list.len()),
                         );
                         continue;
                     }
@@ -230,7 +224,10 @@ impl<'a> Resolver<'a> {
             return Err(self.errors);
         }
         if self.states.is_empty() {
-            self.err(ast.name.span, format!("machine `{}` has no states", ast.name.name));
+            self.err(
+                ast.name.span,
+                format!("machine `{}` has no states", ast.name.name),
+            );
         }
         // Bodies: rules, emits, enter/leave.
         let mut state_counter = 0usize;
@@ -254,10 +251,7 @@ impl<'a> Resolver<'a> {
             None => {
                 self.err(
                     ast.name.span,
-                    format!(
-                        "machine `{}` has no `start` declaration",
-                        ast.name.name
-                    ),
+                    format!("machine `{}` has no `start` declaration", ast.name.name),
                 );
                 None
             }
@@ -475,13 +469,17 @@ impl<'a> Resolver<'a> {
                                 n.span,
                                 format!("unknown lint `{}`", n.name),
                             );
-                            d.helps.push(format!("lints that levels apply to: {}", known.join(", ")));
+                            d.helps
+                                .push(format!("lints that levels apply to: {}", known.join(", ")));
                             self.errors.push(d);
                         }
                         Some(l) if l.is_hard_error() && *level != LevelAttr::Deny => {
                             let mut d = Diagnostic::name_error(
                                 n.span,
-                                format!("`{}` is always an error and cannot be allowed or lowered", l.name()),
+                                format!(
+                                    "`{}` is always an error and cannot be allowed or lowered",
+                                    l.name()
+                                ),
                             );
                             if l == Lint::Incomplete {
                                 d.helps.push(
@@ -606,7 +604,8 @@ impl<'a> Resolver<'a> {
                     "a trigger in a clocked machine: a machine without an `events` line steps \
                      on every clock tick, and its rules have no trigger",
                 );
-                d.helps.push("remove the trigger, or declare the machine's `events`".into());
+                d.helps
+                    .push("remove the trigger, or declare the machine's `events`".into());
                 self.errors.push(d);
                 Trigger::Tick
             }
@@ -617,7 +616,10 @@ impl<'a> Resolver<'a> {
                     match self.event_ids.get(&e.name) {
                         Some(&id) => {
                             if ids.contains(&id) {
-                                self.err(e.span, format!("event `{}` is named twice in this trigger", e.name));
+                                self.err(
+                                    e.span,
+                                    format!("event `{}` is named twice in this trigger", e.name),
+                                );
                             }
                             ids.push(id);
                         }
@@ -715,7 +717,10 @@ impl<'a> Resolver<'a> {
                 None => {
                     self.err(
                         i.span,
-                        format!("undefined name `{}`: expected an input, output or action", i.name),
+                        format!(
+                            "undefined name `{}`: expected an input, output or action",
+                            i.name
+                        ),
                     );
                     return None;
                 }

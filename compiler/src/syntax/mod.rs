@@ -43,9 +43,11 @@ pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
             span: Span::call_site(),
         });
     }
-    let tokens: TokenStream = text.parse().map_err(|e: proc_macro2::LexError| SyntaxError {
-        message: format!("cannot tokenize: {e}"),
-        span: e.span(),
-    })?;
+    let tokens: TokenStream = text
+        .parse()
+        .map_err(|e: proc_macro2::LexError| SyntaxError {
+            message: format!("cannot tokenize: {e}"),
+            span: e.span(),
+        })?;
     Ok(parse::parse_tokens_of_text(tokens, text)?)
 }

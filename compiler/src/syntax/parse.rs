@@ -181,7 +181,8 @@ fn parse_attrs(input: ParseStream, allow_machine_attrs: bool) -> syn::Result<Att
                 };
                 let text = s.value();
                 for line in text.split('\n') {
-                    out.doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
+                    out.doc
+                        .push(line.strip_prefix(' ').unwrap_or(line).to_string());
                 }
             }
             "allow" | "warn" | "deny" => {
@@ -213,7 +214,9 @@ fn parse_attrs(input: ParseStream, allow_machine_attrs: bool) -> syn::Result<Att
                         "match" => Ok(DispatchStyle::Match),
                         other => Err(syn::Error::new(
                             word.span(),
-                            format!("unknown dispatch style `{other}`; expected `table` or `match`"),
+                            format!(
+                                "unknown dispatch style `{other}`; expected `table` or `match`"
+                            ),
                         )),
                     }
                 })?;
@@ -254,31 +257,89 @@ fn ident(i: syn::Ident) -> Ident {
     }
 }
 
+/// Rust's strict and reserved keywords (2021 edition, plus `gen` reserved in 2024): a
+/// name among them would not compile in generated code.
+const RUST_KEYWORDS: &[&str] = &[
+    "Self", "abstract", "as", "async", "await", "become", "box", "break", "const", "continue",
+    "crate", "do", "dyn", "else", "enum", "extern", "false", "final", "fn", "for", "gen", "if",
+    "impl", "in", "let", "loop", "macro", "match", "mod", "move", "mut", "override", "priv", "pub",
+    "ref", "return", "self", "static", "struct", "super", "trait", "true", "try", "type", "typeof",
+    "unsafe", "unsized", "use", "virtual", "where", "while", "yield",
+];
+
+/// The next token's text when it is a word (identifier or keyword). Looking at a word
+/// once and comparing strings is much cheaper than one syn `peek` per keyword, each of
+/// which clones the token.
+fn word(input: ParseStream) -> Option<Word> {
+    input.cursor().ident().map(|(i, _)| Word(i))
+}
+
+/// A word looked at ahead; compares with `&str` without allocating.
+struct Word(proc_macro2::Ident);
+
+impl Word {
+    fn is(&self, text: &str) -> bool {
+        self.0 == text
+    }
+}
+
+/// True when the word is present and one of `texts`.
+fn is_one_of(w: &Option<Word>, texts: &[&str]) -> bool {
+    w.as_ref().is_some_and(|w| texts.iter().any(|t| w.is(t)))
+}
+
+/// The word after the next token, when there is one.
+fn word2(input: ParseStream) -> Option<Word> {
+    let c = input.cursor();
+    let rest = match c.punct() {
+        Some((_, rest)) => rest,
+        None => c.ident()?.1,
+    };
+    rest.ident().map(|(i, _)| Word(i))
+}
+
 /// Parses a name: a Rust identifier that is not a Rust keyword nor reserved here.
 fn parse_name(input: ParseStream, what: &str) -> syn::Result<Ident> {
-    if input.peek(syn::Ident) {
-        let i: syn::Ident = input.parse()?;
-        let name = i.to_string();
-        if RESERVED.contains(&name.as_str()) {
-            return Err(syn::Error::new(
-                i.span(),
-                format!("`{name}` is a reserved word and cannot name {what}"),
+    input.step(|cursor| {
+        let Some((i, rest)) = cursor.ident() else {
+            return Err(cursor.error(format!("expected {what}")));
+        };
+        let text = i.to_string();
+        if let Some(raw) = text.strip_prefix("r#") {
+            return Ok((
+                Ident {
+                    name: raw.to_string(),
+                    span: i.span(),
+                },
+                rest,
             ));
         }
-        let name = name.strip_prefix("r#").map(str::to_string).unwrap_or(name);
-        return Ok(Ident {
-            name,
-            span: i.span(),
-        });
-    }
-    if input.peek(syn::Ident::peek_any) {
-        let i = input.call(syn::Ident::parse_any)?;
-        return Err(syn::Error::new(
-            i.span(),
-            format!("expected {what}, found Rust keyword `{i}`"),
-        ));
-    }
-    Err(input.error(format!("expected {what}")))
+        if text == "_" {
+            return Err(syn::Error::new(
+                i.span(),
+                format!("expected {what}, found `_`"),
+            ));
+        }
+        if RUST_KEYWORDS.contains(&text.as_str()) {
+            return Err(syn::Error::new(
+                i.span(),
+                format!("expected {what}, found Rust keyword `{text}`"),
+            ));
+        }
+        if RESERVED.contains(&text.as_str()) {
+            return Err(syn::Error::new(
+                i.span(),
+                format!("`{text}` is a reserved word and cannot name {what}"),
+            ));
+        }
+        Ok((
+            Ident {
+                name: text,
+                span: i.span(),
+            },
+            rest,
+        ))
+    })
 }
 
 fn parse_machine(input: ParseStream) -> syn::Result<MachineAst> {
@@ -344,23 +405,25 @@ fn parse_machine(input: ParseStream) -> syn::Result<MachineAst> {
 
 fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
     let span = input.span();
-    let kind = if input.peek(kw::events) {
+    let w = word(input);
+    let is = |k: &str| is_one_of(&w, &[k]);
+    let kind = if is("events") {
         input.parse::<kw::events>()?;
         DeclKind::Events(parse_doc_list(input, "an event name")?)
-    } else if input.peek(kw::inputs) {
+    } else if is("inputs") {
         input.parse::<kw::inputs>()?;
         DeclKind::Inputs(parse_doc_list(input, "an input name")?)
-    } else if input.peek(kw::outputs) {
+    } else if is("outputs") {
         input.parse::<kw::outputs>()?;
         DeclKind::Outputs(parse_doc_list(input, "an output name")?)
-    } else if input.peek(kw::actions) {
+    } else if is("actions") {
         input.parse::<kw::actions>()?;
         DeclKind::Actions(parse_doc_list(input, "an action name")?)
-    } else if input.peek(kw::start) {
+    } else if is("start") {
         input.parse::<kw::start>()?;
         let name = parse_name(input, "the start state's name")?;
         DeclKind::Start(name)
-    } else if input.peek(kw::unhandled) {
+    } else if is("unhandled") {
         input.parse::<kw::unhandled>()?;
         let policy = if input.peek(kw::complete) {
             input.parse::<kw::complete>()?;
@@ -375,10 +438,10 @@ fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
             return Err(input.error("expected `complete`, `ignore` or `reject`"));
         };
         DeclKind::Unhandled(policy)
-    } else if input.peek(kw::never) {
+    } else if is("never") {
         input.parse::<kw::never>()?;
         DeclKind::Never(parse_expr(input, true, 0, &mut 0)?)
-    } else if input.peek(kw::recover) {
+    } else if is("recover") {
         input.parse::<kw::recover>()?;
         if !input.peek(kw::to) {
             return Err(input.error("expected `to` after `recover`"));
@@ -456,7 +519,7 @@ fn parse_doc_list(input: ParseStream, what: &str) -> syn::Result<Vec<DocIdent>> 
 /// `IDENT (',' IDENT)* ','?`, stopping before `;`, `{`, or `, do`.
 fn parse_list(input: ParseStream, what: &str) -> syn::Result<Vec<Ident>> {
     let mut items = vec![parse_name(input, what)?];
-    while input.peek(Token![,]) && !input.peek2(Token![do]) && !input.peek2(kw::emit) {
+    while input.peek(Token![,]) && !is_one_of(&word2(input), &["do", "emit"]) {
         input.parse::<Token![,]>()?;
         if input.peek(Token![;]) || input.peek(syn::token::Brace) {
             break;
@@ -525,14 +588,12 @@ fn parse_member(input: ParseStream, attrs: Attrs, depth: usize) -> syn::Result<M
         syn::braced!(content in input);
         while !content.is_empty() {
             if content.peek(Token![#]) {
-                return Err(content.error(
-                    "attributes and doc comments go on states and groups, not on rules",
-                ));
+                return Err(content
+                    .error("attributes and doc comments go on states and groups, not on rules"));
             }
             if is_member_start(&content) {
-                return Err(content.error(
-                    "a state cannot contain states or groups; use a group to nest states",
-                ));
+                return Err(content
+                    .error("a state cannot contain states or groups; use a group to nest states"));
             }
             body.push(parse_body(&content)?);
         }
@@ -551,9 +612,14 @@ fn parse_member(input: ParseStream, attrs: Attrs, depth: usize) -> syn::Result<M
 
 /// A member begins with `state X`, `terminal state`, or `group X`.
 fn is_member_start(input: ParseStream) -> bool {
-    (input.peek(kw::state) && input.peek2(syn::Ident))
-        || (input.peek(kw::group) && input.peek2(syn::Ident))
-        || (input.peek(kw::terminal) && input.peek2(kw::state))
+    let w = word(input);
+    if is_one_of(&w, &["state", "group"]) {
+        input.peek2(syn::Ident)
+    } else if is_one_of(&w, &["terminal"]) {
+        is_one_of(&word2(input), &["state"])
+    } else {
+        false
+    }
 }
 
 fn parse_emit_header(input: ParseStream) -> syn::Result<Vec<Ident>> {
@@ -566,9 +632,10 @@ fn parse_emit_header(input: ParseStream) -> syn::Result<Vec<Ident>> {
 }
 
 fn parse_body(input: ParseStream) -> syn::Result<Body> {
-    if (input.peek(kw::enter) || input.peek(kw::leave)) && input.peek2(Token![do]) {
+    let w = word(input);
+    if is_one_of(&w, &["enter", "leave"]) && is_one_of(&word2(input), &["do"]) {
         let span = input.span();
-        let enter = input.peek(kw::enter);
+        let enter = is_one_of(&w, &["enter"]);
         if enter {
             input.parse::<kw::enter>()?;
         } else {
@@ -588,10 +655,11 @@ fn parse_body(input: ParseStream) -> syn::Result<Body> {
 
 fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     let span = input.span();
-    let trigger = if input.peek(Token![_]) {
+    let w = word(input);
+    let trigger = if is_one_of(&w, &["_"]) {
         let t: Token![_] = input.parse()?;
         Some(Trigger::Wildcard(t.span))
-    } else if input.peek(syn::Ident::peek_any) && !input.peek(Token![if]) {
+    } else if w.is_some() && !is_one_of(&w, &["if"]) {
         let mut events = vec![parse_name(input, "an event name")?];
         while input.peek(Token![|]) && !input.peek(Token![||]) {
             input.parse::<Token![|]>()?;
@@ -615,7 +683,7 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
         }));
     }
     input.parse::<Token![=>]>()?;
-    let target = if input.peek(kw::stay) {
+    let target = if is_one_of(&word(input), &["stay"]) {
         let s: kw::stay = input.parse()?;
         Target::Stay(s.span)
     } else {
@@ -704,15 +772,14 @@ fn parse_not(
     }
     *terms += 1;
     if *terms > MAX_TERMS {
-        return Err(input.error(format!(
-            "expression has more than {MAX_TERMS} operands"
-        )));
+        return Err(input.error(format!("expression has more than {MAX_TERMS} operands")));
     }
-    if input.peek(syn::LitBool) {
+    let w = word(input);
+    if is_one_of(&w, &["true", "false"]) {
         let b: syn::LitBool = input.parse()?;
         return Ok(Expr::Const(b.value, b.span));
     }
-    if input.peek(Token![in]) {
+    if is_one_of(&w, &["in"]) {
         let tok: Token![in] = input.parse()?;
         if !props {
             return Err(syn::Error::new(

@@ -118,7 +118,12 @@ fn print_decl(out: &mut String, d: &Decl) {
             if except.is_empty() {
                 let _ = writeln!(out, "    recover to {};", target.name);
             } else {
-                let _ = writeln!(out, "    recover to {} except {};", target.name, names(except));
+                let _ = writeln!(
+                    out,
+                    "    recover to {} except {};",
+                    target.name,
+                    names(except)
+                );
             }
         }
     }
@@ -139,7 +144,12 @@ fn print_member(out: &mut String, member: &Member, level: usize) {
             print_attrs(out, &s.attrs, level);
             indent(out, level);
             let terminal = if s.terminal { "terminal " } else { "" };
-            let _ = write!(out, "{terminal}state {}{}", s.name.name, print_emit(&s.emit));
+            let _ = write!(
+                out,
+                "{terminal}state {}{}",
+                s.name.name,
+                print_emit(&s.emit)
+            );
             if s.body.is_empty() {
                 out.push_str(";\n");
             } else {
