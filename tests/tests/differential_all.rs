@@ -1,0 +1,484 @@
+//! Every back end against the reference interpreter on the same machines and the same
+//! traces (issue 8, "Differential testing").
+//!
+//! Machines: every `examples/*.detent` and random specs from [`random_spec`] over a
+//! spread of [`GenConfig`]s (event-driven and clocked; no inputs to six; groups on and
+//! off; each `unhandled` policy; with and without outputs and actions). Traces: random
+//! ones, plus the machine's transition tour once one exists. Each back end runs the
+//! trace from the start state and reports, after every step, the state number, every
+//! output, the actions in the order they ran, and whether the event was handled or
+//! rejected, as far as that back end can show them; every field must equal the
+//! interpreter's. Back ends covered: the C back end (through the C test harness of
+//! `detent_tests::c_harness`, built with gcc's address and undefined-behaviour
+//! sanitizers).
+//!
+//! A disagreement is shrunk by delta debugging over the trace (Zeller and Hildebrandt,
+//! "Simplifying and Isolating Failure-Inducing Input", IEEE TSE 2002; here the simple
+//! one-step-at-a-time variant: cut after the first differing step, then drop single
+//! steps while the disagreement stays) and printed as a spec and a `detent run` trace.
+//! Seeded: the same seeds give the same machines and traces.
+
+use detent_compiler::check::check_source;
+use detent_compiler::emit::c::generate_c;
+use detent_compiler::model::{EventId, Machine, StateId};
+use detent_compiler::syntax::ast::Policy;
+use detent_tests::c_harness::{build_harness, run_harness, Cmd};
+use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
+use detent_tests::workspace_root;
+use std::path::{Path, PathBuf};
+
+/// A trace: (event number, input values) per step.
+type Trace = Vec<(usize, Vec<bool>)>;
+
+/// What one step shows to the host, as far as a back end can tell.
+#[derive(Clone, Debug, PartialEq, Eq)]
+struct Observed {
+    /// State number after the step (declaration order).
+    state: usize,
+    /// Every output after the step, in declaration order.
+    outputs: Vec<bool>,
+    /// Action numbers in the order they ran.
+    actions: Vec<usize>,
+    /// A rule fired (`None` when the back end cannot tell an ignored event from a
+    /// handled one).
+    handled: Option<bool>,
+    /// The event was rejected (under `unhandled reject`).
+    rejected: bool,
+}
+
+/// A machine under test: the spec text it came from, and the checked machine.
+struct Case {
+    label: String,
+    spec: String,
+    machine: Machine,
+}
+
+/// Runs one back end's build of a machine over traces.
+trait Runner {
+    fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String>;
+}
+
+/// A back end: builds a runner for a machine in a scratch folder.
+trait Backend: Sync {
+    fn name(&self) -> &'static str;
+    fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String>;
+}
+
+// ---------------------------------------------------------------------------------------
+// The reference
+
+fn interpret(m: &Machine, trace: &Trace) -> Vec<Observed> {
+    let mut state: StateId = m.start;
+    let mut out = Vec::with_capacity(trace.len());
+    for (e, ins) in trace {
+        let r = m.step(state, EventId(*e as u32), ins);
+        state = r.to;
+        let high = r.outputs();
+        out.push(Observed {
+            state: r.to.index(),
+            outputs: (0..m.outputs.len())
+                .map(|i| high.iter().any(|o| o.index() == i))
+                .collect(),
+            actions: r.actions.iter().map(|a| a.index()).collect(),
+            handled: Some(r.handled()),
+            rejected: !r.handled() && m.policy == Policy::Reject,
+        });
+    }
+    out
+}
+
+// ---------------------------------------------------------------------------------------
+// C
+
+struct CBackend;
+
+struct CRunner {
+    exe: PathBuf,
+    reject: bool,
+}
+
+impl Backend for CBackend {
+    fn name(&self) -> &'static str {
+        "C"
+    }
+    fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String> {
+        let files = generate_c(&case.machine, &case.label);
+        let exe = build_harness(dir, &case.machine, &files)?;
+        Ok(Box::new(CRunner {
+            exe,
+            reject: case.machine.policy == Policy::Reject,
+        }))
+    }
+}
+
+impl Runner for CRunner {
+    fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String> {
+        let cmds: Vec<Cmd> = trace
+            .iter()
+            .map(|(e, ins)| Cmd::Step(*e as i64, ins.clone()))
+            .collect();
+        let lines = run_harness(&self.exe, &cmds)?;
+        // `STATE RC OUTBITS ACTIONS` per step (see c_harness).
+        lines
+            .iter()
+            .map(|l| {
+                let f: Vec<&str> = l.split(' ').collect();
+                if f.len() != 4 {
+                    return Err(format!("bad harness line `{l}`"));
+                }
+                let state = f[0].parse().map_err(|_| format!("bad state in `{l}`"))?;
+                let handled = match f[1] {
+                    "0" => true,
+                    "1" => false,
+                    other => return Err(format!("step returned {other}: `{l}`")),
+                };
+                let outputs = if f[2] == "-" {
+                    Vec::new()
+                } else {
+                    f[2].chars().map(|c| c == '1').collect()
+                };
+                let actions = if f[3] == "-" {
+                    Vec::new()
+                } else {
+                    f[3].split(',')
+                        .map(|a| a.parse().map_err(|_| format!("bad action in `{l}`")))
+                        .collect::<Result<_, _>>()?
+                };
+                Ok(Observed {
+                    state,
+                    outputs,
+                    actions,
+                    handled: Some(handled),
+                    rejected: !handled && self.reject,
+                })
+            })
+            .collect()
+    }
+}
+
+// ---------------------------------------------------------------------------------------
+// Machines and traces
+
+fn case_of(label: String, spec: String) -> Vec<Case> {
+    let report = check_source(&label, &spec);
+    let errors: Vec<String> = report
+        .diagnostics()
+        .filter(|d| d.is_error())
+        .map(|d| d.message.clone())
+        .collect();
+    assert!(errors.is_empty(), "{label} has errors: {errors:?}\n{spec}");
+    report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .map(|machine| Case {
+            label: label.clone(),
+            spec: spec.clone(),
+            machine,
+        })
+        .collect()
+}
+
+/// The configurations the random machines are drawn from.
+fn configs() -> Vec<GenConfig> {
+    let d = GenConfig::default();
+    let mut v = vec![
+        d.clone(),
+        GenConfig {
+            events: 0,
+            ..d.clone()
+        },
+        GenConfig {
+            inputs: 0,
+            outputs: 0,
+            actions: 0,
+            ..d.clone()
+        },
+        GenConfig {
+            groups: false,
+            ..d.clone()
+        },
+        GenConfig {
+            inputs: 6,
+            events: 2,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (12, 30),
+            events: 6,
+            inputs: 4,
+            outputs: 9,
+            actions: 4,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (1, 2),
+            events: 1,
+            ..d.clone()
+        },
+        GenConfig {
+            events: 0,
+            inputs: 4,
+            groups: false,
+            ..d.clone()
+        },
+    ];
+    for policy in ["complete", "ignore", "reject"] {
+        v.push(GenConfig {
+            policy: Some(policy),
+            ..d.clone()
+        });
+    }
+    v
+}
+
+const SEEDS_PER_CONFIG: u64 = 3;
+const RANDOM_TRACES: usize = 6;
+const TRACE_LEN: usize = 200;
+
+fn cases() -> Vec<Case> {
+    let mut all = Vec::new();
+    let dir = workspace_root().join("examples");
+    let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .unwrap()
+        .flatten()
+        .map(|e| e.path())
+        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
+        .collect();
+    files.sort();
+    for f in files {
+        let name = f.file_name().unwrap().to_string_lossy().into_owned();
+        all.extend(case_of(name, std::fs::read_to_string(&f).unwrap()));
+    }
+    for (ci, cfg) in configs().iter().enumerate() {
+        for k in 0..SEEDS_PER_CONFIG {
+            let seed = 0x0D1F_F000 + (ci as u64) * 100 + k;
+            all.extend(case_of(
+                format!("random_{seed}.detent"),
+                random_spec(seed, cfg),
+            ));
+        }
+    }
+    all
+}
+
+/// The traces every back end runs on a machine.
+fn traces_for(m: &Machine, seed: u64) -> Vec<(String, Trace)> {
+    let mut rng = Rng::new(seed);
+    (0..RANDOM_TRACES)
+        .map(|k| {
+            (
+                format!("random trace {k}"),
+                random_trace(&mut rng, m.events.len(), m.inputs.len(), TRACE_LEN),
+            )
+        })
+        .collect()
+}
+
+// ---------------------------------------------------------------------------------------
+// Comparing and shrinking
+
+/// The first step where `got` and `want` differ, with a description.
+fn first_difference(want: &[Observed], got: &[Observed]) -> Option<(usize, String)> {
+    for (i, w) in want.iter().enumerate() {
+        let Some(g) = got.get(i) else {
+            return Some((i, format!("the back end stopped after {} steps", got.len())));
+        };
+        let mut g = g.clone();
+        if g.handled.is_none() {
+            g.handled = w.handled;
+        }
+        if &g != w {
+            return Some((i, format!("interpreter {w:?}\n    back end    {g:?}")));
+        }
+    }
+    (got.len() > want.len()).then(|| (want.len(), "the back end ran extra steps".into()))
+}
+
+fn disagrees(m: &Machine, runner: &dyn Runner, trace: &Trace) -> Option<(usize, String)> {
+    match runner.run(trace) {
+        Ok(got) => first_difference(&interpret(m, trace), &got),
+        Err(e) => Some((0, format!("the back end failed: {e}"))),
+    }
+}
+
+/// Cuts after the first differing step, then drops single steps while the back end
+/// still disagrees.
+fn shrink(m: &Machine, runner: &dyn Runner, trace: &Trace, first: usize) -> Trace {
+    let mut t: Trace = trace[..(first + 1).min(trace.len())].to_vec();
+    let mut i = 0;
+    while i < t.len() {
+        let mut shorter = t.clone();
+        shorter.remove(i);
+        if !shorter.is_empty() && disagrees(m, runner, &shorter).is_some() {
+            t = shorter;
+        } else {
+            i += 1;
+        }
+    }
+    t
+}
+
+/// A trace as `detent run` reads it.
+fn trace_text(m: &Machine, t: &Trace) -> String {
+    let mut s = String::new();
+    for (e, ins) in t {
+        s.push_str(&m.events[*e].name);
+        for (i, v) in ins.iter().enumerate() {
+            if *v {
+                s.push_str(&format!(" {}=1", m.inputs[i].name));
+            }
+        }
+        s.push('\n');
+    }
+    s
+}
+
+/// Figures of one run of the suite.
+#[derive(Default)]
+struct Figures {
+    machines: usize,
+    traces: usize,
+    steps: usize,
+}
+
+/// Runs every case through one back end; returns the figures, or the shrunk failures.
+///
+/// `Machine` is not `Sync` (its spans are proc-macro2 spans), so each worker thread
+/// checks the spec text again and takes the machine from its own report.
+fn check_backend(
+    backend: &dyn Backend,
+    specs: &[(String, String, usize)],
+) -> Result<Figures, Vec<String>> {
+    let failures = std::sync::Mutex::new(Vec::new());
+    let figures = std::sync::Mutex::new(Figures::default());
+    let next = std::sync::atomic::AtomicUsize::new(0);
+    std::thread::scope(|s| {
+        for _ in 0..2 {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                let Some((label, spec, k)) = specs.get(i) else {
+                    break;
+                };
+                let Some(case) = case_of(label.clone(), spec.clone()).into_iter().nth(*k) else {
+                    failures.lock().unwrap().push(format!("{label}: machine {k} vanished"));
+                    continue;
+                };
+                let case = &case;
+                let dir = std::env::temp_dir().join(format!(
+                    "detent-differential-{}-{}-{i}",
+                    std::process::id(),
+                    backend.name()
+                ));
+                let _ = std::fs::remove_dir_all(&dir);
+                let runner = match backend.build(case, &dir) {
+                    Ok(r) => r,
+                    Err(e) => {
+                        failures.lock().unwrap().push(format!(
+                            "{}: cannot build {} / {}: {e}",
+                            backend.name(),
+                            case.label,
+                            case.machine.name
+                        ));
+                        continue;
+                    }
+                };
+                let m = &case.machine;
+                let traces = traces_for(m, 0xD1FF + i as u64);
+                let mut steps = 0;
+                for (what, trace) in &traces {
+                    steps += trace.len();
+                    if let Some((first, why)) = disagrees(m, runner.as_ref(), trace) {
+                        let small = shrink(m, runner.as_ref(), trace, first);
+                        let why_small = disagrees(m, runner.as_ref(), &small)
+                            .map_or(why, |(k, w)| format!("at step {}: {w}", k + 1));
+                        failures.lock().unwrap().push(format!(
+                            "{} disagrees with the interpreter on {} / {} ({what}, shrunk from {} to {} steps) {why_small}\n--- spec:\n{}\n--- trace:\n{}",
+                            backend.name(),
+                            case.label,
+                            m.name,
+                            trace.len(),
+                            small.len(),
+                            case.spec,
+                            trace_text(m, &small)
+                        ));
+                        break;
+                    }
+                }
+                let _ = std::fs::remove_dir_all(&dir);
+                let mut f = figures.lock().unwrap();
+                f.machines += 1;
+                f.traces += traces.len();
+                f.steps += steps;
+            });
+        }
+    });
+    let failures = failures.into_inner().unwrap();
+    if failures.is_empty() {
+        Ok(figures.into_inner().unwrap())
+    } else {
+        Err(failures)
+    }
+}
+
+/// (file label, spec text, machine number in the file) of every case.
+fn case_specs() -> Vec<(String, String, usize)> {
+    let mut out: Vec<(String, String, usize)> = Vec::new();
+    for c in cases() {
+        let k = out
+            .iter()
+            .filter(|(l, s, _)| *l == c.label && *s == c.spec)
+            .count();
+        out.push((c.label, c.spec, k));
+    }
+    out
+}
+
+fn assert_backend_agrees(backend: &dyn Backend) {
+    match check_backend(backend, &case_specs()) {
+        Ok(f) => println!(
+            "differential {}: {} machines, {} traces, {} steps, no disagreement",
+            backend.name(),
+            f.machines,
+            f.traces,
+            f.steps
+        ),
+        Err(failures) => panic!("{} failures; the first:\n{}", failures.len(), failures[0]),
+    }
+}
+
+#[test]
+fn c_agrees_with_the_interpreter_on_random_machines_and_traces() {
+    assert_backend_agrees(&CBackend);
+}
+
+/// The harness itself: a back end that is wrong must be caught and shrunk.
+#[test]
+fn a_wrong_back_end_is_caught_and_its_trace_shrunk() {
+    /// The interpreter, but from the 5th step on it reports a spurious action in state 1.
+    struct Broken(Machine);
+    impl Runner for Broken {
+        fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String> {
+            let mut v = interpret(&self.0, trace);
+            for (i, o) in v.iter_mut().enumerate() {
+                if i >= 4 && o.state == 1 {
+                    o.actions.push(99);
+                }
+            }
+            Ok(v)
+        }
+    }
+    let case = &case_of("ring.detent".into(), "machine Ring { events Next; actions a; start S0; state S0 { Next => S1; } state S1 { Next => S2; } state S2 { Next => S0; } }".into())[0];
+    let m = &case.machine;
+    let broken = Broken(m.clone());
+    let trace: Trace = vec![(0, vec![]); 50];
+    let (first, _) = disagrees(m, &broken, &trace).expect("caught");
+    assert_eq!(
+        first, 6,
+        "S0 S1 S2 S0 S1 S2 S0: the first S1 at index >= 4 is step 7"
+    );
+    let small = shrink(m, &broken, &trace, first);
+    // The smallest trace that still reaches S1 at step 5 or later: seven steps.
+    assert_eq!(small.len(), 7);
+    assert_eq!(trace_text(m, &small), "Next\n".repeat(7));
+}
