@@ -46,7 +46,19 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     let mut c = Checker { m, out: Vec::new() };
-    c.coverage_and_overlap();
+    if c.coverage_and_overlap() {
+        // The exact checks could not finish; their results (and every later pass that
+        // combines guards) would be meaningless.
+        c.out.clear();
+        c.out.push(Diagnostic::name_error(
+            m.span,
+            crate::model::bdd_overflow_message(
+                &m.name,
+                "the coverage and overlap checks of this machine",
+            ),
+        ));
+        return c.out;
+    }
     c.reachability();
     c.never_true_guards();
     c.unused_declarations();
@@ -134,7 +146,10 @@ impl Checker<'_> {
             .collect()
     }
 
-    fn coverage_and_overlap(&mut self) {
+    /// Returns true when the decision diagrams overflowed (see [`MAX_BDD_NODES`]).
+    ///
+    /// [`MAX_BDD_NODES`]: crate::model::bdd::MAX_BDD_NODES
+    fn coverage_and_overlap(&mut self) -> bool {
         let m = self.m;
         let mut bdd = m.bdd.clone();
         let mut reported_pairs: HashSet<(RuleId, RuleId)> = HashSet::new();
@@ -226,7 +241,11 @@ impl Checker<'_> {
                     self.emit(d, Site::State(s));
                 }
             }
+            if bdd.overflowed() {
+                break;
+            }
         }
+        bdd.overflowed()
     }
 
     fn reachability(&mut self) {
