@@ -748,7 +748,7 @@ fn parse_and(
 /// expressions (resolver, checker, printer) then needs little stack even for
 /// [`MAX_TERMS`] operands. Chains of up to three keep the left-nested shape
 /// (`(x1 op x2) op x3`); the printer writes every shape the same way.
-fn balanced(mut operands: Vec<Expr>, join: fn(Box<Expr>, Box<Expr>) -> Expr) -> Expr {
+pub(crate) fn balanced(mut operands: Vec<Expr>, join: fn(Box<Expr>, Box<Expr>) -> Expr) -> Expr {
     if operands.len() == 1 {
         return operands.remove(0);
     }
