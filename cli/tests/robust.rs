@@ -901,6 +901,32 @@ fn guards_without_a_small_decision_diagram_are_an_error_not_a_hang() {
 }
 
 #[test]
+fn big_groups_named_in_properties_go_through_every_command() {
+    // `in G` over a group of 60,000 states is flattened into a disjunction of 60,000
+    // terms by the passes that print specs and tables; none may recurse that deep.
+    let cmds = offered_commands();
+    let dir = scratch("big-group");
+    let mut spec = String::from(
+        "#[allow(unreachable_state, dead_end, equivalent_states)]\nmachine Big { events Go; outputs lit; start S0; unhandled ignore;\n never in Huge && lit;\n group Huge {\n",
+    );
+    for i in 0..60_000 {
+        spec.push_str(&format!("  state S{i};\n"));
+    }
+    spec.push_str(" }\n state Out emit lit { Go => S0; }\n}\n");
+    let f = dir.join("big.detent");
+    std::fs::write(&f, &spec).unwrap();
+    let trace = dir.join("t.trace");
+    std::fs::write(&trace, "Go\nGo\n").unwrap();
+    for c in &cmds {
+        for args in invocations(c, &f, &f, &trace, &dir.join("out")) {
+            let refs: Vec<&std::ffi::OsStr> = args.iter().map(|a| a.as_os_str()).collect();
+            run_detent(&refs, b"", &|| "a group of 60,000 states in `never`".into());
+        }
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
 fn ten_thousand_levels_through_every_command() {
     let cmds = offered_commands();
     let dir = scratch("deep");
