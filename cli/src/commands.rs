@@ -99,9 +99,7 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
             let out = json!({"machines": machines, "errors": errors, "warnings": warnings});
             io::out(out);
         }
-        ReportFormat::Sarif => {
-            return io::usage_error("SARIF output is not built yet");
-        }
+        ReportFormat::Sarif => io::out(check::sarif::sarif_log(&reports)),
     }
     if io_failed {
         USAGE

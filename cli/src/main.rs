@@ -5,6 +5,11 @@
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
 mod cmd_gen_c;
+mod cmd_equiv;
+mod cmd_minimize;
+mod cmd_tour;
+mod cmd_draw;
+mod cmd_import;
 mod commands;
 mod io;
 
@@ -87,6 +92,64 @@ enum Command {
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
     },
+    /// Minimize: merge equivalent states, drop unreachable ones.
+    Minimize {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine (default: every machine of the file).
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_minimize::MinimizeFormat::Text)]
+        format: cmd_minimize::MinimizeFormat,
+    },
+    /// Compare two machines; print a shortest distinguishing input sequence.
+    Equiv {
+        /// The first spec file.
+        file_a: PathBuf,
+        /// The second spec file.
+        file_b: PathBuf,
+        /// Which machine of each file, when a file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_equiv::PlainFormat::Text)]
+        format: cmd_equiv::PlainFormat,
+    },
+    /// Print an input sequence that fires every reachable transition.
+    Tour {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = cmd_equiv::PlainFormat::Text)]
+        format: cmd_equiv::PlainFormat,
+    },
+    /// Draw the state diagram as Graphviz DOT or as SVG (drawn by detent itself).
+    Draw {
+        /// The spec file.
+        file: PathBuf,
+        /// Which machine, when the file has several.
+        #[arg(long)]
+        machine: Option<String>,
+        /// Diagram format.
+        #[arg(long, value_enum, default_value_t = cmd_draw::DrawFormat::Dot)]
+        format: cmd_draw::DrawFormat,
+        /// Write here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT")]
+        out: Option<PathBuf>,
+    },
+    /// Read a state table in the CSV form of `table --format csv` back into a spec.
+    Import {
+        /// The CSV file (`-` for standard input).
+        #[arg(value_name = "TABLE.csv")]
+        table: PathBuf,
+        /// Write the spec here (atomically) instead of standard output.
+        #[arg(short = 'o', value_name = "OUT.detent")]
+        out: Option<PathBuf>,
+    },
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -123,6 +186,29 @@ fn main() -> ExitCode {
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),
+        Command::Minimize {
+            file,
+            machine,
+            format,
+        } => cmd_minimize::minimize(&file, machine.as_deref(), format),
+        Command::Equiv {
+            file_a,
+            file_b,
+            machine,
+            format,
+        } => cmd_equiv::equiv(&file_a, &file_b, machine.as_deref(), format),
+        Command::Tour {
+            file,
+            machine,
+            format,
+        } => cmd_tour::tour(&file, machine.as_deref(), format),
+        Command::Draw {
+            file,
+            machine,
+            format,
+            out,
+        } => cmd_draw::draw(&file, machine.as_deref(), format, out.as_deref()),
+        Command::Import { table, out } => cmd_import::import(&table, out.as_deref()),
     };
     ExitCode::from(code)
 }

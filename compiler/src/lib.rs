@@ -8,10 +8,12 @@
 pub mod check;
 pub mod diag;
 pub mod emit;
+pub mod import;
 pub mod interp;
 pub mod logic;
 pub mod minimize;
 pub mod model;
 pub mod syntax;
 pub mod table;
+pub mod tour;
 pub mod trace;

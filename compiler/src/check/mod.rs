@@ -13,6 +13,7 @@
 
 pub mod property;
 pub mod render;
+pub mod sarif;
 
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::model::graph::{strongly_connected, CellEvents};
@@ -63,6 +64,7 @@ pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     c.never_true_guards();
     c.unused_declarations();
     c.naming();
+    c.equivalent_states();
     c.out.extend(property::check_properties(m));
     sort_diagnostics(&mut c.out);
     c.out
@@ -321,6 +323,37 @@ impl Checker<'_> {
                 .help("add a way out of the set, or mark one of its states `terminal`")
             };
             d = d.with_state(names[0]);
+            d.states = names.iter().map(|s| s.to_string()).collect();
+            self.emit(d, Site::State(first));
+        }
+    }
+
+    /// `equivalent_states`: each class of more than one state that minimization merges
+    /// (crate::minimize::machine), at its first member.
+    fn equivalent_states(&mut self) {
+        let m = self.m;
+        let min = crate::minimize::minimize(m);
+        for class in min.classes.iter().filter(|c| c.len() > 1) {
+            let first = class[0];
+            let names: Vec<&str> = class.iter().map(|s| m.state_name(*s)).collect();
+            let mut d = Diagnostic::new(
+                Lint::EquivalentStates,
+                Some(m.states[first.index()].span),
+                format!(
+                    "states {} behave the same: minimization merges them into `{}`",
+                    names
+                        .iter()
+                        .map(|n| format!("`{n}`"))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    names[0]
+                ),
+            )
+            .with_state(names[0])
+            .note(
+                "every input sequence gives the same outputs and actions from each of them",
+            )
+            .help("remove the duplicates, or `#[allow(equivalent_states)]` if they are kept apart on purpose");
             d.states = names.iter().map(|s| s.to_string()).collect();
             self.emit(d, Site::State(first));
         }

@@ -31,87 +31,12 @@
 //! per-state copies.
 
 use crate::diag::{Diagnostic, Lint, TraceStep};
-use crate::model::graph::CellEvents;
-use crate::model::{
-    ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, RuleId, StateId,
-};
+use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
 use std::collections::VecDeque;
 
 const NONE: u32 = u32::MAX;
 
-/// One step out of a state: an event, the input region (atom) that makes it, the rule
-/// that fires (`None`: ignored or rejected) and the state after it.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub struct Step {
-    /// A representative event of the step's event class.
-    pub event: EventId,
-    /// The inputs that make this step (disjoint from the other atoms of its cell).
-    pub atom: Bdd,
-    /// The rule that fires, if any.
-    pub rule: Option<RuleId>,
-    /// The state after the step.
-    pub to: StateId,
-}
-
-/// Every step of every state, as one flat table (`steps[start[s]..start[s + 1]]` are
-/// the steps out of state `s`).
-#[derive(Clone, Debug)]
-pub struct StepTable {
-    /// Offsets into `steps`, one per state plus one.
-    pub start: Vec<u32>,
-    /// The steps, grouped by source state.
-    pub steps: Vec<Step>,
-}
-
-impl StepTable {
-    /// Builds the table; new BDD nodes (atoms) go into `bdd`, a copy of the machine's
-    /// store.
-    pub fn build(m: &Machine, bdd: &mut BddStore) -> StepTable {
-        let mut start = Vec::with_capacity(m.states.len() + 1);
-        let mut steps = Vec::new();
-        for si in 0..m.states.len() {
-            start.push(steps.len() as u32);
-            let s = StateId::from_index(si);
-            let mut rest_event = None;
-            for cell in m.cells(s) {
-                let event = match cell.events {
-                    CellEvents::One(e) => e,
-                    CellEvents::Rest => *rest_event.get_or_insert_with(|| m.rest_events(s)[0]),
-                };
-                let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
-                let mut taken = Bdd::FALSE;
-                for &r in rules {
-                    let atom = bdd.and_not(m.rules[r.index()].guard, taken);
-                    taken = bdd.or(taken, m.rules[r.index()].guard);
-                    if !atom.is_false() {
-                        steps.push(Step {
-                            event,
-                            atom,
-                            rule: Some(r),
-                            to: m.target_of(s, r),
-                        });
-                    }
-                }
-                let rest = bdd.not(taken);
-                if !rest.is_false() {
-                    steps.push(Step {
-                        event,
-                        atom: rest,
-                        rule: None,
-                        to: s,
-                    });
-                }
-            }
-        }
-        start.push(steps.len() as u32);
-        StepTable { start, steps }
-    }
-
-    /// The steps out of a state.
-    pub fn of(&self, s: StateId) -> &[Step] {
-        &self.steps[self.start[s.index()] as usize..self.start[s.index() + 1] as usize]
-    }
-}
+pub use crate::model::steps::{Step, StepTable};
 
 /// A concrete trace from the start state: (event, full input valuation) per step.
 pub type Trace = Vec<(EventId, Vec<bool>)>;
@@ -197,15 +122,8 @@ fn mentions_actions(p: &Prop) -> bool {
     }
 }
 
-/// A full valuation from a satisfying region: `sat_one`, unmentioned inputs false.
 fn valuation(m: &Machine, bdd: &BddStore, region: Bdd) -> Vec<bool> {
-    let mut v = vec![false; m.inputs.len()];
-    for (var, val) in bdd.sat_one(region).unwrap_or_default() {
-        if let Some(slot) = v.get_mut(var as usize) {
-            *slot = val;
-        }
-    }
-    v
+    crate::model::steps::valuation(m.inputs.len(), bdd, region)
 }
 
 /// Breadth-first parent pointers: for each reached state, the state and step index

@@ -1,5 +1,9 @@
-//! Back ends: code and drawings generated from a resolved [`crate::model::Machine`]
-//! (or, for [`svg`], from a machine-independent diagram description).
+//! Back ends: code and drawings generated from a resolved [`crate::model::Machine`].
+//! [`c`] writes C99 tables; [`diagram`] builds the drawing of a machine (labels shared by
+//! every diagram back end); [`dot`] writes it for Graphviz; [`svg`] draws diagrams with
+//! detent's own layered layout from a machine-independent description.
 
 pub mod c;
+pub mod diagram;
+pub mod dot;
 pub mod svg;

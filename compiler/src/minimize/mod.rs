@@ -3,7 +3,13 @@
 //! [`partition`] is the machine-independent core: a complete deterministic transition
 //! system over dense ids, Hopcroft's O(k n log n) refinement, a naive Moore baseline,
 //! reachability, quotients, and a product-machine search for shortest distinguishing
-//! words. Encoding detent machines onto it (states x (event, guard atom) symbols, with
-//! outputs and action signatures in the labels) lives beside it.
+//! words. [`encode`] puts detent machines onto it (states x (event class, guard atom)
+//! symbols, with outputs and action sequences in the labels); [`machine`] minimizes a
+//! machine and prints its quotient as a spec; [`equiv`] compares two machines.
 
+pub mod encode;
+pub mod equiv;
+pub mod machine;
 pub mod partition;
+
+pub use machine::{minimize, minimized_machine, minimized_spec, Minimization};

@@ -9,6 +9,7 @@
 
 pub mod bdd;
 pub mod graph;
+pub mod steps;
 mod resolve;
 
 pub use bdd::{Bdd, BddStore};

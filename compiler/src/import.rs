@@ -1,0 +1,957 @@
+//! `detent import`: a state table in the CSV form of `detent table --format csv`
+//! (`docs/table-csv.md`) read back into a spec.
+//!
+//! Three passes, each linear in the size of the file: an RFC 4180 reader
+//! ([`parse_csv`]: quoted fields, doubled quotes, CRLF or LF record ends, a leading
+//! UTF-8 byte-order mark skipped, blank records skipped), then a reader of the
+//! records (the header, the `@` declaration records, state records, rule records), and
+//! last a syntax tree built from them ([`import_csv`]), which [`import_spec`] prints
+//! with the spec printer and checks by parsing and resolving the printed text again.
+//!
+//! Every problem is an [`ImportError`] naming the record (row, 1-based, the header is
+//! row 1; a quoted field with a line break does not start a new row) and the field
+//! (column, 1-based: `state` = 1 ... `moore` = 7), as a spreadsheet numbers them. Row 0
+//! means the file as a whole. The reader never panics on any input.
+//!
+//! The rebuilt spec has the table's flattened form: no groups, each state's Moore
+//! outputs written on the state, and each rule's `do` list the whole action sequence
+//! the step runs (leave, rule, enter actions), with no `enter do`/`leave do`. Its
+//! behaviour is the original's: the same next state, outputs and actions for every
+//! (state, event, input valuation).
+
+use crate::syntax::ast::{
+    Attr, Body, Decl, DeclKind, DispatchStyle, DocIdent, Expr, File, Ident, MachineAst, Member,
+    Policy, RuleAst, StateAst, Target, Trigger, Vis,
+};
+use proc_macro2::Span;
+use std::collections::HashMap;
+use std::fmt;
+
+/// Why a CSV table cannot be imported, and where.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct ImportError {
+    /// The record, 1-based (the header is row 1); 0 for the file as a whole.
+    pub row: usize,
+    /// The field, 1-based (`state` = 1 ... `moore` = 7); 0 when no one field is at fault.
+    pub column: usize,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl fmt::Display for ImportError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match (self.row, self.column) {
+            (0, _) => write!(f, "{}", self.message),
+            (r, 0) => write!(f, "row {r}: {}", self.message),
+            (r, c) => write!(
+                f,
+                "row {r}, column {c} ({}): {}",
+                column_name(c),
+                self.message
+            ),
+        }
+    }
+}
+
+impl std::error::Error for ImportError {}
+
+/// The header record, field by field.
+pub const HEADER: [&str; 7] = [
+    "state", "event", "guard", "next", "mealy", "actions", "moore",
+];
+
+fn column_name(c: usize) -> &'static str {
+    HEADER
+        .get(c.wrapping_sub(1))
+        .copied()
+        .unwrap_or("past the last field")
+}
+
+fn err<T>(row: usize, column: usize, message: impl Into<String>) -> Result<T, ImportError> {
+    Err(ImportError {
+        row,
+        column,
+        message: message.into(),
+    })
+}
+
+/// One CSV record and its row number.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Record {
+    /// The row, 1-based.
+    pub row: usize,
+    /// The fields, unquoted.
+    pub fields: Vec<String>,
+}
+
+/// Splits RFC 4180 text into records. Accepts CRLF and LF record ends (a lone CR is an
+/// error) and a leading byte-order mark; skips records whose fields are all empty. A
+/// quote inside an unquoted field, text after a closing quote, and an unclosed quoted
+/// field are errors.
+pub fn parse_csv(text: &str) -> Result<Vec<Record>, ImportError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let mut records = Vec::new();
+    let mut chars = text.chars().peekable();
+    let mut row = 1;
+    let mut fields: Vec<String> = Vec::new();
+    let mut field = String::new();
+    // Whether the current record has begun (so that a final record end adds nothing).
+    let mut in_record = false;
+    loop {
+        let column = fields.len() + 1;
+        match chars.next() {
+            None => {
+                if in_record {
+                    fields.push(std::mem::take(&mut field));
+                    push_record(&mut records, row, std::mem::take(&mut fields));
+                }
+                return Ok(records);
+            }
+            Some('"') if field.is_empty() => {
+                in_record = true;
+                // A quoted field: up to the closing quote; `""` is one quote.
+                loop {
+                    match chars.next() {
+                        None => {
+                            return err(row, column, "a quoted field is not closed before the end of the file")
+                        }
+                        Some('"') if chars.peek() == Some(&'"') => {
+                            chars.next();
+                            field.push('"');
+                        }
+                        Some('"') => break,
+                        Some(c) => field.push(c),
+                    }
+                }
+                match chars.peek() {
+                    None | Some(',') | Some('\n') | Some('\r') => {}
+                    Some(c) => {
+                        return err(
+                            row,
+                            column,
+                            format!("`{c}` after the closing quote of a field; a field ends at its closing quote"),
+                        )
+                    }
+                }
+                // Mark the field as quoted-and-done: an empty quoted field must not take
+                // the `field.is_empty()` branch again.
+                fields.push(std::mem::take(&mut field));
+                match chars.next() {
+                    None => {
+                        push_record(&mut records, row, std::mem::take(&mut fields));
+                        return Ok(records);
+                    }
+                    Some(',') => continue,
+                    Some(c) => {
+                        end_of_line(&mut chars, c, row, fields.len())?;
+                        push_record(&mut records, row, std::mem::take(&mut fields));
+                        row += 1;
+                        in_record = false;
+                    }
+                }
+            }
+            Some('"') => {
+                return err(
+                    row,
+                    column,
+                    "a quote inside an unquoted field; enclose the field in quotes and double the quote",
+                )
+            }
+            Some(',') => {
+                in_record = true;
+                fields.push(std::mem::take(&mut field));
+            }
+            Some(c @ ('\r' | '\n')) => {
+                end_of_line(&mut chars, c, row, column)?;
+                fields.push(std::mem::take(&mut field));
+                push_record(&mut records, row, std::mem::take(&mut fields));
+                row += 1;
+                in_record = false;
+            }
+            Some(c) => {
+                in_record = true;
+                field.push(c);
+            }
+        }
+    }
+}
+
+/// Consumes a record end that began with `c` (`\n`, or `\r` that must be followed by
+/// `\n`).
+fn end_of_line(
+    chars: &mut std::iter::Peekable<std::str::Chars>,
+    c: char,
+    row: usize,
+    column: usize,
+) -> Result<(), ImportError> {
+    if c == '\r' {
+        if chars.peek() == Some(&'\n') {
+            chars.next();
+        } else {
+            return err(row, column, "a carriage return not followed by a line feed");
+        }
+    }
+    Ok(())
+}
+
+fn push_record(records: &mut Vec<Record>, row: usize, fields: Vec<String>) {
+    if fields.iter().any(|f| !f.is_empty()) {
+        records.push(Record { row, fields });
+    }
+}
+
+fn ident(name: &str) -> Ident {
+    Ident {
+        name: name.to_owned(),
+        span: Span::call_site(),
+    }
+}
+
+/// Checks that `name` is a spec name: a Rust identifier that is not a keyword (nor the
+/// reserved `stay`).
+fn check_name(name: &str, row: usize, column: usize, what: &str) -> Result<(), ImportError> {
+    if name == "stay" || syn::parse_str::<syn::Ident>(name).is_err() {
+        return err(
+            row,
+            column,
+            format!("`{name}` is not a valid {what} name (a Rust identifier, not a keyword)"),
+        );
+    }
+    Ok(())
+}
+
+/// The names of a list field (items separated by spaces).
+fn names(field: &str, row: usize, column: usize, what: &str) -> Result<Vec<String>, ImportError> {
+    let list: Vec<String> = field.split_whitespace().map(str::to_owned).collect();
+    for n in &list {
+        check_name(n, row, column, what)?;
+    }
+    Ok(list)
+}
+
+/// What a name in an expression may refer to.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum ExprKind {
+    /// A guard: inputs only.
+    Guard,
+    /// A `never` property: inputs, outputs, actions, `in STATE`.
+    Property,
+}
+
+/// A small recursive-descent reader of guard and property text (LANGUAGE.md, Grammar:
+/// `guard := and ('||' and)*`, `and := not ('&&' not)*`, `not := '!' not | IDENT |
+/// 'true' | 'false' | '(' guard ')'`, plus `in IDENT` in properties).
+struct ExprReader<'a> {
+    tokens: Vec<(usize, &'a str)>,
+    pos: usize,
+    depth: usize,
+    row: usize,
+    column: usize,
+}
+
+/// Nesting bound for parentheses and `!`, the spec parser's own bound.
+const MAX_EXPR_DEPTH: usize = crate::syntax::parse::MAX_NESTING;
+
+impl<'a> ExprReader<'a> {
+    fn new(text: &'a str, row: usize, column: usize) -> Result<Self, ImportError> {
+        let mut tokens = Vec::new();
+        let bytes = text.as_bytes();
+        let mut i = 0;
+        while i < bytes.len() {
+            let c = bytes[i];
+            if c.is_ascii_whitespace() {
+                i += 1;
+            } else if text[i..].starts_with("&&") || text[i..].starts_with("||") {
+                tokens.push((i, &text[i..i + 2]));
+                i += 2;
+            } else if matches!(c, b'!' | b'(' | b')') {
+                tokens.push((i, &text[i..i + 1]));
+                i += 1;
+            } else if c.is_ascii_alphanumeric() || c == b'_' || c == b'#' {
+                let start = i;
+                while i < bytes.len()
+                    && (bytes[i].is_ascii_alphanumeric() || bytes[i] == b'_' || bytes[i] == b'#')
+                {
+                    i += 1;
+                }
+                tokens.push((start, &text[start..i]));
+            } else {
+                let ch = text[i..].chars().next().unwrap_or('?');
+                return err(
+                    row,
+                    column,
+                    format!(
+                        "unexpected `{ch}` at character {} of `{text}`",
+                        text[..i].chars().count() + 1
+                    ),
+                );
+            }
+        }
+        Ok(ExprReader {
+            tokens,
+            pos: 0,
+            depth: 0,
+            row,
+            column,
+        })
+    }
+
+    fn fail<T>(&self, what: &str) -> Result<T, ImportError> {
+        let at = match self.tokens.get(self.pos) {
+            Some((_, t)) => format!("found `{t}`"),
+            None => "found the end of the field".to_owned(),
+        };
+        err(self.row, self.column, format!("expected {what}, {at}"))
+    }
+
+    fn peek(&self) -> Option<&'a str> {
+        self.tokens.get(self.pos).map(|(_, t)| *t)
+    }
+
+    fn or(&mut self) -> Result<Expr, ImportError> {
+        let mut e = self.and()?;
+        while self.peek() == Some("||") {
+            self.pos += 1;
+            let rhs = self.and()?;
+            e = Expr::Or(Box::new(e), Box::new(rhs));
+        }
+        Ok(e)
+    }
+
+    fn and(&mut self) -> Result<Expr, ImportError> {
+        let mut e = self.not()?;
+        while self.peek() == Some("&&") {
+            self.pos += 1;
+            let rhs = self.not()?;
+            e = Expr::And(Box::new(e), Box::new(rhs));
+        }
+        Ok(e)
+    }
+
+    fn not(&mut self) -> Result<Expr, ImportError> {
+        let sp = Span::call_site();
+        self.depth += 1;
+        if self.depth > MAX_EXPR_DEPTH {
+            return err(
+                self.row,
+                self.column,
+                format!("the expression nests deeper than {MAX_EXPR_DEPTH} levels"),
+            );
+        }
+        let e = match self.peek() {
+            Some("!") => {
+                self.pos += 1;
+                Expr::Not(Box::new(self.not()?), sp)
+            }
+            Some("(") => {
+                self.pos += 1;
+                let inner = self.or()?;
+                if self.peek() != Some(")") {
+                    return self.fail("`)`");
+                }
+                self.pos += 1;
+                Expr::Paren(Box::new(inner), sp)
+            }
+            Some("true") => {
+                self.pos += 1;
+                Expr::Const(true, sp)
+            }
+            Some("false") => {
+                self.pos += 1;
+                Expr::Const(false, sp)
+            }
+            Some("in") => {
+                self.pos += 1;
+                match self.peek() {
+                    Some(t) if syn::parse_str::<syn::Ident>(t).is_ok() => {
+                        self.pos += 1;
+                        Expr::In(ident(t))
+                    }
+                    _ => return self.fail("a state name after `in`"),
+                }
+            }
+            Some(t) if syn::parse_str::<syn::Ident>(t).is_ok() => {
+                self.pos += 1;
+                Expr::Name(ident(t))
+            }
+            _ => return self.fail("a name, `!`, `(`, `true` or `false`"),
+        };
+        self.depth -= 1;
+        Ok(e)
+    }
+
+    /// Reads the whole field as one expression.
+    fn read(text: &'a str, row: usize, column: usize) -> Result<Expr, ImportError> {
+        let mut r = ExprReader::new(text, row, column)?;
+        let e = r.or()?;
+        if r.pos < r.tokens.len() {
+            return r.fail("`&&`, `||` or the end of the field");
+        }
+        Ok(e)
+    }
+}
+
+/// The declarations read so far, to check the names that rows use.
+struct Names {
+    clocked: bool,
+    events: Vec<String>,
+    inputs: Vec<String>,
+    outputs: Vec<String>,
+    actions: Vec<String>,
+    states: HashMap<String, usize>,
+}
+
+impl Names {
+    /// Checks every name in an expression; `Property` also allows outputs, actions and
+    /// `in STATE`.
+    fn check_expr(
+        &self,
+        e: &Expr,
+        kind: ExprKind,
+        row: usize,
+        column: usize,
+    ) -> Result<(), ImportError> {
+        match e {
+            Expr::Name(n) => {
+                let ok = self.inputs.contains(&n.name)
+                    || (kind == ExprKind::Property
+                        && (self.outputs.contains(&n.name) || self.actions.contains(&n.name)));
+                if !ok {
+                    let what = if kind == ExprKind::Guard {
+                        "input"
+                    } else {
+                        "input, output or action"
+                    };
+                    return err(
+                        row,
+                        column,
+                        format!("`{}` is not a declared {what}", n.name),
+                    );
+                }
+                Ok(())
+            }
+            Expr::In(s) => {
+                if kind == ExprKind::Guard {
+                    return err(
+                        row,
+                        column,
+                        "`in STATE` is allowed in properties only, not in guards",
+                    );
+                }
+                if !self.states.contains_key(&s.name) {
+                    return err(
+                        row,
+                        column,
+                        format!("`in {}`: no state record lists `{}`", s.name, s.name),
+                    );
+                }
+                Ok(())
+            }
+            Expr::Const(..) => Ok(()),
+            Expr::Not(a, _) | Expr::Paren(a, _) => self.check_expr(a, kind, row, column),
+            Expr::And(a, b) | Expr::Or(a, b) => {
+                self.check_expr(a, kind, row, column)?;
+                self.check_expr(b, kind, row, column)
+            }
+        }
+    }
+
+    fn check_list(
+        &self,
+        list: &[String],
+        declared: &[String],
+        what: &str,
+        row: usize,
+        column: usize,
+    ) -> Result<(), ImportError> {
+        for n in list {
+            if !declared.contains(n) {
+                return err(row, column, format!("`{n}` is not a declared {what}"));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Declaration keys in the order `docs/table-csv.md` lists them.
+const DECLS: [&str; 12] = [
+    "@machine",
+    "@vis",
+    "@dispatch",
+    "@minimize",
+    "@events",
+    "@inputs",
+    "@outputs",
+    "@actions",
+    "@start",
+    "@unhandled",
+    "@never",
+    "@recover",
+];
+
+/// Reads a CSV state table into a syntax tree with one machine (see the module docs).
+pub fn import_csv(text: &str) -> Result<File, ImportError> {
+    let records = parse_csv(text)?;
+    let Some(header) = records.first() else {
+        return err(0, 0, "the file is empty; it must start with the header `state,event,guard,next,mealy,actions,moore`");
+    };
+    for (i, want) in HEADER.iter().enumerate() {
+        match header.fields.get(i) {
+            Some(f) if f.trim() == *want => {}
+            Some(f) => {
+                return err(
+                    header.row,
+                    i + 1,
+                    format!(
+                        "the header says `{f}` here; expected `{want}` (the header is `{}`)",
+                        HEADER.join(",")
+                    ),
+                )
+            }
+            None => {
+                return err(
+                    header.row,
+                    i + 1,
+                    format!(
+                        "the header stops before `{want}`; it is `{}`",
+                        HEADER.join(",")
+                    ),
+                )
+            }
+        }
+    }
+    for r in &records {
+        if r.fields.len() != 7 {
+            let (column, what) = if r.fields.len() < 7 {
+                (r.fields.len() + 1, "the row is truncated")
+            } else {
+                (8, "the row is too long")
+            };
+            return err(
+                r.row,
+                column,
+                format!(
+                    "{what}: it has {} fields, every row has 7 ({})",
+                    r.fields.len(),
+                    HEADER.join(",")
+                ),
+            );
+        }
+    }
+    let body = &records[1..];
+
+    // Declarations: a prefix of `@` records.
+    let n_decl = body
+        .iter()
+        .take_while(|r| r.fields[0].starts_with('@'))
+        .count();
+    let (decl_rows, rows) = body.split_at(n_decl);
+    let mut seen: HashMap<&str, usize> = HashMap::new();
+    let mut name = None;
+    let mut vis = Vis::Private;
+    let mut attrs = Vec::new();
+    let mut events: Option<Vec<String>> = None;
+    let mut lists: [Option<Vec<String>>; 3] = [None, None, None];
+    let mut start: Option<(String, usize)> = None;
+    let mut policy = None;
+    let mut nevers: Vec<(String, usize)> = Vec::new();
+    let mut recovers: Vec<(String, usize)> = Vec::new();
+    for r in decl_rows {
+        let key = r.fields[0].trim();
+        let value = r.fields[1].trim();
+        let row = r.row;
+        if !DECLS.contains(&key) {
+            return err(
+                row,
+                1,
+                format!(
+                    "unknown declaration `{key}`; the declarations are {}",
+                    DECLS.join(", ")
+                ),
+            );
+        }
+        if let Some(c) = (2..7).find(|&c| !r.fields[c].trim().is_empty()) {
+            return err(row, c + 1, format!("a `{key}` record has its value in the `event` field and the other fields empty"));
+        }
+        if key != "@never" && key != "@recover" {
+            if let Some(first) = seen.insert(key, row) {
+                return err(
+                    row,
+                    1,
+                    format!("`{key}` appears twice (first at row {first})"),
+                );
+            }
+        }
+        match key {
+            "@machine" => {
+                check_name(value, row, 2, "machine")?;
+                name = Some(value.to_owned());
+            }
+            "@vis" => {
+                vis = match value {
+                    "pub" => Vis::Pub,
+                    "pub(crate)" => Vis::PubCrate,
+                    _ => {
+                        return err(
+                            row,
+                            2,
+                            format!("`@vis` is `pub` or `pub(crate)`, not `{value}`"),
+                        )
+                    }
+                }
+            }
+            "@dispatch" => match value {
+                "match" => attrs.push(Attr::Dispatch(DispatchStyle::Match, Span::call_site())),
+                "table" => attrs.push(Attr::Dispatch(DispatchStyle::Table, Span::call_site())),
+                _ => {
+                    return err(
+                        row,
+                        2,
+                        format!("`@dispatch` is `match` or `table`, not `{value}`"),
+                    )
+                }
+            },
+            "@minimize" => {
+                if !value.is_empty() {
+                    return err(row, 2, "`@minimize` takes no value");
+                }
+                attrs.push(Attr::Minimize(Span::call_site()));
+            }
+            "@events" => {
+                let list = names(value, row, 2, "event")?;
+                if list.is_empty() {
+                    return err(
+                        row,
+                        2,
+                        "`@events` lists no event; leave the record out for a clocked machine",
+                    );
+                }
+                events = Some(list);
+            }
+            "@inputs" | "@outputs" | "@actions" => {
+                let i = ["@inputs", "@outputs", "@actions"]
+                    .iter()
+                    .position(|k| *k == key)
+                    .unwrap_or(0);
+                lists[i] = Some(names(value, row, 2, &key[1..key.len() - 1])?);
+            }
+            "@start" => {
+                check_name(value, row, 2, "state")?;
+                start = Some((value.to_owned(), row));
+            }
+            "@unhandled" => {
+                policy =
+                    Some(match value {
+                        "complete" => Policy::Complete,
+                        "ignore" => Policy::Ignore,
+                        "reject" => Policy::Reject,
+                        _ => return err(
+                            row,
+                            2,
+                            format!(
+                                "`@unhandled` is `complete`, `ignore` or `reject`, not `{value}`"
+                            ),
+                        ),
+                    })
+            }
+            "@never" => nevers.push((value.to_owned(), row)),
+            _ => recovers.push((value.to_owned(), row)),
+        }
+    }
+    let first_row = rows.first().map_or(records.len() + 1, |r| r.row);
+    let missing = |key: &str| ImportError {
+        row: first_row,
+        column: 1,
+        message: format!(
+            "no `{key}` record before the first state record; the declarations come right \
+             after the header"
+        ),
+    };
+    let Some(name) = name else {
+        return Err(missing("@machine"));
+    };
+    let [Some(inputs), Some(outputs), Some(actions)] = lists else {
+        let i = lists.iter().position(Option::is_none).unwrap_or(0);
+        return Err(missing(["@inputs", "@outputs", "@actions"][i]));
+    };
+    let Some((start, start_row)) = start else {
+        return Err(missing("@start"));
+    };
+    let Some(policy) = policy else {
+        return Err(missing("@unhandled"));
+    };
+    // Names in one namespace must be distinct.
+    let mut declared: HashMap<&str, usize> = HashMap::new();
+    let decl_row = |key: &str| seen.get(key).copied().unwrap_or(0);
+    for (key, list) in [
+        ("@inputs", &inputs),
+        ("@outputs", &outputs),
+        ("@actions", &actions),
+    ] {
+        for n in list {
+            if let Some(first) = declared.insert(n, decl_row(key)) {
+                return err(decl_row(key), 2, format!("`{n}` is declared twice (inputs, outputs and actions share one namespace; first at row {first})"));
+            }
+        }
+    }
+    if let Some(evs) = &events {
+        for (i, e) in evs.iter().enumerate() {
+            if evs[..i].contains(e) {
+                return err(
+                    decl_row("@events"),
+                    2,
+                    format!("event `{e}` is listed twice"),
+                );
+            }
+        }
+    }
+    let clocked = events.is_none();
+    let mut names_ = Names {
+        clocked,
+        events: events.clone().unwrap_or_else(|| vec!["Tick".to_owned()]),
+        inputs,
+        outputs,
+        actions,
+        states: HashMap::new(),
+    };
+
+    // State records first (any order of rows), so that rule rows may name any state.
+    struct StateRec {
+        name: String,
+        row: usize,
+        terminal: bool,
+        moore: Vec<String>,
+        rules: Vec<RuleAst>,
+    }
+    let mut states: Vec<StateRec> = Vec::new();
+    for r in rows {
+        let f = &r.fields;
+        let row = r.row;
+        if f[0].starts_with('@') {
+            return err(row, 1, format!("declaration `{}` after the first state record; declarations come right after the header", f[0]));
+        }
+        if f[0].trim().is_empty() {
+            return err(row, 1, "the `state` field is empty");
+        }
+        if !f[1].trim().is_empty() {
+            continue;
+        }
+        let st = f[0].trim();
+        check_name(st, row, 1, "state")?;
+        if let Some(&i) = names_.states.get(st) {
+            return err(
+                row,
+                1,
+                format!(
+                    "state `{st}` has two state records (first at row {})",
+                    states[i].row
+                ),
+            );
+        }
+        if let Some(c) = [2usize, 4, 5]
+            .into_iter()
+            .find(|&c| !f[c].trim().is_empty())
+        {
+            return err(row, c + 1, format!("a state record (empty `event`) has empty `guard`, `mealy` and `actions` fields; `{}` is here", f[c].trim()));
+        }
+        let terminal = match f[3].trim() {
+            "" => false,
+            "terminal" => true,
+            other => {
+                return err(
+                    row,
+                    4,
+                    format!("a state record's `next` is `terminal` or empty, not `{other}`"),
+                )
+            }
+        };
+        let moore = names(&f[6], row, 7, "output")?;
+        names_.check_list(&moore, &names_.outputs, "output", row, 7)?;
+        names_.states.insert(st.to_owned(), states.len());
+        states.push(StateRec {
+            name: st.to_owned(),
+            row,
+            terminal,
+            moore,
+            rules: Vec::new(),
+        });
+    }
+    if states.is_empty() {
+        return err(
+            first_row.min(records.len()),
+            0,
+            "the table has no state records",
+        );
+    }
+    if !names_.states.contains_key(&start) {
+        return err(
+            start_row,
+            2,
+            format!("the start state `{start}` has no state record"),
+        );
+    }
+    for r in rows {
+        let f = &r.fields;
+        let row = r.row;
+        let event = f[1].trim();
+        if event.is_empty() {
+            continue;
+        }
+        let st = f[0].trim();
+        let Some(&si) = names_.states.get(st) else {
+            return err(row, 1, format!("state `{st}` has no state record"));
+        };
+        if !names_.events.iter().any(|e| e == event) {
+            let hint = if names_.clocked {
+                "this machine is clocked (no `@events` record), so its one event is `Tick`"
+                    .to_owned()
+            } else {
+                format!("the events are {}", names_.events.join(", "))
+            };
+            return err(row, 2, format!("`{event}` is not a declared event; {hint}"));
+        }
+        let guard = match f[2].trim() {
+            "" => None,
+            g => {
+                let e = ExprReader::read(g, row, 3)?;
+                names_.check_expr(&e, ExprKind::Guard, row, 3)?;
+                Some(e)
+            }
+        };
+        let target = match f[3].trim() {
+            "stay" => Target::Stay(Span::call_site()),
+            "" => {
+                return err(
+                    row,
+                    4,
+                    "a rule row's `next` is `stay` or a state name; it is empty",
+                )
+            }
+            t if names_.states.contains_key(t) => Target::State(ident(t)),
+            t => return err(row, 4, format!("the next state `{t}` has no state record")),
+        };
+        let mealy = names(&f[4], row, 5, "output")?;
+        names_.check_list(&mealy, &names_.outputs, "output", row, 5)?;
+        let acts = names(&f[5], row, 6, "action")?;
+        names_.check_list(&acts, &names_.actions, "action", row, 6)?;
+        let mut moore = names(&f[6], row, 7, "output")?;
+        let mut want = states[si].moore.clone();
+        moore.sort();
+        want.sort();
+        if moore != want {
+            return err(
+                row,
+                7,
+                format!(
+                "the Moore outputs `{}` disagree with the state record of `{st}` (row {}: `{}`)",
+                f[6].trim(), states[si].row, states[si].moore.join(" ")
+            ),
+            );
+        }
+        states[si].rules.push(RuleAst {
+            trigger: (!names_.clocked).then(|| Trigger::Events(vec![ident(event)])),
+            guard,
+            target,
+            emit: mealy.iter().map(|n| ident(n)).collect(),
+            actions: acts.iter().map(|n| ident(n)).collect(),
+            span: Span::call_site(),
+        });
+    }
+
+    // Properties.
+    let mut decls = Vec::new();
+    let decl = |kind| Decl {
+        kind,
+        span: Span::call_site(),
+    };
+    let doc_list = |list: &[String]| -> Vec<DocIdent> {
+        list.iter()
+            .map(|n| DocIdent {
+                doc: Vec::new(),
+                ident: ident(n),
+            })
+            .collect()
+    };
+    if let Some(evs) = &events {
+        decls.push(decl(DeclKind::Events(doc_list(evs))));
+    }
+    for (list, make) in [
+        (
+            &names_.inputs,
+            DeclKind::Inputs as fn(Vec<DocIdent>) -> DeclKind,
+        ),
+        (&names_.outputs, DeclKind::Outputs),
+        (&names_.actions, DeclKind::Actions),
+    ] {
+        if !list.is_empty() {
+            decls.push(decl(make(doc_list(list))));
+        }
+    }
+    decls.push(decl(DeclKind::Start(ident(&start))));
+    decls.push(decl(DeclKind::Unhandled(policy)));
+    for (text, row) in &nevers {
+        let e = ExprReader::read(text, *row, 2)?;
+        names_.check_expr(&e, ExprKind::Property, *row, 2)?;
+        decls.push(decl(DeclKind::Never(e)));
+    }
+    for (text, row) in &recovers {
+        let (target, except) = match text.split_once(" except ") {
+            Some((t, rest)) => (t.trim(), rest.split(',').map(str::trim).collect::<Vec<_>>()),
+            None => (text.trim(), Vec::new()),
+        };
+        for s in std::iter::once(target).chain(except.iter().copied()) {
+            if !names_.states.contains_key(s) {
+                return err(*row, 2, format!("`{s}` in `@recover` has no state record (the form is `STATE` or `STATE except A, B`)"));
+            }
+        }
+        decls.push(decl(DeclKind::Recover {
+            target: ident(target),
+            except: except.iter().map(|s| ident(s)).collect(),
+        }));
+    }
+    let members = states
+        .into_iter()
+        .map(|s| {
+            Member::State(StateAst {
+                attrs: Vec::new(),
+                doc: Vec::new(),
+                terminal: s.terminal,
+                name: ident(&s.name),
+                emit: s.moore.iter().map(|n| ident(n)).collect(),
+                body: s.rules.into_iter().map(Body::Rule).collect(),
+            })
+        })
+        .collect();
+    Ok(File {
+        machines: vec![MachineAst {
+            attrs,
+            doc: Vec::new(),
+            vis,
+            name: ident(&name),
+            decls,
+            members,
+        }],
+    })
+}
+
+/// Reads a CSV state table and prints it as spec text, then checks that the text parses
+/// and resolves (an error there is reported with row 0).
+pub fn import_spec(text: &str) -> Result<String, ImportError> {
+    let file = import_csv(text)?;
+    let spec = crate::syntax::print::print_file(&file);
+    let whole = |message: String| ImportError {
+        row: 0,
+        column: 0,
+        message,
+    };
+    let parsed = crate::syntax::parse_source(&spec)
+        .map_err(|e| whole(format!("the rebuilt spec does not parse: {}", e.message)))?;
+    let (_, errors) = crate::model::resolve_file(&parsed);
+    if let Some(d) = errors.first() {
+        return Err(whole(format!(
+            "the rebuilt spec has an error: {}",
+            d.message
+        )));
+    }
+    Ok(spec)
+}

@@ -1,0 +1,390 @@
+//! Encoding resolved machines as complete DFAs over a shared, finite alphabet.
+//!
+//! **What is compared, and why it is the machine's real behaviour.** A step of a
+//! machine consumes an event and reads a valuation of the inputs (LANGUAGE.md,
+//! "Meaning"). What the host can observe of the step is: whether the event was
+//! rejected (under `unhandled reject` only), the Mealy outputs of the rule, the Moore
+//! outputs of the state after the step, and the sequence of actions that ran (the
+//! leave actions, the rule's own, the enter actions, as [`Machine::transition_actions`]
+//! orders them). Under `ignore` (and `complete`, where the interpreter treats an
+//! uncovered step as ignored) an ignored step is observed exactly like a `=> stay` rule
+//! with no outputs and no actions, as LANGUAGE.md prescribes: the `handled` flag is
+//! information, not behaviour. The state after the step is not observable itself, only
+//! through what later steps do. Two states are equivalent when every finite sequence of
+//! (event, valuation) steps produces the same observations from both, and so is a pair
+//! of machines from their start states.
+//!
+//! **Alphabet.** Valuations are never enumerated. Events are first compressed: each
+//! event that some scope of some machine names is its own class; every other event
+//! resolves to the `_` rules in every state of every machine, so they all form one
+//! "rest" class, represented by its first event. Per class, the input space is split
+//! into the atoms of the guard algebra: the coarsest partition refined by every guard
+//! that can apply to the class in any state of any machine (BDD splitting, Bryant
+//! 1986). All valuations in one atom satisfy the same guards, so they make every state
+//! of every machine take the same step; one concrete valuation per atom (`sat_one`,
+//! unmentioned inputs false) is stepped through the reference interpreter
+//! ([`Machine::step`]), which is thus the only definition of meaning used. A symbol is
+//! an (event class, atom) pair.
+//!
+//! **Several machines.** For equivalence two machines share one alphabet: the first is
+//! the reference, whose event, input, output and action numbers are used; the second's
+//! are mapped to them by name and its guards rebuilt over the reference's BDD variables.
+//!
+//! **Cost.** Building the alphabet visits every (state, event class) cell's rules once:
+//! O(cells + rules) BDD operations, plus the atom splitting (at most the number of
+//! distinct guards times the atoms so far). Encoding steps each (state, symbol) once:
+//! O(states x symbols) interpreter steps, one `u32` successor and one `u32`
+//! observation id per transition.
+
+use super::partition::Dfa;
+use crate::interp::Outcome;
+use crate::model::steps::valuation;
+use crate::model::{Bdd, BddStore, EventId, Guard, Machine, StateId};
+use std::collections::{HashMap, HashSet};
+
+/// One letter of the shared alphabet: an event (reference numbering) and one input
+/// valuation standing for a whole atom.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Symbol {
+    /// The representative event of the symbol's event class.
+    pub event: EventId,
+    /// The atom, in the alphabet's BDD store.
+    pub atom: Bdd,
+    /// A full valuation inside the atom, in reference input numbering.
+    pub inputs: Vec<bool>,
+}
+
+/// How one machine's names map onto the reference machine's numbering.
+#[derive(Clone, Debug)]
+pub struct Side<'a> {
+    /// The machine.
+    pub m: &'a Machine,
+    /// The machine's event for each reference event.
+    pub event_of_ref: Vec<EventId>,
+    /// The reference input for each of the machine's inputs.
+    pub input_to_ref: Vec<u32>,
+    /// The reference output for each of the machine's outputs.
+    pub output_to_ref: Vec<u32>,
+    /// The reference action for each of the machine's actions.
+    pub action_to_ref: Vec<u32>,
+}
+
+impl<'a> Side<'a> {
+    /// The reference side: every map is the identity.
+    pub fn reference(m: &'a Machine) -> Side<'a> {
+        Side {
+            m,
+            event_of_ref: (0..m.events.len()).map(EventId::from_index).collect(),
+            input_to_ref: (0..m.inputs.len() as u32).collect(),
+            output_to_ref: (0..m.outputs.len() as u32).collect(),
+            action_to_ref: (0..m.actions.len() as u32).collect(),
+        }
+    }
+
+    /// `m` mapped onto `reference` by name. `None` when some event, input, output or
+    /// action of either machine has no namesake in the other.
+    pub fn by_name(reference: &Machine, m: &'a Machine) -> Option<Side<'a>> {
+        fn map(from: &[crate::model::Item], to: &[crate::model::Item]) -> Option<Vec<u32>> {
+            if from.len() != to.len() {
+                return None;
+            }
+            let index: HashMap<&str, u32> = to
+                .iter()
+                .enumerate()
+                .map(|(i, it)| (it.name.as_str(), i as u32))
+                .collect();
+            from.iter()
+                .map(|it| index.get(it.name.as_str()).copied())
+                .collect()
+        }
+        let ev_to_ref = map(&m.events, &reference.events)?;
+        let mut event_of_ref = vec![EventId(0); ev_to_ref.len()];
+        for (mine, &r) in ev_to_ref.iter().enumerate() {
+            event_of_ref[r as usize] = EventId::from_index(mine);
+        }
+        Some(Side {
+            m,
+            event_of_ref,
+            input_to_ref: map(&m.inputs, &reference.inputs)?,
+            output_to_ref: map(&m.outputs, &reference.outputs)?,
+            action_to_ref: map(&m.actions, &reference.actions)?,
+        })
+    }
+
+    /// A reference valuation in this machine's input numbering.
+    pub fn local_inputs(&self, reference_inputs: &[bool]) -> Vec<bool> {
+        self.input_to_ref
+            .iter()
+            .map(|&r| reference_inputs.get(r as usize).copied().unwrap_or(false))
+            .collect()
+    }
+}
+
+/// The shared alphabet of one or more machines.
+#[derive(Clone, Debug)]
+pub struct Alphabet {
+    /// BDD store of the atoms (a copy of the reference machine's, extended).
+    pub store: BddStore,
+    /// The symbols, grouped by event class in reference event order.
+    pub symbols: Vec<Symbol>,
+    /// The event classes: the reference events of each class, ascending; the first is
+    /// the class's representative.
+    pub classes: Vec<Vec<EventId>>,
+    /// Number of reference inputs (length of every symbol's valuation).
+    pub n_inputs: usize,
+}
+
+/// Rebuilds a guard over reference BDD variables.
+fn guard_bdd(g: &Guard, to_ref: &[u32], store: &mut BddStore) -> Bdd {
+    match g {
+        Guard::Input(i) => store.var(to_ref[i.index()]),
+        Guard::Const(b) => store.constant(*b),
+        Guard::Not(a) => {
+            let x = guard_bdd(a, to_ref, store);
+            store.not(x)
+        }
+        Guard::And(a, b) => {
+            let x = guard_bdd(a, to_ref, store);
+            let y = guard_bdd(b, to_ref, store);
+            store.and(x, y)
+        }
+        Guard::Or(a, b) => {
+            let x = guard_bdd(a, to_ref, store);
+            let y = guard_bdd(b, to_ref, store);
+            store.or(x, y)
+        }
+    }
+}
+
+impl Alphabet {
+    /// Builds the alphabet of `sides`; `sides[0]` must be [`Side::reference`].
+    pub fn build(sides: &[Side<'_>]) -> Alphabet {
+        let reference = sides[0].m;
+        let n_events = reference.events.len();
+        let mut store = reference.bdd.clone();
+
+        // Event classes.
+        let mut named = vec![false; n_events];
+        for side in sides {
+            let mut ref_of_local = vec![0usize; side.event_of_ref.len()];
+            for (r, e) in side.event_of_ref.iter().enumerate() {
+                ref_of_local[e.index()] = r;
+            }
+            let scopes = side
+                .m
+                .states
+                .iter()
+                .map(|s| &s.rules)
+                .chain(side.m.groups.iter().map(|g| &g.rules));
+            for rules in scopes {
+                for (e, _) in &rules.named {
+                    named[ref_of_local[e.index()]] = true;
+                }
+            }
+        }
+        let mut classes: Vec<Vec<EventId>> = Vec::new();
+        let mut rest = Vec::new();
+        for (e, &is_named) in named.iter().enumerate() {
+            if is_named {
+                classes.push(vec![EventId::from_index(e)]);
+            } else {
+                rest.push(EventId::from_index(e));
+            }
+        }
+        if !rest.is_empty() {
+            classes.push(rest);
+        }
+        classes.sort_by_key(|c| c[0]);
+
+        // Guards that can apply to each class, then its atoms.
+        let mut symbols = Vec::new();
+        for class in &classes {
+            let rep = class[0];
+            let mut guards: Vec<Bdd> = Vec::new();
+            let mut seen_guard: HashSet<Bdd> = HashSet::new();
+            for (k, side) in sides.iter().enumerate() {
+                let m = side.m;
+                let local = side.event_of_ref[rep.index()];
+                let mut seen_rule = HashSet::new();
+                for si in 0..m.states.len() {
+                    let Some((_, rules)) = m.rules_for(StateId::from_index(si), local) else {
+                        continue;
+                    };
+                    for &r in rules {
+                        if !seen_rule.insert(r) {
+                            continue;
+                        }
+                        let g = if k == 0 {
+                            m.rules[r.index()].guard
+                        } else {
+                            match &m.rules[r.index()].guard_expr {
+                                Some(g) => guard_bdd(g, &side.input_to_ref, &mut store),
+                                None => Bdd::TRUE,
+                            }
+                        };
+                        if !g.is_true() && !g.is_false() && seen_guard.insert(g) {
+                            guards.push(g);
+                        }
+                    }
+                }
+            }
+            let mut atoms = vec![Bdd::TRUE];
+            for &g in &guards {
+                let mut next = Vec::with_capacity(atoms.len() * 2);
+                for &a in &atoms {
+                    let inside = store.and(a, g);
+                    let outside = store.and_not(a, g);
+                    for part in [inside, outside] {
+                        if !part.is_false() {
+                            next.push(part);
+                        }
+                    }
+                }
+                atoms = next;
+            }
+            for atom in atoms {
+                symbols.push(Symbol {
+                    event: rep,
+                    atom,
+                    inputs: valuation(reference.inputs.len(), &store, atom),
+                });
+            }
+        }
+        Alphabet {
+            store,
+            symbols,
+            classes,
+            n_inputs: reference.inputs.len(),
+        }
+    }
+}
+
+/// What one step shows, in reference numbering.
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+pub struct Observation {
+    /// The event was rejected (`unhandled reject`).
+    pub rejected: bool,
+    /// Mealy outputs of the rule, ascending.
+    pub mealy: Vec<u32>,
+    /// Moore outputs of the state after the step, ascending.
+    pub moore: Vec<u32>,
+    /// Actions in the order they ran.
+    pub actions: Vec<u32>,
+}
+
+/// Dense ids for observations and Moore sets, shared by every machine encoded with it
+/// so that ids compare across machines.
+#[derive(Clone, Debug, Default)]
+pub struct Interner {
+    obs: HashMap<Observation, u32>,
+    moore: HashMap<Vec<u32>, u32>,
+    rows: HashMap<(u32, Vec<u32>), u32>,
+}
+
+impl Interner {
+    /// The id of an observation.
+    pub fn observation(&mut self, o: Observation) -> u32 {
+        let next = self.obs.len() as u32;
+        *self.obs.entry(o).or_insert(next)
+    }
+
+    /// The id of a Moore output set (reference numbering, ascending).
+    pub fn moore(&mut self, set: Vec<u32>) -> u32 {
+        let next = self.moore.len() as u32;
+        *self.moore.entry(set).or_insert(next)
+    }
+
+    fn row(&mut self, moore: u32, row: Vec<u32>) -> u32 {
+        let next = self.rows.len() as u32;
+        *self.rows.entry((moore, row)).or_insert(next)
+    }
+}
+
+/// One machine over an [`Alphabet`].
+#[derive(Clone, Debug)]
+pub struct Encoded {
+    /// Successors; `initial[s]` is the id of (s's Moore set, s's row of observations),
+    /// the initial partition of the refinement.
+    pub dfa: Dfa,
+    /// Observation id per transition, row-major like `dfa.delta`.
+    pub obs: Vec<u32>,
+    /// Moore set id per state.
+    pub moore: Vec<u32>,
+}
+
+fn mapped_sorted(ids: impl Iterator<Item = u32>) -> Vec<u32> {
+    let mut v: Vec<u32> = ids.collect();
+    v.sort_unstable();
+    v
+}
+
+/// Steps every (state, symbol) of `side` through the interpreter.
+pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> Encoded {
+    let m = side.m;
+    let k = alphabet.symbols.len();
+    let n = m.states.len();
+    let local: Vec<(EventId, Vec<bool>)> = alphabet
+        .symbols
+        .iter()
+        .map(|sym| {
+            (
+                side.event_of_ref[sym.event.index()],
+                side.local_inputs(&sym.inputs),
+            )
+        })
+        .collect();
+    let moore_of = |s: StateId| {
+        mapped_sorted(
+            m.states[s.index()]
+                .moore
+                .iter()
+                .map(|o| side.output_to_ref[o.index()]),
+        )
+    };
+    let moore: Vec<u32> = (0..n)
+        .map(|s| interner.moore(moore_of(StateId::from_index(s))))
+        .collect();
+    let mut delta = Vec::with_capacity(n * k);
+    let mut obs = Vec::with_capacity(n * k);
+    let mut initial = Vec::with_capacity(n);
+    for s in 0..n {
+        let from = StateId::from_index(s);
+        for (event, inputs) in &local {
+            let r = m.step(from, *event, inputs);
+            delta.push(r.to.0);
+            let o = Observation {
+                rejected: r.outcome == Outcome::Rejected,
+                mealy: mapped_sorted(r.mealy.iter().map(|o| side.output_to_ref[o.index()])),
+                moore: mapped_sorted(r.moore.iter().map(|o| side.output_to_ref[o.index()])),
+                actions: r
+                    .actions
+                    .iter()
+                    .map(|a| side.action_to_ref[a.index()])
+                    .collect(),
+            };
+            obs.push(interner.observation(o));
+        }
+        let row = obs[s * k..(s + 1) * k].to_vec();
+        initial.push(interner.row(moore[s], row));
+    }
+    Encoded {
+        dfa: Dfa {
+            n_states: n,
+            n_symbols: k,
+            delta,
+            initial,
+        },
+        obs,
+        moore,
+    }
+}
+
+/// The input names and values of a reference valuation, in declaration order.
+pub fn named_inputs(reference: &Machine, inputs: &[bool]) -> Vec<(String, bool)> {
+    reference
+        .inputs
+        .iter()
+        .enumerate()
+        .map(|(i, it)| (it.name.clone(), inputs.get(i).copied().unwrap_or(false)))
+        .collect()
+}
