@@ -12,6 +12,11 @@
 //! `detent_tests::c_harness`, built with gcc's address and undefined-behaviour
 //! sanitizers).
 //!
+//! The minimized machine (`detent_compiler::minimize::minimized_machine`) must behave
+//! like the original on every trace: the same outputs, actions and rejections at every
+//! step, in the state that names the original state's class; and `equiv` must find no
+//! difference between the two.
+//!
 //! A disagreement is shrunk by delta debugging over the trace (Zeller and Hildebrandt,
 //! "Simplifying and Isolating Failure-Inducing Input", IEEE TSE 2002; here the simple
 //! one-step-at-a-time variant: cut after the first differing step, then drop single
@@ -20,8 +25,11 @@
 
 use detent_compiler::check::check_source;
 use detent_compiler::emit::c::generate_c;
+use detent_compiler::minimize::equiv::equiv;
+use detent_compiler::minimize::{minimize, minimized_machine};
 use detent_compiler::model::{EventId, Machine, StateId};
 use detent_compiler::syntax::ast::Policy;
+use detent_compiler::tour::{tour, TourStep};
 use detent_tests::c_harness::{build_harness, run_harness, Cmd};
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
 use detent_tests::workspace_root;
@@ -262,17 +270,33 @@ fn cases() -> Vec<Case> {
     all
 }
 
-/// The traces every back end runs on a machine.
+/// The traces every back end runs on a machine: random ones, then the transition tour
+/// cut at its resets (each piece runs from the start state).
 fn traces_for(m: &Machine, seed: u64) -> Vec<(String, Trace)> {
     let mut rng = Rng::new(seed);
-    (0..RANDOM_TRACES)
+    let mut out: Vec<(String, Trace)> = (0..RANDOM_TRACES)
         .map(|k| {
             (
                 format!("random trace {k}"),
                 random_trace(&mut rng, m.events.len(), m.inputs.len(), TRACE_LEN),
             )
         })
-        .collect()
+        .collect();
+    let t = tour(m);
+    let mut piece: Trace = Vec::new();
+    let mut n = 0;
+    for step in t.steps.iter().chain(std::iter::once(&TourStep::Reset)) {
+        match step {
+            TourStep::Step { event, inputs } => piece.push((event.index(), inputs.clone())),
+            TourStep::Reset => {
+                if !piece.is_empty() {
+                    out.push((format!("tour piece {n}"), std::mem::take(&mut piece)));
+                    n += 1;
+                }
+            }
+        }
+    }
+    out
 }
 
 // ---------------------------------------------------------------------------------------
@@ -481,4 +505,102 @@ fn a_wrong_back_end_is_caught_and_its_trace_shrunk() {
     // The smallest trace that still reaches S1 at step 5 or later: seven steps.
     assert_eq!(small.len(), 7);
     assert_eq!(trace_text(m, &small), "Next\n".repeat(7));
+}
+
+/// What the minimized machine must agree on: the class of the state, the outputs, the
+/// actions and rejections; not `handled`, since an ignored event and a `=> stay` rule
+/// without outputs are the same behaviour (LANGUAGE.md, "Coverage").
+fn minimized_disagrees(
+    m: &Machine,
+    q: &Machine,
+    class_of: &[Option<u32>],
+    trace: &Trace,
+) -> Option<(usize, String)> {
+    let want = interpret(m, trace);
+    let got = interpret(q, trace);
+    for (i, (w, g)) in want.iter().zip(&got).enumerate() {
+        let class = class_of[w.state].map(|c| c as usize);
+        if class != Some(g.state)
+            || w.outputs != g.outputs
+            || w.actions != g.actions
+            || w.rejected != g.rejected
+        {
+            return Some((
+                i,
+                format!("original {w:?} (class {class:?})\n    minimized {g:?}"),
+            ));
+        }
+    }
+    None
+}
+
+#[test]
+fn minimized_machines_behave_like_the_originals_on_every_trace() {
+    const SEEDS: u64 = 30;
+    let (mut machines, mut traces, mut steps, mut merged) = (0usize, 0usize, 0usize, 0usize);
+    let mut all: Vec<Case> = cases();
+    for (ci, cfg) in configs().iter().enumerate() {
+        for k in SEEDS_PER_CONFIG..SEEDS {
+            let seed = 0x0D1F_F000 + (ci as u64) * 100 + k;
+            all.extend(case_of(
+                format!("random_{seed}.detent"),
+                random_spec(seed, cfg),
+            ));
+        }
+    }
+    for (i, case) in all.iter().enumerate() {
+        let m = &case.machine;
+        let min = minimize(m);
+        let q = minimized_machine(m);
+        assert_eq!(q.states.len(), min.states_after(), "{}", case.label);
+        for (s, c) in min.class_of.iter().enumerate() {
+            if let Some(c) = c {
+                assert_eq!(
+                    q.states[*c as usize].name,
+                    m.states[min.representative(*c).index()].name,
+                    "{}: class of {}",
+                    case.label,
+                    m.states[s].name
+                );
+            }
+        }
+        merged += m.states.len() - q.states.len();
+        match equiv(m, &q) {
+            Ok(None) => {}
+            other => panic!(
+                "{}: equiv finds the minimized machine different: {other:?}\n{}",
+                case.label, case.spec
+            ),
+        }
+        for (what, trace) in traces_for(m, 0x5A11 + i as u64) {
+            traces += 1;
+            steps += trace.len();
+            if let Some((first, why)) = minimized_disagrees(m, &q, &min.class_of, &trace) {
+                // Shrink: cut after the first difference, then drop single steps.
+                let mut t: Trace = trace[..=first].to_vec();
+                let mut j = 0;
+                while j < t.len() {
+                    let mut shorter = t.clone();
+                    shorter.remove(j);
+                    if !shorter.is_empty()
+                        && minimized_disagrees(m, &q, &min.class_of, &shorter).is_some()
+                    {
+                        t = shorter;
+                    } else {
+                        j += 1;
+                    }
+                }
+                panic!(
+                    "the minimized {} differs from the original on {} ({what}, shrunk to {} steps): {why}\n--- spec:\n{}\n--- trace:\n{}",
+                    m.name,
+                    case.label,
+                    t.len(),
+                    case.spec,
+                    trace_text(m, &t)
+                );
+            }
+        }
+        machines += 1;
+    }
+    println!("differential minimize: {machines} machines ({merged} states merged or dropped), {traces} traces, {steps} steps, no difference");
 }
