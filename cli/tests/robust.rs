@@ -23,6 +23,8 @@ use std::time::{Duration, Instant};
 
 /// A command that runs longer than this is a hang.
 const TIMEOUT: Duration = Duration::from_secs(10);
+/// The same for inputs that are large on purpose.
+const BIG_TIMEOUT: Duration = Duration::from_secs(120);
 
 /// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number generators",
 /// OOPSLA 2014): small, seeded, reproducible. The tests crate has the same generator,
@@ -365,6 +367,17 @@ struct Ran {
 /// fails on any exit other than 0, 1 or 2 (a signal, or 101 for a panic), or a non-zero
 /// exit without a message.
 fn run_detent(args: &[&std::ffi::OsStr], stdin: &[u8], what: &dyn Fn() -> String) -> Ran {
+    run_detent_within(TIMEOUT, args, stdin, what)
+}
+
+/// [`run_detent`] with a longer limit, for inputs that are large on purpose (a debug
+/// build on two busy cores takes seconds on them; a hang takes forever).
+fn run_detent_within(
+    timeout: Duration,
+    args: &[&std::ffi::OsStr],
+    stdin: &[u8],
+    what: &dyn Fn() -> String,
+) -> Ran {
     let mut child = Command::new(env!("CARGO_BIN_EXE_detent"))
         .args(args)
         .stdin(Stdio::piped())
@@ -395,10 +408,10 @@ fn run_detent(args: &[&std::ffi::OsStr], stdin: &[u8], what: &dyn Fn() -> String
         if let Some(s) = child.try_wait().unwrap() {
             break s;
         }
-        if start.elapsed() > TIMEOUT {
+        if start.elapsed() > timeout {
             let _ = child.kill();
             let _ = child.wait();
-            panic!("hang: `detent {args:?}` ran over {TIMEOUT:?} on {}", what());
+            panic!("hang: `detent {args:?}` ran over {timeout:?} on {}", what());
         }
         std::thread::sleep(Duration::from_millis(2));
     };
@@ -493,8 +506,14 @@ fn invocations(
         ],
         "table" => vec![vec![s("table"), p(spec), s("--format"), s("csv")]],
         "run" => vec![vec![s("run"), p(spec), s("--trace"), p(trace)]],
-        "minimize" => vec![vec![s("minimize"), p(spec), s("--format"), s("spec")]],
-        "equiv" => vec![vec![s("equiv"), p(spec), p(other)]],
+        "minimize" => vec![
+            vec![s("minimize"), p(spec), s("--format"), s("spec")],
+            vec![s("minimize"), p(spec), s("--format"), s("json")],
+        ],
+        "equiv" => vec![
+            vec![s("equiv"), p(spec), p(other)],
+            vec![s("equiv"), p(other), p(spec), s("--format"), s("json")],
+        ],
         "tour" => vec![vec![s("tour"), p(spec), s("--format"), s("json")]],
         "logic" => vec![vec![
             s("logic"),
@@ -504,20 +523,37 @@ fn invocations(
             s("--testbench"),
             p(&out.join("m_tb.v")),
         ]],
-        "draw" => vec![vec![
-            s("draw"),
-            p(spec),
-            s("--format"),
-            s("svg"),
-            s("-o"),
-            p(&out.join("m.svg")),
-        ]],
-        "import" => vec![vec![
-            s("import"),
-            p(spec),
-            s("-o"),
-            p(&out.join("imported.detent")),
-        ]],
+        "draw" => vec![
+            vec![
+                s("draw"),
+                p(spec),
+                s("--format"),
+                s("svg"),
+                s("-o"),
+                p(&out.join("m.svg")),
+            ],
+            vec![s("draw"), p(spec), s("--format"), s("dot")],
+        ],
+        "import" => {
+            // The CSV written beside the spec (a mutated table) when there is one, and
+            // the spec itself, which is no CSV at all.
+            let mut v = vec![vec![
+                s("import"),
+                p(spec),
+                s("-o"),
+                p(&out.join("imported.detent")),
+            ]];
+            let csv = spec.with_extension("csv");
+            if csv.is_file() {
+                v.push(vec![
+                    s("import"),
+                    p(&csv),
+                    s("-o"),
+                    p(&out.join("imported.detent")),
+                ]);
+            }
+            v
+        }
         "gen c" => vec![vec![s("gen"), s("c"), p(spec), s("-o"), p(out)]],
         "gen rust" => vec![
             vec![s("gen"), s("rust"), p(spec), s("-o"), p(&out.join("m.rs"))],
@@ -568,6 +604,13 @@ fn every_command_exits_cleanly_on_mutated_examples() {
         let mut rng = Rng::new(0xD37E_0008 ^ name.len() as u64);
         let good = dir.join(format!("{name}.detent"));
         std::fs::write(&good, &spec).unwrap();
+        // The example's table as CSV, mutated beside each mutant for `import`.
+        let table = Command::new(env!("CARGO_BIN_EXE_detent"))
+            .args(["table", "--format", "csv"])
+            .arg(&good)
+            .output()
+            .unwrap()
+            .stdout;
         for i in 0..MUTANTS_PER_EXAMPLE {
             let m = mutant(&mut rng, &spec, i);
             // Every third mutant also gets a mutated trace.
@@ -580,6 +623,12 @@ fn every_command_exits_cleanly_on_mutated_examples() {
             let tf = dir.join("mutant.trace");
             std::fs::write(&f, &m).unwrap();
             std::fs::write(&tf, &t).unwrap();
+            let csv = if i % 2 == 0 {
+                mutate_once(&mut rng, &table, &names_of(&spec))
+            } else {
+                table.clone()
+            };
+            std::fs::write(dir.join("mutant.csv"), &csv).unwrap();
             let out = dir.join("out");
             let what = || {
                 format!(
@@ -868,11 +917,16 @@ fn guards_without_a_small_decision_diagram_are_an_error_not_a_hang() {
         let f = dir.join(format!("blowup{pairs}.detent"));
         std::fs::write(&f, blowup_spec(pairs, split)).unwrap();
         let what = || format!("{pairs} pairs, split {split}");
-        // Every command goes through the same check; the split case through `check` only.
-        for c in cmds.iter().filter(|c| !split || *c == "check") {
-            for args in invocations(c, &f, &good, &trace, &dir.join("out")) {
+        // Every command goes through the same check: the first form of each, and the split
+        // case through `check` only.
+        // `import` reads CSV tables, not specs.
+        for c in cmds
+            .iter()
+            .filter(|c| *c != "import" && (!split || *c == "check"))
+        {
+            if let Some(args) = invocations(c, &f, &good, &trace, &dir.join("out")).first() {
                 let refs: Vec<&std::ffi::OsStr> = args.iter().map(|a| a.as_os_str()).collect();
-                let r = run_detent(&refs, b"", &what);
+                let r = run_detent_within(BIG_TIMEOUT, &refs, b"", &what);
                 if r.stderr.contains("not built yet") {
                     continue; // a format that does not exist yet (SARIF before it lands)
                 }
@@ -900,27 +954,49 @@ fn guards_without_a_small_decision_diagram_are_an_error_not_a_hang() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
-#[test]
-fn big_groups_named_in_properties_go_through_every_command() {
-    // `in G` over a group of 60,000 states is flattened into a disjunction of 60,000
-    // terms by the passes that print specs and tables; none may recurse that deep.
-    let cmds = offered_commands();
-    let dir = scratch("big-group");
+/// A machine with a group of `n` states that a `never` property names.
+fn big_group_spec(n: usize) -> String {
     let mut spec = String::from(
         "#[allow(unreachable_state, dead_end, equivalent_states)]\nmachine Big { events Go; outputs lit; start S0; unhandled ignore;\n never in Huge && lit;\n group Huge {\n",
     );
-    for i in 0..60_000 {
+    for i in 0..n {
         spec.push_str(&format!("  state S{i};\n"));
     }
     spec.push_str(" }\n state Out emit lit { Go => S0; }\n}\n");
+    spec
+}
+
+#[test]
+fn big_groups_named_in_properties_print_on_a_small_stack() {
+    // `in G` over a group of 60,000 states is flattened into a disjunction of 60,000
+    // terms by the passes that print specs and tables; none may recurse that deep.
+    on_small_stack(stack_kib(), || {
+        let text = big_group_spec(60_000);
+        let r = check_source("big.detent", &text);
+        assert!(!r.has_errors());
+        let m = r.machines[0].machine.as_ref().unwrap();
+        let csv = detent_compiler::table::render(m, detent_compiler::table::TableFormat::Csv);
+        assert!(csv.contains("in S59999"));
+        let spec = detent_compiler::minimize::minimized_spec(m);
+        assert!(spec.contains("never"), "{}", &spec[..spec.len().min(400)]);
+    });
+}
+
+#[test]
+fn big_groups_named_in_properties_go_through_every_command() {
+    let cmds = offered_commands();
+    let dir = scratch("big-group");
     let f = dir.join("big.detent");
-    std::fs::write(&f, &spec).unwrap();
+    std::fs::write(&f, big_group_spec(30_000)).unwrap();
     let trace = dir.join("t.trace");
     std::fs::write(&trace, "Go\nGo\n").unwrap();
     for c in &cmds {
-        for args in invocations(c, &f, &f, &trace, &dir.join("out")) {
+        // The first form of each command: they all share the path to the machine.
+        if let Some(args) = invocations(c, &f, &f, &trace, &dir.join("out")).first() {
             let refs: Vec<&std::ffi::OsStr> = args.iter().map(|a| a.as_os_str()).collect();
-            run_detent(&refs, b"", &|| "a group of 60,000 states in `never`".into());
+            run_detent_within(BIG_TIMEOUT, &refs, b"", &|| {
+                "a group of 30,000 states in `never`".into()
+            });
         }
     }
     let _ = std::fs::remove_dir_all(&dir);
