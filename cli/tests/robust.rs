@@ -680,6 +680,36 @@ fn exercise_machine(m: &Machine, trace: &str) {
     if detent_compiler::emit::c::cell_count(m) <= 1 << 16 {
         let _ = detent_compiler::emit::c::generate_c(m, "mutant.detent");
     }
+    // minimize: the printed spec parses and checks again, and is equivalent.
+    let spec = detent_compiler::minimize::minimized_spec(m);
+    let again = check_source("minimized.detent", &spec);
+    let errors: Vec<&str> = again
+        .diagnostics()
+        .filter(|d| d.is_error())
+        .map(|d| d.message.as_str())
+        .collect();
+    assert!(
+        errors.is_empty(),
+        "the minimized spec has errors {errors:?}:\n{spec}"
+    );
+    let q = detent_compiler::minimize::minimized_machine(m);
+    assert!(matches!(
+        detent_compiler::minimize::equiv::equiv(m, &q),
+        Ok(None)
+    ));
+    // tour: fires every reachable transition.
+    let t = detent_compiler::tour::tour(m);
+    assert_eq!(t.covers, t.transitions, "the tour misses transitions");
+    // draw and the CSV round trip through import.
+    let _ = detent_compiler::emit::dot::to_dot(m);
+    let _ = detent_compiler::emit::svg::render_svg(&detent_compiler::emit::diagram::to_diagram(m));
+    let csv = render(m, TableFormat::Csv);
+    let _ = detent_compiler::import::import_spec(&csv);
+}
+
+/// `import` on text that is no table.
+fn exercise_import(text: &str) {
+    let _ = detent_compiler::import::import_spec(text);
 }
 
 #[test]
@@ -701,7 +731,10 @@ fn the_library_never_panics_on_thousands_of_mutants() {
             };
             let text = String::from_utf8_lossy(&m).into_owned();
             mutants += 1;
-            match std::panic::catch_unwind(|| exercise_library(&text, &t)) {
+            match std::panic::catch_unwind(|| {
+                exercise_import(&text);
+                exercise_library(&text, &t)
+            }) {
                 Ok(n) => clean += usize::from(n > 0),
                 Err(_) => failures.push(format!(
                     "mutant {i} of {name} (seed {seed:#x}):\n{}\n--- trace:\n{t}",
@@ -710,7 +743,7 @@ fn the_library_never_panics_on_thousands_of_mutants() {
             }
         }
     }
-    println!("robust library: {mutants} mutants through check, table, run and gen c; {clean} still error-free");
+    println!("robust library: {mutants} mutants through check, table, run, gen c, minimize, equiv, tour, draw and import; {clean} still error-free");
     assert!(
         failures.is_empty(),
         "{} panics; first:\n{}",
@@ -742,7 +775,7 @@ mod soup {
         /// Random token soup, with a machine header half of the time so the parser gets
         /// past the first token.
         #[test]
-        fn token_soup_never_panics(header in any::<bool>(), pieces in proptest::collection::vec(piece(), 0..120)) {
+        fn token_soup_never_panics_and_neither_does_csv_soup(header in any::<bool>(), pieces in proptest::collection::vec(piece(), 0..120)) {
             let mut text = String::new();
             if header {
                 text.push_str("machine M { events A, B; inputs x; outputs y; actions z; start S0; ");
@@ -752,6 +785,7 @@ mod soup {
                 text.push(' ');
             }
             exercise_library(&text, "A x=1\nB\nTick\n");
+            super::exercise_import(&text.replace(' ', ","));
         }
     }
 }
