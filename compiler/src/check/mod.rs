@@ -47,16 +47,23 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     let mut c = Checker { m, out: Vec::new() };
-    if c.coverage_and_overlap() {
-        // The exact checks could not finish; their results (and every later pass that
-        // combines guards) would be meaningless.
+    // The exact checks, and the step table that the property checker, the tour and
+    // minimization build from the same guards, must fit the decision-diagram budget;
+    // past it their results would be meaningless.
+    let overflow = if c.coverage_and_overlap() {
+        Some("the coverage and overlap checks of this machine")
+    } else {
+        let mut probe = m.bdd.clone();
+        crate::model::steps::StepTable::build(m, &mut probe);
+        probe
+            .overflowed()
+            .then_some("the firing regions of this machine's rules")
+    };
+    if let Some(what) = overflow {
         c.out.clear();
         c.out.push(Diagnostic::name_error(
             m.span,
-            crate::model::bdd_overflow_message(
-                &m.name,
-                "the coverage and overlap checks of this machine",
-            ),
+            crate::model::bdd_overflow_message(&m.name, what),
         ));
         return c.out;
     }
