@@ -1,8 +1,32 @@
-//! Compiles the committed generated C of `tests/c/specs/bilge_pump.detent` (in
-//! `tests/c/ffi/`) into a static library, so the FFI test can drive it from Rust.
-//! The test `ffi_files_are_fresh` keeps those files equal to what `gen c` writes.
+//! Two jobs for the tests of this crate:
+//!
+//! - Compiles the committed generated C of `tests/c/specs/bilge_pump.detent` (in
+//!   `tests/c/ffi/`) into a static library, so the FFI test can drive it from Rust.
+//!   The test `ffi_files_are_fresh` keeps those files equal to what `gen c` writes.
+//! - Writes the differential-test machines into `OUT_DIR`: random specs (fixed seeds)
+//!   from `src/gen.rs`, their `gen rust` output in both dispatch styles, inline and
+//!   file-form macro copies, and per-form runners that drive a machine over a trace.
+
+#[path = "src/gen.rs"]
+#[allow(dead_code)]
+mod gen;
+
+use detent_compiler::check::check_source;
+use detent_compiler::emit::rust::{generate_file, module_name};
+use detent_compiler::model::Machine;
+use detent_compiler::syntax::ast::DispatchStyle;
+use std::fmt::Write;
+use std::path::PathBuf;
+
+/// Seeds per configuration.
+const SEEDS: u64 = 8;
 
 fn main() {
+    compile_c_ffi();
+    write_differential_machines();
+}
+
+fn compile_c_ffi() {
     println!("cargo:rerun-if-changed=c/ffi/bilge_pump.c");
     println!("cargo:rerun-if-changed=c/ffi/bilge_pump.h");
     cc::Build::new()
@@ -14,4 +38,157 @@ fn main() {
         .flag_if_supported("-pedantic")
         .warnings_into_errors(true)
         .compile("detent_c_ffi");
+}
+
+fn write_differential_machines() {
+    println!("cargo:rerun-if-changed=src/gen.rs");
+    println!("cargo:rerun-if-changed=build.rs");
+    let out = PathBuf::from(std::env::var_os("OUT_DIR").expect("cargo sets OUT_DIR"));
+    let configs = [
+        gen::GenConfig::default(),
+        gen::GenConfig {
+            events: 0,
+            ..gen::GenConfig::default()
+        },
+        gen::GenConfig {
+            states: (8, 20),
+            events: 5,
+            inputs: 4,
+            outputs: 10,
+            actions: 4,
+            ..gen::GenConfig::default()
+        },
+    ];
+    let mut all = String::new();
+    let mut index = String::from(
+        "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
+    );
+    for (ci, cfg) in configs.iter().enumerate() {
+        for k in 0..SEEDS {
+            let seed = 1000 + k * 10 + ci as u64;
+            let spec = gen::random_spec(seed, cfg);
+            let report = check_source("random.detent", &spec);
+            assert!(
+                !report.has_errors(),
+                "generator made a spec with errors:\n{spec}"
+            );
+            let m = report
+                .machines
+                .into_iter()
+                .find_map(|m| m.machine)
+                .expect("one machine");
+            let case = format!("s{seed}");
+            let spec_path = out.join(format!("{case}.detent"));
+            std::fs::write(&spec_path, &spec).expect("write spec");
+            for (style, suffix) in [
+                (DispatchStyle::Table, "table"),
+                (DispatchStyle::Match, "match"),
+            ] {
+                let code = generate_file(
+                    &format!("{case}.detent"),
+                    std::slice::from_ref(&m),
+                    Some(style),
+                );
+                std::fs::write(out.join(format!("{case}_{suffix}.rs")), code).expect("write code");
+            }
+            let snake = module_name(&m);
+            let _ = writeln!(all, "#[allow(deprecated)]\npub mod {case} {{");
+            let _ = writeln!(all, "    pub mod table {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_table.rs\")); }}");
+            let _ = writeln!(all, "    pub mod matched {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_match.rs\")); }}");
+            let _ = writeln!(
+                all,
+                "    pub mod inline {{ ::detent::machine! {{\n{spec}\n    }} }}"
+            );
+            let _ = writeln!(
+                all,
+                "    #[::detent::machine_file(file = {:?}, dispatch = \"match\")]\n    pub mod file {{}}",
+                spec_path.display().to_string()
+            );
+            for (form, path) in [
+                ("table", format!("table::{snake}")),
+                ("matched", format!("matched::{snake}")),
+                ("inline", format!("inline::{snake}")),
+                ("file", "file".to_string()),
+            ] {
+                all.push_str(&runner(&m, form, &path));
+            }
+            all.push_str("}\n");
+            let _ = writeln!(
+                index,
+                "    Case {{ name: {case:?}, spec: {spec:?}, runners: &[(\"table\", {case}::run_table), (\"match\", {case}::run_matched), (\"inline macro\", {case}::run_inline), (\"file macro\", {case}::run_file)] }},"
+            );
+        }
+    }
+    index.push_str("];\n");
+    all.push_str(&index);
+    std::fs::write(out.join("differential.rs"), all).expect("write differential.rs");
+
+    // A machine past 256 states: `State` becomes `#[repr(u16)]`.
+    // `home` in W0 alone keeps the states apart (no `equivalent_states` warning).
+    let mut wide = String::from(
+        "pub machine Wide {\n    events Next, Back;\n    outputs home;\n    start W0;\n",
+    );
+    for i in 0..300 {
+        let _ = writeln!(
+            wide,
+            "    state W{i}{} {{ Next => W{}; Back => W{}; }}",
+            if i == 0 { " emit home" } else { "" },
+            (i + 1) % 300,
+            (i + 299) % 300
+        );
+    }
+    wide.push_str("}\n");
+    let wide_path = out.join("wide.detent");
+    std::fs::write(&wide_path, wide).expect("write wide.detent");
+    std::fs::write(
+        out.join("wide.rs"),
+        format!(
+            "#[::detent::machine_file(file = {:?})]\npub mod wide {{}}\n",
+            wide_path.display().to_string()
+        ),
+    )
+    .expect("write wide.rs");
+}
+
+/// A `Hooks` impl for the test recorder and a `run_<form>` function for one form.
+fn runner(m: &Machine, form: &str, path: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "    impl {path}::Hooks for crate::Recorder {{");
+    for (i, input) in m.inputs.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "        fn {}(&mut self) -> bool {{ self.input({i}) }}",
+            input.name
+        );
+    }
+    for (i, action) in m.actions.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "        fn {}(&mut self) {{ self.action({i}) }}",
+            action.name
+        );
+    }
+    let _ = writeln!(s, "    }}");
+    let outputs: Vec<String> = m.outputs.iter().map(|o| format!("o.{}", o.name)).collect();
+    let _ = writeln!(
+        s,
+        "    pub fn run_{form}(trace: &[(usize, Vec<bool>)]) -> Vec<crate::Observed> {{
+        use {path}::{{Event, Machine}};
+        let mut machine = Machine::new();
+        let mut rec = crate::Recorder::default();
+        let o = machine.outputs();
+        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![] }}];
+        for (e, ins) in trace {{
+            rec.begin(ins);
+            let (o, rejected) = match machine.step(Event::ALL[*e], &mut rec) {{
+                Ok(o) => (o, false),
+                Err(::detent::Rejected) => (machine.outputs(), true),
+            }};
+            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take() }});
+        }}
+        out
+    }}",
+        outs = outputs.join(", ")
+    );
+    s
 }

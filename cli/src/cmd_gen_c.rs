@@ -1,7 +1,6 @@
 //! `detent gen c FILE [-o OUTDIR] [--check]`: C99 header and source per machine.
 
 use crate::io::{self, FAILED, OK, USAGE};
-use detent_compiler::check::{self, render};
 use detent_compiler::emit::c::{cell_count, generate_c, CFiles, MAX_C_CELLS};
 use std::path::{Path, PathBuf};
 
@@ -22,27 +21,10 @@ pub struct GenCArgs {
 /// Runs `detent gen c` and returns the exit code.
 pub fn run(args: &GenCArgs) -> u8 {
     let file = args.file.display().to_string();
-    let text = match io::read_text(&file) {
-        Ok(t) => t,
-        Err(e) => return io::usage_error(e),
+    let machines = match io::load_machines(&args.file) {
+        Ok(m) => m,
+        Err(code) => return code,
     };
-    let report = check::check_source(&file, &text);
-    if report.has_errors() {
-        let errors: Vec<_> = report
-            .diagnostics()
-            .filter(|d| d.is_error())
-            .cloned()
-            .collect();
-        let src = render::Source {
-            name: &report.file,
-            text: &report.text,
-        };
-        for d in &errors {
-            eprintln!("{}", render::render_text(d, &src));
-        }
-        eprintln!("{}", render::summary_text(errors.len(), 0));
-        return FAILED;
-    }
     // The banner names the file without its folder, so the output does not depend on
     // where the command runs from.
     let banner_name = args
@@ -51,7 +33,7 @@ pub fn run(args: &GenCArgs) -> u8 {
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_else(|| file.clone());
     let mut outputs: Vec<CFiles> = Vec::new();
-    for m in report.machines.iter().filter_map(|r| r.machine.as_ref()) {
+    for m in &machines {
         if cell_count(m) > MAX_C_CELLS {
             return io::usage_error(format!(
                 "machine `{}` has {} states x {} events = {} cells; the C back end's dense \

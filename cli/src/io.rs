@@ -67,9 +67,9 @@ pub fn print_report_text(report: &FileReport) {
     }
 }
 
-/// Loads one error-free machine from a spec file for commands other than `check`.
-/// Errors are printed; the `Err` holds the exit code.
-pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
+/// Loads every machine of a spec file for commands other than `check`, refusing a
+/// file with errors. Errors are printed; the `Err` holds the exit code.
+pub fn load_machines(path: &Path) -> Result<Vec<Machine>, u8> {
     let file = path.display().to_string();
     let text = read_text(&file).map_err(usage_error)?;
     let report = check::check_source(&file, &text);
@@ -89,11 +89,18 @@ pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
         eprintln!("{}", render::summary_text(errors.len(), 0));
         return Err(FAILED);
     }
-    let mut machines: Vec<Machine> = report
+    Ok(report
         .machines
         .into_iter()
         .filter_map(|m| m.machine)
-        .collect();
+        .collect())
+}
+
+/// Loads one error-free machine (`--machine NAME`, or the file's only machine).
+/// Errors are printed; the `Err` holds the exit code.
+pub fn load_machine(path: &Path, name: Option<&str>) -> Result<Machine, u8> {
+    let file = path.display().to_string();
+    let mut machines = load_machines(path)?;
     match name {
         Some(n) => match machines.iter().position(|m| m.name == n) {
             Some(i) => Ok(machines.swap_remove(i)),

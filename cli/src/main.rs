@@ -4,12 +4,14 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
-mod cmd_gen_c;
+mod cmd_draw;
 mod cmd_equiv;
+mod cmd_gen_c;
+mod cmd_gen_rust;
+mod cmd_import;
+mod cmd_logic;
 mod cmd_minimize;
 mod cmd_tour;
-mod cmd_draw;
-mod cmd_import;
 mod commands;
 mod io;
 
@@ -150,6 +152,8 @@ enum Command {
         #[arg(short = 'o', value_name = "OUT.detent")]
         out: Option<PathBuf>,
     },
+    /// State assignment, minimized flip-flop and output equations, gate costs, Verilog.
+    Logic(cmd_logic::LogicArgs),
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -162,6 +166,8 @@ enum Command {
 enum GenTarget {
     /// C99 header and source per machine.
     C(cmd_gen_c::GenCArgs),
+    /// no_std Rust with table or match dispatch.
+    Rust(cmd_gen_rust::GenRustArgs),
 }
 
 fn main() -> ExitCode {
@@ -186,6 +192,10 @@ fn main() -> ExitCode {
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),
+        Command::Gen {
+            target: GenTarget::Rust(args),
+        } => cmd_gen_rust::run(&args),
+        Command::Logic(args) => cmd_logic::run(&args),
         Command::Minimize {
             file,
             machine,

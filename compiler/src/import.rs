@@ -640,19 +640,20 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
                 start = Some((value.to_owned(), row));
             }
             "@unhandled" => {
-                policy =
-                    Some(match value {
-                        "complete" => Policy::Complete,
-                        "ignore" => Policy::Ignore,
-                        "reject" => Policy::Reject,
-                        _ => return err(
+                policy = Some(match value {
+                    "complete" => Policy::Complete,
+                    "ignore" => Policy::Ignore,
+                    "reject" => Policy::Reject,
+                    _ => {
+                        return err(
                             row,
                             2,
                             format!(
                                 "`@unhandled` is `complete`, `ignore` or `reject`, not `{value}`"
                             ),
-                        ),
-                    })
+                        )
+                    }
+                })
             }
             "@never" => nevers.push((value.to_owned(), row)),
             _ => recovers.push((value.to_owned(), row)),

@@ -98,7 +98,7 @@ mod error;
 mod machine;
 mod queue;
 
-pub use detent_macros::machine;
+pub use detent_macros::{machine, machine_file};
 pub use error::{InvalidState, Rejected};
 pub use machine::StateMachine;
 pub use queue::{Drain, EventQueue, EventReceiver, EventSender};

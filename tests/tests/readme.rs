@@ -13,5 +13,9 @@ fn the_readme_spec_checks_without_findings() {
     assert!(findings.is_empty(), "{findings:#?}");
     assert_eq!(report.machines.len(), 1);
     let m = report.machines[0].machine.as_ref().unwrap();
-    assert_eq!(m.properties.len(), 2, "the README shows a `never` and a `recover to`");
+    assert_eq!(
+        m.properties.len(),
+        2,
+        "the README shows a `never` and a `recover to`"
+    );
 }

@@ -14,12 +14,15 @@
 //! [`minimize`] picks the method: exact up to [`EXACT_MAX_VARS`] variables (measured, see
 //! that constant), the heuristic beyond, and the [`Cover`] says which one ran.
 
+pub mod assign;
 pub mod cube;
+pub mod equations;
 pub mod exact;
 pub mod excitation;
 pub mod gates;
 pub mod heuristic;
 pub mod testgen;
+pub mod verilog;
 
 pub use cube::Cube;
 

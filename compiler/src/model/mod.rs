@@ -9,8 +9,8 @@
 
 pub mod bdd;
 pub mod graph;
-pub mod steps;
 mod resolve;
+pub mod steps;
 
 pub use bdd::{Bdd, BddStore};
 pub use resolve::{

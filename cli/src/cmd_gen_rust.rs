@@ -1,0 +1,94 @@
+//! `detent gen rust FILE [-o OUT.rs] [--dispatch table|match] [--check]`: the Rust
+//! back end of `detent-compiler` for every machine of a spec file.
+
+use crate::io::{self, FAILED, OK};
+use clap::{Args, ValueEnum};
+use detent_compiler::check::{self, render};
+use detent_compiler::emit::rust::generate_file;
+use detent_compiler::model::Machine;
+use detent_compiler::syntax::ast::DispatchStyle;
+use std::path::PathBuf;
+
+/// Dispatch style of the generated `step`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum Dispatch {
+    /// `static` tables in flash, indexed by state and event.
+    Table,
+    /// Nested `match` expressions.
+    Match,
+}
+
+/// Arguments of `detent gen rust`.
+#[derive(Args, Debug)]
+pub struct GenRustArgs {
+    /// The spec file (`-` for standard input).
+    file: PathBuf,
+    /// Write the code here (atomically) instead of to standard output.
+    #[arg(short = 'o', long = "output", value_name = "OUT.rs")]
+    output: Option<PathBuf>,
+    /// Override every machine's `#[dispatch(..)]` attribute.
+    #[arg(long, value_enum)]
+    dispatch: Option<Dispatch>,
+    /// Write nothing; exit 1 when OUT is missing or differs from what would be written.
+    #[arg(long, requires = "output")]
+    check: bool,
+}
+
+/// Runs `detent gen rust`; returns the exit code.
+pub fn run(args: &GenRustArgs) -> u8 {
+    let file = args.file.display().to_string();
+    let text = match io::read_text(&file) {
+        Ok(text) => text,
+        Err(e) => return io::usage_error(e),
+    };
+    let report = check::check_source(&file, &text);
+    let src = render::Source {
+        name: &report.file,
+        text: &report.text,
+    };
+    let diagnostics: Vec<_> = report.diagnostics().collect();
+    for d in &diagnostics {
+        eprintln!("{}", render::render_text(d, &src));
+    }
+    if report.has_errors() {
+        let errors = diagnostics.iter().filter(|d| d.is_error()).count();
+        eprintln!(
+            "{}",
+            render::summary_text(errors, diagnostics.len() - errors)
+        );
+        eprintln!("detent: no code generated");
+        return FAILED;
+    }
+    let machines: Vec<Machine> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
+    let style = args.dispatch.map(|d| match d {
+        Dispatch::Table => DispatchStyle::Table,
+        Dispatch::Match => DispatchStyle::Match,
+    });
+    let code = generate_file(&file, &machines, style);
+    match &args.output {
+        None => {
+            io::out(code.trim_end());
+            OK
+        }
+        Some(out) if args.check => {
+            if io::is_fresh(out, code.as_bytes()) {
+                OK
+            } else {
+                eprintln!(
+                    "detent: `{}` is stale or missing; run `detent gen rust {file} -o {}`",
+                    out.display(),
+                    out.display()
+                );
+                FAILED
+            }
+        }
+        Some(out) => match io::write_atomic(out, code.as_bytes()) {
+            Ok(()) => OK,
+            Err(e) => io::usage_error(e),
+        },
+    }
+}

@@ -1,0 +1,456 @@
+//! `detent logic FILE [--machine NAME] [--encoding binary|gray|onehot|auto]
+//! [--flip-flop d|t|jk|sr] [--map sop|nand|nor] [--format text|json] [--verilog OUT.v]
+//! [--testbench OUT_tb.v]`: state assignment, minimized flip-flop and output equations,
+//! gate costs, and Verilog.
+
+use crate::io::{self, OK};
+use clap::ValueEnum;
+use detent_compiler::logic::assign::Encoding;
+use detent_compiler::logic::equations::{
+    auto_assign, synthesize, AutoReport, LogicDesign, LogicSpec, Map,
+};
+use detent_compiler::logic::excitation::FlipFlop;
+use detent_compiler::logic::gates::{format_gates, format_pos, format_sop, Form, GateCost};
+use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
+use detent_compiler::logic::Method;
+use detent_compiler::model::Machine;
+use detent_compiler::tour::{tour, TourStep};
+use serde_json::json;
+use std::io::IsTerminal;
+use std::path::PathBuf;
+use std::time::Instant;
+
+/// State assignment choices.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum EncodingArg {
+    /// Declaration order, ceil(log2 m) bits.
+    Binary,
+    /// Gray code in declaration order, ceil(log2 m) bits.
+    Gray,
+    /// One flip-flop per state.
+    Onehot,
+    /// Search for the cheapest assignment (by literal count).
+    Auto,
+}
+
+/// Flip-flop types.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum FlipFlopArg {
+    /// D (data).
+    D,
+    /// T (toggle).
+    T,
+    /// J-K.
+    Jk,
+    /// Set-reset.
+    Sr,
+}
+
+/// Two-level forms.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum MapArg {
+    /// AND-OR sums of products.
+    Sop,
+    /// NAND-NAND.
+    Nand,
+    /// NOR-NOR.
+    Nor,
+}
+
+/// Report formats of `logic`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum LogicFormat {
+    /// Equations in trade notation.
+    Text,
+    /// JSON (stable; see DESIGN.md).
+    Json,
+}
+
+/// Arguments of `detent logic`.
+#[derive(clap::Args, Debug)]
+pub struct LogicArgs {
+    /// The spec file.
+    pub file: PathBuf,
+    /// Which machine, when the file has several.
+    #[arg(long)]
+    pub machine: Option<String>,
+    /// State assignment.
+    #[arg(long, value_enum, default_value_t = EncodingArg::Binary)]
+    pub encoding: EncodingArg,
+    /// Flip-flop type.
+    #[arg(long = "flip-flop", value_enum, default_value_t = FlipFlopArg::D)]
+    pub flip_flop: FlipFlopArg,
+    /// Two-level form for the gate counts.
+    #[arg(long, value_enum, default_value_t = MapArg::Sop)]
+    pub map: MapArg,
+    /// Report format.
+    #[arg(long, value_enum, default_value_t = LogicFormat::Text)]
+    pub format: LogicFormat,
+    /// Write a Verilog (IEEE 1364-2005) module here.
+    #[arg(long, value_name = "OUT.v")]
+    pub verilog: Option<PathBuf>,
+    /// Write a self-checking testbench here.
+    #[arg(long, value_name = "OUT_tb.v")]
+    pub testbench: Option<PathBuf>,
+}
+
+fn ff_of(a: FlipFlopArg) -> FlipFlop {
+    match a {
+        FlipFlopArg::D => FlipFlop::D,
+        FlipFlopArg::T => FlipFlop::T,
+        FlipFlopArg::Jk => FlipFlop::JK,
+        FlipFlopArg::Sr => FlipFlop::SR,
+    }
+}
+
+fn map_of(a: MapArg) -> Map {
+    match a {
+        MapArg::Sop => Map::Sop,
+        MapArg::Nand => Map::Nand,
+        MapArg::Nor => Map::Nor,
+    }
+}
+
+fn method_name(m: Method) -> &'static str {
+    match m {
+        Method::Exact => "exact",
+        Method::Heuristic => "heuristic",
+    }
+}
+
+/// A progress bar on stderr, drawn only on a terminal and only once the work has run
+/// for a quarter of a second.
+struct Progress {
+    tty: bool,
+    started: Instant,
+    drawn: bool,
+}
+
+impl Progress {
+    fn new() -> Progress {
+        Progress {
+            tty: std::io::stderr().is_terminal(),
+            started: Instant::now(),
+            drawn: false,
+        }
+    }
+
+    fn update(&mut self, done: u64, total: u64) {
+        if !self.tty || self.started.elapsed().as_millis() < 250 {
+            return;
+        }
+        let width = 30u64;
+        let filled = (done.min(total) * width)
+            .checked_div(total)
+            .unwrap_or(width);
+        eprint!(
+            "\rsearching assignments [{}{}] {done}/{total}",
+            "#".repeat(filled as usize),
+            ".".repeat((width - filled) as usize)
+        );
+        self.drawn = true;
+    }
+
+    fn finish(&self) {
+        if self.drawn {
+            eprint!("\r{}\r", " ".repeat(70));
+        }
+    }
+}
+
+/// The testbench steps: the transition tour (every reachable rule fired at least once,
+/// resets where the machine is not strongly connected).
+fn testbench_steps(m: &Machine) -> Vec<TbStep> {
+    tour(m)
+        .steps
+        .into_iter()
+        .map(|s| match s {
+            TourStep::Reset => TbStep::Reset,
+            TourStep::Step { event, inputs } => TbStep::Step {
+                event: event.index(),
+                inputs,
+            },
+        })
+        .collect()
+}
+
+/// Runs `detent logic` and returns the exit code.
+pub fn run(args: &LogicArgs) -> u8 {
+    let m = match io::load_machine(&args.file, args.machine.as_deref()) {
+        Ok(m) => m,
+        Err(code) => return code,
+    };
+    let spec = match LogicSpec::from_machine(&m) {
+        Ok(s) => s,
+        Err(e) => return io::usage_error(format!("machine `{}`: {e}", m.name)),
+    };
+    let ff = ff_of(args.flip_flop);
+    let map = map_of(args.map);
+    let complements = map == Map::Nor;
+    let started = Instant::now();
+    let result: Result<(LogicDesign, Option<AutoReport>), String> = match args.encoding {
+        EncodingArg::Auto => {
+            let mut bar = Progress::new();
+            let r = auto_assign(&spec, ff, map, &mut |d, t| bar.update(d, t));
+            bar.finish();
+            r.map(|(d, a)| (d, Some(a)))
+        }
+        other => {
+            let enc = match other {
+                EncodingArg::Binary => Ok(Encoding::binary(spec.n_states)),
+                EncodingArg::Gray => Ok(Encoding::gray(spec.n_states)),
+                _ => Encoding::one_hot(spec.n_states),
+            };
+            enc.and_then(|e| synthesize(&spec, &e, ff, complements))
+                .map(|d| (d, None))
+        }
+    };
+    let elapsed = started.elapsed();
+    let (design, auto) = match result {
+        Ok(r) => r,
+        Err(e) => return io::usage_error(format!("machine `{}`: {e}", m.name)),
+    };
+    let cost = match design.cost(map) {
+        Ok(c) => c,
+        Err(e) => return io::usage_error(e),
+    };
+    let source = args
+        .file
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_else(|| args.file.display().to_string());
+    let state_names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
+    if let Some(path) = &args.verilog {
+        let text = match generate_module(&spec, &design, &state_names, &source) {
+            Ok(t) => t,
+            Err(e) => return io::usage_error(format!("machine `{}`: {e}", m.name)),
+        };
+        if let Err(e) = io::write_atomic(path, text.as_bytes()) {
+            return io::usage_error(e);
+        }
+    }
+    if let Some(path) = &args.testbench {
+        let steps = testbench_steps(&m);
+        let text = match generate_testbench(&m, &spec, &design, &steps, &source) {
+            Ok(t) => t,
+            Err(e) => return io::usage_error(format!("machine `{}`: {e}", m.name)),
+        };
+        if let Err(e) = io::write_atomic(path, text.as_bytes()) {
+            return io::usage_error(e);
+        }
+    }
+    match args.format {
+        LogicFormat::Json => io::out(json_report(
+            &m,
+            &design,
+            &cost,
+            map,
+            auto.as_ref(),
+            elapsed.as_secs_f64(),
+        )),
+        LogicFormat::Text => text_report(
+            &m,
+            &design,
+            &cost,
+            map,
+            auto.as_ref(),
+            elapsed.as_secs_f64(),
+        ),
+    }
+    OK
+}
+
+fn cost_line(cost: &GateCost, map: Map) -> String {
+    let form = match map {
+        Map::Sop => "AND-OR",
+        Map::Nand => "NAND-NAND",
+        Map::Nor => "NOR-NOR",
+    };
+    format!(
+        "cost ({form}): {} literals, {} gates, {} gate inputs ({} input inverters, {} shared products)",
+        cost.literals, cost.gates, cost.gate_inputs, cost.inverters, cost.shared_terms
+    )
+}
+
+fn text_report(
+    m: &Machine,
+    d: &LogicDesign,
+    cost: &GateCost,
+    map: Map,
+    auto: Option<&AutoReport>,
+    secs: f64,
+) {
+    let ff = d.flip_flop.input_names().concat();
+    if let Some(a) = auto {
+        io::out(format!(
+            "assignment search: {} assignments costed ({}) in {secs:.2} s",
+            a.evaluated,
+            if a.exhaustive {
+                "every assignment up to bit permutation and complementation"
+            } else {
+                "adjacency heuristic with exact-cost swaps"
+            }
+        ));
+        io::out(format!(
+            "{:<9} {:>10} {:>9} {:>6} {:>12}",
+            "encoding", "flip-flops", "literals", "gates", "gate inputs"
+        ));
+        for (i, r) in a.rows.iter().enumerate() {
+            io::out(format!(
+                "{:<9} {:>10} {:>9} {:>6} {:>12}{}",
+                r.encoding.kind.name(),
+                r.flip_flops,
+                r.literals,
+                r.cost.gates,
+                r.cost.gate_inputs,
+                if i == a.chosen { "  <- chosen" } else { "" }
+            ));
+        }
+        io::out("");
+    }
+    io::out(format!(
+        "machine {}: {} encoding, {} state bits, {ff} flip-flops",
+        m.name,
+        d.encoding.kind.name(),
+        d.encoding.bits
+    ));
+    let width = m
+        .states
+        .iter()
+        .map(|s| s.name.len())
+        .max()
+        .unwrap_or(5)
+        .max(5);
+    io::out(format!(
+        "  {:<width$}  code ({})",
+        "state",
+        d.state_vars.join(" ")
+    ));
+    for (i, s) in m.states.iter().enumerate() {
+        io::out(format!(
+            "  {:<width$}  {}",
+            s.name,
+            d.encoding.code_string(i)
+        ));
+    }
+    if !d.pin_vars.is_empty() {
+        io::out(format!("pins: {}", d.pin_vars.join(" ")));
+    }
+    io::out("");
+    for f in &d.functions {
+        let eq = match map {
+            Map::Sop => format_sop(&f.name, &f.vars, &f.cover),
+            Map::Nand => format!(
+                "{}\n    {}",
+                format_sop(&f.name, &f.vars, &f.cover),
+                format_gates(Form::NandNand, &f.name, &f.vars, &f.cover)
+            ),
+            Map::Nor => match &f.complement {
+                Some(c) => format!(
+                    "{}\n    {}",
+                    format_pos(&f.name, &f.vars, c),
+                    format_gates(Form::NorNor, &f.name, &f.vars, c)
+                ),
+                None => format_sop(&f.name, &f.vars, &f.cover),
+            },
+        };
+        let (lits, method) = match (map, &f.complement) {
+            (Map::Nor, Some(c)) => (c.literals, c.method),
+            _ => (f.cover.literals, f.cover.method),
+        };
+        io::out(format!(
+            "{eq}    [{}, {lits} literals]",
+            method_name(method)
+        ));
+    }
+    io::out("");
+    io::out(cost_line(cost, map));
+}
+
+fn json_report(
+    m: &Machine,
+    d: &LogicDesign,
+    cost: &GateCost,
+    map: Map,
+    auto: Option<&AutoReport>,
+    secs: f64,
+) -> String {
+    let mut encoding = serde_json::Map::new();
+    for (i, s) in m.states.iter().enumerate() {
+        encoding.insert(s.name.clone(), json!(d.encoding.code_string(i)));
+    }
+    let functions: Vec<serde_json::Value> = d
+        .functions
+        .iter()
+        .map(|f| {
+            let n = f.vars.len();
+            let (on, dc) = match &f.minterms {
+                Some((on, dc)) => (json!(on), json!(dc)),
+                // Too wide for minterm lists: the sets as cube strings.
+                None => (
+                    json!(f
+                        .on_cubes
+                        .iter()
+                        .map(|c| c.to_string(n))
+                        .collect::<Vec<_>>()),
+                    json!(f
+                        .dc_cubes
+                        .iter()
+                        .map(|c| c.to_string(n))
+                        .collect::<Vec<_>>()),
+                ),
+            };
+            let mut o = json!({
+                "name": f.name,
+                "vars": f.vars,
+                "on": on,
+                "dc": dc,
+                "cover": f.cover.cube_strings(n),
+                "literals": f.cover.literals,
+                "method": method_name(f.cover.method),
+            });
+            if let (Some(c), Some(obj)) = (&f.complement, o.as_object_mut()) {
+                obj.insert("complement_cover".into(), json!(c.cube_strings(n)));
+                obj.insert("complement_literals".into(), json!(c.literals));
+            }
+            o
+        })
+        .collect();
+    let mut report = json!({
+        "encoding": encoding,
+        "state_bits": d.encoding.bits,
+        "inputs": d.pin_vars,
+        "functions": functions,
+        "cost": {"literals": cost.literals, "gates": cost.gates, "gate_inputs": cost.gate_inputs},
+        "machine": m.name,
+        "encoding_kind": d.encoding.kind.name(),
+        "flip_flop": d.flip_flop.input_names().concat(),
+        "map": match map { Map::Sop => "sop", Map::Nand => "nand", Map::Nor => "nor" },
+    });
+    if let (Some(a), Some(obj)) = (auto, report.as_object_mut()) {
+        let rows: Vec<serde_json::Value> = a
+            .rows
+            .iter()
+            .map(|r| {
+                json!({
+                    "encoding": r.encoding.kind.name(),
+                    "flip_flops": r.flip_flops,
+                    "literals": r.literals,
+                    "gates": r.cost.gates,
+                    "gate_inputs": r.cost.gate_inputs,
+                })
+            })
+            .collect();
+        obj.insert(
+            "auto".into(),
+            json!({
+                "table": rows,
+                "chosen": a.rows[a.chosen].encoding.kind.name(),
+                "evaluated": a.evaluated,
+                "exhaustive": a.exhaustive,
+                "seconds": secs,
+            }),
+        );
+    }
+    report.to_string()
+}

@@ -1,0 +1,148 @@
+//! `detent logic`: the JSON shape of DESIGN.md, text equations, gate forms, and the
+//! Verilog files it writes (run under Icarus Verilog).
+
+use std::path::PathBuf;
+use std::process::Command;
+
+fn detent() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_detent"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("detent-logic-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+fn example(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("../examples")
+        .join(name)
+}
+
+#[test]
+fn json_has_the_documented_keys_in_order() {
+    let out = detent()
+        .args(["logic", "--format", "json", "--flip-flop", "jk"])
+        .arg(example("frame_parser.detent"))
+        .output()
+        .unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    assert_eq!(
+        keys[..5],
+        ["encoding", "state_bits", "inputs", "functions", "cost"]
+    );
+    assert_eq!(v["state_bits"], 2);
+    assert_eq!(v["encoding"]["Hunt"], "00");
+    assert_eq!(
+        v["inputs"],
+        serde_json::json!(["ev1", "ev0", "length_ok", "last_byte", "sum_ok"])
+    );
+    let f = &v["functions"][0];
+    let fkeys: Vec<&str> = f.as_object().unwrap().keys().map(String::as_str).collect();
+    assert_eq!(
+        fkeys,
+        ["name", "vars", "on", "dc", "cover", "literals", "method"]
+    );
+    assert_eq!(f["name"], "J1");
+    assert_eq!(f["vars"][0], "q1");
+    // Event code 3 of the 2-bit bus is unused (3 events): a don't-care.
+    let dc: Vec<u64> = f["dc"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_u64().unwrap())
+        .collect();
+    // Minterm (q1, q0, ev1, ev0, inputs): q=00, ev=11, inputs 000 -> 0b0011000 = 24.
+    assert!(dc.contains(&24), "{dc:?}");
+    let lits: u64 = v["functions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["literals"].as_u64().unwrap())
+        .sum();
+    assert_eq!(v["cost"]["literals"].as_u64().unwrap(), lits);
+    let ckeys: Vec<&str> = v["cost"]
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    assert_eq!(ckeys, ["literals", "gates", "gate_inputs"]);
+}
+
+#[test]
+fn text_nand_nor_and_auto_reports() {
+    let run = |args: &[&str]| {
+        let out = detent()
+            .arg("logic")
+            .arg(example("pattern_detector.detent"))
+            .args(args)
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(0));
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let text = run(&[]);
+    assert!(
+        text.contains("D2 = q1·q0·bit    [exact, 3 literals]"),
+        "{text}"
+    );
+    assert!(text.contains("found = q2"), "{text}");
+    assert!(run(&["--map", "nand"]).contains("NAND("));
+    assert!(run(&["--map", "nor"]).contains("NOR("));
+    let auto = run(&["--encoding", "auto"]);
+    assert!(auto.contains("<- chosen"), "{auto}");
+    assert!(auto.contains("140 assignments costed"), "{auto}");
+    let json = run(&["--encoding", "auto", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["auto"]["table"].as_array().unwrap().len(), 4);
+    assert_eq!(v["auto"]["exhaustive"], true);
+}
+
+#[test]
+fn writes_verilog_that_passes_its_testbench_and_reports_bad_usage() {
+    let dir = scratch("verilog");
+    let (v, tb) = (dir.join("kiln.v"), dir.join("kiln_tb.v"));
+    let out = detent()
+        .arg("logic")
+        .arg(example("kiln.detent"))
+        .args(["--encoding", "onehot", "--flip-flop", "sr", "--verilog"])
+        .arg(&v)
+        .arg("--testbench")
+        .arg(&tb)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let text = std::fs::read_to_string(&v).unwrap();
+    assert!(text.contains("module kiln ("));
+    assert!(text.contains("not a certified component"));
+    assert!(text.contains("IEC 61508"));
+    let exe = dir.join("kiln.vvp");
+    let c = Command::new("iverilog")
+        .args(["-g2005", "-o"])
+        .arg(&exe)
+        .arg(&v)
+        .arg(&tb)
+        .status()
+        .expect("iverilog is missing: run scripts/test.sh, which installs it");
+    assert!(c.success());
+    let sim = Command::new("vvp").arg("-n").arg(&exe).output().unwrap();
+    assert!(String::from_utf8_lossy(&sim.stdout).contains("PASS"));
+    let bad = detent()
+        .arg("logic")
+        .arg(example("kiln.detent"))
+        .args(["--machine", "Nope"])
+        .output()
+        .unwrap();
+    assert_eq!(bad.status.code(), Some(2));
+    let _ = std::fs::remove_dir_all(&dir);
+}

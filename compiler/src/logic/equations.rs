@@ -1,0 +1,858 @@
+//! Flip-flop input and output equations of a machine under a state assignment.
+//!
+//! **Variables** (in this order, first = most significant bit of a minterm number):
+//! the state bits `q_{k-1} .. q_0`, the event bus `ev_{b-1} .. ev_0` with
+//! `b = ceil(log2 E)` (none for clocked machines or a single event; event `i` in
+//! declaration order has code `i`, codes `>= E` are don't-cares), then the inputs as
+//! pins in declaration order. Moore-only outputs are functions of the state bits alone.
+//!
+//! **Functions.** For each state bit the input(s) of the chosen flip-flop (D; T; J and
+//! K; S and R) from its excitation table, with every don't-care the flip-flop allows;
+//! each output (Moore part of the current state, Mealy part of the rule that fires);
+//! each action as a pulse, high in the cycle whose rule runs it (enter and leave
+//! actions of the transition included). Uncovered valuations (`ignore` and `reject`
+//! alike) hold the state and raise nothing. Unused state codes are don't-cares.
+//!
+//! **Building the sets without enumerating inputs.** The machine is cut into regions:
+//! for each state, each event cell of [`Machine::cells`], each rule of the cell, the
+//! rule's guard as the disjoint cubes of its BDD (and one more region for the part no
+//! guard covers). A region's cubes are state cube x event codes x guard cubes, so the
+//! work is linear in the spec's size times the guard cube counts, never `2^inputs`.
+//! Functions of at most [`MINTERM_MAX_VARS`] variables are also tabulated as minterms
+//! (the exact method runs on those up to [`super::EXACT_MAX_VARS`]); wider ones stay
+//! cube lists for the heuristic.
+//!
+//! **One-hot.** A state is the cube `q_i = 1` (the other bits free), and every code that
+//! does not have exactly one bit set is a don't-care (the all-zero cube and the
+//! `m(m-1)/2` cubes `q_i q_j`): the care set is the single-hot codes only, in cube-list
+//! form, so the huge don't-care space is never enumerated.
+
+use super::assign::{
+    adjacency_assignment, bus_bits, canonical_assignments, raw_assignment_count, Adjacency,
+    Encoding, EncodingKind,
+};
+use super::cube::{full_mask, Cube};
+use super::excitation::{Excite, FlipFlop};
+use super::gates::{two_level_cost, Form, GateCost};
+use super::{
+    check_cover, check_cube_cover, minimize, minimize_cubes, Cover, CubeFunction, Function,
+    EXACT_MAX_VARS,
+};
+use crate::model::{Bdd, Machine};
+use std::collections::{HashMap, HashSet};
+
+/// Functions of at most this many variables are tabulated as minterms (for the exact
+/// method, for checking by enumeration and for the minterm lists of the JSON report).
+pub const MINTERM_MAX_VARS: usize = 16;
+
+/// Raw assignments (before symmetry) up to which `auto` enumerates every assignment:
+/// `7! = 5040`, i.e. every machine of up to 8 states (3 bits). Measured: the examples of
+/// 4 to 6 states take well under a second in a release build; 9 states would be
+/// `15!/7! ~ 2.6e8` raw assignments, far beyond.
+pub const EXHAUSTIVE_MAX_RAW: u64 = 5040;
+
+/// Largest machine the adjacency heuristic of `auto` handles (its weight table is m x m).
+pub const AUTO_MAX_STATES: usize = 1024;
+
+/// Restarts of the adjacency heuristic (different tie-breaking), each costed exactly.
+const HEURISTIC_RESTARTS: u64 = 6;
+
+/// Exact-cost improvement steps after the heuristic (pairwise code swaps, each costed by
+/// minimizing every function).
+const HEURISTIC_SWAP_BUDGET: u64 = 120;
+
+/// One region of behaviour: in `state`, for the events `events` (their codes), under
+/// the input valuations of `guards`, the machine goes to `next`, raises `mealy` and runs
+/// `actions`.
+#[derive(Clone, Debug)]
+struct Region {
+    state: usize,
+    events: Vec<u64>,
+    /// Disjoint cubes over the input bits (input `i` at bit `I - 1 - i`).
+    guards: Vec<Cube>,
+    next: usize,
+    mealy: Vec<usize>,
+    actions: Vec<usize>,
+}
+
+/// What the equations are built from: the machine cut into regions, independent of
+/// the state assignment.
+#[derive(Clone, Debug)]
+pub struct LogicSpec {
+    /// The machine's name.
+    pub name: String,
+    /// Number of states.
+    pub n_states: usize,
+    /// The start state (the reset code).
+    pub start: usize,
+    /// Number of events (1 for a clocked machine: `Tick`).
+    pub n_events: usize,
+    /// Width of the event bus (0 when clocked or with a single event).
+    pub ev_bits: usize,
+    /// Input names, declaration order.
+    pub inputs: Vec<String>,
+    /// Output names, declaration order.
+    pub outputs: Vec<String>,
+    /// Action names, declaration order.
+    pub actions: Vec<String>,
+    /// Moore outputs of each state.
+    moore: Vec<Vec<usize>>,
+    /// Whether each output is raised by some rule (then it depends on ev and inputs).
+    mealy_output: Vec<bool>,
+    regions: Vec<Region>,
+    adjacency: Adjacency,
+}
+
+/// Which flip-flop input, output or action a function drives.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Role {
+    /// Input `input` (in [`FlipFlop::input_names`] order) of the flip-flop of state
+    /// bit `bit`.
+    FlipFlop {
+        /// The state bit `q_bit`.
+        bit: usize,
+        /// Which input of the flip-flop.
+        input: usize,
+    },
+    /// An output line.
+    Output(usize),
+    /// An action pulse.
+    Action(usize),
+}
+
+/// One minimized function.
+#[derive(Clone, Debug)]
+pub struct LogicFunction {
+    /// The name (`D1`, `J0`, an output or action name).
+    pub name: String,
+    /// What it drives.
+    pub role: Role,
+    /// Variables, first = most significant.
+    pub vars: Vec<String>,
+    /// The on-set as cubes (may overlap `dc_cubes`; overlap counts as don't-care).
+    pub on_cubes: Vec<Cube>,
+    /// The don't-care set as cubes.
+    pub dc_cubes: Vec<Cube>,
+    /// On and dc minterms (disjoint), when there are at most [`MINTERM_MAX_VARS`]
+    /// variables.
+    pub minterms: Option<Minterms>,
+    /// The minimized sum of products.
+    pub cover: Cover,
+    /// A minimized sum of products of the complement (for NOR-NOR), when asked for.
+    pub complement: Option<Cover>,
+}
+
+/// The two-level form to cost and print.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Map {
+    /// AND-OR sum of products.
+    Sop,
+    /// NAND-NAND.
+    Nand,
+    /// NOR-NOR (from the complement's sum of products).
+    Nor,
+}
+
+/// The equations of a machine under one assignment and flip-flop type.
+#[derive(Clone, Debug)]
+pub struct LogicDesign {
+    /// The state assignment.
+    pub encoding: Encoding,
+    /// The flip-flop type.
+    pub flip_flop: FlipFlop,
+    /// State-bit variable names, `q_{k-1}` first.
+    pub state_vars: Vec<String>,
+    /// Pin variables: event bus bits (`ev_{b-1}` first), then inputs.
+    pub pin_vars: Vec<String>,
+    /// Every function: flip-flop inputs (most significant bit first), outputs, actions.
+    pub functions: Vec<LogicFunction>,
+}
+
+/// Cubes covering the codes `lo..hi` of a `b`-bit field: aligned power-of-two blocks.
+fn range_cubes(lo: u64, hi: u64, b: usize) -> Vec<Cube> {
+    let mut out = Vec::new();
+    let mut x = lo;
+    while x < hi {
+        let mut size = 1u64;
+        while x.is_multiple_of(size * 2) && x + size * 2 <= hi {
+            size *= 2;
+        }
+        out.push(Cube::new(x, full_mask(b) & !(size - 1)));
+        x += size;
+    }
+    out
+}
+
+impl LogicSpec {
+    /// Cuts a machine into regions. Errors when the variables would not fit in 64 bits
+    /// for the densest encoding.
+    pub fn from_machine(m: &Machine) -> Result<LogicSpec, String> {
+        let n_states = m.states.len();
+        let n_events = m.events.len().max(1);
+        let ev_bits = bus_bits(n_events);
+        let n_inputs = m.inputs.len();
+        let k = super::assign::dense_bits(n_states);
+        if k + ev_bits + n_inputs > 64 {
+            return Err(format!(
+                "{k} state bits + {ev_bits} event bits + {n_inputs} inputs exceed the 64 \
+                 variables the logic layer supports"
+            ));
+        }
+        let mut bdd = m.bdd.clone();
+        let input_bit = |v: u32| 1u64 << (n_inputs - 1 - v as usize);
+        let to_cubes = |bdd: &crate::model::BddStore, g: Bdd| -> Vec<Cube> {
+            bdd.cubes(g)
+                .into_iter()
+                .map(|path| {
+                    let (mut value, mut care) = (0u64, 0u64);
+                    for (v, b) in path {
+                        care |= input_bit(v);
+                        if b {
+                            value |= input_bit(v);
+                        }
+                    }
+                    Cube::new(value, care)
+                })
+                .collect()
+        };
+        let mut regions = Vec::new();
+        for s in 0..n_states {
+            let sid = crate::model::StateId::from_index(s);
+            for cell in m.cells(sid) {
+                let events: Vec<u64> = m
+                    .cell_events(sid, &cell.events)
+                    .into_iter()
+                    .map(|e| e.index() as u64)
+                    .collect();
+                if events.is_empty() {
+                    continue;
+                }
+                let mut covered = Bdd::FALSE;
+                if let Some((_, rules)) = cell.rules {
+                    for &r in rules {
+                        let rule = &m.rules[r.index()];
+                        if rule.guard.is_false() {
+                            continue;
+                        }
+                        covered = bdd.or(covered, rule.guard);
+                        regions.push(Region {
+                            state: s,
+                            events: events.clone(),
+                            guards: to_cubes(&bdd, rule.guard),
+                            next: m.target_of(sid, r).index(),
+                            mealy: rule.mealy.iter().map(|o| o.index()).collect(),
+                            actions: m
+                                .transition_actions(sid, r)
+                                .iter()
+                                .map(|a| a.index())
+                                .collect(),
+                        });
+                    }
+                }
+                let rest = bdd.not(covered);
+                if !rest.is_false() {
+                    regions.push(Region {
+                        state: s,
+                        events,
+                        guards: to_cubes(&bdd, rest),
+                        next: s,
+                        mealy: Vec::new(),
+                        actions: Vec::new(),
+                    });
+                }
+            }
+        }
+        let moore: Vec<Vec<usize>> = m
+            .states
+            .iter()
+            .map(|st| st.moore.iter().map(|o| o.index()).collect())
+            .collect();
+        let mut mealy_output = vec![false; m.outputs.len()];
+        for r in &regions {
+            for &o in &r.mealy {
+                mealy_output[o] = true;
+            }
+        }
+        let adjacency = if n_states <= AUTO_MAX_STATES {
+            adjacency_weights(n_states, &regions, &moore)
+        } else {
+            Adjacency::new(0)
+        };
+        let names = |items: &[crate::model::Item]| -> Vec<String> {
+            items
+                .iter()
+                .map(|i| i.name.trim_start_matches("r#").to_string())
+                .collect()
+        };
+        Ok(LogicSpec {
+            name: m.name.clone(),
+            n_states,
+            start: m.start.index(),
+            n_events,
+            ev_bits,
+            inputs: names(&m.inputs),
+            outputs: names(&m.outputs),
+            actions: names(&m.actions),
+            moore,
+            mealy_output,
+            regions,
+            adjacency,
+        })
+    }
+
+    /// Whether output `o` depends on the event bus and inputs (some rule raises it).
+    pub fn is_mealy_output(&self, o: usize) -> bool {
+        self.mealy_output[o]
+    }
+
+    /// The Moore outputs of state `s`, ascending.
+    pub fn moore_of(&self, s: usize) -> &[usize] {
+        &self.moore[s]
+    }
+}
+
+/// The classic adjacency rules as weights: states with the same next state under the
+/// same event (weight 2 per shared successor), successors of one state (1 per pair),
+/// and states raising the same Moore output (1 per shared output).
+fn adjacency_weights(m: usize, regions: &[Region], moore: &[Vec<usize>]) -> Adjacency {
+    let mut adj = Adjacency::new(m);
+    let mut same_next: HashMap<(u64, usize), HashSet<usize>> = HashMap::new();
+    let mut succ: Vec<HashSet<usize>> = vec![HashSet::new(); m];
+    for r in regions {
+        for &e in &r.events {
+            same_next.entry((e, r.next)).or_default().insert(r.state);
+        }
+        succ[r.state].insert(r.next);
+    }
+    let pairs = |set: &HashSet<usize>, w: u32, adj: &mut Adjacency| {
+        let mut v: Vec<usize> = set.iter().copied().collect();
+        v.sort_unstable();
+        for (i, &a) in v.iter().enumerate() {
+            for &b in &v[i + 1..] {
+                adj.add(a, b, w);
+            }
+        }
+    };
+    for set in same_next.values() {
+        pairs(set, 2, &mut adj);
+    }
+    for set in &succ {
+        pairs(set, 1, &mut adj);
+    }
+    let n_out = moore.iter().flatten().copied().max().map_or(0, |x| x + 1);
+    for o in 0..n_out {
+        let set: HashSet<usize> = (0..m).filter(|&s| moore[s].contains(&o)).collect();
+        pairs(&set, 1, &mut adj);
+    }
+    adj
+}
+
+/// On and don't-care minterm lists of a function (disjoint).
+pub type Minterms = (Vec<u64>, Vec<u64>);
+
+/// Minimizes one function given as cube lists, tabulating it as minterms when small,
+/// and checks the cover against the on- and off-set.
+fn minimize_function(
+    vars: &[String],
+    on: &[Cube],
+    dc: &[Cube],
+) -> Result<(Option<Minterms>, Cover), String> {
+    let n = vars.len();
+    if n <= MINTERM_MAX_VARS {
+        let mut table = vec![0u8; 1usize << n];
+        for c in dc {
+            c.for_each_minterm(n, |x| table[x as usize] = 2);
+        }
+        for c in on {
+            c.for_each_minterm(n, |x| {
+                if table[x as usize] == 0 {
+                    table[x as usize] = 1;
+                }
+            });
+        }
+        let pick = |v: u8| -> Vec<u64> {
+            (0..table.len() as u64)
+                .filter(|&x| table[x as usize] == v)
+                .collect()
+        };
+        let f = Function {
+            vars: vars.to_vec(),
+            on: pick(1),
+            dc: pick(2),
+        };
+        let cover = if n <= EXACT_MAX_VARS {
+            minimize(&f)?
+        } else {
+            minimize_cubes(&CubeFunction {
+                vars: vars.to_vec(),
+                on: on.to_vec(),
+                dc: dc.to_vec(),
+            })?
+        };
+        check_cover(&f, &cover)?;
+        Ok((Some((f.on, f.dc)), cover))
+    } else {
+        let cf = CubeFunction {
+            vars: vars.to_vec(),
+            on: on.to_vec(),
+            dc: dc.to_vec(),
+        };
+        let cover = minimize_cubes(&cf)?;
+        check_cube_cover(&cf, &cover)?;
+        Ok((None, cover))
+    }
+}
+
+/// Minimizes the complement of a function (for NOR-NOR).
+fn minimize_complement(f: &LogicFunction) -> Result<Cover, String> {
+    let n = f.vars.len();
+    match &f.minterms {
+        Some((on, dc)) if n <= EXACT_MAX_VARS => {
+            let func = Function {
+                vars: f.vars.clone(),
+                on: on.clone(),
+                dc: dc.clone(),
+            };
+            let comp = func.complement()?;
+            let cover = minimize(&comp)?;
+            check_cover(&comp, &cover)?;
+            Ok(cover)
+        }
+        _ => {
+            let cf = CubeFunction {
+                vars: f.vars.clone(),
+                on: f.on_cubes.clone(),
+                dc: f.dc_cubes.clone(),
+            };
+            let comp = cf.complement()?;
+            let cover = minimize_cubes(&comp)?;
+            check_cube_cover(&comp, &cover)?;
+            Ok(cover)
+        }
+    }
+}
+
+/// Builds and minimizes every function of `spec` under `encoding` with flip-flop type
+/// `ff`; with `complements`, also the complement covers NOR-NOR needs. Every cover is
+/// checked to contain the on-set and avoid the off-set (an error otherwise).
+pub fn synthesize(
+    spec: &LogicSpec,
+    encoding: &Encoding,
+    ff: FlipFlop,
+    complements: bool,
+) -> Result<LogicDesign, String> {
+    let k = encoding.bits;
+    let b = spec.ev_bits;
+    let ni = spec.inputs.len();
+    let n = k + b + ni;
+    if n > 64 {
+        return Err(format!(
+            "{k} state bits + {b} event bits + {ni} inputs exceed the 64 variables the logic \
+             layer supports"
+        ));
+    }
+    if encoding.codes.len() != spec.n_states {
+        return Err(format!(
+            "the encoding has {} codes for {} states",
+            encoding.codes.len(),
+            spec.n_states
+        ));
+    }
+    let state_vars: Vec<String> = (0..k).rev().map(|j| format!("q{j}")).collect();
+    let mut pin_vars: Vec<String> = (0..b).rev().map(|j| format!("ev{j}")).collect();
+    pin_vars.extend(spec.inputs.iter().cloned());
+    let all_vars: Vec<String> = state_vars.iter().chain(pin_vars.iter()).cloned().collect();
+    let state_shift = b + ni;
+
+    // State cubes over the k state bits alone (shifted into place below).
+    let state_cube = |s: usize| -> Cube {
+        if encoding.is_one_hot() {
+            Cube::new(encoding.codes[s], encoding.codes[s])
+        } else {
+            Cube::new(encoding.codes[s], full_mask(k))
+        }
+    };
+    let mut state_dc: Vec<Cube> = Vec::new();
+    if encoding.is_one_hot() {
+        state_dc.push(Cube::new(0, full_mask(k)));
+        for i in 0..k {
+            for j in i + 1..k {
+                let c = (1u64 << i) | (1u64 << j);
+                state_dc.push(Cube::new(c, c));
+            }
+        }
+    } else {
+        state_dc.extend(
+            encoding
+                .unused_codes()
+                .into_iter()
+                .map(|c| Cube::new(c, full_mask(k))),
+        );
+    }
+    let lift = |c: &Cube, shift: usize| Cube::new(c.value << shift, c.care << shift);
+    let mut global_dc: Vec<Cube> = state_dc.iter().map(|c| lift(c, state_shift)).collect();
+    global_dc.extend(
+        range_cubes(spec.n_events as u64, 1u64 << b, b)
+            .iter()
+            .map(|c| lift(c, ni)),
+    );
+
+    let n_ff_inputs = ff.input_names().len();
+    let n_fns = k * n_ff_inputs + spec.outputs.len() + spec.actions.len();
+    let mut on: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
+    let mut dc: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
+    let ff_index = |bit: usize, input: usize| (k - 1 - bit) * n_ff_inputs + input;
+    let out_index = |o: usize| k * n_ff_inputs + o;
+    let act_index = |a: usize| k * n_ff_inputs + spec.outputs.len() + a;
+
+    for r in &spec.regions {
+        let sc = lift(&state_cube(r.state), state_shift);
+        let mut cubes = Vec::with_capacity(r.events.len() * r.guards.len());
+        for &e in &r.events {
+            let ec = Cube::new(e << ni, full_mask(b) << ni);
+            for g in &r.guards {
+                cubes.push(Cube::new(
+                    sc.value | ec.value | g.value,
+                    sc.care | ec.care | g.care,
+                ));
+            }
+        }
+        let (from, to) = (encoding.codes[r.state], encoding.codes[r.next]);
+        for bit in 0..k {
+            let need = ff.excitation(from >> bit & 1 == 1, to >> bit & 1 == 1);
+            for (input, e) in need.iter().enumerate() {
+                let idx = ff_index(bit, input);
+                match e {
+                    Excite::One => on[idx].extend_from_slice(&cubes),
+                    Excite::DontCare => dc[idx].extend_from_slice(&cubes),
+                    Excite::Zero => {}
+                }
+            }
+        }
+        for o in 0..spec.outputs.len() {
+            if spec.mealy_output[o] && (r.mealy.contains(&o) || spec.moore[r.state].contains(&o)) {
+                on[out_index(o)].extend_from_slice(&cubes);
+            }
+        }
+        let mut acts = r.actions.clone();
+        acts.sort_unstable();
+        acts.dedup();
+        for a in acts {
+            on[act_index(a)].extend_from_slice(&cubes);
+        }
+    }
+
+    let mut functions = Vec::with_capacity(n_fns);
+    for bit in (0..k).rev() {
+        for (input, iname) in ff.input_names().iter().enumerate() {
+            let idx = ff_index(bit, input);
+            functions.push((format!("{iname}{bit}"), Role::FlipFlop { bit, input }, idx));
+        }
+    }
+    for (o, name) in spec.outputs.iter().enumerate() {
+        functions.push((name.clone(), Role::Output(o), out_index(o)));
+    }
+    for (a, name) in spec.actions.iter().enumerate() {
+        functions.push((name.clone(), Role::Action(a), act_index(a)));
+    }
+    let mut out = Vec::with_capacity(n_fns);
+    for (name, role, idx) in functions {
+        let (vars, on_cubes, dc_cubes) = match role {
+            Role::Output(o) if !spec.mealy_output[o] => {
+                let on: Vec<Cube> = (0..spec.n_states)
+                    .filter(|&s| spec.moore[s].contains(&o))
+                    .map(state_cube)
+                    .collect();
+                (state_vars.clone(), on, state_dc.clone())
+            }
+            _ => {
+                let mut d = std::mem::take(&mut dc[idx]);
+                d.extend_from_slice(&global_dc);
+                (all_vars.clone(), std::mem::take(&mut on[idx]), d)
+            }
+        };
+        let (minterms, cover) = minimize_function(&vars, &on_cubes, &dc_cubes)
+            .map_err(|e| format!("function {name}: {e}"))?;
+        let mut f = LogicFunction {
+            name,
+            role,
+            vars,
+            on_cubes,
+            dc_cubes,
+            minterms,
+            cover,
+            complement: None,
+        };
+        if complements {
+            f.complement = Some(minimize_complement(&f)?);
+        }
+        out.push(f);
+    }
+    Ok(LogicDesign {
+        encoding: encoding.clone(),
+        flip_flop: ff,
+        state_vars,
+        pin_vars,
+        functions: out,
+    })
+}
+
+/// Cost of AND-OR sums of products, with the conventions of [`super::gates`]: true
+/// inputs only, one shared inverter per variable needed complemented, one AND per
+/// product of two or more literals (identical products shared), one OR per output of
+/// two or more products.
+pub fn sop_cost(covers: &[&Cover]) -> GateCost {
+    let mut cost = GateCost::default();
+    let mut need_inverted = 0u64;
+    let mut products: HashSet<Cube> = HashSet::new();
+    let mut total_products = 0usize;
+    for cover in covers {
+        if cover.cubes.is_empty() || cover.cubes.iter().any(|c| c.care == 0) {
+            continue;
+        }
+        for t in &cover.cubes {
+            cost.literals += t.literals();
+            need_inverted |= t.care & !t.value;
+            if t.literals() >= 2 {
+                total_products += 1;
+                if products.insert(*t) {
+                    cost.gates += 1;
+                    cost.gate_inputs += t.literals();
+                }
+            }
+        }
+        if cover.cubes.len() >= 2 {
+            cost.gates += 1;
+            cost.gate_inputs += cover.cubes.len();
+        }
+    }
+    cost.inverters = need_inverted.count_ones() as usize;
+    cost.gates += cost.inverters;
+    cost.gate_inputs += cost.inverters;
+    cost.shared_terms = total_products - products.len();
+    cost
+}
+
+impl LogicDesign {
+    /// Total literals of the sums of products.
+    pub fn literals(&self) -> usize {
+        self.functions.iter().map(|f| f.cover.literals).sum()
+    }
+
+    /// A cover moved into the full variable layout (state bits, pins), so products of
+    /// different functions compare and share.
+    fn lifted(&self, f: &LogicFunction, cover: &Cover) -> Cover {
+        let shift = self.state_vars.len() + self.pin_vars.len() - f.vars.len();
+        Cover {
+            cubes: cover
+                .cubes
+                .iter()
+                .map(|c| Cube::new(c.value << shift, c.care << shift))
+                .collect(),
+            literals: cover.literals,
+            method: cover.method,
+        }
+    }
+
+    /// Gate cost in a two-level form. NOR-NOR needs the complement covers
+    /// ([`synthesize`] with `complements`); without them it is an error.
+    pub fn cost(&self, map: Map) -> Result<GateCost, String> {
+        let covers: Vec<Cover> = match map {
+            Map::Sop | Map::Nand => self
+                .functions
+                .iter()
+                .map(|f| self.lifted(f, &f.cover))
+                .collect(),
+            Map::Nor => self
+                .functions
+                .iter()
+                .map(|f| {
+                    f.complement
+                        .as_ref()
+                        .map(|c| self.lifted(f, c))
+                        .ok_or_else(|| format!("no complement cover for {}", f.name))
+                })
+                .collect::<Result<_, _>>()?,
+        };
+        let refs: Vec<&Cover> = covers.iter().collect();
+        Ok(match map {
+            Map::Sop => sop_cost(&refs),
+            Map::Nand => two_level_cost(Form::NandNand, &refs),
+            Map::Nor => two_level_cost(Form::NorNor, &refs),
+        })
+    }
+}
+
+/// One row of the `auto` cost table.
+#[derive(Clone, Debug)]
+pub struct CostRow {
+    /// The encoding.
+    pub encoding: Encoding,
+    /// Flip-flops (state bits).
+    pub flip_flops: usize,
+    /// Literals of all sums of products.
+    pub literals: usize,
+    /// Gate cost in the chosen form.
+    pub cost: GateCost,
+}
+
+/// What the `auto` search did.
+#[derive(Clone, Debug)]
+pub struct AutoReport {
+    /// binary, gray, one-hot (up to 64 states) and the searched assignment.
+    pub rows: Vec<CostRow>,
+    /// Index of the chosen (cheapest) row.
+    pub chosen: usize,
+    /// Assignments costed by the search.
+    pub evaluated: u64,
+    /// Whether every assignment up to symmetry was tried.
+    pub exhaustive: bool,
+}
+
+/// Searches for a cheap state assignment and returns the cheapest design among binary,
+/// gray, one-hot and the searched assignment, by literal count (then gates, gate inputs
+/// and flip-flops), with the table of all four.
+///
+/// Up to [`EXHAUSTIVE_MAX_RAW`] raw assignments (8 states) every assignment up to
+/// symmetry ([`canonical_assignments`]) is costed by minimizing all functions; beyond,
+/// the adjacency heuristic ([`adjacency_assignment`], [`HEURISTIC_RESTARTS`] restarts)
+/// followed by a descent over pairwise code swaps costed exactly (at most
+/// [`HEURISTIC_SWAP_BUDGET`] evaluations). `progress(done, total)` is called after each
+/// costed assignment.
+pub fn auto_assign(
+    spec: &LogicSpec,
+    ff: FlipFlop,
+    map: Map,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<(LogicDesign, AutoReport), String> {
+    let m = spec.n_states;
+    let literal_cost = |codes: &[u64]| -> Result<usize, String> {
+        let enc = Encoding {
+            kind: EncodingKind::Searched,
+            bits: super::assign::dense_bits(m),
+            codes: codes.to_vec(),
+        };
+        Ok(synthesize(spec, &enc, ff, false)?.literals())
+    };
+    let raw = raw_assignment_count(m);
+    let exhaustive = raw <= EXHAUSTIVE_MAX_RAW;
+    let mut evaluated = 0u64;
+    let mut best: Option<(usize, Vec<u64>)> = None;
+    let mut failure: Option<String> = None;
+    if exhaustive {
+        let mut reps: Vec<Vec<u64>> = Vec::new();
+        canonical_assignments(m, spec.start, |codes| {
+            reps.push(codes.to_vec());
+            true
+        });
+        let total = reps.len() as u64;
+        for codes in reps {
+            match literal_cost(&codes) {
+                Ok(c) => {
+                    if best.as_ref().is_none_or(|(b, _)| c < *b) {
+                        best = Some((c, codes));
+                    }
+                }
+                Err(e) => failure = Some(e),
+            }
+            evaluated += 1;
+            progress(evaluated, total);
+        }
+    } else if m <= AUTO_MAX_STATES {
+        let pairs = (m * (m - 1) / 2) as u64;
+        let total = HEURISTIC_RESTARTS + HEURISTIC_SWAP_BUDGET.min(pairs);
+        for seed in 0..HEURISTIC_RESTARTS {
+            let codes = adjacency_assignment(&spec.adjacency, spec.start, seed);
+            let c = literal_cost(&codes)?;
+            if best.as_ref().is_none_or(|(b, _)| c < *b) {
+                best = Some((c, codes));
+            }
+            evaluated += 1;
+            progress(evaluated, total);
+        }
+        // Exact-cost descent: try swapping the codes of pairs of states, in order of
+        // the largest affinity first, keeping improvements, within the budget.
+        if let Some((mut cost, mut codes)) = best.take() {
+            let mut order: Vec<(u32, usize, usize)> = Vec::new();
+            for a in 0..m {
+                for b in a + 1..m {
+                    order.push((spec.adjacency.w[a * m + b], a, b));
+                }
+            }
+            order.sort_unstable_by(|x, y| y.cmp(x));
+            for &(_, a, b) in order.iter().take(HEURISTIC_SWAP_BUDGET as usize) {
+                codes.swap(a, b);
+                let c = literal_cost(&codes)?;
+                if c < cost {
+                    cost = c;
+                } else {
+                    codes.swap(a, b);
+                }
+                evaluated += 1;
+                progress(evaluated, total);
+            }
+            best = Some((cost, codes));
+        }
+    }
+    if let Some(e) = failure {
+        return Err(e);
+    }
+    let complements = map == Map::Nor;
+    let mut candidates = vec![Encoding::binary(m), Encoding::gray(m)];
+    if let Ok(oh) = Encoding::one_hot(m) {
+        candidates.push(oh);
+    }
+    if let Some((_, codes)) = best {
+        candidates.push(Encoding {
+            kind: EncodingKind::Searched,
+            bits: super::assign::dense_bits(m),
+            codes,
+        });
+    }
+    let mut rows = Vec::new();
+    let mut designs = Vec::new();
+    for enc in candidates {
+        let d = synthesize(spec, &enc, ff, complements)?;
+        rows.push(CostRow {
+            flip_flops: enc.bits,
+            literals: d.literals(),
+            cost: d.cost(map)?,
+            encoding: enc,
+        });
+        designs.push(d);
+    }
+    let chosen = (0..rows.len())
+        .min_by_key(|&i| {
+            let r = &rows[i];
+            (r.literals, r.cost.gates, r.cost.gate_inputs, r.flip_flops)
+        })
+        .unwrap_or(0);
+    let design = designs.swap_remove(chosen);
+    Ok((
+        design,
+        AutoReport {
+            rows,
+            chosen,
+            evaluated,
+            exhaustive,
+        },
+    ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn range_cubes_cover_exactly() {
+        for b in 0..6usize {
+            for lo in 0..=(1u64 << b) {
+                let cubes = range_cubes(lo, 1 << b, b);
+                for x in 0..1u64 << b {
+                    let n = cubes.iter().filter(|c| c.contains_minterm(x)).count();
+                    assert_eq!(n, usize::from(x >= lo), "b={b} lo={lo} x={x}");
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,618 @@
+//! Verilog (IEEE 1364-2005) from a [`LogicDesign`]: the machine as a module, and a
+//! self-checking testbench.
+//!
+//! The module registers the state bits and updates them from the minimized flip-flop
+//! input equations, so the equations themselves are what a simulator runs:
+//! D: `q <= D`; T: `q <= q ^ T`; JK: `q <= J & ~q | ~K & q`; SR: `q <= S | ~R & q`.
+//! The excitation never asks for `S = R = 1`; where the minimized S and R are both 1
+//! (only at don't-care points: unused codes, event codes `>= E`) the update above sets
+//! the bit (set wins). Reset is synchronous and active high, to the start state's code.
+//! Outputs and action pulses are combinational (Moore part of the current state, Mealy
+//! part and actions of the rule the current cycle takes). Each clock cycle is one step:
+//! one event on `ev` (or one tick of a clocked machine).
+//!
+//! Names: the ports `clk`, `rst`, `ev`, `state` are fixed; inputs, outputs and actions
+//! keep their spec names; a name that is a Verilog (or SystemVerilog) keyword becomes an
+//! escaped identifier (`\begin `); a spec name equal to a fixed port, or an output and an
+//! action of the same name, is an error. Generation is linear in the size of the covers
+//! (module) and in the number of steps (testbench).
+
+use super::assign::code_string;
+use super::equations::{LogicDesign, LogicSpec, Role};
+use super::excitation::FlipFlop;
+use super::Cover;
+use crate::check::to_snake;
+use crate::model::{EventId, Machine};
+use std::collections::HashSet;
+use std::fmt::Write;
+
+/// Reserved words of IEEE 1364-2005, plus the SystemVerilog ones most likely to meet a
+/// spec name (so that the files also read under SystemVerilog tools).
+const KEYWORDS: &[&str] = &[
+    "always",
+    "and",
+    "assign",
+    "automatic",
+    "begin",
+    "buf",
+    "bufif0",
+    "bufif1",
+    "case",
+    "casex",
+    "casez",
+    "cell",
+    "cmos",
+    "config",
+    "deassign",
+    "default",
+    "defparam",
+    "design",
+    "disable",
+    "edge",
+    "else",
+    "end",
+    "endcase",
+    "endconfig",
+    "endfunction",
+    "endgenerate",
+    "endmodule",
+    "endprimitive",
+    "endspecify",
+    "endtable",
+    "endtask",
+    "event",
+    "for",
+    "force",
+    "forever",
+    "fork",
+    "function",
+    "generate",
+    "genvar",
+    "highz0",
+    "highz1",
+    "if",
+    "ifnone",
+    "incdir",
+    "include",
+    "initial",
+    "inout",
+    "input",
+    "instance",
+    "integer",
+    "join",
+    "large",
+    "liblist",
+    "library",
+    "localparam",
+    "macromodule",
+    "medium",
+    "module",
+    "nand",
+    "negedge",
+    "nmos",
+    "nor",
+    "noshowcancelled",
+    "not",
+    "notif0",
+    "notif1",
+    "or",
+    "output",
+    "parameter",
+    "pmos",
+    "posedge",
+    "primitive",
+    "pull0",
+    "pull1",
+    "pulldown",
+    "pullup",
+    "pulsestyle_onevent",
+    "pulsestyle_ondetect",
+    "rcmos",
+    "real",
+    "realtime",
+    "reg",
+    "release",
+    "repeat",
+    "rnmos",
+    "rpmos",
+    "rtran",
+    "rtranif0",
+    "rtranif1",
+    "scalared",
+    "showcancelled",
+    "signed",
+    "small",
+    "specify",
+    "specparam",
+    "strong0",
+    "strong1",
+    "supply0",
+    "supply1",
+    "table",
+    "task",
+    "time",
+    "tran",
+    "tranif0",
+    "tranif1",
+    "tri",
+    "tri0",
+    "tri1",
+    "triand",
+    "trior",
+    "trireg",
+    "unsigned",
+    "use",
+    "uwire",
+    "vectored",
+    "wait",
+    "wand",
+    "weak0",
+    "weak1",
+    "while",
+    "wire",
+    "wor",
+    "xnor",
+    "xor",
+    // SystemVerilog
+    "bit",
+    "byte",
+    "int",
+    "logic",
+    "shortint",
+    "longint",
+    "string",
+    "type",
+    "enum",
+    "struct",
+    "union",
+    "class",
+    "final",
+    "return",
+    "break",
+    "continue",
+    "do",
+    "interface",
+    "package",
+    "program",
+    "property",
+    "sequence",
+    "assert",
+    "assume",
+    "cover",
+    "chandle",
+    "const",
+    "context",
+    "extends",
+    "import",
+    "export",
+    "local",
+    "new",
+    "null",
+    "priority",
+    "unique",
+    "void",
+    "virtual",
+    "static",
+    "super",
+    "this",
+    "bind",
+    "alias",
+    "clocking",
+];
+
+/// A Verilog identifier for a spec name: the name itself, or an escaped identifier
+/// (with its terminating space) when it is a keyword.
+fn ident(name: &str) -> String {
+    if KEYWORDS.contains(&name) {
+        format!("\\{name} ")
+    } else {
+        name.to_string()
+    }
+}
+
+/// The module name: the machine name in snake_case.
+pub fn module_name(machine: &str) -> String {
+    ident(&to_snake(machine.trim_start_matches("r#")))
+}
+
+/// One step a testbench drives.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum TbStep {
+    /// A reset pulse: one cycle with `rst` high; the state becomes the start state.
+    Reset,
+    /// One cycle: an event (0 for a clocked machine's `Tick`) and the input values.
+    Step {
+        /// The event number.
+        event: usize,
+        /// Input values by input number (missing ones read as 0).
+        inputs: Vec<bool>,
+    },
+}
+
+/// Names of the module's signals.
+struct Names {
+    inputs: Vec<String>,
+    outputs: Vec<String>,
+    actions: Vec<String>,
+    /// Internal wire per function, in `design.functions` order.
+    wires: Vec<String>,
+    reg: String,
+}
+
+fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
+    let mut used: HashSet<String> = ["clk", "rst", "ev", "state"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let mut claim = |kind: &str, name: &str| -> Result<String, String> {
+        if !used.insert(name.to_string()) {
+            return Err(format!(
+                "{kind} `{name}` has the same Verilog name as another port (`clk`, `rst`, \
+                 `ev`, `state`, or an input, output or action); rename it for the hardware port"
+            ));
+        }
+        Ok(ident(name))
+    };
+    let inputs = spec
+        .inputs
+        .iter()
+        .map(|n| claim("input", n))
+        .collect::<Result<Vec<_>, _>>()?;
+    let outputs = spec
+        .outputs
+        .iter()
+        .map(|n| claim("output", n))
+        .collect::<Result<Vec<_>, _>>()?;
+    let actions = spec
+        .actions
+        .iter()
+        .map(|n| claim("action", n))
+        .collect::<Result<Vec<_>, _>>()?;
+    let mut fresh = |base: String| -> String {
+        let mut name = base;
+        while KEYWORDS.contains(&name.as_str()) || !used.insert(name.clone()) {
+            name.push('_');
+        }
+        name
+    };
+    let reg = fresh("q".to_string());
+    let wires = design
+        .functions
+        .iter()
+        .map(|f| match f.role {
+            Role::FlipFlop { .. } => fresh(f.name.clone()),
+            Role::Output(o) => outputs[o].clone(),
+            Role::Action(a) => actions[a].clone(),
+        })
+        .collect();
+    Ok(Names {
+        inputs,
+        outputs,
+        actions,
+        wires,
+        reg,
+    })
+}
+
+/// A cover as a Verilog expression over `q[..]`, `ev[..]` and the input ports.
+fn expression(design: &LogicDesign, n: &Names, vars: usize, cover: &Cover) -> String {
+    let k = design.state_vars.len();
+    let b = design.pin_vars.len() - n.inputs.len();
+    let var = |i: usize| -> String {
+        if i < k {
+            format!("{}[{}]", n.reg, k - 1 - i)
+        } else if i < k + b {
+            format!("ev[{}]", b - 1 - (i - k))
+        } else {
+            n.inputs[i - k - b].clone()
+        }
+    };
+    if cover.cubes.is_empty() {
+        return "1'b0".to_string();
+    }
+    if cover.cubes.iter().any(|c| c.care == 0) {
+        return "1'b1".to_string();
+    }
+    let products: Vec<String> = cover
+        .cubes
+        .iter()
+        .map(|c| {
+            let lits: Vec<String> = (0..vars)
+                .filter(|&i| c.care >> (vars - 1 - i) & 1 == 1)
+                .map(|i| {
+                    if c.value >> (vars - 1 - i) & 1 == 1 {
+                        var(i)
+                    } else {
+                        format!("~{}", var(i))
+                    }
+                })
+                .collect();
+            if lits.len() > 1 && cover.cubes.len() > 1 {
+                format!("({})", lits.join(" & "))
+            } else {
+                lits.join(" & ")
+            }
+        })
+        .collect();
+    products.join(" | ")
+}
+
+/// The banner every generated file starts with.
+fn banner(out: &mut String, what: &str, spec: &LogicSpec, design: &LogicDesign, source: &str) {
+    let _ = writeln!(
+        out,
+        "// {what} for machine {}, generated by detent from {source}.\n\
+         // Do not edit: regenerate with `detent logic`.\n\
+         //\n\
+         // Caution: this is tool output, not a certified component. For safety functions,\n\
+         // follow the applicable functional-safety standard (IEC 61508 or your sector's)\n\
+         // and local codes, and have the design reviewed by qualified people.\n\
+         //\n\
+         // Encoding: {}, {} state bit(s); flip-flops: {}.",
+        spec.name,
+        design.encoding.kind.name(),
+        design.encoding.bits,
+        ff_name(design.flip_flop),
+    );
+}
+
+fn ff_name(ff: FlipFlop) -> &'static str {
+    match ff {
+        FlipFlop::D => "D",
+        FlipFlop::T => "T",
+        FlipFlop::JK => "JK",
+        FlipFlop::SR => "SR",
+    }
+}
+
+/// The module text. `state_names` label the codes in a comment; `source` names the spec
+/// file in the banner.
+pub fn generate_module(
+    spec: &LogicSpec,
+    design: &LogicDesign,
+    state_names: &[String],
+    source: &str,
+) -> Result<String, String> {
+    let n = names(spec, design)?;
+    let k = design.encoding.bits;
+    let b = spec.ev_bits;
+    let mut out = String::new();
+    banner(&mut out, "Verilog module", spec, design, source);
+    out.push_str("//\n// State codes (q");
+    let _ = writeln!(out, "{}..q0):", k - 1);
+    for (s, name) in state_names.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "//   {name} = {}'b{}",
+            k,
+            design.encoding.code_string(s)
+        );
+    }
+    out.push_str("\n`timescale 1ns / 1ps\n\n");
+    let mut ports = vec![
+        "    input  wire clk".to_string(),
+        "    input  wire rst".to_string(),
+    ];
+    if b > 0 {
+        ports.push(format!("    input  wire [{}:0] ev", b - 1));
+    }
+    for i in &n.inputs {
+        ports.push(format!("    input  wire {i}"));
+    }
+    for o in n.outputs.iter().chain(n.actions.iter()) {
+        ports.push(format!("    output wire {o}"));
+    }
+    ports.push(format!("    output wire [{}:0] state", k - 1));
+    let _ = writeln!(
+        out,
+        "module {} (\n{}\n);",
+        module_name(&spec.name),
+        ports.join(",\n")
+    );
+    let _ = writeln!(out, "    reg [{}:0] {};", k - 1, n.reg);
+    out.push_str("\n    // Flip-flop input equations.\n");
+    for (f, w) in design.functions.iter().zip(&n.wires) {
+        if let Role::FlipFlop { .. } = f.role {
+            let _ = writeln!(
+                out,
+                "    wire {w} = {};",
+                expression(design, &n, f.vars.len(), &f.cover)
+            );
+        }
+    }
+    out.push_str("\n    always @(posedge clk) begin\n        if (rst)\n");
+    let _ = writeln!(
+        out,
+        "            {} <= {}'b{};",
+        n.reg,
+        k,
+        design.encoding.code_string(spec.start)
+    );
+    out.push_str("        else begin\n");
+    for bit in (0..k).rev() {
+        let wire = |input: usize| -> &str {
+            let idx = design
+                .functions
+                .iter()
+                .position(|f| f.role == Role::FlipFlop { bit, input })
+                .unwrap_or(0);
+            &n.wires[idx]
+        };
+        let q = format!("{}[{bit}]", n.reg);
+        let next = match design.flip_flop {
+            FlipFlop::D => wire(0).to_string(),
+            FlipFlop::T => format!("{q} ^ {}", wire(0)),
+            FlipFlop::JK => format!("({} & ~{q}) | (~{} & {q})", wire(0), wire(1)),
+            FlipFlop::SR => format!("{} | (~{} & {q})", wire(0), wire(1)),
+        };
+        let _ = writeln!(out, "            {q} <= {next};");
+    }
+    out.push_str("        end\n    end\n");
+    out.push_str("\n    // Outputs (Moore part of the current state, Mealy part of the rule taken)\n    // and action pulses.\n");
+    for (f, w) in design.functions.iter().zip(&n.wires) {
+        if !matches!(f.role, Role::FlipFlop { .. }) {
+            let _ = writeln!(
+                out,
+                "    assign {w} = {};",
+                expression(design, &n, f.vars.len(), &f.cover)
+            );
+        }
+    }
+    let _ = writeln!(out, "    assign state = {};\nendmodule", n.reg);
+    Ok(out)
+}
+
+/// A self-checking testbench driving `steps` cycle by cycle: before each clock edge it
+/// compares `state`, every output and every action pulse with what the interpreter
+/// ([`Machine::step`]) computed for that step (embedded as constants), and after the
+/// last step the final state. It prints `PASS`, or the first mismatch as `MISMATCH
+/// cycle N signal S expected E got G`, then calls `$finish`. The trace starts with a
+/// reset pulse.
+pub fn generate_testbench(
+    m: &Machine,
+    spec: &LogicSpec,
+    design: &LogicDesign,
+    steps: &[TbStep],
+    source: &str,
+) -> Result<String, String> {
+    let n = names(spec, design)?;
+    let k = design.encoding.bits;
+    let b = spec.ev_bits;
+    let n_out = n.outputs.len() + n.actions.len();
+    let module = module_name(&spec.name);
+    let mut out = String::new();
+    banner(&mut out, "Self-checking testbench", spec, design, source);
+    out.push_str("\n`timescale 1ns / 1ps\n\n");
+    let tb_name = if module.ends_with(' ') {
+        format!("\\{}_tb ", module.trim().trim_start_matches('\\'))
+    } else {
+        format!("{module}_tb")
+    };
+    let _ = writeln!(out, "module {tb_name};");
+    out.push_str("    reg clk = 1'b0;\n    reg rst = 1'b1;\n");
+    if b > 0 {
+        let _ = writeln!(out, "    reg [{}:0] ev = {b}'d0;", b - 1);
+    }
+    for i in &n.inputs {
+        let _ = writeln!(out, "    reg {i} = 1'b0;");
+    }
+    for o in n.outputs.iter().chain(n.actions.iter()) {
+        let _ = writeln!(out, "    wire {o};");
+    }
+    let _ = writeln!(out, "    wire [{}:0] state;", k - 1);
+    let mut conns = vec![".clk(clk)".to_string(), ".rst(rst)".to_string()];
+    if b > 0 {
+        conns.push(".ev(ev)".to_string());
+    }
+    for s in n
+        .inputs
+        .iter()
+        .chain(n.outputs.iter())
+        .chain(n.actions.iter())
+    {
+        conns.push(format!(".{s}({s})"));
+    }
+    conns.push(".state(state)".to_string());
+    let _ = writeln!(out, "    {module} dut ({});\n", conns.join(", "));
+
+    // The check task: state, then each output and action by name.
+    out.push_str("    task check;\n        input integer cycle;\n");
+    let _ = writeln!(out, "        input [{}:0] exp_state;", k - 1);
+    if n_out > 0 {
+        let _ = writeln!(out, "        input [{}:0] exp_out;", n_out - 1);
+    }
+    out.push_str("        begin\n            if (state !== exp_state) begin\n");
+    out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
+    out.push_str("                $finish;\n            end\n");
+    for (i, (sig, label)) in n
+        .outputs
+        .iter()
+        .zip(spec.outputs.iter())
+        .chain(n.actions.iter().zip(spec.actions.iter()))
+        .enumerate()
+    {
+        let bit = n_out - 1 - i;
+        let _ = writeln!(
+            out,
+            "            if ({sig} !== exp_out[{bit}]) begin\n                \
+             $display(\"MISMATCH cycle %0d signal {label} expected %b got %b\", cycle, exp_out[{bit}], {sig});\n                \
+             $finish;\n            end"
+        );
+    }
+    out.push_str("        end\n    endtask\n\n");
+    out.push_str("    task check_state;\n        input integer cycle;\n");
+    let _ = writeln!(out, "        input [{}:0] exp_state;", k - 1);
+    out.push_str("        begin\n            if (state !== exp_state) begin\n");
+    out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
+    out.push_str("                $finish;\n            end\n        end\n    endtask\n\n");
+    out.push_str("    task tick;\n        begin\n            #4 clk = 1'b1;\n            #5 clk = 1'b0;\n        end\n    endtask\n\n");
+
+    out.push_str("    initial begin\n");
+    let start_code = design.encoding.code_string(spec.start);
+    let mut state = m.start;
+    let mut cycle = 0usize;
+    let emit_reset = |out: &mut String, cycle: &mut usize| {
+        *cycle += 1;
+        let _ = writeln!(
+            out,
+            "        // cycle {cycle}: reset\n        rst = 1'b1; #1; tick; rst = 1'b0; #1;\n        \
+             check_state({cycle}, {k}'b{start_code});"
+        );
+    };
+    emit_reset(&mut out, &mut cycle);
+    for step in steps {
+        match step {
+            TbStep::Reset => {
+                emit_reset(&mut out, &mut cycle);
+                state = m.start;
+            }
+            TbStep::Step { event, inputs } => {
+                if *event >= spec.n_events {
+                    return Err(format!("testbench step: event {event} out of range"));
+                }
+                cycle += 1;
+                let r = m.step(state, EventId::from_index(*event), inputs);
+                let from = design.encoding.code_string(state.index());
+                let mut expect = String::new();
+                for o in 0..spec.outputs.len() {
+                    let high = spec.moore_of(state.index()).contains(&o)
+                        || r.mealy.iter().any(|x| x.index() == o);
+                    expect.push(if high { '1' } else { '0' });
+                }
+                for a in 0..spec.actions.len() {
+                    let ran = r.actions.iter().any(|x| x.index() == a);
+                    expect.push(if ran { '1' } else { '0' });
+                }
+                let mut line = format!(
+                    "        // cycle {cycle}: {}\n        ",
+                    m.event_name(r.event)
+                );
+                if b > 0 {
+                    let _ = write!(line, "ev = {b}'d{event}; ");
+                }
+                for (i, name) in n.inputs.iter().enumerate() {
+                    let v = inputs.get(i).copied().unwrap_or(false);
+                    let _ = write!(line, "{name} = 1'b{}; ", u8::from(v));
+                }
+                line.push_str("#1; ");
+                if n_out > 0 {
+                    let _ = write!(
+                        line,
+                        "check({cycle}, {k}'b{from}, {n_out}'b{expect}); tick;"
+                    );
+                } else {
+                    let _ = write!(line, "check({cycle}, {k}'b{from}); tick;");
+                }
+                let _ = writeln!(out, "{line}");
+                state = r.to;
+            }
+        }
+    }
+    let _ = writeln!(
+        out,
+        "        #1; check_state({}, {k}'b{});\n        $display(\"PASS\");\n        $finish;\n    end\nendmodule",
+        cycle + 1,
+        code_string(design.encoding.codes[state.index()], k)
+    );
+    Ok(out)
+}

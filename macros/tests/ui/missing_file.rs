@@ -1,0 +1,4 @@
+#[detent::machine_file(file = "tests/ui/specs/no_such.detent")]
+mod lamp {}
+
+fn main() {}

@@ -1,0 +1,4 @@
+#[detent::machine_file(dispatch = "match")]
+mod lamp {}
+
+fn main() {}

@@ -1,0 +1,4 @@
+#[detent::machine_file(file = "tests/ui/specs/lamp.detent")]
+fn lamp() {}
+
+fn main() {}

@@ -1,0 +1,4 @@
+#[detent::machine_file(path = "tests/ui/specs/lamp.detent")]
+mod lamp {}
+
+fn main() {}

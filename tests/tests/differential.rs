@@ -1,0 +1,125 @@
+//! Differential test: the interpreter (the definition of meaning) against the
+//! generated Rust in every form: `gen rust` table and match styles, the inline macro
+//! and the file-form macro, on random machines (`build.rs`, fixed seeds) and random
+//! traces. At every step the state, the outputs, the actions run (in order) and
+//! whether the event was rejected must agree.
+
+use detent_compiler::check::check_source;
+use detent_compiler::interp::Outcome;
+use detent_compiler::model::{EventId, OutputId, StateId};
+use detent_tests::gen::{random_trace, Rng};
+
+/// What one step shows to the host.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Observed {
+    /// State number after the step.
+    pub state: usize,
+    /// Every output, in declaration order.
+    pub outputs: Vec<bool>,
+    /// `Err(Rejected)` from `step`.
+    pub rejected: bool,
+    /// Action numbers in the order they ran.
+    pub actions: Vec<usize>,
+}
+
+/// The test's `Hooks`: inputs from the trace step, actions recorded.
+#[derive(Default)]
+pub struct Recorder {
+    inputs: Vec<bool>,
+    actions: Vec<usize>,
+}
+
+impl Recorder {
+    fn begin(&mut self, inputs: &[bool]) {
+        self.inputs = inputs.to_vec();
+        self.actions.clear();
+    }
+    fn input(&mut self, i: usize) -> bool {
+        self.inputs.get(i).copied().unwrap_or(false)
+    }
+    fn action(&mut self, i: usize) {
+        self.actions.push(i);
+    }
+    fn take(&mut self) -> Vec<usize> {
+        std::mem::take(&mut self.actions)
+    }
+}
+
+/// Runs one form of a machine over a trace of (event number, input values).
+pub type Runner = fn(&[(usize, Vec<bool>)]) -> Vec<Observed>;
+
+/// A generated machine and its runners.
+pub struct Case {
+    name: &'static str,
+    spec: &'static str,
+    runners: &'static [(&'static str, Runner)],
+}
+
+include!(concat!(env!("OUT_DIR"), "/differential.rs"));
+
+fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
+    let report = check_source("case.detent", spec);
+    let m = report.machines.into_iter().find_map(|m| m.machine).unwrap();
+    let outputs = |set: &[OutputId]| -> Vec<bool> {
+        (0..m.outputs.len())
+            .map(|i| set.contains(&OutputId::from_index(i)))
+            .collect()
+    };
+    let mut state: StateId = m.start;
+    let mut out = vec![Observed {
+        state: state.index(),
+        outputs: outputs(&m.states[state.index()].moore),
+        rejected: false,
+        actions: vec![],
+    }];
+    for (e, ins) in trace {
+        let r = m.step(state, EventId::from_index(*e), ins);
+        state = r.to;
+        out.push(Observed {
+            state: r.to.index(),
+            outputs: outputs(&r.outputs()),
+            rejected: r.outcome == Outcome::Rejected,
+            actions: r.actions.iter().map(|a| a.index()).collect(),
+        });
+    }
+    out
+}
+
+#[test]
+fn generated_rust_agrees_with_the_interpreter() {
+    let mut steps = 0usize;
+    let mut moved = 0usize;
+    let mut rejected = 0usize;
+    let mut acted = 0usize;
+    for case in CASES {
+        let report = check_source("case.detent", case.spec);
+        let m = report.machines.into_iter().find_map(|m| m.machine).unwrap();
+        let mut rng = Rng::new(case.name.len() as u64 * 7919 + case.spec.len() as u64);
+        for t in 0..12 {
+            let trace = random_trace(&mut rng, m.events.len(), m.inputs.len(), 60);
+            let expected = interpret(case.spec, &trace);
+            for (form, run) in case.runners {
+                let got = run(&trace);
+                for (i, (g, x)) in got.iter().zip(&expected).enumerate() {
+                    assert_eq!(
+                        g, x,
+                        "{} ({form}), trace {t}, step {i} (trace {trace:?}):\n{}",
+                        case.name, case.spec
+                    );
+                }
+                assert_eq!(got.len(), expected.len());
+            }
+            for w in expected.windows(2) {
+                steps += 1;
+                moved += usize::from(w[0].state != w[1].state);
+                rejected += usize::from(w[1].rejected);
+                acted += usize::from(!w[1].actions.is_empty());
+            }
+        }
+    }
+    // The comparison means something only if the traces exercise the machines.
+    assert!(CASES.len() >= 24, "{} cases", CASES.len());
+    assert!(moved * 10 > steps, "{moved} of {steps} steps changed state");
+    assert!(rejected > 0, "no step was rejected");
+    assert!(acted * 10 > steps, "{acted} of {steps} steps ran actions");
+}
