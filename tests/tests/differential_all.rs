@@ -8,9 +8,11 @@
 //! trace from the start state and reports, after every step, the state number, every
 //! output, the actions in the order they ran, and whether the event was handled or
 //! rejected, as far as that back end can show them; every field must equal the
-//! interpreter's. Back ends covered: the C back end (through the C test harness of
+//! interpreter's. Back ends covered: C (through the C test harness of
 //! `detent_tests::c_harness`, built with gcc's address and undefined-behaviour
-//! sanitizers).
+//! sanitizers), Verilog under Icarus Verilog (the self-checking testbench of the hardware
+//! port), and the four Rust forms (`gen rust` table and match, inline and file-form
+//! macro) of the specs `tests/build.rs` compiles in, on which all six run together.
 //!
 //! The minimized machine (`detent_compiler::minimize::minimized_machine`) must behave
 //! like the original on every trace: the same outputs, actions and rejections at every
@@ -25,22 +27,27 @@
 
 use detent_compiler::check::check_source;
 use detent_compiler::emit::c::generate_c;
+use detent_compiler::logic::assign::Encoding;
+use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec};
+use detent_compiler::logic::excitation::FlipFlop;
+use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::minimize::equiv::equiv;
 use detent_compiler::minimize::{minimize, minimized_machine};
 use detent_compiler::model::{EventId, Machine, StateId};
 use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
-use detent_tests::c_harness::{build_harness, run_harness, Cmd};
+use detent_tests::c_harness::{build_harness, require_tool, run_harness, Cmd};
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
 use detent_tests::workspace_root;
 use std::path::{Path, PathBuf};
+use std::process::Command;
 
 /// A trace: (event number, input values) per step.
 type Trace = Vec<(usize, Vec<bool>)>;
 
 /// What one step shows to the host, as far as a back end can tell.
 #[derive(Clone, Debug, PartialEq, Eq)]
-struct Observed {
+struct Seen {
     /// State number after the step (declaration order).
     state: usize,
     /// Every output after the step, in declaration order.
@@ -63,7 +70,24 @@ struct Case {
 
 /// Runs one back end's build of a machine over traces.
 trait Runner {
-    fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String>;
+    fn run(&self, trace: &Trace) -> Result<Vec<Seen>, String>;
+
+    /// The first step where this back end disagrees with the interpreter on `trace`.
+    /// Back ends that check themselves (the Verilog testbench) override it.
+    fn check_trace(&self, m: &Machine, trace: &Trace) -> Option<(usize, String)> {
+        match self.run(trace) {
+            Ok(got) => first_difference(&interpret(m, trace), &got),
+            Err(e) => Some((0, format!("the back end failed: {e}"))),
+        }
+    }
+
+    /// The first (trace number, step) where it disagrees over several traces.
+    fn check_traces(&self, m: &Machine, traces: &[Trace]) -> Option<(usize, usize, String)> {
+        traces
+            .iter()
+            .enumerate()
+            .find_map(|(k, t)| self.check_trace(m, t).map(|(i, w)| (k, i, w)))
+    }
 }
 
 /// A back end: builds a runner for a machine in a scratch folder.
@@ -75,14 +99,14 @@ trait Backend: Sync {
 // ---------------------------------------------------------------------------------------
 // The reference
 
-fn interpret(m: &Machine, trace: &Trace) -> Vec<Observed> {
+fn interpret(m: &Machine, trace: &Trace) -> Vec<Seen> {
     let mut state: StateId = m.start;
     let mut out = Vec::with_capacity(trace.len());
     for (e, ins) in trace {
         let r = m.step(state, EventId(*e as u32), ins);
         state = r.to;
         let high = r.outputs();
-        out.push(Observed {
+        out.push(Seen {
             state: r.to.index(),
             outputs: (0..m.outputs.len())
                 .map(|i| high.iter().any(|o| o.index() == i))
@@ -120,7 +144,7 @@ impl Backend for CBackend {
 }
 
 impl Runner for CRunner {
-    fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String> {
+    fn run(&self, trace: &Trace) -> Result<Vec<Seen>, String> {
         let cmds: Vec<Cmd> = trace
             .iter()
             .map(|(e, ins)| Cmd::Step(*e as i64, ins.clone()))
@@ -152,7 +176,7 @@ impl Runner for CRunner {
                         .map(|a| a.parse().map_err(|_| format!("bad action in `{l}`")))
                         .collect::<Result<_, _>>()?
                 };
-                Ok(Observed {
+                Ok(Seen {
                     state,
                     outputs,
                     actions,
@@ -161,6 +185,155 @@ impl Runner for CRunner {
                 })
             })
             .collect()
+    }
+}
+
+// ---------------------------------------------------------------------------------------
+// Verilog under Icarus
+
+/// The hardware port: `logic`'s Verilog module with the self-checking testbench that
+/// `logic::verilog::generate_testbench` writes from the interpreter's expectations
+/// (the harness of `compiler/tests/logic_hw.rs`), run by Icarus Verilog. The encoding
+/// and flip-flop type vary by machine. Under `unhandled reject` the hardware ignores
+/// (LANGUAGE.md), which the testbench expects.
+struct VerilogBackend;
+
+struct VerilogRunner {
+    machine: Machine,
+    spec: LogicSpec,
+    design: LogicDesign,
+    module: String,
+    dir: PathBuf,
+}
+
+impl Backend for VerilogBackend {
+    fn name(&self) -> &'static str {
+        "Verilog"
+    }
+    fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String> {
+        let m = &case.machine;
+        let spec = LogicSpec::from_machine(m)?;
+        let n = m.states.len();
+        let pick = case.label.len() + m.states.len();
+        let encoding = match pick % 3 {
+            0 => Encoding::binary(n),
+            1 => Encoding::gray(n),
+            _ => Encoding::one_hot(n).unwrap_or_else(|_| Encoding::binary(n)),
+        };
+        let ff = FlipFlop::ALL[pick % 4];
+        let design = synthesize(&spec, &encoding, ff, false)?;
+        let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
+        let module = generate_module(&spec, &design, &names, &case.label)?;
+        std::fs::create_dir_all(dir).map_err(|e| e.to_string())?;
+        Ok(Box::new(VerilogRunner {
+            machine: m.clone(),
+            spec,
+            design,
+            module,
+            dir: dir.to_path_buf(),
+        }))
+    }
+}
+
+impl VerilogRunner {
+    /// Simulates the traces joined by reset pulses. `None` on PASS, else the cycle of
+    /// the first mismatch and the line that reports it.
+    fn simulate(&self, traces: &[Trace]) -> Result<Option<(usize, String)>, String> {
+        let mut steps = Vec::new();
+        for (k, t) in traces.iter().enumerate() {
+            if k > 0 {
+                steps.push(TbStep::Reset);
+            }
+            steps.extend(t.iter().map(|(event, inputs)| TbStep::Step {
+                event: *event,
+                inputs: inputs.clone(),
+            }));
+        }
+        let tb = generate_testbench(&self.machine, &self.spec, &self.design, &steps, "case")?;
+        let (v, t, exe) = (
+            self.dir.join("m.v"),
+            self.dir.join("m_tb.v"),
+            self.dir.join("m.vvp"),
+        );
+        std::fs::write(&v, &self.module).map_err(|e| e.to_string())?;
+        std::fs::write(&t, &tb).map_err(|e| e.to_string())?;
+        let out = Command::new(require_tool("iverilog")?)
+            .args(["-g2005", "-Wall", "-o"])
+            .arg(&exe)
+            .arg(&v)
+            .arg(&t)
+            .output()
+            .map_err(|e| format!("cannot run iverilog: {e}"))?;
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        if !out.status.success() || stderr.contains("warning") {
+            return Err(format!("iverilog: {stderr}"));
+        }
+        let run = Command::new(require_tool("vvp")?)
+            .arg("-n")
+            .arg(&exe)
+            .output()
+            .map_err(|e| format!("cannot run vvp: {e}"))?;
+        let printed = String::from_utf8_lossy(&run.stdout);
+        if printed.lines().any(|l| l.trim() == "PASS") {
+            return Ok(None);
+        }
+        // `MISMATCH cycle N signal ...`; cycle 1 is the first reset pulse.
+        let line = printed
+            .lines()
+            .find(|l| l.contains("MISMATCH"))
+            .ok_or_else(|| {
+                format!("the testbench printed neither PASS nor MISMATCH:\n{printed}")
+            })?;
+        let cycle: usize = line
+            .split_whitespace()
+            .nth(2)
+            .and_then(|c| c.parse().ok())
+            .ok_or_else(|| format!("cannot read `{line}`"))?;
+        Ok(Some((cycle, line.to_string())))
+    }
+}
+
+impl Runner for VerilogRunner {
+    fn run(&self, _trace: &Trace) -> Result<Vec<Seen>, String> {
+        Err("the Verilog testbench checks itself; use check_trace".into())
+    }
+
+    fn check_trace(&self, _m: &Machine, trace: &Trace) -> Option<(usize, String)> {
+        match self.simulate(std::slice::from_ref(trace)) {
+            Ok(None) => None,
+            Ok(Some((cycle, line))) => Some((
+                cycle.saturating_sub(2).min(trace.len().saturating_sub(1)),
+                line,
+            )),
+            Err(e) => Some((trace.len().saturating_sub(1), e)),
+        }
+    }
+
+    /// One simulation for all traces; the cycle of a mismatch names the trace and step
+    /// (the first trace starts at cycle 2, and each later one after a one-cycle reset).
+    fn check_traces(&self, m: &Machine, traces: &[Trace]) -> Option<(usize, usize, String)> {
+        match self.simulate(traces) {
+            Ok(None) => None,
+            Ok(Some((cycle, line))) => {
+                let mut at = 2;
+                for (k, t) in traces.iter().enumerate() {
+                    if cycle < at + t.len() {
+                        return Some((k, cycle.saturating_sub(at), line));
+                    }
+                    at += t.len() + 1;
+                }
+                let k = traces.len() - 1;
+                Some((k, traces[k].len().saturating_sub(1), line))
+            }
+            Err(e) => {
+                // Find the trace alone.
+                traces
+                    .iter()
+                    .enumerate()
+                    .find_map(|(k, t)| self.check_trace(m, t).map(|(i, w)| (k, i, w)))
+                    .or(Some((0, 0, e)))
+            }
+        }
     }
 }
 
@@ -303,7 +476,7 @@ fn traces_for(m: &Machine, seed: u64) -> Vec<(String, Trace)> {
 // Comparing and shrinking
 
 /// The first step where `got` and `want` differ, with a description.
-fn first_difference(want: &[Observed], got: &[Observed]) -> Option<(usize, String)> {
+fn first_difference(want: &[Seen], got: &[Seen]) -> Option<(usize, String)> {
     for (i, w) in want.iter().enumerate() {
         let Some(g) = got.get(i) else {
             return Some((i, format!("the back end stopped after {} steps", got.len())));
@@ -320,10 +493,7 @@ fn first_difference(want: &[Observed], got: &[Observed]) -> Option<(usize, Strin
 }
 
 fn disagrees(m: &Machine, runner: &dyn Runner, trace: &Trace) -> Option<(usize, String)> {
-    match runner.run(trace) {
-        Ok(got) => first_difference(&interpret(m, trace), &got),
-        Err(e) => Some((0, format!("the back end failed: {e}"))),
-    }
+    runner.check_trace(m, trace)
 }
 
 /// Cuts after the first differing step, then drops single steps while the back end
@@ -358,6 +528,31 @@ fn trace_text(m: &Machine, t: &Trace) -> String {
     s
 }
 
+/// Shrinks a disagreement and describes it as a spec and a `detent run` trace.
+fn report_failure(
+    backend: &str,
+    case: &Case,
+    runner: &dyn Runner,
+    what: &str,
+    trace: &Trace,
+    first: usize,
+    why: String,
+) -> String {
+    let m = &case.machine;
+    let small = shrink(m, runner, trace, first);
+    let why_small =
+        disagrees(m, runner, &small).map_or(why, |(k, w)| format!("at step {}: {w}", k + 1));
+    format!(
+        "{backend} disagrees with the interpreter on {} / {} ({what}, shrunk from {} to {} steps) {why_small}\n--- spec:\n{}\n--- trace:\n{}",
+        case.label,
+        m.name,
+        trace.len(),
+        small.len(),
+        case.spec,
+        trace_text(m, &small)
+    )
+}
+
 /// Figures of one run of the suite.
 #[derive(Default)]
 struct Figures {
@@ -385,7 +580,10 @@ fn check_backend(
                     break;
                 };
                 let Some(case) = case_of(label.clone(), spec.clone()).into_iter().nth(*k) else {
-                    failures.lock().unwrap().push(format!("{label}: machine {k} vanished"));
+                    failures
+                        .lock()
+                        .unwrap()
+                        .push(format!("{label}: machine {k} vanished"));
                     continue;
                 };
                 let case = &case;
@@ -409,25 +607,19 @@ fn check_backend(
                 };
                 let m = &case.machine;
                 let traces = traces_for(m, 0xD1FF + i as u64);
-                let mut steps = 0;
-                for (what, trace) in &traces {
-                    steps += trace.len();
-                    if let Some((first, why)) = disagrees(m, runner.as_ref(), trace) {
-                        let small = shrink(m, runner.as_ref(), trace, first);
-                        let why_small = disagrees(m, runner.as_ref(), &small)
-                            .map_or(why, |(k, w)| format!("at step {}: {w}", k + 1));
-                        failures.lock().unwrap().push(format!(
-                            "{} disagrees with the interpreter on {} / {} ({what}, shrunk from {} to {} steps) {why_small}\n--- spec:\n{}\n--- trace:\n{}",
-                            backend.name(),
-                            case.label,
-                            m.name,
-                            trace.len(),
-                            small.len(),
-                            case.spec,
-                            trace_text(m, &small)
-                        ));
-                        break;
-                    }
+                let steps: usize = traces.iter().map(|(_, t)| t.len()).sum();
+                let plain: Vec<Trace> = traces.iter().map(|(_, t)| t.clone()).collect();
+                if let Some((k, first, why)) = runner.check_traces(m, &plain) {
+                    let (what, trace) = &traces[k];
+                    failures.lock().unwrap().push(report_failure(
+                        backend.name(),
+                        case,
+                        runner.as_ref(),
+                        what,
+                        trace,
+                        first,
+                        why,
+                    ));
                 }
                 let _ = std::fs::remove_dir_all(&dir);
                 let mut f = figures.lock().unwrap();
@@ -476,13 +668,128 @@ fn c_agrees_with_the_interpreter_on_random_machines_and_traces() {
     assert_backend_agrees(&CBackend);
 }
 
+#[test]
+fn verilog_agrees_with_the_interpreter_on_random_machines_and_traces() {
+    assert_backend_agrees(&VerilogBackend);
+}
+
+// ---------------------------------------------------------------------------------------
+// Rust: the generated cases of tests/build.rs, where every back end runs together
+
+use detent_tests::rust_forms::{Observed, Recorder};
+
+#[allow(dead_code)] // the generated modules' API, only `step` and friends are called
+mod rust_cases {
+    //! `gen rust` table and match, the inline macro and the file-form macro of the
+    //! random specs that `tests/build.rs` generates (the Rust engineer's harness).
+    use detent_tests::rust_forms::Case;
+    include!(concat!(env!("OUT_DIR"), "/differential.rs"));
+}
+
+/// One Rust form as a [`Runner`]: the generated runner's first entry is step 0.
+struct RustForm(detent_tests::rust_forms::Runner);
+
+impl Runner for RustForm {
+    fn run(&self, trace: &Trace) -> Result<Vec<Seen>, String> {
+        let _ = Recorder::default(); // the generated hooks record into this type
+        Ok((self.0)(trace)
+            .into_iter()
+            .skip(1)
+            .map(|o: Observed| Seen {
+                state: o.state,
+                outputs: o.outputs,
+                actions: o.actions,
+                handled: None,
+                rejected: o.rejected,
+            })
+            .collect())
+    }
+}
+
+/// Every back end on the same machines and the same traces: the four Rust forms, C and
+/// Verilog, on each spec `tests/build.rs` compiled into this test.
+#[test]
+fn every_back_end_agrees_on_the_same_machines_and_traces() {
+    let (mut machines, mut traces_run, mut steps, mut runs) = (0usize, 0usize, 0usize, 0usize);
+    let mut failures = Vec::new();
+    for (i, rc) in rust_cases::CASES.iter().enumerate() {
+        let Some(case) = case_of(format!("{}.detent", rc.name), rc.spec.to_string())
+            .into_iter()
+            .next()
+        else {
+            panic!("{} has no machine", rc.name);
+        };
+        let m = &case.machine;
+        let mut runners: Vec<(String, Box<dyn Runner>)> = rc
+            .runners
+            .iter()
+            .map(|(form, run)| {
+                (
+                    format!("Rust {form}"),
+                    Box::new(RustForm(*run)) as Box<dyn Runner>,
+                )
+            })
+            .collect();
+        let backends: [&dyn Backend; 2] = [&CBackend, &VerilogBackend];
+        for b in backends {
+            let dir = std::env::temp_dir().join(format!(
+                "detent-all-{}-{}-{i}",
+                std::process::id(),
+                b.name()
+            ));
+            let _ = std::fs::remove_dir_all(&dir);
+            match b.build(&case, &dir) {
+                Ok(r) => runners.push((b.name().to_string(), r)),
+                Err(e) => failures.push(format!("{}: cannot build {}: {e}", b.name(), rc.name)),
+            }
+        }
+        let traces = traces_for(m, 0xA11 + i as u64);
+        let plain: Vec<Trace> = traces.iter().map(|(_, t)| t.clone()).collect();
+        for (name, r) in &runners {
+            runs += 1;
+            if let Some((k, first, why)) = r.check_traces(m, &plain) {
+                let (what, trace) = &traces[k];
+                failures.push(report_failure(
+                    name,
+                    &case,
+                    r.as_ref(),
+                    what,
+                    trace,
+                    first,
+                    why,
+                ));
+            }
+        }
+        machines += 1;
+        traces_run += traces.len();
+        steps += plain.iter().map(Vec::len).sum::<usize>();
+        for b in backends {
+            let _ = std::fs::remove_dir_all(std::env::temp_dir().join(format!(
+                "detent-all-{}-{}-{i}",
+                std::process::id(),
+                b.name()
+            )));
+        }
+    }
+    assert!(
+        failures.is_empty(),
+        "{} failures; the first:\n{}",
+        failures.len(),
+        failures[0]
+    );
+    println!(
+        "differential all back ends: {machines} machines x {} back ends ({runs} runs), {traces_run} traces, {steps} steps each, no disagreement",
+        runs / machines.max(1)
+    );
+}
+
 /// The harness itself: a back end that is wrong must be caught and shrunk.
 #[test]
 fn a_wrong_back_end_is_caught_and_its_trace_shrunk() {
     /// The interpreter, but from the 5th step on it reports a spurious action in state 1.
     struct Broken(Machine);
     impl Runner for Broken {
-        fn run(&self, trace: &Trace) -> Result<Vec<Observed>, String> {
+        fn run(&self, trace: &Trace) -> Result<Vec<Seen>, String> {
             let mut v = interpret(&self.0, trace);
             for (i, o) in v.iter_mut().enumerate() {
                 if i >= 4 && o.state == 1 {
