@@ -77,7 +77,49 @@ pub fn module_doc(m: &Machine) -> TokenStream {
 
 /// The items inside the generated module (without the `mod` around them), for front
 /// ends that place them in a module of their own, such as the file form of the macro.
+///
+/// Under `#[minimize]` the items are generated from the minimized machine
+/// ([`crate::minimize::minimized_machine`]): each class of equivalent states keeps the
+/// name of its first member in declaration order, and every other member becomes an
+/// associated constant of `State` naming that state (`State::Draining` then means
+/// `State::Pumping`), so code written against the spec's names still compiles.
+/// Unreachable states are dropped.
 pub fn machine_items(m: &Machine, style: DispatchStyle) -> TokenStream {
+    if !m.minimize {
+        return items_of(m, style);
+    }
+    let classes = crate::minimize::minimize(m);
+    let reduced = crate::minimize::minimized_machine(m);
+    let items = items_of(&reduced, style);
+    let aliases = classes.classes.iter().flat_map(|class| {
+        let rep = &m.states[class[0].index()].name;
+        let rep_ident = ident(rep);
+        class[1..].iter().map(move |s| {
+            let name = &m.states[s.index()].name;
+            let alias = ident(name);
+            let doc = format!(
+                "`{name}` has the same behaviour as `{rep}`: `#[minimize]` merged them."
+            );
+            quote! {
+                #[doc = #doc]
+                #[allow(non_upper_case_globals)]
+                pub const #alias: State = State::#rep_ident;
+            }
+        })
+    });
+    let aliases: Vec<TokenStream> = aliases.collect();
+    if aliases.is_empty() {
+        return items;
+    }
+    quote! {
+        #items
+        impl State {
+            #(#aliases)*
+        }
+    }
+}
+
+fn items_of(m: &Machine, style: DispatchStyle) -> TokenStream {
     let g = Gen::new(m);
     let types = g.types();
     let hooks = g.hooks();
