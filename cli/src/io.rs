@@ -184,3 +184,66 @@ pub fn out(line: impl std::fmt::Display) {
         std::process::exit(i32::from(USAGE));
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::write_atomic;
+    use std::path::PathBuf;
+
+    fn scratch(name: &str) -> PathBuf {
+        let dir = std::env::temp_dir().join(format!("detent-io-{}-{name}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        dir
+    }
+
+    fn names(dir: &std::path::Path) -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+
+    #[test]
+    fn replaces_the_whole_file_and_leaves_no_temp_file() {
+        let dir = scratch("replace");
+        let target = dir.join("out.txt");
+        std::fs::write(&target, "old old old old").unwrap();
+        write_atomic(&target, b"new").unwrap();
+        assert_eq!(std::fs::read(&target).unwrap(), b"new");
+        assert_eq!(names(&dir), vec!["out.txt".to_string()]);
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
+    fn a_temp_file_that_cannot_be_created_keeps_the_previous_file() {
+        let dir = scratch("no-temp");
+        let target = dir.join("out.txt");
+        std::fs::write(&target, "previous").unwrap();
+        // The temp file's name is taken by a folder, so creating it fails.
+        let tmp = dir.join(format!(".out.txt.detent-tmp-{}", std::process::id()));
+        std::fs::create_dir_all(&tmp).unwrap();
+        let e = write_atomic(&target, b"new").unwrap_err();
+        assert!(e.contains("cannot write") && e.contains("out.txt"), "{e}");
+        assert_eq!(std::fs::read_to_string(&target).unwrap(), "previous");
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
+    fn a_rename_that_fails_removes_the_temp_file() {
+        let dir = scratch("no-rename");
+        // The target is a non-empty folder: the rename over it fails after the temp file
+        // was written in full.
+        let target = dir.join("out.txt");
+        std::fs::create_dir_all(target.join("inside")).unwrap();
+        let e = write_atomic(&target, b"new").unwrap_err();
+        assert!(e.contains("out.txt"), "{e}");
+        assert_eq!(names(&dir), vec!["out.txt".to_string()]);
+        assert!(target.join("inside").is_dir());
+        // A path with no file name is refused before anything is written.
+        assert!(write_atomic(&dir.join(".."), b"x").is_err());
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+}

@@ -252,13 +252,19 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => {
-            // Flattened: `in G` is "in one of G's states".
-            let mut states = m.groups[g.index()].states.iter();
-            match states.next() {
-                None => Expr::Const(false, sp),
-                Some(&first) => states.fold(Expr::In(ident(m.state_name(first))), |acc, &s| {
-                    Expr::Or(Box::new(acc), Box::new(Expr::In(ident(m.state_name(s)))))
-                }),
+            // Flattened: `in G` is "in one of G's states", joined as a balanced tree so
+            // that printing a group of 65,535 states does not recurse 65,535 deep.
+            let states = &m.groups[g.index()].states;
+            if states.is_empty() {
+                Expr::Const(false, sp)
+            } else {
+                crate::syntax::parse::balanced(
+                    states
+                        .iter()
+                        .map(|&s| Expr::In(ident(m.state_name(s))))
+                        .collect(),
+                    Expr::Or,
+                )
             }
         }
         Prop::Const(b) => Expr::Const(*b, sp),

@@ -5,6 +5,7 @@ pub mod c_ffi;
 pub mod c_harness;
 pub mod gen;
 pub mod nostd;
+pub mod rust_forms;
 
 use std::path::{Path, PathBuf};
 

@@ -9,51 +9,8 @@ use detent_compiler::interp::Outcome;
 use detent_compiler::model::{EventId, OutputId, StateId};
 use detent_tests::gen::{random_trace, Rng};
 
-/// What one step shows to the host.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub struct Observed {
-    /// State number after the step.
-    pub state: usize,
-    /// Every output, in declaration order.
-    pub outputs: Vec<bool>,
-    /// `Err(Rejected)` from `step`.
-    pub rejected: bool,
-    /// Action numbers in the order they ran.
-    pub actions: Vec<usize>,
-}
-
-/// The test's `Hooks`: inputs from the trace step, actions recorded.
-#[derive(Default)]
-pub struct Recorder {
-    inputs: Vec<bool>,
-    actions: Vec<usize>,
-}
-
-impl Recorder {
-    fn begin(&mut self, inputs: &[bool]) {
-        self.inputs = inputs.to_vec();
-        self.actions.clear();
-    }
-    fn input(&mut self, i: usize) -> bool {
-        self.inputs.get(i).copied().unwrap_or(false)
-    }
-    fn action(&mut self, i: usize) {
-        self.actions.push(i);
-    }
-    fn take(&mut self) -> Vec<usize> {
-        std::mem::take(&mut self.actions)
-    }
-}
-
-/// Runs one form of a machine over a trace of (event number, input values).
-pub type Runner = fn(&[(usize, Vec<bool>)]) -> Vec<Observed>;
-
-/// A generated machine and its runners.
-pub struct Case {
-    name: &'static str,
-    spec: &'static str,
-    runners: &'static [(&'static str, Runner)],
-}
+// The types the generated cases use, shared with `differential_all.rs`.
+use detent_tests::rust_forms::{Case, Observed, Recorder};
 
 include!(concat!(env!("OUT_DIR"), "/differential.rs"));
 

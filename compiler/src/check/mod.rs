@@ -47,7 +47,26 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     let mut c = Checker { m, out: Vec::new() };
-    c.coverage_and_overlap();
+    // The exact checks, and the step table that the property checker, the tour and
+    // minimization build from the same guards, must fit the decision-diagram budget;
+    // past it their results would be meaningless.
+    let overflow = if c.coverage_and_overlap() {
+        Some("the coverage and overlap checks of this machine")
+    } else {
+        let mut probe = m.bdd.clone();
+        crate::model::steps::StepTable::build(m, &mut probe);
+        probe
+            .overflowed()
+            .then_some("the firing regions of this machine's rules")
+    };
+    if let Some(what) = overflow {
+        c.out.clear();
+        c.out.push(Diagnostic::name_error(
+            m.span,
+            crate::model::bdd_overflow_message(&m.name, what),
+        ));
+        return c.out;
+    }
     c.reachability();
     c.never_true_guards();
     c.unused_declarations();
@@ -136,7 +155,10 @@ impl Checker<'_> {
             .collect()
     }
 
-    fn coverage_and_overlap(&mut self) {
+    /// Returns true when the decision diagrams overflowed (see [`MAX_BDD_NODES`]).
+    ///
+    /// [`MAX_BDD_NODES`]: crate::model::bdd::MAX_BDD_NODES
+    fn coverage_and_overlap(&mut self) -> bool {
         let m = self.m;
         let mut bdd = m.bdd.clone();
         let mut reported_pairs: HashSet<(RuleId, RuleId)> = HashSet::new();
@@ -228,7 +250,11 @@ impl Checker<'_> {
                     self.emit(d, Site::State(s));
                 }
             }
+            if bdd.overflowed() {
+                break;
+            }
         }
+        bdd.overflowed()
     }
 
     fn reachability(&mut self) {

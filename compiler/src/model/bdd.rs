@@ -8,8 +8,18 @@
 //! equal functions have equal ids and equality is `==`. Operations are memoized
 //! per call (`apply` with a computed table); their recursion depth is bounded by
 //! the number of variables (at most 64).
+//!
+//! The size of a BDD depends on the variable order, and some guards have no small BDD
+//! in declaration order (`(a0 && b0) || (a1 && b1) || ...` with every `a` declared
+//! before every `b` needs 2^n nodes; Bryant 1986, section 3). So the store holds at most
+//! [`MAX_BDD_NODES`] nodes: past that every operation returns `FALSE` at once and
+//! [`BddStore::overflowed`] says so, and the resolver and the checker turn it into an
+//! error instead of running for hours and exhausting memory.
 
 use std::collections::HashMap;
+
+/// The most nodes one machine's store may hold (about 40 MB of table and hash index).
+pub const MAX_BDD_NODES: usize = 1 << 20;
 
 /// A node id in a [`BddStore`]. `FALSE` and `TRUE` are the terminals.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -52,6 +62,7 @@ enum Op {
 pub struct BddStore {
     nodes: Vec<Node>,
     unique: HashMap<Node, Bdd>,
+    overflowed: bool,
 }
 
 impl Default for BddStore {
@@ -71,7 +82,14 @@ impl BddStore {
         BddStore {
             nodes: vec![terminal(0), terminal(1)],
             unique: HashMap::new(),
+            overflowed: false,
         }
+    }
+
+    /// True once an operation needed more than [`MAX_BDD_NODES`] nodes; every result
+    /// computed since is meaningless (operations return `FALSE` at once).
+    pub fn overflowed(&self) -> bool {
+        self.overflowed
     }
 
     /// Number of nodes, terminals included.
@@ -91,6 +109,10 @@ impl BddStore {
         let node = Node { var, lo, hi };
         if let Some(&id) = self.unique.get(&node) {
             return id;
+        }
+        if self.nodes.len() >= MAX_BDD_NODES {
+            self.overflowed = true;
+            return Bdd::FALSE;
         }
         let id = Bdd(self.nodes.len() as u32);
         self.nodes.push(node);
@@ -123,6 +145,9 @@ impl BddStore {
     }
 
     fn not_rec(&mut self, a: Bdd, memo: &mut HashMap<Bdd, Bdd>) -> Bdd {
+        if self.overflowed {
+            return Bdd::FALSE;
+        }
         if a.is_false() {
             return Bdd::TRUE;
         }
@@ -159,6 +184,9 @@ impl BddStore {
     }
 
     fn apply(&mut self, op: Op, a: Bdd, b: Bdd, memo: &mut HashMap<(Bdd, Bdd), Bdd>) -> Bdd {
+        if self.overflowed {
+            return Bdd::FALSE;
+        }
         match op {
             Op::And => {
                 if a.is_false() || b.is_false() {
@@ -332,5 +360,32 @@ mod tests {
         assert!(s.len() <= 2 + 64 * 65 / 2, "{} nodes", s.len());
         assert!(s.eval(f, |_| true));
         assert!(!s.eval(f, |v| v != 63));
+    }
+
+    #[test]
+    fn a_function_with_no_small_bdd_in_this_order_overflows_instead_of_hanging() {
+        // (x0 && y0) || ... || (x23 && y23) with every x ordered before every y has
+        // 2^24 nodes (Bryant 1986); the store stops at MAX_BDD_NODES.
+        let mut s = BddStore::new();
+        let mut f = Bdd::FALSE;
+        for i in 0..24 {
+            let x = s.var(i);
+            let y = s.var(24 + i);
+            let both = s.and(x, y);
+            f = s.or(f, both);
+        }
+        assert!(s.overflowed());
+        assert!(s.len() <= MAX_BDD_NODES);
+        // Interleaved, the same function is a chain of 2 nodes per pair.
+        let mut t = BddStore::new();
+        let mut g = Bdd::FALSE;
+        for i in 0..24 {
+            let x = t.var(2 * i);
+            let y = t.var(2 * i + 1);
+            let both = t.and(x, y);
+            g = t.or(g, both);
+        }
+        assert!(!t.overflowed());
+        assert!(t.len() < 10_000, "{}", t.len());
     }
 }

@@ -13,7 +13,9 @@ mod resolve;
 pub mod steps;
 
 pub use bdd::{Bdd, BddStore};
-pub use resolve::{resolve, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES};
+pub use resolve::{
+    bdd_overflow_message, resolve, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES,
+};
 
 use crate::diag::Lint;
 use crate::syntax::ast::{DispatchStyle, LevelAttr, Policy, Vis};

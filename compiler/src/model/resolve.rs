@@ -6,6 +6,7 @@
 
 use super::*;
 use crate::diag::Diagnostic;
+use crate::model::bdd::MAX_BDD_NODES;
 use crate::syntax::ast::{self, Attr, Body, DeclKind, Expr, MachineAst, Member};
 use std::collections::HashMap;
 
@@ -70,6 +71,15 @@ struct Resolver<'a> {
     rules: Vec<Rule>,
     bdd: BddStore,
     clocked: bool,
+}
+
+/// The error for a machine whose guards need more than [`MAX_BDD_NODES`] nodes.
+pub fn bdd_overflow_message(machine: &str, what: &str) -> String {
+    format!(
+        "machine `{machine}`: {what} need more than {MAX_BDD_NODES} decision-diagram nodes \
+         (the limit); guards are ordered by input declaration, so declare inputs that a \
+         guard combines next to each other in `inputs`, or split the guard"
+    )
 }
 
 /// Resolves one machine.
@@ -306,6 +316,12 @@ impl<'a> Resolver<'a> {
         }
         self.lint_attrs(&ast.attrs, &mut lints);
 
+        if self.bdd.overflowed() {
+            self.err(
+                ast.name.span,
+                bdd_overflow_message(&ast.name.name, "the guards of this machine"),
+            );
+        }
         if !self.errors.is_empty() {
             return Err(self.errors);
         }

@@ -721,13 +721,12 @@ fn parse_expr(
     depth: usize,
     terms: &mut usize,
 ) -> syn::Result<Expr> {
-    let mut left = parse_and(input, props, depth, terms)?;
+    let mut operands = vec![parse_and(input, props, depth, terms)?];
     while input.peek(Token![||]) {
         input.parse::<Token![||]>()?;
-        let right = parse_and(input, props, depth, terms)?;
-        left = Expr::Or(Box::new(left), Box::new(right));
+        operands.push(parse_and(input, props, depth, terms)?);
     }
-    Ok(left)
+    Ok(balanced(operands, Expr::Or))
 }
 
 fn parse_and(
@@ -736,13 +735,28 @@ fn parse_and(
     depth: usize,
     terms: &mut usize,
 ) -> syn::Result<Expr> {
-    let mut left = parse_not(input, props, depth, terms)?;
+    let mut operands = vec![parse_not(input, props, depth, terms)?];
     while input.peek(Token![&&]) {
         input.parse::<Token![&&]>()?;
-        let right = parse_not(input, props, depth, terms)?;
-        left = Expr::And(Box::new(left), Box::new(right));
+        operands.push(parse_not(input, props, depth, terms)?);
     }
-    Ok(left)
+    Ok(balanced(operands, Expr::And))
+}
+
+/// Joins a chain `x1 op x2 op ... op xn` of one associative operator as a balanced tree,
+/// in order, so that its depth is log2(n) and not n: every pass that recurses over
+/// expressions (resolver, checker, printer) then needs little stack even for
+/// [`MAX_TERMS`] operands. Chains of up to three keep the left-nested shape
+/// (`(x1 op x2) op x3`); the printer writes every shape the same way.
+pub(crate) fn balanced(mut operands: Vec<Expr>, join: fn(Box<Expr>, Box<Expr>) -> Expr) -> Expr {
+    if operands.len() == 1 {
+        return operands.remove(0);
+    }
+    let right = operands.split_off(operands.len().div_ceil(2));
+    join(
+        Box::new(balanced(operands, join)),
+        Box::new(balanced(right, join)),
+    )
 }
 
 fn parse_not(
