@@ -179,12 +179,17 @@ fn parse_file(tokens: TokenStream) -> syn::Result<File> {
         let (attrs, vis, name) = parse_machine_header.parse2(header.into_iter().collect())?;
         let mut decls = Vec::new();
         let mut members = Vec::new();
-        for item in split_items(body.stream()) {
+        // Take the body's tokens out of the group so they are not shared (a shared
+        // stream is copied when iterated), and free each item once parsed.
+        let close = body.span_close();
+        let stream = body.stream();
+        drop(body);
+        for item in split_items(stream) {
             if let Some((head, inner)) = group_item(&item) {
                 members.push(parse_group_item(head, inner, 0)?);
                 continue;
             }
-            in_scope(item, body.span_close(), |content| {
+            in_scope(item, close, |content| {
                 while !content.is_empty() {
                     let item_attrs = parse_attrs(content, false)?;
                     if let Some(decl) = try_parse_decl(content)? {
@@ -314,12 +319,15 @@ fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result
     .parse2(head)?;
     let mut rules = Vec::new();
     let mut members = Vec::new();
-    for item in split_items(body.stream()) {
+    let close = body.span_close();
+    let stream = body.stream();
+    drop(body);
+    for item in split_items(stream) {
         if let Some((head, inner)) = group_item(&item) {
             members.push(parse_group_item(head, inner, depth + 1)?);
             continue;
         }
-        in_scope(item, body.span_close(), |content| {
+        in_scope(item, close, |content| {
             group_content(content, depth, &mut rules, &mut members)
         })?;
     }
