@@ -27,6 +27,14 @@
 //!
 //! Guard expressions are emitted as written, after folding constants (`a && true` is
 //! `a`); a guard that folds to `false` never fires, as its BDD says, and is left out.
+//!
+//! The output is clean under `clippy::pedantic` (`tests/tests/generated_hygiene.rs`):
+//! `#[must_use]` accessors, `# Errors` sections, `From` widening, no repeated match arms.
+//! Where a lint does not fit generated code, the one item carries an
+//! `#[allow(clippy::..., reason = "...")]`: `struct_excessive_bools` on `Outputs`,
+//! `too_many_lines` on functions as long as the spec (only when they are),
+//! `trivially_copy_pass_by_ref` on the `&self` accessors of the API and
+//! `unnecessary_wraps` on the `step` of a machine that never rejects.
 
 use crate::check::to_snake;
 use crate::model::{ActionId, Guard, Machine, OutputId, RuleId, StateId, Target};
@@ -304,8 +312,8 @@ fn long_fn_allow(lines: usize, reason: &str) -> TokenStream {
 }
 
 /// An upper estimate of the lines prettyplease gives `tokens`: one per `;`, `,`, `|` and
-/// `=>`, and two per `{ .. }` block (its first and last line). Nearly every formatted
-/// line ends at one of these, and many hold more than one, so this overcounts.
+/// `>` (of `=>`), and two per `{ .. }` block (its first and last line). Nearly every
+/// formatted line ends at one of these, and many hold more than one, so this overcounts.
 fn line_estimate(tokens: &TokenStream) -> usize {
     tokens
         .clone()
@@ -610,15 +618,15 @@ impl<'a> Gen<'a> {
             "The output lines of `{name}` after a step: the Moore outputs of the state \
              together with the Mealy outputs of the rule taken."
         ));
-        // Clippy's `struct_excessive_bools` (pedantic, more than 3 `bool` fields by
-        // default) suggests enums or a state machine; these fields are the spec's
-        // declared output lines, each one a pin that is on or off, so the lint does not
-        // fit. Allowed on this one struct, with the reason in the attribute.
         // `name` is a `match` with one line per variant inside `match self { .. }`.
         let state_name_allow =
             long_fn_allow(m.states.len() + 2, "one match arm per state of the spec");
         let event_name_allow =
             long_fn_allow(m.events.len() + 2, "one match arm per event of the spec");
+        // Clippy's `struct_excessive_bools` (pedantic, more than 3 `bool` fields by
+        // default) suggests enums or a state machine; these fields are the spec's
+        // declared output lines, each one a pin that is on or off, so the lint does not
+        // fit. Allowed on this one struct, with the reason in the attribute.
         let bools_allow = if m.outputs.len() > 3 {
             quote! {
                 #[allow(
@@ -771,7 +779,7 @@ impl<'a> Gen<'a> {
         });
         // `InvalidState` carries a `u16`: widen a `u8` with `From` (not `as`), and pass
         // a `u16` as it is.
-        let raw_u16 = if m.states.len() <= 256 {
+        let invalid_fields = if m.states.len() <= 256 {
             quote!(raw: u16::from(raw))
         } else {
             quote!(raw)
@@ -813,7 +821,7 @@ impl<'a> Gen<'a> {
                 pub fn restore(raw: #state_ty) -> Result<Self, ::detent::InvalidState> {
                     match State::from_raw(raw) {
                         Some(state) => Ok(Machine { state }),
-                        None => Err(::detent::InvalidState { #raw_u16 }),
+                        None => Err(::detent::InvalidState { #invalid_fields }),
                     }
                 }
             }
@@ -1034,15 +1042,15 @@ impl<'a> Gen<'a> {
             outputs_lines,
             "one match arm per group of states with the same Moore outputs",
         );
-        // A machine without guards or actions (or without rules) leaves a parameter
-        // unused: name it `_x` then, so the code builds warning-free.
+        let state_arms: Vec<TokenStream> = state_arms.collect();
+        let arms = quote!(#(#state_arms)*);
         // Clippy's `too_many_lines` (pedantic, 100 lines) would count the spec here: the
         // body is the whole transition table written out, and splitting it into
         // functions would only add calls to the hot path. A long `step` gets the allow,
         // reason given.
-        let state_arms: Vec<TokenStream> = state_arms.collect();
-        let arms = quote!(#(#state_arms)*);
         let step_attrs = self.step_attrs(line_estimate(&arms) + 2);
+        // A machine without guards or actions (or without rules) leaves a parameter
+        // unused: name it `_x` then, so the code builds warning-free.
         let hooks_param = param("hooks", uses_ident(&arms, "hooks"));
         let event_param = param("event", uses_ident(&arms, "event"));
         quote! {
@@ -1377,7 +1385,6 @@ impl<'a> Gen<'a> {
         let step_doc = self.step_doc();
         let step_attrs = self.step_attrs(0);
         let by_ref_allow = by_ref_allow();
-        let outputs_len_allow = quote!();
         let unhandled = self.unhandled();
         let hooks_param = param("hooks", has_guards || has_actions);
         quote! {
@@ -1402,7 +1409,6 @@ impl<'a> Gen<'a> {
                 /// The Moore outputs of the current state.
                 #[must_use]
                 #by_ref_allow
-                #outputs_len_allow
                 pub fn outputs(&self) -> Outputs {
                     #outputs_body
                 }
