@@ -17,7 +17,7 @@ use detent_compiler::emit::rust::generate_file;
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::{DispatchStyle, Vis};
 use detent_tests::gen::{random_spec, GenConfig};
-use detent_tests::workspace_root;
+use detent_tests::{spec_files, workspace_root};
 use std::process::Command;
 
 /// The machines of one spec text, which must check without errors.
@@ -35,14 +35,7 @@ fn machines_of(name: &str, text: &str) -> Vec<Machine> {
 fn spec_machines() -> Vec<(String, Vec<Machine>)> {
     let mut out = Vec::new();
     for dir in ["examples", "tests/specs"] {
-        let mut files: Vec<_> = std::fs::read_dir(workspace_root().join(dir))
-            .unwrap()
-            .flatten()
-            .map(|e| e.path())
-            .filter(|p| p.extension().is_some_and(|x| x == "detent"))
-            .collect();
-        files.sort();
-        for f in files {
+        for f in spec_files(dir) {
             let name = f.file_name().unwrap().to_string_lossy().into_owned();
             let machines = machines_of(&name, &std::fs::read_to_string(&f).unwrap());
             out.push((name, machines));
