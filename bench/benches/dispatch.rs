@@ -1,0 +1,172 @@
+//! The dispatch benchmark: ns per event of `step` for detent's table and match styles
+//! and a hand-written `match` of the same machine, at 4, 50 and 1,000 states, on a
+//! precomputed buffer of random events and input levels (fixed seed, so no RNG cost is
+//! measured). Every step's result goes through `black_box`; each pass starts from the
+//! start state, so every form does the same work.
+//!
+//! Two parts in one run:
+//!
+//! 1. criterion, one group per size (`dispatch/<size>`), the three forms back to back,
+//!    throughput in events;
+//! 2. an interleaved pass (`DISPATCH_ROUNDS` rounds, default 60): each round times
+//!    every (size, form) once, in a rotating order, so the forms share the machine's
+//!    load; it prints the median ns/event per form and the median over rounds of the
+//!    per-round ratio generated / hand-written, with its quartiles.
+//!
+//! `cargo bench -p detent-bench --bench dispatch`; BENCHMARKS.md ("Dispatch") has the
+//! results.
+
+use criterion::{black_box, Criterion, Throughput};
+use detent_bench::{event_buffer, random_events, run, Variant};
+use std::time::{Duration, Instant};
+
+/// Events per pass: long enough that the branch predictor cannot learn the sequence.
+const EVENTS: usize = 16_384;
+/// Seed of the event buffers.
+const SEED: u64 = 0xD15_BA7C;
+
+/// One (size, form) as something to time.
+struct Case {
+    size: &'static str,
+    form: &'static str,
+    pass: Box<dyn Fn() -> u32>,
+}
+
+fn case<V: Variant + 'static>(size: &'static str, events: usize, inputs: usize) -> Case {
+    let buffer = event_buffer::<V>(&random_events(SEED, events, inputs, EVENTS));
+    Case {
+        size,
+        form: V::FORM,
+        pass: Box::new(move || run::<V>(black_box(&buffer))),
+    }
+}
+
+fn cases() -> Vec<Case> {
+    use detent_bench::{large, medium, small};
+    vec![
+        case::<small::hand::V>("small", small::EVENTS, small::INPUTS),
+        case::<small::table::V>("small", small::EVENTS, small::INPUTS),
+        case::<small::matched::V>("small", small::EVENTS, small::INPUTS),
+        case::<medium::hand::V>("medium", medium::EVENTS, medium::INPUTS),
+        case::<medium::table::V>("medium", medium::EVENTS, medium::INPUTS),
+        case::<medium::matched::V>("medium", medium::EVENTS, medium::INPUTS),
+        case::<large::hand::V>("large", large::EVENTS, large::INPUTS),
+        case::<large::table::V>("large", large::EVENTS, large::INPUTS),
+        case::<large::matched::V>("large", large::EVENTS, large::INPUTS),
+    ]
+}
+
+const SIZES: [&str; 3] = ["small", "medium", "large"];
+const FORMS: [&str; 3] = ["hand", "table", "matched"];
+
+fn criterion_part(c: &mut Criterion, cases: &[Case]) {
+    for size in SIZES {
+        let mut group = c.benchmark_group(format!("dispatch/{size}"));
+        group.throughput(Throughput::Elements(EVENTS as u64));
+        for case in cases.iter().filter(|k| k.size == size) {
+            group.bench_function(case.form, |b| b.iter(|| (case.pass)()));
+        }
+        group.finish();
+    }
+}
+
+fn quantile(sorted: &[f64], q: f64) -> f64 {
+    let at = ((sorted.len() - 1) as f64 * q).round() as usize;
+    sorted[at]
+}
+
+fn interleaved_part(cases: &[Case], rounds: usize) {
+    // Passes per timing: about a millisecond each.
+    let passes = 8;
+    let mut times = vec![Vec::with_capacity(rounds); cases.len()];
+    for case in cases {
+        black_box((case.pass)());
+    }
+    for round in 0..rounds {
+        for k in 0..cases.len() {
+            let i = (k + round) % cases.len();
+            let start = Instant::now();
+            for _ in 0..passes {
+                black_box((cases[i].pass)());
+            }
+            let ns = start.elapsed().as_nanos() as f64 / (passes * EVENTS) as f64;
+            times[i].push(ns);
+        }
+    }
+    println!();
+    println!(
+        "interleaved: {rounds} rounds x {passes} passes x {EVENTS} events per (size, form)"
+    );
+    println!(
+        "| size | hand ns/event | table ns/event | match ns/event | table / hand (q1-q3) | match / hand (q1-q3) |"
+    );
+    println!("|---|---:|---:|---:|---:|---:|");
+    for size in SIZES {
+        let of = |form: &str| {
+            cases
+                .iter()
+                .position(|c| c.size == size && c.form == form)
+                .expect("every form of every size")
+        };
+        let [h, t, m] = FORMS.map(of);
+        let median = |i: usize| {
+            let mut v = times[i].clone();
+            v.sort_by(f64::total_cmp);
+            quantile(&v, 0.5)
+        };
+        let ratio = |i: usize| {
+            let mut r: Vec<f64> = times[i]
+                .iter()
+                .zip(&times[h])
+                .map(|(g, b)| g / b)
+                .collect();
+            r.sort_by(f64::total_cmp);
+            format!(
+                "{:.2}x ({:.2}-{:.2})",
+                quantile(&r, 0.5),
+                quantile(&r, 0.25),
+                quantile(&r, 0.75)
+            )
+        };
+        println!(
+            "| {size} | {:.2} | {:.2} | {:.2} | {} | {} |",
+            median(h),
+            median(t),
+            median(m),
+            ratio(t),
+            ratio(m)
+        );
+    }
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().collect();
+    let quick = args.iter().any(|a| a == "--test" || a == "--list");
+    let cases = cases();
+    // The forms must agree (tests/agree.rs checks it step by step); a cheap guard here
+    // too: the same action checksum over the buffer.
+    for size in SIZES {
+        let sums: Vec<u32> = cases
+            .iter()
+            .filter(|c| c.size == size)
+            .map(|c| (c.pass)())
+            .collect();
+        assert!(
+            sums.windows(2).all(|w| w[0] == w[1]),
+            "{size}: the forms disagree"
+        );
+    }
+    let mut c = Criterion::default()
+        .warm_up_time(Duration::from_secs(2))
+        .measurement_time(Duration::from_secs(4))
+        .configure_from_args();
+    criterion_part(&mut c, &cases);
+    c.final_summary();
+    if !quick {
+        let rounds = std::env::var("DISPATCH_ROUNDS")
+            .ok()
+            .and_then(|r| r.parse().ok())
+            .unwrap_or(60);
+        interleaved_part(&cases, rounds);
+    }
+}
