@@ -9,8 +9,8 @@
 //! out where the transition runs them, as a person does for a flat machine), sets the
 //! rule's Mealy flags and yields the next state; after the match the state is stored
 //! and the outputs are the new state's Moore outputs (`fn outputs`, a `match` on the
-//! state) or'ed with the Mealy flags. Arms with the same body share one pattern, as a
-//! person writes inherited rules: `(State::A | State::B, Event::X) => ..`.
+//! state) or'ed with the Mealy flags. One arm per state and distinct body, the events
+//! sharing a body in one pattern: `(State::A, Event::X | Event::Y) => ..`.
 //!
 //! The meaning is detent's: the rules of the innermost scope naming the event, the
 //! first whose guard holds, the actions of `transition_actions`, `stay` keeping the
@@ -281,26 +281,39 @@ fn step_fn(m: &Machine) -> String {
         Policy::Reject => "return Err(Rejected);",
         _ => "return Ok(self.outputs());",
     };
-    // Arm bodies in first-seen order, each with the (state, event) cells it serves.
-    let mut arms: Vec<(String, Vec<(usize, usize)>)> = Vec::new();
+    // One arm per state and body, the events with that body sharing its pattern:
+    // `(State::A, Event::X | Event::Y) => ..`, `(State::A, _)` when all events do.
+    let mut arms: Vec<(String, String)> = Vec::new();
     let mut any_unhandled = false;
     for si in 0..m.states.len() {
         let s = StateId::from_index(si);
+        let mut bodies: Vec<(String, Vec<usize>)> = Vec::new();
         for e in 0..m.events.len() {
             let body = m
                 .rules_for(s, EventId::from_index(e))
                 .and_then(|(_, rules)| cell_body(m, s, rules, unhandled));
             match body {
                 None => any_unhandled = true,
-                Some(body) => match arms.iter_mut().find(|(b, _)| *b == body) {
-                    Some((_, cells)) => cells.push((si, e)),
-                    None => arms.push((body, vec![(si, e)])),
+                Some(body) => match bodies.iter_mut().find(|(b, _)| *b == body) {
+                    Some((_, es)) => es.push(e),
+                    None => bodies.push((body, vec![e])),
                 },
             }
         }
+        for (body, es) in bodies {
+            let events: Vec<String> = if es.len() == m.events.len() {
+                vec!["_".to_string()]
+            } else {
+                es.iter()
+                    .map(|&e| format!("Event::{}", m.events[e].name))
+                    .collect()
+            };
+            let pat = format!("(State::{}, {})", m.states[si].name, events.join(" | "));
+            arms.push((pat, body));
+        }
     }
-    let uses_hooks = arms.iter().any(|(b, _)| b.contains("hooks."));
-    let uses_mealy = arms.iter().any(|(b, _)| b.contains("mealy."));
+    let uses_hooks = arms.iter().any(|(_, b)| b.contains("hooks."));
+    let uses_mealy = arms.iter().any(|(_, b)| b.contains("mealy."));
     let hooks = if uses_hooks { "hooks" } else { "_hooks" };
     let mut s = String::new();
     s.push_str(
@@ -315,40 +328,8 @@ fn step_fn(m: &Machine) -> String {
         s.push_str("            let mut mealy = Outputs::default();\n");
     }
     s.push_str("            let next = match (self.state, event) {\n");
-    for (body, cells) in &arms {
-        // Group the cells by state, then states with the same events.
-        let mut by_state: Vec<(usize, Vec<usize>)> = Vec::new();
-        for &(si, e) in cells {
-            match by_state.iter_mut().find(|(s, _)| *s == si) {
-                Some((_, es)) => es.push(e),
-                None => by_state.push((si, vec![e])),
-            }
-        }
-        let mut by_events: Vec<(Vec<usize>, Vec<usize>)> = Vec::new();
-        for (si, es) in by_state {
-            match by_events.iter_mut().find(|(e, _)| *e == es) {
-                Some((_, ss)) => ss.push(si),
-                None => by_events.push((es, vec![si])),
-            }
-        }
-        let pats: Vec<String> = by_events
-            .iter()
-            .map(|(es, ss)| {
-                let states: Vec<String> = ss
-                    .iter()
-                    .map(|&si| format!("State::{}", m.states[si].name))
-                    .collect();
-                let events: Vec<String> = if es.len() == m.events.len() {
-                    vec!["_".to_string()]
-                } else {
-                    es.iter()
-                        .map(|&e| format!("Event::{}", m.events[e].name))
-                        .collect()
-                };
-                format!("({}, {})", states.join(" | "), events.join(" | "))
-            })
-            .collect();
-        let _ = writeln!(s, "                {} => {{", pats.join("\n                | "));
+    for (pat, body) in &arms {
+        let _ = writeln!(s, "                {pat} => {{");
         s.push_str(body);
         s.push_str("                }\n");
     }

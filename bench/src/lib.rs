@@ -10,6 +10,13 @@
 
 #![forbid(unsafe_code)]
 
+/// Events per timed pass of the benchmark: long enough that the branch predictor
+/// cannot learn the sequence.
+pub const BENCH_EVENTS: usize = 16_384;
+
+/// Seed of the benchmark's event buffers ([`random_events`]).
+pub const BENCH_SEED: u64 = 0xD15_BA7C;
+
 /// The benchmark's hooks: inputs are bits of `levels`, each action folds its number
 /// into `acc` (order-sensitive, so the actions cannot be dropped or reordered).
 #[derive(Clone, Copy, Debug, Default)]
