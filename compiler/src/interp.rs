@@ -72,6 +72,11 @@ impl Machine {
     /// The rule that fires for (state, event) under a valuation, if any.
     pub fn fired_rule(&self, state: StateId, event: EventId, inputs: &[bool]) -> Option<RuleId> {
         let (_, rules) = self.rules_for(state, event)?;
+        self.first_enabled(rules, inputs)
+    }
+
+    /// The first of a scope's rules whose guard the valuation satisfies (step 2).
+    pub fn first_enabled(&self, rules: &[RuleId], inputs: &[bool]) -> Option<RuleId> {
         rules.iter().copied().find(|r| {
             self.bdd
                 .eval(self.rules[r.index()].guard, |v| value(inputs, InputId(v)))

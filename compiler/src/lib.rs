@@ -8,6 +8,7 @@
 pub mod check;
 pub mod diag;
 pub mod emit;
+mod fxhash;
 pub mod import;
 pub mod interp;
 pub mod logic;

@@ -16,10 +16,10 @@ pub mod render;
 pub mod sarif;
 
 use crate::diag::{Diagnostic, Lint, Severity};
+use crate::fxhash::FxSet;
 use crate::model::graph::{strongly_connected, CellEvents};
 use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
 use crate::syntax::ast::{LevelAttr, Policy};
-use std::collections::HashSet;
 
 /// Command-line level changes, applied after the spec's own attributes.
 #[derive(Clone, Debug, Default)]
@@ -161,7 +161,7 @@ impl Checker<'_> {
     fn coverage_and_overlap(&mut self) -> bool {
         let m = self.m;
         let mut bdd = m.bdd.clone();
-        let mut reported_pairs: HashSet<(RuleId, RuleId)> = HashSet::new();
+        let mut reported_pairs: FxSet<(RuleId, RuleId)> = FxSet::default();
         for si in 0..m.states.len() {
             let s = StateId::from_index(si);
             let state_name = &m.states[si].name;
@@ -619,7 +619,7 @@ pub fn check_source(file: &str, text: &str) -> FileReport {
             diagnostics: vec![Diagnostic::new(Lint::Syntax, Some(e.span), e.message)],
         }),
         Ok(ast) => {
-            let mut seen = HashSet::new();
+            let mut seen = FxSet::default();
             for m in &ast.machines {
                 let mut diagnostics = Vec::new();
                 if !seen.insert(m.name.name.clone()) {

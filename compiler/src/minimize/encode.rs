@@ -32,15 +32,15 @@
 //!
 //! **Cost.** Building the alphabet visits every (state, event class) cell's rules once:
 //! O(cells + rules) BDD operations, plus the atom splitting (at most the number of
-//! distinct guards times the atoms so far). Encoding steps each (state, symbol) once:
-//! O(states x symbols) interpreter steps, one `u32` successor and one `u32`
-//! observation id per transition.
+//! distinct guards times the atoms so far). Encoding decides each (state, symbol)'s rule
+//! once: O(states x symbols) guard evaluations, one interpreter step per (state, event
+//! class, rule used), one `u32` successor and one `u32` observation id per transition.
 
 use super::partition::Dfa;
+use crate::fxhash::{FxMap, FxSet};
 use crate::interp::Outcome;
 use crate::model::steps::valuation;
 use crate::model::{Bdd, BddStore, EventId, Guard, Machine, StateId};
-use std::collections::{HashMap, HashSet};
 
 /// One letter of the shared alphabet: an event (reference numbering) and one input
 /// valuation standing for a whole atom.
@@ -88,7 +88,7 @@ impl<'a> Side<'a> {
             if from.len() != to.len() {
                 return None;
             }
-            let index: HashMap<&str, u32> = to
+            let index: FxMap<&str, u32> = to
                 .iter()
                 .enumerate()
                 .map(|(i, it)| (it.name.as_str(), i as u32))
@@ -201,11 +201,11 @@ impl Alphabet {
         for class in &classes {
             let rep = class[0];
             let mut guards: Vec<Bdd> = Vec::new();
-            let mut seen_guard: HashSet<Bdd> = HashSet::new();
+            let mut seen_guard: FxSet<Bdd> = FxSet::default();
             for (k, side) in sides.iter().enumerate() {
                 let m = side.m;
                 let local = side.event_of_ref[rep.index()];
-                let mut seen_rule = HashSet::new();
+                let mut seen_rule = FxSet::default();
                 for si in 0..m.states.len() {
                     let Some((_, rules)) = m.rules_for(StateId::from_index(si), local) else {
                         continue;
@@ -276,9 +276,9 @@ pub struct Observation {
 /// so that ids compare across machines.
 #[derive(Clone, Debug, Default)]
 pub struct Interner {
-    obs: HashMap<Observation, u32>,
-    moore: HashMap<Vec<u32>, u32>,
-    rows: HashMap<(u32, Vec<u32>), u32>,
+    obs: FxMap<Observation, u32>,
+    moore: FxMap<Vec<u32>, u32>,
+    rows: FxMap<(u32, Vec<u32>), u32>,
 }
 
 impl Interner {
@@ -319,6 +319,14 @@ fn mapped_sorted(ids: impl Iterator<Item = u32>) -> Vec<u32> {
 }
 
 /// Steps every (state, symbol) of `side` through the interpreter.
+///
+/// Which rule fires is decided per (state, symbol) by the interpreter's own rule
+/// choice ([`Machine::first_enabled`] over [`Machine::rules_for`]). What the step does
+/// once its rule is known (target, outputs, actions) does not depend on the inputs, so
+/// [`Machine::step`] runs once per (state, event class, rule or none) and its
+/// observation is shared by the other symbols of that cell that pick the same rule:
+/// O(states x symbols) guard evaluations, but allocation and interning only per rule
+/// used.
 pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> Encoded {
     let m = side.m;
     let k = alphabet.symbols.len();
@@ -333,6 +341,14 @@ pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> 
             )
         })
         .collect();
+    // Runs of symbols of one event class (the alphabet keeps each class together).
+    let mut runs: Vec<std::ops::Range<usize>> = Vec::new();
+    for (i, sym) in alphabet.symbols.iter().enumerate() {
+        match runs.last_mut() {
+            Some(r) if alphabet.symbols[r.start].event == sym.event => r.end = i + 1,
+            _ => runs.push(i..i + 1),
+        }
+    }
     let moore_of = |s: StateId| {
         mapped_sorted(
             m.states[s.index()]
@@ -347,22 +363,41 @@ pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> 
     let mut delta = Vec::with_capacity(n * k);
     let mut obs = Vec::with_capacity(n * k);
     let mut initial = Vec::with_capacity(n);
+    // (rule fired, successor, observation id) of the steps met in the current cell.
+    let mut cell: Vec<(Option<crate::model::RuleId>, u32, u32)> = Vec::new();
     for s in 0..n {
         let from = StateId::from_index(s);
-        for (event, inputs) in &local {
-            let r = m.step(from, *event, inputs);
-            delta.push(r.to.0);
-            let o = Observation {
-                rejected: r.outcome == Outcome::Rejected,
-                mealy: mapped_sorted(r.mealy.iter().map(|o| side.output_to_ref[o.index()])),
-                moore: mapped_sorted(r.moore.iter().map(|o| side.output_to_ref[o.index()])),
-                actions: r
-                    .actions
-                    .iter()
-                    .map(|a| side.action_to_ref[a.index()])
-                    .collect(),
-            };
-            obs.push(interner.observation(o));
+        for run in &runs {
+            let event = local[run.start].0;
+            let rules = m.rules_for(from, event).map_or(&[][..], |(_, r)| r);
+            cell.clear();
+            for (_, inputs) in &local[run.clone()] {
+                let fired = m.first_enabled(rules, inputs);
+                let (to, o) = match cell.iter().find(|c| c.0 == fired) {
+                    Some(&(_, to, o)) => (to, o),
+                    None => {
+                        let r = m.step(from, event, inputs);
+                        let o = interner.observation(Observation {
+                            rejected: r.outcome == Outcome::Rejected,
+                            mealy: mapped_sorted(
+                                r.mealy.iter().map(|o| side.output_to_ref[o.index()]),
+                            ),
+                            moore: mapped_sorted(
+                                r.moore.iter().map(|o| side.output_to_ref[o.index()]),
+                            ),
+                            actions: r
+                                .actions
+                                .iter()
+                                .map(|a| side.action_to_ref[a.index()])
+                                .collect(),
+                        });
+                        cell.push((fired, r.to.0, o));
+                        (r.to.0, o)
+                    }
+                };
+                delta.push(to);
+                obs.push(o);
+            }
         }
         let row = obs[s * k..(s + 1) * k].to_vec();
         initial.push(interner.row(moore[s], row));

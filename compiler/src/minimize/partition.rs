@@ -69,9 +69,9 @@
 //! start states and returns a shortest input word after which their observations
 //! differ, in O(k n_a n_b) time in the worst case.
 
+use crate::fxhash::FastHash;
 use std::collections::{HashMap, HashSet, VecDeque};
 use std::fmt;
-use std::hash::{BuildHasherDefault, Hasher};
 
 /// A complete deterministic transition system with dense ids.
 ///
@@ -723,42 +723,6 @@ pub fn moore_refinement(dfa: &Dfa) -> Partition {
         }
     }
 }
-
-/// A fast non-cryptographic hasher (multiply-rotate, as in common practice for
-/// compiler-internal tables) so the Moore baseline is not dominated by SipHash.
-#[derive(Default)]
-struct Fx(u64);
-
-impl Hasher for Fx {
-    fn finish(&self) -> u64 {
-        self.0
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for chunk in bytes.chunks(8) {
-            let mut buf = [0u8; 8];
-            buf[..chunk.len()].copy_from_slice(chunk);
-            self.add(u64::from_le_bytes(buf));
-        }
-    }
-    fn write_u32(&mut self, i: u32) {
-        self.add(i as u64);
-    }
-    fn write_u64(&mut self, i: u64) {
-        self.add(i);
-    }
-    fn write_usize(&mut self, i: usize) {
-        self.add(i as u64);
-    }
-}
-
-impl Fx {
-    #[inline]
-    fn add(&mut self, x: u64) {
-        self.0 = (self.0.rotate_left(5) ^ x).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
-    }
-}
-
-type FastHash = BuildHasherDefault<Fx>;
 
 /// The states reachable from `start` (breadth-first search), as a flag per state.
 ///

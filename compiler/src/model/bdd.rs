@@ -16,7 +16,7 @@
 //! [`BddStore::overflowed`] says so, and the resolver and the checker turn it into an
 //! error instead of running for hours and exhausting memory.
 
-use std::collections::HashMap;
+use crate::fxhash::{FxMap, FxSet};
 
 /// The most nodes one machine's store may hold (about 40 MB of table and hash index).
 pub const MAX_BDD_NODES: usize = 1 << 20;
@@ -61,7 +61,7 @@ enum Op {
 #[derive(Clone, Debug)]
 pub struct BddStore {
     nodes: Vec<Node>,
-    unique: HashMap<Node, Bdd>,
+    unique: FxMap<Node, Bdd>,
     overflowed: bool,
 }
 
@@ -81,7 +81,7 @@ impl BddStore {
         };
         BddStore {
             nodes: vec![terminal(0), terminal(1)],
-            unique: HashMap::new(),
+            unique: FxMap::default(),
             overflowed: false,
         }
     }
@@ -140,11 +140,11 @@ impl BddStore {
 
     /// Negation.
     pub fn not(&mut self, a: Bdd) -> Bdd {
-        let mut memo = HashMap::new();
+        let mut memo = FxMap::default();
         self.not_rec(a, &mut memo)
     }
 
-    fn not_rec(&mut self, a: Bdd, memo: &mut HashMap<Bdd, Bdd>) -> Bdd {
+    fn not_rec(&mut self, a: Bdd, memo: &mut FxMap<Bdd, Bdd>) -> Bdd {
         if self.overflowed {
             return Bdd::FALSE;
         }
@@ -167,13 +167,13 @@ impl BddStore {
 
     /// Conjunction.
     pub fn and(&mut self, a: Bdd, b: Bdd) -> Bdd {
-        let mut memo = HashMap::new();
+        let mut memo = FxMap::default();
         self.apply(Op::And, a, b, &mut memo)
     }
 
     /// Disjunction.
     pub fn or(&mut self, a: Bdd, b: Bdd) -> Bdd {
-        let mut memo = HashMap::new();
+        let mut memo = FxMap::default();
         self.apply(Op::Or, a, b, &mut memo)
     }
 
@@ -183,7 +183,7 @@ impl BddStore {
         self.and(a, nb)
     }
 
-    fn apply(&mut self, op: Op, a: Bdd, b: Bdd, memo: &mut HashMap<(Bdd, Bdd), Bdd>) -> Bdd {
+    fn apply(&mut self, op: Op, a: Bdd, b: Bdd, memo: &mut FxMap<(Bdd, Bdd), Bdd>) -> Bdd {
         if self.overflowed {
             return Bdd::FALSE;
         }
@@ -266,7 +266,7 @@ impl BddStore {
 
     /// The variables the function depends on, ascending.
     pub fn support(&self, a: Bdd) -> Vec<u32> {
-        let mut seen = std::collections::HashSet::new();
+        let mut seen = FxSet::default();
         let mut vars = std::collections::BTreeSet::new();
         let mut stack = vec![a];
         while let Some(b) = stack.pop() {

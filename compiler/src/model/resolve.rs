@@ -6,9 +6,9 @@
 
 use super::*;
 use crate::diag::Diagnostic;
+use crate::fxhash::FxMap;
 use crate::model::bdd::MAX_BDD_NODES;
 use crate::syntax::ast::{self, Attr, Body, DeclKind, Expr, MachineAst, Member};
-use std::collections::HashMap;
 
 /// Most states a machine may have.
 pub const MAX_STATES: usize = 65_535;
@@ -21,7 +21,7 @@ pub const MAX_INPUTS: usize = 64;
 pub fn resolve_file(file: &ast::File) -> (Vec<Machine>, Vec<Diagnostic>) {
     let mut machines = Vec::new();
     let mut errors = Vec::new();
-    let mut seen: HashMap<&str, Span> = HashMap::new();
+    let mut seen: FxMap<&str, Span> = FxMap::default();
     for m in &file.machines {
         if let Some(first) = seen.get(m.name.name.as_str()) {
             let mut d = Diagnostic::name_error(
@@ -60,12 +60,12 @@ struct Resolver<'a> {
     ast: &'a MachineAst,
     errors: Vec<Diagnostic>,
     events: Vec<Item>,
-    event_ids: HashMap<String, EventId>,
+    event_ids: FxMap<String, EventId>,
     inputs: Vec<Item>,
     outputs: Vec<Item>,
     actions: Vec<Item>,
-    signals: HashMap<String, (Signal, Span)>,
-    places: HashMap<String, (Place, Span)>,
+    signals: FxMap<String, (Signal, Span)>,
+    places: FxMap<String, (Place, Span)>,
     states: Vec<State>,
     groups: Vec<Group>,
     rules: Vec<Rule>,
@@ -88,12 +88,12 @@ pub fn resolve(ast: &MachineAst) -> Result<Machine, Vec<Diagnostic>> {
         ast,
         errors: Vec::new(),
         events: Vec::new(),
-        event_ids: HashMap::new(),
+        event_ids: FxMap::default(),
         inputs: Vec::new(),
         outputs: Vec::new(),
         actions: Vec::new(),
-        signals: HashMap::new(),
-        places: HashMap::new(),
+        signals: FxMap::default(),
+        places: FxMap::default(),
         states: Vec::new(),
         groups: Vec::new(),
         rules: Vec::new(),
@@ -118,7 +118,7 @@ impl<'a> Resolver<'a> {
 
     fn run(mut self) -> Result<Machine, Vec<Diagnostic>> {
         let ast = self.ast;
-        let mut seen_decl: HashMap<&'static str, Span> = HashMap::new();
+        let mut seen_decl: FxMap<&'static str, Span> = FxMap::default();
         let mut start: Option<&ast::Ident> = None;
         let mut policy = Policy::Complete;
         let mut policy_span = None;
@@ -565,7 +565,7 @@ impl<'a> Resolver<'a> {
     ) -> (Vec<ActionId>, Vec<ActionId>, ScopeRules) {
         let mut enter = Vec::new();
         let mut leave = Vec::new();
-        let mut named: HashMap<EventId, Vec<RuleId>> = HashMap::new();
+        let mut named: FxMap<EventId, Vec<RuleId>> = FxMap::default();
         let mut wildcard = Vec::new();
         for b in body {
             match b {

@@ -6,7 +6,7 @@
 //! input cannot overflow the stack.
 
 use super::ast::*;
-use proc_macro2::{Delimiter, Span, TokenStream, TokenTree};
+use proc_macro2::{Delimiter, Group, Span, TokenStream, TokenTree};
 use syn::ext::IdentExt;
 use syn::parse::{ParseStream, Parser};
 use syn::{Attribute, Token};
@@ -50,7 +50,7 @@ pub const RESERVED: &[&str] = &["stay"];
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
 pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
     check_token_depth(&tokens)?;
-    parse_file.parse2(tokens)
+    parse_file(tokens)
 }
 
 /// Parses a token stream tokenized from `text`, skipping the token-tree depth walk
@@ -58,7 +58,7 @@ pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
 /// which is most of the cost on large files).
 pub(crate) fn parse_tokens_of_text(tokens: TokenStream, text: &str) -> syn::Result<File> {
     match text_bracket_depth(text) {
-        Some(depth) if depth <= MAX_NESTING => parse_file.parse2(tokens),
+        Some(depth) if depth <= MAX_NESTING => parse_file(tokens),
         _ => parse_tokens(tokens),
     }
 }
@@ -138,12 +138,264 @@ fn check_token_depth(tokens: &TokenStream) -> syn::Result<()> {
     Ok(())
 }
 
-fn parse_file(input: ParseStream) -> syn::Result<File> {
+/// The file, item by item.
+///
+/// syn copies every token tree it parses into one flat buffer, and for a whole
+/// 10,000-state file that buffer holds millions of entries, grown by reallocation
+/// (most of the parse time went there). So the driver walks the token trees itself
+/// and hands syn one item at a time: a machine header, a declaration, a state, a rule,
+/// everything up to a `;` or a `{ }` at the body's top level ([`split_items`]). Group
+/// bodies are split the same way, recursively. The parsing functions are the same as
+/// for one big buffer: each item is parsed inside a brace group that carries the
+/// enclosing body's closing-brace span, so "unexpected end of input" points at the
+/// same `}` it would, and an item that runs on past its `;` or `}` is an error at the
+/// same token.
+fn parse_file(tokens: TokenStream) -> syn::Result<File> {
     let mut machines = Vec::new();
-    while !input.is_empty() {
-        machines.push(parse_machine(input)?);
+    let mut trees = tokens.into_iter().peekable();
+    while trees.peek().is_some() {
+        // A machine: its header tokens, then its brace-delimited body.
+        let mut header = Vec::new();
+        let mut body = None;
+        for tree in trees.by_ref() {
+            match tree {
+                TokenTree::Group(g) if g.delimiter() == Delimiter::Brace => {
+                    body = Some(g);
+                    break;
+                }
+                other => header.push(other),
+            }
+        }
+        let Some(body) = body else {
+            // No body: the header parser reports what is missing (its `braced!`
+            // cannot succeed without braces; the second error is only a fallback).
+            parse_machine_header.parse2(header.into_iter().collect())?;
+            return Err(syn::Error::new(
+                Span::call_site(),
+                "expected the machine's body in `{ }`",
+            ));
+        };
+        header.push(placeholder(&body));
+        let (attrs, vis, name) = parse_machine_header.parse2(header.into_iter().collect())?;
+        let mut decls = Vec::new();
+        let mut members = Vec::new();
+        // Take the body's tokens out of the group so they are not shared (a shared
+        // stream is copied when iterated), and free each item once parsed.
+        let close = body.span_close();
+        let stream = body.stream();
+        drop(body);
+        for item in split_items(stream) {
+            if let Some((head, inner)) = group_item(&item) {
+                members.push(parse_group_item(head, inner, 0)?);
+                continue;
+            }
+            in_scope(item, close, |content| {
+                while !content.is_empty() {
+                    let item_attrs = parse_attrs(content, false)?;
+                    if let Some(decl) = try_parse_decl(content)? {
+                        if let Some(span) = item_attrs.first_span {
+                            return Err(syn::Error::new(
+                                span,
+                                "a doc comment or attribute here documents nothing: put doc \
+                                 comments before each name in the list, and lint attributes \
+                                 on the machine",
+                            ));
+                        }
+                        if !members.is_empty() {
+                            return Err(syn::Error::new(
+                                decl.span,
+                                "declarations come before states and groups",
+                            ));
+                        }
+                        decls.push(decl);
+                    } else {
+                        members.push(parse_member(content, item_attrs, 0)?);
+                    }
+                }
+                Ok(())
+            })?;
+        }
+        machines.push(MachineAst {
+            attrs: attrs.attrs,
+            doc: attrs.doc,
+            vis,
+            name,
+            decls,
+            members,
+        });
     }
     Ok(File { machines })
+}
+
+/// An empty brace group standing for `body` in a header item, with its span, so that
+/// the header's `braced!` succeeds where the real body is.
+fn placeholder(body: &Group) -> TokenTree {
+    let mut g = Group::new(Delimiter::Brace, TokenStream::new());
+    g.set_span(body.span());
+    TokenTree::Group(g)
+}
+
+/// Splits a body's tokens into items: each ends after a `;` or a `{ }` group at the
+/// body's top level (no item of the language has either anywhere else at its top
+/// level), the rest (an unterminated last item) is the last item.
+fn split_items(stream: TokenStream) -> Vec<Vec<TokenTree>> {
+    let mut items = Vec::new();
+    let mut item = Vec::new();
+    for tree in stream {
+        let ends = match &tree {
+            TokenTree::Punct(p) => p.as_char() == ';',
+            TokenTree::Group(g) => g.delimiter() == Delimiter::Brace,
+            _ => false,
+        };
+        item.push(tree);
+        if ends {
+            items.push(std::mem::take(&mut item));
+        }
+    }
+    if !item.is_empty() {
+        items.push(item);
+    }
+    items
+}
+
+/// An item that is a group (outer attributes, `group`, ..., a `{ }` body): its head
+/// with the body replaced by a [`placeholder`], and the body.
+fn group_item(item: &[TokenTree]) -> Option<(TokenStream, Group)> {
+    let mut i = 0;
+    while let (Some(TokenTree::Punct(p)), Some(TokenTree::Group(g))) =
+        (item.get(i), item.get(i + 1))
+    {
+        if p.as_char() != '#' || g.delimiter() != Delimiter::Bracket {
+            break;
+        }
+        i += 2;
+    }
+    match (item.get(i), item.last()) {
+        (Some(TokenTree::Ident(w)), Some(TokenTree::Group(body)))
+            if w == "group" && body.delimiter() == Delimiter::Brace =>
+        {
+            let head = item[..item.len() - 1]
+                .iter()
+                .cloned()
+                .chain(std::iter::once(placeholder(body)))
+                .collect();
+            Some((head, body.clone()))
+        }
+        _ => None,
+    }
+}
+
+/// Parses `item` with `f` inside a brace group that ends at `close`.
+fn in_scope<T>(
+    item: Vec<TokenTree>,
+    close: Span,
+    f: impl FnOnce(ParseStream) -> syn::Result<T>,
+) -> syn::Result<T> {
+    let mut g = Group::new(Delimiter::Brace, item.into_iter().collect());
+    g.set_span(close);
+    (|input: ParseStream| {
+        let content;
+        syn::braced!(content in input);
+        f(&content)
+    })
+    .parse2(TokenStream::from(TokenTree::Group(g)))
+}
+
+/// A group item, its body split into items too.
+fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result<Member> {
+    let (attrs, name, emit) = (|input: ParseStream| {
+        let attrs = parse_attrs(input, false)?;
+        if depth >= MAX_NESTING {
+            return Err(input.error(format!("groups nested deeper than {MAX_NESTING} levels")));
+        }
+        input.parse::<kw::group>()?;
+        let name = parse_name(input, "a group name")?;
+        let emit = parse_emit_header(input)?;
+        let content;
+        syn::braced!(content in input);
+        let _ = content;
+        Ok((attrs, name, emit))
+    })
+    .parse2(head)?;
+    let mut rules = Vec::new();
+    let mut members = Vec::new();
+    let close = body.span_close();
+    let stream = body.stream();
+    drop(body);
+    for item in split_items(stream) {
+        if let Some((head, inner)) = group_item(&item) {
+            members.push(parse_group_item(head, inner, depth + 1)?);
+            continue;
+        }
+        in_scope(item, close, |content| {
+            group_content(content, depth, &mut rules, &mut members)
+        })?;
+    }
+    Ok(Member::Group(GroupAst {
+        attrs: attrs.attrs,
+        doc: attrs.doc,
+        name,
+        emit,
+        body: rules,
+        members,
+    }))
+}
+
+/// The items of a group body: states and groups, or rules and enter/leave lines.
+fn group_content(
+    content: ParseStream,
+    depth: usize,
+    body: &mut Vec<Body>,
+    members: &mut Vec<Member>,
+) -> syn::Result<()> {
+    while !content.is_empty() {
+        let item_attrs = parse_attrs(content, false)?;
+        if is_member_start(content) {
+            members.push(parse_member(content, item_attrs, depth + 1)?);
+        } else {
+            if let Some(span) = item_attrs.first_span {
+                return Err(syn::Error::new(
+                    span,
+                    "attributes and doc comments go on states and groups, not on rules",
+                ));
+            }
+            body.push(parse_body(content)?);
+        }
+    }
+    Ok(())
+}
+
+/// `attrs vis machine NAME { }`: a machine header with its body's placeholder.
+fn parse_machine_header(input: ParseStream) -> syn::Result<(Attrs, Vis, Ident)> {
+    let attrs = parse_attrs(input, true)?;
+    let vis = if input.peek(Token![pub]) {
+        input.parse::<Token![pub]>()?;
+        if input.peek(syn::token::Paren) {
+            let content;
+            syn::parenthesized!(content in input);
+            let word = content.call(syn::Ident::parse_any)?;
+            if word != "crate" || !content.is_empty() {
+                return Err(syn::Error::new(
+                    word.span(),
+                    "only `pub` and `pub(crate)` are supported here",
+                ));
+            }
+            Vis::PubCrate
+        } else {
+            Vis::Pub
+        }
+    } else {
+        Vis::Private
+    };
+    if !input.peek(kw::machine) {
+        return Err(input.error("expected `machine`"));
+    }
+    input.parse::<kw::machine>()?;
+    let name = parse_name(input, "a machine name")?;
+    let content;
+    syn::braced!(content in input);
+    let _ = content;
+    Ok((attrs, vis, name))
 }
 
 /// Attributes split into doc lines and the rest.
@@ -259,6 +511,7 @@ fn ident(i: syn::Ident) -> Ident {
 
 /// Rust's strict and reserved keywords (2021 edition, plus `gen` reserved in 2024): a
 /// name among them would not compile in generated code.
+/// Sorted (byte order), for binary search.
 const RUST_KEYWORDS: &[&str] = &[
     "Self", "abstract", "as", "async", "await", "become", "box", "break", "const", "continue",
     "crate", "do", "dyn", "else", "enum", "extern", "false", "final", "fn", "for", "gen", "if",
@@ -320,7 +573,7 @@ fn parse_name(input: ParseStream, what: &str) -> syn::Result<Ident> {
                 format!("expected {what}, found `_`"),
             ));
         }
-        if RUST_KEYWORDS.contains(&text.as_str()) {
+        if RUST_KEYWORDS.binary_search(&text.as_str()).is_ok() {
             return Err(syn::Error::new(
                 i.span(),
                 format!("expected {what}, found Rust keyword `{text}`"),
@@ -339,67 +592,6 @@ fn parse_name(input: ParseStream, what: &str) -> syn::Result<Ident> {
             },
             rest,
         ))
-    })
-}
-
-fn parse_machine(input: ParseStream) -> syn::Result<MachineAst> {
-    let attrs = parse_attrs(input, true)?;
-    let vis = if input.peek(Token![pub]) {
-        input.parse::<Token![pub]>()?;
-        if input.peek(syn::token::Paren) {
-            let content;
-            syn::parenthesized!(content in input);
-            let word = content.call(syn::Ident::parse_any)?;
-            if word != "crate" || !content.is_empty() {
-                return Err(syn::Error::new(
-                    word.span(),
-                    "only `pub` and `pub(crate)` are supported here",
-                ));
-            }
-            Vis::PubCrate
-        } else {
-            Vis::Pub
-        }
-    } else {
-        Vis::Private
-    };
-    if !input.peek(kw::machine) {
-        return Err(input.error("expected `machine`"));
-    }
-    input.parse::<kw::machine>()?;
-    let name = parse_name(input, "a machine name")?;
-    let content;
-    syn::braced!(content in input);
-    let mut decls = Vec::new();
-    let mut members = Vec::new();
-    while !content.is_empty() {
-        let item_attrs = parse_attrs(&content, false)?;
-        if let Some(decl) = try_parse_decl(&content)? {
-            if let Some(span) = item_attrs.first_span {
-                return Err(syn::Error::new(
-                    span,
-                    "a doc comment or attribute here documents nothing: put doc comments \
-                     before each name in the list, and lint attributes on the machine",
-                ));
-            }
-            if !members.is_empty() {
-                return Err(syn::Error::new(
-                    decl.span,
-                    "declarations come before states and groups",
-                ));
-            }
-            decls.push(decl);
-        } else {
-            members.push(parse_member(&content, item_attrs, 0)?);
-        }
-    }
-    Ok(MachineAst {
-        attrs: attrs.attrs,
-        doc: attrs.doc,
-        vis,
-        name,
-        decls,
-        members,
     })
 }
 
@@ -541,20 +733,7 @@ fn parse_member(input: ParseStream, attrs: Attrs, depth: usize) -> syn::Result<M
         syn::braced!(content in input);
         let mut body = Vec::new();
         let mut members = Vec::new();
-        while !content.is_empty() {
-            let item_attrs = parse_attrs(&content, false)?;
-            if is_member_start(&content) {
-                members.push(parse_member(&content, item_attrs, depth + 1)?);
-            } else {
-                if let Some(span) = item_attrs.first_span {
-                    return Err(syn::Error::new(
-                        span,
-                        "attributes and doc comments go on states and groups, not on rules",
-                    ));
-                }
-                body.push(parse_body(&content)?);
-            }
-        }
+        group_content(&content, depth, &mut body, &mut members)?;
         return Ok(Member::Group(GroupAst {
             attrs: attrs.attrs,
             doc: attrs.doc,
@@ -810,4 +989,36 @@ fn parse_not(
         "an input name, `!`, `(`, `true` or `false`"
     };
     parse_name(input, what).map(Expr::Name)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rust_keywords_are_sorted_for_binary_search() {
+        assert!(RUST_KEYWORDS.windows(2).all(|w| w[0] < w[1]));
+        for k in RUST_KEYWORDS {
+            assert!(RUST_KEYWORDS.binary_search(k).is_ok());
+        }
+    }
+
+    #[test]
+    fn items_split_at_semicolons_and_brace_groups() {
+        let tokens: TokenStream =
+            "events A, B; state S { A => S; } #[doc = \"x\"] group G { state T; } start S"
+                .parse()
+                .unwrap();
+        let items = split_items(tokens);
+        let texts: Vec<String> = items
+            .iter()
+            .map(|i| i.iter().cloned().collect::<TokenStream>().to_string())
+            .collect();
+        assert_eq!(texts.len(), 4, "{texts:?}");
+        assert!(texts[0].starts_with("events"));
+        assert!(texts[1].starts_with("state S"));
+        assert!(group_item(&items[2]).is_some());
+        assert!(group_item(&items[1]).is_none());
+        assert_eq!(texts[3], "start S");
+    }
 }
