@@ -125,8 +125,16 @@ fn size_module(size: &str, m: &Machine) -> String {
         "    pub const SPEC: &str = include_str!(concat!(env!(\"OUT_DIR\"), \"/{size}.detent\"));"
     );
     for (form, rejected, doc) in [
-        ("table", "::detent::Rejected", "detent's table-style `step`."),
-        ("matched", "::detent::Rejected", "detent's match-style `step`."),
+        (
+            "table",
+            "::detent::Rejected",
+            "detent's table-style `step`.",
+        ),
+        (
+            "matched",
+            "::detent::Rejected",
+            "detent's match-style `step`.",
+        ),
         ("hand", "m::Rejected", "the hand-written `match`."),
     ] {
         s.push_str(&form_module(size, form, rejected, doc, m));
@@ -139,6 +147,8 @@ fn form_module(size: &str, form: &str, rejected: &str, doc: &str, m: &Machine) -
     let snake = module_name(m);
     let mut s = String::new();
     let _ = writeln!(s, "    /// The {size} machine as {doc}");
+    // `Machine::restore` of a machine past 256 states casts its `u16` to `u16`.
+    let _ = writeln!(s, "    #[allow(clippy::unnecessary_cast)]");
     let _ = writeln!(s, "    pub mod {form} {{");
     let _ = writeln!(
         s,
@@ -167,7 +177,13 @@ fn form_module(size: &str, form: &str, rejected: &str, doc: &str, m: &Machine) -
         .outputs
         .iter()
         .enumerate()
-        .map(|(i, o)| format!("(u64::from(o.{}) << {i})", o.name))
+        .map(|(i, o)| {
+            if i == 0 {
+                format!("u64::from(o.{})", o.name)
+            } else {
+                format!("(u64::from(o.{}) << {i})", o.name)
+            }
+        })
         .collect();
     let bits = if bits.is_empty() {
         "0".to_string()

@@ -119,11 +119,7 @@ fn interleaved_part(cases: &[Case], rounds: usize) {
             format!("{:.2} ({:.2})", v[0], quantile(&v, 0.5))
         };
         let ratio = |i: usize| {
-            let mut r: Vec<f64> = times[i]
-                .iter()
-                .zip(&times[h])
-                .map(|(g, b)| g / b)
-                .collect();
+            let mut r: Vec<f64> = times[i].iter().zip(&times[h]).map(|(g, b)| g / b).collect();
             r.sort_by(f64::total_cmp);
             format!(
                 "{:.3}x; {:.3}x ({:.2}-{:.2})",

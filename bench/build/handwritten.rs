@@ -30,7 +30,10 @@ pub fn handwritten(m: &Machine) -> String {
         "/// `{}` written by hand: the baseline of the dispatch benchmark.",
         m.name
     );
-    let _ = writeln!(s, "#[allow(clippy::nonminimal_bool, clippy::if_same_then_else)]");
+    let _ = writeln!(
+        s,
+        "#[allow(clippy::nonminimal_bool, clippy::if_same_then_else, clippy::collapsible_match)]"
+    );
     let _ = writeln!(s, "pub mod {snake} {{");
 
     // Types.
@@ -66,7 +69,11 @@ pub fn handwritten(m: &Machine) -> String {
     );
     let _ = writeln!(s, "    pub struct Outputs {{");
     for o in &m.outputs {
-        let _ = writeln!(s, "        /// `{}`.\n        pub {}: bool,", o.name, o.name);
+        let _ = writeln!(
+            s,
+            "        /// `{}`.\n        pub {}: bool,",
+            o.name, o.name
+        );
     }
     let _ = writeln!(s, "    }}\n");
     let _ = writeln!(s, "    /// The event was not handled in this state.");
@@ -82,12 +89,19 @@ pub fn handwritten(m: &Machine) -> String {
         );
     }
     for a in &m.actions {
-        let _ = writeln!(s, "        /// Runs `{}`.\n        fn {}(&mut self);", a.name, a.name);
+        let _ = writeln!(
+            s,
+            "        /// Runs `{}`.\n        fn {}(&mut self);",
+            a.name, a.name
+        );
     }
     let _ = writeln!(s, "    }}\n");
     let _ = writeln!(s, "    /// The machine: its current state.");
     let _ = writeln!(s, "    #[derive(Clone, Copy, Debug, PartialEq, Eq)]");
-    let _ = writeln!(s, "    pub struct Machine {{\n        state: State,\n    }}\n");
+    let _ = writeln!(
+        s,
+        "    pub struct Machine {{\n        state: State,\n    }}\n"
+    );
     let _ = writeln!(
         s,
         "    impl Default for Machine {{\n        fn default() -> Self {{\n            Machine::new()\n        }}\n    }}\n"

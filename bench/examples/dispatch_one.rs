@@ -30,9 +30,7 @@ fn main() {
         ("small", "matched") => passes::<small::matched::V>(small::EVENTS, small::INPUTS, n),
         ("medium", "hand") => passes::<medium::hand::V>(medium::EVENTS, medium::INPUTS, n),
         ("medium", "table") => passes::<medium::table::V>(medium::EVENTS, medium::INPUTS, n),
-        ("medium", "matched") => {
-            passes::<medium::matched::V>(medium::EVENTS, medium::INPUTS, n)
-        }
+        ("medium", "matched") => passes::<medium::matched::V>(medium::EVENTS, medium::INPUTS, n),
         ("large", "hand") => passes::<large::hand::V>(large::EVENTS, large::INPUTS, n),
         ("large", "table") => passes::<large::table::V>(large::EVENTS, large::INPUTS, n),
         ("large", "matched") => passes::<large::matched::V>(large::EVENTS, large::INPUTS, n),

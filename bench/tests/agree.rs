@@ -37,7 +37,10 @@ fn agree<H: Variant, T: Variant, M: Variant>(
     for seed in 0..8 {
         let events = random_events(seed, n_events, inputs, 5_000);
         let hand = trace::<H>(&events);
-        for (form, other) in [("table", trace::<T>(&events)), ("match", trace::<M>(&events))] {
+        for (form, other) in [
+            ("table", trace::<T>(&events)),
+            ("match", trace::<M>(&events)),
+        ] {
             for (i, (h, g)) in hand.iter().zip(&other).enumerate() {
                 assert_eq!(
                     h, g,
@@ -62,7 +65,10 @@ fn agree<H: Variant, T: Variant, M: Variant>(
     }
     // The traces exercise the machine, not one corner of it.
     let seen = visited.iter().filter(|v| **v).count();
-    assert!(seen > states / 2, "{size}: {seen} of {states} states visited");
+    assert!(
+        seen > states / 2,
+        "{size}: {seen} of {states} states visited"
+    );
     assert!(fired > 100, "{size}: only {fired} steps ran actions");
 
     // The benchmark's own buffer keeps the machine moving to the end: no sink it gets
