@@ -924,10 +924,6 @@ impl<'a> Gen<'a> {
         let k = lit(self.mask_bytes);
         let has_outputs = !m.outputs.is_empty();
         let has_actions = !t.action_seqs.is_empty();
-        // One `match` for guards and actions together when that takes no more arms than
-        // the two apart: each arm then runs the guards and the chosen rule's actions,
-        // and a step takes one data-dependent jump instead of two.
-        let fused = has_actions && t.programs.len() <= t.guard_seqs.len() + t.action_seqs.len();
         let has_mealy = has_outputs && t.rules.iter().any(|r| r.mealy.iter().any(|b| *b != 0));
         let step_doc = self.step_doc();
         let unhandled = self.unhandled();
@@ -1001,18 +997,13 @@ impl<'a> Gen<'a> {
         let n_events = lit(m.events.len());
         let n_rules = lit(t.rules.len());
         let first_ty = uint(t.rules.len());
-        let seq_ty = uint(if fused {
-            t.programs.len()
-        } else {
-            t.guard_seqs.len()
-        });
+        let seq_ty = uint(t.guard_seqs.len());
         let act_ty = uint(t.action_seqs.len());
-        let rule_actions = has_actions && !fused;
 
         let cell_rows = t.cells.iter().map(|row| {
-            let cells = row.iter().map(|&(f, s, p)| {
-                let f = lit(f);
-                let s = lit(if fused { p } else { s });
+            let cells = row.iter().map(|(f, s)| {
+                let f = lit(*f);
+                let s = lit(*s);
                 quote!((#f, #s))
             });
             quote!([#(#cells),*])
@@ -1029,7 +1020,7 @@ impl<'a> Gen<'a> {
                 mealy: [u8; #k]
             });
         }
-        if rule_actions {
+        if has_actions {
             fields.push(quote! {
                 /// The rule's action sequence (`0`: none), see `run_actions`.
                 actions: #act_ty
@@ -1042,7 +1033,7 @@ impl<'a> Gen<'a> {
                 let bytes = r.mealy.iter().map(|b| lit(*b as usize));
                 parts.push(quote!(mealy: [#(#bytes),*]));
             }
-            if rule_actions {
+            if has_actions {
                 let a = lit(r.actions);
                 parts.push(quote!(actions: #a));
             }
@@ -1066,55 +1057,35 @@ impl<'a> Gen<'a> {
             quote!(return Ok(Outputs {});)
         };
 
-        // The hook calls of action sequence `id` (`0`: none).
-        let calls = |id: usize| -> TokenStream {
-            let seq = id.checked_sub(1).map_or(&[][..], |i| &t.action_seqs[i][..]);
-            let calls = seq.iter().map(|a| {
-                let f = ident(&m.actions[a.index()].name);
-                quote!(hooks.#f();)
-            });
-            quote!(#(#calls)*)
-        };
-        // `select`: one arm per guard list (per guard list and action sequences when
-        // fused), its guards as an `if`/`else if` chain; each arm a block
-        // (`{ Some(i) }`) or an `if` chain, and whether it is a block.
-        let arm = |guards: &[Option<&Guard>], acts: Option<&[usize]>| -> (TokenStream, bool) {
-            let mut chain = quote!({ None });
-            let mut block = true;
-            for (i, guard) in guards.iter().enumerate().rev() {
-                let at = lit(i);
-                let run = acts.map(|a| calls(a[i]));
-                chain = match guard {
-                    None => {
-                        block = true;
-                        quote!({ #run Some(#at) })
-                    }
-                    Some(g) => {
-                        block = false;
-                        let cond = self.guard_expr(g);
-                        quote!(if #cond { #run Some(#at) } else #chain)
-                    }
-                };
-            }
-            (chain, block)
-        };
-        let seq_bodies: Vec<(TokenStream, bool)> = if fused {
-            t.programs
-                .iter()
-                .map(|(seq, acts)| arm(&t.guard_seqs[seq - 1], Some(acts)))
-                .collect()
-        } else {
-            t.guard_seqs.iter().map(|seq| arm(seq, None)).collect()
-        };
+        // `select`: one arm per guard sequence, its guards as an `if`/`else if` chain.
+        let seq_bodies: Vec<TokenStream> = t
+            .guard_seqs
+            .iter()
+            .map(|seq| {
+                // A block (`{ None }`, `{ Some(i) }`) or an `if` chain.
+                let mut chain = quote!({ None });
+                for (i, guard) in seq.iter().enumerate().rev() {
+                    let at = lit(i);
+                    chain = match guard {
+                        None => quote!({ Some(#at) }),
+                        Some(g) => {
+                            let cond = self.guard_expr(g);
+                            quote!(if #cond { Some(#at) } else #chain)
+                        }
+                    };
+                }
+                chain
+            })
+            .collect();
         let select_body = if seq_bodies.len() == 1 {
-            let (body, block) = &seq_bodies[0];
-            if *block {
+            let body = &seq_bodies[0];
+            if t.guard_seqs[0].first().is_some_and(Option::is_none) {
                 quote!(if seq == 1 #body else { None })
             } else {
                 quote!(if seq == 1 { #body } else { None })
             }
         } else {
-            let arms = seq_bodies.iter().enumerate().map(|(i, (body, _))| {
+            let arms = seq_bodies.iter().enumerate().map(|(i, body)| {
                 let id = lit(i + 1);
                 quote!(#id => #body)
             });
@@ -1126,28 +1097,16 @@ impl<'a> Gen<'a> {
             }
         };
         let select_hooks = param("hooks", uses_ident(&select_body, "hooks"));
-        let select_doc = if fused {
-            doc_text(
-                "The position in its run of `RULES` of the first rule whose guard holds, \
-                 for a cell's guard-and-action list `seq` (`0`: the cell has no rules), \
-                 reading inputs through `hooks`, after running that rule's actions (leave \
-                 actions, the rule's actions, enter actions); `None` when no guard holds.",
-            )
-        } else {
-            doc_text(
-                "The position in its run of `RULES` of the first rule whose guard holds, \
-                 for a cell's guard list `seq` (`0`: the cell has no rules), reading \
-                 inputs through `hooks`; `None` when no guard holds.",
-            )
-        };
         let select_fn = quote! {
-            #select_doc
+            /// The position in its run of `RULES` of the first rule whose guard holds,
+            /// for a cell's guard sequence `seq` (`0`: the cell has no rules), reading
+            /// inputs through `hooks`; `None` when no guard holds.
             fn select<H: Hooks + ?Sized>(seq: #seq_ty, #select_hooks: &mut H) -> Option<usize> {
                 #select_body
             }
         };
 
-        let (actions_fn, run_actions) = if rule_actions {
+        let (actions_fn, run_actions) = if has_actions {
             let bodies: Vec<TokenStream> = t
                 .action_seqs
                 .iter()
@@ -1251,18 +1210,14 @@ struct RuleRow {
 
 /// The table style's data, before it becomes tokens.
 struct Tables<'g> {
-    /// `cells[state][event] = (first rule, guard sequence id, program id)`; `(0, 0, 0)`:
-    /// no rules.
-    cells: Vec<Vec<(usize, usize, usize)>>,
+    /// `cells[state][event] = (first rule, guard sequence id)`; `(0, 0)`: no rules.
+    cells: Vec<Vec<(usize, usize)>>,
     rules: Vec<RuleRow>,
     /// Distinct guard sequences of the cells' runs (`None`: no guard, which ends a
     /// sequence); sequence id `i + 1` is `guard_seqs[i]`.
     guard_seqs: Vec<Vec<Option<&'g Guard>>>,
     /// Distinct non-empty action sequences; id `i + 1` is `action_seqs[i]`.
     action_seqs: Vec<Vec<ActionId>>,
-    /// Distinct (guard sequence id, action sequence id of each rule of the run);
-    /// program id `i + 1` is `programs[i]`.
-    programs: Vec<(usize, Vec<usize>)>,
 }
 
 impl<'g> Tables<'g> {
@@ -1273,9 +1228,7 @@ impl<'g> Tables<'g> {
             rules: Vec::new(),
             guard_seqs: Vec::new(),
             action_seqs: Vec::new(),
-            programs: Vec::new(),
         };
-        let mut program_ids: HashMap<(usize, Vec<usize>), usize> = HashMap::new();
         let mut seq_ids: HashMap<Vec<String>, usize> = HashMap::new();
         let mut action_ids: HashMap<Vec<ActionId>, usize> = HashMap::new();
         let mut runs: HashMap<Vec<RuleRow>, usize> = HashMap::new();
@@ -1283,10 +1236,10 @@ impl<'g> Tables<'g> {
             let s = StateId::from_index(si);
             let mut row = Vec::with_capacity(m.events.len());
             // Cells already built for this state, by rule list.
-            let mut local: Vec<(&[RuleId], (usize, usize, usize))> = Vec::new();
+            let mut local: Vec<(&[RuleId], (usize, usize))> = Vec::new();
             for e in 0..m.events.len() {
                 let Some((_, rules)) = m.rules_for(s, crate::model::EventId::from_index(e)) else {
-                    row.push((0, 0, 0));
+                    row.push((0, 0));
                     continue;
                 };
                 if let Some((_, cell)) = local.iter().find(|(rs, _)| *rs == rules) {
@@ -1330,7 +1283,7 @@ impl<'g> Tables<'g> {
                     }
                 }
                 let cell = if run.is_empty() {
-                    (0, 0, 0)
+                    (0, 0)
                 } else {
                     let key: Vec<String> = guards
                         .iter()
@@ -1341,7 +1294,6 @@ impl<'g> Tables<'g> {
                     if seq == next {
                         t.guard_seqs.push(guards);
                     }
-                    let key = (seq, run.iter().map(|r| r.actions).collect::<Vec<_>>());
                     let next = t.rules.len();
                     let first = match runs.get(&run) {
                         Some(&first) => first,
@@ -1351,12 +1303,7 @@ impl<'g> Tables<'g> {
                             next
                         }
                     };
-                    let next = t.programs.len() + 1;
-                    let program = *program_ids.entry(key.clone()).or_insert(next);
-                    if program == next {
-                        t.programs.push(key);
-                    }
-                    (first, seq, program)
+                    (first, seq)
                 };
                 local.push((rules, cell));
                 row.push(cell);
