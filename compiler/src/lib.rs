@@ -16,5 +16,7 @@ pub mod minimize;
 pub mod model;
 pub mod syntax;
 pub mod table;
+#[cfg(test)]
+mod test_support;
 pub mod tour;
 pub mod trace;

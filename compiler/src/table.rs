@@ -526,13 +526,7 @@ pub fn to_csv(m: &Machine) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn machine(src: &str) -> Machine {
-        let file = crate::syntax::parse_source(src).expect("test spec parses");
-        let (mut machines, errors) = crate::model::resolve_file(&file);
-        assert!(errors.is_empty(), "test spec resolves: {errors:?}");
-        machines.remove(0)
-    }
+    use crate::test_support::{machine, GATE};
 
     /// Guards (printed back in spec syntax), partly covered pairs under `unhandled
     /// ignore`, an inherited group rule and Moore output, a terminal state, and
@@ -559,38 +553,6 @@ mod tests {
                 }
             }
             terminal state Broken emit alarm;
-        }";
-
-    /// The Gate machine of the trace tests: `_` at two levels, enter/leave actions,
-    /// `stay` against a self-transition, `unhandled reject`.
-    const GATE: &str = "
-        machine Gate {
-            events Open, Close, Knock, Ping;
-            outputs busy;
-            actions log, ring, door_in, door_out, shut_in, shut_out;
-            start Shut;
-            unhandled reject;
-            recover to Shut except Locked, Ajar;
-
-            group Door {
-                enter do door_in;
-                leave do door_out;
-                Knock => stay, do ring;
-                _ => Shut, do log;
-                state Shut {
-                    enter do shut_in;
-                    leave do shut_out;
-                    Open => Ajar;
-                    Ping => Locked;
-                }
-                state Ajar emit busy {
-                    Close => Shut;
-                    _ => stay;
-                }
-            }
-            state Locked {
-                Open => Shut;
-            }
         }";
 
     #[test]

@@ -657,13 +657,7 @@ impl JsonParser<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn machine(src: &str) -> Machine {
-        let file = crate::syntax::parse_source(src).expect("test spec parses");
-        let (mut machines, errors) = crate::model::resolve_file(&file);
-        assert!(errors.is_empty(), "test spec resolves: {errors:?}");
-        machines.remove(0)
-    }
+    use crate::test_support::{machine, GATE};
 
     fn run(m: &Machine, trace: &str) -> Vec<String> {
         let steps = parse_trace(m, trace).expect("test trace parses");
@@ -756,37 +750,6 @@ Stop
         ];
         assert_eq!(run(&m, trace), expected);
     }
-
-    /// `_` at two levels (a state's `_` beats its group's named rule), an external
-    /// self-transition through a group's `_`, and `unhandled reject`.
-    const GATE: &str = "
-        machine Gate {
-            events Open, Close, Knock, Ping;
-            outputs busy;
-            actions log, ring, door_in, door_out, shut_in, shut_out;
-            start Shut;
-            unhandled reject;
-
-            group Door {
-                enter do door_in;
-                leave do door_out;
-                Knock => stay, do ring;
-                _ => Shut, do log;
-                state Shut {
-                    enter do shut_in;
-                    leave do shut_out;
-                    Open => Ajar;
-                    Ping => Locked;
-                }
-                state Ajar emit busy {
-                    Close => Shut;
-                    _ => stay;
-                }
-            }
-            state Locked {
-                Open => Shut;
-            }
-        }";
 
     #[test]
     fn wildcards_scopes_and_reject() {

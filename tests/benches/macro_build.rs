@@ -9,8 +9,10 @@
 //! macros) and sets `[profile.dev.build-override] opt-level = 3`, as the workspace
 //! and the README recommend for procedural macros. Dependencies are built once before
 //! measuring; each measured iteration touches `src/lib.rs` and runs
-//! `cargo build --offline`, so only the leaf crate rebuilds. All variants share one
-//! target directory under `target/macro-build-bench`.
+//! `cargo build --offline` with `CARGO_INCREMENTAL=0`, so only the leaf crate rebuilds,
+//! and fully (an incremental rebuild of unchanged generated items would cost less than
+//! any real change does). All variants share one target directory under
+//! `target/macro-build-bench`.
 //!
 //! `cargo bench -p detent-tests --bench macro_build` (about 5 minutes here), then
 //! `python3 scripts/bench_ratios.py macro_build --base empty`.
@@ -89,6 +91,9 @@ impl Crate {
             .args(["build", "--offline", "-q", "--manifest-path"])
             .arg(self.dir.join("Cargo.toml"))
             .env("CARGO_TARGET_DIR", target)
+            // A full compile of the leaf crate each time (what a clean or CI build pays),
+            // not an incremental one that reuses the last build's unchanged items.
+            .env("CARGO_INCREMENTAL", "0")
             .output()
             .expect("cannot run cargo");
         let took = start.elapsed();

@@ -18,6 +18,23 @@ pub fn workspace_root() -> PathBuf {
         .map_or_else(|| manifest_dir.to_path_buf(), Path::to_path_buf)
 }
 
+/// The `.detent` files of a workspace folder (e.g. `"examples"`), sorted by path.
+///
+/// # Panics
+///
+/// When the folder cannot be read.
+pub fn spec_files(dir: &str) -> Vec<PathBuf> {
+    let dir = workspace_root().join(dir);
+    let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .unwrap_or_else(|e| panic!("cannot read {}: {e}", dir.display()))
+        .flatten()
+        .map(|e| e.path())
+        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
+        .collect();
+    files.sort();
+    files
+}
+
 /// The Python interpreter for external-reference tests: `$DETENT_PYTHON` if set,
 /// else `<workspace root>/.venv/bin/python` if it exists, else an error telling the
 /// reader to run `scripts/test.sh` (tests must fail on it, never skip).

@@ -38,7 +38,6 @@ use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
 use detent_tests::c_harness::{build_harness, require_tool, run_harness, Cmd};
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
-use detent_tests::workspace_root;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -419,15 +418,7 @@ const TRACE_LEN: usize = 200;
 
 fn cases() -> Vec<Case> {
     let mut all = Vec::new();
-    let dir = workspace_root().join("examples");
-    let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
-        .unwrap()
-        .flatten()
-        .map(|e| e.path())
-        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
-        .collect();
-    files.sort();
-    for f in files {
+    for f in detent_tests::spec_files("examples") {
         let name = f.file_name().unwrap().to_string_lossy().into_owned();
         all.extend(case_of(name, std::fs::read_to_string(&f).unwrap()));
     }

@@ -272,13 +272,7 @@ pub fn to_diagram(m: &Machine) -> Diagram {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn machine(src: &str) -> Machine {
-        let file = crate::syntax::parse_source(src).expect("test spec parses");
-        let (mut machines, errors) = crate::model::resolve_file(&file);
-        assert!(errors.is_empty(), "test spec resolves: {errors:?}");
-        machines.remove(0)
-    }
+    use crate::test_support::machine;
 
     /// The bilge pump of LANGUAGE.md, with a member that overrides its group's rule.
     const PUMP: &str = "

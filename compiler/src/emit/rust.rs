@@ -31,6 +31,14 @@
 //!
 //! Guard expressions are emitted as written, after folding constants (`a && true` is
 //! `a`); a guard that folds to `false` never fires, as its BDD says, and is left out.
+//!
+//! The output is clean under `clippy::pedantic` (`tests/tests/generated_hygiene.rs`):
+//! `#[must_use]` accessors, `# Errors` sections, `From` widening, no repeated match arms.
+//! Where a lint does not fit generated code, the one item carries an
+//! `#[allow(clippy::..., reason = "...")]`: `struct_excessive_bools` on `Outputs`,
+//! `too_many_lines` on functions as long as the spec (only when they are),
+//! `trivially_copy_pass_by_ref` on the `&self` accessors of the API and
+//! `unnecessary_wraps` on the `step` of a machine that never rejects.
 
 use crate::check::to_snake;
 use crate::model::{ActionId, Guard, Machine, OutputId, RuleId, StateId, Target};
@@ -291,6 +299,58 @@ fn uint(max: usize) -> TokenStream {
     }
 }
 
+/// Functions whose length grows with the spec (one `match` arm per state, guard, ...)
+/// get `#[allow(clippy::too_many_lines)]` past this many lines (estimated from the
+/// arms, a margin under the lint's default limit of 100).
+const LONG_FN_LINES: usize = 90;
+
+/// `#[allow(clippy::too_many_lines)]` with `reason` when a function of about `lines`
+/// lines would trip the lint (pedantic, 100 lines by default): the length is the spec's
+/// size, and splitting the function up would only add calls.
+fn long_fn_allow(lines: usize, reason: &str) -> TokenStream {
+    if lines > LONG_FN_LINES {
+        quote!(#[allow(clippy::too_many_lines, reason = #reason)])
+    } else {
+        quote!()
+    }
+}
+
+/// An upper estimate of the lines prettyplease gives `tokens`: one per `;`, `,`, `|` and
+/// `>` (of `=>`), and two per `{ .. }` block (its first and last line). Nearly every
+/// formatted line ends at one of these, and many hold more than one, so this overcounts.
+fn line_estimate(tokens: &TokenStream) -> usize {
+    tokens
+        .clone()
+        .into_iter()
+        .map(|t| match t {
+            proc_macro2::TokenTree::Punct(p) => {
+                usize::from(matches!(p.as_char(), ';' | ',' | '|' | '>'))
+            }
+            proc_macro2::TokenTree::Group(g) => {
+                let own = if g.delimiter() == proc_macro2::Delimiter::Brace {
+                    2
+                } else {
+                    0
+                };
+                own + line_estimate(&g.stream())
+            }
+            _ => 0,
+        })
+        .sum()
+}
+
+/// `#[allow(clippy::trivially_copy_pass_by_ref)]` for the accessors that DESIGN.md gives
+/// `&self`: the lint (pedantic) asks for `self` since `Machine` is one or two bytes, but
+/// only where the item is not exported, as in a firmware binary that includes the file.
+fn by_ref_allow() -> TokenStream {
+    quote! {
+        #[allow(
+            clippy::trivially_copy_pass_by_ref,
+            reason = "the generated API reads the machine through `&self`, like `StateMachine`"
+        )]
+    }
+}
+
 /// Whether `tokens` mention the identifier `name` anywhere (macro arguments too).
 fn uses_ident(tokens: &TokenStream, name: &str) -> bool {
     tokens.clone().into_iter().any(|t| match t {
@@ -453,6 +513,30 @@ impl<'a> Gen<'a> {
         }
     }
 
+    /// `Some(x)` when [`Self::guard_expr`] writes `g` as `!x` at the top level (after
+    /// the same constant folding and double-negation removal).
+    fn negated(g: &Guard) -> Option<&Guard> {
+        match g {
+            Guard::Not(a) => match fold(a) {
+                Folded::Const(_) => None,
+                Folded::Expr(Guard::Not(inner)) => Self::negated(inner),
+                Folded::Expr(x) => Some(x),
+            },
+            Guard::And(a, b) => match (fold(a), fold(b)) {
+                (Folded::Const(true), Folded::Expr(x)) | (Folded::Expr(x), Folded::Const(true)) => {
+                    Self::negated(x)
+                }
+                _ => None,
+            },
+            Guard::Or(a, b) => match (fold(a), fold(b)) {
+                (Folded::Const(false), Folded::Expr(x))
+                | (Folded::Expr(x), Folded::Const(false)) => Self::negated(x),
+                _ => None,
+            },
+            Guard::Input(_) | Guard::Const(_) => None,
+        }
+    }
+
     /// `Outputs { a: true, b: false }` for a set of high outputs.
     fn outputs_literal(&self, high: &[OutputId]) -> TokenStream {
         let fields = self.m.outputs.iter().enumerate().map(|(i, o)| {
@@ -538,6 +622,25 @@ impl<'a> Gen<'a> {
             "The output lines of `{name}` after a step: the Moore outputs of the state \
              together with the Mealy outputs of the rule taken."
         ));
+        // `name` is a `match` with one line per variant inside `match self { .. }`.
+        let state_name_allow =
+            long_fn_allow(m.states.len() + 2, "one match arm per state of the spec");
+        let event_name_allow =
+            long_fn_allow(m.events.len() + 2, "one match arm per event of the spec");
+        // Clippy's `struct_excessive_bools` (pedantic, more than 3 `bool` fields by
+        // default) suggests enums or a state machine; these fields are the spec's
+        // declared output lines, each one a pin that is on or off, so the lint does not
+        // fit. Allowed on this one struct, with the reason in the attribute.
+        let bools_allow = if m.outputs.len() > 3 {
+            quote! {
+                #[allow(
+                    clippy::struct_excessive_bools,
+                    reason = "each field is one of the spec's boolean output lines"
+                )]
+            }
+        } else {
+            quote!()
+        };
         let machine_doc = doc_text(&format!(
             "The `{name}` machine: its current state, {} of RAM.",
             if m.states.len() <= 256 {
@@ -564,6 +667,7 @@ impl<'a> Gen<'a> {
 
                 #outputs_doc
                 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+                #bools_allow
                 pub struct Outputs {
                     #(#output_fields,)*
                 }
@@ -580,6 +684,8 @@ impl<'a> Gen<'a> {
                 pub const ALL: [State; #n_states] = [#(#all_states),*];
 
                 /// The state's name as written in the spec.
+                #[must_use]
+                #state_name_allow
                 pub const fn name(self) -> &'static str {
                     match self {
                         #(#state_names,)*
@@ -587,6 +693,7 @@ impl<'a> Gen<'a> {
                 }
 
                 /// The state numbered `raw`, or `None` when no state has that number.
+                #[must_use]
                 pub const fn from_raw(raw: #state_ty) -> Option<State> {
                     if (raw as usize) < Self::ALL.len() {
                         Some(Self::ALL[raw as usize])
@@ -601,6 +708,8 @@ impl<'a> Gen<'a> {
                 pub const ALL: [Event; #n_events] = [#(#all_events),*];
 
                 /// The event's name as written in the spec.
+                #[must_use]
+                #event_name_allow
                 pub const fn name(self) -> &'static str {
                     match self {
                         #(#event_names,)*
@@ -659,6 +768,26 @@ impl<'a> Gen<'a> {
             "A machine in its start state `{}`, entered without running its enter actions.",
             m.state_name(m.start)
         ));
+        let by_ref_allow = by_ref_allow();
+        let n = m.states.len();
+        let restore_errors = doc_text(&if n == 1 {
+            "`InvalidState` carrying `raw` when no state has that number: the only state is \
+             numbered 0, so when `raw` is not 0."
+                .to_string()
+        } else {
+            format!(
+                "`InvalidState` carrying `raw` when no state has that number: the states are \
+                 numbered 0 to {}, so when `raw` is {n} or more.",
+                n - 1
+            )
+        });
+        // `InvalidState` carries a `u16`: widen a `u8` with `From` (not `as`), and pass
+        // a `u16` as it is.
+        let invalid_fields = if m.states.len() <= 256 {
+            quote!(raw: u16::from(raw))
+        } else {
+            quote!(raw)
+        };
         let restore_raw = if m.states.len() <= 256 {
             quote! {
                 match u8::try_from(raw) {
@@ -675,21 +804,28 @@ impl<'a> Gen<'a> {
                 pub const START: State = #start;
 
                 #start_doc
+                #[must_use]
                 pub const fn new() -> Self {
                     Machine { state: #start }
                 }
 
                 /// The current state.
+                #[must_use]
+                #by_ref_allow
                 pub const fn state(&self) -> State {
                     self.state
                 }
 
                 /// A machine in the state numbered `raw` (for instance read back from
-                /// flash); `Err` when `raw` names no state.
+                /// flash).
+                ///
+                /// # Errors
+                ///
+                #restore_errors
                 pub fn restore(raw: #state_ty) -> Result<Self, ::detent::InvalidState> {
                     match State::from_raw(raw) {
                         Some(state) => Ok(Machine { state }),
-                        None => Err(::detent::InvalidState { raw: raw as u16 }),
+                        None => Err(::detent::InvalidState { #invalid_fields }),
                     }
                 }
             }
@@ -739,16 +875,54 @@ impl<'a> Gen<'a> {
         }
     }
 
+    /// The lint attributes of `step`, whose body is about `lines` long.
+    ///
+    /// A machine that never rejects keeps the `Result` of the common signature, which
+    /// clippy's `unnecessary_wraps` (pedantic) flags where `step` is not exported.
+    fn step_attrs(&self, lines: usize) -> TokenStream {
+        let wraps = if self.m.policy == Policy::Reject {
+            quote!()
+        } else {
+            quote! {
+                #[allow(
+                    clippy::unnecessary_wraps,
+                    reason = "every generated `step` returns `Result`; this machine never rejects"
+                )]
+            }
+        };
+        let long = long_fn_allow(
+            lines,
+            "the body is the spec's transition table written out as one match",
+        );
+        quote!(#wraps #long)
+    }
+
+    /// The doc comment of `step`, with the `# Errors` section saying when it fails.
     fn step_doc(&self) -> TokenStream {
-        let tail = match self.m.policy {
-            Policy::Reject => {
-                "An event no rule handles leaves the state as it is, runs nothing and \
-                 returns `Err(Rejected)`."
-            }
-            _ => {
-                "An event no rule handles leaves the state as it is, runs nothing and \
-                 returns the Moore outputs of the state; this machine never returns `Err`."
-            }
+        let (tail, errors) = match self.m.policy {
+            Policy::Reject => (
+                None,
+                "`Rejected` when no rule handles `event` in the current state: the innermost \
+                 scope with rules for `event` (the state, then its groups outward) has none \
+                 whose guard holds, or no scope has a rule for it. The state is left as it is \
+                 and no action runs (`unhandled reject`).",
+            ),
+            Policy::Ignore => (
+                Some(
+                    "An event no rule handles leaves the state as it is, runs nothing and \
+                     returns the Moore outputs of the state.",
+                ),
+                "Never: this machine ignores the events no rule handles (`unhandled \
+                 ignore`), so `step` always returns `Ok`.",
+            ),
+            Policy::Complete => (
+                Some(
+                    "An event no rule handles leaves the state as it is, runs nothing and \
+                     returns the Moore outputs of the state.",
+                ),
+                "Never: the checker found a rule for every event in every state and for \
+                 every input value (`unhandled complete`), so `step` always returns `Ok`.",
+            ),
         };
         let mut lines = wrap(
             "Takes one event: finds the rule of the innermost scope whose guard holds, runs \
@@ -756,8 +930,14 @@ impl<'a> Gen<'a> {
              the target and returns the Moore outputs of the new state with the rule's Mealy \
              outputs.",
         );
+        if let Some(tail) = tail {
+            lines.push(String::new());
+            lines.extend(wrap(tail));
+        }
         lines.push(String::new());
-        lines.extend(wrap(tail));
+        lines.push("# Errors".to_string());
+        lines.push(String::new());
+        lines.extend(wrap(errors));
         doc_attrs(&lines)
     }
 
@@ -797,10 +977,9 @@ impl<'a> Gen<'a> {
         let unhandled = self.unhandled();
         let state_arms = (0..m.states.len()).map(|si| {
             let s = StateId::from_index(si);
-            let v = self.state_variant(s);
             // Events grouped by the rules they resolve to.
             let mut groups: Vec<(&[RuleId], Vec<usize>)> = Vec::new();
-            let mut unhandled_events = false;
+            let mut unhandled_events = Vec::new();
             for e in 0..m.events.len() {
                 match m.rules_for(s, crate::model::EventId::from_index(e)) {
                     Some((_, rules))
@@ -813,39 +992,83 @@ impl<'a> Gen<'a> {
                             None => groups.push((rules, vec![e])),
                         }
                     }
-                    _ => unhandled_events = true,
+                    _ => unhandled_events.push(e),
                 }
             }
             if groups.is_empty() {
-                return quote!(#v => #unhandled);
+                return (self.state_variant(s), unhandled.clone());
             }
-            let event_arms = groups.iter().map(|(rules, events)| {
-                let pats = events.iter().map(|&e| self.event_variant(e));
-                let body = self.rule_chain(s, rules);
-                quote!(#(#pats)|* => #body)
-            });
-            let rest = if unhandled_events {
-                quote!(_ => #unhandled)
-            } else {
-                quote!()
+            // Different rule lists can still compile to the same code (same target,
+            // outputs and actions): one arm per distinct body, so no two arms repeat
+            // each other (clippy's `match_same_arms`).
+            let event_arms = merge_arms(groups.iter().map(|(rules, events)| {
+                let pats = events.iter().map(|&e| self.event_variant(e)).collect();
+                (pats, self.rule_chain(s, rules))
+            }));
+            let event_arms = event_arms
+                .iter()
+                .map(|(pats, body)| quote!(#(#pats)|* => #body));
+            // The events left over share the unhandled arm: `_`, or the variant itself
+            // when only one is left (a wildcard standing for one variant is
+            // `match_wildcard_for_single_variants`).
+            let rest = match unhandled_events.as_slice() {
+                [] => quote!(),
+                [e] => {
+                    let v = self.event_variant(*e);
+                    quote!(#v => #unhandled)
+                }
+                _ => quote!(_ => #unhandled),
             };
-            quote!(#v => match event { #(#event_arms,)* #rest })
+            (
+                self.state_variant(s),
+                quote!(match event { #(#event_arms,)* #rest }),
+            )
         });
+        // States whose arms come out the same (for instance two states without rules)
+        // share one arm too.
+        let state_arms = merge_arms(state_arms.map(|(v, body)| (vec![v], body)));
+        let state_arms = state_arms
+            .iter()
+            .map(|(pats, body)| quote!(#(#pats)|* => #body));
         let step_doc = self.step_doc();
-        // A machine without guards or actions (or without rules) leaves a parameter
-        // unused: name it `_x` then, so the code builds warning-free.
+        let by_ref_allow = by_ref_allow();
+        // Per group of states: a line per state pattern, then the `Outputs` literal.
+        let outputs_lines = if moore_groups.len() > 1 {
+            moore_groups
+                .iter()
+                .map(|(_, vs)| vs.len() + m.outputs.len() + 3)
+                .sum::<usize>()
+                + 2
+        } else {
+            m.outputs.len() + 2
+        };
+        let outputs_len_allow = long_fn_allow(
+            outputs_lines,
+            "one match arm per group of states with the same Moore outputs",
+        );
         let state_arms: Vec<TokenStream> = state_arms.collect();
         let arms = quote!(#(#state_arms)*);
+        // Clippy's `too_many_lines` (pedantic, 100 lines) would count the spec here: the
+        // body is the whole transition table written out, and splitting it into
+        // functions would only add calls to the hot path. A long `step` gets the allow,
+        // reason given.
+        let step_attrs = self.step_attrs(line_estimate(&arms) + 2);
+        // A machine without guards or actions (or without rules) leaves a parameter
+        // unused: name it `_x` then, so the code builds warning-free.
         let hooks_param = param("hooks", uses_ident(&arms, "hooks"));
         let event_param = param("event", uses_ident(&arms, "event"));
         quote! {
             impl Machine {
                 /// The Moore outputs of the current state.
+                #[must_use]
+                #by_ref_allow
+                #outputs_len_allow
                 pub fn outputs(&self) -> Outputs {
                     #outputs_body
                 }
 
                 #step_doc
+                #step_attrs
                 pub fn step<H: Hooks + ?Sized>(
                     &mut self,
                     #event_param: Event,
@@ -882,9 +1105,21 @@ impl<'a> Gen<'a> {
         });
         let unhandled = self.unhandled();
         let mut chain = chain.unwrap_or_else(|| quote!({ #unhandled }));
+        let single = guarded.len() == 1;
         for (r, g) in guarded.into_iter().rev() {
-            let cond = self.guard_expr(g);
             let body = self.fire(s, r);
+            // A lone guarded rule is `if g { .. } else { .. }`: when `g` is a negation,
+            // test its positive form and swap the branches, so the code does not read
+            // `if !x { .. } else { .. }` (clippy's `if_not_else`, which leaves `else if`
+            // chains alone).
+            if single {
+                if let Some(positive) = Self::negated(g) {
+                    let cond = self.guard_expr(positive);
+                    chain = quote!(if #cond #chain else { #body });
+                    continue;
+                }
+            }
+            let cond = self.guard_expr(g);
             chain = quote!(if #cond { #body } else #chain);
         }
         chain
@@ -945,8 +1180,10 @@ impl<'a> Gen<'a> {
                 let bit = Literal::u8_unsuffixed(1 << (i % 8));
                 quote!(#f: ((moore[#byte] | mealy[#byte]) & #bit) != 0)
             });
+            let allow = long_fn_allow(m.outputs.len() + 2, "one line per output of the spec");
             quote! {
                 /// The outputs whose bits are set in either mask.
+                #allow
                 fn outputs_from(moore: [u8; #k], mealy: [u8; #k]) -> Outputs {
                     Outputs { #(#fields),* }
                 }
@@ -965,8 +1202,12 @@ impl<'a> Gen<'a> {
         } else {
             quote!(Outputs {})
         };
+        let step_attrs = self.step_attrs(0);
+        let by_ref_allow = by_ref_allow();
         let outputs_fn = quote! {
             /// The Moore outputs of the current state.
+            #[must_use]
+            #by_ref_allow
             pub fn outputs(&self) -> Outputs {
                 #outputs_body
             }
@@ -982,6 +1223,7 @@ impl<'a> Gen<'a> {
                     #outputs_fn
 
                     #step_doc
+                    #step_attrs
                     pub fn step<H: Hooks + ?Sized>(
                         &mut self,
                         _event: Event,
@@ -1097,10 +1339,15 @@ impl<'a> Gen<'a> {
             }
         };
         let select_hooks = param("hooks", uses_ident(&select_body, "hooks"));
+        let select_allow = long_fn_allow(
+            line_estimate(&select_body) + 2,
+            "one match arm per distinct guard list of the spec",
+        );
         let select_fn = quote! {
             /// The position in its run of `RULES` of the first rule whose guard holds,
             /// for a cell's guard sequence `seq` (`0`: the cell has no rules), reading
             /// inputs through `hooks`; `None` when no guard holds.
+            #select_allow
             fn select<H: Hooks + ?Sized>(seq: #seq_ty, #select_hooks: &mut H) -> Option<usize> {
                 #select_body
             }
@@ -1133,10 +1380,15 @@ impl<'a> Gen<'a> {
                     }
                 }
             };
+            let run_actions_allow = long_fn_allow(
+                line_estimate(&body) + 2,
+                "one match arm per distinct action sequence of the spec",
+            );
             (
                 quote! {
                     /// Runs action sequence `actions` (`0`: none) through `hooks`: the
                     /// leave actions, the rule's actions and the enter actions, in order.
+                    #run_actions_allow
                     fn run_actions<H: Hooks + ?Sized>(actions: #act_ty, hooks: &mut H) {
                         #body
                     }
@@ -1170,6 +1422,7 @@ impl<'a> Gen<'a> {
                 #outputs_fn
 
                 #step_doc
+                #step_attrs
                 pub fn step<H: Hooks + ?Sized>(
                     &mut self,
                     event: Event,
@@ -1197,6 +1450,26 @@ impl<'a> Gen<'a> {
             }
         }
     }
+}
+
+/// Match arms `(patterns, body)` with equal bodies merged into one arm (patterns joined
+/// with `|`), in the order each body first appears. The patterns are distinct enum
+/// variants, so reordering them cannot change which arm a value takes.
+fn merge_arms(
+    arms: impl Iterator<Item = (Vec<TokenStream>, TokenStream)>,
+) -> Vec<(Vec<TokenStream>, TokenStream)> {
+    let mut merged: Vec<(Vec<TokenStream>, TokenStream)> = Vec::new();
+    let mut index: HashMap<String, usize> = HashMap::new();
+    for (pats, body) in arms {
+        match index.get(&body.to_string()) {
+            Some(&i) => merged[i].0.extend(pats),
+            None => {
+                index.insert(body.to_string(), merged.len());
+                merged.push((pats, body));
+            }
+        }
+    }
+    merged
 }
 
 /// One row of the rule table.

@@ -179,42 +179,31 @@ fn parse_file(tokens: TokenStream) -> syn::Result<File> {
         let (attrs, vis, name) = parse_machine_header.parse2(header.into_iter().collect())?;
         let mut decls = Vec::new();
         let mut members = Vec::new();
-        // Take the body's tokens out of the group so they are not shared (a shared
-        // stream is copied when iterated), and free each item once parsed.
-        let close = body.span_close();
-        let stream = body.stream();
-        drop(body);
-        for item in split_items(stream) {
-            if let Some((head, inner)) = group_item(&item) {
-                members.push(parse_group_item(head, inner, 0)?);
-                continue;
-            }
-            in_scope(item, close, |content| {
-                while !content.is_empty() {
-                    let item_attrs = parse_attrs(content, false)?;
-                    if let Some(decl) = try_parse_decl(content)? {
-                        if let Some(span) = item_attrs.first_span {
-                            return Err(syn::Error::new(
-                                span,
-                                "a doc comment or attribute here documents nothing: put doc \
+        parse_items(body, 0, &mut members, |content, members| {
+            while !content.is_empty() {
+                let item_attrs = parse_attrs(content, false)?;
+                if let Some(decl) = try_parse_decl(content)? {
+                    if let Some(span) = item_attrs.first_span {
+                        return Err(syn::Error::new(
+                            span,
+                            "a doc comment or attribute here documents nothing: put doc \
                                  comments before each name in the list, and lint attributes \
                                  on the machine",
-                            ));
-                        }
-                        if !members.is_empty() {
-                            return Err(syn::Error::new(
-                                decl.span,
-                                "declarations come before states and groups",
-                            ));
-                        }
-                        decls.push(decl);
-                    } else {
-                        members.push(parse_member(content, item_attrs, 0)?);
+                        ));
                     }
+                    if !members.is_empty() {
+                        return Err(syn::Error::new(
+                            decl.span,
+                            "declarations come before states and groups",
+                        ));
+                    }
+                    decls.push(decl);
+                } else {
+                    members.push(parse_member(content, item_attrs, 0)?);
                 }
-                Ok(())
-            })?;
-        }
+            }
+            Ok(())
+        })?;
         machines.push(MachineAst {
             attrs: attrs.attrs,
             doc: attrs.doc,
@@ -301,6 +290,30 @@ fn in_scope<T>(
     .parse2(TokenStream::from(TokenTree::Group(g)))
 }
 
+/// The items of a brace-delimited body ([`split_items`]): group items become members
+/// at `group_depth` (their own bodies split again), every other item is parsed by
+/// `item` in a scope that ends at the body's `}`. The body's tokens are taken out of
+/// the group so they are not shared (a shared stream is copied when iterated), and
+/// each item is freed once parsed.
+fn parse_items(
+    body: Group,
+    group_depth: usize,
+    members: &mut Vec<Member>,
+    mut item: impl FnMut(ParseStream, &mut Vec<Member>) -> syn::Result<()>,
+) -> syn::Result<()> {
+    let close = body.span_close();
+    let stream = body.stream();
+    drop(body);
+    for tokens in split_items(stream) {
+        if let Some((head, inner)) = group_item(&tokens) {
+            members.push(parse_group_item(head, inner, group_depth)?);
+            continue;
+        }
+        in_scope(tokens, close, |content| item(content, members))?;
+    }
+    Ok(())
+}
+
 /// A group item, its body split into items too.
 fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result<Member> {
     let (attrs, name, emit) = (|input: ParseStream| {
@@ -319,18 +332,9 @@ fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result
     .parse2(head)?;
     let mut rules = Vec::new();
     let mut members = Vec::new();
-    let close = body.span_close();
-    let stream = body.stream();
-    drop(body);
-    for item in split_items(stream) {
-        if let Some((head, inner)) = group_item(&item) {
-            members.push(parse_group_item(head, inner, depth + 1)?);
-            continue;
-        }
-        in_scope(item, close, |content| {
-            group_content(content, depth, &mut rules, &mut members)
-        })?;
-    }
+    parse_items(body, depth + 1, &mut members, |content, members| {
+        group_content(content, depth, &mut rules, members)
+    })?;
     Ok(Member::Group(GroupAst {
         attrs: attrs.attrs,
         doc: attrs.doc,
