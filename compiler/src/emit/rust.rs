@@ -1306,14 +1306,23 @@ impl<'a> Gen<'a> {
             .map(|seq| {
                 // A block (`{ None }`, `{ Some(i) }`) or an `if` chain.
                 let mut chain = quote!({ None });
+                // A lone guard that is a negation is tested in its positive form with
+                // the branches swapped (clippy's `if_not_else`), as in `rule_chain`.
+                let single = seq.iter().filter(|g| g.is_some()).count() == 1;
                 for (i, guard) in seq.iter().enumerate().rev() {
                     let at = lit(i);
                     chain = match guard {
                         None => quote!({ Some(#at) }),
-                        Some(g) => {
-                            let cond = self.guard_expr(g);
-                            quote!(if #cond { Some(#at) } else #chain)
-                        }
+                        Some(g) => match Self::negated(g).filter(|_| single) {
+                            Some(positive) => {
+                                let cond = self.guard_expr(positive);
+                                quote!(if #cond #chain else { Some(#at) })
+                            }
+                            None => {
+                                let cond = self.guard_expr(g);
+                                quote!(if #cond { Some(#at) } else #chain)
+                            }
+                        },
                     };
                 }
                 chain
