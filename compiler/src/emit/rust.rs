@@ -9,13 +9,17 @@
 //! together with the rule's Mealy outputs, and `ignore`/`reject` for the rest.
 //!
 //! **Table style** (`#[dispatch(table)]`, the default): flash-resident `static` tables in
-//! the narrowest integer types. `CELLS[state][event]` is a `(first, count)` range into
-//! `RULES`; each rule holds a guard id, the target state, its Mealy outputs as a byte
-//! mask and a `(first, count)` range into `ACTIONS`. Because the actions of a rule
-//! depend on the state it fires in (enter/leave actions), a rule entry belongs to a
-//! (state, rule) pair; identical runs of entries are stored once. Guards run through a
-//! generated `match` on the guard id (ids number the distinct guard expressions), and
-//! actions through a `match` on the action id. Every table access is `.get()` with a
+//! the narrowest integer types. `CELLS[state][event]` is `(first, seq)`: the rules of the
+//! scope used for that pair are a run of `RULES` starting at `first`, and `seq` numbers
+//! the run's list of guards. Each rule holds the target state, its Mealy outputs as a
+//! byte mask and an action-sequence number. Because the actions of a rule depend on the
+//! state it fires in (enter/leave actions), a rule entry belongs to a (state, rule)
+//! pair; identical runs of entries are stored once. A step costs two small `match`es
+//! besides the table loads: `select` on the guard-list number (one arm per distinct
+//! list, its guards as an `if`/`else if` chain giving the position of the rule taken)
+//! and `run_actions` on the action-sequence number (one arm per distinct sequence,
+//! the hook calls in order), so the code grows with the distinct guard lists and
+//! action sequences, not with states x events. Every table access is `.get()` with a
 //! fallback, so `step` has no panic path whatever the optimizer proves.
 //!
 //! **Match style** (`#[dispatch(match)]`): `match self.state { S => match event { .. } }`,
@@ -1154,77 +1158,13 @@ impl<'a> Gen<'a> {
         let state_ty = &self.state_ty;
         let k = lit(self.mask_bytes);
         let has_outputs = !m.outputs.is_empty();
-        let has_guards = !t.guards.is_empty();
-        let has_actions = !t.actions.is_empty();
+        let has_actions = !t.action_seqs.is_empty();
         let has_mealy = has_outputs && t.rules.iter().any(|r| r.mealy.iter().any(|b| *b != 0));
-
-        let n_states = lit(m.states.len());
-        let n_events = lit(m.events.len());
-        let n_rules = lit(t.rules.len());
-        let first_ty = uint(t.rules.len());
-        let count_ty = uint(t.cells.iter().flatten().map(|c| c.1).max().unwrap_or(0));
-        let guard_ty = uint(t.guards.len());
-        let act_first_ty = uint(t.actions.len());
-        let act_count_ty = uint(t.rules.iter().map(|r| r.action_count).max().unwrap_or(0));
-        let act_ty = uint(m.actions.len().saturating_sub(1));
-
-        let cell_rows = t.cells.iter().map(|row| {
-            let cells = row.iter().map(|(f, c)| {
-                let f = lit(*f);
-                let c = lit(*c);
-                quote!((#f, #c))
-            });
-            quote!([#(#cells),*])
-        });
-
-        // The Rule struct and table.
-        let mut fields = vec![quote! {
-            /// The target state's number (the state itself for `stay`).
-            target: #state_ty
-        }];
-        if has_guards {
-            fields.push(quote! {
-                /// The guard id (`0`: no guard), see `guard_holds`.
-                guard: #guard_ty
-            });
-        }
-        if has_mealy {
-            fields.push(quote! {
-                /// Mealy outputs: bit `i % 8` of byte `i / 8` is output `i`.
-                mealy: [u8; #k]
-            });
-        }
-        if has_actions {
-            fields.push(quote! {
-                /// First entry of the rule's action sequence in `ACTIONS`.
-                actions: #act_first_ty
-            });
-            fields.push(quote! {
-                /// Length of the rule's action sequence.
-                action_count: #act_count_ty
-            });
-        }
-        let rule_rows = t.rules.iter().map(|r| {
-            let target = lit(r.target);
-            let mut parts = vec![quote!(target: #target)];
-            if has_guards {
-                let g = lit(r.guard);
-                parts.push(quote!(guard: #g));
-            }
-            if has_mealy {
-                let bytes = r.mealy.iter().map(|b| lit(*b as usize));
-                parts.push(quote!(mealy: [#(#bytes),*]));
-            }
-            if has_actions {
-                let a = lit(r.actions);
-                let c = lit(r.action_count);
-                parts.push(quote!(actions: #a));
-                parts.push(quote!(action_count: #c));
-            }
-            quote!(Rule { #(#parts),* })
-        });
+        let step_doc = self.step_doc();
+        let unhandled = self.unhandled();
 
         let moore_table = if has_outputs {
+            let n_states = lit(m.states.len());
             let rows = m.states.iter().map(|s| self.mask_literal(&s.moore));
             quote! {
                 /// Moore outputs per state: bit `i % 8` of byte `i / 8` is output `i`.
@@ -1262,6 +1202,86 @@ impl<'a> Gen<'a> {
         } else {
             quote!(Outputs {})
         };
+        let step_attrs = self.step_attrs(0);
+        let by_ref_allow = by_ref_allow();
+        let outputs_fn = quote! {
+            /// The Moore outputs of the current state.
+            #[must_use]
+            #by_ref_allow
+            pub fn outputs(&self) -> Outputs {
+                #outputs_body
+            }
+        };
+
+        if t.guard_seqs.is_empty() {
+            // No rule can fire anywhere: no tables to consult.
+            return quote! {
+                #moore_table
+                #outputs_from
+
+                impl Machine {
+                    #outputs_fn
+
+                    #step_doc
+                    #step_attrs
+                    pub fn step<H: Hooks + ?Sized>(
+                        &mut self,
+                        _event: Event,
+                        _hooks: &mut H,
+                    ) -> Result<Outputs, ::detent::Rejected> {
+                        #unhandled
+                    }
+                }
+            };
+        }
+
+        let n_states = lit(m.states.len());
+        let n_events = lit(m.events.len());
+        let n_rules = lit(t.rules.len());
+        let first_ty = uint(t.rules.len());
+        let seq_ty = uint(t.guard_seqs.len());
+        let act_ty = uint(t.action_seqs.len());
+
+        let cell_rows = t.cells.iter().map(|row| {
+            let cells = row.iter().map(|(f, s)| {
+                let f = lit(*f);
+                let s = lit(*s);
+                quote!((#f, #s))
+            });
+            quote!([#(#cells),*])
+        });
+
+        // The Rule struct and table.
+        let mut fields = vec![quote! {
+            /// The target state's number (the state itself for `stay`).
+            target: #state_ty
+        }];
+        if has_mealy {
+            fields.push(quote! {
+                /// Mealy outputs: bit `i % 8` of byte `i / 8` is output `i`.
+                mealy: [u8; #k]
+            });
+        }
+        if has_actions {
+            fields.push(quote! {
+                /// The rule's action sequence (`0`: none), see `run_actions`.
+                actions: #act_ty
+            });
+        }
+        let rule_rows = t.rules.iter().map(|r| {
+            let target = lit(r.target);
+            let mut parts = vec![quote!(target: #target)];
+            if has_mealy {
+                let bytes = r.mealy.iter().map(|b| lit(*b as usize));
+                parts.push(quote!(mealy: [#(#bytes),*]));
+            }
+            if has_actions {
+                let a = lit(r.actions);
+                parts.push(quote!(actions: #a));
+            }
+            quote!(Rule { #(#parts),* })
+        });
+
         let step_outputs = if has_outputs {
             let mealy = if has_mealy {
                 quote!(rule.mealy)
@@ -1279,158 +1299,161 @@ impl<'a> Gen<'a> {
             quote!(return Ok(Outputs {});)
         };
 
-        let guard_fn = if has_guards {
-            let arms = t.guards.iter().enumerate().map(|(i, g)| {
-                let id = lit(i + 1);
-                let e = self.guard_expr(g);
-                quote!(#id => #e)
-            });
-            let allow = long_fn_allow(
-                t.guards.len() + 4,
-                "one match arm per distinct guard of the spec",
-            );
-            quote! {
-                /// Evaluates guard `guard` (`0`: no guard), reading inputs through `hooks`.
-                #allow
-                fn guard_holds<H: Hooks + ?Sized>(guard: #guard_ty, hooks: &mut H) -> bool {
-                    match guard {
-                        0 => true,
-                        #(#arms,)*
-                        _ => false,
-                    }
+        // `select`: one arm per guard sequence, its guards as an `if`/`else if` chain.
+        let seq_bodies: Vec<TokenStream> = t
+            .guard_seqs
+            .iter()
+            .map(|seq| {
+                // A block (`{ None }`, `{ Some(i) }`) or an `if` chain.
+                let mut chain = quote!({ None });
+                // A lone guard that is a negation is tested in its positive form with
+                // the branches swapped (clippy's `if_not_else`), as in `rule_chain`.
+                let single = seq.iter().filter(|g| g.is_some()).count() == 1;
+                for (i, guard) in seq.iter().enumerate().rev() {
+                    let at = lit(i);
+                    chain = match guard {
+                        None => quote!({ Some(#at) }),
+                        Some(g) => match Self::negated(g).filter(|_| single) {
+                            Some(positive) => {
+                                let cond = self.guard_expr(positive);
+                                quote!(if #cond #chain else { Some(#at) })
+                            }
+                            None => {
+                                let cond = self.guard_expr(g);
+                                quote!(if #cond { Some(#at) } else #chain)
+                            }
+                        },
+                    };
                 }
+                chain
+            })
+            .collect();
+        let select_body = if seq_bodies.len() == 1 {
+            let body = &seq_bodies[0];
+            if t.guard_seqs[0].first().is_some_and(Option::is_none) {
+                quote!(if seq == 1 #body else { None })
+            } else {
+                quote!(if seq == 1 { #body } else { None })
             }
         } else {
-            quote!()
-        };
-        let actions_table = if has_actions {
-            let ids = t.actions.iter().map(|a| lit(a.index()));
-            let n = lit(t.actions.len());
-            let body = if m.actions.len() == 1 {
-                let f = ident(&m.actions[0].name);
-                quote! {
-                    if action == 0 {
-                        hooks.#f();
-                    }
+            let arms = seq_bodies.iter().enumerate().map(|(i, body)| {
+                let id = lit(i + 1);
+                quote!(#id => #body)
+            });
+            quote! {
+                match seq {
+                    #(#arms,)*
+                    _ => None,
                 }
+            }
+        };
+        let select_hooks = param("hooks", uses_ident(&select_body, "hooks"));
+        let select_allow = long_fn_allow(
+            line_estimate(&select_body) + 2,
+            "one match arm per distinct guard list of the spec",
+        );
+        let select_fn = quote! {
+            /// The position in its run of `RULES` of the first rule whose guard holds,
+            /// for a cell's guard sequence `seq` (`0`: the cell has no rules), reading
+            /// inputs through `hooks`; `None` when no guard holds.
+            #select_allow
+            fn select<H: Hooks + ?Sized>(seq: #seq_ty, #select_hooks: &mut H) -> Option<usize> {
+                #select_body
+            }
+        };
+
+        let (actions_fn, run_actions) = if has_actions {
+            let bodies: Vec<TokenStream> = t
+                .action_seqs
+                .iter()
+                .map(|seq| {
+                    let calls = seq.iter().map(|a| {
+                        let f = ident(&m.actions[a.index()].name);
+                        quote!(hooks.#f();)
+                    });
+                    quote!({ #(#calls)* })
+                })
+                .collect();
+            let body = if bodies.len() == 1 {
+                let b = &bodies[0];
+                quote!(if actions == 1 #b)
             } else {
-                let arms = m.actions.iter().enumerate().map(|(i, a)| {
-                    let id = lit(i);
-                    let f = ident(&a.name);
-                    quote!(#id => hooks.#f())
+                let arms = bodies.iter().enumerate().map(|(i, b)| {
+                    let id = lit(i + 1);
+                    quote!(#id => #b)
                 });
                 quote! {
-                    match action {
-                        #(#arms,)*
+                    match actions {
+                        #(#arms)*
                         _ => {}
                     }
                 }
             };
-            let run_action_allow =
-                long_fn_allow(m.actions.len() + 3, "one match arm per action of the spec");
-            quote! {
-                /// Action sequences of the rules (action numbers in declaration order),
-                /// leave and enter actions included.
-                static ACTIONS: [#act_ty; #n] = [#(#ids),*];
-
-                /// Runs action number `action` through `hooks`.
-                #run_action_allow
-                fn run_action<H: Hooks + ?Sized>(action: #act_ty, hooks: &mut H) {
-                    #body
-                }
-            }
+            let run_actions_allow = long_fn_allow(
+                line_estimate(&body) + 2,
+                "one match arm per distinct action sequence of the spec",
+            );
+            (
+                quote! {
+                    /// Runs action sequence `actions` (`0`: none) through `hooks`: the
+                    /// leave actions, the rule's actions and the enter actions, in order.
+                    #run_actions_allow
+                    fn run_actions<H: Hooks + ?Sized>(actions: #act_ty, hooks: &mut H) {
+                        #body
+                    }
+                },
+                quote!(run_actions(rule.actions, hooks);),
+            )
         } else {
-            quote!()
-        };
-        let run_actions = if has_actions {
-            quote! {
-                let first = usize::from(rule.actions);
-                let sequence = match ACTIONS.get(first..first + usize::from(rule.action_count)) {
-                    Some(sequence) => sequence,
-                    None => &[],
-                };
-                for &action in sequence {
-                    run_action(action, hooks);
-                }
-            }
-        } else {
-            quote!()
+            (quote!(), quote!())
         };
         let trace = self.trace();
-        let fire = quote! {
-            let to = match State::from_raw(rule.target) {
-                Some(to) => to,
-                None => from,
-            };
-            #run_actions
-            self.state = to;
-            #trace
-            #step_outputs
-        };
-        let select = if has_guards {
-            quote! {
-                for rule in rules {
-                    if guard_holds(rule.guard, hooks) {
-                        #fire
-                    }
-                }
-            }
-        } else {
-            quote! {
-                if let Some(rule) = rules.first() {
-                    #fire
-                }
-            }
-        };
-        let step_doc = self.step_doc();
-        let step_attrs = self.step_attrs(0);
-        let by_ref_allow = by_ref_allow();
-        let unhandled = self.unhandled();
-        let hooks_param = param("hooks", has_guards || has_actions);
         quote! {
             /// One rule as it fires in one state.
             struct Rule {
                 #(#fields,)*
             }
 
-            /// `CELLS[state][event]`: the `(first, count)` range of `RULES` holding the
-            /// rules of the scope used for that pair, tried in order.
-            static CELLS: [[(#first_ty, #count_ty); #n_events]; #n_states] = [#(#cell_rows),*];
+            /// `CELLS[state][event]`: `(first, seq)`, the rules of the scope used for
+            /// that pair start at `RULES[first]` and `seq` numbers their guards (see
+            /// `select`).
+            static CELLS: [[(#first_ty, #seq_ty); #n_events]; #n_states] = [#(#cell_rows),*];
 
             /// The rules, grouped in runs that `CELLS` points at.
             static RULES: [Rule; #n_rules] = [#(#rule_rows),*];
 
             #moore_table
-            #actions_table
-            #guard_fn
+            #select_fn
+            #actions_fn
             #outputs_from
 
             impl Machine {
-                /// The Moore outputs of the current state.
-                #[must_use]
-                #by_ref_allow
-                pub fn outputs(&self) -> Outputs {
-                    #outputs_body
-                }
+                #outputs_fn
 
                 #step_doc
                 #step_attrs
                 pub fn step<H: Hooks + ?Sized>(
                     &mut self,
                     event: Event,
-                    #hooks_param: &mut H,
+                    hooks: &mut H,
                 ) -> Result<Outputs, ::detent::Rejected> {
                     let from = self.state;
-                    let (first, count) = match CELLS.get(from as usize).and_then(|row| row.get(event as usize)) {
+                    let (first, seq) = match CELLS.get(from as usize).and_then(|row| row.get(event as usize)) {
                         Some(cell) => *cell,
                         None => (0, 0),
                     };
-                    let first = usize::from(first);
-                    let rules = match RULES.get(first..first + usize::from(count)) {
-                        Some(rules) => rules,
-                        None => &[],
-                    };
-                    #select
+                    if let Some(at) = select(seq, hooks) {
+                        if let Some(rule) = RULES.get(usize::from(first) + at) {
+                            let to = match State::from_raw(rule.target) {
+                                Some(to) => to,
+                                None => from,
+                            };
+                            #run_actions
+                            self.state = to;
+                            #trace
+                            #step_outputs
+                        }
+                    }
                     #unhandled
                 }
             }
@@ -1462,21 +1485,21 @@ fn merge_arms(
 #[derive(Clone, PartialEq, Eq, Hash)]
 struct RuleRow {
     target: usize,
-    guard: usize,
     mealy: Vec<u8>,
+    /// Action sequence id (`0`: none; `i + 1` is `Tables::action_seqs[i]`).
     actions: usize,
-    action_count: usize,
 }
 
 /// The table style's data, before it becomes tokens.
 struct Tables<'g> {
-    /// `cells[state][event] = (first, count)`.
+    /// `cells[state][event] = (first rule, guard sequence id)`; `(0, 0)`: no rules.
     cells: Vec<Vec<(usize, usize)>>,
     rules: Vec<RuleRow>,
-    /// Distinct guard expressions; guard id `i + 1` is `guards[i]`.
-    guards: Vec<&'g Guard>,
-    /// Action sequences, concatenated.
-    actions: Vec<ActionId>,
+    /// Distinct guard sequences of the cells' runs (`None`: no guard, which ends a
+    /// sequence); sequence id `i + 1` is `guard_seqs[i]`.
+    guard_seqs: Vec<Vec<Option<&'g Guard>>>,
+    /// Distinct non-empty action sequences; id `i + 1` is `action_seqs[i]`.
+    action_seqs: Vec<Vec<ActionId>>,
 }
 
 impl<'g> Tables<'g> {
@@ -1485,16 +1508,16 @@ impl<'g> Tables<'g> {
         let mut t = Tables {
             cells: Vec::with_capacity(m.states.len()),
             rules: Vec::new(),
-            guards: Vec::new(),
-            actions: Vec::new(),
+            guard_seqs: Vec::new(),
+            action_seqs: Vec::new(),
         };
-        let mut guard_ids: HashMap<String, usize> = HashMap::new();
-        let mut sequences: HashMap<Vec<ActionId>, usize> = HashMap::new();
+        let mut seq_ids: HashMap<Vec<String>, usize> = HashMap::new();
+        let mut action_ids: HashMap<Vec<ActionId>, usize> = HashMap::new();
         let mut runs: HashMap<Vec<RuleRow>, usize> = HashMap::new();
         for si in 0..m.states.len() {
             let s = StateId::from_index(si);
             let mut row = Vec::with_capacity(m.events.len());
-            // Runs already built for this state, by rule list.
+            // Cells already built for this state, by rule list.
             let mut local: Vec<(&[RuleId], (usize, usize))> = Vec::new();
             for e in 0..m.events.len() {
                 let Some((_, rules)) = m.rules_for(s, crate::model::EventId::from_index(e)) else {
@@ -1506,46 +1529,37 @@ impl<'g> Tables<'g> {
                     continue;
                 }
                 let mut run = Vec::new();
+                let mut guards: Vec<Option<&'g Guard>> = Vec::new();
                 for &r in rules {
                     let guard = match g.rule_guard(r) {
                         RuleGuard::Never => continue,
-                        RuleGuard::Always => 0,
-                        RuleGuard::When(expr) => {
-                            let key = g.guard_expr(expr).to_string();
-                            let next = t.guards.len() + 1;
-                            let id = *guard_ids.entry(key).or_insert(next);
-                            if id == next {
-                                t.guards.push(expr);
-                            }
-                            id
-                        }
+                        RuleGuard::Always => None,
+                        RuleGuard::When(expr) => Some(expr),
                     };
                     let seq = m.transition_actions(s, r);
                     let actions = if seq.is_empty() {
                         0
                     } else {
-                        let next = t.actions.len();
-                        let at = *sequences.entry(seq.clone()).or_insert(next);
-                        if at == next {
-                            t.actions.extend_from_slice(&seq);
+                        let next = t.action_seqs.len() + 1;
+                        let id = *action_ids.entry(seq.clone()).or_insert(next);
+                        if id == next {
+                            t.action_seqs.push(seq);
                         }
-                        at
+                        id
                     };
                     let rule = &m.rules[r.index()];
                     let to = m.target_of(s, r);
-                    let moore_mealy = g.mask_bytes;
-                    let mut mealy = vec![0u8; moore_mealy];
+                    let mut mealy = vec![0u8; g.mask_bytes];
                     for o in &rule.mealy {
                         mealy[o.index() / 8] |= 1 << (o.index() % 8);
                     }
                     run.push(RuleRow {
                         target: to.index(),
-                        guard,
                         mealy,
                         actions,
-                        action_count: seq.len(),
                     });
-                    if guard == 0 {
+                    guards.push(guard);
+                    if guard.is_none() {
                         // The first rule that always holds ends the search.
                         break;
                     }
@@ -1553,7 +1567,15 @@ impl<'g> Tables<'g> {
                 let cell = if run.is_empty() {
                     (0, 0)
                 } else {
-                    let len = run.len();
+                    let key: Vec<String> = guards
+                        .iter()
+                        .map(|x| x.map_or_else(String::new, |e| g.guard_expr(e).to_string()))
+                        .collect();
+                    let next = t.guard_seqs.len() + 1;
+                    let seq = *seq_ids.entry(key).or_insert(next);
+                    if seq == next {
+                        t.guard_seqs.push(guards);
+                    }
                     let next = t.rules.len();
                     let first = match runs.get(&run) {
                         Some(&first) => first,
@@ -1563,7 +1585,7 @@ impl<'g> Tables<'g> {
                             next
                         }
                     };
-                    (first, len)
+                    (first, seq)
                 };
                 local.push((rules, cell));
                 row.push(cell);
