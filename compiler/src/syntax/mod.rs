@@ -3,9 +3,12 @@
 //! carry line and column).
 
 pub mod ast;
+mod fast;
 pub mod parse;
 pub mod print;
 
+#[doc(hidden)]
+pub use fast::FastPath;
 pub use parse::parse_tokens;
 
 use proc_macro2::{Span, TokenStream};
@@ -33,6 +36,12 @@ impl From<syn::Error> for SyntaxError {
 
 /// Tokenizes spec text as Rust tokens (with line/column spans) and parses it.
 pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
+    parse_source_with(text, FastPath::Auto)
+}
+
+/// [`parse_source`] with a choice of fast path (for tests comparing the paths).
+#[doc(hidden)]
+pub fn parse_source_with(text: &str, fast: FastPath) -> Result<ast::File, SyntaxError> {
     if text.len() as u64 > MAX_FILE_BYTES {
         return Err(SyntaxError {
             message: format!(
@@ -49,5 +58,5 @@ pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
             message: format!("cannot tokenize: {e}"),
             span: e.span(),
         })?;
-    Ok(parse::parse_tokens_of_text(tokens, text)?)
+    Ok(parse::parse_tokens_of_text(tokens, text, fast)?)
 }

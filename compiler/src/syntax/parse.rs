@@ -6,6 +6,7 @@
 //! input cannot overflow the stack.
 
 use super::ast::*;
+use super::fast::{self, FastPath};
 use proc_macro2::{Delimiter, Group, Span, TokenStream, TokenTree};
 use syn::ext::IdentExt;
 use syn::parse::{ParseStream, Parser};
@@ -49,17 +50,27 @@ pub const RESERVED: &[&str] = &["stay"];
 
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
 pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
+    parse_tokens_with(tokens, FastPath::Auto)
+}
+
+/// [`parse_tokens`] with a choice of fast path (for tests comparing the paths).
+#[doc(hidden)]
+pub fn parse_tokens_with(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
     check_token_depth(&tokens)?;
-    parse_file(tokens)
+    parse_file(tokens, fast.resolve())
 }
 
 /// Parses a token stream tokenized from `text`, skipping the token-tree depth walk
 /// when a scan of the text proves the nesting shallow (the walk copies every token,
 /// which is most of the cost on large files).
-pub(crate) fn parse_tokens_of_text(tokens: TokenStream, text: &str) -> syn::Result<File> {
+pub(crate) fn parse_tokens_of_text(
+    tokens: TokenStream,
+    text: &str,
+    fast: FastPath,
+) -> syn::Result<File> {
     match text_bracket_depth(text) {
-        Some(depth) if depth <= MAX_NESTING => parse_file(tokens),
-        _ => parse_tokens(tokens),
+        Some(depth) if depth <= MAX_NESTING => parse_file(tokens, fast.resolve()),
+        _ => parse_tokens_with(tokens, fast),
     }
 }
 
@@ -67,9 +78,23 @@ pub(crate) fn parse_tokens_of_text(tokens: TokenStream, text: &str) -> syn::Resu
 /// holds a quote outside comments (string and character literals can hide brackets,
 /// so the caller falls back to the exact token walk).
 fn text_bracket_depth(text: &str) -> Option<usize> {
+    // The bytes the scan looks at; it skips over every other byte.
+    const SPECIAL: [bool; 256] = {
+        let mut t = [false; 256];
+        let mut k = 0;
+        while k < 9 {
+            t[b"/\"'([{)]}"[k] as usize] = true;
+            k += 1;
+        }
+        t
+    };
     let bytes = text.as_bytes();
     let (mut i, mut depth, mut max) = (0usize, 0usize, 0usize);
     while i < bytes.len() {
+        match bytes[i..].iter().position(|&b| SPECIAL[b as usize]) {
+            Some(k) => i += k,
+            None => break,
+        }
         match bytes[i] {
             b'/' if bytes.get(i + 1) == Some(&b'/') => {
                 while i < bytes.len() && bytes[i] != b'\n' {
@@ -150,7 +175,12 @@ fn check_token_depth(tokens: &TokenStream) -> syn::Result<()> {
 /// enclosing body's closing-brace span, so "unexpected end of input" points at the
 /// same `}` it would, and an item that runs on past its `;` or `}` is an error at the
 /// same token.
-fn parse_file(tokens: TokenStream) -> syn::Result<File> {
+///
+/// Unless `fast` is [`FastPath::Off`], each item other than a group is first offered
+/// to the [`fast`] path, which parses the common items straight from the token trees;
+/// whatever it does not take (anything unusual, every error) goes through syn as
+/// described.
+fn parse_file(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
     let mut machines = Vec::new();
     let mut trees = tokens.into_iter().peekable();
     while trees.peek().is_some() {
@@ -179,7 +209,17 @@ fn parse_file(tokens: TokenStream) -> syn::Result<File> {
         let (attrs, vis, name) = parse_machine_header.parse2(header.into_iter().collect())?;
         let mut decls = Vec::new();
         let mut members = Vec::new();
-        parse_items(body, 0, &mut members, |content, members| {
+        let fast_item =
+            |tokens: &mut Vec<TokenTree>, members: &mut Vec<Member>, decls: &mut Vec<Decl>| {
+                match fast::machine_item(tokens, fast) {
+                    // Declarations after members are an error: syn reports it.
+                    Some(fast::Item::Decl(decl)) if members.is_empty() => decls.push(decl),
+                    Some(fast::Item::Member(member)) => members.push(member),
+                    _ => return false,
+                }
+                true
+            };
+        let syn_item = |content: ParseStream, members: &mut Vec<Member>, decls: &mut Vec<Decl>| {
             while !content.is_empty() {
                 let item_attrs = parse_attrs(content, false)?;
                 if let Some(decl) = try_parse_decl(content)? {
@@ -203,7 +243,8 @@ fn parse_file(tokens: TokenStream) -> syn::Result<File> {
                 }
             }
             Ok(())
-        })?;
+        };
+        parse_items(body, 0, &mut members, &mut decls, fast, fast_item, syn_item)?;
         machines.push(MachineAst {
             attrs: attrs.attrs,
             doc: attrs.doc,
@@ -248,8 +289,9 @@ fn split_items(stream: TokenStream) -> Vec<Vec<TokenTree>> {
 }
 
 /// An item that is a group (outer attributes, `group`, ..., a `{ }` body): its head
-/// with the body replaced by a [`placeholder`], and the body.
-fn group_item(item: &[TokenTree]) -> Option<(TokenStream, Group)> {
+/// with the body replaced by a [`placeholder`], and the body (taken out of the item,
+/// so that its tokens are not shared). Any other item is handed back.
+fn group_item(mut item: Vec<TokenTree>) -> Result<(TokenStream, Group), Vec<TokenTree>> {
     let mut i = 0;
     while let (Some(TokenTree::Punct(p)), Some(TokenTree::Group(g))) =
         (item.get(i), item.get(i + 1))
@@ -261,17 +303,14 @@ fn group_item(item: &[TokenTree]) -> Option<(TokenStream, Group)> {
     }
     match (item.get(i), item.last()) {
         (Some(TokenTree::Ident(w)), Some(TokenTree::Group(body)))
-            if w == "group" && body.delimiter() == Delimiter::Brace =>
-        {
-            let head = item[..item.len() - 1]
-                .iter()
-                .cloned()
-                .chain(std::iter::once(placeholder(body)))
-                .collect();
-            Some((head, body.clone()))
-        }
-        _ => None,
+            if w == "group" && body.delimiter() == Delimiter::Brace => {}
+        _ => return Err(item),
     }
+    let Some(TokenTree::Group(body)) = item.pop() else {
+        unreachable!("matched above");
+    };
+    item.push(placeholder(&body));
+    Ok((item.into_iter().collect(), body))
 }
 
 /// Parses `item` with `f` inside a brace group that ends at `close`.
@@ -291,31 +330,47 @@ fn in_scope<T>(
 }
 
 /// The items of a brace-delimited body ([`split_items`]): group items become members
-/// at `group_depth` (their own bodies split again), every other item is parsed by
-/// `item` in a scope that ends at the body's `}`. The body's tokens are taken out of
-/// the group so they are not shared (a shared stream is copied when iterated), and
-/// each item is freed once parsed.
-fn parse_items(
+/// at `group_depth` (their own bodies split again); every other item is offered to
+/// `fast` (unless the fast path is off), and when that does not take it (returns
+/// false, leaving the tokens as they were), parsed by `item` in a scope that ends at
+/// the body's `}`. The body's tokens are taken out of the group so they are not
+/// shared (a shared stream is copied when iterated), and each item is freed once
+/// parsed.
+fn parse_items<C>(
     body: Group,
     group_depth: usize,
     members: &mut Vec<Member>,
-    mut item: impl FnMut(ParseStream, &mut Vec<Member>) -> syn::Result<()>,
+    cx: &mut C,
+    mode: FastPath,
+    mut fast: impl FnMut(&mut Vec<TokenTree>, &mut Vec<Member>, &mut C) -> bool,
+    mut item: impl FnMut(ParseStream, &mut Vec<Member>, &mut C) -> syn::Result<()>,
 ) -> syn::Result<()> {
     let close = body.span_close();
     let stream = body.stream();
     drop(body);
     for tokens in split_items(stream) {
-        if let Some((head, inner)) = group_item(&tokens) {
-            members.push(parse_group_item(head, inner, group_depth)?);
+        let mut tokens = match group_item(tokens) {
+            Ok((head, inner)) => {
+                members.push(parse_group_item(head, inner, group_depth, mode)?);
+                continue;
+            }
+            Err(tokens) => tokens,
+        };
+        if mode != FastPath::Off && fast(&mut tokens, members, cx) {
             continue;
         }
-        in_scope(tokens, close, |content| item(content, members))?;
+        in_scope(tokens, close, |content| item(content, members, cx))?;
     }
     Ok(())
 }
 
 /// A group item, its body split into items too.
-fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result<Member> {
+fn parse_group_item(
+    head: TokenStream,
+    body: Group,
+    depth: usize,
+    mode: FastPath,
+) -> syn::Result<Member> {
     let (attrs, name, emit) = (|input: ParseStream| {
         let attrs = parse_attrs(input, false)?;
         if depth >= MAX_NESTING {
@@ -332,9 +387,22 @@ fn parse_group_item(head: TokenStream, body: Group, depth: usize) -> syn::Result
     .parse2(head)?;
     let mut rules = Vec::new();
     let mut members = Vec::new();
-    parse_items(body, depth + 1, &mut members, |content, members| {
-        group_content(content, depth, &mut rules, members)
-    })?;
+    parse_items(
+        body,
+        depth + 1,
+        &mut members,
+        &mut rules,
+        mode,
+        |tokens, members, rules| {
+            match fast::group_item(tokens, depth, mode) {
+                Some(fast::Item::Member(member)) => members.push(member),
+                Some(fast::Item::Body(body)) => rules.push(body),
+                _ => return false,
+            }
+            true
+        },
+        |content, members, rules| group_content(content, depth, rules, members),
+    )?;
     Ok(Member::Group(GroupAst {
         attrs: attrs.attrs,
         doc: attrs.doc,
@@ -524,6 +592,19 @@ const RUST_KEYWORDS: &[&str] = &[
     "unsafe", "unsized", "use", "virtual", "where", "while", "yield",
 ];
 
+/// Whether `text` is one of [`RUST_KEYWORDS`]. Every keyword starts with a lowercase
+/// letter (but `Self`) and has 2 to 8 bytes, which rules most names out before the
+/// search.
+pub(crate) fn is_rust_keyword(text: &str) -> bool {
+    match text.as_bytes().first() {
+        Some(b'a'..=b'z') if (2..=8).contains(&text.len()) => {
+            RUST_KEYWORDS.binary_search(&text).is_ok()
+        }
+        Some(b'S') => text == "Self",
+        _ => false,
+    }
+}
+
 /// The next token's text when it is a word (identifier or keyword). Looking at a word
 /// once and comparing strings is much cheaper than one syn `peek` per keyword, each of
 /// which clones the token.
@@ -577,7 +658,7 @@ fn parse_name(input: ParseStream, what: &str) -> syn::Result<Ident> {
                 format!("expected {what}, found `_`"),
             ));
         }
-        if RUST_KEYWORDS.binary_search(&text.as_str()).is_ok() {
+        if is_rust_keyword(&text) {
             return Err(syn::Error::new(
                 i.span(),
                 format!("expected {what}, found Rust keyword `{text}`"),
@@ -1004,6 +1085,12 @@ mod tests {
         assert!(RUST_KEYWORDS.windows(2).all(|w| w[0] < w[1]));
         for k in RUST_KEYWORDS {
             assert!(RUST_KEYWORDS.binary_search(k).is_ok());
+            assert!(is_rust_keyword(k), "{k}");
+            assert!(!is_rust_keyword(&format!("{k}x")), "{k}x");
+            assert!(!is_rust_keyword(&k.to_uppercase()), "{k}");
+        }
+        for name in ["a", "S0", "E1", "Selfish", "lamp", "r#fn", "_", ""] {
+            assert!(!is_rust_keyword(name), "{name}");
         }
     }
 
@@ -1021,8 +1108,8 @@ mod tests {
         assert_eq!(texts.len(), 4, "{texts:?}");
         assert!(texts[0].starts_with("events"));
         assert!(texts[1].starts_with("state S"));
-        assert!(group_item(&items[2]).is_some());
-        assert!(group_item(&items[1]).is_none());
+        assert!(group_item(items[2].clone()).is_ok());
+        assert!(group_item(items[1].clone()).is_err());
         assert_eq!(texts[3], "start S");
     }
 }
