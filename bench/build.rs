@@ -147,8 +147,6 @@ fn form_module(size: &str, form: &str, rejected: &str, doc: &str, m: &Machine) -
     let snake = module_name(m);
     let mut s = String::new();
     let _ = writeln!(s, "    /// The {size} machine as {doc}");
-    // `Machine::restore` of a machine past 256 states casts its `u16` to `u16`.
-    let _ = writeln!(s, "    #[allow(clippy::unnecessary_cast)]");
     let _ = writeln!(s, "    pub mod {form} {{");
     let _ = writeln!(
         s,

@@ -9,18 +9,22 @@
 //! together with the rule's Mealy outputs, and `ignore`/`reject` for the rest.
 //!
 //! **Table style** (`#[dispatch(table)]`, the default): flash-resident `static` tables in
-//! the narrowest integer types. `CELLS[state][event]` is `(first, seq)`: the rules of the
-//! scope used for that pair are a run of `RULES` starting at `first`, and `seq` numbers
-//! the run's list of guards. Each rule holds the target state, its Mealy outputs as a
-//! byte mask and an action-sequence number. Because the actions of a rule depend on the
-//! state it fires in (enter/leave actions), a rule entry belongs to a (state, rule)
-//! pair; identical runs of entries are stored once. A step costs two small `match`es
-//! besides the table loads: `select` on the guard-list number (one arm per distinct
-//! list, its guards as an `if`/`else if` chain giving the position of the rule taken)
-//! and `run_actions` on the action-sequence number (one arm per distinct sequence,
-//! the hook calls in order), so the code grows with the distinct guard lists and
-//! action sequences, not with states x events. Every table access is `.get()` with a
-//! fallback, so `step` has no panic path whatever the optimizer proves.
+//! the narrowest integer types. `CELLS[state][event]` is a `Cell`: the first rule of the
+//! scope used for that pair written out (`Fire`: the target as a `State`, its Mealy
+//! outputs as a byte mask and an action-sequence number), `seq`, the number of the
+//! cell's list of guards, and `rest`, where the cell's other rules start in `RULES`.
+//! A cell whose first rule fires (an unguarded rule, the common case) costs one load
+//! from the state to the next state: the benchmark steps one machine, each step waiting
+//! for the state of the one before, and every dependent load on that path counts
+//! (BENCHMARKS.md, "Dispatch"). Because the actions of a rule depend on the state it
+//! fires in (enter/leave actions), a rule entry belongs to a (state, rule) pair;
+//! identical runs of entries in `RULES` are stored once. A step costs two small
+//! `match`es besides the table loads: `select` on the guard-list number (one arm per
+//! distinct list, its guards as an `if`/`else if` chain giving the position of the rule
+//! taken) and `run_actions` on the action-sequence number (one arm per distinct
+//! sequence, the hook calls in order), so the code grows with the distinct guard lists
+//! and action sequences, not with states x events. Every table access is `.get()` with
+//! a fallback, so `step` has no panic path whatever the optimizer proves.
 //!
 //! **Match style** (`#[dispatch(match)]`): `match self.state { S => match event { .. } }`,
 //! events that resolve to the same rules sharing an arm, guards as `if`/`else if` chains.
@@ -1155,11 +1159,14 @@ impl<'a> Gen<'a> {
     fn table_dispatch(&self) -> TokenStream {
         let m = self.m;
         let t = Tables::build(self);
-        let state_ty = &self.state_ty;
         let k = lit(self.mask_bytes);
         let has_outputs = !m.outputs.is_empty();
         let has_actions = !t.action_seqs.is_empty();
-        let has_mealy = has_outputs && t.rules.iter().any(|r| r.mealy.iter().any(|b| *b != 0));
+        let has_mealy = has_outputs
+            && t.rules
+                .iter()
+                .chain(t.cells.iter().flatten().map(|c| &c.first))
+                .any(|r| r.mealy.iter().any(|b| *b != 0));
         let step_doc = self.step_doc();
         let unhandled = self.unhandled();
 
@@ -1237,24 +1244,15 @@ impl<'a> Gen<'a> {
 
         let n_states = lit(m.states.len());
         let n_events = lit(m.events.len());
-        let n_rules = lit(t.rules.len());
-        let first_ty = uint(t.rules.len());
+        let has_rest = !t.rules.is_empty();
+        let rest_ty = uint(t.rules.len());
         let seq_ty = uint(t.guard_seqs.len());
         let act_ty = uint(t.action_seqs.len());
 
-        let cell_rows = t.cells.iter().map(|row| {
-            let cells = row.iter().map(|(f, s)| {
-                let f = lit(*f);
-                let s = lit(*s);
-                quote!((#f, #s))
-            });
-            quote!([#(#cells),*])
-        });
-
-        // The Rule struct and table.
+        // The Fire struct (what a rule does), the cells and the rule table.
         let mut fields = vec![quote! {
-            /// The target state's number (the state itself for `stay`).
-            target: #state_ty
+            /// The target state (the state itself for `stay`).
+            target: State
         }];
         if has_mealy {
             fields.push(quote! {
@@ -1268,8 +1266,8 @@ impl<'a> Gen<'a> {
                 actions: #act_ty
             });
         }
-        let rule_rows = t.rules.iter().map(|r| {
-            let target = lit(r.target);
+        let fire_literal = |r: &RuleRow| {
+            let target = self.state_variant(StateId::from_index(r.target));
             let mut parts = vec![quote!(target: #target)];
             if has_mealy {
                 let bytes = r.mealy.iter().map(|b| lit(*b as usize));
@@ -1279,12 +1277,63 @@ impl<'a> Gen<'a> {
                 let a = lit(r.actions);
                 parts.push(quote!(actions: #a));
             }
-            quote!(Rule { #(#parts),* })
+            quote!(Fire { #(#parts),* })
+        };
+        let cell_rows = t.cells.iter().map(|row| {
+            let cells = row.iter().map(|c| {
+                let fire = fire_literal(&c.first);
+                let seq = lit(c.seq);
+                if has_rest {
+                    let rest = lit(c.rest);
+                    quote!(Cell { fire: #fire, seq: #seq, rest: #rest })
+                } else {
+                    quote!(Cell { fire: #fire, seq: #seq })
+                }
+            });
+            quote!([#(#cells),*])
         });
+        let (rest_field, rules_table, fire_of) = if has_rest {
+            let n_rules = lit(t.rules.len());
+            let rule_rows = t.rules.iter().map(&fire_literal);
+            (
+                quote! {
+                    /// Where the cell's rules after the first are: rule `at` (from 1) of
+                    /// the cell is `RULES[rest + at - 1]`.
+                    rest: #rest_ty,
+                },
+                quote! {
+                    /// The rules after the first of each cell, in runs that the cells'
+                    /// `rest` point at (equal runs stored once).
+                    static RULES: [Fire; #n_rules] = [#(#rule_rows),*];
+                },
+                quote! {
+                    let fire = match select(cell.seq, hooks) {
+                        Some(0) => &cell.fire,
+                        Some(at) => match RULES.get(usize::from(cell.rest) + at - 1) {
+                            Some(fire) => fire,
+                            None => return #unhandled,
+                        },
+                        None => return #unhandled,
+                    };
+                },
+            )
+        } else {
+            (
+                quote!(),
+                quote!(),
+                quote! {
+                    // Every cell has one rule at most: `select` finds it or none.
+                    let fire = match select(cell.seq, hooks) {
+                        Some(0) => &cell.fire,
+                        Some(_) | None => return #unhandled,
+                    };
+                },
+            )
+        };
 
         let step_outputs = if has_outputs {
             let mealy = if has_mealy {
-                quote!(rule.mealy)
+                quote!(fire.mealy)
             } else {
                 quote!([0; #k])
             };
@@ -1293,10 +1342,10 @@ impl<'a> Gen<'a> {
                     Some(mask) => *mask,
                     None => [0; #k],
                 };
-                return Ok(outputs_from(moore, #mealy));
+                Ok(outputs_from(moore, #mealy))
             }
         } else {
-            quote!(return Ok(Outputs {});)
+            quote!(Ok(Outputs {}))
         };
 
         // `select`: one arm per guard sequence, its guards as an `if`/`else if` chain.
@@ -1353,9 +1402,10 @@ impl<'a> Gen<'a> {
             "one match arm per distinct guard list of the spec",
         );
         let select_fn = quote! {
-            /// The position in its run of `RULES` of the first rule whose guard holds,
-            /// for a cell's guard sequence `seq` (`0`: the cell has no rules), reading
-            /// inputs through `hooks`; `None` when no guard holds.
+            /// The position among a cell's rules of the first whose guard holds (`0`:
+            /// the cell's own `fire`, `at`: `RULES[rest + at - 1]`), for the cell's
+            /// guard sequence `seq` (`0`: no rules), reading inputs through `hooks`;
+            /// `None` when no guard holds.
             #select_allow
             fn select<H: Hooks + ?Sized>(seq: #seq_ty, #select_hooks: &mut H) -> Option<usize> {
                 #select_body
@@ -1402,26 +1452,32 @@ impl<'a> Gen<'a> {
                         #body
                     }
                 },
-                quote!(run_actions(rule.actions, hooks);),
+                quote!(run_actions(fire.actions, hooks);),
             )
         } else {
             (quote!(), quote!())
         };
         let trace = self.trace();
         quote! {
-            /// One rule as it fires in one state.
-            struct Rule {
+            /// What a rule does when it fires in one state.
+            struct Fire {
                 #(#fields,)*
             }
 
-            /// `CELLS[state][event]`: `(first, seq)`, the rules of the scope used for
-            /// that pair start at `RULES[first]` and `seq` numbers their guards (see
-            /// `select`).
-            static CELLS: [[(#first_ty, #seq_ty); #n_events]; #n_states] = [#(#cell_rows),*];
+            /// One (state, event) pair: its first rule written out, so that a cell
+            /// whose first rule fires (the common case) is one table load.
+            struct Cell {
+                /// The cell's first rule.
+                fire: Fire,
+                /// The cell's guard list (`0`: no rules), see `select`.
+                seq: #seq_ty,
+                #rest_field
+            }
 
-            /// The rules, grouped in runs that `CELLS` points at.
-            static RULES: [Rule; #n_rules] = [#(#rule_rows),*];
+            /// `CELLS[state][event]`.
+            static CELLS: [[Cell; #n_events]; #n_states] = [#(#cell_rows),*];
 
+            #rules_table
             #moore_table
             #select_fn
             #actions_fn
@@ -1438,23 +1494,15 @@ impl<'a> Gen<'a> {
                     hooks: &mut H,
                 ) -> Result<Outputs, ::detent::Rejected> {
                     let from = self.state;
-                    let (first, seq) = match CELLS.get(from as usize).and_then(|row| row.get(event as usize)) {
-                        Some(cell) => *cell,
-                        None => (0, 0),
+                    let Some(cell) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
+                        return #unhandled;
                     };
-                    if let Some(at) = select(seq, hooks) {
-                        if let Some(rule) = RULES.get(usize::from(first) + at) {
-                            let to = match State::from_raw(rule.target) {
-                                Some(to) => to,
-                                None => from,
-                            };
-                            #run_actions
-                            self.state = to;
-                            #trace
-                            #step_outputs
-                        }
-                    }
-                    #unhandled
+                    #fire_of
+                    let to = fire.target;
+                    #run_actions
+                    self.state = to;
+                    #trace
+                    #step_outputs
                 }
             }
         }
@@ -1490,10 +1538,23 @@ struct RuleRow {
     actions: usize,
 }
 
+/// One cell of the table: the cell's first rule, its guard list and where its other
+/// rules are.
+#[derive(Clone)]
+struct CellRow {
+    /// The first rule of the cell's run (a placeholder when `seq` is 0).
+    first: RuleRow,
+    /// Guard sequence id (`0`: no rules; `i + 1` is `Tables::guard_seqs[i]`).
+    seq: usize,
+    /// Rule `at >= 1` of the run is `rules[rest + at - 1]`.
+    rest: usize,
+}
+
 /// The table style's data, before it becomes tokens.
 struct Tables<'g> {
-    /// `cells[state][event] = (first rule, guard sequence id)`; `(0, 0)`: no rules.
-    cells: Vec<Vec<(usize, usize)>>,
+    /// `cells[state][event]`.
+    cells: Vec<Vec<CellRow>>,
+    /// The rules after the first of each cell's run, runs stored once.
     rules: Vec<RuleRow>,
     /// Distinct guard sequences of the cells' runs (`None`: no guard, which ends a
     /// sequence); sequence id `i + 1` is `guard_seqs[i]`.
@@ -1516,16 +1577,25 @@ impl<'g> Tables<'g> {
         let mut runs: HashMap<Vec<RuleRow>, usize> = HashMap::new();
         for si in 0..m.states.len() {
             let s = StateId::from_index(si);
+            let empty = CellRow {
+                first: RuleRow {
+                    target: si,
+                    mealy: vec![0u8; g.mask_bytes],
+                    actions: 0,
+                },
+                seq: 0,
+                rest: 0,
+            };
             let mut row = Vec::with_capacity(m.events.len());
             // Cells already built for this state, by rule list.
-            let mut local: Vec<(&[RuleId], (usize, usize))> = Vec::new();
+            let mut local: Vec<(&[RuleId], CellRow)> = Vec::new();
             for e in 0..m.events.len() {
                 let Some((_, rules)) = m.rules_for(s, crate::model::EventId::from_index(e)) else {
-                    row.push((0, 0));
+                    row.push(empty.clone());
                     continue;
                 };
                 if let Some((_, cell)) = local.iter().find(|(rs, _)| *rs == rules) {
-                    row.push(*cell);
+                    row.push(cell.clone());
                     continue;
                 }
                 let mut run = Vec::new();
@@ -1565,7 +1635,7 @@ impl<'g> Tables<'g> {
                     }
                 }
                 let cell = if run.is_empty() {
-                    (0, 0)
+                    empty.clone()
                 } else {
                     let key: Vec<String> = guards
                         .iter()
@@ -1576,18 +1646,27 @@ impl<'g> Tables<'g> {
                     if seq == next {
                         t.guard_seqs.push(guards);
                     }
-                    let next = t.rules.len();
-                    let first = match runs.get(&run) {
-                        Some(&first) => first,
-                        None => {
-                            t.rules.extend_from_slice(&run);
-                            runs.insert(run, next);
-                            next
+                    let others = run.split_off(1);
+                    let rest = if others.is_empty() {
+                        0
+                    } else {
+                        let next = t.rules.len();
+                        match runs.get(&others) {
+                            Some(&rest) => rest,
+                            None => {
+                                t.rules.extend_from_slice(&others);
+                                runs.insert(others, next);
+                                next
+                            }
                         }
                     };
-                    (first, seq)
+                    CellRow {
+                        first: run.swap_remove(0),
+                        seq,
+                        rest,
+                    }
                 };
-                local.push((rules, cell));
+                local.push((rules, cell.clone()));
                 row.push(cell);
             }
             t.cells.push(row);
