@@ -13,13 +13,18 @@
 //!    the forms share the machine's load; it prints per form the fastest and the median
 //!    round's ns/event, and per generated form the ratio to the hand-written one of the
 //!    fastest rounds and the median of the per-round ratios, with its quartiles. On a
-//!    shared machine the fastest rounds are the least disturbed ones.
+//!    shared machine the fastest rounds are the least disturbed ones. The pass runs
+//!    twice: one machine stepped back to back (each step waits for the state the last
+//!    one wrote), then a bank of [`BANK`] machines with the events dealt round-robin
+//!    (independent steps, as with one machine per channel).
 //!
 //! `cargo bench -p detent-bench --bench dispatch`; BENCHMARKS.md ("Dispatch") has the
 //! results.
 
 use criterion::{black_box, Criterion, Throughput};
-use detent_bench::{event_buffer, random_events, run, Variant, BENCH_EVENTS, BENCH_SEED};
+use detent_bench::{
+    event_buffer, random_events, run, run_bank, Variant, BANK, BENCH_EVENTS, BENCH_SEED,
+};
 use std::time::{Duration, Instant};
 
 const EVENTS: usize = BENCH_EVENTS;
@@ -29,14 +34,18 @@ struct Case {
     size: &'static str,
     form: &'static str,
     pass: Box<dyn Fn() -> u32>,
+    /// The same buffer through a bank of machines ([`run_bank`]).
+    bank_pass: Box<dyn Fn() -> u32>,
 }
 
 fn case<V: Variant + 'static>(size: &'static str, events: usize, inputs: usize) -> Case {
     let buffer = event_buffer::<V>(&random_events(BENCH_SEED, events, inputs, EVENTS));
+    let bank_buffer = buffer.clone();
     Case {
         size,
         form: V::FORM,
         pass: Box::new(move || run::<V>(black_box(&buffer))),
+        bank_pass: Box::new(move || run_bank::<V>(black_box(&bank_buffer))),
     }
 }
 
@@ -74,18 +83,25 @@ fn quantile(sorted: &[f64], q: f64) -> f64 {
     sorted[at]
 }
 
-fn interleaved_part(cases: &[Case], rounds: usize) {
+fn interleaved_part(cases: &[Case], rounds: usize, bank: bool) {
     let passes = 2;
+    let pass = |case: &Case| {
+        if bank {
+            (case.bank_pass)()
+        } else {
+            (case.pass)()
+        }
+    };
     let mut times = vec![Vec::with_capacity(rounds); cases.len()];
     for case in cases {
-        black_box((case.pass)());
+        black_box(pass(case));
     }
     for round in 0..rounds {
         for k in 0..cases.len() {
             let i = (k + round) % cases.len();
             let start = Instant::now();
             for _ in 0..passes {
-                black_box((cases[i].pass)());
+                black_box(pass(&cases[i]));
             }
             let ns = start.elapsed().as_nanos() as f64 / (passes * EVENTS) as f64;
             times[i].push(ns);
@@ -93,9 +109,14 @@ fn interleaved_part(cases: &[Case], rounds: usize) {
     }
     println!();
     println!(
-        "interleaved: {rounds} rounds x {passes} passes x {EVENTS} events per (size, form); \
-         ns/event: fastest round (median round); ratios: of the fastest rounds, then the \
-         median of per-round ratios (q1-q3)"
+        "interleaved, {}: {rounds} rounds x {passes} passes x {EVENTS} events per (size, \
+         form); ns/event: fastest round (median round); ratios: of the fastest rounds, then \
+         the median of per-round ratios (q1-q3)",
+        if bank {
+            format!("a bank of {BANK} machines, events dealt round-robin")
+        } else {
+            "one machine stepped back to back".to_string()
+        }
     );
     println!(
         "| size | hand ns/event | table ns/event | match ns/event | table / hand | match / hand |"
@@ -147,15 +168,17 @@ fn main() {
     // The forms must agree (tests/agree.rs checks it step by step); a cheap guard here
     // too: the same action checksum over the buffer.
     for size in SIZES {
-        let sums: Vec<u32> = cases
-            .iter()
-            .filter(|c| c.size == size)
-            .map(|c| (c.pass)())
-            .collect();
-        assert!(
-            sums.windows(2).all(|w| w[0] == w[1]),
-            "{size}: the forms disagree"
-        );
+        for bank in [false, true] {
+            let sums: Vec<u32> = cases
+                .iter()
+                .filter(|c| c.size == size)
+                .map(|c| if bank { (c.bank_pass)() } else { (c.pass)() })
+                .collect();
+            assert!(
+                sums.windows(2).all(|w| w[0] == w[1]),
+                "{size}: the forms disagree (bank: {bank})"
+            );
+        }
     }
     let mut c = Criterion::default()
         .warm_up_time(Duration::from_secs(2))
@@ -168,6 +191,7 @@ fn main() {
             .ok()
             .and_then(|r| r.parse().ok())
             .unwrap_or(300);
-        interleaved_part(&cases, rounds);
+        interleaved_part(&cases, rounds, false);
+        interleaved_part(&cases, rounds, true);
     }
 }
