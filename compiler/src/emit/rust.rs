@@ -10,9 +10,14 @@
 //!
 //! **Table style** (`#[dispatch(table)]`, the default): flash-resident `static` tables in
 //! the narrowest integer types. `CELLS[state][event]` is a `Cell`: the first rule of the
-//! scope used for that pair written out (`Fire`: the target as a `State`, its Mealy
-//! outputs as a byte mask and an action-sequence number), `seq`, the number of the
-//! cell's list of guards, and `rest`, where the cell's other rules start in `RULES`.
+//! scope used for that pair written out (a `Rule`: its target, an action-sequence number
+//! and its Mealy outputs as masks), `seq`, the number of the cell's list of guards, and
+//! `rest`, where the cell's other rules start in `RULES`. Below [`NUMERIC_TABLE_CELLS`]
+//! cells a `Rule` is `(State, [numbers])` and a `Cell` `(Rule, [seq, rest])`, and `step`
+//! picks the rule that fires by reference; from there on both are arrays of numbers,
+//! targets included, which rustc checks about twice as fast as tables full of
+//! `State::..` paths, and `step` turns the target number into a `State` with
+//! `State::from_raw` (a `match` the compiler makes one compare).
 //! A cell whose first rule fires (an unguarded rule, the common case) costs one load
 //! from the state to the next state: the benchmark steps one machine, each step waiting
 //! for the state of the one before, and every dependent load on that path counts
@@ -1262,12 +1267,9 @@ impl<'a> Gen<'a> {
             }
         };
 
-        if t.guard_seqs.is_empty() {
-            // No rule can fire anywhere: no tables to consult.
-            return quote! {
-                #moore_table
-                #outputs_from
-
+        // `outputs` and `step`, given `step`'s parameter names and body.
+        let machine_impl = |event: TokenStream, hooks: TokenStream, body: TokenStream| {
+            quote! {
                 impl Machine {
                     #outputs_fn
 
@@ -1275,12 +1277,22 @@ impl<'a> Gen<'a> {
                     #step_attrs
                     pub fn step<H: Hooks + ?Sized>(
                         &mut self,
-                        _event: Event,
-                        _hooks: &mut H,
+                        #event: Event,
+                        #hooks: &mut H,
                     ) -> Result<Outputs, ::detent::Rejected> {
-                        #unhandled
+                        #body
                     }
                 }
+            }
+        };
+
+        if t.guard_seqs.is_empty() {
+            // No rule can fire anywhere: no tables to consult.
+            let machine_impl = machine_impl(quote!(_event), quote!(_hooks), unhandled);
+            return quote! {
+                #moore_table
+                #outputs_from
+                #machine_impl
             };
         }
 
@@ -1721,6 +1733,18 @@ impl<'a> Gen<'a> {
             (quote!(), quote!())
         };
         let trace = self.trace();
+        let machine_impl = machine_impl(
+            quote!(event),
+            quote!(hooks),
+            quote! {
+                let from = self.state;
+                #lookup
+                #run_actions
+                self.state = to;
+                #trace
+                #step_outputs
+            },
+        );
         quote! {
             #rule_alias
 
@@ -1737,24 +1761,7 @@ impl<'a> Gen<'a> {
             #actions_fn
             #outputs_from
 
-            impl Machine {
-                #outputs_fn
-
-                #step_doc
-                #step_attrs
-                pub fn step<H: Hooks + ?Sized>(
-                    &mut self,
-                    event: Event,
-                    hooks: &mut H,
-                ) -> Result<Outputs, ::detent::Rejected> {
-                    let from = self.state;
-                    #lookup
-                    #run_actions
-                    self.state = to;
-                    #trace
-                    #step_outputs
-                }
-            }
+            #machine_impl
         }
     }
 }
