@@ -10,9 +10,14 @@
 //!
 //! **Table style** (`#[dispatch(table)]`, the default): flash-resident `static` tables in
 //! the narrowest integer types. `CELLS[state][event]` is a `Cell`: the first rule of the
-//! scope used for that pair written out (`Fire`: the target as a `State`, its Mealy
-//! outputs as a byte mask and an action-sequence number), `seq`, the number of the
-//! cell's list of guards, and `rest`, where the cell's other rules start in `RULES`.
+//! scope used for that pair written out (a `Rule`: its target, an action-sequence number
+//! and its Mealy outputs as masks), `seq`, the number of the cell's list of guards, and
+//! `rest`, where the cell's other rules start in `RULES`. Below [`NUMERIC_TABLE_CELLS`]
+//! cells a `Rule` is `(State, [numbers])` and a `Cell` `(Rule, [seq, rest])`, and `step`
+//! picks the rule that fires by reference; from there on both are arrays of numbers,
+//! targets included, which rustc checks about twice as fast as tables full of
+//! `State::..` paths, and `step` turns the target number into a `State` with
+//! `State::from_raw` (a `match` the compiler makes one compare).
 //! A cell whose first rule fires (an unguarded rule, the common case) costs one load
 //! from the state to the next state: the benchmark steps one machine, each step waiting
 //! for the state of the one before, and every dependent load on that path counts
@@ -289,6 +294,10 @@ fn doc_or(doc: &[String], fallback: String) -> TokenStream {
         doc_attrs(doc)
     }
 }
+
+/// From this many cells (states x events) on, the table style writes its tables as
+/// plain numbers (see `table_dispatch`).
+pub const NUMERIC_TABLE_CELLS: usize = 1024;
 
 /// The narrowest unsigned type holding every value up to `max`.
 fn uint(max: usize) -> TokenStream {
@@ -603,6 +612,14 @@ impl<'a> Gen<'a> {
         });
         let all_states = (0..m.states.len()).map(|i| self.state_variant(StateId::from_index(i)));
         let all_events = (0..m.events.len()).map(|i| self.event_variant(i));
+        // A `match`, not a lookup in `ALL`: the numbers are the discriminants in
+        // order, so the compiler turns it into one compare (no load), which the table
+        // style's `step` relies on to turn a table's target number into a `State`.
+        let from_raw_arms = (0..m.states.len()).map(|i| {
+            let v = self.state_variant(StateId::from_index(i));
+            let n = lit(i);
+            quote!(#n => Some(#v))
+        });
         let state_names = m.states.iter().enumerate().map(|(i, s)| {
             let v = self.state_variant(StateId::from_index(i));
             let text = &s.name;
@@ -629,6 +646,8 @@ impl<'a> Gen<'a> {
         // `name` is a `match` with one line per variant inside `match self { .. }`.
         let state_name_allow =
             long_fn_allow(m.states.len() + 2, "one match arm per state of the spec");
+        let from_raw_allow =
+            long_fn_allow(m.states.len() + 3, "one match arm per state of the spec");
         let event_name_allow =
             long_fn_allow(m.events.len() + 2, "one match arm per event of the spec");
         // Clippy's `struct_excessive_bools` (pedantic, more than 3 `bool` fields by
@@ -698,11 +717,11 @@ impl<'a> Gen<'a> {
 
                 /// The state numbered `raw`, or `None` when no state has that number.
                 #[must_use]
+                #from_raw_allow
                 pub const fn from_raw(raw: #state_ty) -> Option<State> {
-                    if (raw as usize) < Self::ALL.len() {
-                        Some(Self::ALL[raw as usize])
-                    } else {
-                        None
+                    match raw {
+                        #(#from_raw_arms,)*
+                        _ => None,
                     }
                 }
             }
@@ -1167,6 +1186,34 @@ impl<'a> Gen<'a> {
                 .iter()
                 .chain(t.cells.iter().flatten().map(|c| &c.first))
                 .any(|r| r.mealy.iter().any(|b| *b != 0));
+        let has_rest = !t.rules.is_empty();
+        // How the tables are written. Big machines: arrays of numbers of one type, the
+        // narrowest that holds every number in them, targets included; rustc checks
+        // those far faster than the same table holding `State` paths (BENCHMARKS.md,
+        // "Macro": 0.58 s -> 0.31 s for a 1,000-state crate), and `step` turns a target
+        // number into a `State` with one compare. Smaller machines, whose tables cost
+        // rustc little either way: each cell and rule keeps its target as a `State`
+        // beside its numbers, which saves `step` that compare (BENCHMARKS.md,
+        // "Dispatch").
+        let cells = m.states.len() * m.events.len();
+        let numeric = cells >= NUMERIC_TABLE_CELLS;
+        let widest = [
+            if numeric {
+                m.states.len().saturating_sub(1)
+            } else {
+                0
+            },
+            t.guard_seqs.len(),
+            t.action_seqs.len(),
+            t.rules.len(),
+            if has_mealy { 0xff } else { 0 },
+        ]
+        .into_iter()
+        .max()
+        .unwrap_or(0);
+        let num = uint(widest);
+        // The output masks are numbers of the tables' type when rules carry Mealy bits.
+        let mask_ty = if has_mealy { num.clone() } else { quote!(u8) };
         let step_doc = self.step_doc();
         let unhandled = self.unhandled();
 
@@ -1174,8 +1221,8 @@ impl<'a> Gen<'a> {
             let n_states = lit(m.states.len());
             let rows = m.states.iter().map(|s| self.mask_literal(&s.moore));
             quote! {
-                /// Moore outputs per state: bit `i % 8` of byte `i / 8` is output `i`.
-                static MOORE: [[u8; #k]; #n_states] = [#(#rows),*];
+                /// Moore outputs per state: bit `i % 8` of mask `i / 8` is output `i`.
+                static MOORE: [[#mask_ty; #k]; #n_states] = [#(#rows),*];
             }
         } else {
             quote!()
@@ -1191,7 +1238,7 @@ impl<'a> Gen<'a> {
             quote! {
                 /// The outputs whose bits are set in either mask.
                 #allow
-                fn outputs_from(moore: [u8; #k], mealy: [u8; #k]) -> Outputs {
+                fn outputs_from(moore: [#mask_ty; #k], mealy: [#mask_ty; #k]) -> Outputs {
                     Outputs { #(#fields),* }
                 }
             }
@@ -1220,12 +1267,9 @@ impl<'a> Gen<'a> {
             }
         };
 
-        if t.guard_seqs.is_empty() {
-            // No rule can fire anywhere: no tables to consult.
-            return quote! {
-                #moore_table
-                #outputs_from
-
+        // `outputs` and `step`, given `step`'s parameter names and body.
+        let machine_impl = |event: TokenStream, hooks: TokenStream, body: TokenStream| {
+            quote! {
                 impl Machine {
                     #outputs_fn
 
@@ -1233,118 +1277,338 @@ impl<'a> Gen<'a> {
                     #step_attrs
                     pub fn step<H: Hooks + ?Sized>(
                         &mut self,
-                        _event: Event,
-                        _hooks: &mut H,
+                        #event: Event,
+                        #hooks: &mut H,
                     ) -> Result<Outputs, ::detent::Rejected> {
-                        #unhandled
+                        #body
                     }
                 }
+            }
+        };
+
+        if t.guard_seqs.is_empty() {
+            // No rule can fire anywhere: no tables to consult.
+            let machine_impl = machine_impl(quote!(_event), quote!(_hooks), unhandled);
+            return quote! {
+                #moore_table
+                #outputs_from
+                #machine_impl
             };
         }
 
         let n_states = lit(m.states.len());
         let n_events = lit(m.events.len());
-        let has_rest = !t.rules.is_empty();
-        let rest_ty = uint(t.rules.len());
-        let seq_ty = uint(t.guard_seqs.len());
-        let act_ty = uint(t.action_seqs.len());
 
-        // The Fire struct (what a rule does), the cells and the rule table.
-        let mut fields = vec![quote! {
-            /// The target state (the state itself for `stay`).
-            target: State
-        }];
+        // A rule's numbers are `[actions, mealy..]`, a cell's `[actions, mealy.., seq,
+        // rest]`, leaving out the columns this machine does not need; numeric tables put
+        // the target's number first, the others pair a `State` with the numbers.
+        let mut rule_numbers_width = usize::from(has_actions);
         if has_mealy {
-            fields.push(quote! {
-                /// Mealy outputs: bit `i % 8` of byte `i / 8` is output `i`.
-                mealy: [u8; #k]
-            });
+            rule_numbers_width += self.mask_bytes;
         }
-        if has_actions {
-            fields.push(quote! {
-                /// The rule's action sequence (`0`: none), see `run_actions`.
-                actions: #act_ty
-            });
-        }
-        let fire_literal = |r: &RuleRow| {
-            let target = self.state_variant(StateId::from_index(r.target));
-            let mut parts = vec![quote!(target: #target)];
-            if has_mealy {
-                let bytes = r.mealy.iter().map(|b| lit(*b as usize));
-                parts.push(quote!(mealy: [#(#bytes),*]));
-            }
+        let cell_numbers_width = rule_numbers_width + 1 + usize::from(has_rest);
+        let rule_numbers = |r: &RuleRow| {
+            let mut n = Vec::new();
             if has_actions {
-                let a = lit(r.actions);
-                parts.push(quote!(actions: #a));
+                n.push(lit(r.actions));
             }
-            quote!(Fire { #(#parts),* })
+            if has_mealy {
+                n.extend(r.mealy.iter().map(|b| lit(usize::from(*b))));
+            }
+            n
         };
+        // A table entry from its target and numbers, and its type.
+        let entry = |target: usize, numbers: Vec<Literal>| {
+            if numeric {
+                let target = lit(target);
+                quote!([#target, #(#numbers),*])
+            } else {
+                let target = self.state_variant(StateId::from_index(target));
+                if numbers.is_empty() {
+                    quote!(#target)
+                } else {
+                    quote!((#target, [#(#numbers),*]))
+                }
+            }
+        };
+        let entry_ty = |width: usize| {
+            if numeric {
+                let w = lit(width + 1);
+                quote!([#num; #w])
+            } else if width == 0 {
+                quote!(State)
+            } else {
+                let w = lit(width);
+                quote!((State, [#num; #w]))
+            }
+        };
+        let entry_pattern = |numbers: &[TokenStream]| {
+            if numeric {
+                quote!([target, #(#numbers),*])
+            } else if numbers.is_empty() {
+                quote!(target)
+            } else if !has_actions && numbers.len() == 1 && has_mealy {
+                // The numbers are the Mealy masks alone: bind the array itself
+                // (clippy's `redundant_at_rest_pattern`).
+                quote!((target, mealy))
+            } else {
+                quote!((target, [#(#numbers),*]))
+            }
+        };
+        // Typed tables pair the cell's first rule, written as in `RULES`, with `[seq,
+        // rest]`, so that `step` can pick a rule by reference and read it once.
         let cell_rows = t.cells.iter().map(|row| {
             let cells = row.iter().map(|c| {
-                let fire = fire_literal(&c.first);
-                let seq = lit(c.seq);
+                let mut place = vec![lit(c.seq)];
                 if has_rest {
-                    let rest = lit(c.rest);
-                    quote!(Cell { fire: #fire, seq: #seq, rest: #rest })
+                    place.push(lit(c.rest));
+                }
+                if numeric {
+                    let mut n = rule_numbers(&c.first);
+                    n.extend(place);
+                    entry(c.first.target, n)
                 } else {
-                    quote!(Cell { fire: #fire, seq: #seq })
+                    let first = entry(c.first.target, rule_numbers(&c.first));
+                    quote!((#first, [#(#place),*]))
                 }
             });
             quote!([#(#cells),*])
         });
-        let (rest_field, rules_table, fire_of) = if has_rest {
-            let n_rules = lit(t.rules.len());
-            let rule_rows = t.rules.iter().map(&fire_literal);
-            (
-                quote! {
-                    /// Where the cell's rules after the first are: rule `at` (from 1) of
-                    /// the cell is `RULES[rest + at - 1]`.
-                    rest: #rest_ty,
-                },
-                quote! {
-                    /// The rules after the first of each cell, in runs that the cells'
-                    /// `rest` point at (equal runs stored once).
-                    static RULES: [Fire; #n_rules] = [#(#rule_rows),*];
-                },
-                quote! {
-                    match select(cell.seq, hooks) {
-                        Some(0) => &cell.fire,
-                        Some(at) => match RULES.get(usize::from(cell.rest) + at - 1) {
-                            Some(fire) => fire,
-                            None => return #unhandled,
-                        },
-                        None => return #unhandled,
-                    }
-                },
-            )
+        let rule_ty = entry_ty(rule_numbers_width);
+        let cell_ty = if numeric {
+            entry_ty(cell_numbers_width)
         } else {
-            (
-                quote!(),
-                quote!(),
-                quote! {
-                    // Every cell has one rule at most: `select` finds it or none.
-                    match select(cell.seq, hooks) {
-                        Some(0) => &cell.fire,
-                        Some(_) | None => return #unhandled,
-                    }
-                },
-            )
+            let place = lit(1 + usize::from(has_rest));
+            quote!((Rule, [#num; #place]))
+        };
+        let mut rule_columns = Vec::new();
+        if has_actions {
+            rule_columns.push(quote!(actions));
+        }
+        if has_mealy {
+            rule_columns.push(quote!(mealy @ ..));
+        }
+        let rule_values = {
+            let mut v = vec![quote!(target)];
+            if has_actions {
+                v.push(quote!(actions));
+            }
+            if has_mealy {
+                v.push(quote!(mealy));
+            }
+            v
+        };
+        // `(target, actions, mealy)`, or `target` alone (no parentheses around one name).
+        let rule_values = if rule_values.len() == 1 {
+            rule_values[0].clone()
+        } else {
+            quote!((#(#rule_values),*))
+        };
+        let mut cell_columns = rule_columns.clone();
+        cell_columns.push(quote!(seq));
+        if has_rest {
+            cell_columns.push(quote!(rest));
+        }
+        let (rule_pattern, cell_pattern) =
+            (entry_pattern(&rule_columns), entry_pattern(&cell_columns));
+        let numbers_doc = {
+            let mut d = Vec::new();
+            if has_actions {
+                d.push("actions");
+            }
+            if has_mealy {
+                d.extend(std::iter::repeat_n("mealy", self.mask_bytes));
+            }
+            d
+        };
+        let shape = |extra: &[&str]| {
+            let numbers: Vec<&str> = numbers_doc.iter().chain(extra).copied().collect();
+            if numeric {
+                format!("`[target, {}]`", numbers.join(", ")).replace(", ]", "]")
+            } else if extra.is_empty() {
+                if numbers.is_empty() {
+                    "`target`".to_string()
+                } else {
+                    format!("`(target, [{}])`", numbers.join(", "))
+                }
+            } else {
+                format!("`(first, [{}])`", extra.join(", "))
+            }
+        };
+        let target_doc = if numeric {
+            "the target state's number (the state itself for `stay`)"
+        } else {
+            "the target state (the state itself for `stay`)"
+        };
+        let rule_parts = format!(
+            "{target_doc}{}{}",
+            if has_actions {
+                ", the action sequence (`0`: none, see `run_actions`)"
+            } else {
+                ""
+            },
+            if has_mealy {
+                ", the Mealy output masks (bit `i % 8` of mask `i / 8` is output `i`)"
+            } else {
+                ""
+            },
+        );
+        // A `Rule` alias when something names it: typed cells hold one, and `RULES`.
+        let has_rule_alias = !numeric || has_rest;
+        let rule_doc = format!("A rule, {}: {rule_parts}.", shape(&[]));
+        let first_doc = if !numeric {
+            "its first `Rule`".to_string()
+        } else if has_rest {
+            "its first rule (the numbers of a `Rule`)".to_string()
+        } else {
+            format!("its rule ({rule_parts})")
+        };
+        let cell_doc = format!(
+            "A cell, {}: {first_doc}, its guard list (`0`: no rules, see `select`){}.",
+            shape(if has_rest { &["seq", "rest"] } else { &["seq"] }),
+            if has_rest {
+                " and where its later rules are: rule `at` (from 1) of the cell is \
+                 `RULES[rest + at - 1]`"
+            } else {
+                ""
+            },
+        );
+        let rule_alias = if has_rule_alias {
+            let doc = doc_text(&rule_doc);
+            quote! {
+                #doc
+                type Rule = #rule_ty;
+            }
+        } else {
+            quote!()
+        };
+        let cell_doc = doc_text(&cell_doc);
+        let rules_table = if has_rest {
+            let n_rules = lit(t.rules.len());
+            let rows = t.rules.iter().map(|r| entry(r.target, rule_numbers(r)));
+            quote! {
+                /// The rules after the first of each cell, in runs that the cells' `rest`
+                /// point at (equal runs stored once).
+                static RULES: [Rule; #n_rules] = [#(#rows),*];
+            }
+        } else {
+            quote!()
+        };
+        let rest_index = if widest <= usize::from(u16::MAX) {
+            quote!(usize::from(rest) + at - 1)
+        } else {
+            quote! {
+                match usize::try_from(rest) {
+                    Ok(rest) => rest + at - 1,
+                    Err(_) => return #unhandled,
+                }
+            }
+        };
+        let select_match = if has_rest {
+            quote! {
+                match select(seq, hooks) {
+                    Some(0) => #rule_values,
+                    Some(at) => match RULES.get(#rest_index) {
+                        Some(&#rule_pattern) => #rule_values,
+                        None => return #unhandled,
+                    },
+                    None => return #unhandled,
+                }
+            }
+        } else {
+            quote! {
+                // Every cell has one rule at most: `select` finds it or none.
+                match select(seq, hooks) {
+                    Some(0) => #rule_values,
+                    Some(_) | None => return #unhandled,
+                }
+            }
         };
         // A cell whose only rule has no guard (guard list 1 when there is one, see
         // `Tables::build`) skips `select`: a compare and a branch instead of a jump
         // through `select`'s table, which the benchmark measured at about 5% of a step
         // on small machines (BENCHMARKS.md, "Dispatch").
-        let fire_of = if t.unconditional_first() {
+        let rule_of = if t.unconditional_first() {
             quote! {
-                let fire = if cell.seq == 1 { &cell.fire } else { #fire_of };
+                let #rule_values = if seq == 1 { #rule_values } else { #select_match };
             }
         } else {
-            quote!(let fire = #fire_of;)
+            quote!(let #rule_values = #select_match;)
+        };
+        // A target number becomes a `State` through `from_raw`, a compare (see `types`);
+        // a number no state has (never written by detent) ends the step as an unhandled
+        // event would.
+        let to_state = if self.state_ty.to_string() == num.to_string() {
+            quote! {
+                let Some(to) = State::from_raw(target) else {
+                    return #unhandled;
+                };
+            }
+        } else {
+            let state_ty = &self.state_ty;
+            quote! {
+                let Some(to) = #state_ty::try_from(target).ok().and_then(State::from_raw) else {
+                    return #unhandled;
+                };
+            }
+        };
+
+        // Finding the rule: numeric tables read the cell's numbers and then, when a later
+        // rule fires, that rule's; typed tables pick the rule by reference (the cell's
+        // `first` or an entry of `RULES`) and read it once, which measured fewer
+        // instructions per step (BENCHMARKS.md, "Dispatch").
+        let lookup = if numeric {
+            quote! {
+                let Some(&#cell_pattern) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
+                    return #unhandled;
+                };
+                #rule_of
+                #to_state
+            }
+        } else {
+            let place = if has_rest {
+                quote!([seq, rest])
+            } else {
+                quote!([seq])
+            };
+            let later = if has_rest {
+                quote! {
+                    Some(at) => match RULES.get(usize::from(*rest) + at - 1) {
+                        Some(rule) => rule,
+                        None => return #unhandled,
+                    },
+                    None => return #unhandled,
+                }
+            } else {
+                quote! {
+                    // Every cell has one rule at most: `select` finds it or none.
+                    Some(_) | None => return #unhandled,
+                }
+            };
+            let selected = quote! {
+                match select(*seq, hooks) {
+                    Some(0) => first,
+                    #later
+                }
+            };
+            let rule = if t.unconditional_first() {
+                quote!(if *seq == 1 { first } else { #selected })
+            } else {
+                selected
+            };
+            quote! {
+                let Some((first, #place)) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
+                    return #unhandled;
+                };
+                let rule = #rule;
+                let &#rule_pattern = rule;
+                let to = target;
+            }
         };
 
         let step_outputs = if has_outputs {
             let mealy = if has_mealy {
-                quote!(fire.mealy)
+                quote!(mealy)
             } else {
                 quote!([0; #k])
             };
@@ -1414,11 +1678,11 @@ impl<'a> Gen<'a> {
         );
         let select_fn = quote! {
             /// The position among a cell's rules of the first whose guard holds (`0`:
-            /// the cell's own `fire`, `at`: `RULES[rest + at - 1]`), for the cell's
+            /// the cell's own first rule, `at`: `RULES[rest + at - 1]`), for the cell's
             /// guard sequence `seq` (`0`: no rules), reading inputs through `hooks`;
             /// `None` when no guard holds.
             #select_allow
-            fn select<H: Hooks + ?Sized>(seq: #seq_ty, #select_hooks: &mut H) -> Option<usize> {
+            fn select<H: Hooks + ?Sized>(seq: #num, #select_hooks: &mut H) -> Option<usize> {
                 #select_body
             }
         };
@@ -1459,33 +1723,36 @@ impl<'a> Gen<'a> {
                     /// Runs action sequence `actions` (`0`: none) through `hooks`: the
                     /// leave actions, the rule's actions and the enter actions, in order.
                     #run_actions_allow
-                    fn run_actions<H: Hooks + ?Sized>(actions: #act_ty, hooks: &mut H) {
+                    fn run_actions<H: Hooks + ?Sized>(actions: #num, hooks: &mut H) {
                         #body
                     }
                 },
-                quote!(run_actions(fire.actions, hooks);),
+                quote!(run_actions(actions, hooks);),
             )
         } else {
             (quote!(), quote!())
         };
         let trace = self.trace();
+        let machine_impl = machine_impl(
+            quote!(event),
+            quote!(hooks),
+            quote! {
+                let from = self.state;
+                #lookup
+                #run_actions
+                self.state = to;
+                #trace
+                #step_outputs
+            },
+        );
         quote! {
-            /// What a rule does when it fires in one state.
-            struct Fire {
-                #(#fields,)*
-            }
+            #rule_alias
 
-            /// One (state, event) pair: its first rule written out, so that a cell
-            /// whose first rule fires (the common case) is one table load.
-            struct Cell {
-                /// The cell's first rule.
-                fire: Fire,
-                /// The cell's guard list (`0`: no rules), see `select`.
-                seq: #seq_ty,
-                #rest_field
-            }
+            #cell_doc
+            type Cell = #cell_ty;
 
-            /// `CELLS[state][event]`.
+            /// `CELLS[state][event]`. Each cell holds its first rule, so that a cell whose
+            /// first rule fires (the common case) is one table load.
             static CELLS: [[Cell; #n_events]; #n_states] = [#(#cell_rows),*];
 
             #rules_table
@@ -1494,28 +1761,7 @@ impl<'a> Gen<'a> {
             #actions_fn
             #outputs_from
 
-            impl Machine {
-                #outputs_fn
-
-                #step_doc
-                #step_attrs
-                pub fn step<H: Hooks + ?Sized>(
-                    &mut self,
-                    event: Event,
-                    hooks: &mut H,
-                ) -> Result<Outputs, ::detent::Rejected> {
-                    let from = self.state;
-                    let Some(cell) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
-                        return #unhandled;
-                    };
-                    #fire_of
-                    let to = fire.target;
-                    #run_actions
-                    self.state = to;
-                    #trace
-                    #step_outputs
-                }
-            }
+            #machine_impl
         }
     }
 }
