@@ -1494,11 +1494,15 @@ impl<'a> Gen<'a> {
         } else {
             quote!()
         };
+        // Where rule `at` of the cell is in `RULES`; `rest` is a reference in the typed
+        // form. `usize::from` takes `u8` and `u16`; wider numbers (more than 65,535
+        // later rules) go through `try_from`.
+        let rest = if numeric { quote!(rest) } else { quote!(*rest) };
         let rest_index = if widest <= usize::from(u16::MAX) {
-            quote!(usize::from(rest) + at - 1)
+            quote!(usize::from(#rest) + at - 1)
         } else {
             quote! {
-                match usize::try_from(rest) {
+                match usize::try_from(#rest) {
                     Ok(rest) => rest + at - 1,
                     Err(_) => return #unhandled,
                 }
@@ -1573,7 +1577,7 @@ impl<'a> Gen<'a> {
             };
             let later = if has_rest {
                 quote! {
-                    Some(at) => match RULES.get(usize::from(*rest) + at - 1) {
+                    Some(at) => match RULES.get(#rest_index) {
                         Some(rule) => rule,
                         None => return #unhandled,
                     },
