@@ -676,6 +676,10 @@ fn overlap_candidates(
     m: &Machine,
     rules: &[RuleId],
 ) -> (Vec<bool>, Vec<bool>) {
+    // A handful of rules: testing every pair is cheaper than the two passes.
+    if rules.len() <= 8 {
+        return (vec![true; rules.len()], vec![true; rules.len()]);
+    }
     let guard = |r: RuleId| m.rules[r.index()].guard;
     let mut later = vec![false; rules.len()];
     let mut union = Bdd::FALSE;
