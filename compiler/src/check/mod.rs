@@ -167,9 +167,22 @@ impl Checker<'_> {
             let state_name = &m.states[si].name;
             for cell in m.cells(s) {
                 let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
-                // Overlap: any two guards of the scope used that can both be true.
+                // Overlap: any two guards of the scope used that can both be true. A rule
+                // can be the later one of an overlapping pair only if its guard meets the
+                // union of the guards before it, and the earlier one only if it meets the
+                // union of those after it: two linear passes find those rules, and the
+                // pairs are tested among them alone, in the same order as all pairs would
+                // be. A cell of thousands of exclusive rules (a decoded opcode table)
+                // then costs two passes, not a test per pair.
+                let (earlier, later) = overlap_candidates(&mut bdd, m, rules);
                 for (i, &a) in rules.iter().enumerate() {
-                    for &b in &rules[i + 1..] {
+                    if !earlier[i] {
+                        continue;
+                    }
+                    for (j, &b) in rules.iter().enumerate().skip(i + 1) {
+                        if !later[j] {
+                            continue;
+                        }
                         let both = bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
                         if both.is_false() || !reported_pairs.insert((a, b)) {
                             continue;
@@ -652,4 +665,35 @@ pub fn check_source(file: &str, text: &str) -> FileReport {
         text: text.to_string(),
         machines,
     }
+}
+
+/// For the rules of one cell, in order: whether each rule's guard meets the union of the
+/// guards after it (it can be the earlier rule of an overlapping pair), and whether it
+/// meets the union of those before it (the later rule of one). Every overlapping pair
+/// `(a, b)`, `a` before `b`, has `a` marked in the first and `b` in the second.
+fn overlap_candidates(
+    bdd: &mut crate::model::bdd::BddStore,
+    m: &Machine,
+    rules: &[RuleId],
+) -> (Vec<bool>, Vec<bool>) {
+    // A handful of rules: testing every pair is cheaper than the two passes.
+    if rules.len() <= 8 {
+        return (vec![true; rules.len()], vec![true; rules.len()]);
+    }
+    let guard = |r: RuleId| m.rules[r.index()].guard;
+    let mut later = vec![false; rules.len()];
+    let mut union = Bdd::FALSE;
+    for (j, &r) in rules.iter().enumerate() {
+        later[j] = !bdd.and(union, guard(r)).is_false();
+        union = bdd.or(union, guard(r));
+    }
+    let mut earlier = vec![false; rules.len()];
+    if later.iter().any(|&l| l) {
+        let mut union = Bdd::FALSE;
+        for (i, &r) in rules.iter().enumerate().rev() {
+            earlier[i] = !bdd.and(union, guard(r)).is_false();
+            union = bdd.or(union, guard(r));
+        }
+    }
+    (earlier, later)
 }

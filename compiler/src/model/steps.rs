@@ -53,10 +53,16 @@ impl StepTable {
                     CellEvents::Rest => *rest_event.get_or_insert_with(|| m.rest_events(s)[0]),
                 };
                 let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
-                let mut taken = Bdd::FALSE;
+                // What no earlier rule takes, kept as it shrinks (complementing the
+                // growing union for every rule would cost as much as the union each time).
+                let mut untaken = Bdd::TRUE;
                 for &r in rules {
-                    let atom = bdd.and_not(m.rules[r.index()].guard, taken);
-                    taken = bdd.or(taken, m.rules[r.index()].guard);
+                    let guard = m.rules[r.index()].guard;
+                    let atom = bdd.and(guard, untaken);
+                    if !atom.is_false() {
+                        let not_guard = bdd.not(guard);
+                        untaken = bdd.and(untaken, not_guard);
+                    }
                     if !atom.is_false() {
                         steps.push(Step {
                             event,
@@ -66,7 +72,7 @@ impl StepTable {
                         });
                     }
                 }
-                let rest = bdd.not(taken);
+                let rest = untaken;
                 if !rest.is_false() {
                     steps.push(Step {
                         event,
