@@ -17,6 +17,7 @@ pub mod sarif;
 
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::fxhash::FxSet;
+use crate::model::bdd::BddStore;
 use crate::model::graph::{strongly_connected, CellEvents};
 use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
 use crate::syntax::ast::{LevelAttr, Policy};
@@ -671,11 +672,7 @@ pub fn check_source(file: &str, text: &str) -> FileReport {
 /// guards after it (it can be the earlier rule of an overlapping pair), and whether it
 /// meets the union of those before it (the later rule of one). Every overlapping pair
 /// `(a, b)`, `a` before `b`, has `a` marked in the first and `b` in the second.
-fn overlap_candidates(
-    bdd: &mut crate::model::bdd::BddStore,
-    m: &Machine,
-    rules: &[RuleId],
-) -> (Vec<bool>, Vec<bool>) {
+fn overlap_candidates(bdd: &mut BddStore, m: &Machine, rules: &[RuleId]) -> (Vec<bool>, Vec<bool>) {
     // A handful of rules: testing every pair is cheaper than the two passes.
     if rules.len() <= 8 {
         return (vec![true; rules.len()], vec![true; rules.len()]);

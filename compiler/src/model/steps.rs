@@ -62,8 +62,6 @@ impl StepTable {
                     if !atom.is_false() {
                         let not_guard = bdd.not(guard);
                         untaken = bdd.and(untaken, not_guard);
-                    }
-                    if !atom.is_false() {
                         steps.push(Step {
                             event,
                             atom,
