@@ -1508,66 +1508,64 @@ impl<'a> Gen<'a> {
                 }
             }
         };
-        let select_match = if has_rest {
-            quote! {
-                match select(seq, hooks) {
-                    Some(0) => #rule_values,
+        // The rule that fires, from the cell's guard list `seq`, its first rule `first`
+        // and, for a later rule found in `RULES`, the arm `found` that yields it. A cell
+        // whose only rule has no guard (guard list 1 when there is one, see
+        // `Tables::build`) skips `select`: a compare and a branch instead of a jump
+        // through `select`'s table, which the benchmark measured at about 5% of a step
+        // on small machines (BENCHMARKS.md, "Dispatch").
+        let choose = |seq: TokenStream, first: TokenStream, found: TokenStream| {
+            let later = if has_rest {
+                quote! {
                     Some(at) => match RULES.get(#rest_index) {
-                        Some(&#rule_pattern) => #rule_values,
+                        #found,
                         None => return #unhandled,
                     },
                     None => return #unhandled,
                 }
-            }
-        } else {
-            quote! {
+            } else {
                 // Every cell has one rule at most: `select` finds it or none.
-                match select(seq, hooks) {
-                    Some(0) => #rule_values,
-                    Some(_) | None => return #unhandled,
+                quote!(Some(_) | None => return #unhandled,)
+            };
+            let selected = quote! {
+                match select(#seq, hooks) {
+                    Some(0) => #first,
+                    #later
                 }
-            }
-        };
-        // A cell whose only rule has no guard (guard list 1 when there is one, see
-        // `Tables::build`) skips `select`: a compare and a branch instead of a jump
-        // through `select`'s table, which the benchmark measured at about 5% of a step
-        // on small machines (BENCHMARKS.md, "Dispatch").
-        let rule_of = if t.unconditional_first() {
-            quote! {
-                let #rule_values = if seq == 1 { #rule_values } else { #select_match };
-            }
-        } else {
-            quote!(let #rule_values = #select_match;)
-        };
-        // A target number becomes a `State` through `from_raw`, a compare (see `types`);
-        // a number no state has (never written by detent) ends the step as an unhandled
-        // event would.
-        let to_state = if self.state_ty.to_string() == num.to_string() {
-            quote! {
-                let Some(to) = State::from_raw(target) else {
-                    return #unhandled;
-                };
-            }
-        } else {
-            let state_ty = &self.state_ty;
-            quote! {
-                let Some(to) = #state_ty::try_from(target).ok().and_then(State::from_raw) else {
-                    return #unhandled;
-                };
+            };
+            if t.unconditional_first() {
+                quote!(if #seq == 1 { #first } else { #selected })
+            } else {
+                selected
             }
         };
 
         // Finding the rule: numeric tables read the cell's numbers and then, when a later
-        // rule fires, that rule's; typed tables pick the rule by reference (the cell's
-        // `first` or an entry of `RULES`) and read it once, which measured fewer
-        // instructions per step (BENCHMARKS.md, "Dispatch").
+        // rule fires, that rule's, and turn the target number into a `State` through
+        // `from_raw`, a compare (see `types`; a number no state has, never written by
+        // detent, ends the step as an unhandled event would); typed tables pick the rule
+        // by reference (the cell's `first` or an entry of `RULES`) and read it once,
+        // which measured fewer instructions per step (BENCHMARKS.md, "Dispatch").
         let lookup = if numeric {
+            let rule = choose(
+                quote!(seq),
+                rule_values.clone(),
+                quote!(Some(&#rule_pattern) => #rule_values),
+            );
+            let to_state = if self.state_ty.to_string() == num.to_string() {
+                quote!(State::from_raw(target))
+            } else {
+                let state_ty = &self.state_ty;
+                quote!(#state_ty::try_from(target).ok().and_then(State::from_raw))
+            };
             quote! {
                 let Some(&#cell_pattern) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
                     return #unhandled;
                 };
-                #rule_of
-                #to_state
+                let #rule_values = #rule;
+                let Some(to) = #to_state else {
+                    return #unhandled;
+                };
             }
         } else {
             let place = if has_rest {
@@ -1575,31 +1573,7 @@ impl<'a> Gen<'a> {
             } else {
                 quote!([seq])
             };
-            let later = if has_rest {
-                quote! {
-                    Some(at) => match RULES.get(#rest_index) {
-                        Some(rule) => rule,
-                        None => return #unhandled,
-                    },
-                    None => return #unhandled,
-                }
-            } else {
-                quote! {
-                    // Every cell has one rule at most: `select` finds it or none.
-                    Some(_) | None => return #unhandled,
-                }
-            };
-            let selected = quote! {
-                match select(*seq, hooks) {
-                    Some(0) => first,
-                    #later
-                }
-            };
-            let rule = if t.unconditional_first() {
-                quote!(if *seq == 1 { first } else { #selected })
-            } else {
-                selected
-            };
+            let rule = choose(quote!(*seq), quote!(first), quote!(Some(rule) => rule));
             quote! {
                 let Some((first, #place)) = CELLS.get(from as usize).and_then(|row| row.get(event as usize)) else {
                     return #unhandled;
