@@ -1,16 +1,17 @@
 //! The reference interpreter: what a [`Machine`] does, one step at a time.
 //!
-//! This is the single definition of meaning (LANGUAGE.md, "Meaning"). Every back end
+//! This is the single definition of meaning (LANGUAGE.md, "Meaning"), and it decides
+//! nothing on its own: it steps through the machine's lowered form
+//! ([`crate::model::lower`]), the one place that says which rule fires. Every back end
 //! (Rust table, Rust match, macro, C, Verilog) is tested against it on the same traces.
 //!
-//! A step in state `S` on event `E` with input valuation `v`:
-//! 1. Find the scope used: innermost first, `S`'s rules naming `E`, `S`'s `_`, then
-//!    each enclosing group's in turn ([`Machine::rules_for`]).
-//! 2. Among its rules take the one whose guard `v` satisfies (the checker proves at
-//!    most one can be).
-//! 3. If one fires: move to its target (`stay` keeps `S`), run the actions of
-//!    [`Machine::transition_actions`], and output the Moore outputs of the new state
-//!    together with the rule's Mealy outputs.
+//! A step in state `S` on event `E`:
+//! 1. Take the cell of `(S, E)` ([`Lowered::cell_of`]).
+//! 2. Take its first choice whose test holds ([`Lowered::choose`]), reading each input
+//!    the first time a test needs it and never again in the step ([`Sampler`]).
+//! 3. If one fires: move to its target (`stay` keeps `S`), run its operations in order
+//!    (leave actions, the rule's, enter actions), and output the Moore outputs of the
+//!    new state together with the rule's Mealy outputs.
 //! 4. If none fires: no state change, no actions, no Mealy outputs; the step is
 //!    `Ignored`, or `Rejected` under `unhandled reject`. (Under `unhandled complete`
 //!    the checker rejects a spec where this can happen; the interpreter then treats it
@@ -18,6 +19,7 @@
 //!
 //! The start state is entered at construction without running its enter actions.
 
+use crate::model::lower::{Lowered, Sampler};
 use crate::model::{ActionId, EventId, InputId, Machine, OutputId, RuleId, StateId};
 use crate::syntax::ast::Policy;
 
@@ -49,12 +51,22 @@ pub struct StepResult {
     pub moore: Vec<OutputId>,
     /// Actions in the order they ran.
     pub actions: Vec<ActionId>,
+    /// The inputs the step read, in the order it read them (each at most once).
+    pub inputs_read: Vec<InputId>,
 }
 
 impl StepResult {
     /// True when a rule fired.
     pub fn handled(&self) -> bool {
         matches!(self.outcome, Outcome::Fired(_))
+    }
+
+    /// The rule that fired, if one did.
+    pub fn rule(&self) -> Option<RuleId> {
+        match self.outcome {
+            Outcome::Fired(r) => Some(r),
+            Outcome::Ignored | Outcome::Rejected => None,
+        }
     }
 
     /// Every output high after the step (Moore of the new state and Mealy of the rule),
@@ -69,36 +81,41 @@ impl StepResult {
 }
 
 impl Machine {
-    /// The rule that fires for (state, event) under a valuation, if any.
+    /// The rule that fires for (state, event) under a full valuation, if any.
     pub fn fired_rule(&self, state: StateId, event: EventId, inputs: &[bool]) -> Option<RuleId> {
-        let (_, rules) = self.rules_for(state, event)?;
-        self.first_enabled(rules, inputs)
-    }
-
-    /// The first of a scope's rules whose guard the valuation satisfies (step 2).
-    pub fn first_enabled(&self, rules: &[RuleId], inputs: &[bool]) -> Option<RuleId> {
-        rules.iter().copied().find(|r| {
-            self.bdd
-                .eval(self.rules[r.index()].guard, |v| value(inputs, InputId(v)))
-        })
+        self.step(state, event, inputs).rule()
     }
 
     /// One step. `inputs[i]` is the value of input `i`; missing entries read as false.
     pub fn step(&self, state: StateId, event: EventId, inputs: &[bool]) -> StepResult {
-        match self.fired_rule(state, event, inputs) {
-            Some(rule) => {
-                let r = &self.rules[rule.index()];
-                let to = self.target_of(state, rule);
-                StepResult {
-                    from: state,
-                    event,
-                    to,
-                    outcome: Outcome::Fired(rule),
-                    mealy: r.mealy.clone(),
-                    moore: self.states[to.index()].moore.clone(),
-                    actions: self.transition_actions(state, rule),
-                }
-            }
+        self.step_reading(state, event, &mut |i: InputId| value(inputs, i))
+    }
+
+    /// One step that reads inputs through `read`, as generated code reads its hooks:
+    /// each input at most once, the first time a test of the step needs it. The
+    /// inputs read, in order, are in [`StepResult::inputs_read`].
+    pub fn step_reading(
+        &self,
+        state: StateId,
+        event: EventId,
+        read: &mut dyn FnMut(InputId) -> bool,
+    ) -> StepResult {
+        let lowered: &Lowered = &self.lowered;
+        let cell = lowered.cell_of(state, event);
+        let mut sample = Sampler::new(self.inputs.len(), read);
+        let fired = lowered.choose(cell, &mut sample).cloned();
+        let inputs_read = sample.read_order().to_vec();
+        match fired {
+            Some(choice) => StepResult {
+                from: state,
+                event,
+                to: choice.target,
+                outcome: Outcome::Fired(choice.rule),
+                mealy: lowered.outputs(choice.mealy).to_vec(),
+                moore: lowered.outputs(lowered.moore(choice.target)).to_vec(),
+                actions: lowered.actions(choice.ops).collect(),
+                inputs_read,
+            },
             None => StepResult {
                 from: state,
                 event,
@@ -109,8 +126,9 @@ impl Machine {
                     Outcome::Ignored
                 },
                 mealy: Vec::new(),
-                moore: self.states[state.index()].moore.clone(),
+                moore: lowered.outputs(lowered.moore(state)).to_vec(),
                 actions: Vec::new(),
+                inputs_read,
             },
         }
     }

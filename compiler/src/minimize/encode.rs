@@ -5,8 +5,8 @@
 //! "Meaning"). What the host can observe of the step is: whether the event was
 //! rejected (under `unhandled reject` only), the Mealy outputs of the rule, the Moore
 //! outputs of the state after the step, and the sequence of actions that ran (the
-//! leave actions, the rule's own, the enter actions, as [`Machine::transition_actions`]
-//! orders them). Under `ignore` (and `complete`, where the interpreter treats an
+//! leave actions, the rule's own, the enter actions, in the order the lowered form
+//! records them). Under `ignore` (and `complete`, where the interpreter treats an
 //! uncovered step as ignored) an ignored step is observed exactly like a `=> stay` rule
 //! with no outputs and no actions, as LANGUAGE.md prescribes: the `handled` flag is
 //! information, not behaviour. The state after the step is not observable itself, only
@@ -15,16 +15,17 @@
 //! of machines from their start states.
 //!
 //! **Alphabet.** Valuations are never enumerated. Events are first compressed: each
-//! event that some scope of some machine names is its own class; every other event
-//! resolves to the `_` rules in every state of every machine, so they all form one
-//! "rest" class, represented by its first event. Per class, the input space is split
-//! into the atoms of the guard algebra: the coarsest partition refined by every guard
-//! that can apply to the class in any state of any machine (BDD splitting, Bryant
-//! 1986). All valuations in one atom satisfy the same guards, so they make every state
-//! of every machine take the same step; one concrete valuation per atom (`sat_one`,
-//! unmentioned inputs false) is stepped through the reference interpreter
-//! ([`Machine::step`]), which is thus the only definition of meaning used. A symbol is
-//! an (event class, atom) pair.
+//! event that is a cell of its own in some state of some machine (the lowered form's
+//! classes) is its own class; every other event falls in the rest class of every state
+//! of every machine, so they all form one "rest" class, represented by its first event.
+//! Per class, the input space is split into the atoms of the guard algebra: the
+//! coarsest partition refined by the guard of every choice the class has in any state
+//! of any machine (BDD splitting, Bryant 1986). Every firing region of the lowered form
+//! is a Boolean combination of those guards, so all valuations in one atom make every
+//! state of every machine take the same choice; one concrete valuation per atom
+//! (`sat_one`, unmentioned inputs false) stands for it. The lowered form, which the
+//! interpreter steps through too, is thus the only definition of meaning used. A
+//! symbol is an (event class, atom) pair.
 //!
 //! **Several machines.** For equivalence two machines share one alphabet: the first is
 //! the reference, whose event, input, output and action numbers are used; the second's
@@ -32,15 +33,16 @@
 //!
 //! **Cost.** Building the alphabet visits every (state, event class) cell's rules once:
 //! O(cells + rules) BDD operations, plus the atom splitting (at most the number of
-//! distinct guards times the atoms so far). Encoding decides each (state, symbol)'s rule
-//! once: O(states x symbols) guard evaluations, one interpreter step per (state, event
-//! class, rule used), one `u32` successor and one `u32` observation id per transition.
+//! distinct guards times the atoms so far). Encoding finds each (state, symbol)'s choice
+//! once: O(states x symbols) region evaluations, one observation per (state, event
+//! class, choice used), one `u32` successor and one `u32` observation id per transition.
 
 use super::partition::Dfa;
 use crate::fxhash::{FxMap, FxSet};
-use crate::interp::Outcome;
+use crate::model::lower::CellEvents;
 use crate::model::steps::valuation;
 use crate::model::{Bdd, BddStore, EventId, Guard, Machine, StateId};
+use crate::syntax::ast::Policy;
 
 /// One letter of the shared alphabet: an event (reference numbering) and one input
 /// valuation standing for a whole atom.
@@ -170,14 +172,8 @@ impl Alphabet {
             for (r, e) in side.event_of_ref.iter().enumerate() {
                 ref_of_local[e.index()] = r;
             }
-            let scopes = side
-                .m
-                .states
-                .iter()
-                .map(|s| &s.rules)
-                .chain(side.m.groups.iter().map(|g| &g.rules));
-            for rules in scopes {
-                for (e, _) in &rules.named {
+            for cell in side.m.lowered.cells() {
+                if let CellEvents::One(e) = cell.events {
                     named[ref_of_local[e.index()]] = true;
                 }
             }
@@ -207,10 +203,8 @@ impl Alphabet {
                 let local = side.event_of_ref[rep.index()];
                 let mut seen_rule = FxSet::default();
                 for si in 0..m.states.len() {
-                    let Some((_, rules)) = m.rules_for(StateId::from_index(si), local) else {
-                        continue;
-                    };
-                    for &r in rules {
+                    let cell = m.lowered.cell_of(StateId::from_index(si), local);
+                    for r in cell.choices.iter().map(|c| c.rule) {
                         if !seen_rule.insert(r) {
                             continue;
                         }
@@ -352,17 +346,18 @@ fn mapped_sorted(ids: impl Iterator<Item = u32>) -> Vec<u32> {
     v
 }
 
-/// Steps every (state, symbol) of `side` through the interpreter.
+/// Steps every (state, symbol) of `side` through the machine's lowered form.
 ///
-/// Which rule fires is decided per (state, symbol) by the interpreter's own rule
-/// choice ([`Machine::first_enabled`] over [`Machine::rules_for`]). What the step does
-/// once its rule is known (target, outputs, actions) does not depend on the inputs, so
-/// [`Machine::step`] runs once per (state, event class, rule or none) and its
-/// observation is shared by the other symbols of that cell that pick the same rule:
-/// O(states x symbols) guard evaluations, but allocation and interning only per rule
-/// used.
+/// Which rule fires for a (state, symbol) is the choice of the lowered form whose
+/// region holds the symbol's valuation ([`crate::model::lower::Lowered::choice_at`]):
+/// the one definition of rule choice, read, not re-derived. What the step does once
+/// its choice is known (target, outputs, actions) does not depend on the inputs, so its
+/// observation is interned once per (state, event class, choice or none) and shared by
+/// the other symbols of that cell that pick the same choice: O(states x symbols)
+/// region evaluations, but allocation and interning only per choice used.
 pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> Encoded {
     let m = side.m;
+    let lowered = &m.lowered;
     let k = alphabet.symbols.len();
     let n = m.states.len();
     let local: Vec<(EventId, Vec<bool>)> = alphabet
@@ -383,50 +378,68 @@ pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> 
             _ => runs.push(i..i + 1),
         }
     }
-    let moore_of = |s: StateId| {
+    let moore_set = |s: StateId| {
         mapped_sorted(
-            m.states[s.index()]
-                .moore
+            lowered
+                .outputs(lowered.moore(s))
                 .iter()
                 .map(|o| side.output_to_ref[o.index()]),
         )
     };
     let moore: Vec<u32> = (0..n)
-        .map(|s| interner.moore(moore_of(StateId::from_index(s))))
+        .map(|s| interner.moore(moore_set(StateId::from_index(s))))
         .collect();
+    let rejects = m.policy == Policy::Reject;
     let mut delta = Vec::with_capacity(n * k);
     let mut obs = Vec::with_capacity(n * k);
     let mut initial = Vec::with_capacity(n);
-    // (rule fired, successor, observation id) of the steps met in the current cell.
-    let mut cell: Vec<(Option<crate::model::RuleId>, u32, u32)> = Vec::new();
+    // (choice fired, successor, observation id) of the steps met in the current cell.
+    let mut cell_steps: Vec<(Option<usize>, u32, u32)> = Vec::new();
     for s in 0..n {
         let from = StateId::from_index(s);
         for run in &runs {
             let event = local[run.start].0;
-            let rules = m.rules_for(from, event).map_or(&[][..], |(_, r)| r);
-            cell.clear();
+            let cell = lowered.cell_of(from, event);
+            cell_steps.clear();
             for (_, inputs) in &local[run.clone()] {
-                let fired = m.first_enabled(rules, inputs);
-                let (to, o) = match cell.iter().find(|c| c.0 == fired) {
+                let fired = cell
+                    .choices
+                    .iter()
+                    .position(|c| m.bdd.eval(c.region, |v| value(inputs, v)));
+                let (to, o) = match cell_steps.iter().find(|c| c.0 == fired) {
                     Some(&(_, to, o)) => (to, o),
                     None => {
-                        let r = m.step(from, event, inputs);
-                        let o = interner.observation(Observation {
-                            rejected: r.outcome == Outcome::Rejected,
-                            mealy: mapped_sorted(
-                                r.mealy.iter().map(|o| side.output_to_ref[o.index()]),
+                        let (to, observation) = match fired.map(|i| &cell.choices[i]) {
+                            Some(c) => (
+                                c.target,
+                                Observation {
+                                    rejected: false,
+                                    mealy: mapped_sorted(
+                                        lowered
+                                            .outputs(c.mealy)
+                                            .iter()
+                                            .map(|o| side.output_to_ref[o.index()]),
+                                    ),
+                                    moore: moore_set(c.target),
+                                    actions: lowered
+                                        .actions(c.ops)
+                                        .map(|a| side.action_to_ref[a.index()])
+                                        .collect(),
+                                },
                             ),
-                            moore: mapped_sorted(
-                                r.moore.iter().map(|o| side.output_to_ref[o.index()]),
+                            None => (
+                                from,
+                                Observation {
+                                    rejected: rejects,
+                                    mealy: Vec::new(),
+                                    moore: moore_set(from),
+                                    actions: Vec::new(),
+                                },
                             ),
-                            actions: r
-                                .actions
-                                .iter()
-                                .map(|a| side.action_to_ref[a.index()])
-                                .collect(),
-                        });
-                        cell.push((fired, r.to.0, o));
-                        (r.to.0, o)
+                        };
+                        let o = interner.observation(observation);
+                        cell_steps.push((fired, to.0, o));
+                        (to.0, o)
                     }
                 };
                 delta.push(to);
@@ -446,6 +459,10 @@ pub fn encode(side: &Side<'_>, alphabet: &Alphabet, interner: &mut Interner) -> 
         obs,
         moore,
     }
+}
+
+fn value(inputs: &[bool], v: u32) -> bool {
+    inputs.get(v as usize).copied().unwrap_or(false)
 }
 
 /// The input names and values of a reference valuation, in declaration order.

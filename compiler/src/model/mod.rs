@@ -1,7 +1,9 @@
 //! The resolved machine: names turned into dense ids, groups flattened, guards as BDDs.
 //!
-//! [`resolve`] turns a [`MachineAst`] into a [`Machine`] or reports name errors. All
-//! later stages (checker, interpreter, minimizer, back ends) read only the `Machine`.
+//! [`resolve`] turns a [`MachineAst`] into a [`Machine`] or reports name errors, and
+//! ends by building the machine's lowered form ([`lower`]): the one definition of which
+//! rule fires, which every later stage (interpreter, checker, minimizer, back ends)
+//! reads.
 //!
 //! Numbering is declaration order everywhere: states in the order their `state`
 //! keywords appear (inside groups too), events, inputs, outputs and actions in the
@@ -9,6 +11,7 @@
 
 pub mod bdd;
 pub mod graph;
+pub mod lower;
 mod resolve;
 pub mod steps;
 
@@ -326,8 +329,11 @@ pub struct Machine {
     pub properties: Vec<Property>,
     /// Lint attributes on the machine.
     pub lints: LintLevels,
-    /// The node table of every guard.
+    /// The node table of every guard (and of the lowered form's regions).
     pub bdd: BddStore,
+    /// The lowered transition table: the one definition of which rule fires
+    /// ([`lower`]).
+    pub lowered: lower::Lowered,
 }
 
 /// A node in the scope tree, for lint-level lookup.
@@ -342,6 +348,24 @@ pub enum Site {
 }
 
 impl Machine {
+    /// Builds the lowered form into a machine fresh from resolution. The decision-diagram
+    /// limit is an error here (with the message the checker gave before), so no later
+    /// stage ever answers from a store that overflowed.
+    pub fn lowered_or_error(mut self) -> Result<Machine, Vec<crate::diag::Diagnostic>> {
+        let mut bdd = std::mem::take(&mut self.bdd);
+        match lower::lower(&self, &mut bdd) {
+            Ok(lowered) => {
+                self.bdd = bdd;
+                self.lowered = lowered;
+                Ok(self)
+            }
+            Err(lower::LowerError::TooManyNodes) => Err(vec![crate::diag::Diagnostic::name_error(
+                self.span,
+                bdd_overflow_message(&self.name, "the firing regions of this machine's rules"),
+            )]),
+        }
+    }
+
     /// Looks a state up by name.
     pub fn state_id(&self, name: &str) -> Option<StateId> {
         self.states

@@ -325,7 +325,7 @@ impl<'a> Resolver<'a> {
         if !self.errors.is_empty() {
             return Err(self.errors);
         }
-        Ok(Machine {
+        Machine {
             name: ast.name.name.clone(),
             span: ast.name.span,
             doc: ast.doc.clone(),
@@ -346,7 +346,9 @@ impl<'a> Resolver<'a> {
             properties,
             lints,
             bdd: self.bdd,
-        })
+            lowered: super::lower::Lowered::default(),
+        }
+        .lowered_or_error()
     }
 
     fn declare_signal(&mut self, e: &ast::DocIdent, sig: Signal) -> bool {

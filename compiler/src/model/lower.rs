@@ -1,0 +1,687 @@
+//! The lowered form: the one definition of which rule fires (DESIGN.md, "The lowered
+//! form").
+//!
+//! **This file is the only place that decides rule choice.** The interpreter steps
+//! through the [`Lowered`] table with [`Lowered::choose`]; the checker, the property
+//! prover, the minimizer, the tour, the hardware port, the table and diagram, and every
+//! code generator read the same table and decide nothing about rule choice on their
+//! own. A language feature that changes which rule fires changes [`lower`], not its
+//! consumers.
+//!
+//! # What a machine is, lowered
+//!
+//! For each state and each *class* of events that behave alike there (a
+//! [`Cell`]: every event that some scope of the state names is its own class; all
+//! other events form one "rest" class), the lowering lists:
+//!
+//! - the rules the lookup of LANGUAGE.md ("Rules and scopes") *reaches*, grouped by the
+//!   lookup step and scope they come from ([`Reached`]): what the checker's overlap and
+//!   dead-rule analyses read;
+//! - the [`Choice`]s: the reached rules that can fire, in lookup order, each with
+//!   - `test`, the condition a back end evaluates, *in order*: the first choice whose
+//!     test holds fires. It is the rule's guard as written with constants folded away
+//!     (`None`: always), except that the last choice of a cell that covers every
+//!     valuation needs no test at all (nothing else can happen there);
+//!   - `region`, the exact set of valuations where the choice fires (a BDD: its test
+//!     minus the regions before it), which every analysis uses instead of re-deriving
+//!     the order;
+//!   - its effect: the target state, whether it moves (`stay` does not), its Mealy
+//!     outputs and its sequence of operations (leave actions, the rule's, enter
+//!     actions, in the order of LANGUAGE.md "Action order"), interned so that equal
+//!     sets and sequences are stored once;
+//! - the `unhandled` region, where no choice fires (ignored or rejected by policy).
+//!
+//! Rules that can never fire (an unsatisfiable guard, or one whose valuations the
+//! rules before it always take) are not choices.
+//!
+//! # Inputs are sampled once
+//!
+//! Tests read inputs lazily: an input is read the first time a test that is evaluated
+//! needs it, and the value read then is used by every later test of the step
+//! ([`Sampler`]; LANGUAGE.md, "Inputs"). Every back end follows the same order of tests
+//! and the same short-circuit evaluation of each test, so each reads the same inputs in
+//! the same order as the interpreter; the hostile-hooks differential test checks it.
+//!
+//! # Room for what comes next
+//!
+//! The lookup has four steps (preempt, due timeouts, named, wildcard: [`LookupStep`]);
+//! today's language uses the last two, and a choice records which step it came from.
+//! Operations are [`Op`]s rather than bare actions so that counter operations take
+//! their place in the same sequences, and a configuration is more than a state
+//! ([`crate::interp::Config`]) so that timers and counters join it.
+//!
+//! # Cost
+//!
+//! One pass over the states; per state, one cell per event named on its scope chain
+//! plus the rest class, and per cell one BDD `and`/`not` per reached rule (Bryant
+//! 1986). The store is the machine's own, extended with the regions. A machine whose
+//! regions pass the decision-diagram limit is refused here with an error, never left
+//! to answer `false` later.
+
+use super::{
+    ActionId, Bdd, BddStore, EventId, Guard, InputId, Machine, OutputId, RuleId, Scope, StateId,
+    Target,
+};
+use crate::fxhash::FxMap;
+use std::ops::Range;
+
+/// A step of the lookup of LANGUAGE.md ("Rules and scopes"), in lookup order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum LookupStep {
+    /// `preempt` rules of the state's groups, outermost first.
+    Preempt,
+    /// Due `after` rules, the state first, then its groups outward.
+    Timeout,
+    /// Rules naming the event, in the scope the lookup uses.
+    Named,
+    /// `_` rules (every rule of a clocked machine), in the scope the lookup uses.
+    Wildcard,
+}
+
+/// One operation of a transition's sequence, run in order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Op {
+    /// Call an action hook.
+    Action(ActionId),
+}
+
+/// The number of an interned operation sequence ([`Lowered::seq`]); 0 is the empty one.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct SeqId(pub u32);
+
+/// The number of an interned output set ([`Lowered::outputs`]); 0 is the empty one.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct OutSetId(pub u32);
+
+/// The number of a cell ([`Lowered::cell`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct CellId(pub u32);
+
+impl SeqId {
+    /// The sequence that runs nothing.
+    pub const EMPTY: SeqId = SeqId(0);
+    /// The id as an index.
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+
+impl OutSetId {
+    /// No output high.
+    pub const EMPTY: OutSetId = OutSetId(0);
+    /// The id as an index.
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+
+impl CellId {
+    /// The id as an index.
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+
+/// The events of one cell.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CellEvents {
+    /// One event that some scope of the state names.
+    One(EventId),
+    /// Every event no scope of the state names ([`Lowered::rest_events`]).
+    Rest,
+}
+
+/// The rules one lookup step reaches in one scope, in source order.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Reached {
+    /// Which lookup step.
+    pub step: LookupStep,
+    /// The scope whose rules they are.
+    pub scope: Scope,
+    /// The rules, in source order (whether or not they can fire).
+    pub rules: Vec<RuleId>,
+}
+
+/// A rule as it can fire in one cell.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Choice {
+    /// The rule.
+    pub rule: RuleId,
+    /// The lookup step it comes from.
+    pub step: LookupStep,
+    /// The scope that holds it.
+    pub scope: Scope,
+    /// What a back end tests, in choice order (the first choice whose test holds
+    /// fires): the guard with constants folded away; `None` when nothing needs testing.
+    pub test: Option<Guard>,
+    /// Exactly the valuations where this choice fires: its test minus every earlier
+    /// choice's region. Disjoint from the other regions of the cell.
+    pub region: Bdd,
+    /// The state after the step (the current one for `stay`).
+    pub target: StateId,
+    /// False for `stay` (no enter/leave actions), true for `=> T` (even `T` = current).
+    pub moves: bool,
+    /// The rule's Mealy outputs.
+    pub mealy: OutSetId,
+    /// What runs, in order: leave actions, the rule's, enter actions.
+    pub ops: SeqId,
+}
+
+/// One state's class of events and how the lookup resolves it.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Cell {
+    /// The state.
+    pub state: StateId,
+    /// Which events.
+    pub events: CellEvents,
+    /// An event of the class (the one event, or the first of the rest class), for
+    /// traces and witnesses.
+    pub event: EventId,
+    /// The rules the lookup reaches, by lookup step and scope, in lookup order.
+    pub reached: Vec<Reached>,
+    /// The rules that can fire, in lookup order.
+    pub choices: Vec<Choice>,
+    /// The valuations where no choice fires (`FALSE` when the cell is covered).
+    pub unhandled: Bdd,
+}
+
+/// The lowered transition table of a machine (see the module documentation).
+#[derive(Clone, Debug, Default)]
+pub struct Lowered {
+    cells: Vec<Cell>,
+    /// `cells[state_cells[s]..state_cells[s + 1]]` are the cells of state `s`: its named
+    /// events ascending, then its rest class (when some event falls in it).
+    state_cells: Vec<u32>,
+    seqs: Vec<Vec<Op>>,
+    out_sets: Vec<Vec<OutputId>>,
+    moore: Vec<OutSetId>,
+}
+
+impl Lowered {
+    /// Every cell, grouped by state.
+    pub fn cells(&self) -> &[Cell] {
+        &self.cells
+    }
+
+    /// The cells of a state: its named events ascending, then the rest class.
+    pub fn cells_of(&self, s: StateId) -> &[Cell] {
+        &self.cells[self.cell_range(s)]
+    }
+
+    /// The ids of a state's cells.
+    pub fn cell_range(&self, s: StateId) -> Range<usize> {
+        self.state_cells[s.index()] as usize..self.state_cells[s.index() + 1] as usize
+    }
+
+    /// A cell by id.
+    pub fn cell(&self, c: CellId) -> &Cell {
+        &self.cells[c.index()]
+    }
+
+    /// The cell that resolves event `e` in state `s`.
+    pub fn cell_id(&self, s: StateId, e: EventId) -> CellId {
+        let range = self.cell_range(s);
+        let cells = &self.cells[range.clone()];
+        let named = match cells.last() {
+            Some(c) if c.events == CellEvents::Rest => &cells[..cells.len() - 1],
+            _ => cells,
+        };
+        let i = match named.binary_search_by_key(&e, |c| c.event) {
+            Ok(i) => i,
+            // Not named on the scope chain: the rest class, which is then present.
+            Err(_) => named.len(),
+        };
+        CellId((range.start + i) as u32)
+    }
+
+    /// The cell that resolves event `e` in state `s`.
+    pub fn cell_of(&self, s: StateId, e: EventId) -> &Cell {
+        self.cell(self.cell_id(s, e))
+    }
+
+    /// An interned operation sequence.
+    pub fn seq(&self, id: SeqId) -> &[Op] {
+        &self.seqs[id.index()]
+    }
+
+    /// Every interned operation sequence (index 0: the empty one).
+    pub fn seqs(&self) -> &[Vec<Op>] {
+        &self.seqs
+    }
+
+    /// The actions of a sequence, in order.
+    pub fn actions(&self, id: SeqId) -> impl Iterator<Item = ActionId> + '_ {
+        self.seq(id).iter().map(|op| match op {
+            Op::Action(a) => *a,
+        })
+    }
+
+    /// An interned output set, ascending.
+    pub fn outputs(&self, id: OutSetId) -> &[OutputId] {
+        &self.out_sets[id.index()]
+    }
+
+    /// Every interned output set (index 0: the empty one).
+    pub fn output_sets(&self) -> &[Vec<OutputId>] {
+        &self.out_sets
+    }
+
+    /// The Moore outputs of a state (its own `emit` and its groups').
+    pub fn moore(&self, s: StateId) -> OutSetId {
+        self.moore[s.index()]
+    }
+
+    /// The events of a cell, ascending.
+    pub fn cell_events(&self, n_events: usize, cell: &Cell) -> Vec<EventId> {
+        match cell.events {
+            CellEvents::One(e) => vec![e],
+            CellEvents::Rest => self.rest_events(n_events, cell.state),
+        }
+    }
+
+    /// The events of a state's rest class (named on none of its scopes), ascending.
+    pub fn rest_events(&self, n_events: usize, s: StateId) -> Vec<EventId> {
+        let named: Vec<EventId> = self
+            .cells_of(s)
+            .iter()
+            .filter_map(|c| match c.events {
+                CellEvents::One(e) => Some(e),
+                CellEvents::Rest => None,
+            })
+            .collect();
+        (0..n_events)
+            .map(EventId::from_index)
+            .filter(|e| named.binary_search(e).is_err())
+            .collect()
+    }
+
+    /// The choice that fires in `cell`: the first whose test holds, each input read
+    /// through `sample` (at most once per step). `None`: no rule handles the step.
+    ///
+    /// This is the rule choice of the language; every back end emits code that makes
+    /// the same choice with the same reads.
+    pub fn choose<'c>(&self, cell: &'c Cell, sample: &mut Sampler<'_>) -> Option<&'c Choice> {
+        cell.choices.iter().find(|c| match &c.test {
+            None => true,
+            Some(t) => sample.holds(t),
+        })
+    }
+
+    /// The choice of `cell` whose region holds a full valuation (exact; reads nothing).
+    pub fn choice_at<'c>(
+        &self,
+        bdd: &BddStore,
+        cell: &'c Cell,
+        inputs: &[bool],
+    ) -> Option<&'c Choice> {
+        cell.choices.iter().find(|c| {
+            bdd.eval(c.region, |v| {
+                inputs.get(v as usize).copied().unwrap_or(false)
+            })
+        })
+    }
+
+    /// States one step can lead to from `s` (some choice fires), ascending, without
+    /// duplicates; `s` itself when a choice stays or loops.
+    pub fn successors(&self, s: StateId) -> Vec<StateId> {
+        let mut out: Vec<StateId> = self
+            .cells_of(s)
+            .iter()
+            .flat_map(|c| c.choices.iter().map(|ch| ch.target))
+            .collect();
+        out.sort_unstable();
+        out.dedup();
+        out
+    }
+
+    /// The successor lists of every state, indexed by state.
+    pub fn successor_lists(&self) -> Vec<Vec<StateId>> {
+        (0..self.state_cells.len().saturating_sub(1))
+            .map(|i| self.successors(StateId::from_index(i)))
+            .collect()
+    }
+
+    /// The rules that can fire in state `s`, each once, in cell order.
+    pub fn live_rules(&self, s: StateId) -> Vec<RuleId> {
+        let mut out = Vec::new();
+        for c in self.cells_of(s) {
+            for ch in &c.choices {
+                if !out.contains(&ch.rule) {
+                    out.push(ch.rule);
+                }
+            }
+        }
+        out
+    }
+}
+
+/// The inputs of one step, each read at most once: the first time a test needs it.
+pub struct Sampler<'a> {
+    values: Vec<Option<bool>>,
+    read: &'a mut dyn FnMut(InputId) -> bool,
+    order: Vec<InputId>,
+}
+
+impl<'a> Sampler<'a> {
+    /// A sampler over `n_inputs` inputs that reads through `read`.
+    pub fn new(n_inputs: usize, read: &'a mut dyn FnMut(InputId) -> bool) -> Self {
+        Sampler {
+            values: vec![None; n_inputs],
+            read,
+            order: Vec::new(),
+        }
+    }
+
+    /// The input's value in this step: read now if no test has needed it yet.
+    pub fn get(&mut self, i: InputId) -> bool {
+        match self.values.get(i.index()).copied().flatten() {
+            Some(v) => v,
+            None => {
+                let v = (self.read)(i);
+                if let Some(slot) = self.values.get_mut(i.index()) {
+                    *slot = Some(v);
+                }
+                self.order.push(i);
+                v
+            }
+        }
+    }
+
+    /// Evaluates a test left to right with short-circuit `&&` and `||`, as the
+    /// generated code does.
+    pub fn holds(&mut self, g: &Guard) -> bool {
+        match g {
+            Guard::Input(i) => self.get(*i),
+            Guard::Const(b) => *b,
+            Guard::Not(a) => !self.holds(a),
+            Guard::And(a, b) => self.holds(a) && self.holds(b),
+            Guard::Or(a, b) => self.holds(a) || self.holds(b),
+        }
+    }
+
+    /// The inputs read so far, in the order they were first read.
+    pub fn read_order(&self) -> &[InputId] {
+        &self.order
+    }
+
+    /// The values read so far (`None`: not read).
+    pub fn values(&self) -> &[Option<bool>] {
+        &self.values
+    }
+}
+
+/// A guard with its constants folded away: `Ok` with an expression that holds no
+/// constant, or `Err(b)` when the guard is the constant `b`. Double negations go too.
+/// Neither changes which inputs a left-to-right evaluation reads, nor in what order.
+pub fn fold(g: &Guard) -> Result<Guard, bool> {
+    match g {
+        Guard::Const(b) => Err(*b),
+        Guard::Input(_) => Ok(g.clone()),
+        Guard::Not(a) => match fold(a) {
+            Err(b) => Err(!b),
+            Ok(Guard::Not(inner)) => Ok(*inner),
+            Ok(x) => Ok(Guard::Not(Box::new(x))),
+        },
+        Guard::And(a, b) => match (fold(a), fold(b)) {
+            (Err(false), _) => Err(false),
+            (Err(true), x) => x,
+            // `a && false`: never true, but `a` is evaluated first; the rule never fires,
+            // so no test of it is ever emitted.
+            (Ok(_), Err(false)) => Err(false),
+            (Ok(x), Err(true)) => Ok(x),
+            (Ok(x), Ok(y)) => Ok(Guard::And(Box::new(x), Box::new(y))),
+        },
+        Guard::Or(a, b) => match (fold(a), fold(b)) {
+            (Err(true), _) => Err(true),
+            (Err(false), x) => x,
+            (Ok(_), Err(true)) => Err(true),
+            (Ok(x), Err(false)) => Ok(x),
+            (Ok(x), Ok(y)) => Ok(Guard::Or(Box::new(x), Box::new(y))),
+        },
+    }
+}
+
+/// Interning tables for sequences and output sets.
+struct Interner {
+    seqs: Vec<Vec<Op>>,
+    seq_ids: FxMap<Vec<Op>, SeqId>,
+    out_sets: Vec<Vec<OutputId>>,
+    out_ids: FxMap<Vec<OutputId>, OutSetId>,
+}
+
+impl Interner {
+    fn new() -> Interner {
+        let mut i = Interner {
+            seqs: Vec::new(),
+            seq_ids: FxMap::default(),
+            out_sets: Vec::new(),
+            out_ids: FxMap::default(),
+        };
+        i.seq(Vec::new());
+        i.out_set(Vec::new());
+        i
+    }
+
+    fn seq(&mut self, ops: Vec<Op>) -> SeqId {
+        if let Some(&id) = self.seq_ids.get(&ops) {
+            return id;
+        }
+        let id = SeqId(self.seqs.len() as u32);
+        self.seqs.push(ops.clone());
+        self.seq_ids.insert(ops, id);
+        id
+    }
+
+    fn out_set(&mut self, outs: Vec<OutputId>) -> OutSetId {
+        if let Some(&id) = self.out_ids.get(&outs) {
+            return id;
+        }
+        let id = OutSetId(self.out_sets.len() as u32);
+        self.out_sets.push(outs.clone());
+        self.out_ids.insert(outs, id);
+        id
+    }
+}
+
+/// What went wrong lowering a machine.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum LowerError {
+    /// The firing regions need more decision-diagram nodes than the limit.
+    TooManyNodes,
+}
+
+/// Lowers a resolved machine: the cells of every state, with their choices, in the
+/// machine's own BDD store (extended with the regions).
+pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
+    let mut intern = Interner::new();
+    let mut cells = Vec::new();
+    let mut state_cells = Vec::with_capacity(m.states.len() + 1);
+    let n_events = m.events.len();
+    for si in 0..m.states.len() {
+        state_cells.push(cells.len() as u32);
+        let s = StateId::from_index(si);
+        let chain = m.scope_chain(s);
+        let named = named_events(m, &chain);
+        for &e in &named {
+            let reached = reach(m, &chain, Some(e));
+            cells.push(build_cell(
+                m,
+                bdd,
+                &mut intern,
+                s,
+                CellEvents::One(e),
+                e,
+                reached,
+            ));
+        }
+        if named.len() < n_events {
+            // The rest class: the first event no scope of the chain names.
+            let rep = (0..n_events)
+                .map(EventId::from_index)
+                .find(|e| named.binary_search(e).is_err())
+                .unwrap_or(EventId(0));
+            let reached = reach(m, &chain, None);
+            cells.push(build_cell(
+                m,
+                bdd,
+                &mut intern,
+                s,
+                CellEvents::Rest,
+                rep,
+                reached,
+            ));
+        }
+        if bdd.overflowed() {
+            return Err(LowerError::TooManyNodes);
+        }
+    }
+    state_cells.push(cells.len() as u32);
+    let moore = m
+        .states
+        .iter()
+        .map(|st| intern.out_set(st.moore.clone()))
+        .collect();
+    Ok(Lowered {
+        cells,
+        state_cells,
+        seqs: intern.seqs,
+        out_sets: intern.out_sets,
+        moore,
+    })
+}
+
+/// The events some scope of the chain names, ascending.
+fn named_events(m: &Machine, chain: &[Scope]) -> Vec<EventId> {
+    let mut evs: Vec<EventId> = chain
+        .iter()
+        .flat_map(|&sc| m.scope_rules(sc).named.iter().map(|(e, _)| *e))
+        .collect();
+    evs.sort_unstable();
+    evs.dedup();
+    evs
+}
+
+/// The lookup of LANGUAGE.md for one event (`None`: an event no scope of the chain
+/// names): the rules it reaches, by step and scope, in lookup order.
+///
+/// Today's language has one step that applies: the innermost scope that has a rule
+/// naming the event, or a `_` rule, decides; its rules naming the event are used, or
+/// else its `_` rules. Valuations none of them covers are unhandled (no fall-through
+/// to outer scopes).
+fn reach(m: &Machine, chain: &[Scope], event: Option<EventId>) -> Vec<Reached> {
+    for &scope in chain {
+        let rules = m.scope_rules(scope);
+        if let Some(e) = event {
+            if let Ok(i) = rules.named.binary_search_by_key(&e, |(x, _)| *x) {
+                return vec![Reached {
+                    step: LookupStep::Named,
+                    scope,
+                    rules: rules.named[i].1.clone(),
+                }];
+            }
+        }
+        if !rules.wildcard.is_empty() {
+            return vec![Reached {
+                step: LookupStep::Wildcard,
+                scope,
+                rules: rules.wildcard.clone(),
+            }];
+        }
+    }
+    Vec::new()
+}
+
+/// One cell: the choices of its reached rules in lookup order, with their regions.
+fn build_cell(
+    m: &Machine,
+    bdd: &mut BddStore,
+    intern: &mut Interner,
+    s: StateId,
+    events: CellEvents,
+    event: EventId,
+    reached: Vec<Reached>,
+) -> Cell {
+    let mut choices = Vec::new();
+    // What no earlier choice takes, kept as it shrinks (complementing the growing union
+    // for every rule would cost as much as the union each time).
+    let mut untaken = Bdd::TRUE;
+    for group in &reached {
+        for &r in &group.rules {
+            if untaken.is_false() {
+                break;
+            }
+            let rule = &m.rules[r.index()];
+            let test = match &rule.guard_expr {
+                None => None,
+                Some(g) => match fold(g) {
+                    Err(true) => None,
+                    Err(false) => continue,
+                    Ok(t) => Some(t),
+                },
+            };
+            let region = bdd.and(rule.guard, untaken);
+            if region.is_false() {
+                continue;
+            }
+            let not_guard = bdd.not(rule.guard);
+            untaken = bdd.and(untaken, not_guard);
+            let (target, moves) = match rule.target {
+                Target::Stay => (s, false),
+                Target::To(t) => (t, true),
+            };
+            let ops = transition_ops(m, s, r)
+                .into_iter()
+                .map(Op::Action)
+                .collect();
+            choices.push(Choice {
+                rule: r,
+                step: group.step,
+                scope: group.scope,
+                // The last choice of a covered cell takes every valuation left: nothing
+                // needs testing there.
+                test: if untaken.is_false() { None } else { test },
+                region,
+                target,
+                moves,
+                mealy: intern.out_set(rule.mealy.clone()),
+                ops: intern.seq(ops),
+            });
+        }
+    }
+    Cell {
+        state: s,
+        events,
+        event,
+        reached,
+        choices,
+        unhandled: untaken,
+    }
+}
+
+/// The actions a rule runs when it fires in state `from`, in order: leave actions of
+/// `from`, then of each group of `from` that does not contain the target (innermost
+/// first); the rule's actions; then enter actions of each group of the target that
+/// does not contain `from` (outermost first), then the target's. `stay` runs only the
+/// rule's actions; a rule back to `from` runs `from`'s leave and enter actions but not
+/// its groups' (LANGUAGE.md, "Action order").
+fn transition_ops(m: &Machine, from: StateId, rule: RuleId) -> Vec<ActionId> {
+    let r = &m.rules[rule.index()];
+    let to = match r.target {
+        Target::Stay => return r.actions.clone(),
+        Target::To(t) => t,
+    };
+    let mut out = m.states[from.index()].leave.clone();
+    for g in m.ancestors(from) {
+        if !m.group_contains(g, to) {
+            out.extend_from_slice(&m.groups[g.index()].leave);
+        }
+    }
+    out.extend_from_slice(&r.actions);
+    for g in m.ancestors(to).into_iter().rev() {
+        if !m.group_contains(g, from) {
+            out.extend_from_slice(&m.groups[g.index()].enter);
+        }
+    }
+    out.extend_from_slice(&m.states[to.index()].enter);
+    out
+}
