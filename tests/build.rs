@@ -189,14 +189,14 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
         let mut machine = Machine::new();
         let mut rec = crate::Recorder::default();
         let o = machine.outputs();
-        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![] }}];
+        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![], reads: vec![] }}];
         for (e, ins) in trace {{
             rec.begin(ins);
             let (o, rejected) = match machine.step(Event::ALL[*e], &mut rec) {{
                 Ok(o) => (o, false),
                 Err(::detent::Rejected) => (machine.outputs(), true),
             }};
-            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take() }});
+            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take(), reads: rec.take_reads() }});
         }}
         out
     }}",

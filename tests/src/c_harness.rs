@@ -12,9 +12,17 @@
 //! S N         store N in the machine's state byte (a corrupt value when N >= states)
 //! ```
 //!
-//! Printed: `STATE RC OUTBITS ACTIONS` (`-` for no outputs / no actions; `x` for the
-//! outputs of `o`), or `set N` for `S`. [`expected_lines`] computes the same lines with
-//! the reference interpreter ([`Machine::step`]), so a test compares them verbatim.
+//! Printed: `STATE RC OUTBITS ACTIONS READS` (`-` for no outputs / no actions / no
+//! inputs read; `x` for the outputs of `o`), or `set N` for `S`. READS lists the input
+//! numbers the step read, in order, one entry per call of an input hook.
+//!
+//! The input hooks are hostile: the first call of input `k` in a step returns bit `k`
+//! of the command, and every further call of the same input in the same step returns
+//! the opposite of the call before (a bouncing pin, a flag cleared on read). A step
+//! that reads an input twice therefore both shows a repeated number in READS and sees
+//! two different values. [`expected_lines`] computes the same lines with the reference
+//! interpreter ([`Machine::step_reading`], which reads each input at most once, the
+//! first time a test needs it), so a test compares them verbatim.
 
 use crate::gen::Rng;
 use detent_compiler::emit::c::{needs_hooks, CFiles, CNames};
@@ -128,7 +136,7 @@ fn bad_line(state: u32, m: &Machine) -> String {
     } else {
         "0".repeat(m.outputs.len())
     };
-    format!("{state} -1 {zeros} -")
+    format!("{state} -1 {zeros} - -")
 }
 
 /// What the harness must print for the commands, by the reference interpreter.
@@ -146,7 +154,7 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
             }
             Cmd::NullOut(e) => {
                 let _ = e;
-                format!("{raw} -1 x -")
+                format!("{raw} -1 x - -")
             }
             Cmd::NullMachine(_) => bad_line(raw, m),
             Cmd::NullHooks(e, _) | Cmd::ZeroHooks(e, _) if hooks_needed || !valid(*e) => {
@@ -179,7 +187,19 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                         .collect::<Vec<_>>()
                         .join(",")
                 };
-                format!("{raw} {} {ob} {acts}", if r.handled() { 0 } else { 1 })
+                let reads = if r.inputs_read.is_empty() {
+                    "-".to_string()
+                } else {
+                    r.inputs_read
+                        .iter()
+                        .map(|i| i.0.to_string())
+                        .collect::<Vec<_>>()
+                        .join(",")
+                };
+                format!(
+                    "{raw} {} {ob} {acts} {reads}",
+                    if r.handled() { 0 } else { 1 }
+                )
             }
         };
         out.push(line);
@@ -199,12 +219,12 @@ pub fn harness_main(m: &Machine) -> String {
     let mut c = String::new();
     let _ = writeln!(
         c,
-        "/* Test harness for {p}.c, written by detent's test suite. */\n#include <stdio.h>\n#include <stdlib.h>\n#include <string.h>\n#include \"{p}.h\"\n\n#define MAX_ACTIONS 4096u\n\nstruct harness_ctx {{\n    const char *bits;\n    size_t n_bits;\n    unsigned int actions[MAX_ACTIONS];\n    size_t n_actions;\n}};\n"
+        "/* Test harness for {p}.c, written by detent's test suite. */\n#include <stdio.h>\n#include <stdlib.h>\n#include <string.h>\n#include \"{p}.h\"\n\n#define MAX_ACTIONS 4096u\n#define MAX_READS 4096u\n\nstruct harness_ctx {{\n    const char *bits;\n    size_t n_bits;\n    unsigned int actions[MAX_ACTIONS];\n    size_t n_actions;\n    unsigned int reads[MAX_READS];\n    size_t n_reads;\n}};\n"
     );
     if !m.inputs.is_empty() {
         let _ = writeln!(
             c,
-            "static bool harness_input(void *ctx, size_t k)\n{{\n    const struct harness_ctx *c = (const struct harness_ctx *)ctx;\n    return k < c->n_bits && c->bits[k] == '1';\n}}\n"
+            "/* Hostile: the first call of input k in a step returns bit k, every further call\n   of it in the same step the opposite of the call before. Every call is logged. */\nstatic bool harness_input(void *ctx, size_t k)\n{{\n    struct harness_ctx *c = (struct harness_ctx *)ctx;\n    size_t i;\n    size_t earlier = 0u;\n    bool v = k < c->n_bits && c->bits[k] == '1';\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        if (c->reads[i] == (unsigned int)k) {{\n            ++earlier;\n        }}\n    }}\n    if (c->n_reads < MAX_READS) {{\n        c->reads[c->n_reads] = (unsigned int)k;\n    }}\n    c->n_reads++;\n    return (earlier % 2u == 1u) ? !v : v;\n}}\n"
         );
     }
     if !m.actions.is_empty() {
@@ -243,11 +263,11 @@ pub fn harness_main(m: &Machine) -> String {
     }
     let _ = writeln!(
         c,
-        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar('\\n');\n}}\n"
+        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar(' ');\n    if (c->n_reads == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->reads[i]);\n    }}\n    putchar('\\n');\n}}\n"
     );
     let _ = writeln!(
         c,
-        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
+        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        hc.n_reads = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x - -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
         inits.join(", ")
     );
     c

@@ -15,24 +15,41 @@ pub struct Observed {
     pub rejected: bool,
     /// Action numbers in the order they ran.
     pub actions: Vec<usize>,
+    /// Input numbers in the order the step called their hooks, one entry per call.
+    pub reads: Vec<usize>,
 }
 
-/// The test's `Hooks`: inputs from the trace step, actions recorded.
+/// The test's `Hooks`: hostile inputs, actions recorded.
+///
+/// Input `i` reads the trace step's value on its first call in a step; every further
+/// call in the same step returns the opposite of the call before, as a bouncing pin or
+/// a flag cleared on read would. Every call is logged, so a step that reads an input
+/// twice shows it (and, reading two different values, may take a step the interpreter
+/// does not).
 #[derive(Default)]
 pub struct Recorder {
     inputs: Vec<bool>,
     actions: Vec<usize>,
+    reads: Vec<usize>,
 }
 
 impl Recorder {
-    /// Starts a step with these input values.
+    /// Starts a step with these input values (the value of each input's first read).
     pub fn begin(&mut self, inputs: &[bool]) {
         self.inputs = inputs.to_vec();
         self.actions.clear();
+        self.reads.clear();
     }
-    /// Input `i`'s value in this step (false when missing).
+    /// Input `i`'s value for this call: the step's value (false when missing) on the
+    /// first call, flipped on every further call in the same step.
     pub fn input(&mut self, i: usize) -> bool {
-        self.inputs.get(i).copied().unwrap_or(false)
+        let earlier = self.reads.iter().filter(|&&r| r == i).count();
+        self.reads.push(i);
+        self.inputs.get(i).copied().unwrap_or(false) ^ (earlier % 2 == 1)
+    }
+    /// The input numbers read in this step, one entry per call, in order.
+    pub fn take_reads(&mut self) -> Vec<usize> {
+        std::mem::take(&mut self.reads)
     }
     /// Records that action `i` ran.
     pub fn action(&mut self, i: usize) {

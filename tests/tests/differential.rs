@@ -1,8 +1,14 @@
 //! Differential test: the interpreter (the definition of meaning) against the
 //! generated Rust in every form: `gen rust` table and match styles, the inline macro
 //! and the file-form macro, on random machines (`build.rs`, fixed seeds) and random
-//! traces. At every step the state, the outputs, the actions run (in order) and
-//! whether the event was rejected must agree.
+//! traces. At every step the state, the outputs, the actions run (in order), whether
+//! the event was rejected, and the inputs read (in order, one entry per hook call)
+//! must agree.
+//!
+//! The hooks are hostile ([`Recorder`]): an input read a second time in one step reads
+//! the opposite value. The interpreter reads each input at most once, the first time a
+//! test needs it, so a generated `step` that reads an input twice disagrees in its
+//! reads, and usually in the step it takes.
 
 use detent_compiler::check::check_source;
 use detent_compiler::interp::Outcome;
@@ -28,6 +34,7 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
         outputs: outputs(&m.states[state.index()].moore),
         rejected: false,
         actions: vec![],
+        reads: vec![],
     }];
     for (e, ins) in trace {
         let r = m.step(state, EventId::from_index(*e), ins);
@@ -37,6 +44,7 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
             outputs: outputs(&r.outputs()),
             rejected: r.outcome == Outcome::Rejected,
             actions: r.actions.iter().map(|a| a.index()).collect(),
+            reads: r.inputs_read.iter().map(|i| i.index()).collect(),
         });
     }
     out

@@ -58,6 +58,9 @@ struct Seen {
     handled: Option<bool>,
     /// The event was rejected (under `unhandled reject`).
     rejected: bool,
+    /// Input numbers in the order the step called their hooks, one entry per call
+    /// (`None` when the back end cannot tell: the hardware samples pins).
+    reads: Option<Vec<usize>>,
 }
 
 /// A machine under test: the spec text it came from, and the checked machine.
@@ -113,6 +116,7 @@ fn interpret(m: &Machine, trace: &Trace) -> Vec<Seen> {
             actions: r.actions.iter().map(|a| a.index()).collect(),
             handled: Some(r.handled()),
             rejected: !r.handled() && m.policy == Policy::Reject,
+            reads: Some(r.inputs_read.iter().map(|i| i.index()).collect()),
         });
     }
     out
@@ -149,12 +153,12 @@ impl Runner for CRunner {
             .map(|(e, ins)| Cmd::Step(*e as i64, ins.clone()))
             .collect();
         let lines = run_harness(&self.exe, &cmds)?;
-        // `STATE RC OUTBITS ACTIONS` per step (see c_harness).
+        // `STATE RC OUTBITS ACTIONS READS` per step (see c_harness).
         lines
             .iter()
             .map(|l| {
                 let f: Vec<&str> = l.split(' ').collect();
-                if f.len() != 4 {
+                if f.len() != 5 {
                     return Err(format!("bad harness line `{l}`"));
                 }
                 let state = f[0].parse().map_err(|_| format!("bad state in `{l}`"))?;
@@ -175,12 +179,20 @@ impl Runner for CRunner {
                         .map(|a| a.parse().map_err(|_| format!("bad action in `{l}`")))
                         .collect::<Result<_, _>>()?
                 };
+                let reads = if f[4] == "-" {
+                    Vec::new()
+                } else {
+                    f[4].split(',')
+                        .map(|a| a.parse().map_err(|_| format!("bad read in `{l}`")))
+                        .collect::<Result<_, _>>()?
+                };
                 Ok(Seen {
                     state,
                     outputs,
                     actions,
                     handled: Some(handled),
                     rejected: !handled && self.reject,
+                    reads: Some(reads),
                 })
             })
             .collect()
@@ -476,6 +488,26 @@ fn first_difference(want: &[Seen], got: &[Seen]) -> Option<(usize, String)> {
         if g.handled.is_none() {
             g.handled = w.handled;
         }
+        if g.reads.is_none() {
+            g.reads.clone_from(&w.reads);
+        }
+        if let Some(reads) = &g.reads {
+            if let Some(twice) = reads
+                .iter()
+                .enumerate()
+                .find(|(k, r)| reads[..*k].contains(r))
+                .map(|(_, r)| r)
+            {
+                return Some((
+                    i,
+                    format!(
+                        "input {twice} was read twice in one step (reads {reads:?}, the \
+                         interpreter's {:?})",
+                        w.reads
+                    ),
+                ));
+            }
+        }
         if &g != w {
             return Some((i, format!("interpreter {w:?}\n    back end    {g:?}")));
         }
@@ -692,6 +724,7 @@ impl Runner for RustForm {
                 actions: o.actions,
                 handled: None,
                 rejected: o.rejected,
+                reads: Some(o.reads),
             })
             .collect())
     }

@@ -170,7 +170,7 @@ pub struct Group {
 
 /// A guard over inputs, kept in the author's shape for code generation; its exact
 /// meaning is the rule's [`Rule::guard`] BDD.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
 pub enum Guard {
     /// An input's value.
     Input(InputId),

@@ -11,10 +11,12 @@
  * Tables (all static const, each in the narrowest type that fits):
  *   bilge_pump_cell_[state][event]  range of candidate transitions (0: none)
  *   bilge_pump_range_[r] .. [r + 1]  the transitions of range r
- *   per transition t: guard id (0: always true), target state, Mealy mask,
- *   and actions bilge_pump_act_[bilge_pump_act_start_[t] .. bilge_pump_act_start_[t + 1]]
+ *   per transition t: guard id (0: nothing to test), target state, Mealy mask,
+ *   and its sequence q = bilge_pump_seq_[t]: actions bilge_pump_act_[bilge_pump_seq_start_[q] ..
+ *   bilge_pump_seq_start_[q + 1]] (leave, rule, enter actions, in order)
  *   bilge_pump_moore_[state]         Moore output mask
- * A step takes the first transition of its cell whose guard holds.
+ * A step takes the first transition of its cell whose guard holds, reading each
+ * input at most once.
  */
 
 #include "bilge_pump.h"
@@ -26,26 +28,26 @@ static const uint8_t bilge_pump_cell_[4][5] = {
         1u, 2u, 2u, 1u, 2u,
     },
     /* Pumping */ {
-        0u, 3u, 4u, 0u, 5u,
+        0u, 3u, 4u, 0u, 2u,
     },
     /* Draining */ {
-        6u, 0u, 7u, 0u, 8u,
+        5u, 0u, 2u, 0u, 2u,
     },
     /* DryRun */ {
         0u, 0u, 0u, 0u, 0u,
     },
 };
 
-static const uint8_t bilge_pump_range_[10] = {
-    0u, 0u, 1u, 2u, 3u, 5u, 6u, 7u, 8u, 9u,
+static const uint8_t bilge_pump_range_[7] = {
+    0u, 0u, 1u, 2u, 3u, 5u, 6u,
 };
 
-static const uint8_t bilge_pump_guard_[9] = {
-    0u, 0u, 0u, 1u, 2u, 0u, 0u, 0u, 0u,
+static const uint8_t bilge_pump_guard_[6] = {
+    0u, 0u, 0u, 1u, 0u, 0u,
 };
 
-static const uint8_t bilge_pump_target_[9] = {
-    1u, 0u, 2u, 3u, 1u, 0u, 1u, 0u, 0u,
+static const uint8_t bilge_pump_target_[6] = {
+    1u, 0u, 2u, 3u, 1u, 1u,
 };
 
 /* All outputs low: the Mealy mask of no rule, and the outputs of a bad call. */
@@ -58,12 +60,16 @@ static const uint8_t bilge_pump_moore_[4][1] = {
     { 0x2u }, /* DryRun */
 };
 
-static const uint8_t bilge_pump_act_start_[10] = {
-    0u, 1u, 1u, 2u, 3u, 3u, 3u, 3u, 3u, 3u,
+static const uint8_t bilge_pump_seq_[6] = {
+    1u, 0u, 1u, 2u, 0u, 0u,
 };
 
-static const uint8_t bilge_pump_act_[3] = {
-    0u, 0u, 1u,
+static const uint8_t bilge_pump_seq_start_[4] = {
+    0u, 0u, 1u, 2u,
+};
+
+static const uint8_t bilge_pump_act_[2] = {
+    0u, 1u,
 };
 
 static const char *const bilge_pump_state_names_[4] = {
@@ -121,8 +127,6 @@ static bool bilge_pump_guard_holds_(unsigned int g, struct bilge_pump_inputs_ *i
     switch (g) {
     case 1u:
         return !bilge_pump_input_(in, 0u, hooks, ctx);
-    case 2u:
-        return bilge_pump_input_(in, 0u, hooks, ctx);
     default:
         return true;
     }
@@ -199,8 +203,9 @@ int bilge_pump_step(struct bilge_pump_machine *m, enum bilge_pump_event ev,
         return 1;
     }
     {
+        const unsigned int q = (unsigned int)bilge_pump_seq_[t];
         unsigned int a;
-        for (a = (unsigned int)bilge_pump_act_start_[t]; a < (unsigned int)bilge_pump_act_start_[t + 1u]; ++a) {
+        for (a = (unsigned int)bilge_pump_seq_start_[q]; a < (unsigned int)bilge_pump_seq_start_[q + 1u]; ++a) {
             bilge_pump_run_action_((unsigned int)bilge_pump_act_[a], hooks, ctx);
         }
     }

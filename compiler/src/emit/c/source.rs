@@ -1,0 +1,364 @@
+//! The generated source: the tables of [`super::tables::Layout`] as `static const`
+//! arrays, the input sampler, the guard and action switches, and `step`.
+
+use super::names::CNames;
+use super::tables::{uint_for, Layout};
+use super::text::{banner, c_string, comment_text, number_rows};
+use crate::model::{Guard, Machine};
+use std::fmt::Write;
+
+fn guard_c(g: &Guard, p: &str) -> String {
+    match g {
+        Guard::Input(i) => format!("{p}_input_(in, {}u, hooks, ctx)", i.index()),
+        Guard::Const(true) => "true".into(),
+        Guard::Const(false) => "false".into(),
+        Guard::Not(a) => format!("!{}", guard_c(a, p)),
+        Guard::And(a, b) => format!("({} && {})", guard_c(a, p), guard_c(b, p)),
+        Guard::Or(a, b) => format!("({} || {})", guard_c(a, p), guard_c(b, p)),
+    }
+}
+
+pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> String {
+    let (p, up) = (&n.p, &n.up);
+    let mut c = String::new();
+    banner(&mut c, &format!("{p}.c"), source_name, m);
+    let _ = writeln!(
+        c,
+        "\n/*\n * Tables (all static const, each in the narrowest type that fits):\n *   {p}_cell_[state][event]  range of candidate transitions (0: none)\n *   {p}_range_[r] .. [r + 1]  the transitions of range r\n *   per transition t: guard id (0: nothing to test), target state, Mealy mask,\n *   and its sequence q = {p}_seq_[t]: actions {p}_act_[{p}_seq_start_[q] ..\n *   {p}_seq_start_[q + 1]] (leave, rule, enter actions, in order)\n *   {p}_moore_[state]         Moore output mask\n * A step takes the first transition of its cell whose guard holds, reading each\n * input at most once.\n */\n"
+    );
+    let _ = writeln!(c, "#include \"{p}.h\"\n\n#include <stddef.h>\n");
+    let s_count = m.states.len();
+    let e_count = m.events.len();
+    let t_rows = l.trans.len().max(1);
+
+    // Cell table.
+    let _ = writeln!(
+        c,
+        "static const {} {p}_cell_[{s_count}][{e_count}] = {{",
+        l.range_ty.0
+    );
+    for (si, row) in l.cell.chunks(e_count.max(1)).enumerate() {
+        let _ = writeln!(c, "    /* {} */ {{", comment_text(&m.states[si].name));
+        let vals: Vec<u64> = row.iter().map(|&v| v as u64).collect();
+        let mut body = String::new();
+        number_rows(&mut body, &vals, false);
+        for line in body.lines() {
+            let _ = writeln!(c, "    {line}");
+        }
+        let _ = writeln!(c, "    }},");
+    }
+    let _ = writeln!(c, "}};\n");
+    let vals: Vec<u64> = l.range_start.iter().map(|&v| v as u64).collect();
+    let _ = writeln!(
+        c,
+        "static const {} {p}_range_[{}] = {{",
+        l.trans_ty.0,
+        vals.len()
+    );
+    number_rows(&mut c, &vals, false);
+    let _ = writeln!(c, "}};\n");
+    if l.trans.is_empty() {
+        let _ = writeln!(
+            c,
+            "/* The machine has no transitions; one unused row keeps the arrays non-empty. */"
+        );
+    }
+    if l.has_guards() {
+        let mut vals: Vec<u64> = l.trans.iter().map(|t| t.guard as u64).collect();
+        vals.resize(t_rows, 0);
+        let _ = writeln!(c, "static const {} {p}_guard_[{t_rows}] = {{", l.guard_ty.0);
+        number_rows(&mut c, &vals, false);
+        let _ = writeln!(c, "}};\n");
+    }
+    let mut vals: Vec<u64> = l.trans.iter().map(|t| t.target.0 as u64).collect();
+    vals.resize(t_rows, 0);
+    let _ = writeln!(
+        c,
+        "static const {} {p}_target_[{t_rows}] = {{",
+        l.target_ty.0
+    );
+    number_rows(&mut c, &vals, false);
+    let _ = writeln!(c, "}};\n");
+    let word_ty = uint_for(if l.out_word_bits == 64 {
+        u64::MAX
+    } else {
+        (1u64 << l.out_word_bits) - 1
+    })
+    .0;
+    let w = l.out_words;
+    let _ = writeln!(
+        c,
+        "/* All outputs low: the Mealy mask of no rule, and the outputs of a bad call. */"
+    );
+    let zeros = vec!["0x0u"; w.max(1)].join(", ");
+    let _ = writeln!(
+        c,
+        "static const {word_ty} {p}_zero_[{}] = {{ {zeros} }};\n",
+        w.max(1)
+    );
+    if l.has_mealy() {
+        let _ = writeln!(c, "static const {word_ty} {p}_mealy_[{t_rows}][{w}] = {{");
+        let zero = vec![0u64; w];
+        let rows = l
+            .trans
+            .iter()
+            .map(|t| &t.mealy)
+            .chain(std::iter::repeat_n(&zero, t_rows - l.trans.len()));
+        for row in rows {
+            let cells: Vec<String> = row.iter().map(|v| format!("0x{v:x}u")).collect();
+            let _ = writeln!(c, "    {{ {} }},", cells.join(", "));
+        }
+        let _ = writeln!(c, "}};\n");
+    }
+    if w > 0 {
+        let _ = writeln!(c, "static const {word_ty} {p}_moore_[{s_count}][{w}] = {{");
+        for (si, row) in l.moore.iter().enumerate() {
+            let cells: Vec<String> = row.iter().map(|v| format!("0x{v:x}u")).collect();
+            let _ = writeln!(
+                c,
+                "    {{ {} }}, /* {} */",
+                cells.join(", "),
+                comment_text(&m.states[si].name)
+            );
+        }
+        let _ = writeln!(c, "}};\n");
+    }
+    let has_actions = !l.act_list.is_empty();
+    if has_actions {
+        let mut vals: Vec<u64> = l.trans.iter().map(|t| t.seq as u64).collect();
+        vals.resize(t_rows, 0);
+        let _ = writeln!(c, "static const {} {p}_seq_[{t_rows}] = {{", l.seq_ty.0);
+        number_rows(&mut c, &vals, false);
+        let _ = writeln!(c, "}};\n");
+        let vals: Vec<u64> = l.seq_start.iter().map(|&v| v as u64).collect();
+        let _ = writeln!(
+            c,
+            "static const {} {p}_seq_start_[{}] = {{",
+            l.seq_start_ty.0,
+            vals.len()
+        );
+        number_rows(&mut c, &vals, false);
+        let _ = writeln!(c, "}};\n");
+        let vals: Vec<u64> = l.act_list.iter().map(|a| a.0 as u64).collect();
+        let _ = writeln!(
+            c,
+            "static const {} {p}_act_[{}] = {{",
+            l.action_ty.0,
+            vals.len()
+        );
+        number_rows(&mut c, &vals, false);
+        let _ = writeln!(c, "}};\n");
+    }
+
+    // Names.
+    let _ = writeln!(
+        c,
+        "static const char *const {p}_state_names_[{s_count}] = {{"
+    );
+    for st in &m.states {
+        let _ = writeln!(c, "    {},", c_string(&st.name));
+    }
+    let _ = writeln!(c, "}};\n");
+    let _ = writeln!(
+        c,
+        "static const char *const {p}_event_names_[{e_count}] = {{"
+    );
+    for ev in &m.events {
+        let _ = writeln!(c, "    {},", c_string(&ev.name));
+    }
+    let _ = writeln!(c, "}};\n");
+
+    // Output writer.
+    let _ = writeln!(
+        c,
+        "static void {p}_put_outputs_(const {word_ty} *moore, const {word_ty} *mealy,\n    struct {p}_outputs *out)\n{{"
+    );
+    if w == 0 {
+        let _ = writeln!(
+            c,
+            "    (void)moore;\n    (void)mealy;\n    out->reserved_ = 0u;"
+        );
+    }
+    for (i, cname) in n.outputs.iter().enumerate() {
+        let k = i / l.out_word_bits;
+        let bit = 1u64 << (i % l.out_word_bits);
+        let _ = writeln!(
+            c,
+            "    out->{cname} = ((moore[{k}] | mealy[{k}]) & 0x{bit:x}u) != 0u;"
+        );
+    }
+    let _ = writeln!(c, "}}\n");
+
+    // Inputs.
+    let used_inputs = l.inputs_used.iter().any(|&b| b);
+    if used_inputs {
+        let cache_ty = if m.inputs.len() <= 32 {
+            "uint32_t"
+        } else {
+            "uint64_t"
+        };
+        let _ = writeln!(
+            c,
+            "/* Inputs read so far in this step: each is read once, then its value is reused. */\nstruct {p}_inputs_ {{\n    {cache_ty} known;\n    {cache_ty} value;\n}};\n"
+        );
+        let _ = writeln!(
+            c,
+            "static bool {p}_input_(struct {p}_inputs_ *in, unsigned int i,\n    const struct {p}_hooks *hooks, void *ctx)\n{{\n    const {cache_ty} bit = ({cache_ty})1u << i;\n    if ((in->known & bit) == 0u) {{\n        bool v = false;\n        switch (i) {{"
+        );
+        for (i, cname) in n.inputs.iter().enumerate() {
+            if l.inputs_used[i] {
+                let _ = writeln!(
+                    c,
+                    "        case {i}u:\n            v = hooks->{cname}(ctx);\n            break;"
+                );
+            }
+        }
+        let _ = writeln!(
+            c,
+            "        default:\n            break;\n        }}\n        in->known |= bit;\n        if (v) {{\n            in->value |= bit;\n        }}\n    }}\n    return (in->value & bit) != 0u;\n}}\n"
+        );
+    }
+    if l.has_guards() {
+        let in_param = if used_inputs {
+            format!("struct {p}_inputs_ *in, ")
+        } else {
+            String::new()
+        };
+        let _ = writeln!(
+            c,
+            "static bool {p}_guard_holds_(unsigned int g, {in_param}const struct {p}_hooks *hooks,\n    void *ctx)\n{{"
+        );
+        if !used_inputs {
+            let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
+        }
+        let _ = writeln!(c, "    switch (g) {{");
+        for (i, g) in l.guards.iter().enumerate() {
+            let _ = writeln!(c, "    case {}u:\n        return {};", i + 1, guard_c(g, p));
+        }
+        let _ = writeln!(c, "    default:\n        return true;\n    }}\n}}\n");
+    }
+    if has_actions {
+        let _ = writeln!(
+            c,
+            "static void {p}_run_action_(unsigned int a, const struct {p}_hooks *hooks, void *ctx)\n{{\n    switch (a) {{"
+        );
+        for (i, cname) in n.actions.iter().enumerate() {
+            if l.actions_used[i] {
+                let _ = writeln!(
+                    c,
+                    "    case {i}u:\n        hooks->{cname}(ctx);\n        break;"
+                );
+            }
+        }
+        let _ = writeln!(c, "    default:\n        break;\n    }}\n}}\n");
+    }
+    if l.needs_hooks() {
+        let _ = writeln!(
+            c,
+            "static bool {p}_hooks_ok_(const struct {p}_hooks *hooks)\n{{\n    if (hooks == NULL) {{\n        return false;\n    }}"
+        );
+        for (i, cname) in n.inputs.iter().enumerate() {
+            if l.inputs_used[i] {
+                let _ = writeln!(
+                    c,
+                    "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}"
+                );
+            }
+        }
+        for (i, cname) in n.actions.iter().enumerate() {
+            if l.actions_used[i] {
+                let _ = writeln!(
+                    c,
+                    "    if (hooks->{cname} == NULL) {{\n        return false;\n    }}"
+                );
+            }
+        }
+        let _ = writeln!(c, "    return true;\n}}\n");
+    }
+
+    // Public functions.
+    let st_ty = if m.states.len() <= 256 {
+        "uint8_t"
+    } else {
+        "uint16_t"
+    };
+    let _ = writeln!(
+        c,
+        "void {p}_init(struct {p}_machine *m)\n{{\n    if (m != NULL) {{\n        m->state = ({st_ty}){};\n    }}\n}}\n",
+        n.states[m.start.index()]
+    );
+    let zero = format!("{p}_zero_");
+    let moore_row = |s: &str| {
+        if w > 0 {
+            format!("{p}_moore_[{s}]")
+        } else {
+            zero.clone()
+        }
+    };
+    let mealy_row = |t: &str| {
+        if l.has_mealy() {
+            format!("{p}_mealy_[{t}]")
+        } else {
+            zero.clone()
+        }
+    };
+    let _ = writeln!(
+        c,
+        "int {p}_step(struct {p}_machine *m, enum {p}_event ev,\n    const struct {p}_hooks *hooks, void *ctx, struct {p}_outputs *out)\n{{\n    unsigned int s;\n    unsigned int r;\n    unsigned int t;\n    unsigned int t_end;"
+    );
+    if used_inputs {
+        let _ = writeln!(c, "    struct {p}_inputs_ in;");
+    }
+    let _ = writeln!(
+        c,
+        "    if (out == NULL) {{\n        return -1;\n    }}\n    {p}_put_outputs_({zero}, {zero}, out);\n    if (m == NULL || (unsigned int)ev >= (unsigned int){up}_EVENT_COUNT\n        || (unsigned int)m->state >= (unsigned int){up}_STATE_COUNT) {{\n        return -1;\n    }}"
+    );
+    if l.needs_hooks() {
+        let _ = writeln!(
+            c,
+            "    if (!{p}_hooks_ok_(hooks)) {{\n        return -1;\n    }}"
+        );
+    } else {
+        let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
+    }
+    let _ = writeln!(
+        c,
+        "    s = (unsigned int)m->state;\n    r = (unsigned int){p}_cell_[s][(unsigned int)ev];\n    t = (unsigned int){p}_range_[r];\n    t_end = (unsigned int){p}_range_[r + 1u];"
+    );
+    if l.has_guards() {
+        let in_arg = if used_inputs { "&in, " } else { "" };
+        if used_inputs {
+            let _ = writeln!(c, "    in.known = 0u;\n    in.value = 0u;");
+        }
+        let _ = writeln!(
+            c,
+            "    while (t < t_end && !{p}_guard_holds_((unsigned int){p}_guard_[t], {in_arg}hooks, ctx)) {{\n        ++t;\n    }}"
+        );
+    }
+    let _ = writeln!(
+        c,
+        "    if (t >= t_end) {{\n        {p}_put_outputs_({}, {zero}, out);\n        return 1;\n    }}",
+        moore_row("s")
+    );
+    if has_actions {
+        let _ = writeln!(
+            c,
+            "    {{\n        const unsigned int q = (unsigned int){p}_seq_[t];\n        unsigned int a;\n        for (a = (unsigned int){p}_seq_start_[q]; a < (unsigned int){p}_seq_start_[q + 1u]; ++a) {{\n            {p}_run_action_((unsigned int){p}_act_[a], hooks, ctx);\n        }}\n    }}"
+        );
+    }
+    let _ = writeln!(
+        c,
+        "    m->state = ({st_ty}){p}_target_[t];\n    {p}_put_outputs_({}, {}, out);\n    return 0;\n}}\n",
+        moore_row(&format!("{p}_target_[t]")),
+        mealy_row("t")
+    );
+    let _ = writeln!(
+        c,
+        "const char *{p}_state_name(enum {p}_state s)\n{{\n    if ((unsigned int)s >= (unsigned int){up}_STATE_COUNT) {{\n        return \"?\";\n    }}\n    return {p}_state_names_[(unsigned int)s];\n}}\n"
+    );
+    let _ = writeln!(
+        c,
+        "const char *{p}_event_name(enum {p}_event ev)\n{{\n    if ((unsigned int)ev >= (unsigned int){up}_EVENT_COUNT) {{\n        return \"?\";\n    }}\n    return {p}_event_names_[(unsigned int)ev];\n}}"
+    );
+    c
+}
