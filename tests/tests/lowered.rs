@@ -124,7 +124,7 @@ fn configs() -> Vec<GenConfig> {
 fn the_lowered_form_is_the_lookup_of_the_language() {
     let (mut cells, mut valuations, mut fired, mut unhandled, mut reads) = (0, 0, 0, 0, 0);
     for (ci, cfg) in configs().iter().enumerate() {
-        for k in 0..40u64 {
+        for k in 0..100u64 {
             let seed = 7_000 + ci as u64 * 1_000 + k;
             let spec = random_spec(seed, cfg);
             let report = check_source("random.detent", &spec);
