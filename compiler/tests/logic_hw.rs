@@ -72,6 +72,18 @@ fn scratch(tag: &str) -> PathBuf {
 
 /// Compiles module + testbench with Icarus and returns what the simulation printed.
 fn simulate(dir: &Path, module: &str, tb: &str) -> String {
+    let (printed, status) = simulate_status(dir, module, tb);
+    // The testbench ends the simulation with a non-zero status exactly on a mismatch.
+    assert_eq!(
+        status.success(),
+        printed.lines().any(|l| l.trim() == "PASS") && !printed.contains("MISMATCH"),
+        "exit status {status} does not match what the testbench printed:\n{printed}"
+    );
+    printed
+}
+
+/// Runs the testbench; returns what it printed and the simulator's exit status.
+fn simulate_status(dir: &Path, module: &str, tb: &str) -> (String, std::process::ExitStatus) {
     let iverilog = require("iverilog");
     let vvp = require("vvp");
     let (v, t, exe) = (dir.join("m.v"), dir.join("m_tb.v"), dir.join("m.vvp"));
@@ -99,7 +111,7 @@ fn simulate(dir: &Path, module: &str, tb: &str) -> String {
         .arg(&exe)
         .output()
         .expect("run vvp");
-    String::from_utf8_lossy(&run.stdout).to_string()
+    (String::from_utf8_lossy(&run.stdout).to_string(), run.status)
 }
 
 /// Re-checks every cover against its on-set and off-set (independently of the check
@@ -375,7 +387,7 @@ fn testbench_reports_the_first_mismatch() {
         .collect();
     let module = generate_module(&spec, &d, &names, "test").unwrap();
     let tb = generate_testbench(&m, &spec, &d, &steps, "test").unwrap();
-    let printed = simulate(&dir, &module, &tb);
+    let (printed, status) = simulate_status(&dir, &module, &tb);
     // 1011 reaches Found after the 4th bit; cycle 1 is the reset, so the state is Found
     // during cycle 6 (the 5th bit), where `found` must be high.
     assert!(
@@ -383,6 +395,15 @@ fn testbench_reports_the_first_mismatch() {
         "{printed}"
     );
     assert!(!printed.contains("PASS"));
+    // The planted fault ends the simulation with a non-zero exit status ($fatal), so a
+    // CI job fails without grepping the output.
+    assert_eq!(status.code(), Some(1), "{printed}");
+    // The same testbench against the correct design passes with status 0.
+    let good = synthesize(&spec, &Encoding::binary(5), FlipFlop::D, false).unwrap();
+    let module = generate_module(&spec, &good, &names, "test").unwrap();
+    let (printed, status) = simulate_status(&dir, &module, &tb);
+    assert!(printed.lines().any(|l| l.trim() == "PASS"), "{printed}");
+    assert!(status.success(), "{printed}");
     std::fs::remove_dir_all(&dir).ok();
 }
 

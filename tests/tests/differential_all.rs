@@ -285,7 +285,15 @@ impl VerilogRunner {
             .output()
             .map_err(|e| format!("cannot run vvp: {e}"))?;
         let printed = String::from_utf8_lossy(&run.stdout);
-        if printed.lines().any(|l| l.trim() == "PASS") {
+        let passed = printed.lines().any(|l| l.trim() == "PASS");
+        // The testbench's exit status says the same as its output ($fatal on a mismatch).
+        if passed != run.status.success() {
+            return Err(format!(
+                "the testbench exited with {} but printed:\n{printed}",
+                run.status
+            ));
+        }
+        if passed {
             return Ok(None);
         }
         // `MISMATCH cycle N signal ...`; cycle 1 is the first reset pulse.

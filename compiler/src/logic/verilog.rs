@@ -465,9 +465,12 @@ pub fn generate_module(
 /// A self-checking testbench driving `steps` cycle by cycle: before each clock edge it
 /// compares `state`, every output and every action pulse with what the interpreter
 /// ([`Machine::step`]) computed for that step (embedded as constants), and after the
-/// last step the final state. It prints `PASS`, or the first mismatch as `MISMATCH
-/// cycle N signal S expected E got G`, then calls `$finish`. The trace starts with a
-/// reset pulse.
+/// last step the final state. It prints `PASS` and calls `$finish` (exit status 0), or
+/// prints the first mismatch as `MISMATCH cycle N signal S expected E got G` and calls
+/// `$fatal(1, ..)`, which ends the simulation with a non-zero exit status (Icarus
+/// Verilog's `vvp` exits with 1; `$fatal` is a system task of IEEE 1800 that Icarus
+/// Verilog 11 also accepts in `-g2005` mode), so CI can rely on the exit code. The
+/// trace starts with a reset pulse.
 pub fn generate_testbench(
     m: &Machine,
     spec: &LogicSpec,
@@ -482,6 +485,11 @@ pub fn generate_testbench(
     let module = module_name(&spec.name);
     let mut out = String::new();
     banner(&mut out, "Self-checking testbench", spec, design, source);
+    out.push_str(
+        "\n//\n// Prints PASS and ends with $finish (exit status 0), or prints the first MISMATCH\n\
+         // and ends with $fatal (an IEEE 1800 system task that Icarus Verilog accepts in\n\
+         // -g2005 mode; vvp then exits with status 1), so CI can rely on the exit code.\n",
+    );
     out.push_str("\n`timescale 1ns / 1ps\n\n");
     let tb_name = if module.ends_with(' ') {
         format!("\\{}_tb ", module.trim().trim_start_matches('\\'))
@@ -523,7 +531,7 @@ pub fn generate_testbench(
     }
     out.push_str("        begin\n            if (state !== exp_state) begin\n");
     out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
-    out.push_str("                $finish;\n            end\n");
+    out.push_str("                $fatal(1, \"testbench mismatch\");\n            end\n");
     for (i, (sig, label)) in n
         .outputs
         .iter()
@@ -536,7 +544,7 @@ pub fn generate_testbench(
             out,
             "            if ({sig} !== exp_out[{bit}]) begin\n                \
              $display(\"MISMATCH cycle %0d signal {label} expected %b got %b\", cycle, exp_out[{bit}], {sig});\n                \
-             $finish;\n            end"
+             $fatal(1, \"testbench mismatch\");\n            end"
         );
     }
     out.push_str("        end\n    endtask\n\n");
@@ -544,7 +552,7 @@ pub fn generate_testbench(
     let _ = writeln!(out, "        input [{}:0] exp_state;", k - 1);
     out.push_str("        begin\n            if (state !== exp_state) begin\n");
     out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
-    out.push_str("                $finish;\n            end\n        end\n    endtask\n\n");
+    out.push_str("                $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n\n");
     out.push_str("    task tick;\n        begin\n            #4 clk = 1'b1;\n            #5 clk = 1'b0;\n        end\n    endtask\n\n");
 
     out.push_str("    initial begin\n");
