@@ -35,8 +35,8 @@ use super::cube::{full_mask, Cube};
 use super::excitation::{Excite, FlipFlop};
 use super::gates::{two_level_cost, Form, GateCost};
 use super::{
-    check_cover, check_cube_cover, minimize, minimize_cubes, Cover, CubeFunction, Function,
-    EXACT_MAX_VARS,
+    check_cover, check_cube_cover, minimize, minimize_cubes, minimize_with_cubes, Cover,
+    CubeFunction, Function, EXACT_MAX_VARS,
 };
 use crate::model::{Bdd, Machine};
 use std::collections::{HashMap, HashSet};
@@ -380,14 +380,15 @@ fn minimize_function(
             on: pick(1),
             dc: pick(2),
         };
+        let cf = CubeFunction {
+            vars: vars.to_vec(),
+            on: on.to_vec(),
+            dc: dc.to_vec(),
+        };
         let cover = if n <= EXACT_MAX_VARS {
-            minimize(&f)?
+            minimize_with_cubes(&f, Some(&cf))?
         } else {
-            minimize_cubes(&CubeFunction {
-                vars: vars.to_vec(),
-                on: on.to_vec(),
-                dc: dc.to_vec(),
-            })?
+            minimize_cubes(&cf)?
         };
         check_cover(&f, &cover)?;
         Ok((Some((f.on, f.dc)), cover))
