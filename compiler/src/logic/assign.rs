@@ -170,6 +170,24 @@ fn permutations(k: usize) -> Vec<Vec<usize>> {
     out
 }
 
+/// The representative of an assignment under permutations of the state bits: the
+/// lexicographically smallest of its `k!` permuted code vectors. Two assignments with the
+/// same representative give the same exact literal counts (the equations only rename
+/// their state variables). Cost O(k! m).
+pub fn canonical_under_permutation(codes: &[u64], bits: usize) -> Vec<u64> {
+    let mut best = codes.to_vec();
+    let mut permuted = vec![0u64; codes.len()];
+    for p in permutations(bits).iter().skip(1) {
+        for (dst, &c) in permuted.iter_mut().zip(codes.iter()) {
+            *dst = permute(c, p);
+        }
+        if permuted < best {
+            best.clone_from(&permuted);
+        }
+    }
+    best
+}
+
 /// The number of assignments [`canonical_assignments`] would visit before the symmetry
 /// test (`(2^k - 1)! / (2^k - m)!`), saturating; used to decide whether to enumerate.
 pub fn raw_assignment_count(m: usize) -> u64 {

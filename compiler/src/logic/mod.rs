@@ -21,6 +21,7 @@ pub mod exact;
 pub mod excitation;
 pub mod gates;
 pub mod heuristic;
+pub mod search;
 pub mod testgen;
 pub mod verilog;
 
