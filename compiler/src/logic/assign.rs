@@ -12,11 +12,13 @@
 //! Bit `j` of a code is state bit `q_j`; code strings are written most significant
 //! first (`q1 q0`), the variable order of every equation.
 //!
-//! The search for a cheap assignment ([`crate::logic::equations::auto_assign`]) uses
-//! [`canonical_assignments`] (exhaustive up to symmetry) and [`adjacency_assignment`]
-//! (the classic adjacency rules, then pairwise-swap descent). Costs: the enumeration is
-//! `(2^k - 1)! / (2^k - m)!` assignments with `k!` permutation tests each; the adjacency
-//! heuristic is O(m^2) per swap pass.
+//! The search for a cheap assignment ([`crate::logic::search`]) uses
+//! [`canonical_assignments`] (exhaustive up to symmetry), [`adjacency_assignment`] (the
+//! classic adjacency rules, then pairwise-swap descent) and
+//! [`canonical_under_permutation`] (to drop assignments already costed). Costs: the
+//! enumeration is `(2^k - 1)! / (2^k - m)!` assignments with `k!` permutation tests
+//! each; the adjacency heuristic is O(m^2) per score, so O(m^4) per swap pass (the
+//! search's own descent uses O(m) deltas instead).
 
 /// How states are encoded.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]

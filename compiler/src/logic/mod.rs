@@ -10,6 +10,7 @@
 //!   method on cube lists, with the off-set from unate-recursive complementation.
 //! * [`gates`]: NAND-NAND and NOR-NOR mapping, gate costs, trade-notation equations.
 //! * [`excitation`]: flip-flop excitation tables (D, T, JK, SR).
+//! * [`assign`], [`search`]: state encodings and the search for a cheap one.
 //!
 //! [`minimize`] picks the method: exact up to [`EXACT_MAX_VARS`] variables (measured, see
 //! that constant), the heuristic beyond, and the [`Cover`] says which one ran.
