@@ -1,16 +1,17 @@
 //! `detent logic FILE [--machine NAME] [--encoding binary|gray|onehot|auto]
 //! [--flip-flop d|t|jk|sr] [--map sop|nand|nor] [--format text|json] [--verilog OUT.v]
-//! [--testbench OUT_tb.v]`: state assignment, minimized flip-flop and output equations,
+//! [--testbench OUT_tb.v] [--budget-ms N]`: state assignment, minimized flip-flop and output equations,
 //! gate costs, and Verilog.
 
 use crate::io::{self, OK};
 use clap::ValueEnum;
 use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::equations::{
-    auto_assign, synthesize, AutoReport, LogicDesign, LogicSpec, Map,
+    auto_assign_with, synthesize, AutoReport, LogicDesign, LogicSpec, Map,
 };
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::gates::{format_gates, format_pos, format_sop, Form, GateCost};
+use detent_compiler::logic::search::SearchOptions;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::logic::Method;
 use detent_compiler::model::Machine;
@@ -18,7 +19,7 @@ use detent_compiler::tour::{tour, TourStep};
 use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 /// State assignment choices.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -92,6 +93,10 @@ pub struct LogicArgs {
     /// Write a self-checking testbench here.
     #[arg(long, value_name = "OUT_tb.v")]
     pub testbench: Option<PathBuf>,
+    /// Time budget of the `auto` assignment search in milliseconds: past it, the best
+    /// assignment found so far is used and the report says the search was cut short.
+    #[arg(long = "budget-ms", value_name = "N")]
+    pub budget_ms: Option<u64>,
 }
 
 fn ff_of(a: FlipFlopArg) -> FlipFlop {
@@ -118,25 +123,44 @@ fn method_name(m: Method) -> &'static str {
     }
 }
 
-/// A progress bar on stderr, drawn only on a terminal and only once the work has run
-/// for a quarter of a second.
+/// Progress of the assignment search on stderr, once it has run for a quarter of a
+/// second: a bar redrawn in place on a terminal; otherwise (CI logs, pipes) a plain line
+/// every [`Progress::LINE_EVERY`], so a long search is visibly alive.
 struct Progress {
     tty: bool,
     started: Instant,
     drawn: bool,
+    last_line: Option<Instant>,
 }
 
 impl Progress {
+    /// Interval between two plain progress lines when stderr is not a terminal.
+    const LINE_EVERY: Duration = Duration::from_secs(3);
+
     fn new() -> Progress {
         Progress {
             tty: std::io::stderr().is_terminal(),
             started: Instant::now(),
             drawn: false,
+            last_line: None,
         }
     }
 
     fn update(&mut self, done: u64, total: u64) {
-        if !self.tty || self.started.elapsed().as_millis() < 250 {
+        if self.started.elapsed().as_millis() < 250 {
+            return;
+        }
+        if !self.tty {
+            let due = self
+                .last_line
+                .is_none_or(|t| t.elapsed() >= Progress::LINE_EVERY);
+            if due {
+                eprintln!(
+                    "searching assignments: {done} of at most {total} costed, {:.1} s",
+                    self.started.elapsed().as_secs_f64()
+                );
+                self.last_line = Some(Instant::now());
+            }
             return;
         }
         let width = 30u64;
@@ -184,6 +208,11 @@ pub fn run(args: &LogicArgs) -> u8 {
         Ok(s) => s,
         Err(e) => return io::usage_error(format!("machine `{}`: {e}", m.name)),
     };
+    if args.budget_ms.is_some() && args.encoding != EncodingArg::Auto {
+        return io::usage_error(
+            "--budget-ms limits the assignment search: use it with --encoding auto".to_string(),
+        );
+    }
     let ff = ff_of(args.flip_flop);
     let map = map_of(args.map);
     let complements = map == Map::Nor;
@@ -191,7 +220,11 @@ pub fn run(args: &LogicArgs) -> u8 {
     let result: Result<(LogicDesign, Option<AutoReport>), String> = match args.encoding {
         EncodingArg::Auto => {
             let mut bar = Progress::new();
-            let r = auto_assign(&spec, ff, map, &mut |d, t| bar.update(d, t));
+            let opts = SearchOptions {
+                budget: args.budget_ms.map(Duration::from_millis),
+                ..SearchOptions::default()
+            };
+            let r = auto_assign_with(&spec, ff, map, &opts, &mut |d, t| bar.update(d, t));
             bar.finish();
             r.map(|(d, a)| (d, Some(a)))
         }
@@ -288,9 +321,20 @@ fn text_report(
             if a.exhaustive {
                 "every assignment up to bit permutation and complementation"
             } else {
-                "adjacency heuristic with exact-cost swaps"
+                "adjacency-scored pool, exact descent"
             }
         ));
+        io::out(format!(
+            "  {} scored by adjacency, {} costings stopped by the bound, {} functions \
+             minimized, {} taken from the memo",
+            a.stats.scored, a.stats.pruned, a.stats.minimized, a.stats.memo_hits
+        ));
+        if a.cut_short {
+            io::out(
+                "  cut short by the time budget (--budget-ms): the best assignment found so \
+                 far is shown",
+            );
+        }
         io::out(format!(
             "{:<9} {:>10} {:>9} {:>6} {:>12}",
             "encoding", "flip-flops", "literals", "gates", "gate inputs"
@@ -449,6 +493,7 @@ fn json_report(
                 "evaluated": a.evaluated,
                 "exhaustive": a.exhaustive,
                 "seconds": secs,
+                "cut_short": a.cut_short,
             }),
         );
     }

@@ -108,6 +108,63 @@ fn text_nand_nor_and_auto_reports() {
     assert_eq!(v["auto"]["exhaustive"], true);
 }
 
+fn charger() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../compiler/tests/fixtures/charger.detent")
+}
+
+/// `--budget-ms 0`: the search costs its first candidate only and says it was cut short
+/// (the deadline has passed before the first check, whatever the machine's speed);
+/// without a budget it runs to the end. `--budget-ms` needs `--encoding auto`.
+#[test]
+fn budget_cuts_the_search_short_and_says_so() {
+    let run = |args: &[&str]| {
+        let out = detent()
+            .arg("logic")
+            .arg(charger())
+            .args(["--encoding", "auto"])
+            .args(args)
+            .output()
+            .unwrap();
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let v: serde_json::Value =
+        serde_json::from_str(&run(&["--budget-ms", "0", "--format", "json"])).unwrap();
+    assert_eq!(v["auto"]["cut_short"], true);
+    assert_eq!(v["auto"]["evaluated"], 1);
+    assert_eq!(v["auto"]["exhaustive"], false);
+    let text = run(&["--budget-ms", "0"]);
+    assert!(text.contains("1 assignments costed"), "{text}");
+    assert!(text.contains("cut short by the time budget"), "{text}");
+    let full: serde_json::Value = serde_json::from_str(&run(&["--format", "json"])).unwrap();
+    assert_eq!(full["auto"]["cut_short"], false);
+    assert!(full["auto"]["evaluated"].as_u64().unwrap() > 1);
+    let auto_lits = |v: &serde_json::Value| {
+        v["auto"]["table"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|r| r["encoding"] == "auto")
+            .unwrap()["literals"]
+            .as_u64()
+            .unwrap()
+    };
+    assert!(auto_lits(&full) <= auto_lits(&v));
+    let out = detent()
+        .arg("logic")
+        .arg(charger())
+        .args(["--budget-ms", "10"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--encoding auto"));
+}
+
 #[test]
 fn writes_verilog_that_passes_its_testbench_and_reports_bad_usage() {
     let dir = scratch("verilog");

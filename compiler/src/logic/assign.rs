@@ -12,11 +12,13 @@
 //! Bit `j` of a code is state bit `q_j`; code strings are written most significant
 //! first (`q1 q0`), the variable order of every equation.
 //!
-//! The search for a cheap assignment ([`crate::logic::equations::auto_assign`]) uses
-//! [`canonical_assignments`] (exhaustive up to symmetry) and [`adjacency_assignment`]
-//! (the classic adjacency rules, then pairwise-swap descent). Costs: the enumeration is
-//! `(2^k - 1)! / (2^k - m)!` assignments with `k!` permutation tests each; the adjacency
-//! heuristic is O(m^2) per swap pass.
+//! The search for a cheap assignment ([`crate::logic::search`]) uses
+//! [`canonical_assignments`] (exhaustive up to symmetry), [`adjacency_assignment`] (the
+//! classic adjacency rules, then pairwise-swap descent) and
+//! [`canonical_under_permutation`] (to drop assignments already costed). Costs: the
+//! enumeration is `(2^k - 1)! / (2^k - m)!` assignments with `k!` permutation tests
+//! each; the adjacency heuristic is O(m^2) per score, so O(m^4) per swap pass (the
+//! search's own descent uses O(m) deltas instead).
 
 /// How states are encoded.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -168,6 +170,24 @@ fn permutations(k: usize) -> Vec<Vec<usize>> {
         }
     }
     out
+}
+
+/// The representative of an assignment under permutations of the state bits: the
+/// lexicographically smallest of its `k!` permuted code vectors. Two assignments with the
+/// same representative give the same exact literal counts (the equations only rename
+/// their state variables). Cost O(k! m).
+pub fn canonical_under_permutation(codes: &[u64], bits: usize) -> Vec<u64> {
+    let mut best = codes.to_vec();
+    let mut permuted = vec![0u64; codes.len()];
+    for p in permutations(bits).iter().skip(1) {
+        for (dst, &c) in permuted.iter_mut().zip(codes.iter()) {
+            *dst = permute(c, p);
+        }
+        if permuted < best {
+            best.clone_from(&permuted);
+        }
+    }
+    best
 }
 
 /// The number of assignments [`canonical_assignments`] would visit before the symmetry

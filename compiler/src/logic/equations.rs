@@ -34,9 +34,10 @@ use super::assign::{
 use super::cube::{full_mask, Cube};
 use super::excitation::{Excite, FlipFlop};
 use super::gates::{two_level_cost, Form, GateCost};
+use super::search::{search_assignment, SearchOptions, SearchStats};
 use super::{
-    check_cover, check_cube_cover, minimize, minimize_cubes, Cover, CubeFunction, Function,
-    EXACT_MAX_VARS,
+    check_cover, check_cube_cover, minimize, minimize_cubes, minimize_with_cubes, Cover,
+    CubeFunction, Function, EXACT_MAX_VARS,
 };
 use crate::model::{Bdd, Machine};
 use std::collections::{HashMap, HashSet};
@@ -350,6 +351,46 @@ fn adjacency_weights(m: usize, regions: &[Region], moore: &[Vec<usize>]) -> Adja
 /// On and don't-care minterm lists of a function (disjoint).
 pub type Minterms = (Vec<u64>, Vec<u64>);
 
+/// The minterm form of a function given as cube lists (on-set minus don't-cares, and
+/// the don't-cares), when it has at most [`MINTERM_MAX_VARS`] variables.
+pub(crate) fn tabulate(vars: &[String], on: &[Cube], dc: &[Cube]) -> Option<Function> {
+    let n = vars.len();
+    if n > MINTERM_MAX_VARS {
+        return None;
+    }
+    let mut table = vec![0u8; 1usize << n];
+    for c in dc {
+        c.for_each_minterm(n, |x| table[x as usize] = 2);
+    }
+    for c in on {
+        c.for_each_minterm(n, |x| {
+            if table[x as usize] == 0 {
+                table[x as usize] = 1;
+            }
+        });
+    }
+    let pick = |v: u8| -> Vec<u64> {
+        (0..table.len() as u64)
+            .filter(|&x| table[x as usize] == v)
+            .collect()
+    };
+    Some(Function {
+        vars: vars.to_vec(),
+        on: pick(1),
+        dc: pick(2),
+    })
+}
+
+/// The cover [`synthesize`] gives a function: exact from minterms (primes from the cube
+/// lists) up to [`EXACT_MAX_VARS`] variables, the heuristic on the cube lists beyond.
+/// `table` is [`tabulate`] of the same function.
+pub(crate) fn minimize_sets(cf: &CubeFunction, table: Option<&Function>) -> Result<Cover, String> {
+    match table {
+        Some(f) if f.vars.len() <= EXACT_MAX_VARS => minimize_with_cubes(f, Some(cf)),
+        _ => minimize_cubes(cf),
+    }
+}
+
 /// Minimizes one function given as cube lists, tabulating it as minterms when small,
 /// and checks the cover against the on- and off-set.
 fn minimize_function(
@@ -357,49 +398,22 @@ fn minimize_function(
     on: &[Cube],
     dc: &[Cube],
 ) -> Result<(Option<Minterms>, Cover), String> {
-    let n = vars.len();
-    if n <= MINTERM_MAX_VARS {
-        let mut table = vec![0u8; 1usize << n];
-        for c in dc {
-            c.for_each_minterm(n, |x| table[x as usize] = 2);
+    let cf = CubeFunction {
+        vars: vars.to_vec(),
+        on: on.to_vec(),
+        dc: dc.to_vec(),
+    };
+    let table = tabulate(vars, on, dc);
+    let cover = minimize_sets(&cf, table.as_ref())?;
+    match table {
+        Some(f) => {
+            check_cover(&f, &cover)?;
+            Ok((Some((f.on, f.dc)), cover))
         }
-        for c in on {
-            c.for_each_minterm(n, |x| {
-                if table[x as usize] == 0 {
-                    table[x as usize] = 1;
-                }
-            });
+        None => {
+            check_cube_cover(&cf, &cover)?;
+            Ok((None, cover))
         }
-        let pick = |v: u8| -> Vec<u64> {
-            (0..table.len() as u64)
-                .filter(|&x| table[x as usize] == v)
-                .collect()
-        };
-        let f = Function {
-            vars: vars.to_vec(),
-            on: pick(1),
-            dc: pick(2),
-        };
-        let cover = if n <= EXACT_MAX_VARS {
-            minimize(&f)?
-        } else {
-            minimize_cubes(&CubeFunction {
-                vars: vars.to_vec(),
-                on: on.to_vec(),
-                dc: dc.to_vec(),
-            })?
-        };
-        check_cover(&f, &cover)?;
-        Ok((Some((f.on, f.dc)), cover))
-    } else {
-        let cf = CubeFunction {
-            vars: vars.to_vec(),
-            on: on.to_vec(),
-            dc: dc.to_vec(),
-        };
-        let cover = minimize_cubes(&cf)?;
-        check_cube_cover(&cf, &cover)?;
-        Ok((None, cover))
     }
 }
 
@@ -441,6 +455,68 @@ pub fn synthesize(
     ff: FlipFlop,
     complements: bool,
 ) -> Result<LogicDesign, String> {
+    let sets = function_sets(spec, encoding, ff)?;
+    let mut out = Vec::with_capacity(sets.functions.len());
+    for set in sets.functions {
+        let (minterms, cover) = minimize_function(&set.vars, &set.on, &set.dc)
+            .map_err(|e| format!("function {}: {e}", set.name))?;
+        let mut f = LogicFunction {
+            name: set.name,
+            role: set.role,
+            vars: set.vars,
+            on_cubes: set.on,
+            dc_cubes: set.dc,
+            minterms,
+            cover,
+            complement: None,
+        };
+        if complements {
+            f.complement = Some(minimize_complement(&f)?);
+        }
+        out.push(f);
+    }
+    Ok(LogicDesign {
+        encoding: encoding.clone(),
+        flip_flop: ff,
+        state_vars: sets.state_vars,
+        pin_vars: sets.pin_vars,
+        functions: out,
+    })
+}
+
+/// One function before minimization: its on- and don't-care cubes.
+#[derive(Clone, Debug)]
+pub(crate) struct FunctionSet {
+    /// The name (`D1`, `J0`, an output or action name).
+    pub name: String,
+    /// What it drives.
+    pub role: Role,
+    /// Variables, first = most significant.
+    pub vars: Vec<String>,
+    /// The on-set cubes (overlap with `dc` counts as don't-care).
+    pub on: Vec<Cube>,
+    /// The don't-care cubes.
+    pub dc: Vec<Cube>,
+}
+
+/// Every function of a machine under one assignment, unminimized.
+#[derive(Clone, Debug)]
+pub(crate) struct FunctionSets {
+    /// State-bit variable names, `q_{k-1}` first.
+    pub state_vars: Vec<String>,
+    /// Pin variables: event bus bits, then inputs.
+    pub pin_vars: Vec<String>,
+    /// Flip-flop inputs (most significant bit first), outputs, actions.
+    pub functions: Vec<FunctionSet>,
+}
+
+/// The on- and don't-care sets of every function of `spec` under `encoding` with
+/// flip-flop type `ff` (what [`synthesize`] minimizes).
+pub(crate) fn function_sets(
+    spec: &LogicSpec,
+    encoding: &Encoding,
+    ff: FlipFlop,
+) -> Result<FunctionSets, String> {
     let k = encoding.bits;
     let b = spec.ev_bits;
     let ni = spec.inputs.len();
@@ -571,26 +647,15 @@ pub fn synthesize(
                 (all_vars.clone(), std::mem::take(&mut on[idx]), d)
             }
         };
-        let (minterms, cover) = minimize_function(&vars, &on_cubes, &dc_cubes)
-            .map_err(|e| format!("function {name}: {e}"))?;
-        let mut f = LogicFunction {
+        out.push(FunctionSet {
             name,
             role,
             vars,
-            on_cubes,
-            dc_cubes,
-            minterms,
-            cover,
-            complement: None,
-        };
-        if complements {
-            f.complement = Some(minimize_complement(&f)?);
-        }
-        out.push(f);
+            on: on_cubes,
+            dc: dc_cubes,
+        });
     }
-    Ok(LogicDesign {
-        encoding: encoding.clone(),
-        flip_flop: ff,
+    Ok(FunctionSets {
         state_vars,
         pin_vars,
         functions: out,
@@ -703,23 +768,57 @@ pub struct AutoReport {
     pub rows: Vec<CostRow>,
     /// Index of the chosen (cheapest) row.
     pub chosen: usize,
-    /// Assignments costed by the search.
+    /// Assignments costed by the search (exact evaluations started).
     pub evaluated: u64,
     /// Whether every assignment up to symmetry was tried.
     pub exhaustive: bool,
+    /// Whether the time budget stopped the search before it finished.
+    pub cut_short: bool,
+    /// The search's counters (scored by the proxy, pruned, memo hits).
+    pub stats: SearchStats,
+}
+
+impl LogicSpec {
+    /// The adjacency weights of the classic rules (the search's cheap score).
+    pub(crate) fn adjacency(&self) -> &Adjacency {
+        &self.adjacency
+    }
 }
 
 /// Searches for a cheap state assignment and returns the cheapest design among binary,
 /// gray, one-hot and the searched assignment, by literal count (then gates, gate inputs
-/// and flip-flops), with the table of all four.
-///
-/// Up to [`EXHAUSTIVE_MAX_RAW`] raw assignments (8 states) every assignment up to
-/// symmetry ([`canonical_assignments`]) is costed by minimizing all functions; beyond,
-/// the adjacency heuristic ([`adjacency_assignment`], [`HEURISTIC_RESTARTS`] restarts)
-/// followed by a descent over pairwise code swaps costed exactly (at most
-/// [`HEURISTIC_SWAP_BUDGET`] evaluations). `progress(done, total)` is called after each
-/// costed assignment.
+/// and flip-flops), with the table of all four. The search is
+/// [`super::search::search_assignment`] with default options (no time budget).
+/// `progress(done, total)` is called as assignments are costed.
 pub fn auto_assign(
+    spec: &LogicSpec,
+    ff: FlipFlop,
+    map: Map,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<(LogicDesign, AutoReport), String> {
+    auto_assign_with(spec, ff, map, &SearchOptions::default(), progress)
+}
+
+/// [`auto_assign`] with search options (a time budget, a cap on exact evaluations).
+pub fn auto_assign_with(
+    spec: &LogicSpec,
+    ff: FlipFlop,
+    map: Map,
+    opts: &SearchOptions,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<(LogicDesign, AutoReport), String> {
+    let found = search_assignment(spec, ff, opts, progress)?;
+    let stats = found.stats.clone();
+    cost_table(spec, ff, map, Some(found.codes), stats)
+}
+
+/// The search `auto` used before [`super::search`], kept as the baseline of the
+/// benchmark and of the quality test: up to [`EXHAUSTIVE_MAX_RAW`] raw assignments (8
+/// states) every assignment up to symmetry ([`canonical_assignments`]) is costed by
+/// minimizing all functions, without pruning; beyond, the adjacency heuristic
+/// ([`adjacency_assignment`], [`HEURISTIC_RESTARTS`] restarts) followed by a descent over
+/// pairwise code swaps costed exactly (at most [`HEURISTIC_SWAP_BUDGET`] evaluations).
+pub fn auto_assign_baseline(
     spec: &LogicSpec,
     ff: FlipFlop,
     map: Map,
@@ -797,12 +896,38 @@ pub fn auto_assign(
     if let Some(e) = failure {
         return Err(e);
     }
+    let stats = SearchStats {
+        evaluated,
+        minimized: evaluated * spec_function_count(spec, ff) as u64,
+        exhaustive,
+        ..SearchStats::default()
+    };
+    cost_table(spec, ff, map, best.map(|(_, codes)| codes), stats)
+}
+
+/// Functions per design: the flip-flop inputs of the dense encoding, outputs, actions.
+fn spec_function_count(spec: &LogicSpec, ff: FlipFlop) -> usize {
+    super::assign::dense_bits(spec.n_states) * ff.input_names().len()
+        + spec.outputs.len()
+        + spec.actions.len()
+}
+
+/// The `auto` table: binary, gray, one-hot (up to 64 states) and the searched
+/// assignment, each synthesized (with complements for NOR-NOR), the cheapest chosen.
+fn cost_table(
+    spec: &LogicSpec,
+    ff: FlipFlop,
+    map: Map,
+    searched: Option<Vec<u64>>,
+    stats: SearchStats,
+) -> Result<(LogicDesign, AutoReport), String> {
+    let m = spec.n_states;
     let complements = map == Map::Nor;
     let mut candidates = vec![Encoding::binary(m), Encoding::gray(m)];
     if let Ok(oh) = Encoding::one_hot(m) {
         candidates.push(oh);
     }
-    if let Some((_, codes)) = best {
+    if let Some(codes) = searched {
         candidates.push(Encoding {
             kind: EncodingKind::Searched,
             bits: super::assign::dense_bits(m),
@@ -833,8 +958,10 @@ pub fn auto_assign(
         AutoReport {
             rows,
             chosen,
-            evaluated,
-            exhaustive,
+            evaluated: stats.evaluated,
+            exhaustive: stats.exhaustive,
+            cut_short: stats.cut_short,
+            stats,
         },
     ))
 }

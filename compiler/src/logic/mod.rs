@@ -10,6 +10,7 @@
 //!   method on cube lists, with the off-set from unate-recursive complementation.
 //! * [`gates`]: NAND-NAND and NOR-NOR mapping, gate costs, trade-notation equations.
 //! * [`excitation`]: flip-flop excitation tables (D, T, JK, SR).
+//! * [`assign`], [`search`]: state encodings and the search for a cheap one.
 //!
 //! [`minimize`] picks the method: exact up to [`EXACT_MAX_VARS`] variables (measured, see
 //! that constant), the heuristic beyond, and the [`Cover`] says which one ran.
@@ -21,6 +22,7 @@ pub mod exact;
 pub mod excitation;
 pub mod gates;
 pub mod heuristic;
+pub mod search;
 pub mod testgen;
 pub mod verilog;
 
@@ -218,6 +220,15 @@ impl CubeFunction {
 /// to [`EXACT_MAX_VARS`] variables, the heuristic beyond (or when the exact search runs
 /// out of its node budget and the heuristic does no worse). Errors on malformed input.
 pub fn minimize(f: &Function) -> Result<Cover, String> {
+    minimize_with_cubes(f, None)
+}
+
+/// [`minimize`] for a function that is also known as cube lists (`cubes`, the same
+/// on-set and don't-care set): the exact method then takes its prime implicants from
+/// the cubes by consensus ([`exact::primes_from_cubes`]) instead of merging minterms, the
+/// same primes far faster when the don't-care set is a few large cubes (unused state
+/// codes). The cover is the one [`minimize`] returns.
+pub fn minimize_with_cubes(f: &Function, cubes: Option<&CubeFunction>) -> Result<Cover, String> {
     f.validate()?;
     let n = f.vars.len();
     if n <= EXACT_MAX_VARS {
@@ -229,7 +240,19 @@ pub fn minimize(f: &Function) -> Result<Cover, String> {
         } else {
             exact::DEFAULT_NODE_BUDGET
         };
-        let result = exact::minimize_exact(n, &f.on, &f.pure_dc(), budget);
+        let primes = cubes.and_then(|cf| {
+            let all: Vec<Cube> = cf.on.iter().chain(cf.dc.iter()).copied().collect();
+            exact::primes_from_cubes(&all)
+        });
+        let result = match primes {
+            Some(primes) => {
+                let mut rows = f.on.clone();
+                rows.sort_unstable();
+                rows.dedup();
+                exact::exact_cover(n, &rows, &primes, budget)
+            }
+            None => exact::minimize_exact(n, &f.on, &f.pure_dc(), budget),
+        };
         if result.proven {
             return Ok(Cover::new(result.cubes, Method::Exact));
         }
