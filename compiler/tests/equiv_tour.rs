@@ -176,7 +176,7 @@ fn brute_transitions(m: &Machine) -> HashSet<(StateId, EventId, RuleId)> {
 }
 
 /// The state a rule leads to from `s`, from the choice that fires it there.
-fn target_of(m: &Machine, s: StateId, rule: RuleId) -> StateId {
+fn choice_target(m: &Machine, s: StateId, rule: RuleId) -> StateId {
     m.lowered
         .cells_of(s)
         .iter()
@@ -200,7 +200,7 @@ fn resets_only_when_needed(m: &Machine, steps: &[TourStep]) {
                 while let Some(x) = q.pop_front() {
                     for &(from, _, rule) in &all {
                         if from == x {
-                            let t = target_of(m, x, rule);
+                            let t = choice_target(m, x, rule);
                             if !seen[t.index()] {
                                 seen[t.index()] = true;
                                 q.push_back(t);
