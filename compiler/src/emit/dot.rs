@@ -13,7 +13,7 @@
 //!
 //! Node ids are `s<state number>` and cluster ids `cluster_<group number>`, so no name
 //! can clash with the `start` node or with DOT keywords. Edge labels are DOT quoted
-//! strings ([`quote`]); node and cluster labels are HTML-like labels ([`html`]).
+//! strings ([`quote()`]); node and cluster labels are HTML-like labels ([`html`]).
 //!
 //! Cost: linear in the size of the drawing ([`super::diagram::transitions`]).
 
