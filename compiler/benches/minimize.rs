@@ -18,6 +18,13 @@
 //!   (the difference is its minimizer's cost) against Hopcroft on the exported
 //!   unminimized DFA (2^(N+1) + 3 states; the parameter in the id is the state count).
 //!
+//! - `quotient`: what `#[minimize]` pays per `gen rust` on machines from
+//!   `scripts/gen_big_spec.py STATES 16` (python3 needed): `minimize` is one
+//!   minimization (the baseline), `quotient` one minimization plus the quotient machine
+//!   built directly and lowered (today's path), and `resolve_printed` the resolution of
+//!   the quotient's syntax tree, the step the former path paid on top of a second
+//!   minimization (it printed the quotient as a tree and resolved it).
+//!
 //! Sample counts are small (10, flat sampling) so the whole run stays within a few
 //! minutes on two shared cores; read the results as ratios within one run.
 
@@ -184,5 +191,60 @@ fn bench_regex(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench_random, bench_chain, bench_regex);
+fn big_spec(states: usize) -> String {
+    let script =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../scripts/gen_big_spec.py");
+    let out = std::process::Command::new("python3")
+        .arg(&script)
+        .arg(states.to_string())
+        .arg("16")
+        .output()
+        .unwrap_or_else(|e| panic!("cannot run python3 {}: {e}", script.display()));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("the generator writes UTF-8")
+}
+
+fn bench_quotient(c: &mut Criterion) {
+    use detent_compiler::minimize::{machine::quotient_ast, minimize, quotient};
+    let mut g = c.benchmark_group("quotient");
+    g.sample_size(10);
+    g.sampling_mode(SamplingMode::Flat);
+    g.warm_up_time(Duration::from_secs(1));
+    for states in [1_000usize, 10_000] {
+        let text = big_spec(states);
+        let file = detent_compiler::syntax::parse_source(&text).expect("parses");
+        let (machines, errors) = detent_compiler::model::resolve_file(&file);
+        assert!(errors.is_empty());
+        let m = &machines[0];
+        let q = quotient(m);
+        println!(
+            "quotient n={states}: {} classes of {} states",
+            q.minimization.states_after(),
+            states
+        );
+        let tree = quotient_ast(&q.machine);
+        g.bench_function(BenchmarkId::new("minimize", states), |b| {
+            b.iter(|| black_box(minimize(m).states_after()))
+        });
+        g.bench_function(BenchmarkId::new("quotient", states), |b| {
+            b.iter(|| black_box(quotient(m).machine.states.len()))
+        });
+        g.bench_function(BenchmarkId::new("resolve_printed", states), |b| {
+            b.iter(|| black_box(detent_compiler::model::resolve(&tree).is_ok()))
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(
+    benches,
+    bench_random,
+    bench_chain,
+    bench_regex,
+    bench_quotient
+);
 criterion_main!(benches);

@@ -1,16 +1,17 @@
 //! The state table of a machine: `detent table`.
 //!
-//! One row per (present state, event, rule that applies), states then events in
-//! declaration order, the rules of one (state, event) in source order. The rule that
-//! applies is found by scope lookup ([`Machine::rules_for`]: the state's rules naming the
-//! event, its `_`, then each enclosing group's, innermost first), so inherited group
-//! rules and `_` rules appear on every state they govern: the table is the flattened
-//! machine.
+//! One row per (present state, event, rule that can fire), states then events in
+//! declaration order, the rules of one (state, event) in lookup order. Rule choice comes
+//! from the machine's lowered form ([`crate::model::lower`]): the rows of a (state,
+//! event) are the choices of its cell, so inherited group rules and `_` rules appear on
+//! every state they govern (the table is the flattened machine), and a rule that can
+//! never fire there (an unsatisfiable guard, or valuations always taken before it) has
+//! no row.
 //!
-//! Columns: present state, event, guard (spec syntax, `-` when none), next state, kind,
-//! Mealy outputs, actions (the whole sequence the step runs, from
-//! [`Machine::transition_actions`]: leave actions, the rule's, enter actions), and the
-//! Moore outputs of the present state.
+//! Columns: present state, event, guard (the rule's guard in spec syntax as written,
+//! `-` when none), next state, kind, Mealy outputs, actions (the whole sequence the
+//! step runs, the choice's operations: leave actions, the rule's, enter actions), and
+//! the Moore outputs of the present state.
 //!
 //! `next` is always the state after the step (for `stay`, the present state's name);
 //! `kind` says how it is reached:
@@ -27,12 +28,11 @@
 //! in `docs/table-csv.md`: it adds declaration rows and one row per state so that the
 //! machine can be rebuilt from the file alone).
 //!
-//! Cost: O(states x events x rules per scope) rows; the uncovered condition of each
-//! (state, event) is one BDD disjunction of its rules' guards.
+//! Cost: O(states x events x choices per cell) rows; the uncovered condition of each
+//! (state, event) is its cell's `unhandled` region, printed as disjoint cubes.
 
 use crate::model::{
     ActionId, Bdd, BddStore, EventId, Guard, Machine, OutputId, Prop, Property, RuleId, StateId,
-    Target,
 };
 use crate::syntax::ast::{self, DispatchStyle, Expr, Policy, Vis};
 use crate::syntax::print::print_expr;
@@ -134,53 +134,52 @@ pub fn render(m: &Machine, format: TableFormat) -> String {
 
 /// The rows of the state table, states then events in declaration order.
 pub fn rows(m: &Machine) -> Vec<Row> {
-    // The uncovered condition needs BDD operations, which extend the node table: work on
-    // a copy so that the machine stays untouched.
-    let mut bdd = m.bdd.clone();
+    let lowered = &m.lowered;
     let unhandled = match m.policy {
         Policy::Complete => RowKind::Missing,
         Policy::Ignore => RowKind::Ignore,
         Policy::Reject => RowKind::Reject,
     };
     let mut out = Vec::new();
-    for (si, st) in m.states.iter().enumerate() {
+    for si in 0..m.states.len() {
         let s = StateId::from_index(si);
+        let moore = lowered.outputs(lowered.moore(s));
         for ei in 0..m.events.len() {
             let e = EventId::from_index(ei);
-            let rules: &[RuleId] = m.rules_for(s, e).map_or(&[], |(_, r)| r);
-            let mut covered = Bdd::FALSE;
-            for &r in rules {
-                let rule = &m.rules[r.index()];
-                covered = bdd.or(covered, rule.guard);
-                let kind = match rule.target {
-                    Target::Stay => RowKind::Stay,
-                    Target::To(t) if t == s => RowKind::SelfLoop,
-                    Target::To(_) => RowKind::Move,
+            let cell = lowered.cell_of(s, e);
+            for choice in &cell.choices {
+                let rule = &m.rules[choice.rule.index()];
+                let kind = if !choice.moves {
+                    RowKind::Stay
+                } else if choice.target == s {
+                    RowKind::SelfLoop
+                } else {
+                    RowKind::Move
                 };
                 out.push(Row {
                     state: s,
                     event: e,
-                    rule: Some(r),
+                    rule: Some(choice.rule),
                     guard: rule.guard_expr.as_ref().map(|g| guard_text(m, g)),
-                    next: m.target_of(s, r),
+                    next: choice.target,
                     kind,
-                    mealy: rule.mealy.clone(),
-                    actions: m.transition_actions(s, r),
-                    moore: st.moore.clone(),
+                    mealy: lowered.outputs(choice.mealy).to_vec(),
+                    actions: lowered.actions(choice.ops).collect(),
+                    moore: moore.to_vec(),
                 });
             }
-            if !covered.is_true() {
-                let rest = bdd.not(covered);
+            if !cell.unhandled.is_false() {
                 out.push(Row {
                     state: s,
                     event: e,
                     rule: None,
-                    guard: (!rest.is_true()).then(|| cubes_text(m, &bdd, rest)),
+                    guard: (!cell.unhandled.is_true())
+                        .then(|| cubes_text(m, &m.bdd, cell.unhandled)),
                     next: s,
                     kind: unhandled,
                     mealy: Vec::new(),
                     actions: Vec::new(),
-                    moore: st.moore.clone(),
+                    moore: moore.to_vec(),
                 });
             }
         }

@@ -175,6 +175,16 @@ fn brute_transitions(m: &Machine) -> HashSet<(StateId, EventId, RuleId)> {
     out
 }
 
+/// The state a rule leads to from `s`, from the choice that fires it there.
+fn choice_target(m: &Machine, s: StateId, rule: RuleId) -> StateId {
+    m.lowered
+        .cells_of(s)
+        .iter()
+        .flat_map(|c| &c.choices)
+        .find(|c| c.rule == rule)
+        .map_or(s, |c| c.target)
+}
+
 /// At every reset, nothing uncovered may be reachable from the state the tour was in.
 fn resets_only_when_needed(m: &Machine, steps: &[TourStep]) {
     let all = brute_transitions(m);
@@ -190,7 +200,7 @@ fn resets_only_when_needed(m: &Machine, steps: &[TourStep]) {
                 while let Some(x) = q.pop_front() {
                     for &(from, _, rule) in &all {
                         if from == x {
-                            let t = m.target_of(x, rule);
+                            let t = choice_target(m, x, rule);
                             if !seen[t.index()] {
                                 seen[t.index()] = true;
                                 q.push_back(t);

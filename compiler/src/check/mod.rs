@@ -1,10 +1,14 @@
 //! The checker: every lint of LANGUAGE.md over a resolved [`Machine`].
 //!
-//! Coverage and overlap are decided exactly on BDDs of the guards of one
-//! (state, event-class) cell, so they never enumerate `2^inputs`. Reachability and
-//! dead ends use the successor graph (a guard counts as satisfiable unless its BDD is
-//! `false`); traps are bottom strongly connected components (Tarjan). Work is linear
-//! in the number of (state, named event) cells plus the rules they hold.
+//! Rule choice comes from the machine's lowered form ([`crate::model::lower`]); the
+//! checker reads it and decides nothing about which rule fires. Coverage is each
+//! cell's `unhandled` region (a witness is one satisfying path of it); overlap tests
+//! the guards of the rules that one lookup step reaches in one scope (a cell's
+//! [`Reached`](crate::model::lower::Reached) groups) pairwise on BDDs, so neither
+//! enumerates `2^inputs`. Reachability and dead ends use the lowered form's successor
+//! lists (the targets of the choices that can fire); traps are bottom strongly
+//! connected components (Tarjan). Work is linear in the number of cells plus the rules
+//! they reach.
 //!
 //! Levels: hard errors (`syntax`, `name`, `incomplete`, `overlapping_rules`,
 //! `property`) always stay errors. Every other lint takes the innermost
@@ -18,7 +22,7 @@ pub mod sarif;
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::fxhash::FxSet;
 use crate::model::bdd::BddStore;
-use crate::model::graph::{strongly_connected, CellEvents};
+use crate::model::graph::{reachable_from, strongly_connected};
 use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
 use crate::syntax::ast::{LevelAttr, Policy};
 
@@ -48,23 +52,17 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     let mut c = Checker { m, out: Vec::new() };
-    // The exact checks, and the step table that the property checker, the tour and
-    // minimization build from the same guards, must fit the decision-diagram budget;
-    // past it their results would be meaningless.
-    let overflow = if c.coverage_and_overlap() {
-        Some("the coverage and overlap checks of this machine")
-    } else {
-        let mut probe = m.bdd.clone();
-        crate::model::steps::StepTable::build(m, &mut probe);
-        probe
-            .overflowed()
-            .then_some("the firing regions of this machine's rules")
-    };
-    if let Some(what) = overflow {
+    // The firing regions were built within the decision-diagram budget when the machine
+    // was lowered (a machine past it does not resolve); the overlap check's own
+    // conjunctions must fit it too, or its results would be meaningless.
+    if c.coverage_and_overlap() {
         c.out.clear();
         c.out.push(Diagnostic::name_error(
             m.span,
-            crate::model::bdd_overflow_message(&m.name, what),
+            crate::model::bdd_overflow_message(
+                &m.name,
+                "the coverage and overlap checks of this machine",
+            ),
         ));
         return c.out;
     }
@@ -156,25 +154,28 @@ impl Checker<'_> {
             .collect()
     }
 
-    /// Returns true when the decision diagrams overflowed (see [`MAX_BDD_NODES`]).
+    /// Overlap and coverage of every cell of the lowered form. Returns true when the
+    /// decision diagrams overflowed (see [`MAX_BDD_NODES`]).
     ///
     /// [`MAX_BDD_NODES`]: crate::model::bdd::MAX_BDD_NODES
     fn coverage_and_overlap(&mut self) -> bool {
         let m = self.m;
+        let lowered = &m.lowered;
         let mut bdd = m.bdd.clone();
         let mut reported_pairs: FxSet<(RuleId, RuleId)> = FxSet::default();
-        for si in 0..m.states.len() {
-            let s = StateId::from_index(si);
-            let state_name = &m.states[si].name;
-            for cell in m.cells(s) {
-                let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
-                // Overlap: any two guards of the scope used that can both be true. A rule
-                // can be the later one of an overlapping pair only if its guard meets the
-                // union of the guards before it, and the earlier one only if it meets the
-                // union of those after it: two linear passes find those rules, and the
-                // pairs are tested among them alone, in the same order as all pairs would
-                // be. A cell of thousands of exclusive rules (a decoded opcode table)
-                // then costs two passes, not a test per pair.
+        for cell in lowered.cells() {
+            let s = cell.state;
+            let state_name = &m.states[s.index()].name;
+            for group in &cell.reached {
+                let rules = &group.rules;
+                // Overlap: any two guards of one lookup step's rules in one scope that
+                // can both be true. A rule can be the later one of an overlapping pair
+                // only if its guard meets the union of the guards before it, and the
+                // earlier one only if it meets the union of those after it: two linear
+                // passes find those rules, and the pairs are tested among them alone, in
+                // the same order as all pairs would be. A cell of thousands of exclusive
+                // rules (a decoded opcode table) then costs two passes, not a test per
+                // pair.
                 let (earlier, later) = overlap_candidates(&mut bdd, m, rules);
                 for (i, &a) in rules.iter().enumerate() {
                     if !earlier[i] {
@@ -188,22 +189,18 @@ impl Checker<'_> {
                         if both.is_false() || !reported_pairs.insert((a, b)) {
                             continue;
                         }
-                        let event = match &cell.events {
-                            CellEvents::One(e) => *e,
-                            CellEvents::Rest => m.rest_events(s)[0],
-                        };
+                        let event = m.event_name(cell.event);
                         let path = bdd.sat_one(both).unwrap_or_default();
                         let witness = self.witness(&[a, b], &path);
                         let mut d = Diagnostic::new(
                             Lint::OverlappingRules,
                             Some(m.rules[b.index()].span),
                             format!(
-                                "two rules can both fire in state `{state_name}` on event `{}`",
-                                m.event_name(event)
+                                "two rules can both fire in state `{state_name}` on event `{event}`"
                             ),
                         )
                         .with_state(state_name)
-                        .with_event(m.event_name(event));
+                        .with_event(event);
                         d.related
                             .push((m.rules[a.index()].span, "the other rule".into()));
                         d.notes.push(format!(
@@ -216,56 +213,54 @@ impl Checker<'_> {
                         self.emit(d, Site::State(s));
                     }
                 }
-                // Coverage.
-                if m.policy != Policy::Complete {
-                    continue;
-                }
-                let mut covered = Bdd::FALSE;
-                for &r in rules {
-                    covered = bdd.or(covered, m.rules[r.index()].guard);
-                }
-                if covered.is_true() {
-                    continue;
-                }
-                let gap = bdd.not(covered);
-                let path = bdd.sat_one(gap).unwrap_or_default();
-                let witness = self.witness(rules, &path);
-                for e in m.cell_events(s, &cell.events) {
-                    let event = m.event_name(e);
-                    let message = if rules.is_empty() {
-                        format!("state `{state_name}` has no rule for event `{event}`")
-                    } else {
-                        format!(
-                            "state `{state_name}` does not handle event `{event}` for every input value"
-                        )
-                    };
-                    let mut d = Diagnostic::new(Lint::Incomplete, Some(m.states[si].span), message)
-                        .with_state(state_name)
-                        .with_event(event);
-                    if !rules.is_empty() {
-                        d.notes.push(format!(
-                            "no rule fires when {}",
-                            render::valuation_text(&witness)
-                        ));
-                        d.witness = Some(witness.clone());
-                    } else if !witness.is_empty() {
-                        d.witness = Some(witness.clone());
-                    }
-                    d.helps.push(if m.clocked {
-                        "add a rule for the uncovered case, or declare `unhandled ignore;` to \
-                         hold the state"
-                            .to_string()
-                    } else {
-                        format!(
-                            "add a rule for `{event}` here or in an enclosing group, or declare \
-                             `unhandled ignore;` (or `reject`) to leave it unhandled"
-                        )
-                    });
-                    self.emit(d, Site::State(s));
-                }
             }
             if bdd.overflowed() {
                 break;
+            }
+            // Coverage: the valuations where no choice fires.
+            if m.policy != Policy::Complete || cell.unhandled.is_false() {
+                continue;
+            }
+            let rules: Vec<RuleId> = cell
+                .reached
+                .iter()
+                .flat_map(|g| g.rules.iter().copied())
+                .collect();
+            let path = m.bdd.sat_one(cell.unhandled).unwrap_or_default();
+            let witness = self.witness(&rules, &path);
+            for e in lowered.cell_events(m.events.len(), cell) {
+                let event = m.event_name(e);
+                let message = if rules.is_empty() {
+                    format!("state `{state_name}` has no rule for event `{event}`")
+                } else {
+                    format!(
+                        "state `{state_name}` does not handle event `{event}` for every input value"
+                    )
+                };
+                let mut d =
+                    Diagnostic::new(Lint::Incomplete, Some(m.states[s.index()].span), message)
+                        .with_state(state_name)
+                        .with_event(event);
+                if !rules.is_empty() {
+                    d.notes.push(format!(
+                        "no rule fires when {}",
+                        render::valuation_text(&witness)
+                    ));
+                    d.witness = Some(witness.clone());
+                } else if !witness.is_empty() {
+                    d.witness = Some(witness.clone());
+                }
+                d.helps.push(if m.clocked {
+                    "add a rule for the uncovered case, or declare `unhandled ignore;` to \
+                     hold the state"
+                        .to_string()
+                } else {
+                    format!(
+                        "add a rule for `{event}` here or in an enclosing group, or declare \
+                         `unhandled ignore;` (or `reject`) to leave it unhandled"
+                    )
+                });
+                self.emit(d, Site::State(s));
             }
         }
         bdd.overflowed()
@@ -273,8 +268,8 @@ impl Checker<'_> {
 
     fn reachability(&mut self) {
         let m = self.m;
-        let succ = m.successor_lists();
-        let reachable = m.reachable_states();
+        let succ = m.lowered.successor_lists();
+        let reachable = reachable_from(&succ, &[m.start]);
         for (i, st) in m.states.iter().enumerate() {
             if !reachable[i] {
                 let d = Diagnostic::new(

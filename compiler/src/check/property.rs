@@ -1,17 +1,18 @@
 //! Proved properties: `never P;` and `recover to S except T, U;` (LANGUAGE.md,
 //! "Properties"), reported as the `property` lint with a shortest counterexample.
 //!
-//! **Steps.** A step of the machine is a (state, event class, guard atom) triple. For
-//! each (state, event-class) cell the input space is partitioned, with BDDs (Bryant
-//! 1986), into the region where each rule of the scope used fires (rule `i`'s guard
-//! minus the guards of rules `0..i`, the same first-match order as the reference
-//! interpreter, so even an overlapping spec replays exactly) and the uncovered
-//! remainder (an ignored or rejected step). Every valuation in one atom makes the same
-//! step, so one concrete valuation (`sat_one`, unmentioned inputs false) stands for it.
-//! No `2^inputs` enumeration happens anywhere.
+//! **Steps.** Rule choice comes from the machine's lowered form
+//! ([`crate::model::lower`]): each (state, event-class) cell splits the input space into
+//! the exact, disjoint regions where each of its choices fires and the `unhandled`
+//! remainder (an ignored or rejected step). A step of the machine is one such region
+//! ([`StepTable`]); every valuation in it makes the same step, so one concrete valuation
+//! (`sat_one`, unmentioned inputs false) stands for it, and the trace replays exactly
+//! through the interpreter, which steps through the same lowered form. No `2^inputs`
+//! enumeration happens anywhere.
 //!
 //! **`never P`.** P is evaluated symbolically on each step: the facts a step fixes
-//! (state after the step, Moore and Mealy outputs, actions run incl. enter/leave) turn
+//! (the choice's target, the Moore outputs of the state after the step, the choice's
+//! Mealy outputs and its operations, enter and leave actions included) turn
 //! every non-input atom of P into a constant, leaving a BDD over the inputs P names;
 //! the step violates P iff that BDD and the step's atom intersect, and the witness is
 //! a satisfying valuation of the intersection. The search is breadth-first from the
@@ -25,12 +26,13 @@
 //! states count: some input sequence reaches S). The first reached state, in BFS
 //! order, that cannot reach S is the violation with the shortest trace.
 //!
-//! **Cost.** Building the step table is linear in the (state, named event) cells plus
-//! their rules, times the BDD operations on those rules' guards; each search then visits
+//! **Cost.** Listing the steps is linear in the cells plus their choices (the regions
+//! are the lowered form's, built once at resolution); each search then visits
 //! every step once: O(states + steps) time and memory, with flat `u32` tables and no
 //! per-state copies.
 
 use crate::diag::{Diagnostic, Lint, TraceStep};
+use crate::model::lower::Op;
 use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
 use std::collections::VecDeque;
 
@@ -70,7 +72,8 @@ struct Facts<'a> {
     to: StateId,
     moore: &'a [OutputId],
     mealy: &'a [OutputId],
-    actions: &'a [ActionId],
+    /// The operations the step runs, in order.
+    ops: &'a [Op],
     /// Step 0: every input reads false.
     step0: bool,
 }
@@ -86,7 +89,7 @@ fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
             }
         }
         Prop::Output(o) => bdd.constant(f.moore.binary_search(o).is_ok() || f.mealy.contains(o)),
-        Prop::Action(a) => bdd.constant(f.actions.contains(a)),
+        Prop::Action(a) => bdd.constant(f.ops.contains(&Op::Action(*a))),
         Prop::InState(s) => bdd.constant(f.to == *s),
         Prop::InGroup(g) => bdd.constant(m.group_contains(*g, f.to)),
         Prop::Const(b) => bdd.constant(*b),
@@ -110,15 +113,6 @@ fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
             let y = prop_bdd(m, bdd, b, f);
             bdd.or(x, y)
         }
-    }
-}
-
-fn mentions_actions(p: &Prop) -> bool {
-    match p {
-        Prop::Action(_) => true,
-        Prop::Not(a) => mentions_actions(a),
-        Prop::And(a, b) | Prop::Or(a, b) => mentions_actions(a) || mentions_actions(b),
-        _ => false,
     }
 }
 
@@ -160,7 +154,7 @@ impl Bfs {
 /// Proves `never P`, or returns the shortest counterexample.
 pub fn check_never(m: &Machine, prop: &Prop) -> Option<NeverViolation> {
     let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m, &mut bdd);
+    let table = StepTable::build(m);
     check_never_in(m, &mut bdd, &table, prop)
 }
 
@@ -170,45 +164,40 @@ fn check_never_in(
     table: &StepTable,
     prop: &Prop,
 ) -> Option<NeverViolation> {
+    let lowered = &m.lowered;
     let start = m.start;
-    let start_moore = &m.states[start.index()].moore;
+    let start_moore = lowered.outputs(lowered.moore(start));
     let step0 = Facts {
         to: start,
         moore: start_moore,
         mealy: &[],
-        actions: &[],
+        ops: &[],
         step0: true,
     };
     if prop_bdd(m, bdd, prop, &step0).is_true() {
         return Some(NeverViolation {
             trace: Vec::new(),
             state: start,
-            outputs: start_moore.clone(),
+            outputs: start_moore.to_vec(),
             actions: Vec::new(),
         });
     }
-    let need_actions = mentions_actions(prop);
     let mut bfs = Bfs::new(m.states.len());
     bfs.seen[start.index()] = true;
     let mut queue = VecDeque::from([start]);
-    let mut actions = Vec::new();
     while let Some(s) = queue.pop_front() {
         let base = table.start[s.index()];
         for (k, step) in table.of(s).iter().enumerate() {
-            let (mealy, acts): (&[OutputId], &[ActionId]) = match step.rule {
-                Some(r) => {
-                    if need_actions {
-                        actions = m.transition_actions(s, r);
-                    }
-                    (&m.rules[r.index()].mealy, &actions)
-                }
+            let fired = step.fired(m);
+            let (mealy, ops): (&[OutputId], &[Op]) = match fired {
+                Some(c) => (lowered.outputs(c.mealy), lowered.seq(c.ops)),
                 None => (&[], &[]),
             };
             let facts = Facts {
                 to: step.to,
-                moore: &m.states[step.to.index()].moore,
+                moore: lowered.outputs(lowered.moore(step.to)),
                 mealy,
-                actions: acts,
+                ops,
                 step0: false,
             };
             let p = prop_bdd(m, bdd, prop, &facts);
@@ -220,8 +209,8 @@ fn check_never_in(
                 outputs.extend_from_slice(mealy);
                 outputs.sort_unstable();
                 outputs.dedup();
-                let actions = match step.rule {
-                    Some(r) => m.transition_actions(s, r),
+                let actions = match fired {
+                    Some(c) => lowered.actions(c.ops).collect(),
                     None => Vec::new(),
                 };
                 return Some(NeverViolation {
@@ -246,9 +235,8 @@ fn check_never_in(
 /// Proves `recover to target except ...`, or returns the closest state that cannot
 /// recover, with the shortest trace to it.
 pub fn check_recover(m: &Machine, target: StateId, except: &[StateId]) -> Option<RecoverViolation> {
-    let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m, &mut bdd);
-    check_recover_in(m, &bdd, &table, target, except)
+    let table = StepTable::build(m);
+    check_recover_in(m, &m.bdd, &table, target, except)
 }
 
 /// Which states can reach `target` (itself included), by a backward breadth-first
@@ -360,7 +348,7 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
         return Vec::new();
     }
     let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m, &mut bdd);
+    let table = StepTable::build(m);
     let mut out = Vec::new();
     for p in &m.properties {
         match p {

@@ -12,22 +12,25 @@
 //! - one edge per (source state, target state) pair, whose label has one line per rule
 //!   that takes that way: `event [guard] / outputs; do actions` ([`rule_label`]).
 //!
-//! Inherited group rules are drawn from each member state that actually uses them (the
-//! scope lookup of [`Machine::rules_for`], so a member that overrides an event does not
-//! get the group's edge for it), so that every edge is true of its source state. When
+//! Rule choice comes from the machine's lowered form ([`crate::model::lower`]): the
+//! rules drawn from a state are the choices of its cells, the rules that can fire there.
+//! Inherited group rules are therefore drawn from each member state that actually uses
+//! them (a member that overrides an event does not get the group's edge for it), so
+//! that every edge is true of its source state, and a rule that can never fire is not
+//! drawn. When
 //! every member of a group uses one of the group's rules for the same events and the
 //! rule leads out of the group, the DOT writer draws it once, from the cluster's border
 //! ([`lifted_group_rules`], Graphviz's `ltail`): in the greenhouse example that turns
 //! four long `WindAlarm` edges into one. The SVG renderer draws node-to-node edges
 //! only, so it keeps the per-member edges. A rule's trigger is shown as
-//! written for the events it governs in that state: its event names (only those for
-//! which scope lookup picks it there), `_` for a wildcard rule, nothing in a clocked
+//! written for the events it governs in that state: its event names (only those whose
+//! cell has it as a choice there), `_` for a wildcard rule, nothing in a clocked
 //! machine. Actions on an edge are the rule's own (`do` list); the leave and enter
 //! actions a transition also runs are shown on the states and clusters, as in the spec.
 //! `=> stay` and an external self-transition `=> S` are both drawn as a loop on `S`.
 //!
-//! Cost: one scope lookup per (state, event) and one line per (state, rule) used, so
-//! O(states x events x rules per scope).
+//! Cost: one cell lookup per (state, event) and one line per (state, rule) used, so
+//! O(states x events x choices per cell).
 
 use super::svg::{Cluster, Diagram, Edge, Node};
 use crate::model::{ActionId, EventId, GroupId, Machine, OutputId, RuleId, StateId, Trigger};
@@ -132,7 +135,10 @@ pub fn lifted_group_rules(m: &Machine) -> Vec<GroupTransition> {
             let events_of = |s: StateId| -> Vec<EventId> {
                 (0..m.events.len())
                     .map(EventId::from_index)
-                    .filter(|&e| m.rules_for(s, e).is_some_and(|(_, rs)| rs.contains(&r)))
+                    .filter(|&e| {
+                        let cell = m.lowered.cell_of(s, e);
+                        cell.choices.iter().any(|c| c.rule == r)
+                    })
                     .collect()
             };
             let evs = events_of(first);
@@ -172,13 +178,11 @@ pub fn transitions_except(m: &Machine, skip: &[RuleId]) -> Vec<Transition> {
         let mut used: Vec<(StateId, RuleId, Vec<EventId>)> = Vec::new();
         for ei in 0..m.events.len() {
             let e = EventId::from_index(ei);
-            let Some((_, rules)) = m.rules_for(s, e) else {
-                continue;
-            };
-            for &r in rules.iter().filter(|r| !skip.contains(r)) {
-                match used.iter_mut().find(|(_, u, _)| *u == r) {
+            let cell = m.lowered.cell_of(s, e);
+            for c in cell.choices.iter().filter(|c| !skip.contains(&c.rule)) {
+                match used.iter_mut().find(|(_, u, _)| *u == c.rule) {
                     Some((_, _, evs)) => evs.push(e),
-                    None => used.push((m.target_of(s, r), r, vec![e])),
+                    None => used.push((c.target, c.rule, vec![e])),
                 }
             }
         }

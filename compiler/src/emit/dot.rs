@@ -1,7 +1,8 @@
 //! Graphviz DOT output of `detent draw --format dot`.
 //!
 //! The drawing is the one [`super::diagram`] describes (it builds every label, shared
-//! with the SVG back end): states are rounded boxes whose HTML-like label holds the name
+//! with the SVG back end, and takes the rules of each state from the lowered form,
+//! [`crate::model::lower`], which alone decides rule choice): states are rounded boxes whose HTML-like label holds the name
 //! in bold and, below it, the Moore outputs and enter/leave actions; groups are nested
 //! `cluster_N` subgraphs headed by the group name, its own Moore outputs and its
 //! enter/leave actions; a small point node `start` has an edge into the start state;
@@ -12,7 +13,7 @@
 //!
 //! Node ids are `s<state number>` and cluster ids `cluster_<group number>`, so no name
 //! can clash with the `start` node or with DOT keywords. Edge labels are DOT quoted
-//! strings ([`quote`]); node and cluster labels are HTML-like labels ([`html`]).
+//! strings ([`quote()`]); node and cluster labels are HTML-like labels ([`html`]).
 //!
 //! Cost: linear in the size of the drawing ([`super::diagram::transitions`]).
 

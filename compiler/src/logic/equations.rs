@@ -13,11 +13,14 @@
 //! actions of the transition included). Uncovered valuations (`ignore` and `reject`
 //! alike) hold the state and raise nothing. Unused state codes are don't-cares.
 //!
-//! **Building the sets without enumerating inputs.** The machine is cut into regions:
-//! for each state, each event cell of [`Machine::cells`], each rule of the cell, the
-//! rule's guard as the disjoint cubes of its BDD (and one more region for the part no
-//! guard covers). A region's cubes are state cube x event codes x guard cubes, so the
-//! work is linear in the spec's size times the guard cube counts, never `2^inputs`.
+//! **Building the sets without enumerating inputs.** Rule choice comes from the
+//! machine's lowered form ([`crate::model::lower`]). The machine is cut into regions:
+//! for each state, each cell of the lowered form, each choice of the cell, the choice's
+//! firing region as the disjoint cubes of its BDD (and one more region for the cell's
+//! `unhandled` part). The regions of a cell are disjoint, so every valuation has exactly
+//! one next state and one set of outputs, as in the interpreter. A region's cubes are
+//! state cube x event codes x guard cubes, so the work is linear in the spec's size
+//! times the region cube counts, never `2^inputs`.
 //! Functions of at most [`MINTERM_MAX_VARS`] variables are also tabulated as minterms
 //! (the exact method runs on those up to [`super::EXACT_MAX_VARS`]); wider ones stay
 //! cube lists for the heuristic.
@@ -64,16 +67,22 @@ const HEURISTIC_SWAP_BUDGET: u64 = 120;
 
 /// One region of behaviour: in `state`, for the events `events` (their codes), under
 /// the input valuations of `guards`, the machine goes to `next`, raises `mealy` and runs
-/// `actions`.
+/// `actions`. It is one choice of a cell of the lowered form (or the cell's unhandled
+/// part, which holds the state and does nothing).
 #[derive(Clone, Debug)]
-struct Region {
-    state: usize,
-    events: Vec<u64>,
+pub struct Region {
+    /// The present state.
+    pub state: usize,
+    /// The event codes (declaration order numbers).
+    pub events: Vec<u64>,
     /// Disjoint cubes over the input bits (input `i` at bit `I - 1 - i`).
-    guards: Vec<Cube>,
-    next: usize,
-    mealy: Vec<usize>,
-    actions: Vec<usize>,
+    pub guards: Vec<Cube>,
+    /// The next state.
+    pub next: usize,
+    /// The Mealy outputs raised, ascending.
+    pub mealy: Vec<usize>,
+    /// The actions pulsed, in the order they run.
+    pub actions: Vec<usize>,
 }
 
 /// What the equations are built from: the machine cut into regions, independent of
@@ -199,10 +208,10 @@ impl LogicSpec {
                  variables the logic layer supports"
             ));
         }
-        let mut bdd = m.bdd.clone();
         let input_bit = |v: u32| 1u64 << (n_inputs - 1 - v as usize);
-        let to_cubes = |bdd: &crate::model::BddStore, g: Bdd| -> Vec<Cube> {
-            bdd.cubes(g)
+        let to_cubes = |g: Bdd| -> Vec<Cube> {
+            m.bdd
+                .cubes(g)
                 .into_iter()
                 .map(|path| {
                     let (mut value, mut care) = (0u64, 0u64);
@@ -216,46 +225,38 @@ impl LogicSpec {
                 })
                 .collect()
         };
+        let lowered = &m.lowered;
         let mut regions = Vec::new();
         for s in 0..n_states {
             let sid = crate::model::StateId::from_index(s);
-            for cell in m.cells(sid) {
-                let events: Vec<u64> = m
-                    .cell_events(sid, &cell.events)
+            for cell in lowered.cells_of(sid) {
+                let events: Vec<u64> = lowered
+                    .cell_events(m.events.len(), cell)
                     .into_iter()
                     .map(|e| e.index() as u64)
                     .collect();
                 if events.is_empty() {
                     continue;
                 }
-                let mut covered = Bdd::FALSE;
-                if let Some((_, rules)) = cell.rules {
-                    for &r in rules {
-                        let rule = &m.rules[r.index()];
-                        if rule.guard.is_false() {
-                            continue;
-                        }
-                        covered = bdd.or(covered, rule.guard);
-                        regions.push(Region {
-                            state: s,
-                            events: events.clone(),
-                            guards: to_cubes(&bdd, rule.guard),
-                            next: m.target_of(sid, r).index(),
-                            mealy: rule.mealy.iter().map(|o| o.index()).collect(),
-                            actions: m
-                                .transition_actions(sid, r)
-                                .iter()
-                                .map(|a| a.index())
-                                .collect(),
-                        });
-                    }
+                for choice in &cell.choices {
+                    regions.push(Region {
+                        state: s,
+                        events: events.clone(),
+                        guards: to_cubes(choice.region),
+                        next: choice.target.index(),
+                        mealy: lowered
+                            .outputs(choice.mealy)
+                            .iter()
+                            .map(|o| o.index())
+                            .collect(),
+                        actions: lowered.actions(choice.ops).map(|a| a.index()).collect(),
+                    });
                 }
-                let rest = bdd.not(covered);
-                if !rest.is_false() {
+                if !cell.unhandled.is_false() {
                     regions.push(Region {
                         state: s,
                         events,
-                        guards: to_cubes(&bdd, rest),
+                        guards: to_cubes(cell.unhandled),
                         next: s,
                         mealy: Vec::new(),
                         actions: Vec::new(),
@@ -263,10 +264,11 @@ impl LogicSpec {
                 }
             }
         }
-        let moore: Vec<Vec<usize>> = m
-            .states
-            .iter()
-            .map(|st| st.moore.iter().map(|o| o.index()).collect())
+        let moore: Vec<Vec<usize>> = (0..n_states)
+            .map(|s| {
+                let id = lowered.moore(crate::model::StateId::from_index(s));
+                lowered.outputs(id).iter().map(|o| o.index()).collect()
+            })
             .collect();
         let mut mealy_output = vec![false; m.outputs.len()];
         for r in &regions {
@@ -299,6 +301,12 @@ impl LogicSpec {
             regions,
             adjacency,
         })
+    }
+
+    /// The regions the machine is cut into: per state, per cell of the lowered form, its
+    /// choices and then its unhandled part.
+    pub fn regions(&self) -> &[Region] {
+        &self.regions
     }
 
     /// Whether output `o` depends on the event bus and inputs (some rule raises it).

@@ -9,7 +9,10 @@
 //! the bit (set wins). Reset is synchronous and active high, to the start state's code.
 //! Outputs and action pulses are combinational (Moore part of the current state, Mealy
 //! part and actions of the rule the current cycle takes). Each clock cycle is one step:
-//! one event on `ev` (or one tick of a clocked machine).
+//! one event on `ev` (or one tick of a clocked machine). Rule choice comes from the
+//! lowered form ([`crate::model::lower`]): the equations are cut from its firing regions
+//! ([`LogicSpec`]), and the testbench's expected values are the interpreter's, which
+//! steps through it.
 //!
 //! Names: the ports `clk`, `rst`, `ev`, `state` are fixed; inputs, outputs and actions
 //! keep their spec names; a name that is a Verilog (or SystemVerilog) keyword becomes an

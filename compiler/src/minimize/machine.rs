@@ -1,8 +1,11 @@
-//! Minimizing a resolved [`Machine`]: its state equivalence and its quotient as a spec.
+//! Minimizing a resolved [`Machine`]: its state equivalence and its quotient machine.
+//!
+//! Rule choice comes from the machine's lowered form ([`crate::model::lower`]): the
+//! encoding steps through it, and the quotient is built from its choices.
 //!
 //! **Method.** The machine is encoded as a complete DFA over the atoms of its guard
 //! algebra ([`super::encode`]: symbols are (event class, guard atom) pairs, each
-//! (state, symbol) stepped once through the reference interpreter). The initial
+//! (state, symbol) resolved once through the lowered form). The initial
 //! partition gives two states the same label only when they have the same Moore
 //! outputs and the same observation (rejected or not, Mealy outputs, Moore outputs of
 //! the next state, the whole action sequence including leave and enter actions) on
@@ -13,28 +16,39 @@
 //! gives the same observations from both (see [`super::encode`] for why that is the
 //! machine's behaviour).
 //!
-//! **The quotient as a spec** ([`minimized_ast`]). Groups are flattened: each class
-//! becomes a state named after its first member in declaration order, with that
-//! member's full Moore set. For each cell of the representative, its rules are written
-//! with their original guards (same order, so first-match semantics are kept), targets
-//! mapped to class names, and on each rule's `do` list the FULL action sequence of the
-//! transition from the representative (leave and enter actions included); the printed
-//! machine has no `enter`/`leave` at all, so an action that merging would move between
-//! a state and its incoming rules is attributed to exactly the transitions that ran it.
-//! `=> stay` stays `stay`; any other target (including another member of the same
-//! class) becomes an explicit transition to the class's state, which runs nothing
-//! beyond the listed actions. The rest-event class becomes a `_` rule. The policy,
-//! attributes and properties are kept (state names mapped to classes; `in Group`
-//! becomes the disjunction of `in` the classes of its reachable members; a `recover`
-//! whose target is unreachable is dropped, since no class stands for it).
+//! **The quotient machine** ([`quotient_machine`]), built directly as a [`Machine`] and
+//! lowered like any resolved one. Groups are flattened: each class becomes a state
+//! named after its first member in declaration order, with that member's full Moore
+//! set. For each cell of the representative, its choices become rules of that state,
+//! in choice order, with their original guards (so the lowering of the quotient finds
+//! the same firing regions), targets mapped to classes, and as actions the choice's
+//! FULL operation sequence (leave and enter actions included); the quotient has no
+//! `enter`/`leave` at all, so an action that merging would move between a state and
+//! its incoming rules is attributed to exactly the transitions that ran it. `=> stay`
+//! stays `stay`; any other target (including another member of the same class)
+//! becomes an explicit transition to the class's state, which runs nothing beyond the
+//! listed actions. The rest-event class becomes `_` rules (every rule of a clocked
+//! machine). An event that the representative names but where no rule can fire keeps
+//! a rule `E if false => stay;` when the state has `_` rules, so that it stays
+//! unhandled instead of falling to them. The policy, attributes and properties are kept
+//! (state names mapped to classes; `in Group` becomes the disjunction of `in` the
+//! classes of its reachable members; a `recover` whose target is unreachable is
+//! dropped, since no class stands for it).
 //!
-//! **Cost.** Encoding O(states x symbols) interpreter steps, refinement O(k n log n),
-//! printing linear in the representatives' rules.
+//! **The quotient as a spec** ([`quotient_ast`], [`minimized_spec`]): the quotient
+//! machine printed as a syntax tree, which resolves to the same machine again.
+//!
+//! **Cost.** Encoding O(states x symbols) region evaluations, refinement O(k n log n),
+//! building and printing linear in the representatives' choices; the quotient's
+//! lowering repeats the BDD operations of the representatives' cells.
 
 use super::encode::{encode, Alphabet, Interner, Side};
 use super::partition::{hopcroft, restrict_to_reachable};
-use crate::model::graph::CellEvents;
-use crate::model::{Guard, Machine, Prop, Property, StateId, Target};
+use crate::model::lower::{CellEvents, Op};
+use crate::model::{
+    Bdd, Guard, Item, Machine, Prop, Property, Rule, RuleId, Scope, ScopeRules, State, StateId,
+    Target, Trigger,
+};
 use crate::syntax::ast::{
     self, Attr, Body, Decl, DeclKind, DispatchStyle, DocIdent, Expr, Ident, MachineAst, Member,
     Policy, RuleAst, StateAst,
@@ -120,7 +134,7 @@ fn ident(name: &str) -> Ident {
     }
 }
 
-fn doc_list(items: &[crate::model::Item]) -> Vec<DocIdent> {
+fn doc_list(items: &[Item]) -> Vec<DocIdent> {
     items
         .iter()
         .map(|it| DocIdent {
@@ -156,25 +170,43 @@ pub fn guard_expr(m: &Machine, g: &Guard) -> Expr {
     }
 }
 
-fn disjunction(mut terms: Vec<Expr>) -> Expr {
-    let Some(first) = (!terms.is_empty()).then(|| terms.remove(0)) else {
-        return Expr::Const(false, Span::call_site());
-    };
-    terms
-        .into_iter()
-        .fold(first, |acc, t| Expr::Or(Box::new(acc), Box::new(t)))
-}
-
-fn prop_expr(m: &Machine, min: &Minimization, p: &Prop) -> Expr {
+/// A property back as an expression over the machine's names (`in G` for a group).
+fn prop_expr(m: &Machine, p: &Prop) -> Expr {
     let sp = Span::call_site();
-    let class_name = |c: u32| ident(m.state_name(min.representative(c)));
     match p {
         Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
+        Prop::InGroup(g) => Expr::In(ident(&m.groups[g.index()].name)),
+        Prop::Const(b) => Expr::Const(*b, sp),
+        Prop::Not(a) => Expr::Not(Box::new(prop_expr(m, a)), sp),
+        Prop::And(a, b) => Expr::And(Box::new(prop_expr(m, a)), Box::new(prop_expr(m, b))),
+        Prop::Or(a, b) => Expr::Or(Box::new(prop_expr(m, a)), Box::new(prop_expr(m, b))),
+    }
+}
+
+/// The disjunction of `terms` as a balanced tree (depth log2 n, so a group of many
+/// states does not make every later pass recurse deeply); `false` when empty.
+fn any_of(mut terms: Vec<Prop>) -> Prop {
+    match terms.len() {
+        0 => Prop::Const(false),
+        1 => terms.remove(0),
+        n => {
+            let right = terms.split_off(n.div_ceil(2));
+            Prop::Or(Box::new(any_of(terms)), Box::new(any_of(right)))
+        }
+    }
+}
+
+/// A property of `m` over the classes of `min`: `in S` becomes `in` S's class (`false`
+/// when S is unreachable), `in G` the disjunction over the classes of G's members.
+fn class_prop(m: &Machine, min: &Minimization, p: &Prop) -> Prop {
+    let go = |x: &Prop| Box::new(class_prop(m, min, x));
+    match p {
         Prop::InState(s) => match min.class_of[s.index()] {
-            Some(c) => Expr::In(class_name(c)),
-            None => Expr::Const(false, sp),
+            Some(c) => Prop::InState(StateId(c)),
+            None => Prop::Const(false),
         },
         Prop::InGroup(g) => {
             let mut cs: Vec<u32> = m.groups[g.index()]
@@ -184,79 +216,151 @@ fn prop_expr(m: &Machine, min: &Minimization, p: &Prop) -> Expr {
                 .collect();
             cs.sort_unstable();
             cs.dedup();
-            disjunction(cs.into_iter().map(|c| Expr::In(class_name(c))).collect())
+            any_of(cs.into_iter().map(|c| Prop::InState(StateId(c))).collect())
         }
-        Prop::Const(b) => Expr::Const(*b, sp),
-        Prop::Not(a) => Expr::Not(Box::new(prop_expr(m, min, a)), sp),
-        Prop::And(a, b) => Expr::And(
-            Box::new(prop_expr(m, min, a)),
-            Box::new(prop_expr(m, min, b)),
-        ),
-        Prop::Or(a, b) => Expr::Or(
-            Box::new(prop_expr(m, min, a)),
-            Box::new(prop_expr(m, min, b)),
+        Prop::Not(a) => Prop::Not(go(a)),
+        Prop::And(a, b) => Prop::And(go(a), go(b)),
+        Prop::Or(a, b) => Prop::Or(go(a), go(b)),
+        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Const(_) => p.clone(),
+    }
+}
+
+/// The items of a list with the spans of generated code.
+fn plain_items(items: &[Item]) -> Vec<Item> {
+    items
+        .iter()
+        .map(|it| Item {
+            name: it.name.clone(),
+            span: Span::call_site(),
+            doc: it.doc.clone(),
+        })
+        .collect()
+}
+
+/// One minimization of a machine: its state equivalence and its quotient machine.
+#[derive(Clone, Debug)]
+pub struct Quotient {
+    /// The classes of equivalent states.
+    pub minimization: Minimization,
+    /// The quotient machine ([`quotient_machine`]), lowered.
+    pub machine: Machine,
+}
+
+/// Minimizes `m` once and builds its quotient: what `#[minimize]` generates from (the
+/// classes name the aliases, the machine the code).
+///
+/// # Panics
+///
+/// Only on an internal error (see [`quotient_machine`]).
+pub fn quotient(m: &Machine) -> Quotient {
+    let minimization = minimize(m);
+    let machine = quotient_machine(m, &minimization);
+    Quotient {
+        minimization,
+        machine,
+    }
+}
+
+/// The quotient of `m` by the classes of `min`, as a lowered [`Machine`] (see the module
+/// doc for its shape). Its states are the classes, named and numbered after their first
+/// members in declaration order. `min` may be any partition of reachable states into
+/// classes (each class behaves as its first member).
+///
+/// # Panics
+///
+/// Only on an internal error: the quotient's firing regions are the representatives'
+/// own, already within the decision-diagram limit when `m` was lowered.
+pub fn quotient_machine(m: &Machine, min: &Minimization) -> Machine {
+    match build_quotient(m, min).lowered_or_error() {
+        Ok(q) => q,
+        Err(errors) => panic!(
+            "internal error: the minimized `{}` does not lower: {}",
+            m.name,
+            errors
+                .iter()
+                .map(|d| d.message.as_str())
+                .collect::<Vec<_>>()
+                .join("; ")
         ),
     }
 }
 
-/// The quotient of `m` by `min` as a syntax tree (see the module doc for the shape).
-pub fn minimized_ast(m: &Machine, min: &Minimization) -> MachineAst {
-    let mut attrs = Vec::new();
-    if m.dispatch == DispatchStyle::Match {
-        attrs.push(Attr::Dispatch(DispatchStyle::Match, Span::call_site()));
-    }
-    if m.minimize {
-        attrs.push(Attr::Minimize(Span::call_site()));
-    }
-    attrs.extend(lint_attrs(&m.lints));
-
-    let class_name = |c: u32| m.state_name(min.representative(c));
-    let mut decls = Vec::new();
-    if !m.clocked {
-        decls.push(decl(DeclKind::Events(doc_list(&m.events))));
-    }
-    if !m.inputs.is_empty() {
-        decls.push(decl(DeclKind::Inputs(doc_list(&m.inputs))));
-    }
-    if !m.outputs.is_empty() {
-        decls.push(decl(DeclKind::Outputs(doc_list(&m.outputs))));
-    }
-    if !m.actions.is_empty() {
-        decls.push(decl(DeclKind::Actions(doc_list(&m.actions))));
-    }
-    // The start state is always reachable, so it has a class.
-    let start_class = min.class_of[m.start.index()].unwrap_or(0);
-    decls.push(decl(DeclKind::Start(ident(class_name(start_class)))));
-    if m.policy != Policy::Complete {
-        decls.push(decl(DeclKind::Unhandled(m.policy)));
-    }
-    for p in &m.properties {
-        match p {
-            Property::Never { prop, .. } => {
-                decls.push(decl(DeclKind::Never(prop_expr(m, min, prop))));
+/// The quotient machine before lowering.
+fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
+    let lowered = &m.lowered;
+    let sp = Span::call_site();
+    let class_state = |s: StateId| min.class_of[s.index()].map(StateId);
+    let mut states = Vec::with_capacity(min.classes.len());
+    let mut rules: Vec<Rule> = Vec::new();
+    for (c, class) in min.classes.iter().enumerate() {
+        let rep = class[0];
+        let me = Scope::State(StateId::from_index(c));
+        let st = &m.states[rep.index()];
+        let cells = lowered.cells_of(rep);
+        let wildcard_fires = cells
+            .iter()
+            .any(|cell| cell.events == CellEvents::Rest && !cell.choices.is_empty());
+        let mut own = ScopeRules::default();
+        for cell in cells {
+            let trigger = match cell.events {
+                _ if m.clocked => Trigger::Tick,
+                CellEvents::One(e) => Trigger::Events(vec![e]),
+                CellEvents::Rest => Trigger::Wildcard,
+            };
+            let mut ids = Vec::with_capacity(cell.choices.len());
+            let mut add = |rule: Rule| {
+                ids.push(RuleId::from_index(rules.len()));
+                rules.push(rule);
+            };
+            if cell.choices.is_empty() && cell.events != CellEvents::Rest && wildcard_fires {
+                // Named, yet nothing fires: keep it named so it does not fall to `_`.
+                add(Rule {
+                    span: sp,
+                    guard_span: sp,
+                    scope: me,
+                    trigger: trigger.clone(),
+                    guard_expr: Some(Guard::Const(false)),
+                    guard: Bdd::FALSE,
+                    target: Target::Stay,
+                    mealy: Vec::new(),
+                    actions: Vec::new(),
+                });
             }
-            Property::Recover { target, except, .. } => {
-                let Some(tc) = min.class_of[target.index()] else {
-                    continue;
+            for choice in &cell.choices {
+                let rule = &m.rules[choice.rule.index()];
+                let target = match (choice.moves, class_state(choice.target)) {
+                    (true, Some(t)) => Target::To(t),
+                    // A target without a class is unreachable, so this choice cannot fire
+                    // from a reachable state; any target keeps the machine valid.
+                    (true, None) | (false, _) => Target::Stay,
                 };
-                let mut ex: Vec<u32> = except
+                let actions = lowered
+                    .seq(choice.ops)
                     .iter()
-                    .filter_map(|s| min.class_of[s.index()])
+                    .map(|op| match op {
+                        Op::Action(a) => *a,
+                    })
                     .collect();
-                ex.sort_unstable();
-                ex.dedup();
-                decls.push(decl(DeclKind::Recover {
-                    target: ident(class_name(tc)),
-                    except: ex.into_iter().map(|c| ident(class_name(c))).collect(),
-                }));
+                add(Rule {
+                    span: sp,
+                    guard_span: sp,
+                    scope: me,
+                    trigger: trigger.clone(),
+                    guard_expr: rule.guard_expr.clone(),
+                    guard: rule.guard,
+                    target,
+                    mealy: lowered.outputs(choice.mealy).to_vec(),
+                    actions,
+                });
+            }
+            if ids.is_empty() {
+                continue;
+            }
+            match cell.events {
+                CellEvents::One(e) if !m.clocked => own.named.push((e, ids)),
+                CellEvents::One(_) | CellEvents::Rest => own.wildcard.extend(ids),
             }
         }
-    }
-
-    let mut members = Vec::new();
-    for class in &min.classes {
-        let rep = class[0];
-        let st = &m.states[rep.index()];
         let mut doc = st.doc.clone();
         if class.len() > 1 {
             let others: Vec<String> = class[1..]
@@ -271,107 +375,225 @@ pub fn minimized_ast(m: &Machine, min: &Minimization) -> MachineAst {
                 others.join(", ")
             ));
         }
-        let mut state_attrs = Vec::new();
+        // Lint levels: the groups' outermost first, then the state's own, so that the
+        // innermost still wins.
+        let mut lints = Vec::new();
         for g in m.ancestors(rep).into_iter().rev() {
-            state_attrs.extend(lint_attrs(&m.groups[g.index()].lints));
+            lints.extend(m.groups[g.index()].lints.iter().cloned());
         }
-        state_attrs.extend(lint_attrs(&st.lints));
-        let mut body = Vec::new();
-        for cell in m.cells(rep) {
-            let Some((_, rules)) = cell.rules else {
-                continue;
-            };
-            let trigger = if m.clocked {
-                None
-            } else {
-                Some(match cell.events {
-                    CellEvents::One(e) => ast::Trigger::Events(vec![ident(m.event_name(e))]),
-                    CellEvents::Rest => ast::Trigger::Wildcard(Span::call_site()),
-                })
-            };
-            for &r in rules {
-                let rule = &m.rules[r.index()];
-                let target = match rule.target {
-                    Target::Stay => ast::Target::Stay(Span::call_site()),
-                    // A target without a class is unreachable, so this rule cannot fire
-                    // from a reachable state; any target keeps the spec valid.
-                    Target::To(t) => match min.class_of[t.index()] {
-                        Some(tc) => ast::Target::State(ident(class_name(tc))),
-                        None => ast::Target::Stay(Span::call_site()),
-                    },
+        lints.extend(st.lints.iter().cloned());
+        let moore = lowered.outputs(lowered.moore(rep)).to_vec();
+        states.push(State {
+            name: st.name.clone(),
+            span: sp,
+            doc,
+            terminal: st.terminal,
+            parent: None,
+            emit: moore.clone(),
+            moore,
+            enter: Vec::new(),
+            leave: Vec::new(),
+            rules: own,
+            lints,
+        });
+    }
+    let mut q = Machine {
+        name: m.name.clone(),
+        span: sp,
+        doc: m.doc.clone(),
+        vis: m.vis,
+        clocked: m.clocked,
+        events: plain_items(&m.events),
+        inputs: plain_items(&m.inputs),
+        outputs: plain_items(&m.outputs),
+        actions: plain_items(&m.actions),
+        states,
+        groups: Vec::new(),
+        rules,
+        // The start state is always reachable, so it has a class.
+        start: class_state(m.start).unwrap_or(StateId(0)),
+        policy: m.policy,
+        policy_span: (m.policy != Policy::Complete).then_some(sp),
+        dispatch: m.dispatch,
+        minimize: m.minimize,
+        properties: Vec::new(),
+        lints: m.lints.clone(),
+        bdd: m.bdd.clone(),
+        lowered: Default::default(),
+    };
+    for p in &m.properties {
+        match p {
+            Property::Never { prop, .. } => {
+                let prop = class_prop(m, min, prop);
+                let text = format!(
+                    "never {}",
+                    crate::syntax::print::print_expr(&prop_expr(&q, &prop))
+                );
+                q.properties.push(Property::Never {
+                    prop,
+                    span: sp,
+                    text,
+                });
+            }
+            Property::Recover { target, except, .. } => {
+                let Some(target) = class_state(*target) else {
+                    continue;
                 };
-                let actions = m
-                    .transition_actions(rep, r)
-                    .into_iter()
-                    .map(|a| ident(&m.actions[a.index()].name))
-                    .collect();
-                body.push(Body::Rule(RuleAst {
-                    trigger: trigger.clone(),
-                    guard: rule.guard_expr.as_ref().map(|g| guard_expr(m, g)),
+                let mut except: Vec<StateId> =
+                    except.iter().filter_map(|s| class_state(*s)).collect();
+                except.sort_unstable();
+                except.dedup();
+                let mut text = format!("recover to {}", q.state_name(target));
+                if !except.is_empty() {
+                    let names: Vec<&str> = except.iter().map(|s| q.state_name(*s)).collect();
+                    text = format!("{text} except {}", names.join(", "));
+                }
+                q.properties.push(Property::Recover {
                     target,
-                    emit: rule
-                        .mealy
-                        .iter()
-                        .map(|o| ident(&m.outputs[o.index()].name))
-                        .collect(),
-                    actions,
-                    span: Span::call_site(),
+                    except,
+                    span: sp,
+                    text,
+                });
+            }
+        }
+    }
+    q
+}
+
+/// A machine without groups, such as a [`quotient_machine`], as a syntax tree that
+/// resolves to the same machine: every state with its Moore outputs, `enter`/`leave`
+/// actions and own rules (each with its trigger, guard as written, target, Mealy
+/// outputs and actions), in rule order. Rules of groups are not printed.
+pub fn quotient_ast(q: &Machine) -> MachineAst {
+    let mut attrs = Vec::new();
+    if q.dispatch == DispatchStyle::Match {
+        attrs.push(Attr::Dispatch(DispatchStyle::Match, Span::call_site()));
+    }
+    if q.minimize {
+        attrs.push(Attr::Minimize(Span::call_site()));
+    }
+    attrs.extend(lint_attrs(&q.lints));
+
+    let mut decls = Vec::new();
+    if !q.clocked {
+        decls.push(decl(DeclKind::Events(doc_list(&q.events))));
+    }
+    if !q.inputs.is_empty() {
+        decls.push(decl(DeclKind::Inputs(doc_list(&q.inputs))));
+    }
+    if !q.outputs.is_empty() {
+        decls.push(decl(DeclKind::Outputs(doc_list(&q.outputs))));
+    }
+    if !q.actions.is_empty() {
+        decls.push(decl(DeclKind::Actions(doc_list(&q.actions))));
+    }
+    decls.push(decl(DeclKind::Start(ident(q.state_name(q.start)))));
+    if q.policy != Policy::Complete {
+        decls.push(decl(DeclKind::Unhandled(q.policy)));
+    }
+    for p in &q.properties {
+        match p {
+            Property::Never { prop, .. } => {
+                decls.push(decl(DeclKind::Never(prop_expr(q, prop))));
+            }
+            Property::Recover { target, except, .. } => {
+                decls.push(decl(DeclKind::Recover {
+                    target: ident(q.state_name(*target)),
+                    except: except.iter().map(|s| ident(q.state_name(*s))).collect(),
                 }));
             }
         }
-        members.push(Member::State(StateAst {
-            attrs: state_attrs,
-            doc,
-            terminal: st.terminal,
-            name: ident(&st.name),
-            emit: st
-                .moore
-                .iter()
-                .map(|o| ident(&m.outputs[o.index()].name))
-                .collect(),
-            body,
+    }
+
+    let names = |list: &[crate::model::OutputId]| -> Vec<Ident> {
+        list.iter()
+            .map(|o| ident(&q.outputs[o.index()].name))
+            .collect()
+    };
+    let action_names = |list: &[crate::model::ActionId]| -> Vec<Ident> {
+        list.iter()
+            .map(|a| ident(&q.actions[a.index()].name))
+            .collect()
+    };
+    let mut bodies: Vec<Vec<Body>> = vec![Vec::new(); q.states.len()];
+    for (si, st) in q.states.iter().enumerate() {
+        if !st.enter.is_empty() {
+            bodies[si].push(Body::Enter(action_names(&st.enter), Span::call_site()));
+        }
+        if !st.leave.is_empty() {
+            bodies[si].push(Body::Leave(action_names(&st.leave), Span::call_site()));
+        }
+    }
+    for rule in &q.rules {
+        let Scope::State(s) = rule.scope else {
+            continue;
+        };
+        let trigger = match &rule.trigger {
+            Trigger::Tick => None,
+            Trigger::Wildcard => Some(ast::Trigger::Wildcard(Span::call_site())),
+            Trigger::Events(evs) => Some(ast::Trigger::Events(
+                evs.iter().map(|e| ident(q.event_name(*e))).collect(),
+            )),
+        };
+        let target = match rule.target {
+            Target::Stay => ast::Target::Stay(Span::call_site()),
+            Target::To(t) => ast::Target::State(ident(q.state_name(t))),
+        };
+        bodies[s.index()].push(Body::Rule(RuleAst {
+            trigger,
+            guard: rule.guard_expr.as_ref().map(|g| guard_expr(q, g)),
+            target,
+            emit: names(&rule.mealy),
+            actions: action_names(&rule.actions),
+            span: Span::call_site(),
         }));
     }
+    let members = q
+        .states
+        .iter()
+        .zip(bodies)
+        .map(|(st, body)| {
+            Member::State(StateAst {
+                attrs: lint_attrs(&st.lints),
+                doc: st.doc.clone(),
+                terminal: st.terminal,
+                name: ident(&st.name),
+                emit: names(&st.emit),
+                body,
+            })
+        })
+        .collect();
 
     MachineAst {
         attrs,
-        doc: m.doc.clone(),
-        vis: m.vis,
-        name: ident(&m.name),
+        doc: q.doc.clone(),
+        vis: q.vis,
+        name: ident(&q.name),
         decls,
         members,
     }
 }
 
+/// The quotient of `m` by `min` as a syntax tree: [`quotient_ast`] of
+/// [`quotient_machine`].
+pub fn minimized_ast(m: &Machine, min: &Minimization) -> MachineAst {
+    quotient_ast(&quotient_machine(m, min))
+}
+
 /// The minimized machine as spec text that parses again (`minimize --format spec`).
 pub fn minimized_spec(m: &Machine) -> String {
-    let min = minimize(m);
     let mut out = String::new();
-    crate::syntax::print::print_machine(&mut out, &minimized_ast(m, &min));
+    crate::syntax::print::print_machine(&mut out, &quotient_ast(&quotient(m).machine));
     out
 }
 
-/// The minimized machine, resolved from exactly the syntax tree that
-/// `minimize --format spec` prints. Its states are the classes, named and numbered after
-/// their first members in declaration order. This is what `#[minimize]` generates from.
+/// The minimized machine ([`quotient`]'s machine): its states are the classes, named
+/// and numbered after their first members in declaration order. `minimize --format
+/// spec` prints it.
 ///
 /// # Panics
 ///
-/// Only on an internal error: the tree is built from a resolved machine, so every name
-/// in it resolves.
+/// Only on an internal error (see [`quotient_machine`]).
 pub fn minimized_machine(m: &Machine) -> Machine {
-    let min = minimize(m);
-    let ast = minimized_ast(m, &min);
-    match crate::model::resolve(&ast) {
-        Ok(q) => q,
-        Err(errors) => panic!(
-            "internal error: the minimized `{}` does not resolve: {}",
-            m.name,
-            errors
-                .iter()
-                .map(|d| d.message.as_str())
-                .collect::<Vec<_>>()
-                .join("; ")
-        ),
-    }
+    quotient(m).machine
 }

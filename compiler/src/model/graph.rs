@@ -1,110 +1,11 @@
-//! The machine as a graph: its (state, event-class) cells, successor states,
-//! reachability and strongly connected components.
+//! Graph algorithms over successor lists: reachability and strongly connected
+//! components.
 //!
-//! Events are compressed per state into classes before any work: each event some
-//! scope of the state names is its own class, and all other events form one "rest"
-//! class that resolves to the first `_` rules on the scope chain. Work is therefore
-//! linear in the spec's size, not in states x events.
+//! They know nothing about rules: the successor lists come from the lowered form
+//! ([`super::lower::Lowered::successor_lists`], where rule choice is decided), so a
+//! state's successors are the targets of the choices that can fire in it.
 
-use super::{EventId, Machine, RuleId, Scope, StateId};
-
-/// The events of one cell.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum CellEvents {
-    /// One event that some scope of the state names.
-    One(EventId),
-    /// Every event no scope of the state names ([`Machine::rest_events`]).
-    Rest,
-}
-
-/// A class of events that resolve alike in one state, and the rules they resolve to.
-#[derive(Clone, Debug)]
-pub struct Cell<'a> {
-    /// Which events.
-    pub events: CellEvents,
-    /// The scope used and its rules for these events; `None` when no scope has any.
-    pub rules: Option<(Scope, &'a [RuleId])>,
-}
-
-impl Machine {
-    /// The cells of a state: one per named event, then the rest class when some event
-    /// falls in it.
-    pub fn cells(&self, s: StateId) -> Vec<Cell<'_>> {
-        let named = self.named_events(s);
-        let mut out: Vec<Cell<'_>> = named
-            .iter()
-            .map(|&e| Cell {
-                events: CellEvents::One(e),
-                rules: self.rules_for(s, e),
-            })
-            .collect();
-        if named.len() < self.events.len() {
-            out.push(Cell {
-                events: CellEvents::Rest,
-                rules: self.rest_rules(s),
-            });
-        }
-        out
-    }
-
-    /// The events of the rest class of a state, ascending.
-    pub fn rest_events(&self, s: StateId) -> Vec<EventId> {
-        let named = self.named_events(s);
-        (0..self.events.len())
-            .map(EventId::from_index)
-            .filter(|e| named.binary_search(e).is_err())
-            .collect()
-    }
-
-    /// The events of a cell, ascending.
-    pub fn cell_events(&self, s: StateId, events: &CellEvents) -> Vec<EventId> {
-        match events {
-            CellEvents::One(e) => vec![*e],
-            CellEvents::Rest => self.rest_events(s),
-        }
-    }
-
-    /// The rules that can fire in state `s` (for some event and valuation), each once.
-    pub fn live_rules(&self, s: StateId) -> Vec<RuleId> {
-        let mut out = Vec::new();
-        for cell in self.cells(s) {
-            if let Some((_, rules)) = cell.rules {
-                for &r in rules {
-                    if !self.rules[r.index()].guard.is_false() && !out.contains(&r) {
-                        out.push(r);
-                    }
-                }
-            }
-        }
-        out
-    }
-
-    /// States one step can lead to from `s` (guards treated as satisfiable unless they
-    /// are unsatisfiable), ascending, without duplicates; `s` itself included when a
-    /// rule can stay or loop.
-    pub fn successors(&self, s: StateId) -> Vec<StateId> {
-        let mut out: Vec<StateId> = self
-            .live_rules(s)
-            .into_iter()
-            .map(|r| self.target_of(s, r))
-            .collect();
-        out.sort_unstable();
-        out.dedup();
-        out
-    }
-
-    /// The successor lists of every state, indexed by state.
-    pub fn successor_lists(&self) -> Vec<Vec<StateId>> {
-        (0..self.states.len())
-            .map(|i| self.successors(StateId::from_index(i)))
-            .collect()
-    }
-
-    /// Which states a path from the start reaches.
-    pub fn reachable_states(&self) -> Vec<bool> {
-        reachable_from(&self.successor_lists(), &[self.start])
-    }
-}
+use super::StateId;
 
 /// Breadth-first reachability over successor lists from a set of roots.
 pub fn reachable_from(succ: &[Vec<StateId>], roots: &[StateId]) -> Vec<bool> {

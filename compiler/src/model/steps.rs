@@ -1,34 +1,50 @@
-//! Steps of a machine: every (state, event class, guard atom) triple, as one flat table.
+//! Steps of a machine: every (state, event class, firing region) of the lowered form, as
+//! one flat table.
 //!
-//! For each (state, event-class) cell ([`Machine::cells`]) the input space is split with
-//! BDDs (Bryant 1986) into the region where each rule of the scope used fires (rule
-//! `i`'s guard minus the guards of rules `0..i`: the same first-match order as the
-//! reference interpreter) and the uncovered remainder (an ignored or rejected step).
-//! Every valuation in one region makes the same step, so one concrete valuation
-//! ([`valuation`]: `sat_one`, unmentioned inputs false) stands for it. No `2^inputs`
-//! enumeration happens. Cost: linear in the cells plus their rules, times the BDD
-//! operations on those rules' guards. Shared by the property checker and the tour
-//! generator.
+//! Rule choice comes from [`super::lower`]: each cell of the lowered form already splits
+//! the input space into the exact, disjoint regions where each of its choices fires,
+//! plus the `unhandled` remainder (an ignored or rejected step). This table only lists
+//! them, one [`Step`] per non-empty region, grouped by source state, so that searches
+//! over the machine (the property checker, the tour) can name a step by a `u32` and
+//! keep parent pointers in flat tables. No BDD operation happens here. Every valuation
+//! in one region makes the same step, so one concrete valuation ([`valuation`]:
+//! `sat_one`, unmentioned inputs false) stands for it; no `2^inputs` enumeration
+//! happens. Cost: linear in the cells plus their choices.
 
-use super::graph::CellEvents;
+use super::lower::{CellId, Choice};
 use super::{Bdd, BddStore, EventId, Machine, RuleId, StateId};
 
-/// One step out of a state: an event, the input region (atom) that makes it, the rule
-/// that fires (`None`: ignored or rejected) and the state after it.
+/// One step out of a state: a cell of the lowered form and one of its regions.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Step {
-    /// A representative event of the step's event class.
+    /// The cell (state and event class) the step is in.
+    pub cell: CellId,
+    /// The index of the choice that fires in the cell's `choices`; `None` for the
+    /// cell's unhandled region (ignored or rejected).
+    pub choice: Option<u32>,
+    /// A representative event of the cell's event class.
     pub event: EventId,
-    /// The inputs that make this step (disjoint from the other atoms of its cell).
+    /// The inputs that make this step (disjoint from the other steps of its cell).
     pub atom: Bdd,
-    /// The rule that fires, if any.
-    pub rule: Option<RuleId>,
     /// The state after the step.
     pub to: StateId,
 }
 
+impl Step {
+    /// The choice that fires in this step (`None`: ignored or rejected).
+    pub fn fired<'m>(&self, m: &'m Machine) -> Option<&'m Choice> {
+        let cell = m.lowered.cell(self.cell);
+        self.choice.map(|i| &cell.choices[i as usize])
+    }
+
+    /// The rule that fires in this step, if any.
+    pub fn rule(&self, m: &Machine) -> Option<RuleId> {
+        self.fired(m).map(|c| c.rule)
+    }
+}
+
 /// Every step of every state, as one flat table (`steps[start[s]..start[s + 1]]` are
-/// the steps out of state `s`).
+/// the steps out of state `s`, in the lowered form's cell and choice order).
 #[derive(Clone, Debug)]
 pub struct StepTable {
     /// Offsets into `steps`, one per state plus one.
@@ -38,44 +54,32 @@ pub struct StepTable {
 }
 
 impl StepTable {
-    /// Builds the table; new BDD nodes (atoms) go into `bdd`, a copy of the machine's
-    /// store.
-    pub fn build(m: &Machine, bdd: &mut BddStore) -> StepTable {
+    /// Lists the regions of the machine's lowered form.
+    pub fn build(m: &Machine) -> StepTable {
+        let lowered = &m.lowered;
         let mut start = Vec::with_capacity(m.states.len() + 1);
-        let mut steps = Vec::new();
+        let mut steps = Vec::with_capacity(lowered.cells().len());
         for si in 0..m.states.len() {
             start.push(steps.len() as u32);
             let s = StateId::from_index(si);
-            let mut rest_event = None;
-            for cell in m.cells(s) {
-                let event = match cell.events {
-                    CellEvents::One(e) => e,
-                    CellEvents::Rest => *rest_event.get_or_insert_with(|| m.rest_events(s)[0]),
-                };
-                let rules: &[RuleId] = cell.rules.map(|(_, r)| r).unwrap_or(&[]);
-                // What no earlier rule takes, kept as it shrinks (complementing the
-                // growing union for every rule would cost as much as the union each time).
-                let mut untaken = Bdd::TRUE;
-                for &r in rules {
-                    let guard = m.rules[r.index()].guard;
-                    let atom = bdd.and(guard, untaken);
-                    if !atom.is_false() {
-                        let not_guard = bdd.not(guard);
-                        untaken = bdd.and(untaken, not_guard);
-                        steps.push(Step {
-                            event,
-                            atom,
-                            rule: Some(r),
-                            to: m.target_of(s, r),
-                        });
-                    }
-                }
-                let rest = untaken;
-                if !rest.is_false() {
+            for id in lowered.cell_range(s) {
+                let cell = &lowered.cells()[id];
+                let cell_id = CellId(id as u32);
+                for (k, choice) in cell.choices.iter().enumerate() {
                     steps.push(Step {
-                        event,
-                        atom: rest,
-                        rule: None,
+                        cell: cell_id,
+                        choice: Some(k as u32),
+                        event: cell.event,
+                        atom: choice.region,
+                        to: choice.target,
+                    });
+                }
+                if !cell.unhandled.is_false() {
+                    steps.push(Step {
+                        cell: cell_id,
+                        choice: None,
+                        event: cell.event,
+                        atom: cell.unhandled,
                         to: s,
                     });
                 }

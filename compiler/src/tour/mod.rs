@@ -1,13 +1,14 @@
 //! Transition tours: an input sequence from the start state that fires every reachable
 //! transition at least once, as short as practical.
 //!
-//! **Transitions.** A transition is a (state, event, rule) triple: in a reachable state,
-//! an event on which the rule can fire (its first-match region, from
-//! [`crate::model::steps::StepTable`], is satisfiable). A `_` rule or an `A | B` trigger
-//! gives one transition per event it covers. Ignored and rejected steps are no
-//! transitions (they fire no rule). Each transition is driven by one concrete valuation
-//! of its region (`sat_one`, other inputs false); the graph has the reachable states as
-//! nodes and the transitions as edges.
+//! **Transitions.** Rule choice comes from the machine's lowered form
+//! ([`crate::model::lower`]). A transition is a (state, event, rule) triple: in a
+//! reachable state, an event of a cell in which the rule is a choice (its firing region
+//! is never empty; the steps are listed by [`crate::model::steps::StepTable`]). A `_`
+//! rule or an `A | B` trigger gives one transition per event of the cell it fires in.
+//! Ignored and rejected steps are no transitions (they fire no rule). Each transition is
+//! driven by one concrete valuation of its region (`sat_one`, other inputs false); the
+//! graph has the reachable states as nodes and the transitions as edges.
 //!
 //! **Strongly connected machines: a Chinese-postman tour** (Edmonds and Johnson,
 //! "Matching, Euler tours and the Chinese postman", 1973, for the directed case). Every
@@ -31,6 +32,7 @@
 //! taken from the construction.
 
 use crate::model::graph::strongly_connected;
+use crate::model::lower::CellId;
 use crate::model::steps::{valuation, StepTable};
 use crate::model::{EventId, Machine, RuleId, StateId};
 use std::collections::{HashSet, VecDeque};
@@ -97,15 +99,14 @@ pub struct Transition {
 
 /// Every reachable transition, grouped by source state in state order.
 pub fn transitions(m: &Machine) -> Vec<Transition> {
-    let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m, &mut bdd);
+    let table = StepTable::build(m);
     let n = m.states.len();
     let mut seen = vec![false; n];
     seen[m.start.index()] = true;
     let mut queue = VecDeque::from([m.start]);
     while let Some(s) = queue.pop_front() {
         for step in table.of(s) {
-            if step.rule.is_some() && !seen[step.to.index()] {
+            if step.choice.is_some() && !seen[step.to.index()] {
                 seen[step.to.index()] = true;
                 queue.push_back(step.to);
             }
@@ -117,17 +118,16 @@ pub fn transitions(m: &Machine) -> Vec<Transition> {
             continue;
         }
         let s = StateId::from_index(si);
-        let named = m.named_events(s);
-        let mut rest: Option<Vec<EventId>> = None;
+        // The events of the cell the steps are in (a cell's steps are consecutive).
+        let mut events: Option<(CellId, Vec<EventId>)> = None;
         for step in table.of(s) {
-            let Some(rule) = step.rule else { continue };
-            let inputs = valuation(m.inputs.len(), &bdd, step.atom);
-            let events = if named.binary_search(&step.event).is_ok() {
-                vec![step.event]
-            } else {
-                rest.get_or_insert_with(|| m.rest_events(s)).clone()
-            };
-            for event in events {
+            let Some(rule) = step.rule(m) else { continue };
+            let inputs = valuation(m.inputs.len(), &m.bdd, step.atom);
+            if events.as_ref().is_none_or(|(c, _)| *c != step.cell) {
+                let cell = m.lowered.cell(step.cell);
+                events = Some((step.cell, m.lowered.cell_events(m.events.len(), cell)));
+            }
+            for &event in events.iter().flat_map(|(_, evs)| evs) {
                 out.push(Transition {
                     from: s,
                     event,
