@@ -242,7 +242,11 @@ fn fire(m: &Machine, choice: &Choice, indent: &str) -> String {
         let _ = writeln!(body, "{indent}mealy.{} = true;", m.outputs[o.index()].name);
     }
     if choice.moves {
-        let _ = writeln!(body, "{indent}State::{}", m.states[choice.target.index()].name);
+        let _ = writeln!(
+            body,
+            "{indent}State::{}",
+            m.states[choice.target.index()].name
+        );
     } else {
         let _ = writeln!(body, "{indent}self.state");
     }

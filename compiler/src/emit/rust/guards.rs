@@ -37,7 +37,7 @@ enum Prec {
     Unary,
 }
 
-/// How the code of one cell (or of one guard list of the table style) reads each input:
+/// How the code of one cell (or of one test list of the table style) reads each input:
 /// directly where it appears, or through the step's sampler.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub(super) struct Reads {

@@ -315,7 +315,7 @@ impl Gen<'_> {
         let rule_parts = format!(
             "{target_doc}{}{}",
             if has_actions {
-                ", the action sequence (`0`: none, see `run_actions`)"
+                ", the operation sequence (`0`: none, see `run_actions`)"
             } else {
                 ""
             },
@@ -336,7 +336,7 @@ impl Gen<'_> {
             format!("its rule ({rule_parts})")
         };
         let cell_doc = format!(
-            "A cell, {}: {first_doc}, its guard list (`0`: no rules, see `select`){}.",
+            "A cell, {}: {first_doc}, its test list (`0`: no rules, see `select`){}.",
             shape(if has_rest { &["seq", "rest"] } else { &["seq"] }),
             if has_rest {
                 " and where its later rules are: rule `at` (from 1) of the cell is \
@@ -380,9 +380,9 @@ impl Gen<'_> {
                 }
             }
         };
-        // The rule that fires, from the cell's guard list `seq`, its first rule `first`
+        // The rule that fires, from the cell's test list `seq`, its first rule `first`
         // and, for a later rule found in `RULES`, the arm `found` that yields it. A cell
-        // whose only rule has no guard (guard list 1 when there is one, see
+        // whose only rule has no guard (test list 1 when there is one, see
         // `Tables::build`) skips `select`: a compare and a branch instead of a jump
         // through `select`'s table, which the benchmark measured at about 5% of a step
         // on small machines (BENCHMARKS.md, "Dispatch").
