@@ -192,7 +192,7 @@ fn agree(m: &Machine, generated: &mut dyn Stepper, seed: u64, steps: usize) -> u
     let mut calls = 0;
     for step in 1..=steps {
         // Now and then the inputs take new levels (on both sides alike).
-        if rng.next() % 4 == 0 {
+        if rng.next().is_multiple_of(4) {
             let fresh: Vec<bool> = (0..n_inputs).map(|_| rng.next() & 1 == 1).collect();
             hooks.levels.clone_from(&fresh);
             reference.levels = fresh;
