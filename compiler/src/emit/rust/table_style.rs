@@ -730,6 +730,8 @@ impl<'g> Tables<'g> {
                         rest: 0,
                     }
                 } else {
+                    // Equal test lists share a `select` arm: the key is the tests as
+                    // printed (how a list reads its inputs follows from the list).
                     let key: Vec<String> = guards
                         .iter()
                         .map(|x| {
