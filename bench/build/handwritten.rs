@@ -12,12 +12,18 @@
 //! state) or'ed with the Mealy flags. One arm per state and distinct body, the events
 //! sharing a body in one pattern: `(State::A, Event::X | Event::Y) => ..`.
 //!
-//! The meaning is detent's: the rules of the innermost scope naming the event, the
-//! first whose guard holds, the actions of `transition_actions`, `stay` keeping the
-//! state (no enter/leave), and the `unhandled` policy for the rest (`Err(Rejected)`
-//! under `reject`, the current outputs otherwise).
+//! The meaning is detent's, read from the machine's lowered form
+//! (`detent_compiler::model::lower`, which alone decides rule choice): per state and
+//! event the cell's choices in order, each tested with its rule's guard as the spec
+//! writes it (a person tests `if !raw` where the lowered form knows that nothing else
+//! is left), then `else` the `unhandled` policy (`Err(Rejected)` under `reject`, the
+//! current outputs otherwise); the choice's operation sequence (leave, rule and enter
+//! actions), `stay` keeping the state. The guards call the input hooks where they
+//! appear, as hand-written code usually does; the benchmark's hooks return the same
+//! level on every call, so this reads the same values as the generated code.
 
-use detent_compiler::model::{EventId, Guard, Machine, RuleId, StateId, Target};
+use detent_compiler::model::lower::{Cell, Choice};
+use detent_compiler::model::{EventId, Guard, Machine, StateId};
 use detent_compiler::syntax::ast::Policy;
 use std::fmt::Write;
 
@@ -138,8 +144,9 @@ fn outputs_literal(m: &Machine, high: &[usize]) -> String {
 /// `fn outputs`: the Moore outputs, states with equal outputs sharing an arm.
 fn outputs_fn(m: &Machine) -> String {
     let mut groups: Vec<(Vec<usize>, Vec<&str>)> = Vec::new();
-    for st in &m.states {
-        let set: Vec<usize> = st.moore.iter().map(|o| o.index()).collect();
+    for (si, st) in m.states.iter().enumerate() {
+        let moore = m.lowered.moore(StateId::from_index(si));
+        let set: Vec<usize> = m.lowered.outputs(moore).iter().map(|o| o.index()).collect();
         match groups.iter_mut().find(|(g, _)| *g == set) {
             Some((_, names)) => names.push(&st.name),
             None => groups.push((set, vec![&st.name])),
@@ -225,44 +232,44 @@ fn fold(g: &Guard) -> Option<bool> {
     }
 }
 
-/// The statements and next-state expression of rule `r` firing in state `s`.
-fn fire(m: &Machine, s: StateId, r: RuleId, indent: &str) -> String {
-    let rule = &m.rules[r.index()];
+/// The statements and next-state expression of a choice firing.
+fn fire(m: &Machine, choice: &Choice, indent: &str) -> String {
     let mut body = String::new();
-    for a in m.transition_actions(s, r) {
+    for a in m.lowered.actions(choice.ops) {
         let _ = writeln!(body, "{indent}hooks.{}();", m.actions[a.index()].name);
     }
-    for o in &rule.mealy {
+    for o in m.lowered.outputs(choice.mealy) {
         let _ = writeln!(body, "{indent}mealy.{} = true;", m.outputs[o.index()].name);
     }
-    match rule.target {
-        Target::Stay => {
-            let _ = writeln!(body, "{indent}self.state");
-        }
-        Target::To(t) => {
-            let _ = writeln!(body, "{indent}State::{}", m.states[t.index()].name);
-        }
+    if choice.moves {
+        let _ = writeln!(
+            body,
+            "{indent}State::{}",
+            m.states[choice.target.index()].name
+        );
+    } else {
+        let _ = writeln!(body, "{indent}self.state");
     }
     body
 }
 
 /// The body of one (state, event) arm, or `None` when no rule can fire there.
-fn cell_body(m: &Machine, s: StateId, rules: &[RuleId], unhandled: &str) -> Option<String> {
-    let mut chain: Vec<(String, RuleId)> = Vec::new();
+fn cell_body(m: &Machine, cell: &Cell, unhandled: &str) -> Option<String> {
+    let mut chain: Vec<(String, &Choice)> = Vec::new();
     let mut always = None;
-    for &r in rules {
-        match &m.rules[r.index()].guard_expr {
+    for choice in &cell.choices {
+        match &m.rules[choice.rule.index()].guard_expr {
             None => {
-                always = Some(r);
+                always = Some(choice);
                 break;
             }
             Some(g) => match fold(g) {
                 Some(true) => {
-                    always = Some(r);
+                    always = Some(choice);
                     break;
                 }
                 Some(false) => {}
-                None => chain.push((guard_text(m, g).expect("not constant"), r)),
+                None => chain.push((guard_text(m, g).expect("not constant"), choice)),
             },
         }
     }
@@ -270,17 +277,17 @@ fn cell_body(m: &Machine, s: StateId, rules: &[RuleId], unhandled: &str) -> Opti
         return None;
     }
     if chain.is_empty() {
-        return always.map(|r| fire(m, s, r, "                    "));
+        return always.map(|c| fire(m, c, "                    "));
     }
     let mut text = String::new();
-    for (i, (cond, r)) in chain.iter().enumerate() {
+    for (i, (cond, choice)) in chain.iter().enumerate() {
         let kw = if i == 0 { "if" } else { "} else if" };
         let _ = writeln!(text, "                    {kw} {cond} {{");
-        text.push_str(&fire(m, s, *r, "                        "));
+        text.push_str(&fire(m, choice, "                        "));
     }
     text.push_str("                    } else {\n");
     match always {
-        Some(r) => text.push_str(&fire(m, s, r, "                        ")),
+        Some(c) => text.push_str(&fire(m, c, "                        ")),
         None => {
             let _ = writeln!(text, "                        {unhandled}");
         }
@@ -303,9 +310,8 @@ fn step_fn(m: &Machine) -> String {
         let s = StateId::from_index(si);
         let mut bodies: Vec<(String, Vec<usize>)> = Vec::new();
         for e in 0..m.events.len() {
-            let body = m
-                .rules_for(s, EventId::from_index(e))
-                .and_then(|(_, rules)| cell_body(m, s, rules, unhandled));
+            let cell = m.lowered.cell_of(s, EventId::from_index(e));
+            let body = cell_body(m, cell, unhandled);
             match body {
                 None => any_unhandled = true,
                 Some(body) => match bodies.iter_mut().find(|(b, _)| *b == body) {

@@ -1,4 +1,4 @@
-//! Snapshots of `gen rust` output (both dispatch styles) for two small specs, so a
+//! Snapshots of `gen rust` output (both dispatch styles) for three small specs, so a
 //! change in generated code shows up in review.
 
 use detent_compiler::check::check_source;
@@ -53,6 +53,30 @@ pub(crate) machine Gate {
 }
 "#;
 
+/// Tests that read one input in several places: the step's sampler (`StepInputs`),
+/// and a cell whose tests read each input once (direct hook calls).
+const SAMPLED: &str = r#"
+machine Sampled {
+    events Go, Poke;
+    inputs a, b, c;
+    outputs hit;
+    actions x, y;
+    start S0;
+    unhandled reject;
+
+    state S0 {
+        Go if a && b => S1, do x;
+        Go if b && !a => stay, do y;
+        Go if !b && c => stay, emit hit;
+        Poke if a => S1;
+        Poke if !a => stay;
+    }
+    state S1 emit hit {
+        _ => S0;
+    }
+}
+"#;
+
 fn generate(spec: &str, style: DispatchStyle) -> String {
     let report = check_source("snapshot.detent", spec);
     assert!(
@@ -86,6 +110,16 @@ fn gate_table() {
 #[test]
 fn gate_match() {
     insta::assert_snapshot!(generate(GATE, DispatchStyle::Match));
+}
+
+#[test]
+fn sampled_table() {
+    insta::assert_snapshot!(generate(SAMPLED, DispatchStyle::Table));
+}
+
+#[test]
+fn sampled_match() {
+    insta::assert_snapshot!(generate(SAMPLED, DispatchStyle::Match));
 }
 
 #[test]
