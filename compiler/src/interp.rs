@@ -81,11 +81,6 @@ impl StepResult {
 }
 
 impl Machine {
-    /// The rule that fires for (state, event) under a full valuation, if any.
-    pub fn fired_rule(&self, state: StateId, event: EventId, inputs: &[bool]) -> Option<RuleId> {
-        self.step(state, event, inputs).rule()
-    }
-
     /// One step. `inputs[i]` is the value of input `i`; missing entries read as false.
     pub fn step(&self, state: StateId, event: EventId, inputs: &[bool]) -> StepResult {
         self.step_reading(state, event, &mut |i: InputId| value(inputs, i))

@@ -105,17 +105,6 @@ pub struct ScopeRules {
     pub wildcard: Vec<RuleId>,
 }
 
-impl ScopeRules {
-    /// The rules of this scope that apply to `event`, if the scope has any for it.
-    pub fn lookup(&self, event: EventId) -> Option<&[RuleId]> {
-        match self.named.binary_search_by_key(&event, |(e, _)| *e) {
-            Ok(i) => Some(&self.named[i].1),
-            Err(_) if !self.wildcard.is_empty() => Some(&self.wildcard),
-            Err(_) => None,
-        }
-    }
-}
-
 /// A state.
 #[derive(Clone, Debug)]
 pub struct State {
@@ -426,85 +415,9 @@ impl Machine {
         }
     }
 
-    /// The scope used for (state, event) and its rules for that event: the first scope,
-    /// innermost outward, with any rule naming the event or a `_` rule (LANGUAGE.md,
-    /// "Rules and scopes"). `None` when no scope has a rule for it.
-    pub fn rules_for(&self, s: StateId, e: EventId) -> Option<(Scope, &[RuleId])> {
-        let mut scope = Scope::State(s);
-        loop {
-            if let Some(rules) = self.scope_rules(scope).lookup(e) {
-                return Some((scope, rules));
-            }
-            let parent = match scope {
-                Scope::State(s) => self.states[s.index()].parent,
-                Scope::Group(g) => self.groups[g.index()].parent,
-            };
-            scope = Scope::Group(parent?);
-        }
-    }
-
-    /// The events that some scope of the state names explicitly, ascending. Every other
-    /// event resolves like [`Machine::rest_rules`]; this is the alphabet compression the
-    /// checker uses to stay linear in the spec's size.
-    pub fn named_events(&self, s: StateId) -> Vec<EventId> {
-        let mut evs: Vec<EventId> = self
-            .scope_chain(s)
-            .into_iter()
-            .flat_map(|sc| self.scope_rules(sc).named.iter().map(|(e, _)| *e))
-            .collect();
-        evs.sort_unstable();
-        evs.dedup();
-        evs
-    }
-
-    /// How the events that no scope of the state names resolve: the first `_` rules
-    /// on the chain, or `None`.
-    pub fn rest_rules(&self, s: StateId) -> Option<(Scope, &[RuleId])> {
-        self.scope_chain(s).into_iter().find_map(|sc| {
-            let r = self.scope_rules(sc);
-            (!r.wildcard.is_empty()).then_some((sc, r.wildcard.as_slice()))
-        })
-    }
-
     /// Is the state inside the group (at any depth)?
     pub fn group_contains(&self, g: GroupId, s: StateId) -> bool {
         self.groups[g.index()].states.binary_search(&s).is_ok()
-    }
-
-    /// The actions a rule runs when it fires in state `from`, in order: leave actions of
-    /// `from`, then of each group of `from` that does not contain the target (innermost
-    /// first); the rule's actions; then enter actions of each group of the target that
-    /// does not contain `from` (outermost first), then the target's. `stay` runs only
-    /// the rule's actions; a rule back to `from` runs `from`'s leave and enter actions
-    /// but not its groups' (LANGUAGE.md, "Action order").
-    pub fn transition_actions(&self, from: StateId, rule: RuleId) -> Vec<ActionId> {
-        let r = &self.rules[rule.index()];
-        let to = match r.target {
-            Target::Stay => return r.actions.clone(),
-            Target::To(t) => t,
-        };
-        let mut out = self.states[from.index()].leave.clone();
-        for g in self.ancestors(from) {
-            if !self.group_contains(g, to) {
-                out.extend_from_slice(&self.groups[g.index()].leave);
-            }
-        }
-        out.extend_from_slice(&r.actions);
-        for g in self.ancestors(to).into_iter().rev() {
-            if !self.group_contains(g, from) {
-                out.extend_from_slice(&self.groups[g.index()].enter);
-            }
-        }
-        out.extend_from_slice(&self.states[to.index()].enter);
-        out
-    }
-
-    /// The state a rule leads to when it fires in `from`.
-    pub fn target_of(&self, from: StateId, rule: RuleId) -> StateId {
-        match self.rules[rule.index()].target {
-            Target::Stay => from,
-            Target::To(t) => t,
-        }
     }
 
     /// The level a lint has at a site: the innermost `allow`/`warn`/`deny` attribute

@@ -98,8 +98,8 @@ pub fn module_doc(m: &Machine) -> TokenStream {
 /// The items inside the generated module (without the `mod` around them), for front
 /// ends that place them in a module of their own, such as the file form of the macro.
 ///
-/// Under `#[minimize]` the items are generated from the minimized machine
-/// ([`crate::minimize::minimized_machine`]): each class of equivalent states keeps the
+/// Under `#[minimize]` the items are generated from the quotient machine of one
+/// minimization ([`crate::minimize::quotient`]): each class of equivalent states keeps the
 /// name of its first member in declaration order, and every other member becomes an
 /// associated constant of `State` naming that state (`State::Draining` then means
 /// `State::Pumping`), so code written against the spec's names still compiles.
@@ -108,10 +108,9 @@ pub fn machine_items(m: &Machine, style: DispatchStyle) -> TokenStream {
     if !m.minimize {
         return items_of(m, style);
     }
-    let classes = crate::minimize::minimize(m);
-    let reduced = crate::minimize::minimized_machine(m);
-    let items = items_of(&reduced, style);
-    let aliases = classes.classes.iter().flat_map(|class| {
+    let q = crate::minimize::quotient(m);
+    let items = items_of(&q.machine, style);
+    let aliases = q.minimization.classes.iter().flat_map(|class| {
         let rep = &m.states[class[0].index()].name;
         let rep_ident = ident(rep);
         class[1..].iter().map(move |s| {
