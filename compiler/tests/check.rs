@@ -1,8 +1,9 @@
 //! Checker tests: each lint fires at the right place with the right witness, a clean
 //! spec is clean, lint levels follow attributes and options, and name errors are found.
 
-use detent_compiler::check::{apply_options, check_source, render, Options};
+use detent_compiler::check::{apply_options, render, Options};
 use detent_compiler::diag::{Diagnostic, Lint, Severity};
+use detent_compiler::driver::check_source;
 
 fn diags(text: &str) -> Vec<Diagnostic> {
     check_source("t.detent", text)
@@ -419,13 +420,7 @@ fn text_rendering_has_rustc_shape() {
         .diagnostics()
         .find(|d| d.lint == Lint::Incomplete)
         .unwrap();
-    let out = render::render_text(
-        d,
-        &render::Source {
-            name: "shape.detent",
-            text,
-        },
-    );
+    let out = render::render_text(d, &render::Source::new("shape.detent", text));
     let expected = "error[incomplete]: state `S` has no rule for event `Stop`
  --> shape.detent:4:11
   |
@@ -442,7 +437,10 @@ fn json_rendering_has_the_documented_fields() {
     let text = "machine M { events Go; inputs ok; start S; state S { Go if ok => S; } }";
     let report = check_source("x.detent", text);
     let d = report.diagnostics().next().unwrap();
-    let v = render::diagnostic_json(d, "x.detent");
+    let v = serde_json::to_value(detent_compiler::report::check::DiagnosticEntry::new(
+        d, "x.detent",
+    ))
+    .expect("json");
     assert_eq!(v["lint"], "incomplete");
     assert_eq!(v["level"], "error");
     assert_eq!(v["state"], "S");

@@ -4,7 +4,7 @@
 //! traces. At every step the state, the outputs, the actions run (in order) and
 //! whether the event was rejected must agree.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::Outcome;
 use detent_compiler::model::{EventId, OutputId, StateId};
 use detent_tests::gen::{random_trace, Rng};

@@ -29,8 +29,8 @@
 //!
 //! Generation is linear in `S * E` plus the size of the rules and their action lists.
 
-use crate::check::to_snake;
 use crate::model::{ActionId, Guard, Machine, RuleId, StateId};
+use crate::naming::to_snake;
 use std::collections::HashMap;
 use std::fmt::Write;
 

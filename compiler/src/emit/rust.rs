@@ -49,8 +49,8 @@
 //! `trivially_copy_pass_by_ref` on the `&self` accessors of the API and
 //! `unnecessary_wraps` on the `step` of a machine that never rejects.
 
-use crate::check::to_snake;
 use crate::model::{ActionId, Guard, Machine, OutputId, RuleId, StateId, Target};
+use crate::naming::to_snake;
 use crate::syntax::ast::{DispatchStyle, Policy, Vis};
 use proc_macro2::{Ident, Literal, Span, TokenStream};
 use quote::quote;

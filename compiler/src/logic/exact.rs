@@ -843,7 +843,7 @@ mod tests {
         assert_eq!(CoverCost::of(&r.cubes).literals, 6);
     }
 
-    use crate::logic::testgen::SplitMix64;
+    use crate::testing::Rng as SplitMix64;
 
     /// A random covering matrix: `blocks` independent blocks of rows and columns (so the
     /// component splitting has something to split), every row in at least one column,
@@ -1031,7 +1031,7 @@ mod tests {
     /// cyclic core, about 200 nodes), so 3 nodes cannot prove it.
     #[test]
     fn budget_exhaustion_still_covers() {
-        let f = &crate::logic::testgen::benchmark_functions(0xde7e_4e71, &[10], 2)[1];
+        let f = &crate::testing::logic::benchmark_functions(0xde7e_4e71, &[10], 2)[1];
         let r = minimize_exact(10, &f.on, &f.dc, 3);
         assert!(!r.proven);
         for &m in &f.on {

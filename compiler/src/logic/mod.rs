@@ -21,7 +21,6 @@ pub mod exact;
 pub mod excitation;
 pub mod gates;
 pub mod heuristic;
-pub mod testgen;
 pub mod verilog;
 
 pub use cube::Cube;

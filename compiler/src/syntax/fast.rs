@@ -12,7 +12,7 @@
 //! repository, on random specs and on mutated (mostly invalid) ones.
 
 use super::ast::*;
-use super::parse::{balanced, is_rust_keyword, MAX_NESTING, MAX_TERMS, RESERVED};
+use super::lexicon::{is_rust_keyword, MAX_NESTING, MAX_TERMS, RESERVED};
 extern crate proc_macro;
 
 use proc_macro2::{Delimiter, Group, Spacing, TokenStream, TokenTree};

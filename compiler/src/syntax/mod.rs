@@ -4,11 +4,13 @@
 
 pub mod ast;
 mod fast;
+mod lexicon;
 pub mod parse;
 pub mod print;
 
 #[doc(hidden)]
 pub use fast::FastPath;
+pub use lexicon::{MAX_NESTING, MAX_TERMS, RESERVED};
 pub use parse::parse_tokens;
 
 use proc_macro2::{Span, TokenStream};
@@ -59,4 +61,18 @@ pub fn parse_source_with(text: &str, fast: FastPath) -> Result<ast::File, Syntax
             span: e.span(),
         })?;
     Ok(parse::parse_tokens_of_text(tokens, text, fast)?)
+}
+
+/// Parses one guard (`property` false: inputs, `!`, `&&`, `||`, parentheses, `true`,
+/// `false`) or one `never` property (`property` true: also outputs, actions and
+/// `in STATE`) written as text on its own: the grammar of a spec, for expressions that
+/// stand alone (`detent import` reads the state table's guard fields with it).
+pub fn parse_expr_text(text: &str, property: bool) -> Result<ast::Expr, SyntaxError> {
+    let tokens: TokenStream = text
+        .parse()
+        .map_err(|e: proc_macro2::LexError| SyntaxError {
+            message: format!("cannot tokenize: {e}"),
+            span: e.span(),
+        })?;
+    Ok(parse::parse_expr_tokens(tokens, property)?)
 }
