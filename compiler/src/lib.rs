@@ -7,6 +7,9 @@
 //! to checked machines that both front ends use; [`report`] holds the typed
 //! machine-readable reports the CLI prints.
 
+#![forbid(unsafe_code)]
+#![warn(missing_docs)]
+
 pub mod check;
 pub mod diag;
 pub mod driver;

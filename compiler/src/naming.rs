@@ -1,3 +1,8 @@
+//! Case conventions of the language's names: the `naming` lint's tests
+//! (UpperCamelCase for machines, states, groups and events; snake_case for inputs,
+//! outputs and actions) and the conversions the back ends use to derive module, file,
+//! field and function names (`BilgePump` -> `bilge_pump`).
+
 /// UpperCamelCase: starts with an uppercase letter, no underscores.
 pub fn is_upper_camel(name: &str) -> bool {
     let name = name.trim_start_matches("r#");

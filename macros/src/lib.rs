@@ -31,6 +31,9 @@
 //! warnings through a deprecated dummy item used at the offending span: stable Rust
 //! has no warning API for procedural macros. `#[allow(deprecated)]` silences them and
 //! `#![deny(deprecated)]` makes them errors.
+
+#![forbid(unsafe_code)]
+#![warn(missing_docs)]
 use proc_macro::TokenStream;
 
 mod expand;

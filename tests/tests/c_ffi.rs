@@ -2,6 +2,9 @@
 //! the C machine and the interpreter run the same trace, and state numbers cross the
 //! FFI boundary both ways.
 
+// Calls the generated C through its ABI: the one place in the workspace with unsafe code.
+#![allow(unsafe_code)]
+
 use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::generate_c;
 use detent_compiler::model::{EventId, Machine, StateId};
