@@ -26,12 +26,15 @@
 //!   marker too: a trace runs from the start state without restarts).
 //!
 //! Errors carry the 1-based line and the 1-based column (in characters) of the offending
-//! word or JSON value.
+//! word or JSON value. JSON is read by serde_json: each key and value is kept as a
+//! `RawValue` borrowed from the line, so its position is where its text starts; a line
+//! that is not JSON at all gets serde_json's own message (`invalid JSON: ...`) at the
+//! column it names.
 //!
 //! # Output
 //!
 //! [`run_json_lines`] runs the steps through the reference interpreter
-//! ([`Machine::step`]) and renders DESIGN.md's JSON lines: a step-0 line with the start
+//! ([`Machine::step`]) and renders DESIGN.md's JSON lines ([`RunLine`], serde): a step-0 line with the start
 //! state and its Moore outputs, then one line per step with `from`, `event`, `to`,
 //! `handled`, the Mealy and Moore outputs (declaration order) and the actions (run order).
 //!
@@ -363,10 +366,22 @@ fn json_error(raw: &str, line: usize, e: &serde_json::Error) -> TraceError {
     let text = e.to_string();
     let suffix = format!(" at line {} column {}", e.line(), e.column());
     let message = text.strip_suffix(&suffix).unwrap_or(&text);
+    let (at, message) = if e.classify() == serde_json::error::Category::Eof {
+        // The value is cut off: point past the end of the line.
+        (
+            raw.len(),
+            format!("invalid JSON: the line ends inside the value ({message})"),
+        )
+    } else {
+        (
+            e.column().saturating_sub(1).min(raw.len()),
+            format!("invalid JSON: {message}"),
+        )
+    };
     TraceError {
         line,
-        column: column(raw, e.column().saturating_sub(1).min(raw.len())),
-        message: format!("invalid JSON: {message}"),
+        column: column(raw, at),
+        message,
     }
 }
 
@@ -839,12 +854,29 @@ Stop
         );
         assert_eq!(
             error(&m, r#"[{"event":"Go"}"#),
-            (1, 16, "expected `,` or `]` in JSON array".into())
+            (
+                1,
+                16,
+                "invalid JSON: the line ends inside the value (EOF while parsing a list)".into()
+            )
         );
         assert_eq!(
             error(&m, "Go\n{\"event\":\"G\\u006f\",\"inputs\":{\"a\":tru}}"),
-            (2, 34, "expected a JSON value".into())
+            (2, 37, "invalid JSON: expected ident".into())
         );
+        // Not JSON at all, and JSON nested far deeper than a trace needs: errors, not
+        // a stack overflow.
+        assert_eq!(
+            error(&m, "{event}"),
+            (1, 2, "invalid JSON: key must be a string".into())
+        );
+        let deep = format!("{}{}", "[".repeat(100_000), "]".repeat(100_000));
+        assert_eq!(
+            error(&m, &deep).2,
+            "expected a step object `{\"event\":..,\"inputs\":{..}}`"
+        );
+        let deep_object = format!("{}1{}", "{\"event\":".repeat(50_000), "}".repeat(50_000));
+        assert_eq!(error(&m, &deep_object).0, 1);
         // `\u006f` is `o`: escapes decode.
         assert_eq!(
             parse_trace(&m, "{\"event\":\"G\\u006f\"}").unwrap()[0].event,
