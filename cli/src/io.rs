@@ -107,22 +107,26 @@ pub fn pick_machine(
     }
 }
 
-/// Writes a file atomically: a temporary file with an unpredictable name, created
+/// Writes a file atomically: a temporary file with an unpredictable name
+/// (`.<name>.<random>.detent-tmp`), created
 /// exclusively in the same folder (`tempfile`: `O_EXCL`, so a file or symbolic link
 /// planted there is never opened or followed), written, flushed and synced, then
 /// renamed over the target. A failure leaves any previous file untouched and removes
 /// the temporary file.
 pub fn write_atomic(path: &Path, contents: &[u8]) -> Result<(), String> {
     let fail = |e: std::io::Error| format!("cannot write `{}`: {e}", path.display());
-    if path.file_name().is_none() {
+    let Some(name) = path.file_name() else {
         return Err(format!("`{}` is not a file path", path.display()));
-    }
+    };
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => std::path::PathBuf::from("."),
     };
+    // `.<name>.<random>.detent-tmp`: hidden, and recognisably ours if a kill leaves it.
+    let prefix = format!(".{}.", name.to_string_lossy());
     let mut tmp = tempfile::Builder::new()
-        .prefix(".detent-tmp-")
+        .prefix(&prefix)
+        .suffix(".detent-tmp")
         .tempfile_in(&dir)
         .map_err(fail)?;
     tmp.write_all(contents).map_err(fail)?;
