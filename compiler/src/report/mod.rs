@@ -75,10 +75,14 @@ pub fn step_text(event: &str, inputs: &[(String, bool)]) -> String {
     s
 }
 
-/// One line of JSON (serde_json cannot fail on these reports: every map key is a
-/// string and no value is a non-finite float).
+/// One line of JSON. serde_json cannot fail on these reports (every map key is a
+/// string); were it to, the line is a JSON object naming the error.
 pub fn to_json<T: Serialize>(report: &T) -> String {
-    serde_json::to_string(report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+    serde_json::to_string(report).unwrap_or_else(|e| {
+        let mut error = serde_json::Map::new();
+        error.insert("error".into(), e.to_string().into());
+        serde_json::Value::Object(error).to_string()
+    })
 }
 
 /// Names mapped to strings, as a JSON object in the given order (`logic`'s

@@ -18,7 +18,6 @@ extern crate proc_macro;
 use proc_macro2::{Delimiter, Group, Spacing, TokenStream, TokenTree};
 
 /// How the parser may use the fast path.
-#[doc(hidden)]
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum FastPath {
     /// Every item goes through syn (the reference behaviour).

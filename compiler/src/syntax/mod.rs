@@ -8,8 +8,11 @@ mod lexicon;
 pub mod parse;
 pub mod print;
 
-#[doc(hidden)]
+/// The parser's fast-path switch, for tests comparing the paths (feature `testing`).
+#[cfg(any(test, feature = "testing"))]
 pub use fast::FastPath;
+#[cfg(not(any(test, feature = "testing")))]
+use fast::FastPath;
 pub use lexicon::{MAX_NESTING, MAX_TERMS, RESERVED};
 pub use parse::parse_tokens;
 
@@ -38,12 +41,17 @@ impl From<syn::Error> for SyntaxError {
 
 /// Tokenizes spec text as Rust tokens (with line/column spans) and parses it.
 pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
-    parse_source_with(text, FastPath::Auto)
+    parse_source_in(text, FastPath::Auto)
 }
 
-/// [`parse_source`] with a choice of fast path (for tests comparing the paths).
-#[doc(hidden)]
+/// [`parse_source`] with a choice of fast path, for tests comparing the paths (feature
+/// `testing`).
+#[cfg(any(test, feature = "testing"))]
 pub fn parse_source_with(text: &str, fast: FastPath) -> Result<ast::File, SyntaxError> {
+    parse_source_in(text, fast)
+}
+
+fn parse_source_in(text: &str, fast: FastPath) -> Result<ast::File, SyntaxError> {
     if text.len() as u64 > MAX_FILE_BYTES {
         return Err(SyntaxError {
             message: format!(

@@ -44,9 +44,8 @@ pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
     parse_tokens_with(tokens, FastPath::Auto)
 }
 
-/// [`parse_tokens`] with a choice of fast path (for tests comparing the paths).
-#[doc(hidden)]
-pub fn parse_tokens_with(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
+/// [`parse_tokens`] with a choice of fast path.
+pub(crate) fn parse_tokens_with(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
     check_token_depth(&tokens)?;
     parse_file(tokens, fast.resolve())
 }
