@@ -18,7 +18,7 @@ mod gen;
 #[path = "build/handwritten.rs"]
 mod handwritten;
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::{generate_file, module_name};
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::DispatchStyle;

@@ -11,7 +11,7 @@
 #[allow(dead_code)]
 mod gen;
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::{generate_file, module_name};
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::DispatchStyle;

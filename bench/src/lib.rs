@@ -10,6 +10,8 @@
 
 #![forbid(unsafe_code)]
 
+use detent_compiler::testing::Rng;
+
 /// Events per timed pass of the benchmark: long enough that the branch predictor
 /// cannot learn the sequence.
 pub const BENCH_EVENTS: usize = 16_384;
@@ -91,29 +93,10 @@ pub trait Variant {
 }
 
 /// A seeded random sequence of `(event number, input levels)`: events uniform over
-/// `0..events`, each of the `inputs` levels a fair coin. SplitMix64, so the same seed
-/// gives the same buffer everywhere.
+/// `0..events`, each of the `inputs` levels a fair coin (the workspace's one generator,
+/// [`Rng::events`], so the same seed gives the same buffer everywhere).
 pub fn random_events(seed: u64, events: usize, inputs: usize, len: usize) -> Vec<(usize, u32)> {
-    let mut x = seed ^ 0x9E37_79B9_7F4A_7C15;
-    let mut next = move || {
-        x = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = x;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    };
-    let mask = if inputs >= 32 {
-        u32::MAX
-    } else {
-        (1u32 << inputs) - 1
-    };
-    (0..len)
-        .map(|_| {
-            let e = (next() % events.max(1) as u64) as usize;
-            let levels = (next() as u32) & mask;
-            (e, levels)
-        })
-        .collect()
+    Rng::new(seed).events(events, inputs, len)
 }
 
 /// A buffer of [`random_events`] in one variant's event type.

@@ -3,7 +3,8 @@
 
 use crate::io::{self, FAILED, OK};
 use clap::{Args, ValueEnum};
-use detent_compiler::check::{self, render};
+use detent_compiler::check::render;
+use detent_compiler::driver;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::DispatchStyle;
@@ -41,29 +42,15 @@ pub fn run(args: &GenRustArgs) -> u8 {
         Ok(text) => text,
         Err(e) => return io::usage_error(e),
     };
-    let report = check::check_source(&file, &text);
-    let src = render::Source {
-        name: &report.file,
-        text: &report.text,
-    };
-    let diagnostics: Vec<_> = report.diagnostics().collect();
-    for d in &diagnostics {
-        eprintln!("{}", render::render_text(d, &src));
-    }
+    let report = driver::check_source(&file, &text);
+    io::print_report_text(&report);
     if report.has_errors() {
-        let errors = diagnostics.iter().filter(|d| d.is_error()).count();
-        eprintln!(
-            "{}",
-            render::summary_text(errors, diagnostics.len() - errors)
-        );
+        let (errors, warnings) = render::count(&report.diagnostics().cloned().collect::<Vec<_>>());
+        eprintln!("{}", render::summary_text(errors, warnings));
         eprintln!("detent: no code generated");
         return FAILED;
     }
-    let machines: Vec<Machine> = report
-        .machines
-        .into_iter()
-        .filter_map(|m| m.machine)
-        .collect();
+    let machines: Vec<Machine> = report.into_machines();
     let style = args.dispatch.map(|d| match d {
         Dispatch::Table => DispatchStyle::Table,
         Dispatch::Match => DispatchStyle::Match,

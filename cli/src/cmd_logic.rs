@@ -10,13 +10,11 @@ use detent_compiler::logic::equations::{
     auto_assign_with, synthesize, AutoReport, LogicDesign, LogicSpec, Map,
 };
 use detent_compiler::logic::excitation::FlipFlop;
-use detent_compiler::logic::gates::{format_gates, format_pos, format_sop, Form, GateCost};
 use detent_compiler::logic::search::SearchOptions;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
-use detent_compiler::logic::Method;
 use detent_compiler::model::Machine;
+use detent_compiler::report::{self, logic::LogicReport};
 use detent_compiler::tour::{tour, TourStep};
-use serde_json::json;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
@@ -113,13 +111,6 @@ fn map_of(a: MapArg) -> Map {
         MapArg::Sop => Map::Sop,
         MapArg::Nand => Map::Nand,
         MapArg::Nor => Map::Nor,
-    }
-}
-
-fn method_name(m: Method) -> &'static str {
-    match m {
-        Method::Exact => "exact",
-        Method::Heuristic => "heuristic",
     }
 }
 
@@ -272,230 +263,21 @@ pub fn run(args: &LogicArgs) -> u8 {
             return io::usage_error(e);
         }
     }
+    let report = LogicReport::new(
+        &m,
+        &design,
+        &cost,
+        map,
+        auto.as_ref(),
+        elapsed.as_secs_f64(),
+    );
     match args.format {
-        LogicFormat::Json => io::out(json_report(
-            &m,
-            &design,
-            &cost,
-            map,
-            auto.as_ref(),
-            elapsed.as_secs_f64(),
-        )),
-        LogicFormat::Text => text_report(
-            &m,
-            &design,
-            &cost,
-            map,
-            auto.as_ref(),
-            elapsed.as_secs_f64(),
-        ),
+        LogicFormat::Json => io::out(report::to_json(&report)),
+        LogicFormat::Text => {
+            for line in report.lines() {
+                io::out(line);
+            }
+        }
     }
     OK
-}
-
-fn cost_line(cost: &GateCost, map: Map) -> String {
-    let form = match map {
-        Map::Sop => "AND-OR",
-        Map::Nand => "NAND-NAND",
-        Map::Nor => "NOR-NOR",
-    };
-    format!(
-        "cost ({form}): {} literals, {} gates, {} gate inputs ({} input inverters, {} shared products)",
-        cost.literals, cost.gates, cost.gate_inputs, cost.inverters, cost.shared_terms
-    )
-}
-
-fn text_report(
-    m: &Machine,
-    d: &LogicDesign,
-    cost: &GateCost,
-    map: Map,
-    auto: Option<&AutoReport>,
-    secs: f64,
-) {
-    let ff = d.flip_flop.input_names().concat();
-    if let Some(a) = auto {
-        io::out(format!(
-            "assignment search: {} assignments costed ({}) in {secs:.2} s",
-            a.evaluated,
-            if a.exhaustive {
-                "every assignment up to bit permutation and complementation"
-            } else {
-                "adjacency-scored pool, exact descent"
-            }
-        ));
-        io::out(format!(
-            "  {} scored by adjacency, {} costings stopped by the bound, {} functions \
-             minimized, {} taken from the memo",
-            a.stats.scored, a.stats.pruned, a.stats.minimized, a.stats.memo_hits
-        ));
-        if a.cut_short {
-            io::out(
-                "  cut short by the time budget (--budget-ms): the best assignment found so \
-                 far is shown",
-            );
-        }
-        io::out(format!(
-            "{:<9} {:>10} {:>9} {:>6} {:>12}",
-            "encoding", "flip-flops", "literals", "gates", "gate inputs"
-        ));
-        for (i, r) in a.rows.iter().enumerate() {
-            io::out(format!(
-                "{:<9} {:>10} {:>9} {:>6} {:>12}{}",
-                r.encoding.kind.name(),
-                r.flip_flops,
-                r.literals,
-                r.cost.gates,
-                r.cost.gate_inputs,
-                if i == a.chosen { "  <- chosen" } else { "" }
-            ));
-        }
-        io::out("");
-    }
-    io::out(format!(
-        "machine {}: {} encoding, {} state bits, {ff} flip-flops",
-        m.name,
-        d.encoding.kind.name(),
-        d.encoding.bits
-    ));
-    let width = m
-        .states
-        .iter()
-        .map(|s| s.name.len())
-        .max()
-        .unwrap_or(5)
-        .max(5);
-    io::out(format!(
-        "  {:<width$}  code ({})",
-        "state",
-        d.state_vars.join(" ")
-    ));
-    for (i, s) in m.states.iter().enumerate() {
-        io::out(format!(
-            "  {:<width$}  {}",
-            s.name,
-            d.encoding.code_string(i)
-        ));
-    }
-    if !d.pin_vars.is_empty() {
-        io::out(format!("pins: {}", d.pin_vars.join(" ")));
-    }
-    io::out("");
-    for f in &d.functions {
-        let eq = match map {
-            Map::Sop => format_sop(&f.name, &f.vars, &f.cover),
-            Map::Nand => format!(
-                "{}\n    {}",
-                format_sop(&f.name, &f.vars, &f.cover),
-                format_gates(Form::NandNand, &f.name, &f.vars, &f.cover)
-            ),
-            Map::Nor => match &f.complement {
-                Some(c) => format!(
-                    "{}\n    {}",
-                    format_pos(&f.name, &f.vars, c),
-                    format_gates(Form::NorNor, &f.name, &f.vars, c)
-                ),
-                None => format_sop(&f.name, &f.vars, &f.cover),
-            },
-        };
-        let (lits, method) = match (map, &f.complement) {
-            (Map::Nor, Some(c)) => (c.literals, c.method),
-            _ => (f.cover.literals, f.cover.method),
-        };
-        io::out(format!(
-            "{eq}    [{}, {lits} literals]",
-            method_name(method)
-        ));
-    }
-    io::out("");
-    io::out(cost_line(cost, map));
-}
-
-fn json_report(
-    m: &Machine,
-    d: &LogicDesign,
-    cost: &GateCost,
-    map: Map,
-    auto: Option<&AutoReport>,
-    secs: f64,
-) -> String {
-    let mut encoding = serde_json::Map::new();
-    for (i, s) in m.states.iter().enumerate() {
-        encoding.insert(s.name.clone(), json!(d.encoding.code_string(i)));
-    }
-    let functions: Vec<serde_json::Value> = d
-        .functions
-        .iter()
-        .map(|f| {
-            let n = f.vars.len();
-            let (on, dc) = match &f.minterms {
-                Some((on, dc)) => (json!(on), json!(dc)),
-                // Too wide for minterm lists: the sets as cube strings.
-                None => (
-                    json!(f
-                        .on_cubes
-                        .iter()
-                        .map(|c| c.to_string(n))
-                        .collect::<Vec<_>>()),
-                    json!(f
-                        .dc_cubes
-                        .iter()
-                        .map(|c| c.to_string(n))
-                        .collect::<Vec<_>>()),
-                ),
-            };
-            let mut o = json!({
-                "name": f.name,
-                "vars": f.vars,
-                "on": on,
-                "dc": dc,
-                "cover": f.cover.cube_strings(n),
-                "literals": f.cover.literals,
-                "method": method_name(f.cover.method),
-            });
-            if let (Some(c), Some(obj)) = (&f.complement, o.as_object_mut()) {
-                obj.insert("complement_cover".into(), json!(c.cube_strings(n)));
-                obj.insert("complement_literals".into(), json!(c.literals));
-            }
-            o
-        })
-        .collect();
-    let mut report = json!({
-        "encoding": encoding,
-        "state_bits": d.encoding.bits,
-        "inputs": d.pin_vars,
-        "functions": functions,
-        "cost": {"literals": cost.literals, "gates": cost.gates, "gate_inputs": cost.gate_inputs},
-        "machine": m.name,
-        "encoding_kind": d.encoding.kind.name(),
-        "flip_flop": d.flip_flop.input_names().concat(),
-        "map": match map { Map::Sop => "sop", Map::Nand => "nand", Map::Nor => "nor" },
-    });
-    if let (Some(a), Some(obj)) = (auto, report.as_object_mut()) {
-        let rows: Vec<serde_json::Value> = a
-            .rows
-            .iter()
-            .map(|r| {
-                json!({
-                    "encoding": r.encoding.kind.name(),
-                    "flip_flops": r.flip_flops,
-                    "literals": r.literals,
-                    "gates": r.cost.gates,
-                    "gate_inputs": r.cost.gate_inputs,
-                })
-            })
-            .collect();
-        obj.insert(
-            "auto".into(),
-            json!({
-                "table": rows,
-                "chosen": a.rows[a.chosen].encoding.kind.name(),
-                "evaluated": a.evaluated,
-                "exhaustive": a.exhaustive,
-                "seconds": secs,
-                "cut_short": a.cut_short,
-            }),
-        );
-    }
-    report.to_string()
 }

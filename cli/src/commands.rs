@@ -2,9 +2,10 @@
 
 use crate::io::{self, FAILED, OK, USAGE};
 use crate::{ReportFormat, TableFormat};
-use detent_compiler::check::{self, render, Options};
+use detent_compiler::check::{sarif, Options};
 use detent_compiler::diag::Lint;
-use serde_json::{json, Value};
+use detent_compiler::driver;
+use detent_compiler::report::{self, check::CheckReport};
 use std::path::{Path, PathBuf};
 
 /// `detent check FILE... [--format] [--deny warnings] [--allow LINT]...`
@@ -47,11 +48,8 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
         let name = f.display().to_string();
         match io::read_text(&name) {
             Ok(text) => {
-                let mut report = check::check_source(&name, &text);
-                for m in &mut report.machines {
-                    let diags = std::mem::take(&mut m.diagnostics);
-                    m.diagnostics = check::apply_options(diags, &opts);
-                }
+                let mut report = driver::check_source(&name, &text);
+                report.apply_options(&opts);
                 reports.push(report);
             }
             Err(e) => {
@@ -60,47 +58,22 @@ pub fn check(files: &[PathBuf], format: ReportFormat, deny: Option<&str>, allow:
             }
         }
     }
-    let all: Vec<_> = reports
-        .iter()
-        .flat_map(|r| r.diagnostics())
-        .cloned()
-        .collect();
-    let (errors, warnings) = render::count(&all);
+    let summary = CheckReport::new(&reports);
     match format {
         ReportFormat::Text => {
             for r in &reports {
                 io::print_report_text(r);
             }
-            if errors + warnings > 0 {
-                eprintln!("{}", render::summary_text(errors, warnings));
-            } else if !io_failed {
-                let n: usize = reports.iter().map(|r| r.machines.len()).sum();
-                io::out(format!(
-                    "detent: {n} machine{} checked, no findings",
-                    if n == 1 { "" } else { "s" }
-                ));
+            match summary.closing_line() {
+                Err(counts) => eprintln!("{counts}"),
+                Ok(clean) if !io_failed => io::out(clean),
+                Ok(_) => {}
             }
         }
-        ReportFormat::Json => {
-            let machines: Vec<Value> = reports
-                .iter()
-                .flat_map(|r| {
-                    r.machines.iter().map(move |m| {
-                        json!({
-                            "name": m.name,
-                            "file": r.file,
-                            "diagnostics": m.diagnostics.iter()
-                                .map(|d| render::diagnostic_json(d, &r.file))
-                                .collect::<Vec<_>>(),
-                        })
-                    })
-                })
-                .collect();
-            let out = json!({"machines": machines, "errors": errors, "warnings": warnings});
-            io::out(out);
-        }
-        ReportFormat::Sarif => io::out(check::sarif::sarif_log(&reports)),
+        ReportFormat::Json => io::out(report::to_json(&summary)),
+        ReportFormat::Sarif => io::out(report::to_json(&sarif::sarif_log(&reports))),
     }
+    let errors = summary.errors;
     if io_failed {
         USAGE
     } else if errors > 0 {

@@ -1,9 +1,11 @@
-//! Reading specs and writing outputs: size limits, UTF-8, atomic writes.
+//! Reading specs and writing outputs: the driver's reading (size limit, UTF-8), the
+//! choice of colour for diagnostics on standard error, atomic writes.
 
-use detent_compiler::check::{self, render, FileReport};
+use detent_compiler::check::render::{self, Source};
 use detent_compiler::diag::Lint;
+use detent_compiler::driver::{self, FileReport};
 use detent_compiler::model::Machine;
-use detent_compiler::syntax::MAX_FILE_BYTES;
+use detent_compiler::report::check::render_file;
 use std::io::Write;
 use std::path::Path;
 
@@ -20,51 +22,21 @@ pub fn usage_error(msg: impl std::fmt::Display) -> u8 {
     USAGE
 }
 
-/// Reads a text file, refusing files over the size limit and text that is not UTF-8.
-/// `-` reads standard input.
+/// Reads a text file through the driver (size limit, UTF-8); `-` reads standard input.
 pub fn read_text(path: &str) -> Result<String, String> {
-    let bytes = if path == "-" {
-        let mut buf = Vec::new();
-        std::io::Read::read_to_end(
-            &mut std::io::Read::take(std::io::stdin(), MAX_FILE_BYTES + 1),
-            &mut buf,
-        )
-        .map_err(|e| format!("cannot read standard input: {e}"))?;
-        buf
-    } else {
-        let meta = std::fs::metadata(path).map_err(|e| format!("cannot read `{path}`: {e}"))?;
-        if meta.is_dir() {
-            return Err(format!("`{path}` is a directory, not a file"));
-        }
-        if meta.len() > MAX_FILE_BYTES {
-            return Err(format!(
-                "`{path}` is {} bytes; the limit is {MAX_FILE_BYTES} bytes (64 MiB)",
-                meta.len()
-            ));
-        }
-        std::fs::read(path).map_err(|e| format!("cannot read `{path}`: {e}"))?
-    };
-    if bytes.len() as u64 > MAX_FILE_BYTES {
-        return Err(format!(
-            "`{path}` is over the limit of {MAX_FILE_BYTES} bytes (64 MiB)"
-        ));
-    }
-    String::from_utf8(bytes).map_err(|e| {
-        format!(
-            "`{path}` is not valid UTF-8 (first bad byte at offset {})",
-            e.utf8_error().valid_up_to()
-        )
-    })
+    driver::read_text(path).map_err(|e| e.to_string())
+}
+
+/// True when text on standard error gets colours: a terminal that supports them, and
+/// neither `NO_COLOR` nor `CLICOLOR=0` set (`CLICOLOR_FORCE` forces them).
+pub fn stderr_color() -> bool {
+    anstream::AutoStream::choice(&std::io::stderr()) != anstream::ColorChoice::Never
 }
 
 /// Prints a file report's diagnostics as text to stderr.
 pub fn print_report_text(report: &FileReport) {
-    let src = render::Source {
-        name: &report.file,
-        text: &report.text,
-    };
-    for d in report.diagnostics() {
-        eprintln!("{}", render::render_text(d, &src));
+    for text in render_file(report, stderr_color()) {
+        eprintln!("{text}");
     }
 }
 
@@ -79,28 +51,22 @@ pub fn load_machines(path: &Path) -> Result<Vec<Machine>, u8> {
 pub fn load_machines_tolerating(path: &Path, tolerated: &[Lint]) -> Result<Vec<Machine>, u8> {
     let file = path.display().to_string();
     let text = read_text(&file).map_err(usage_error)?;
-    let report = check::check_source(&file, &text);
-    let errors: Vec<_> = report
-        .diagnostics()
-        .filter(|d| d.is_error() && !tolerated.contains(&d.lint))
-        .cloned()
-        .collect();
+    let report = driver::check_source(&file, &text);
+    let errors = report.errors_except(tolerated);
     if !errors.is_empty() {
-        let src = render::Source {
-            name: &report.file,
-            text: &report.text,
-        };
+        let src = Source::new(&report.file, &report.text);
+        let color = stderr_color();
         for d in &errors {
-            eprintln!("{}", render::render_text(d, &src));
+            if color {
+                eprintln!("{}", render::render_colored(d, &src));
+            } else {
+                eprintln!("{}", render::render_text(d, &src));
+            }
         }
         eprintln!("{}", render::summary_text(errors.len(), 0));
         return Err(FAILED);
     }
-    Ok(report
-        .machines
-        .into_iter()
-        .filter_map(|m| m.machine)
-        .collect())
+    Ok(report.into_machines())
 }
 
 /// Loads one error-free machine (`--machine NAME`, or the file's only machine).
@@ -141,29 +107,32 @@ pub fn pick_machine(
     }
 }
 
-/// Writes a file atomically: a temporary file in the same folder, flushed and synced,
-/// then renamed over the target. A failure leaves any previous file untouched.
+/// Writes a file atomically: a temporary file with an unpredictable name
+/// (`.<name>.<random>.detent-tmp`), created
+/// exclusively in the same folder (`tempfile`: `O_EXCL`, so a file or symbolic link
+/// planted there is never opened or followed), written, flushed and synced, then
+/// renamed over the target. A failure leaves any previous file untouched and removes
+/// the temporary file.
 pub fn write_atomic(path: &Path, contents: &[u8]) -> Result<(), String> {
+    let fail = |e: std::io::Error| format!("cannot write `{}`: {e}", path.display());
+    let Some(name) = path.file_name() else {
+        return Err(format!("`{}` is not a file path", path.display()));
+    };
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => std::path::PathBuf::from("."),
     };
-    let name = path
-        .file_name()
-        .ok_or_else(|| format!("`{}` is not a file path", path.display()))?
-        .to_string_lossy()
-        .to_string();
-    let tmp = dir.join(format!(".{name}.detent-tmp-{}", std::process::id()));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(contents)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    result.map_err(|e| {
-        let _ = std::fs::remove_file(&tmp);
-        format!("cannot write `{}`: {e}", path.display())
-    })
+    // `.<name>.<random>.detent-tmp`: hidden, and recognisably ours if a kill leaves it.
+    let prefix = format!(".{}.", name.to_string_lossy());
+    let mut tmp = tempfile::Builder::new()
+        .prefix(&prefix)
+        .suffix(".detent-tmp")
+        .tempfile_in(&dir)
+        .map_err(fail)?;
+    tmp.write_all(contents).map_err(fail)?;
+    tmp.as_file().sync_all().map_err(fail)?;
+    tmp.persist(path).map_err(|e| fail(e.error))?;
+    Ok(())
 }
 
 /// `--check` support: compares `contents` with the file at `path`. Returns true when
@@ -218,17 +187,67 @@ mod tests {
     }
 
     #[test]
-    fn a_temp_file_that_cannot_be_created_keeps_the_previous_file() {
+    fn a_temp_file_that_cannot_be_created_writes_nothing() {
         let dir = scratch("no-temp");
-        let target = dir.join("out.txt");
-        std::fs::write(&target, "previous").unwrap();
-        // The temp file's name is taken by a folder, so creating it fails.
-        let tmp = dir.join(format!(".out.txt.detent-tmp-{}", std::process::id()));
-        std::fs::create_dir_all(&tmp).unwrap();
+        // The folder the output should go to does not exist: no temporary file can be
+        // created there, and nothing is created anywhere.
+        let target = dir.join("missing").join("out.txt");
         let e = write_atomic(&target, b"new").unwrap_err();
         assert!(e.contains("cannot write") && e.contains("out.txt"), "{e}");
-        assert_eq!(std::fs::read_to_string(&target).unwrap(), "previous");
+        assert!(names(&dir).is_empty());
         let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    /// The temporary file used to be `.<name>.detent-tmp-<pid>`, opened with
+    /// `File::create`, which follows a symbolic link: a link planted at that name
+    /// pointing outside the output folder made the write land there (and the rename
+    /// then left the output a link to it). Now the name is random and the file is
+    /// created exclusively: the planted links are neither followed nor replaced.
+    #[cfg(unix)]
+    #[test]
+    fn a_symlink_planted_at_the_old_temp_name_is_not_followed() {
+        let out_dir = scratch("symlink-out");
+        let outside = scratch("symlink-victim");
+        let victim = outside.join("victim.txt");
+        std::fs::write(&victim, "precious").unwrap();
+        let target = out_dir.join("out.txt");
+        std::fs::write(&target, "old").unwrap();
+        // Links at the old predictable name for this process and its neighbours.
+        let pid = std::process::id();
+        let mut planted = Vec::new();
+        for p in pid.saturating_sub(2)..=pid + 2 {
+            let link = out_dir.join(format!(".out.txt.detent-tmp-{p}"));
+            std::os::unix::fs::symlink(&victim, &link).unwrap();
+            planted.push(link);
+        }
+        write_atomic(&target, b"new contents").unwrap();
+        assert_eq!(std::fs::read(&target).unwrap(), b"new contents");
+        assert!(
+            !std::fs::symlink_metadata(&target)
+                .unwrap()
+                .file_type()
+                .is_symlink(),
+            "the output is a plain file"
+        );
+        // Nothing outside the output folder changed.
+        assert_eq!(std::fs::read_to_string(&victim).unwrap(), "precious");
+        assert_eq!(names(&outside), vec!["victim.txt".to_string()]);
+        // The planted links are still there, still links, and no temporary file is left.
+        for link in &planted {
+            assert!(std::fs::symlink_metadata(link)
+                .unwrap()
+                .file_type()
+                .is_symlink());
+        }
+        let mut expected: Vec<String> = planted
+            .iter()
+            .map(|l| l.file_name().unwrap().to_string_lossy().into_owned())
+            .collect();
+        expected.push("out.txt".to_string());
+        expected.sort();
+        assert_eq!(names(&out_dir), expected);
+        let _ = std::fs::remove_dir_all(&out_dir);
+        let _ = std::fs::remove_dir_all(&outside);
     }
 
     #[test]

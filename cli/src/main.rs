@@ -4,6 +4,8 @@
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
 //! file, or `equiv` found a difference); 2 usage or I/O error.
 
+#![forbid(unsafe_code)]
+
 mod cmd_draw;
 mod cmd_equiv;
 mod cmd_gen_c;

@@ -288,3 +288,121 @@ fn draw_and_import_commands() {
     let none = d.join("none.csv").display().to_string();
     assert_eq!(code(&detent(&["import", &none])), 2);
 }
+
+/// Two machines of one name: one message, from the driver, for every command (and the
+/// macro, `macros/tests/ui/duplicate_machine.rs`), pointing at both definitions.
+#[test]
+fn a_machine_defined_twice_gets_the_drivers_one_message() {
+    let dir = scratch("twice");
+    let spec = "machine Twin { events Go; start A; state A { Go => stay; } }\n\
+                machine Twin { events Go; start B; state B { Go => stay; } }\n";
+    let file = write(&dir, "twice.detent", spec);
+    let o = detent(&["check", &file]);
+    assert_eq!(code(&o), 1);
+    let err = stderr(&o);
+    let expected = format!(
+        "error[name]: machine `Twin` is defined twice\n --> {file}:2:9\n  |\n1 | machine Twin {{ events Go; start A; state A {{ Go => stay; }} }}\n  |         ---- first defined here\n2 | machine Twin {{ events Go; start B; state B {{ Go => stay; }} }}\n  |         ^^^^\n  |\n"
+    );
+    assert!(err.contains(&expected), "{err}");
+    assert_eq!(err.matches("defined twice").count(), 1, "{err}");
+    // The JSON report says the same, once, on the second machine.
+    let o = detent(&["check", "--format", "json", &file]);
+    let v: Value = serde_json::from_str(&stdout(&o)).expect("json");
+    assert_eq!(v["errors"], 1);
+    assert_eq!(v["machines"][0]["diagnostics"], serde_json::json!([]));
+    assert_eq!(
+        v["machines"][1]["diagnostics"][0]["message"],
+        "machine `Twin` is defined twice"
+    );
+    // Other commands refuse the file with the same message.
+    for args in [
+        vec!["table", file.as_str(), "--machine", "Twin"],
+        vec!["gen", "rust", file.as_str()],
+    ] {
+        let o = detent(&args);
+        assert_eq!(code(&o), 1, "{args:?}");
+        assert!(
+            stderr(&o).contains("error[name]: machine `Twin` is defined twice"),
+            "{args:?}: {}",
+            stderr(&o)
+        );
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// Diagnostics are coloured only on a terminal (or under `CLICOLOR_FORCE`), and never
+/// under `NO_COLOR`.
+#[test]
+fn colour_follows_the_terminal_and_no_color() {
+    let dir = scratch("colour");
+    let file = write(&dir, "errs.detent", ERRS);
+    let run = |env: &[(&str, &str)]| {
+        let mut c = Command::new(env!("CARGO_BIN_EXE_detent"));
+        c.args(["check", &file])
+            .env_remove("NO_COLOR")
+            .env_remove("CLICOLOR")
+            .env_remove("CLICOLOR_FORCE");
+        for (k, v) in env {
+            c.env(k, v);
+        }
+        stderr(&c.output().expect("runs"))
+    };
+    // A pipe: plain text.
+    let plain = run(&[]);
+    assert!(
+        plain.contains("error[incomplete]") && !plain.contains('\x1b'),
+        "{plain}"
+    );
+    // Forced colour: ANSI escapes around the same text.
+    let forced = run(&[("CLICOLOR_FORCE", "1")]);
+    assert!(forced.contains("\x1b["), "{forced}");
+    assert_eq!(strip_ansi(&forced), plain);
+    // NO_COLOR wins over everything.
+    let no_color = run(&[("CLICOLOR_FORCE", "1"), ("NO_COLOR", "1")]);
+    assert_eq!(no_color, plain);
+    // A real terminal (a pseudo-terminal from util-linux's `script`): colour, unless
+    // NO_COLOR is set.
+    let on_tty = |no_color: bool| {
+        let cmd = format!(
+            "{}{} check {}",
+            if no_color { "NO_COLOR=1 " } else { "" },
+            env!("CARGO_BIN_EXE_detent"),
+            file
+        );
+        let o = Command::new("script")
+            .args(["-qec", &cmd, "/dev/null"])
+            .env("TERM", "xterm-256color")
+            .env_remove("NO_COLOR")
+            .env_remove("CLICOLOR")
+            .env_remove("CLICOLOR_FORCE")
+            .output()
+            .expect("`script` (util-linux) runs");
+        stdout(&o)
+    };
+    let tty = on_tty(false);
+    assert!(tty.contains("\x1b[") && tty.contains("error"), "{tty:?}");
+    let tty_plain = on_tty(true);
+    assert!(
+        tty_plain.contains("error[incomplete]") && !tty_plain.contains('\x1b'),
+        "{tty_plain:?}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// Removes ANSI SGR sequences (`ESC [ ... m`).
+fn strip_ansi(s: &str) -> String {
+    let mut out = String::new();
+    let mut chars = s.chars().peekable();
+    while let Some(c) = chars.next() {
+        if c == '\x1b' && chars.peek() == Some(&'[') {
+            for d in chars.by_ref() {
+                if d == 'm' {
+                    break;
+                }
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}

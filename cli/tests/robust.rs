@@ -14,7 +14,7 @@
 //! Figures (mutants, commands run) are printed with `--nocapture` and recorded in
 //! RELIABILITY.md.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::model::Machine;
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
@@ -26,29 +26,8 @@ const TIMEOUT: Duration = Duration::from_secs(10);
 /// The same for inputs that are large on purpose.
 const BIG_TIMEOUT: Duration = Duration::from_secs(120);
 
-/// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number generators",
-/// OOPSLA 2014): small, seeded, reproducible. The tests crate has the same generator,
-/// but depending on it from here would build its C fixtures into every CLI test run.
-struct Rng(u64);
-
-impl Rng {
-    fn new(seed: u64) -> Self {
-        Rng(seed ^ 0x9E37_79B9_7F4A_7C15)
-    }
-    fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn below(&mut self, n: usize) -> usize {
-        (self.next_u64() % n.max(1) as u64) as usize
-    }
-    fn chance(&mut self, percent: u64) -> bool {
-        self.next_u64() % 100 < percent
-    }
-}
+/// The workspace's one seeded generator (SplitMix64).
+use detent_compiler::testing::Rng;
 
 fn workspace_root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -226,44 +205,44 @@ fn deep(kind: usize) -> Vec<u8> {
 fn mutate_once(rng: &mut Rng, bytes: &[u8], names: &[Vec<u8>]) -> Vec<u8> {
     let mut toks = tokens(bytes);
     let n = toks.len().max(1);
-    match rng.below(16) {
+    match rng.index(16) {
         0 => {
             if !toks.is_empty() {
-                toks.remove(rng.below(n));
+                toks.remove(rng.index(n));
             }
         }
         1 => {
-            let t = POOL[rng.below(POOL.len())].as_bytes().to_vec();
-            toks.insert(rng.below(n + 1).min(toks.len()), t);
+            let t = POOL[rng.index(POOL.len())].as_bytes().to_vec();
+            toks.insert(rng.index(n + 1).min(toks.len()), t);
         }
         2 => {
             if !toks.is_empty() {
-                let i = rng.below(n);
+                let i = rng.index(n);
                 let t = toks[i].clone();
                 toks.insert(i, t);
             }
         }
         3 => {
             if toks.len() >= 2 {
-                let (i, j) = (rng.below(n), rng.below(n));
+                let (i, j) = (rng.index(n), rng.index(n));
                 toks.swap(i, j);
             }
         }
         4 => {
             // Delete a run of tokens.
             if !toks.is_empty() {
-                let i = rng.below(n);
-                let len = 1 + rng.below(20);
+                let i = rng.index(n);
+                let len = 1 + rng.index(20);
                 toks.drain(i..(i + len).min(toks.len()));
             }
         }
         5 => {
             // Duplicate a run of tokens (a copied line or block).
             if !toks.is_empty() {
-                let i = rng.below(n);
-                let len = 1 + rng.below(40);
+                let i = rng.index(n);
+                let len = 1 + rng.index(40);
                 let run: Vec<Vec<u8>> = toks[i..(i + len).min(toks.len())].to_vec();
-                let at = rng.below(n);
+                let at = rng.index(n);
                 for (k, t) in run.into_iter().enumerate() {
                     toks.insert((at + k).min(toks.len()), t);
                 }
@@ -272,15 +251,15 @@ fn mutate_once(rng: &mut Rng, bytes: &[u8], names: &[Vec<u8>]) -> Vec<u8> {
         6 => {
             // A name from the spec in a random place (undefined and duplicate names).
             if !names.is_empty() {
-                let t = names[rng.below(names.len())].clone();
-                toks.insert(rng.below(n + 1).min(toks.len()), t);
+                let t = names[rng.index(names.len())].clone();
+                toks.insert(rng.index(n + 1).min(toks.len()), t);
             }
         }
         _ => {
             // Byte-level mutations.
             let mut b = bytes.to_vec();
-            let at = rng.below(b.len() + 1).min(b.len());
-            match rng.below(9) {
+            let at = rng.index(b.len() + 1).min(b.len());
+            match rng.index(9) {
                 0 => {
                     if !b.is_empty() {
                         b.remove(at.min(b.len() - 1));
@@ -292,28 +271,28 @@ fn mutate_once(rng: &mut Rng, bytes: &[u8], names: &[Vec<u8>]) -> Vec<u8> {
                     // Invalid UTF-8: a lone continuation byte, a truncated sequence,
                     // an overlong encoding, a surrogate.
                     let bad: [&[u8]; 5] = [b"\x80", b"\xC3", b"\xC0\xAF", b"\xED\xA0\x80", b"\xFF"];
-                    let s = bad[rng.below(bad.len())];
+                    let s = bad[rng.index(bad.len())];
                     b.splice(at..at, s.iter().copied());
                 }
                 4 => {
-                    let digits = "9".repeat(1 + rng.below(400));
+                    let digits = "9".repeat(1 + rng.index(400));
                     b.splice(at..at, digits.bytes());
                 }
                 5 => {
-                    let name = "n".repeat(1 + rng.below(200_000));
+                    let name = "n".repeat(1 + rng.index(200_000));
                     b.splice(at..at, name.bytes());
                 }
                 6 => b.truncate(at),
                 7 => {
                     if !b.is_empty() {
                         let i = at.min(b.len() - 1);
-                        b[i] ^= 1 << rng.below(8);
+                        b[i] ^= 1 << rng.index(8);
                     }
                 }
                 _ => {
-                    let nest = 1 + rng.below(300);
+                    let nest = 1 + rng.index(300);
                     let mut s = "(".repeat(nest);
-                    s.push_str(&")".repeat(if rng.chance(50) { nest } else { 0 }));
+                    s.push_str(&")".repeat(if rng.chance(0.5) { nest } else { 0 }));
                     b.splice(at..at, s.bytes());
                 }
             }
@@ -344,7 +323,7 @@ fn mutant(rng: &mut Rng, spec: &[u8], index: usize) -> Vec<u8> {
         _ => {
             let names = names_of(spec);
             let mut b = spec.to_vec();
-            for _ in 0..1 + rng.below(4) {
+            for _ in 0..1 + rng.index(4) {
                 b = mutate_once(rng, &b, &names);
             }
             b

@@ -13,7 +13,6 @@
 //! `cargo bench -p detent-compiler --bench assign`
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use detent_compiler::check;
 use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::equations::{
     auto_assign, auto_assign_baseline, synthesize, AutoReport, LogicSpec, Map,
@@ -24,7 +23,7 @@ use detent_compiler::logic::Cube;
 use detent_tests::gen::{random_spec, GenConfig};
 
 fn load(text: &str) -> LogicSpec {
-    let report = check::check_source("bench", text);
+    let report = detent_compiler::driver::check_source("bench", text);
     let m = report
         .machines
         .into_iter()

@@ -12,7 +12,7 @@
 //! `python3 scripts/bench_ratios.py check` prints the ratios for BENCHMARKS.md.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, SamplingMode};
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::syntax::parse_source;
 use std::path::Path;
 use std::process::Command;

@@ -9,8 +9,8 @@
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use detent_compiler::logic::exact::{minimize_exact, DEFAULT_NODE_BUDGET};
 use detent_compiler::logic::heuristic::minimize_heuristic;
-use detent_compiler::logic::testgen::{
-    benchmark_functions, planted_cube_function, random_cube_function, SplitMix64,
+use detent_compiler::testing::logic::{
+    benchmark_functions, planted_cube_function, random_cube_function, Rng,
 };
 
 /// Seed shared with `examples/logic_export.rs`.
@@ -44,7 +44,7 @@ fn heuristic(c: &mut Criterion) {
     let mut group = c.benchmark_group("heuristic");
     group.sample_size(10);
     for n in [20usize, 24, 32] {
-        let mut rng = SplitMix64::new(SEED ^ n as u64);
+        let mut rng = Rng::from_state(SEED ^ n as u64);
         let random = random_cube_function(&mut rng, n, 60, 10, 350);
         let (planted, planted_literals) = planted_cube_function(&mut rng, n, 12, 6);
         let (r, stats) = minimize_heuristic(&random.on, &random.dc);

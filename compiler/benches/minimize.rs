@@ -37,6 +37,7 @@ use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, SamplingMode};
 use detent_compiler::minimize::partition::{hopcroft, moore_refinement, Dfa};
+use detent_compiler::testing::dfa::random_dfa;
 
 const SYMBOLS: usize = 8;
 
@@ -119,7 +120,7 @@ fn bench_random(c: &mut Criterion) {
         .measurement_time(Duration::from_secs(2));
     for log in [10u32, 12, 14, 16, 18, 20] {
         let n = 1usize << log;
-        let dfa = Dfa::random(n, SYMBOLS, 4, 0x5EED + log as u64);
+        let dfa = random_dfa(n, SYMBOLS, 4, 0x5EED + log as u64);
         g.bench_with_input(BenchmarkId::new("hopcroft", n), &dfa, |b, d| {
             b.iter(|| black_box(hopcroft(d)).n_classes)
         });

@@ -1,4 +1,4 @@
-//! Exports the seeded benchmark functions of `detent_compiler::logic::testgen` as JSON,
+//! Exports the seeded benchmark functions of `detent_compiler::testing::logic` as JSON,
 //! with the exact minimizer's literal count and time for each, for
 //! `tests/python/bench_sopform.py` (which times sympy's SOPform on the same functions).
 //! With `--measure` it prints exact and heuristic timings per variable count instead
@@ -12,8 +12,8 @@ use std::time::Instant;
 
 use detent_compiler::logic::exact::{minimize_exact, DEFAULT_NODE_BUDGET};
 use detent_compiler::logic::heuristic::minimize_heuristic;
-use detent_compiler::logic::testgen::{benchmark_functions, random_cube_function, SplitMix64};
 use detent_compiler::logic::{check_cube_cover, Cover, Method};
+use detent_compiler::testing::logic::{benchmark_functions, random_cube_function, Rng};
 
 /// Seed shared with `benches/logic.rs`.
 const SEED: u64 = 0xde7e_4e71;
@@ -72,7 +72,7 @@ fn main() {
                 t_heur
             );
         }
-        let mut rng = SplitMix64::new(SEED);
+        let mut rng = Rng::from_state(SEED);
         for n in [20usize, 24, 32] {
             let f = random_cube_function(&mut rng, n, 60, 10, 350);
             let start = Instant::now();

@@ -10,7 +10,8 @@
 
 use std::time::Instant;
 
-use detent_compiler::minimize::partition::{hopcroft_with_stats, moore_refinement, Dfa};
+use detent_compiler::minimize::partition::{hopcroft_with_stats, moore_refinement};
+use detent_compiler::testing::dfa::random_dfa;
 
 fn arg(args: &[String], i: usize, default: usize) -> usize {
     match args.get(i) {
@@ -30,7 +31,7 @@ fn main() {
     let moore = args.get(4).is_some_and(|a| a == "moore");
 
     let t = Instant::now();
-    let dfa = Dfa::random(n, k, labels, 0x5EED);
+    let dfa = random_dfa(n, k, labels, 0x5EED);
     let gen = t.elapsed();
 
     let t = Instant::now();

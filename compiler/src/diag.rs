@@ -1,8 +1,9 @@
 //! Diagnostics: what every stage reports about a spec, with spans and witnesses.
 //!
 //! A [`Diagnostic`] is plain data; [`crate::check::render`] prints it in rustc's shape
-//! (text), as the JSON of DESIGN.md, or as SARIF; the macro turns it into a compile
-//! error or warning at its span.
+//! (text), [`crate::report::check`] as the JSON of DESIGN.md and
+//! [`crate::check::sarif`] as SARIF; the macro turns it into a compile error or warning
+//! at its span.
 
 use proc_macro2::Span;
 

@@ -4,9 +4,16 @@
 //! Three passes, each linear in the size of the file: an RFC 4180 reader
 //! ([`parse_csv`]: quoted fields, doubled quotes, CRLF or LF record ends, a leading
 //! UTF-8 byte-order mark skipped, blank records skipped), then a reader of the
-//! records (the header, the `@` declaration records, state records, rule records), and
-//! last a syntax tree built from them ([`import_csv`]), which [`import_spec`] prints
-//! with the spec printer and checks by parsing and resolving the printed text again.
+//! records (the header, the `@` declaration records, state records, rule records; guard
+//! and property fields are read by the spec's own parser,
+//! [`crate::syntax::parse_expr_text`]), and last a syntax tree built from them
+//! ([`import_csv`]), which [`import_spec`] prints with the spec printer and checks by
+//! parsing and resolving the printed text again.
+//!
+//! The CSV reader is this module's own and not the `csv` crate's (which writes the
+//! table, [`crate::table::to_csv`]): the crate reads leniently (a quote inside an
+//! unquoted field, text after a closing quote and a lone carriage return are taken as
+//! data), where a state table that was damaged must be refused at its row and column.
 //!
 //! Every problem is an [`ImportError`] naming the record (row, 1-based, the header is
 //! row 1; a quoted field with a line break does not start a new row) and the field
@@ -25,10 +32,10 @@ use crate::syntax::ast::{
 };
 use proc_macro2::Span;
 use std::collections::HashMap;
-use std::fmt;
 
 /// Why a CSV table cannot be imported, and where.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("{}", self.describe())]
 pub struct ImportError {
     /// The record, 1-based (the header is row 1); 0 for the file as a whole.
     pub row: usize,
@@ -38,22 +45,16 @@ pub struct ImportError {
     pub message: String,
 }
 
-impl fmt::Display for ImportError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+impl ImportError {
+    /// `row R, column C (name): message`, as much of the place as is known.
+    fn describe(&self) -> String {
         match (self.row, self.column) {
-            (0, _) => write!(f, "{}", self.message),
-            (r, 0) => write!(f, "row {r}: {}", self.message),
-            (r, c) => write!(
-                f,
-                "row {r}, column {c} ({}): {}",
-                column_name(c),
-                self.message
-            ),
+            (0, _) => self.message.clone(),
+            (r, 0) => format!("row {r}: {}", self.message),
+            (r, c) => format!("row {r}, column {c} ({}): {}", column_name(c), self.message),
         }
     }
 }
-
-impl std::error::Error for ImportError {}
 
 /// The header record, field by field.
 pub const HEADER: [&str; 7] = [
@@ -238,157 +239,23 @@ enum ExprKind {
     Property,
 }
 
-/// A small recursive-descent reader of guard and property text (LANGUAGE.md, Grammar:
-/// `guard := and ('||' and)*`, `and := not ('&&' not)*`, `not := '!' not | IDENT |
-/// 'true' | 'false' | '(' guard ')'`, plus `in IDENT` in properties).
-struct ExprReader<'a> {
-    tokens: Vec<(usize, &'a str)>,
-    pos: usize,
-    depth: usize,
-    row: usize,
-    column: usize,
+impl ExprKind {
+    fn noun(self) -> &'static str {
+        match self {
+            ExprKind::Guard => "guard",
+            ExprKind::Property => "property",
+        }
+    }
 }
 
-/// Nesting bound for parentheses and `!`, the spec parser's own bound.
-const MAX_EXPR_DEPTH: usize = crate::syntax::parse::MAX_NESTING;
-
-impl<'a> ExprReader<'a> {
-    fn new(text: &'a str, row: usize, column: usize) -> Result<Self, ImportError> {
-        let mut tokens = Vec::new();
-        let bytes = text.as_bytes();
-        let mut i = 0;
-        while i < bytes.len() {
-            let c = bytes[i];
-            if c.is_ascii_whitespace() {
-                i += 1;
-            } else if text[i..].starts_with("&&") || text[i..].starts_with("||") {
-                tokens.push((i, &text[i..i + 2]));
-                i += 2;
-            } else if matches!(c, b'!' | b'(' | b')') {
-                tokens.push((i, &text[i..i + 1]));
-                i += 1;
-            } else if c.is_ascii_alphanumeric() || c == b'_' || c == b'#' {
-                let start = i;
-                while i < bytes.len()
-                    && (bytes[i].is_ascii_alphanumeric() || bytes[i] == b'_' || bytes[i] == b'#')
-                {
-                    i += 1;
-                }
-                tokens.push((start, &text[start..i]));
-            } else {
-                let ch = text[i..].chars().next().unwrap_or('?');
-                return err(
-                    row,
-                    column,
-                    format!(
-                        "unexpected `{ch}` at character {} of `{text}`",
-                        text[..i].chars().count() + 1
-                    ),
-                );
-            }
-        }
-        Ok(ExprReader {
-            tokens,
-            pos: 0,
-            depth: 0,
-            row,
-            column,
-        })
-    }
-
-    fn fail<T>(&self, what: &str) -> Result<T, ImportError> {
-        let at = match self.tokens.get(self.pos) {
-            Some((_, t)) => format!("found `{t}`"),
-            None => "found the end of the field".to_owned(),
-        };
-        err(self.row, self.column, format!("expected {what}, {at}"))
-    }
-
-    fn peek(&self) -> Option<&'a str> {
-        self.tokens.get(self.pos).map(|(_, t)| *t)
-    }
-
-    fn or(&mut self) -> Result<Expr, ImportError> {
-        let mut e = self.and()?;
-        while self.peek() == Some("||") {
-            self.pos += 1;
-            let rhs = self.and()?;
-            e = Expr::Or(Box::new(e), Box::new(rhs));
-        }
-        Ok(e)
-    }
-
-    fn and(&mut self) -> Result<Expr, ImportError> {
-        let mut e = self.not()?;
-        while self.peek() == Some("&&") {
-            self.pos += 1;
-            let rhs = self.not()?;
-            e = Expr::And(Box::new(e), Box::new(rhs));
-        }
-        Ok(e)
-    }
-
-    fn not(&mut self) -> Result<Expr, ImportError> {
-        let sp = Span::call_site();
-        self.depth += 1;
-        if self.depth > MAX_EXPR_DEPTH {
-            return err(
-                self.row,
-                self.column,
-                format!("the expression nests deeper than {MAX_EXPR_DEPTH} levels"),
-            );
-        }
-        let e = match self.peek() {
-            Some("!") => {
-                self.pos += 1;
-                Expr::Not(Box::new(self.not()?), sp)
-            }
-            Some("(") => {
-                self.pos += 1;
-                let inner = self.or()?;
-                if self.peek() != Some(")") {
-                    return self.fail("`)`");
-                }
-                self.pos += 1;
-                Expr::Paren(Box::new(inner), sp)
-            }
-            Some("true") => {
-                self.pos += 1;
-                Expr::Const(true, sp)
-            }
-            Some("false") => {
-                self.pos += 1;
-                Expr::Const(false, sp)
-            }
-            Some("in") => {
-                self.pos += 1;
-                match self.peek() {
-                    Some(t) if syn::parse_str::<syn::Ident>(t).is_ok() => {
-                        self.pos += 1;
-                        Expr::In(ident(t))
-                    }
-                    _ => return self.fail("a state name after `in`"),
-                }
-            }
-            Some(t) if syn::parse_str::<syn::Ident>(t).is_ok() => {
-                self.pos += 1;
-                Expr::Name(ident(t))
-            }
-            _ => return self.fail("a name, `!`, `(`, `true` or `false`"),
-        };
-        self.depth -= 1;
-        Ok(e)
-    }
-
-    /// Reads the whole field as one expression.
-    fn read(text: &'a str, row: usize, column: usize) -> Result<Expr, ImportError> {
-        let mut r = ExprReader::new(text, row, column)?;
-        let e = r.or()?;
-        if r.pos < r.tokens.len() {
-            return r.fail("`&&`, `||` or the end of the field");
-        }
-        Ok(e)
-    }
+/// Reads a guard or `never` property field with the spec's own parser (one grammar
+/// for specs and tables); its names are checked against the declarations afterwards.
+fn read_expr(text: &str, kind: ExprKind, row: usize, column: usize) -> Result<Expr, ImportError> {
+    crate::syntax::parse_expr_text(text, kind == ExprKind::Property).map_err(|e| ImportError {
+        row,
+        column,
+        message: format!("`{text}` is not a valid {}: {}", kind.noun(), e.message),
+    })
 }
 
 /// The declarations read so far, to check the names that rows use.
@@ -814,7 +681,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         let guard = match f[2].trim() {
             "" => None,
             g => {
-                let e = ExprReader::read(g, row, 3)?;
+                let e = read_expr(g, ExprKind::Guard, row, 3)?;
                 names_.check_expr(&e, ExprKind::Guard, row, 3)?;
                 Some(e)
             }
@@ -891,7 +758,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     decls.push(decl(DeclKind::Start(ident(&start))));
     decls.push(decl(DeclKind::Unhandled(policy)));
     for (text, row) in &nevers {
-        let e = ExprReader::read(text, *row, 2)?;
+        let e = read_expr(text, ExprKind::Property, *row, 2)?;
         names_.check_expr(&e, ExprKind::Property, *row, 2)?;
         decls.push(decl(DeclKind::Never(e)));
     }

@@ -36,8 +36,8 @@ use crate::model::{
 };
 use crate::syntax::ast::{self, DispatchStyle, Expr, Policy, Vis};
 use crate::syntax::print::print_expr;
-use crate::trace::{json_names, json_str};
 use proc_macro2::Span;
+use serde::Serialize;
 use std::fmt::Write;
 
 /// How a row's step reaches its next state.
@@ -257,7 +257,7 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
             if states.is_empty() {
                 Expr::Const(false, sp)
             } else {
-                crate::syntax::parse::balanced(
+                crate::syntax::ast::balanced(
                     states
                         .iter()
                         .map(|&s| Expr::In(ident(m.state_name(s))))
@@ -361,55 +361,109 @@ pub fn to_text(m: &Machine) -> String {
     out
 }
 
-/// The table as one JSON object: `{"machine":..,"clocked":..,"start":..,"unhandled":..,
-/// "terminal":[..],"rows":[{"state":..,"event":..,"guard":..|null,"next":..,"kind":..,
-/// "mealy":[..],"actions":[..],"moore":[..]}, ..]}`, followed by a newline.
-pub fn to_json(m: &Machine) -> String {
-    let rows: Vec<String> = rows(m)
-        .iter()
-        .map(|r| {
-            format!(
-                "{{\"state\":{},\"event\":{},\"guard\":{},\"next\":{},\"kind\":{},\"mealy\":{},\"actions\":{},\"moore\":{}}}",
-                json_str(m.state_name(r.state)),
-                json_str(m.event_name(r.event)),
-                r.guard.as_deref().map_or_else(|| "null".to_string(), json_str),
-                json_str(m.state_name(r.next)),
-                json_str(r.kind.name()),
-                json_names(output_names(m, &r.mealy).into_iter()),
-                json_names(action_names(m, &r.actions).into_iter()),
-                json_names(output_names(m, &r.moore).into_iter()),
-            )
-        })
-        .collect();
-    format!(
-        "{{\"machine\":{},\"clocked\":{},\"start\":{},\"unhandled\":{},\"terminal\":{},\"rows\":[{}]}}\n",
-        json_str(&m.name),
-        m.clocked,
-        json_str(m.state_name(m.start)),
-        json_str(m.policy.keyword()),
-        json_names(terminal_states(m).into_iter()),
-        rows.join(",")
-    )
+/// The state table as the JSON of `table --format json`.
+#[derive(Debug, Serialize)]
+pub struct TableReport {
+    /// The machine's name.
+    pub machine: String,
+    /// True for a clocked machine.
+    pub clocked: bool,
+    /// The start state.
+    pub start: String,
+    /// The `unhandled` policy.
+    pub unhandled: &'static str,
+    /// The terminal states.
+    pub terminal: Vec<String>,
+    /// The rows, states then events in declaration order.
+    pub rows: Vec<RowEntry>,
 }
 
-/// One CSV field, quoted as RFC 4180 requires when it holds a comma, a quote or a line
-/// break (quotes inside are doubled).
-fn csv_field(s: &str) -> String {
-    if s.contains([',', '"', '\r', '\n']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_owned()
+/// One row of [`TableReport`].
+#[derive(Debug, Serialize)]
+pub struct RowEntry {
+    /// The present state.
+    pub state: String,
+    /// The event.
+    pub event: String,
+    /// The guard in spec syntax; `null` when the row holds for every valuation.
+    pub guard: Option<String>,
+    /// The state after the step.
+    pub next: String,
+    /// `move`, `self`, `stay`, `ignore`, `reject` or `missing`.
+    pub kind: &'static str,
+    /// Mealy outputs.
+    pub mealy: Vec<String>,
+    /// Actions, in order.
+    pub actions: Vec<String>,
+    /// Moore outputs of the present state.
+    pub moore: Vec<String>,
+}
+
+impl TableReport {
+    /// The table of machine `m`.
+    pub fn new(m: &Machine) -> TableReport {
+        let owned = |names: Vec<&str>| names.into_iter().map(str::to_owned).collect();
+        TableReport {
+            machine: m.name.clone(),
+            clocked: m.clocked,
+            start: m.state_name(m.start).to_string(),
+            unhandled: m.policy.keyword(),
+            terminal: owned(terminal_states(m)),
+            rows: rows(m)
+                .iter()
+                .map(|r| RowEntry {
+                    state: m.state_name(r.state).to_string(),
+                    event: m.event_name(r.event).to_string(),
+                    guard: r.guard.clone(),
+                    next: m.state_name(r.next).to_string(),
+                    kind: r.kind.name(),
+                    mealy: owned(output_names(m, &r.mealy)),
+                    actions: owned(action_names(m, &r.actions)),
+                    moore: owned(output_names(m, &r.moore)),
+                })
+                .collect(),
+        }
     }
 }
 
-fn csv_record(out: &mut String, fields: [&str; 7]) {
-    let f: Vec<String> = fields.iter().map(|s| csv_field(s)).collect();
-    out.push_str(&f.join(","));
-    out.push_str("\r\n");
+/// The table as one JSON object ([`TableReport`]): `{"machine":..,"clocked":..,
+/// "start":..,"unhandled":..,"terminal":[..],"rows":[{"state":..,"event":..,
+/// "guard":..|null,"next":..,"kind":..,"mealy":[..],"actions":[..],"moore":[..]}, ..]}`,
+/// followed by a newline.
+pub fn to_json(m: &Machine) -> String {
+    let mut out = crate::report::to_json(&TableReport::new(m));
+    out.push('\n');
+    out
 }
 
-fn csv_decl(out: &mut String, key: &str, value: &str) {
-    csv_record(out, [key, value, "", "", "", "", ""]);
+/// A CSV writer into memory (the `csv` crate), as RFC 4180 asks: CRLF record ends,
+/// fields quoted only when they hold a comma, a quote or a line break (quotes inside
+/// doubled).
+struct CsvOut(csv::Writer<Vec<u8>>);
+
+impl CsvOut {
+    fn new() -> CsvOut {
+        CsvOut(
+            csv::WriterBuilder::new()
+                .terminator(csv::Terminator::CRLF)
+                .quote_style(csv::QuoteStyle::Necessary)
+                .from_writer(Vec::new()),
+        )
+    }
+
+    fn record(&mut self, fields: [&str; 7]) {
+        // Writing into a `Vec` cannot fail.
+        let _ = self.0.write_record(fields);
+    }
+
+    fn decl(&mut self, key: &str, value: &str) {
+        self.record([key, value, "", "", "", "", ""]);
+    }
+
+    fn finish(self) -> String {
+        let bytes = self.0.into_inner().unwrap_or_default();
+        String::from_utf8(bytes).unwrap_or_default()
+    }
 }
 
 /// The table as RFC 4180 CSV (CRLF line ends), self-sufficient for `detent import`; the
@@ -422,60 +476,53 @@ fn csv_decl(out: &mut String, key: &str, value: &str) {
 /// `stay` for an internal transition). Lists are joined by one space. Unhandled rows are
 /// left out: the `@unhandled` row says what they do.
 pub fn to_csv(m: &Machine) -> String {
-    let mut out = String::new();
-    csv_record(
-        &mut out,
-        [
-            "state", "event", "guard", "next", "mealy", "actions", "moore",
-        ],
-    );
+    let mut out = CsvOut::new();
+    out.record([
+        "state", "event", "guard", "next", "mealy", "actions", "moore",
+    ]);
     let join = |names: Vec<&str>| names.join(" ");
-    csv_decl(&mut out, "@machine", &m.name);
+    out.decl("@machine", &m.name);
     match m.vis {
         Vis::Private => {}
-        Vis::Pub => csv_decl(&mut out, "@vis", "pub"),
-        Vis::PubCrate => csv_decl(&mut out, "@vis", "pub(crate)"),
+        Vis::Pub => out.decl("@vis", "pub"),
+        Vis::PubCrate => out.decl("@vis", "pub(crate)"),
     }
     if m.dispatch == DispatchStyle::Match {
-        csv_decl(&mut out, "@dispatch", "match");
+        out.decl("@dispatch", "match");
     }
     if m.minimize {
-        csv_decl(&mut out, "@minimize", "");
+        out.decl("@minimize", "");
     }
     if !m.clocked {
-        csv_decl(
-            &mut out,
+        out.decl(
             "@events",
             &join(m.events.iter().map(|e| e.name.as_str()).collect()),
         );
     }
-    csv_decl(
-        &mut out,
+    out.decl(
         "@inputs",
         &join(m.inputs.iter().map(|e| e.name.as_str()).collect()),
     );
-    csv_decl(
-        &mut out,
+    out.decl(
         "@outputs",
         &join(m.outputs.iter().map(|e| e.name.as_str()).collect()),
     );
-    csv_decl(
-        &mut out,
+    out.decl(
         "@actions",
         &join(m.actions.iter().map(|e| e.name.as_str()).collect()),
     );
-    csv_decl(&mut out, "@start", m.state_name(m.start));
-    csv_decl(&mut out, "@unhandled", m.policy.keyword());
+    out.decl("@start", m.state_name(m.start));
+    out.decl("@unhandled", m.policy.keyword());
     for p in &m.properties {
         match p {
-            Property::Never { prop, .. } => csv_decl(&mut out, "@never", &flat_prop_text(m, prop)),
+            Property::Never { prop, .. } => out.decl("@never", &flat_prop_text(m, prop)),
             Property::Recover { target, except, .. } => {
                 let mut text = m.state_name(*target).to_string();
                 if !except.is_empty() {
                     let names: Vec<&str> = except.iter().map(|s| m.state_name(*s)).collect();
                     let _ = write!(text, " except {}", names.join(", "));
                 }
-                csv_decl(&mut out, "@recover", &text);
+                out.decl("@recover", &text);
             }
         }
     }
@@ -484,18 +531,15 @@ pub fn to_csv(m: &Machine) -> String {
     for (si, st) in m.states.iter().enumerate() {
         let s = StateId::from_index(si);
         let moore = join(output_names(m, &st.moore));
-        csv_record(
-            &mut out,
-            [
-                &st.name,
-                "",
-                "",
-                if st.terminal { "terminal" } else { "" },
-                "",
-                "",
-                &moore,
-            ],
-        );
+        out.record([
+            &st.name,
+            "",
+            "",
+            if st.terminal { "terminal" } else { "" },
+            "",
+            "",
+            &moore,
+        ]);
         while let Some(r) = next_row.next_if(|r| r.state == s) {
             if r.kind.is_unhandled() {
                 continue;
@@ -505,21 +549,18 @@ pub fn to_csv(m: &Machine) -> String {
             } else {
                 m.state_name(r.next)
             };
-            csv_record(
-                &mut out,
-                [
-                    &st.name,
-                    m.event_name(r.event),
-                    r.guard.as_deref().unwrap_or(""),
-                    next,
-                    &join(output_names(m, &r.mealy)),
-                    &join(action_names(m, &r.actions)),
-                    &moore,
-                ],
-            );
+            out.record([
+                &st.name,
+                m.event_name(r.event),
+                r.guard.as_deref().unwrap_or(""),
+                next,
+                &join(output_names(m, &r.mealy)),
+                &join(action_names(m, &r.actions)),
+                &moore,
+            ]);
         }
     }
-    out
+    out.finish()
 }
 
 #[cfg(test)]
@@ -740,10 +781,16 @@ S1,Tick,!bit,S0,,,found\r\n"
     fn csv_quoting_follows_rfc_4180() {
         // RFC 4180, section 2, rules 6 and 7: fields with commas, quotes or line breaks
         // are enclosed in double quotes, and a quote inside is doubled.
-        assert_eq!(csv_field("plain"), "plain");
-        assert_eq!(csv_field("a, b"), "\"a, b\"");
-        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
-        assert_eq!(csv_field("two\nlines"), "\"two\nlines\"");
-        assert_eq!(csv_field(""), "");
+        let field = |f: &str| {
+            let mut out = CsvOut::new();
+            out.record([f, "", "", "", "", "", ""]);
+            out.finish()
+        };
+        assert_eq!(field("plain"), "plain,,,,,,\r\n");
+        assert_eq!(field("a, b"), "\"a, b\",,,,,,\r\n");
+        assert_eq!(field("say \"hi\""), "\"say \"\"hi\"\"\",,,,,,\r\n");
+        assert_eq!(field("two\nlines"), "\"two\nlines\",,,,,,\r\n");
+        assert_eq!(field("cr\rhere"), "\"cr\rhere\",,,,,,\r\n");
+        assert_eq!(field(""), ",,,,,,\r\n");
     }
 }

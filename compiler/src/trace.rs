@@ -26,12 +26,15 @@
 //!   marker too: a trace runs from the start state without restarts).
 //!
 //! Errors carry the 1-based line and the 1-based column (in characters) of the offending
-//! word or JSON value.
+//! word or JSON value. JSON is read by serde_json: each key and value is kept as a
+//! `RawValue` borrowed from the line, so its position is where its text starts; a line
+//! that is not JSON at all gets serde_json's own message (`invalid JSON: ...`) at the
+//! column it names.
 //!
 //! # Output
 //!
 //! [`run_json_lines`] runs the steps through the reference interpreter
-//! ([`Machine::step`]) and renders DESIGN.md's JSON lines: a step-0 line with the start
+//! ([`Machine::step`]) and renders DESIGN.md's JSON lines ([`RunLine`], serde): a step-0 line with the start
 //! state and its Moore outputs, then one line per step with `from`, `event`, `to`,
 //! `handled`, the Mealy and Moore outputs (declaration order) and the actions (run order).
 //!
@@ -41,6 +44,9 @@
 
 use crate::interp::StepResult;
 use crate::model::{EventId, InputId, Machine};
+use serde::de::{Deserialize, Deserializer, MapAccess, Visitor};
+use serde::Serialize;
+use serde_json::value::RawValue;
 use std::fmt;
 
 /// One parsed step of a trace.
@@ -55,7 +61,8 @@ pub struct TraceStep {
 }
 
 /// A malformed trace line.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("line {line}, column {column}: {message}")]
 pub struct TraceError {
     /// 1-based line number.
     pub line: usize,
@@ -65,18 +72,6 @@ pub struct TraceError {
     pub message: String,
 }
 
-impl fmt::Display for TraceError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "line {}, column {}: {}",
-            self.line, self.column, self.message
-        )
-    }
-}
-
-impl std::error::Error for TraceError {}
-
 /// Parses a whole trace (text and JSON lines may be mixed) against a machine's events and
 /// inputs. Stops at the first error.
 pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceStep>, TraceError> {
@@ -84,10 +79,9 @@ pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceStep>, TraceError
     for (index, raw) in text.lines().enumerate() {
         let line = index + 1;
         let trimmed = raw.trim_start();
-        let lead = raw.len() - trimmed.len();
         match trimmed.as_bytes().first() {
             None | Some(b'#') => continue,
-            Some(b'[') | Some(b'{') => parse_json_line(m, raw, lead, line, &mut steps)?,
+            Some(b'[') | Some(b'{') => parse_json_line(m, raw, line, &mut steps)?,
             Some(_) => steps.push(parse_text_line(m, raw, line)?),
         }
     }
@@ -108,44 +102,91 @@ pub fn run_json_lines(m: &Machine, steps: &[TraceStep]) -> Vec<String> {
     out
 }
 
+/// One JSON line of `detent run` (DESIGN.md): the start line, or one step.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[serde(untagged)]
+pub enum RunLine {
+    /// `{"step":0,"state":..,"moore":[..]}`: the start state and its Moore outputs.
+    Start {
+        /// Always 0.
+        step: usize,
+        /// The start state.
+        state: String,
+        /// Its Moore outputs, declaration order.
+        moore: Vec<String>,
+    },
+    /// `{"step":n,"from":..,"event":..,"to":..,"handled":..,"mealy":[..],"moore":[..],
+    /// "actions":[..]}`.
+    Step {
+        /// The 1-based step number.
+        step: usize,
+        /// The state before.
+        from: String,
+        /// The event.
+        event: String,
+        /// The state after.
+        to: String,
+        /// False when the event was ignored or rejected.
+        handled: bool,
+        /// Mealy outputs of the rule, declaration order.
+        mealy: Vec<String>,
+        /// Moore outputs after the step, declaration order.
+        moore: Vec<String>,
+        /// Actions, in the order they ran.
+        actions: Vec<String>,
+    },
+}
+
+impl RunLine {
+    /// The start line of machine `m`.
+    pub fn start(m: &Machine) -> RunLine {
+        let start = &m.states[m.start.index()];
+        RunLine::Start {
+            step: 0,
+            state: start.name.clone(),
+            moore: output_names(m, &start.moore),
+        }
+    }
+
+    /// The line of step number `n` (1-based) of an interpreter run.
+    pub fn step(m: &Machine, n: usize, r: &StepResult) -> RunLine {
+        RunLine::Step {
+            step: n,
+            from: m.state_name(r.from).to_string(),
+            event: m.event_name(r.event).to_string(),
+            to: m.state_name(r.to).to_string(),
+            handled: r.handled(),
+            mealy: output_names(m, &r.mealy),
+            moore: output_names(m, &r.moore),
+            actions: r
+                .actions
+                .iter()
+                .map(|a| m.actions[a.index()].name.clone())
+                .collect(),
+        }
+    }
+
+    /// The line as one line of JSON.
+    pub fn to_json(&self) -> String {
+        crate::report::to_json(self)
+    }
+}
+
+fn output_names(m: &Machine, outputs: &[crate::model::OutputId]) -> Vec<String> {
+    outputs
+        .iter()
+        .map(|o| m.outputs[o.index()].name.clone())
+        .collect()
+}
+
 /// The step-0 line: the start state and its Moore outputs.
 pub fn start_json(m: &Machine) -> String {
-    let start = &m.states[m.start.index()];
-    format!(
-        "{{\"step\":0,\"state\":{},\"moore\":{}}}",
-        json_str(&start.name),
-        json_names(
-            start
-                .moore
-                .iter()
-                .map(|o| m.outputs[o.index()].name.as_str())
-        )
-    )
+    RunLine::start(m).to_json()
 }
 
 /// The JSON line of step number `n` (1-based) of an interpreter run.
 pub fn step_json(m: &Machine, n: usize, r: &StepResult) -> String {
-    format!(
-        "{{\"step\":{n},\"from\":{},\"event\":{},\"to\":{},\"handled\":{},\"mealy\":{},\"moore\":{},\"actions\":{}}}",
-        json_str(m.state_name(r.from)),
-        json_str(m.event_name(r.event)),
-        json_str(m.state_name(r.to)),
-        r.handled(),
-        json_names(r.mealy.iter().map(|o| m.outputs[o.index()].name.as_str())),
-        json_names(r.moore.iter().map(|o| m.outputs[o.index()].name.as_str())),
-        json_names(r.actions.iter().map(|a| m.actions[a.index()].name.as_str())),
-    )
-}
-
-/// A JSON string literal (serde_json's escaping; `Display` of a `Value` cannot fail).
-pub(crate) fn json_str(s: &str) -> String {
-    serde_json::Value::String(s.to_owned()).to_string()
-}
-
-/// A JSON array of string literals.
-pub(crate) fn json_names<'a>(names: impl Iterator<Item = &'a str>) -> String {
-    let items: Vec<String> = names.map(json_str).collect();
-    format!("[{}]", items.join(","))
+    RunLine::step(m, n, r).to_json()
 }
 
 /// 1-based character column of byte offset `byte` in `line`.
@@ -293,7 +334,6 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceStep, Tra
 fn parse_json_line(
     m: &Machine,
     raw: &str,
-    lead: usize,
     line: usize,
     steps: &mut Vec<TraceStep>,
 ) -> Result<(), TraceError> {
@@ -302,62 +342,141 @@ fn parse_json_line(
         column: column(raw, byte),
         message,
     };
-    let mut p = JsonParser {
-        text: raw,
-        pos: lead,
-    };
-    let value = p.value().map_err(|(at, msg)| err(at, msg))?;
-    p.skip_ws();
-    if p.pos < raw.len() {
-        return Err(err(p.pos, "unexpected text after the JSON value".into()));
+    let mut de = serde_json::Deserializer::from_str(raw);
+    let value = <&RawValue>::deserialize(&mut de).map_err(|e| json_error(raw, line, &e))?;
+    if de.end().is_err() {
+        let after = offset_in(raw, value.get()) + value.get().len();
+        let at = after + (raw[after..].len() - raw[after..].trim_start().len());
+        return Err(err(at, "unexpected text after the JSON value".into()));
     }
-    let items = match value.value {
-        Json::Array(items) => items,
-        other => vec![Spanned {
-            at: value.at,
-            value: other,
-        }],
+    let items: Vec<&RawValue> = if value.get().starts_with('[') {
+        serde_json::from_str(value.get()).map_err(|e| json_error(raw, line, &e))?
+    } else {
+        vec![value]
     };
     for item in items {
-        steps.push(json_step(m, item, line).map_err(|(at, msg)| err(at, msg))?);
+        steps.push(json_step(m, raw, item, line).map_err(|(at, msg)| err(at, msg))?);
     }
     Ok(())
 }
 
-fn json_step(m: &Machine, v: Spanned, line: usize) -> Result<TraceStep, (usize, String)> {
-    let Json::Object(fields) = v.value else {
+/// A JSON syntax error of serde_json at its line and column. The trace line is parsed
+/// alone, so serde_json's line is 1 and its column counts bytes of that line.
+fn json_error(raw: &str, line: usize, e: &serde_json::Error) -> TraceError {
+    let text = e.to_string();
+    let suffix = format!(" at line {} column {}", e.line(), e.column());
+    let message = text.strip_suffix(&suffix).unwrap_or(&text);
+    let (at, message) = if e.classify() == serde_json::error::Category::Eof {
+        // The value is cut off: point past the end of the line.
+        (
+            raw.len(),
+            format!("invalid JSON: the line ends inside the value ({message})"),
+        )
+    } else {
+        (
+            e.column().saturating_sub(1).min(raw.len()),
+            format!("invalid JSON: {message}"),
+        )
+    };
+    TraceError {
+        line,
+        column: column(raw, at),
+        message,
+    }
+}
+
+/// Byte offset of `inner`, a slice borrowed from `outer`, in `outer`. serde_json's
+/// [`RawValue`]s borrow from the line they are parsed from, so each value's position is
+/// where its text starts.
+fn offset_in(outer: &str, inner: &str) -> usize {
+    (inner.as_ptr() as usize)
+        .saturating_sub(outer.as_ptr() as usize)
+        .min(outer.len())
+}
+
+/// The fields of a JSON object in written order, each key and value as raw text (so
+/// that an error can point at it; repeated keys are kept, to be refused by name).
+struct Fields<'a>(Vec<(&'a RawValue, &'a RawValue)>);
+
+impl<'de> Deserialize<'de> for Fields<'de> {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct FieldsVisitor;
+        impl<'de> Visitor<'de> for FieldsVisitor {
+            type Value = Fields<'de>;
+            fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+                f.write_str("a JSON object")
+            }
+            fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Fields<'de>, A::Error> {
+                let mut fields = Vec::new();
+                while let Some(entry) = map.next_entry::<&RawValue, &RawValue>()? {
+                    fields.push(entry);
+                }
+                Ok(Fields(fields))
+            }
+        }
+        deserializer.deserialize_map(FieldsVisitor)
+    }
+}
+
+/// The fields of the object `v` of line `raw`; `None` when `v` is not an object.
+fn fields_of<'a>(raw: &str, v: &'a RawValue) -> Result<Option<Fields<'a>>, (usize, String)> {
+    if !v.get().starts_with('{') {
+        return Ok(None);
+    }
+    serde_json::from_str(v.get())
+        .map(Some)
+        .map_err(|e| (offset_in(raw, v.get()), format!("invalid JSON: {e}")))
+}
+
+/// The string a raw JSON key or value holds, escapes decoded; `None` for another kind
+/// of value.
+fn string_of(v: &RawValue) -> Option<String> {
+    serde_json::from_str::<String>(v.get()).ok()
+}
+
+fn json_step(
+    m: &Machine,
+    raw: &str,
+    v: &RawValue,
+    line: usize,
+) -> Result<TraceStep, (usize, String)> {
+    let at = |v: &RawValue| offset_in(raw, v.get());
+    let Some(fields) = fields_of(raw, v)? else {
         return Err((
-            v.at,
+            at(v),
             "expected a step object `{\"event\":..,\"inputs\":{..}}`".into(),
         ));
     };
     let mut event = None;
     let mut inputs = vec![false; m.inputs.len()];
     let mut seen_inputs = false;
-    for (key_at, key, value) in fields {
-        match key.as_str() {
+    for (key, value) in fields.0 {
+        let key_at = at(key);
+        match string_of(key).as_deref().unwrap_or_default() {
             "event" => {
                 if event.is_some() {
                     return Err((key_at, "key `event` is given twice".into()));
                 }
-                let Json::Str(name) = &value.value else {
-                    return Err((value.at, "`event` must be a string".into()));
+                let Some(name) = string_of(value) else {
+                    return Err((at(value), "`event` must be a string".into()));
                 };
-                event = Some(lookup_event(m, name).map_err(|msg| (value.at, msg))?);
+                event = Some(lookup_event(m, &name).map_err(|msg| (at(value), msg))?);
             }
             "inputs" => {
                 if seen_inputs {
                     return Err((key_at, "key `inputs` is given twice".into()));
                 }
                 seen_inputs = true;
-                let Json::Object(vals) = value.value else {
+                let Some(vals) = fields_of(raw, value)? else {
                     return Err((
-                        value.at,
+                        at(value),
                         "`inputs` must be an object like {\"a\":true}".into(),
                     ));
                 };
                 let mut given = vec![false; m.inputs.len()];
-                for (name_at, name, val) in vals {
+                for (name_raw, val) in vals.0 {
+                    let name = string_of(name_raw).unwrap_or_default();
+                    let name_at = at(name_raw);
                     let id = lookup_input(m, &name).map_err(|msg| (name_at, msg))?;
                     if given[id.index()] {
                         return Err((
@@ -366,13 +485,12 @@ fn json_step(m: &Machine, v: Spanned, line: usize) -> Result<TraceStep, (usize, 
                         ));
                     }
                     given[id.index()] = true;
-                    inputs[id.index()] = match &val.value {
-                        Json::Bool(b) => *b,
-                        Json::Num(n) if n == "0" => false,
-                        Json::Num(n) if n == "1" => true,
+                    inputs[id.index()] = match val.get() {
+                        "true" | "1" => true,
+                        "false" | "0" => false,
                         _ => {
                             return Err((
-                                val.at,
+                                at(val),
                                 format!("input `{name}` must be true, false, 0 or 1"),
                             ))
                         }
@@ -396,262 +514,13 @@ fn json_step(m: &Machine, v: Spanned, line: usize) -> Result<TraceStep, (usize, 
         }
     }
     let Some(event) = event else {
-        return Err((v.at, "this step has no `event`".into()));
+        return Err((at(v), "this step has no `event`".into()));
     };
     Ok(TraceStep {
         event,
         inputs,
         line,
     })
-}
-
-/// A JSON value with the byte offset where it starts.
-struct Spanned {
-    at: usize,
-    value: Json,
-}
-
-/// The JSON values a trace line can hold. Numbers keep their text: the only numbers a
-/// trace accepts are `0` and `1`.
-enum Json {
-    Null,
-    Bool(bool),
-    Num(String),
-    Str(String),
-    Array(Vec<Spanned>),
-    /// Fields in written order: (key offset, key, value).
-    Object(Vec<(usize, String, Spanned)>),
-}
-
-/// A small recursive-descent JSON reader (RFC 8259 grammar) that keeps the offset of
-/// every value, so that errors point at the offending column. serde_json's `Value`
-/// drops positions, hence this reader.
-struct JsonParser<'a> {
-    text: &'a str,
-    pos: usize,
-}
-
-type JsonResult<T> = Result<T, (usize, String)>;
-
-impl JsonParser<'_> {
-    /// Nesting limit: a trace line is a flat list of flat objects.
-    const MAX_DEPTH: usize = 16;
-
-    fn peek(&self) -> Option<u8> {
-        self.text.as_bytes().get(self.pos).copied()
-    }
-
-    fn skip_ws(&mut self) {
-        while let Some(b' ' | b'\t' | b'\n' | b'\r') = self.peek() {
-            self.pos += 1;
-        }
-    }
-
-    fn expect(&mut self, b: u8) -> JsonResult<()> {
-        self.skip_ws();
-        if self.peek() == Some(b) {
-            self.pos += 1;
-            Ok(())
-        } else {
-            Err((self.pos, format!("expected `{}` in JSON", b as char)))
-        }
-    }
-
-    fn value(&mut self) -> JsonResult<Spanned> {
-        self.value_at_depth(0)
-    }
-
-    fn value_at_depth(&mut self, depth: usize) -> JsonResult<Spanned> {
-        self.skip_ws();
-        let at = self.pos;
-        if depth > Self::MAX_DEPTH {
-            return Err((at, "JSON nested too deeply for a trace".into()));
-        }
-        let value = match self.peek() {
-            None => return Err((at, "unexpected end of line in JSON".into())),
-            Some(b'{') => {
-                self.pos += 1;
-                let mut fields = Vec::new();
-                self.skip_ws();
-                if self.peek() == Some(b'}') {
-                    self.pos += 1;
-                } else {
-                    loop {
-                        self.skip_ws();
-                        let key_at = self.pos;
-                        if self.peek() != Some(b'"') {
-                            return Err((key_at, "expected a string key in JSON object".into()));
-                        }
-                        let key = self.string()?;
-                        self.expect(b':')?;
-                        let v = self.value_at_depth(depth + 1)?;
-                        fields.push((key_at, key, v));
-                        self.skip_ws();
-                        match self.peek() {
-                            Some(b',') => self.pos += 1,
-                            Some(b'}') => {
-                                self.pos += 1;
-                                break;
-                            }
-                            _ => {
-                                return Err((self.pos, "expected `,` or `}` in JSON object".into()))
-                            }
-                        }
-                    }
-                }
-                Json::Object(fields)
-            }
-            Some(b'[') => {
-                self.pos += 1;
-                let mut items = Vec::new();
-                self.skip_ws();
-                if self.peek() == Some(b']') {
-                    self.pos += 1;
-                } else {
-                    loop {
-                        items.push(self.value_at_depth(depth + 1)?);
-                        self.skip_ws();
-                        match self.peek() {
-                            Some(b',') => self.pos += 1,
-                            Some(b']') => {
-                                self.pos += 1;
-                                break;
-                            }
-                            _ => {
-                                return Err((self.pos, "expected `,` or `]` in JSON array".into()))
-                            }
-                        }
-                    }
-                }
-                Json::Array(items)
-            }
-            Some(b'"') => Json::Str(self.string()?),
-            Some(b't') => self.keyword("true", Json::Bool(true))?,
-            Some(b'f') => self.keyword("false", Json::Bool(false))?,
-            Some(b'n') => self.keyword("null", Json::Null)?,
-            Some(b'-' | b'0'..=b'9') => Json::Num(self.number()?),
-            Some(_) => return Err((at, "expected a JSON value".into())),
-        };
-        Ok(Spanned { at, value })
-    }
-
-    fn keyword(&mut self, word: &str, v: Json) -> JsonResult<Json> {
-        if self.text[self.pos..].starts_with(word) {
-            self.pos += word.len();
-            Ok(v)
-        } else {
-            Err((self.pos, "expected a JSON value".into()))
-        }
-    }
-
-    fn number(&mut self) -> JsonResult<String> {
-        let start = self.pos;
-        let bytes = self.text.as_bytes();
-        let digits = |p: &mut usize| {
-            let s = *p;
-            while bytes.get(*p).is_some_and(u8::is_ascii_digit) {
-                *p += 1;
-            }
-            *p > s
-        };
-        let mut p = self.pos;
-        if bytes.get(p) == Some(&b'-') {
-            p += 1;
-        }
-        if !digits(&mut p) {
-            return Err((start, "malformed JSON number".into()));
-        }
-        if bytes.get(p) == Some(&b'.') {
-            p += 1;
-            if !digits(&mut p) {
-                return Err((start, "malformed JSON number".into()));
-            }
-        }
-        if let Some(b'e' | b'E') = bytes.get(p) {
-            p += 1;
-            if let Some(b'+' | b'-') = bytes.get(p) {
-                p += 1;
-            }
-            if !digits(&mut p) {
-                return Err((start, "malformed JSON number".into()));
-            }
-        }
-        self.pos = p;
-        Ok(self.text[start..p].to_owned())
-    }
-
-    /// A string literal starting at `"`; decodes escapes, including surrogate pairs.
-    fn string(&mut self) -> JsonResult<String> {
-        let start = self.pos;
-        self.pos += 1;
-        let mut out = String::new();
-        loop {
-            let rest = &self.text[self.pos..];
-            let Some(c) = rest.chars().next() else {
-                return Err((start, "unterminated JSON string".into()));
-            };
-            let at = self.pos;
-            self.pos += c.len_utf8();
-            match c {
-                '"' => return Ok(out),
-                '\\' => {
-                    let Some(e) = self.text[self.pos..].chars().next() else {
-                        return Err((start, "unterminated JSON string".into()));
-                    };
-                    self.pos += e.len_utf8();
-                    match e {
-                        '"' => out.push('"'),
-                        '\\' => out.push('\\'),
-                        '/' => out.push('/'),
-                        'b' => out.push('\u{8}'),
-                        'f' => out.push('\u{c}'),
-                        'n' => out.push('\n'),
-                        'r' => out.push('\r'),
-                        't' => out.push('\t'),
-                        'u' => {
-                            let hi = self.hex4(at)?;
-                            let code = if (0xD800..0xDC00).contains(&hi) {
-                                if !self.text[self.pos..].starts_with("\\u") {
-                                    return Err((at, "unpaired surrogate in JSON string".into()));
-                                }
-                                self.pos += 2;
-                                let lo = self.hex4(at)?;
-                                if !(0xDC00..0xE000).contains(&lo) {
-                                    return Err((at, "unpaired surrogate in JSON string".into()));
-                                }
-                                0x10000 + ((hi - 0xD800) << 10) + (lo - 0xDC00)
-                            } else {
-                                hi
-                            };
-                            match char::from_u32(code) {
-                                Some(ch) => out.push(ch),
-                                None => {
-                                    return Err((at, "invalid \\u escape in JSON string".into()))
-                                }
-                            }
-                        }
-                        _ => return Err((at, "invalid escape in JSON string".into())),
-                    }
-                }
-                c if (c as u32) < 0x20 => {
-                    return Err((at, "control character in JSON string".into()))
-                }
-                c => out.push(c),
-            }
-        }
-    }
-
-    fn hex4(&mut self, at: usize) -> JsonResult<u32> {
-        let digits = self
-            .text
-            .get(self.pos..self.pos + 4)
-            .filter(|d| d.bytes().all(|b| b.is_ascii_hexdigit()))
-            .ok_or((at, "invalid \\u escape in JSON string".to_string()))?;
-        let v = u32::from_str_radix(digits, 16)
-            .map_err(|_| (at, "invalid \\u escape in JSON string".to_string()))?;
-        self.pos += 4;
-        Ok(v)
-    }
 }
 
 #[cfg(test)]
@@ -985,12 +854,29 @@ Stop
         );
         assert_eq!(
             error(&m, r#"[{"event":"Go"}"#),
-            (1, 16, "expected `,` or `]` in JSON array".into())
+            (
+                1,
+                16,
+                "invalid JSON: the line ends inside the value (EOF while parsing a list)".into()
+            )
         );
         assert_eq!(
             error(&m, "Go\n{\"event\":\"G\\u006f\",\"inputs\":{\"a\":tru}}"),
-            (2, 34, "expected a JSON value".into())
+            (2, 37, "invalid JSON: expected ident".into())
         );
+        // Not JSON at all, and JSON nested far deeper than a trace needs: errors, not
+        // a stack overflow.
+        assert_eq!(
+            error(&m, "{event}"),
+            (1, 2, "invalid JSON: key must be a string".into())
+        );
+        let deep = format!("{}{}", "[".repeat(100_000), "]".repeat(100_000));
+        assert_eq!(
+            error(&m, &deep).2,
+            "expected a step object `{\"event\":..,\"inputs\":{..}}`"
+        );
+        let deep_object = format!("{}1{}", "{\"event\":".repeat(50_000), "}".repeat(50_000));
+        assert_eq!(error(&m, &deep_object).0, 1);
         // `\u006f` is `o`: escapes decode.
         assert_eq!(
             parse_trace(&m, "{\"event\":\"G\\u006f\"}").unwrap()[0].event,

@@ -5,7 +5,7 @@ use detent_compiler::emit::c::generate_c;
 fn machine(name: &str) -> detent_compiler::model::Machine {
     let path = format!("{}/../examples/{name}", env!("CARGO_MANIFEST_DIR"));
     let text = std::fs::read_to_string(&path).expect("example exists");
-    let report = detent_compiler::check::check_source(name, &text);
+    let report = detent_compiler::driver::check_source(name, &text);
     assert!(!report.has_errors(), "{name} checks clean");
     report.machines.into_iter().next().unwrap().machine.unwrap()
 }

@@ -1,6 +1,6 @@
 //! Equivalence with shortest distinguishing sequences, and transition tours.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::Outcome;
 use detent_compiler::minimize::equiv::equiv;
 use detent_compiler::model::{EventId, Machine, RuleId, StateId};

@@ -4,7 +4,7 @@
 //! property search: plain breadth-first search over states x events x all input
 //! valuations, fine for the few inputs the examples have).
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::StepResult;
 use detent_compiler::model::{EventId, Machine, Prop, Property, StateId};
 use detent_compiler::trace::parse_trace;

@@ -108,7 +108,7 @@ fn every_example_round_trips_through_csv() {
         assert_eq!(original.policy, imported.policy, "{what}");
         // The imported spec checks clean when the original does, and its table is the
         // same file again (a fixed point after one round).
-        let report = detent_compiler::check::check_source("imported.detent", &spec);
+        let report = detent_compiler::driver::check_source("imported.detent", &spec);
         assert!(
             !report.has_errors(),
             "{what}: imported spec has errors:\n{spec}"

@@ -4,21 +4,20 @@
 //! it does not depend on the thread count, and a zero time budget returns the first
 //! candidate, reported as cut short. Speed is measured in `benches/assign.rs`, not here.
 
-use detent_compiler::check;
 use detent_compiler::logic::assign::{dense_bits, Encoding, EncodingKind};
 use detent_compiler::logic::equations::{
     auto_assign, auto_assign_baseline, auto_assign_with, synthesize, AutoReport, LogicSpec, Map,
 };
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::{search_assignment, Evaluator, SearchOptions};
-use detent_compiler::logic::testgen::SplitMix64;
 use detent_compiler::model::Machine;
+use detent_compiler::rng::Rng;
 use detent_tests::gen::{random_spec, GenConfig};
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
 fn load(name: &str, text: &str) -> Machine {
-    let report = check::check_source(name, text);
+    let report = detent_compiler::driver::check_source(name, text);
     assert!(!report.has_errors(), "{name} has errors");
     report
         .machines
@@ -84,7 +83,7 @@ fn searched_literals(report: &AutoReport) -> usize {
 
 #[test]
 fn exact_cost_is_the_literal_count_of_the_design() {
-    let mut rng = SplitMix64::new(5);
+    let mut rng = Rng::from_state(5);
     let mut machines = examples();
     machines.push(("charger".into(), charger()));
     for (name, m) in machines {

@@ -5,7 +5,6 @@
 //! Every cover is re-checked against its on- and off-set here, and a hand-worked
 //! counter pins the textbook excitation equations.
 
-use detent_compiler::check;
 use detent_compiler::logic::assign::{
     canonical_assignments, dense_bits, raw_assignment_count, Encoding, EncodingKind,
 };
@@ -23,7 +22,7 @@ fn examples_dir() -> PathBuf {
 }
 
 fn load(name: &str, text: &str) -> Machine {
-    let report = check::check_source(name, text);
+    let report = detent_compiler::driver::check_source(name, text);
     assert!(!report.has_errors(), "{name} has errors");
     report
         .machines
@@ -315,8 +314,8 @@ fn random_machines_simulate_like_the_interpreter() {
         let text = random_spec(seed, &cfg);
         let m = load(&format!("random{seed}"), &text);
         let encs = encodings(m.states.len());
-        let enc = &encs[rng.below(encs.len())];
-        let ff = FlipFlop::ALL[rng.below(4)];
+        let enc = &encs[rng.index(encs.len())];
+        let ff = FlipFlop::ALL[rng.index(4)];
         let steps = trace_steps(&mut rng, &m, 150);
         run_case(&format!("seed {seed}\n{text}"), &m, enc, ff, &steps, &dir);
     }

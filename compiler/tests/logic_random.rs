@@ -4,11 +4,11 @@
 
 use detent_compiler::logic::cube::{full_mask, Cube};
 use detent_compiler::logic::exact::CoverCost;
-use detent_compiler::logic::testgen::{
-    planted_cube_function, random_cube_function, random_function, SplitMix64,
-};
 use detent_compiler::logic::{
     check_cover, check_cube_cover, gates, minimize, minimize_cubes, Cover, Function, Method,
+};
+use detent_compiler::testing::logic::{
+    planted_cube_function, random_cube_function, random_function, Rng,
 };
 
 /// Brute-force minimum cost (literals, then products) by dynamic programming over
@@ -87,7 +87,7 @@ fn brute_force_minimum(f: &Function) -> CoverCost {
 
 #[test]
 fn exact_matches_brute_force_on_small_functions() {
-    let mut rng = SplitMix64::new(0x5eed_0001);
+    let mut rng = Rng::from_state(0x5eed_0001);
     let mut checked = 0;
     for round in 0..600 {
         let n = 1 + round % 5;
@@ -120,7 +120,7 @@ const FULL: bool = !cfg!(debug_assertions);
 
 #[test]
 fn every_cover_is_valid_on_random_functions() {
-    let mut rng = SplitMix64::new(0x5eed_0002);
+    let mut rng = Rng::from_state(0x5eed_0002);
     let (rounds, widths) = if FULL { (60, 13) } else { (20, 9) };
     for round in 0..rounds {
         let n = 2 + round % widths; // 2..=14 (release), 2..=10 (debug)
@@ -149,7 +149,7 @@ fn every_cover_is_valid_on_random_functions() {
 
 #[test]
 fn check_cover_rejects_a_broken_cover() {
-    let mut rng = SplitMix64::new(0x5eed_0003);
+    let mut rng = Rng::from_state(0x5eed_0003);
     for _ in 0..50 {
         let f = random_function(&mut rng, 6, 400, 100);
         let cover = minimize(&f).unwrap();
@@ -173,7 +173,7 @@ fn check_cover_rejects_a_broken_cover() {
 
 #[test]
 fn heuristic_is_valid_on_wide_cube_functions() {
-    let mut rng = SplitMix64::new(0x5eed_0004);
+    let mut rng = Rng::from_state(0x5eed_0004);
     let per_width = if FULL { 3 } else { 1 };
     for (k, n) in [20usize, 24, 28, 32, 40].into_iter().enumerate() {
         for _ in 0..per_width {
@@ -199,7 +199,7 @@ fn heuristic_is_valid_on_wide_cube_functions() {
 /// find better). Measured numbers are printed.
 #[test]
 fn heuristic_recovers_planted_covers() {
-    let mut rng = SplitMix64::new(0x5eed_0006);
+    let mut rng = Rng::from_state(0x5eed_0006);
     for n in [20usize, 24, 32] {
         let (f, planted) = planted_cube_function(&mut rng, n, 10, 6);
         let cover = minimize_cubes(&f).unwrap();
@@ -220,7 +220,7 @@ fn heuristic_recovers_planted_covers() {
 
 #[test]
 fn heuristic_is_valid_on_more_wide_functions() {
-    let mut rng = SplitMix64::new(0x5eed_0007);
+    let mut rng = Rng::from_state(0x5eed_0007);
     for (k, n) in [20usize, 26, 32].into_iter().enumerate() {
         for _ in 0..2 {
             let f = random_cube_function(&mut rng, n, 20 + 10 * k, 4, 250);
@@ -243,7 +243,7 @@ fn heuristic_is_valid_on_more_wide_functions() {
 /// run with `--nocapture`). Asserted loosely: never more than 25% + 2 literals worse.
 #[test]
 fn heuristic_is_close_to_exact_on_small_functions() {
-    let mut rng = SplitMix64::new(0x5eed_0005);
+    let mut rng = Rng::from_state(0x5eed_0005);
     let (mut exact_total, mut heur_total, mut worst) = (0usize, 0usize, 0f64);
     let mut equal = 0;
     let count = 60;

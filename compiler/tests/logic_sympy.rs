@@ -10,8 +10,8 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 
-use detent_compiler::logic::testgen::{random_function, SplitMix64};
 use detent_compiler::logic::{check_cover, minimize, Function, Method};
+use detent_compiler::testing::logic::{random_function, Rng};
 
 fn workspace_root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -73,7 +73,7 @@ fn sopform(functions: &[Function]) -> Vec<(usize, f64)> {
 
 #[test]
 fn exact_never_worse_than_sympy_sopform() {
-    let mut rng = SplitMix64::new(0x5e5_0001);
+    let mut rng = Rng::from_state(0x5e5_0001);
     let mut functions = Vec::new();
     for round in 0..40 {
         let n = 2 + round % 9; // 2..=10

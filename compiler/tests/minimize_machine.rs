@@ -4,8 +4,8 @@
 //! and printed) is equivalent to the original by `equiv` and by interpreter traces, and
 //! is itself minimal.
 
-use detent_compiler::check::check_source;
 use detent_compiler::diag::Lint;
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::Outcome;
 use detent_compiler::minimize::equiv::{distinguish_states, equiv};
 use detent_compiler::minimize::machine::minimized_ast;

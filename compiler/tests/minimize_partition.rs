@@ -14,6 +14,8 @@ use detent_compiler::minimize::partition::{
     distinguish, hopcroft, moore_refinement, observe_labels, quotient, restrict_to_reachable, Dfa,
     Partition,
 };
+use detent_compiler::testing::dfa::random_dfa;
+use detent_compiler::testing::Rng;
 
 fn dfa(k: usize, delta: &[u32], initial: &[u32]) -> Dfa {
     let d = Dfa {
@@ -143,27 +145,12 @@ fn distinguish_across_different_machines() {
 // Random tables.
 // ---------------------------------------------------------------------------------
 
-/// SplitMix64 for the test's own choices (independent of `Dfa::random`).
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn below(&mut self, n: u64) -> u64 {
-        self.next() % n
-    }
-}
-
 /// A random table with many equivalent states: `copies` copies of each state of a
 /// random base table, each transition going to a random copy of the base successor,
 /// and the ids shuffled. Its minimum has at most `base` classes.
 fn blown_up(base: usize, copies: usize, k: usize, labels: u32, seed: u64) -> Dfa {
-    let b = Dfa::random(base, k, labels, seed);
-    let mut rng = Rng(seed ^ 0xDEAD_BEEF);
+    let b = random_dfa(base, k, labels, seed);
+    let mut rng = Rng::from_state(seed ^ 0xDEAD_BEEF);
     let n = base * copies;
     let mut perm: Vec<u32> = (0..n as u32).collect();
     for i in (1..n).rev() {
@@ -191,13 +178,13 @@ fn blown_up(base: usize, copies: usize, k: usize, labels: u32, seed: u64) -> Dfa
 
 /// A mix of random tables: uniform ones (mostly already minimal) and blown-up ones.
 fn random_tables(count: usize, labels: u32, seed: u64) -> Vec<Dfa> {
-    let mut rng = Rng(seed);
+    let mut rng = Rng::from_state(seed);
     (0..count)
         .map(|i| {
             let k = 1 + rng.below(4) as usize;
-            let s = rng.next();
+            let s = rng.next_u64();
             if i % 2 == 0 {
-                Dfa::random(1 + rng.below(40) as usize, k, labels, s)
+                random_dfa(1 + rng.below(40) as usize, k, labels, s)
             } else {
                 let base = 1 + rng.below(12) as usize;
                 blown_up(base, 1 + rng.below(5) as usize, k, labels, s)
@@ -291,7 +278,7 @@ fn random_tables_hopcroft_matches_moore_and_quotient_is_minimal() {
 fn larger_random_tables_hopcroft_matches_moore() {
     for (i, &n) in [500usize, 2000, 5000].iter().enumerate() {
         for labels in [1u32, 2, 5] {
-            let d = Dfa::random(n, 3, labels, 100 + i as u64);
+            let d = random_dfa(n, 3, labels, 100 + i as u64);
             minimize(&d);
             let b = blown_up(n / 10, 10, 2, labels, 200 + i as u64);
             let p = minimize(&b);
@@ -336,7 +323,7 @@ fn python() -> PathBuf {
 fn automata_lib_agrees_on_minimal_state_counts() {
     // Source: automata-lib (PyPI), DFA.minify(): removes unreachable states, then
     // merges indistinguishable ones (final / non-final initial partition).
-    let mut rng = Rng(42);
+    let mut rng = Rng::from_state(42);
     let tables = random_tables(300, 2, 99);
     let mut specs = Vec::new();
     let mut ours = Vec::new();

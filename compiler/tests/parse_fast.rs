@@ -337,9 +337,9 @@ const VOCAB: &[&str] = &[
 
 fn mutate(rng: &mut Rng, text: &str) -> String {
     let chars: Vec<char> = text.chars().collect();
-    let at = rng.below(chars.len() + 1);
+    let at = rng.index(chars.len() + 1);
     let mut out: String;
-    match rng.below(5) {
+    match rng.index(5) {
         0 => {
             // Delete a short run.
             let len = rng.range(1, 6).min(chars.len() - at.min(chars.len()));
@@ -348,7 +348,7 @@ fn mutate(rng: &mut Rng, text: &str) -> String {
         }
         1 | 2 => {
             // Insert a token, spaced or not.
-            let w = VOCAB[rng.below(VOCAB.len())];
+            let w = VOCAB[rng.index(VOCAB.len())];
             out = chars[..at].iter().collect();
             if rng.chance(0.5) {
                 out.push(' ');
@@ -370,7 +370,7 @@ fn mutate(rng: &mut Rng, text: &str) -> String {
                 e += 1;
             }
             out = chars[..s].iter().collect();
-            out.push_str(VOCAB[rng.below(VOCAB.len())]);
+            out.push_str(VOCAB[rng.index(VOCAB.len())]);
             out.extend(&chars[e..]);
         }
         _ => {
@@ -379,7 +379,7 @@ fn mutate(rng: &mut Rng, text: &str) -> String {
             if lines.is_empty() {
                 return text.to_string();
             }
-            let l = rng.below(lines.len());
+            let l = rng.index(lines.len());
             if rng.chance(0.5) {
                 lines.insert(l, lines[l]);
             } else {

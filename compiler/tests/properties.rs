@@ -3,15 +3,17 @@
 //! against a brute-force evaluation over every reachable (state, full valuation) step,
 //! and a 100,000-state chain.
 
+use detent_compiler::check::check_machine;
 use detent_compiler::check::property::{check_never, check_recover, NeverViolation};
-use detent_compiler::check::render::{diagnostic_json, render_text, trace_json, Source};
-use detent_compiler::check::{check_machine, check_source};
+use detent_compiler::check::render::{render_text, Source};
 use detent_compiler::diag::{Diagnostic, Lint};
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::StepResult;
 use detent_compiler::model::{
     ActionId, EventId, Machine, OutputId, Prop, Property, RuleId, Scope, ScopeRules, StateId,
     Target,
 };
+use detent_compiler::report::check::{trace_entries, DiagnosticEntry};
 use detent_compiler::trace::{parse_trace, run_json_lines};
 use detent_tests::gen::{random_spec, GenConfig, Rng};
 use std::collections::VecDeque;
@@ -199,16 +201,10 @@ fn property_diagnostic_text_and_json() {
     );
     assert_eq!(d.trace.as_ref().map(Vec::len), Some(3));
     assert!(d.notes[0].contains("`Heating`") && d.notes[0].contains("`heater`, `vent`"));
-    let text = render_text(
-        d,
-        &Source {
-            name: "oven.detent",
-            text: OVEN,
-        },
-    );
+    let text = render_text(d, &Source::new("oven.detent", OVEN));
     assert!(text.contains("error[property]"), "{text}");
     assert!(text.contains("3. Vent door_closed=0"), "{text}");
-    let json = diagnostic_json(d, "oven.detent");
+    let json = serde_json::to_value(DiagnosticEntry::new(d, "oven.detent")).expect("json");
     assert_eq!(json["lint"], "property");
     assert_eq!(json["trace"][0]["event"], "Start");
     assert_eq!(json["trace"][0]["inputs"]["door_closed"], true);
@@ -230,7 +226,8 @@ fn json_counterexample_replays_through_the_trace_reader() {
     // (compiler::trace); running it shows the violating step's outputs.
     let m = machine(OVEN);
     let d = &property_diags(&m)[0];
-    let json = trace_json(d.trace.as_ref().expect("trace")).to_string();
+    let json =
+        serde_json::to_string(&trace_entries(d.trace.as_ref().expect("trace"))).expect("json");
     let steps = parse_trace(&m, &json).expect("the trace reader accepts the checker's JSON");
     let lines = run_json_lines(&m, &steps);
     assert_eq!(lines.len(), 4);
@@ -452,7 +449,7 @@ fn brute_recover(m: &Machine, target: StateId, except: &[StateId]) -> Vec<(State
 
 fn random_prop(rng: &mut Rng, names: &[String], depth: usize) -> String {
     if depth == 0 || rng.chance(0.3) {
-        let atom = names[rng.below(names.len())].clone();
+        let atom = names[rng.index(names.len())].clone();
         return if rng.chance(0.3) {
             format!("!{atom}")
         } else {
@@ -461,7 +458,7 @@ fn random_prop(rng: &mut Rng, names: &[String], depth: usize) -> String {
     }
     let a = random_prop(rng, names, depth - 1);
     let b = random_prop(rng, names, depth - 1);
-    match rng.below(4) {
+    match rng.index(4) {
         0 => format!("({a} || {b})"),
         3 => format!("!({a} && {b})"),
         _ => format!("({a} && {b})"),
@@ -520,9 +517,9 @@ fn random_machines_agree_with_brute_force() {
                 ));
             }
             for _ in 0..2 {
-                let t = rng.below(n_states);
-                let ex: Vec<String> = (0..rng.below(3))
-                    .map(|_| format!("S{}", rng.below(n_states)))
+                let t = rng.index(n_states);
+                let ex: Vec<String> = (0..rng.index(3))
+                    .map(|_| format!("S{}", rng.index(n_states)))
                     .collect();
                 let mut ex = ex;
                 ex.dedup();

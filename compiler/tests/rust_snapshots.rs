@@ -1,7 +1,7 @@
 //! Snapshots of `gen rust` output (both dispatch styles) for three small specs, so a
 //! change in generated code shows up in review.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::syntax::ast::DispatchStyle;
 

@@ -2,7 +2,13 @@
 //! is vendored in `tests/data/`, see its README for where it comes from), plus the
 //! properties code-scanning tools rely on, checked by hand.
 
-use detent_compiler::check::{apply_options, check_source, sarif::sarif_log, FileReport, Options};
+use detent_compiler::check::{apply_options, sarif, Options};
+use detent_compiler::driver::{check_source, FileReport};
+
+/// The SARIF log of the reports, as JSON.
+fn sarif_log(reports: &[FileReport]) -> Value {
+    serde_json::to_value(sarif::sarif_log(reports)).expect("SARIF serializes")
+}
 use detent_compiler::diag::Lint;
 use serde_json::Value;
 use std::path::Path;

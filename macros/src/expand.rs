@@ -1,44 +1,31 @@
-//! The two expansions: inline specs and spec files. All checking and code generation
-//! is `detent-compiler`'s; this file turns its diagnostics into compile errors and
-//! warnings and places the generated items.
+//! The two expansions: inline specs and spec files. Reading, parsing, resolution and
+//! checking are `detent-compiler`'s driver (`detent_compiler::driver`, the same as the
+//! CLI's), code generation its Rust back end; this file turns the diagnostics into
+//! compile errors and warnings and places the generated items.
 
-use detent_compiler::check::{self, render};
+use detent_compiler::check::render::{self, Source};
 use detent_compiler::diag::Diagnostic;
+use detent_compiler::driver::{self, ReadError};
 use detent_compiler::emit::rust;
-use detent_compiler::model::resolve;
 use detent_compiler::syntax::ast::DispatchStyle;
-use detent_compiler::syntax::parse_tokens;
 use proc_macro2::{Span, TokenStream};
 use quote::{format_ident, quote, quote_spanned};
-use std::collections::HashSet;
 
 /// `machine! { ... }`: every error-free machine becomes a module; every finding
-/// becomes a compile error or warning at its token.
+/// becomes a compile error or warning at its token. Parsing, resolution and checking
+/// are the driver's, as for the CLI.
 pub fn inline(input: TokenStream) -> TokenStream {
-    let file = match parse_tokens(input) {
-        Ok(file) => file,
+    let reports = match driver::check_tokens(input) {
+        Ok(reports) => reports,
         Err(e) => return e.to_compile_error(),
     };
     let mut out = TokenStream::new();
-    let mut seen = HashSet::new();
-    for ast in &file.machines {
-        if !seen.insert(ast.name.name.clone()) {
-            let msg = format!("machine `{}` is defined twice in this macro", ast.name.name);
-            out.extend(syn::Error::new(ast.name.span, msg).to_compile_error());
-            continue;
-        }
-        let (machine, diagnostics) = match resolve(ast) {
-            Ok(m) => {
-                let d = check::check_machine(&m);
-                (Some(m), d)
-            }
-            Err(d) => (None, d),
-        };
-        let has_errors = diagnostics.iter().any(Diagnostic::is_error);
-        for d in &diagnostics {
+    for report in reports {
+        let has_errors = report.diagnostics.iter().any(Diagnostic::is_error);
+        for d in &report.diagnostics {
             out.extend(inline_diagnostic(d));
         }
-        if let (Some(m), false) = (machine, has_errors) {
+        if let (Some(m), false) = (report.machine, has_errors) {
             out.extend(rust::machine_tokens(&m, m.dispatch));
         }
     }
@@ -180,11 +167,15 @@ fn expand_file(args: TokenStream, item: TokenStream) -> syn::Result<TokenStream>
         .map(std::path::PathBuf::from)
         .unwrap_or_default();
     let path = base.join(&written);
-    let text = std::fs::read_to_string(&path).map_err(|e| {
+    let text = driver::read_text(&path.display().to_string()).map_err(|e| {
+        let why = match &e {
+            ReadError::Io { source, .. } => source.to_string(),
+            other => other.to_string(),
+        };
         syn::Error::new(
             lit_span,
             format!(
-                "cannot read the spec `{written}`: {e}\n= note: the path is relative to the \
+                "cannot read the spec `{written}`: {why}\n= note: the path is relative to the \
                  directory of the crate's Cargo.toml"
             ),
         )
@@ -258,11 +249,8 @@ fn check_file(
     dispatch: Option<DispatchStyle>,
     wanted: Option<&str>,
 ) -> syn::Result<FileOutcome> {
-    let report = check::check_source(written, text);
-    let src = render::Source {
-        name: &report.file,
-        text: &report.text,
-    };
+    let report = driver::check_source(written, text);
+    let src = Source::new(&report.file, &report.text);
     let mut outcome = FileOutcome {
         errors: Vec::new(),
         warnings: Vec::new(),
@@ -286,11 +274,7 @@ fn check_file(
     if !outcome.errors.is_empty() {
         return Ok(outcome);
     }
-    let mut machines: Vec<_> = report
-        .machines
-        .into_iter()
-        .filter_map(|m| m.machine)
-        .collect();
+    let mut machines = report.into_machines();
     if let Some(name) = wanted {
         machines.retain(|m| m.name == name);
         if machines.is_empty() {

@@ -16,7 +16,7 @@
 //! the user's `mod`. The user's items stay; they must not reuse the generated names.
 //! `const _: &str = include_str!("<spec>")` makes cargo rebuild when the spec changes.
 //!
-//! Every machine goes through `detent_compiler::check::check_machine` (every lint);
+//! Every machine goes through `detent_compiler::driver` (as in the CLI: every lint);
 //! a machine with errors generates no code. Under `#[minimize]` the code is generated
 //! from the minimized machine, merged states kept as `State` aliases (as `gen rust`).
 //!
@@ -31,6 +31,9 @@
 //! warnings through a deprecated dummy item used at the offending span: stable Rust
 //! has no warning API for procedural macros. `#[allow(deprecated)]` silences them and
 //! `#![deny(deprecated)]` makes them errors.
+
+#![forbid(unsafe_code)]
+#![warn(missing_docs)]
 use proc_macro::TokenStream;
 
 mod expand;

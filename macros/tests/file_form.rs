@@ -153,9 +153,18 @@ mod lamp {}
 #[detent::machine_file(file = "specs/nope.detent")]
 mod missing {}
 
+#[detent::machine_file(file = "specs/twice.detent")]
+mod twice {}
+
 fn main() {}
 "#;
-    let dir = write_crate("ff_err", main_rs, &[("incomplete.detent", INCOMPLETE)]);
+    let twice = "machine Twin { events Go; start A; state A { Go => stay; } }\n\
+                 machine Twin { events Go; start B; state B { Go => stay; } }\n";
+    let dir = write_crate(
+        "ff_err",
+        main_rs,
+        &[("incomplete.detent", INCOMPLETE), ("twice.detent", twice)],
+    );
     let (ok, _, stderr) = cargo_run(&dir);
     assert!(!ok);
     assert!(
@@ -178,5 +187,12 @@ fn main() {}
     );
     // The error points at the attribute's path in the Rust source.
     assert!(stderr.contains("src/main.rs:2:31"), "{stderr}");
+    // A machine defined twice: the driver's one message, as the CLI prints it.
+    assert!(
+        stderr.contains("error: machine `Twin` is defined twice"),
+        "{stderr}"
+    );
+    assert!(stderr.contains("--> specs/twice.detent:2:9"), "{stderr}");
+    assert!(stderr.contains("---- first defined here"), "{stderr}");
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -18,7 +18,7 @@
 //! `python3 scripts/bench_ratios.py macro_build --base empty`.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, SamplingMode};
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::syntax::ast::DispatchStyle;
 use detent_tests::workspace_root;

@@ -106,22 +106,22 @@ pub fn random_cmds(rng: &mut Rng, m: &Machine, len: usize, faults: bool) -> Vec<
     (0..len)
         .map(|_| {
             let ins: Vec<bool> = (0..n_in).map(|_| rng.chance(0.5)).collect();
-            let ev = rng.below(n_ev) as i64;
+            let ev = rng.index(n_ev) as i64;
             if !faults || rng.chance(0.85) {
                 return Cmd::Step(ev, ins);
             }
-            match rng.below(7) {
+            match rng.index(7) {
                 0 => Cmd::Step(
-                    [n_ev as i64, n_ev as i64 + 1, -1, 1000, i64::from(i32::MAX)][rng.below(5)],
+                    [n_ev as i64, n_ev as i64 + 1, -1, 1000, i64::from(i32::MAX)][rng.index(5)],
                     ins,
                 ),
                 1 => Cmd::NullHooks(ev, ins),
                 2 => Cmd::ZeroHooks(ev, ins),
                 3 => Cmd::NullOut(ev),
                 4 => Cmd::NullMachine(ev),
-                5 => Cmd::SetState(rng.below(m.states.len()) as u32),
+                5 => Cmd::SetState(rng.index(m.states.len()) as u32),
                 _ => Cmd::SetState(if rng.chance(0.5) {
-                    m.states.len() as u32 + rng.below(3) as u32
+                    m.states.len() as u32 + rng.index(3) as u32
                 } else {
                     state_max
                 }),

@@ -13,40 +13,9 @@
 
 use std::fmt::Write;
 
-/// A small deterministic random number generator (SplitMix64).
-#[derive(Clone, Debug)]
-pub struct Rng(u64);
-
-impl Rng {
-    /// A generator from a seed.
-    pub fn new(seed: u64) -> Self {
-        Rng(seed ^ 0x9E37_79B9_7F4A_7C15)
-    }
-
-    /// The next 64 random bits.
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// A number in `0..n` (`n > 0`).
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.next_u64() % n.max(1) as u64) as usize
-    }
-
-    /// True with probability `p`.
-    pub fn chance(&mut self, p: f64) -> bool {
-        (self.next_u64() >> 11) as f64 / ((1u64 << 53) as f64) < p
-    }
-
-    /// A number in `lo..=hi`.
-    pub fn range(&mut self, lo: usize, hi: usize) -> usize {
-        lo + self.below(hi - lo + 1)
-    }
-}
+/// The workspace's one seeded generator (SplitMix64), from the compiler's `testing`
+/// module.
+pub use detent_compiler::testing::Rng;
 
 /// What kind of spec to generate.
 #[derive(Clone, Debug)]
@@ -93,7 +62,7 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     let n_states = rng.range(cfg.states.0.max(1), cfg.states.1.max(cfg.states.0.max(1)));
     let policy = cfg
         .policy
-        .unwrap_or(["complete", "ignore", "reject"][rng.below(3)]);
+        .unwrap_or(["complete", "ignore", "reject"][rng.index(3)]);
     let clocked = cfg.events == 0;
     let events: Vec<String> = (0..cfg.events).map(|i| format!("Ev{i}")).collect();
     let inputs: Vec<String> = (0..cfg.inputs).map(|i| format!("in{i}")).collect();
@@ -202,9 +171,9 @@ impl Gen {
         if n == 0 || self.rng.chance(0.35) {
             return vec![None];
         }
-        let x = self.inputs[self.rng.below(n)].clone();
-        let y = self.inputs[self.rng.below(n)].clone();
-        match self.rng.below(4) {
+        let x = self.inputs[self.rng.index(n)].clone();
+        let y = self.inputs[self.rng.index(n)].clone();
+        match self.rng.index(4) {
             0 => vec![Some(x.clone()), Some(format!("!{x}"))],
             1 if x != y => vec![
                 Some(format!("{x} && {y}")),
@@ -226,7 +195,7 @@ impl Gen {
             let target = if self.rng.chance(0.2) {
                 "stay".to_string()
             } else {
-                format!("S{}", self.rng.below(self.n_states))
+                format!("S{}", self.rng.index(self.n_states))
             };
             let outputs = self.outputs.clone();
             let actions = self.actions.clone();
@@ -359,7 +328,7 @@ pub fn random_trace(
 ) -> Vec<(usize, Vec<bool>)> {
     (0..len)
         .map(|_| {
-            let e = rng.below(n_events.max(1));
+            let e = rng.index(n_events.max(1));
             let ins = (0..n_inputs).map(|_| rng.chance(0.5)).collect();
             (e, ins)
         })

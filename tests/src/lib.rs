@@ -1,6 +1,8 @@
 //! Shared helpers for the workspace-level tests: a random spec generator, the
 //! no_std / panic-free build harness, and where to find the Python reference tools.
 
+#![warn(missing_docs)]
+
 pub mod c_ffi;
 pub mod c_harness;
 pub mod gen;

@@ -6,7 +6,7 @@
 //! static analysis; Debian's `arm-none-eabi-gcc` and `arm-none-eabi-size` for the
 //! footprint (common practice for reporting flash and RAM of embedded C).
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::{generate_c, table_sizes, CFiles};
 use detent_compiler::model::Machine;
 use detent_tests::c_harness::{

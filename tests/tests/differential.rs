@@ -10,7 +10,7 @@
 //! test needs it, so a generated `step` that reads an input twice disagrees in its
 //! reads, and usually in the step it takes.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::interp::Outcome;
 use detent_compiler::model::{EventId, OutputId, StateId};
 use detent_tests::gen::{random_trace, Rng};

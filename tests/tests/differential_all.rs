@@ -25,7 +25,7 @@
 //! steps while the disagreement stays) and printed as a spec and a `detent run` trace.
 //! Seeded: the same seeds give the same machines and traces.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::generate_c;
 use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec};

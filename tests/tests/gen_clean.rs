@@ -1,7 +1,7 @@
 //! The random spec generator writes specs the checker accepts: the differential tests
 //! rely on it.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_tests::gen::{random_spec, GenConfig};
 
 #[test]

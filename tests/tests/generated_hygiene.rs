@@ -12,7 +12,7 @@
 //! clippy's `trivially_copy_pass_by_ref` and `unnecessary_wraps` apply (as in a firmware
 //! binary that includes the generated file).
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::{DispatchStyle, Vis};

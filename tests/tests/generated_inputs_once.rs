@@ -18,7 +18,7 @@
 //! `tests/specs/sampled_guards.detent` (inputs that a later test may or may not have
 //! read already, depending on the path).
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::model::{EventId, InputId, Machine, StateId};
 
 /// Input hooks whose value flips on every call, recording every call; actions

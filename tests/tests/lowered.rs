@@ -15,7 +15,7 @@
 //! - the step reads each input at most once, reads only inputs some test of the cell
 //!   mentions, and the reads are the same whatever values later reads would return.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::model::lower::Sampler;
 use detent_compiler::model::{
     ActionId, EventId, Guard, InputId, Machine, RuleId, Scope, StateId, Target,
@@ -243,7 +243,7 @@ fn the_interpreter_reads_each_input_once_on_the_examples() {
         let mut rng = Rng::new(name.len() as u64);
         let mut state = m.start;
         for _ in 0..500 {
-            let e = EventId::from_index(rng.below(m.events.len()));
+            let e = EventId::from_index(rng.index(m.events.len()));
             let inputs: Vec<bool> = (0..m.inputs.len()).map(|_| rng.chance(0.5)).collect();
             let mut calls = vec![0u32; m.inputs.len()];
             let r = m.step_reading(state, e, &mut |i| {

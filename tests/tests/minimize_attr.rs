@@ -61,7 +61,7 @@ fn the_minimized_machine_behaves_like_the_spec_under_the_interpreter() {
     let start = spec.find("    #[minimize]").unwrap();
     let end = spec[start..].find("\n}\n").unwrap() + start;
     let text = spec[start..end].replace("#[minimize]", "");
-    let report = detent_compiler::check::check_source("tank.detent", &text);
+    let report = detent_compiler::driver::check_source("tank.detent", &text);
     let m = report.machines[0].machine.as_ref().expect("spec resolves");
     use tank_pump::{Event, Machine};
     for code in 0..3usize.pow(6) {

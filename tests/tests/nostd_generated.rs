@@ -3,7 +3,7 @@
 //! panic machinery is reachable from `step`, `restore`, `outputs` or `State::name`
 //! (the harness of `detent_tests::nostd`: release assembly scanned for panic symbols).
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::{generate_file, module_name};
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::{DispatchStyle, Vis};

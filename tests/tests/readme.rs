@@ -1,6 +1,6 @@
 //! The spec shown in the README checks clean: documentation that compiles.
 
-use detent_compiler::check::check_source;
+use detent_compiler::driver::check_source;
 
 #[test]
 fn the_readme_spec_checks_without_findings() {

@@ -24,6 +24,7 @@ use crate::fxhash::FxSet;
 use crate::model::bdd::BddStore;
 use crate::model::graph::{reachable_from, strongly_connected};
 use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
+use crate::naming::{is_snake, is_upper_camel, to_snake, to_upper_camel};
 use crate::syntax::ast::{LevelAttr, Policy};
 
 /// Command-line level changes, applied after the spec's own attributes.
@@ -530,136 +531,6 @@ impl Checker<'_> {
         for (d, site) in found {
             self.emit(d, site);
         }
-    }
-}
-
-/// UpperCamelCase: starts with an uppercase letter, no underscores.
-pub fn is_upper_camel(name: &str) -> bool {
-    let name = name.trim_start_matches("r#");
-    name.chars().next().is_some_and(|c| c.is_ascii_uppercase()) && !name.contains('_')
-}
-
-/// snake_case: lowercase letters, digits and single underscores.
-pub fn is_snake(name: &str) -> bool {
-    let name = name.trim_start_matches("r#");
-    !name.is_empty()
-        && name
-            .chars()
-            .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_')
-        && !name.starts_with(|c: char| c.is_ascii_digit())
-}
-
-/// Converts a name to snake_case (`FloatUp` -> `float_up`).
-pub fn to_snake(name: &str) -> String {
-    let mut out = String::new();
-    let chars: Vec<char> = name.chars().collect();
-    for (i, &c) in chars.iter().enumerate() {
-        if c.is_uppercase() {
-            let prev_lower =
-                i > 0 && (chars[i - 1].is_lowercase() || chars[i - 1].is_ascii_digit());
-            let next_lower = chars.get(i + 1).is_some_and(|n| n.is_lowercase());
-            let prev_upper = i > 0 && chars[i - 1].is_uppercase();
-            if i > 0 && !out.ends_with('_') && (prev_lower || (prev_upper && next_lower)) {
-                out.push('_');
-            }
-            out.extend(c.to_lowercase());
-        } else {
-            out.push(c);
-        }
-    }
-    out
-}
-
-/// Converts a name to UpperCamelCase (`float_up` -> `FloatUp`).
-pub fn to_upper_camel(name: &str) -> String {
-    name.split('_')
-        .filter(|p| !p.is_empty())
-        .map(|p| {
-            let mut cs = p.chars();
-            match cs.next() {
-                Some(f) => f.to_uppercase().chain(cs).collect::<String>(),
-                None => String::new(),
-            }
-        })
-        .collect()
-}
-
-/// The findings about one machine of a file (or about a file that does not parse).
-#[derive(Debug)]
-pub struct MachineReport {
-    /// The machine's name; `None` when the file does not parse.
-    pub name: Option<String>,
-    /// The resolved machine, when resolution succeeded.
-    pub machine: Option<Machine>,
-    /// Findings, sorted by position.
-    pub diagnostics: Vec<Diagnostic>,
-}
-
-/// Everything `detent check` found in one source.
-#[derive(Debug)]
-pub struct FileReport {
-    /// The file name as given.
-    pub file: String,
-    /// The file's text (for snippets).
-    pub text: String,
-    /// One report per machine, in source order.
-    pub machines: Vec<MachineReport>,
-}
-
-impl FileReport {
-    /// Every diagnostic of the file.
-    pub fn diagnostics(&self) -> impl Iterator<Item = &Diagnostic> {
-        self.machines.iter().flat_map(|m| m.diagnostics.iter())
-    }
-
-    /// True when some diagnostic is an error.
-    pub fn has_errors(&self) -> bool {
-        self.diagnostics().any(Diagnostic::is_error)
-    }
-}
-
-/// Parses, resolves and checks spec text: the whole of `detent check` for one file.
-pub fn check_source(file: &str, text: &str) -> FileReport {
-    let mut machines = Vec::new();
-    match crate::syntax::parse_source(text) {
-        Err(e) => machines.push(MachineReport {
-            name: None,
-            machine: None,
-            diagnostics: vec![Diagnostic::new(Lint::Syntax, Some(e.span), e.message)],
-        }),
-        Ok(ast) => {
-            let mut seen = FxSet::default();
-            for m in &ast.machines {
-                let mut diagnostics = Vec::new();
-                if !seen.insert(m.name.name.clone()) {
-                    diagnostics.push(Diagnostic::name_error(
-                        m.name.span,
-                        format!("machine `{}` is defined twice in this file", m.name.name),
-                    ));
-                }
-                let machine = match crate::model::resolve(m) {
-                    Ok(machine) => {
-                        diagnostics.extend(check_machine(&machine));
-                        Some(machine)
-                    }
-                    Err(errors) => {
-                        diagnostics.extend(errors);
-                        None
-                    }
-                };
-                sort_diagnostics(&mut diagnostics);
-                machines.push(MachineReport {
-                    name: Some(m.name.name.clone()),
-                    machine,
-                    diagnostics,
-                });
-            }
-        }
-    }
-    FileReport {
-        file: file.to_string(),
-        text: text.to_string(),
-        machines,
     }
 }
 

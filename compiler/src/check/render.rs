@@ -1,18 +1,96 @@
-//! Printing diagnostics: rustc-shaped text with source snippets, and the JSON of
-//! DESIGN.md (`check --format json`).
+//! Printing diagnostics as text in rustc's shape: `error[lint]: message`, `--> file:line:col`,
+//! the source lines with a caret under the exact token (`-` under related spans, with
+//! their labels), then `= note:` and `= help:` lines.
+//!
+//! The layout is drawn by `annotate-snippets` (the renderer rustc's own diagnostics
+//! follow): multi-line spans get a bracket in the margin, spans on one line share it,
+//! far-apart spans are folded with `...`, and carets are as wide as the characters they
+//! sit under (a CJK character takes two columns). [`render_text`] writes plain text (the
+//! macro, files, pipes); [`render_colored`] adds ANSI colours for a terminal (the CLI
+//! decides which, honouring `NO_COLOR`). The JSON of `check --format json` is
+//! [`crate::report::check`].
+//!
+//! One difference from the file as written: a tab in a shown source line is printed as
+//! one space, so that carets stay under their token (the renderer's own tab expansion
+//! misplaces them). Columns in `-->` count characters, a tab as one, like the parser.
+//!
+//! Cost: one pass over the file's line starts per [`Source`], then per diagnostic only
+//! the lines its spans cover.
 
 use crate::diag::{Diagnostic, Severity, TraceStep};
+use annotate_snippets::renderer::{AnsiColor, Effects};
+use annotate_snippets::{Level, Renderer, Snippet};
 use proc_macro2::Span;
-use serde_json::{json, Map, Value};
 use std::fmt::Write;
 
-/// A source file the spans point into.
-#[derive(Clone, Copy, Debug)]
+/// A source file the spans point into, with the byte offset of each line's start.
+#[derive(Clone, Debug)]
 pub struct Source<'a> {
     /// The name to print (`examples/kiln.detent`).
     pub name: &'a str,
     /// Its text.
     pub text: &'a str,
+    /// Byte offset of the start of each line (line 1 at index 0).
+    line_starts: Vec<usize>,
+}
+
+impl<'a> Source<'a> {
+    /// A source named `name` (as `-->` prints it) with text `text`.
+    pub fn new(name: &'a str, text: &'a str) -> Self {
+        let mut line_starts = vec![0];
+        line_starts.extend(text.match_indices('\n').map(|(i, _)| i + 1));
+        Source {
+            name,
+            text,
+            line_starts,
+        }
+    }
+
+    /// The byte range of 1-based line `line`, without its line end; `None` past the end.
+    fn line_range(&self, line: usize) -> Option<(usize, usize)> {
+        let start = *self.line_starts.get(line.checked_sub(1)?)?;
+        let end = self
+            .line_starts
+            .get(line)
+            .map_or(self.text.len(), |&next| next - 1);
+        let end = if self.text[start..end].ends_with('\r') {
+            end - 1
+        } else {
+            end
+        };
+        Some((start, end.max(start)))
+    }
+
+    /// The byte offset of a span position (1-based line, 0-based column in characters),
+    /// clamped to the end of its line.
+    fn offset(&self, line: usize, column: usize) -> Option<usize> {
+        let (start, end) = self.line_range(line)?;
+        let text = &self.text[start..end];
+        Some(
+            start
+                + text
+                    .char_indices()
+                    .nth(column)
+                    .map_or(text.len(), |(i, _)| i),
+        )
+    }
+
+    /// The byte range a span covers: at least one character where there is one.
+    fn range(&self, span: Span) -> Option<(usize, usize)> {
+        let (start, end) = (span.start(), span.end());
+        let from = self.offset(start.line, start.column)?;
+        let to = self
+            .offset(end.line, end.column)
+            .filter(|&to| to > from)
+            .unwrap_or_else(|| {
+                self.text[from..]
+                    .chars()
+                    .next()
+                    .filter(|c| *c != '\n' && *c != '\r')
+                    .map_or(from, |c| from + c.len_utf8())
+            });
+        Some((from, to))
+    }
 }
 
 /// `a = true, b = false`, or `any input values` for an empty valuation.
@@ -47,79 +125,103 @@ pub fn line_col(span: Span) -> (usize, usize) {
     (lc.line, lc.column + 1)
 }
 
-/// Renders one diagnostic in rustc's shape.
+/// Renders one diagnostic in rustc's shape, as plain text.
 pub fn render_text(d: &Diagnostic, src: &Source) -> String {
-    let mut out = String::new();
-    let _ = writeln!(
-        out,
-        "{}[{}]: {}",
-        d.severity.name(),
-        d.lint.name(),
-        d.message
-    );
-    let mut spans: Vec<(Span, char, &str)> = Vec::new();
-    if let Some(s) = d.span {
-        spans.push((s, '^', ""));
-    }
-    for (s, label) in &d.related {
-        spans.push((*s, '-', label.as_str()));
-    }
-    let lines: Vec<&str> = src.text.lines().collect();
-    let width = spans
-        .iter()
-        .map(|(s, _, _)| s.start().line.to_string().len())
-        .max()
-        .unwrap_or(1);
-    let pad = " ".repeat(width);
-    match d.span {
-        Some(s) => {
-            let (l, c) = line_col(s);
-            let _ = writeln!(out, "{pad}--> {}:{l}:{c}", src.name);
-        }
-        None => {
-            let _ = writeln!(out, "{pad}--> {}", src.name);
-        }
-    }
-    if !spans.is_empty() && !lines.is_empty() {
-        let _ = writeln!(out, "{pad} |");
-        for (span, mark, label) in &spans {
-            let start = span.start();
-            let end = span.end();
-            let Some(text) = lines.get(start.line.saturating_sub(1)) else {
-                continue;
-            };
-            let _ = writeln!(out, "{:>width$} | {}", start.line, text);
-            let prefix: String = text
-                .chars()
-                .take(start.column)
-                .map(|c| if c == '\t' { '\t' } else { ' ' })
-                .collect();
-            let len = if end.line == start.line && end.column > start.column {
-                end.column - start.column
-            } else {
-                1
-            };
-            let marks: String = std::iter::repeat_n(*mark, len).collect();
-            if label.is_empty() {
-                let _ = writeln!(out, "{pad} | {prefix}{marks}");
-            } else {
-                let _ = writeln!(out, "{pad} | {prefix}{marks} {label}");
+    render(d, src, false)
+}
+
+/// Renders one diagnostic in rustc's shape with ANSI colours (for a terminal).
+pub fn render_colored(d: &Diagnostic, src: &Source) -> String {
+    render(d, src, true)
+}
+
+/// The shown lines of a window of the source: tabs become single spaces, so that the
+/// renderer's carets line up (see the module docs); every other byte stays.
+fn shown(text: &str) -> String {
+    text.replace('\t', " ")
+}
+
+fn render(d: &Diagnostic, src: &Source, color: bool) -> String {
+    let level = match d.severity {
+        Severity::Error => Level::Error,
+        Severity::Warning => Level::Warning,
+    };
+    let renderer = if color {
+        // The primary caret takes the colour of the level (the renderer draws it as an
+        // error annotation, so that it is `^` for warnings too); related spans are blue.
+        let styled = Renderer::styled();
+        match d.severity {
+            Severity::Error => {
+                styled.warning(AnsiColor::BrightBlue.on_default().effects(Effects::BOLD))
+            }
+            Severity::Warning => {
+                styled.error(AnsiColor::Yellow.on_default().effects(Effects::BOLD))
             }
         }
-        let _ = writeln!(out, "{pad} |");
+    } else {
+        Renderer::plain()
+    };
+
+    // Spans with a source position: the primary first, then the related ones.
+    let mut marks: Vec<((usize, usize), Option<&str>)> = Vec::new();
+    if let Some(range) = d.span.and_then(|s| src.range(s)) {
+        marks.push((range, None));
     }
-    for n in &d.notes {
-        let _ = writeln!(out, "{pad} = note: {n}");
-    }
-    if let Some(trace) = &d.trace {
-        let _ = writeln!(out, "{pad} = note: shortest trace from the start state:");
-        for (i, line) in trace_lines(trace).iter().enumerate() {
-            let _ = writeln!(out, "{pad}         {:>3}. {line}", i + 1);
+    for (span, label) in &d.related {
+        if let Some(range) = src.range(*span) {
+            marks.push((range, Some(label.as_str())));
         }
     }
-    for h in &d.helps {
-        let _ = writeln!(out, "{pad} = help: {h}");
+
+    let trace_note = d.trace.as_ref().map(|trace| {
+        let mut note = "shortest trace from the start state:".to_string();
+        for (i, line) in trace_lines(trace).iter().enumerate() {
+            let _ = write!(note, "\n{:>3}. {line}", i + 1);
+        }
+        note
+    });
+    let footers = d
+        .notes
+        .iter()
+        .map(|n| Level::Note.title(n))
+        .chain(trace_note.as_deref().map(|n| Level::Note.title(n)))
+        .chain(d.helps.iter().map(|h| Level::Help.title(h)));
+
+    let mut message = level.title(&d.message).id(d.lint.name());
+    // The window of lines the spans cover, so that the renderer's work is the size of
+    // the finding and not of the file.
+    let window = (!marks.is_empty()).then(|| {
+        let first = marks.iter().map(|((a, _), _)| *a).min().unwrap_or(0);
+        let last = marks.iter().map(|((_, b), _)| *b).max().unwrap_or(0);
+        let line_of = |at: usize| src.line_starts.partition_point(|&s| s <= at);
+        let first_line = line_of(first);
+        let last_line = line_of(last.saturating_sub(1).max(first));
+        let start = src.line_starts[first_line - 1];
+        let end = src.line_range(last_line).map_or(src.text.len(), |(_, e)| e);
+        (first_line, start, shown(&src.text[start..end.max(start)]))
+    });
+    if let Some((first_line, start, text)) = &window {
+        let mut snippet = Snippet::source(text)
+            .line_start(*first_line)
+            .origin(src.name)
+            .fold(true);
+        for ((a, b), label) in &marks {
+            let range = (a - start)..(b - start).min(text.len());
+            snippet = snippet.annotation(match label {
+                // Drawn as an error annotation whatever the level: `^`, no prefix.
+                None => Level::Error.span(range),
+                Some(label) => Level::Warning.span(range).label(label),
+            });
+        }
+        message = message.snippet(snippet);
     }
+    let mut out = renderer.render(message.footers(footers)).to_string();
+    if window.is_none() {
+        // No position to show: the file alone, after the headline.
+        let at = out.find('\n').unwrap_or(out.len());
+        out.insert_str(at, &format!("\n --> {}", src.name));
+    }
+    out.push('\n');
     out
 }
 
@@ -137,62 +239,6 @@ pub fn summary_text(errors: usize, warnings: usize) -> String {
         plural(errors, "error"),
         plural(warnings, "warning")
     )
-}
-
-fn valuation_json(v: &[(String, bool)]) -> Value {
-    let mut map = Map::new();
-    for (name, b) in v {
-        map.insert(name.clone(), Value::Bool(*b));
-    }
-    Value::Object(map)
-}
-
-/// A trace as JSON: `[{"event":..,"inputs":{..}},..]`.
-pub fn trace_json(trace: &[TraceStep]) -> Value {
-    Value::Array(
-        trace
-            .iter()
-            .map(|s| json!({"event": s.event, "inputs": valuation_json(&s.inputs)}))
-            .collect(),
-    )
-}
-
-/// One diagnostic as the JSON object of DESIGN.md.
-pub fn diagnostic_json(d: &Diagnostic, file: &str) -> Value {
-    let mut obj = Map::new();
-    obj.insert("lint".into(), d.lint.name().into());
-    obj.insert("level".into(), d.severity.name().into());
-    obj.insert("message".into(), d.message.clone().into());
-    if let Some(s) = &d.state {
-        obj.insert("state".into(), s.clone().into());
-    }
-    if let Some(e) = &d.event {
-        obj.insert("event".into(), e.clone().into());
-    }
-    obj.insert(
-        "states".into(),
-        Value::Array(d.states.iter().map(|s| s.clone().into()).collect()),
-    );
-    if let Some(w) = &d.witness {
-        obj.insert("witness".into(), valuation_json(w));
-    }
-    if let Some(t) = &d.trace {
-        obj.insert("trace".into(), trace_json(t));
-    }
-    if let Some(s) = d.span {
-        let (line, column) = line_col(s);
-        obj.insert(
-            "span".into(),
-            json!({"file": file, "line": line, "column": column}),
-        );
-    }
-    if !d.notes.is_empty() {
-        obj.insert("notes".into(), json!(d.notes));
-    }
-    if !d.helps.is_empty() {
-        obj.insert("helps".into(), json!(d.helps));
-    }
-    Value::Object(obj)
 }
 
 /// Counts errors and warnings.

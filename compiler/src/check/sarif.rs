@@ -14,13 +14,18 @@
 //! (state, event, states, witness, trace) are repeated in the result's `properties` bag
 //! in the JSON form of `check --format json`.
 //!
+//! The log is a tree of serde structures ([`SarifLog`] down), whose fields serialize in
+//! camelCase as the standard names them.
+//!
 //! Cost: linear in the number of diagnostics.
 
-use super::render::{line_col, trace_json, trace_lines, valuation_text};
-use super::FileReport;
+use super::render::{line_col, trace_lines, valuation_text};
 use crate::diag::{Diagnostic, Lint, Severity};
+use crate::driver::FileReport;
+use crate::report::check::trace_entries;
+use crate::report::{StepEntry, Valuation};
 use proc_macro2::Span;
-use serde_json::{json, Map, Value};
+use serde::Serialize;
 
 /// The `$schema` URI of SARIF 2.1.0 logs, as the OASIS standard publishes it.
 pub const SARIF_SCHEMA_URI: &str =
@@ -108,32 +113,231 @@ pub fn path_uri(path: &str) -> String {
     out
 }
 
+/// A SARIF 2.1.0 log (`sarifLog`).
+#[derive(Debug, Serialize)]
+pub struct SarifLog {
+    /// The schema URI.
+    #[serde(rename = "$schema")]
+    pub schema: &'static str,
+    /// `2.1.0`.
+    pub version: &'static str,
+    /// One run.
+    pub runs: Vec<Run>,
+}
+
+/// A `run`: the tool, the files and the results.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Run {
+    /// The tool.
+    pub tool: Tool,
+    /// `unicodeCodePoints`.
+    pub column_kind: &'static str,
+    /// The files checked.
+    pub artifacts: Vec<Artifact>,
+    /// The findings.
+    pub results: Vec<SarifResult>,
+}
+
+/// A `tool`.
+#[derive(Debug, Serialize)]
+pub struct Tool {
+    /// Its driver component.
+    pub driver: ToolDriver,
+}
+
+/// The tool's `driver` component: detent and its rules.
+#[derive(Debug, Serialize)]
+pub struct ToolDriver {
+    /// `detent`.
+    pub name: &'static str,
+    /// The crate version.
+    pub version: &'static str,
+    /// One rule per lint, in [`Lint::ALL`] order.
+    pub rules: Vec<Rule>,
+}
+
+/// A `message` (or any text property).
+#[derive(Debug, Serialize)]
+pub struct Text {
+    /// The text.
+    pub text: String,
+}
+
+impl Text {
+    fn of(text: impl Into<String>) -> Text {
+        Text { text: text.into() }
+    }
+}
+
+/// A rule (`reportingDescriptor`).
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Rule {
+    /// The lint's name.
+    pub id: &'static str,
+    /// The lint's name.
+    pub name: &'static str,
+    /// One line.
+    pub short_description: Text,
+    /// A paragraph.
+    pub full_description: Text,
+    /// The same paragraph.
+    pub help: Text,
+    /// The default level.
+    pub default_configuration: DefaultConfiguration,
+}
+
+/// A rule's `defaultConfiguration`.
+#[derive(Debug, Serialize)]
+pub struct DefaultConfiguration {
+    /// `error` or `warning`.
+    pub level: &'static str,
+}
+
+/// An `artifact`: a file checked.
+#[derive(Debug, Serialize)]
+pub struct Artifact {
+    /// Where it is.
+    pub location: ArtifactLocation,
+}
+
+/// An `artifactLocation`.
+#[derive(Debug, Serialize)]
+pub struct ArtifactLocation {
+    /// The path as a URI reference.
+    pub uri: String,
+}
+
+/// A `result`: one diagnostic.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct SarifResult {
+    /// The lint's name.
+    pub rule_id: &'static str,
+    /// The lint's position in [`Lint::ALL`].
+    pub rule_index: usize,
+    /// `error` or `warning`.
+    pub level: &'static str,
+    /// The message with notes, witness, trace and help.
+    pub message: Text,
+    /// The primary location.
+    pub locations: Vec<Location>,
+    /// Secondary locations.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub related_locations: Vec<RelatedLocation>,
+    /// The structured parts, in the JSON form of `check --format json`.
+    #[serde(skip_serializing_if = "Properties::is_empty")]
+    pub properties: Properties,
+}
+
+/// A `location`.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Location {
+    /// The file and region.
+    pub physical_location: PhysicalLocation,
+}
+
+/// A related `location`, with an id and a label.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct RelatedLocation {
+    /// Its index among the related locations.
+    pub id: usize,
+    /// The file and region.
+    pub physical_location: PhysicalLocation,
+    /// The label.
+    pub message: Text,
+}
+
+/// A `physicalLocation`.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct PhysicalLocation {
+    /// The file.
+    pub artifact_location: ArtifactLocation,
+    /// The region, when the span has a position.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub region: Option<Region>,
+}
+
+/// A `region`: 1-based lines and columns, the end exclusive.
+#[derive(Debug, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Region {
+    /// First line.
+    pub start_line: usize,
+    /// First column.
+    pub start_column: usize,
+    /// Last line, when the span has an end.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub end_line: Option<usize>,
+    /// The column after the region, when the span has an end.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub end_column: Option<usize>,
+}
+
+/// A result's property bag.
+#[derive(Debug, Default, Serialize)]
+pub struct Properties {
+    /// The machine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub machine: Option<String>,
+    /// The state.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub state: Option<String>,
+    /// The event.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub event: Option<String>,
+    /// Every state it is about.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub states: Vec<String>,
+    /// The witness valuation.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub witness: Option<Valuation>,
+    /// The counterexample trace.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub trace: Option<Vec<StepEntry>>,
+}
+
+impl Properties {
+    /// True when the bag has nothing (it is then left out).
+    pub fn is_empty(&self) -> bool {
+        self.machine.is_none()
+            && self.state.is_none()
+            && self.event.is_none()
+            && self.states.is_empty()
+            && self.witness.is_none()
+            && self.trace.is_none()
+    }
+}
+
 /// The SARIF region of a span, `None` when the span has no source position (line 0).
-fn region(span: Span) -> Option<Value> {
+fn region(span: Span) -> Option<Region> {
     let (line, column) = line_col(span);
     if line == 0 {
         return None;
     }
-    let mut r = Map::new();
-    r.insert("startLine".into(), line.into());
-    r.insert("startColumn".into(), column.into());
     let (start, end) = (span.start(), span.end());
-    if (end.line, end.column) > (start.line, start.column) {
-        r.insert("endLine".into(), end.line.into());
+    let has_end = (end.line, end.column) > (start.line, start.column);
+    Some(Region {
+        start_line: line,
+        start_column: column,
+        end_line: has_end.then_some(end.line),
         // SARIF's endColumn is the column after the region; proc_macro2's end column is
         // already exclusive but 0-based.
-        r.insert("endColumn".into(), (end.column + 1).into());
-    }
-    Some(Value::Object(r))
+        end_column: has_end.then_some(end.column + 1),
+    })
 }
 
-fn physical_location(uri: &str, span: Option<Span>) -> Value {
-    let mut p = Map::new();
-    p.insert("artifactLocation".into(), json!({ "uri": uri }));
-    if let Some(r) = span.and_then(region) {
-        p.insert("region".into(), r);
+fn physical_location(uri: &str, span: Option<Span>) -> PhysicalLocation {
+    PhysicalLocation {
+        artifact_location: ArtifactLocation {
+            uri: uri.to_string(),
+        },
+        region: span.and_then(region),
     }
-    Value::Object(p)
 }
 
 /// The result's message text: the headline, then notes, the witness valuation (unless a
@@ -161,82 +365,54 @@ pub fn message_text(d: &Diagnostic) -> String {
     lines.join("\n")
 }
 
-fn result(d: &Diagnostic, file: &str, machine: Option<&str>) -> Value {
+fn result(d: &Diagnostic, file: &str, machine: Option<&str>) -> SarifResult {
     let uri = path_uri(file);
-    let rule_index = Lint::ALL.iter().position(|l| *l == d.lint).unwrap_or(0);
-    let mut r = Map::new();
-    r.insert("ruleId".into(), d.lint.name().into());
-    r.insert("ruleIndex".into(), rule_index.into());
-    r.insert("level".into(), level(d.severity).into());
-    r.insert("message".into(), json!({ "text": message_text(d) }));
-    r.insert(
-        "locations".into(),
-        json!([{ "physicalLocation": physical_location(&uri, d.span) }]),
-    );
-    if !d.related.is_empty() {
-        let related: Vec<Value> = d
+    SarifResult {
+        rule_id: d.lint.name(),
+        rule_index: Lint::ALL.iter().position(|l| *l == d.lint).unwrap_or(0),
+        level: level(d.severity),
+        message: Text::of(message_text(d)),
+        locations: vec![Location {
+            physical_location: physical_location(&uri, d.span),
+        }],
+        related_locations: d
             .related
             .iter()
             .enumerate()
-            .map(|(i, (span, label))| {
-                json!({
-                    "id": i,
-                    "physicalLocation": physical_location(&uri, Some(*span)),
-                    "message": { "text": label },
-                })
+            .map(|(i, (span, label))| RelatedLocation {
+                id: i,
+                physical_location: physical_location(&uri, Some(*span)),
+                message: Text::of(label.clone()),
             })
-            .collect();
-        r.insert("relatedLocations".into(), Value::Array(related));
+            .collect(),
+        properties: Properties {
+            machine: machine.map(str::to_string),
+            state: d.state.clone(),
+            event: d.event.clone(),
+            states: d.states.clone(),
+            witness: d.witness.clone().map(Valuation),
+            trace: d.trace.as_deref().map(trace_entries),
+        },
     }
-    let mut props = Map::new();
-    if let Some(m) = machine {
-        props.insert("machine".into(), m.into());
-    }
-    if let Some(s) = &d.state {
-        props.insert("state".into(), s.clone().into());
-    }
-    if let Some(e) = &d.event {
-        props.insert("event".into(), e.clone().into());
-    }
-    if !d.states.is_empty() {
-        props.insert("states".into(), json!(d.states));
-    }
-    if let Some(w) = &d.witness {
-        let mut map = Map::new();
-        for (name, b) in w {
-            map.insert(name.clone(), Value::Bool(*b));
-        }
-        props.insert("witness".into(), Value::Object(map));
-    }
-    if let Some(t) = &d.trace {
-        props.insert("trace".into(), trace_json(t));
-    }
-    if !props.is_empty() {
-        r.insert("properties".into(), Value::Object(props));
-    }
-    Value::Object(r)
 }
 
-fn rule_descriptor(lint: Lint) -> Value {
-    json!({
-        "id": lint.name(),
-        "name": lint.name(),
-        "shortDescription": { "text": lint.summary() },
-        "fullDescription": { "text": lint_help(lint) },
-        "help": { "text": lint_help(lint) },
-        "defaultConfiguration": { "level": level(lint.default_severity()) },
-    })
+fn rule_descriptor(lint: Lint) -> Rule {
+    Rule {
+        id: lint.name(),
+        name: lint.name(),
+        short_description: Text::of(lint.summary()),
+        full_description: Text::of(lint_help(lint)),
+        help: Text::of(lint_help(lint)),
+        default_configuration: DefaultConfiguration {
+            level: level(lint.default_severity()),
+        },
+    }
 }
 
 /// The SARIF 2.1.0 log of one `check` invocation: one run covering every file report,
 /// results in file order, then machine order, then the diagnostics' order.
-pub fn sarif_log(reports: &[FileReport]) -> Value {
-    let rules: Vec<Value> = Lint::ALL.iter().map(|l| rule_descriptor(*l)).collect();
-    let artifacts: Vec<Value> = reports
-        .iter()
-        .map(|r| json!({ "location": { "uri": path_uri(&r.file) } }))
-        .collect();
-    let results: Vec<Value> = reports
+pub fn sarif_log(reports: &[FileReport]) -> SarifLog {
+    let results = reports
         .iter()
         .flat_map(|r| {
             r.machines.iter().flat_map(move |m| {
@@ -246,20 +422,27 @@ pub fn sarif_log(reports: &[FileReport]) -> Value {
             })
         })
         .collect();
-    json!({
-        "$schema": SARIF_SCHEMA_URI,
-        "version": "2.1.0",
-        "runs": [{
-            "tool": {
-                "driver": {
-                    "name": "detent",
-                    "version": env!("CARGO_PKG_VERSION"),
-                    "rules": rules,
-                }
+    SarifLog {
+        schema: SARIF_SCHEMA_URI,
+        version: "2.1.0",
+        runs: vec![Run {
+            tool: Tool {
+                driver: ToolDriver {
+                    name: "detent",
+                    version: env!("CARGO_PKG_VERSION"),
+                    rules: Lint::ALL.iter().map(|l| rule_descriptor(*l)).collect(),
+                },
             },
-            "columnKind": "unicodeCodePoints",
-            "artifacts": artifacts,
-            "results": results,
-        }]
-    })
+            column_kind: "unicodeCodePoints",
+            artifacts: reports
+                .iter()
+                .map(|r| Artifact {
+                    location: ArtifactLocation {
+                        uri: path_uri(&r.file),
+                    },
+                })
+                .collect(),
+            results,
+        }],
+    }
 }

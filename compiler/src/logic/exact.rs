@@ -888,10 +888,10 @@ mod tests {
         for round in 0..300u64 {
             let n = 2 + (round % 8) as usize;
             let on = (0..1 + rng.below(8))
-                .map(|_| crate::logic::testgen::random_cube(&mut rng, n, 600))
+                .map(|_| crate::testing::logic::random_cube(&mut rng, n, 600))
                 .collect::<Vec<Cube>>();
             let dc = (0..rng.below(4))
-                .map(|_| crate::logic::testgen::random_cube(&mut rng, n, 700))
+                .map(|_| crate::testing::logic::random_cube(&mut rng, n, 700))
                 .collect::<Vec<Cube>>();
             let mut on_m = Vec::new();
             let mut dc_m = Vec::new();
@@ -934,7 +934,7 @@ mod tests {
         assert_eq!(CoverCost::of(&r.cubes).literals, 6);
     }
 
-    use crate::logic::testgen::SplitMix64;
+    use crate::testing::Rng as SplitMix64;
 
     /// A random covering matrix: `blocks` independent blocks of rows and columns (so the
     /// component splitting has something to split), every row in at least one column,
@@ -1122,7 +1122,7 @@ mod tests {
     /// cyclic core, about 200 nodes), so 3 nodes cannot prove it.
     #[test]
     fn budget_exhaustion_still_covers() {
-        let f = &crate::logic::testgen::benchmark_functions(0xde7e_4e71, &[10], 2)[1];
+        let f = &crate::testing::logic::benchmark_functions(0xde7e_4e71, &[10], 2)[1];
         let r = minimize_exact(10, &f.on, &f.dc, 3);
         assert!(!r.proven);
         for &m in &f.on {

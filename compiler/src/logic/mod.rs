@@ -23,7 +23,6 @@ pub mod excitation;
 pub mod gates;
 pub mod heuristic;
 pub mod search;
-pub mod testgen;
 pub mod verilog;
 
 pub use cube::Cube;

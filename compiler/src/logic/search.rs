@@ -71,8 +71,8 @@ use super::assign::{
 use super::cube::Cube;
 use super::equations::{function_sets, minimize_sets, tabulate, LogicSpec};
 use super::excitation::FlipFlop;
-use super::testgen::SplitMix64;
 use super::{CubeFunction, EXACT_MAX_VARS};
+use crate::rng::Rng;
 use rayon::prelude::*;
 use std::collections::{HashMap, HashSet};
 use std::sync::atomic::{AtomicU64, Ordering};
@@ -349,7 +349,7 @@ fn score_descent(adj: &Adjacency, codes: &mut [u64], bits: usize) -> u64 {
 }
 
 /// A random assignment of distinct codes with `start` at code 0.
-fn random_assignment(rng: &mut SplitMix64, m: usize, start: usize, bits: usize) -> Vec<u64> {
+fn random_assignment(rng: &mut Rng, m: usize, start: usize, bits: usize) -> Vec<u64> {
     let mut free: Vec<u64> = (1..1u64 << bits).collect();
     // Fisher-Yates.
     for i in (1..free.len()).rev() {
@@ -381,7 +381,7 @@ fn build_pool(spec: &LogicSpec, adj: &Adjacency, stats: &mut SearchStats) -> (Ve
         stats.scored += scored.len() as u64;
     } else {
         let mut seen: HashSet<Vec<u64>> = HashSet::new();
-        let mut rng = SplitMix64::new(0x5eed_a551);
+        let mut rng = Rng::from_state(0x5eed_a551);
         for start in 0..POOL_RESTARTS {
             let mut codes = if start < GREEDY_STARTS {
                 adjacency_assignment(adj, spec.start, start)

@@ -24,8 +24,8 @@ use super::assign::code_string;
 use super::equations::{LogicDesign, LogicSpec, Role};
 use super::excitation::FlipFlop;
 use super::Cover;
-use crate::check::to_snake;
 use crate::model::{EventId, Machine};
+use crate::naming::to_snake;
 use std::collections::HashSet;
 use std::fmt::Write;
 

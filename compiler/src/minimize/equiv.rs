@@ -19,21 +19,20 @@ use super::encode::{encode, named_inputs, Alphabet, Interner, Side};
 use super::partition::{distinguish, Observed};
 use crate::interp::{Outcome, StepResult};
 use crate::model::{Item, Machine, StateId};
-use std::fmt;
 
 /// Declarations that differ between two machines, by kind.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("{}", self.describe())]
 pub struct DeclMismatch {
     /// One entry per kind that differs: (kind, names only in A, names only in B).
     pub diffs: Vec<(&'static str, Vec<String>, Vec<String>)>,
 }
 
-impl fmt::Display for DeclMismatch {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "the machines do not declare the same events, inputs, outputs and actions"
-        )?;
+impl DeclMismatch {
+    /// The message: a headline, then one line per kind that differs.
+    fn describe(&self) -> String {
+        let mut out =
+            "the machines do not declare the same events, inputs, outputs and actions".to_string();
         for (kind, a, b) in &self.diffs {
             let list = |v: &[String]| {
                 if v.is_empty() {
@@ -45,18 +44,15 @@ impl fmt::Display for DeclMismatch {
                         .join(", ")
                 }
             };
-            write!(
-                f,
+            out.push_str(&format!(
                 "\n  {kind}: only in A: {}; only in B: {}",
                 list(a),
                 list(b)
-            )?;
+            ));
         }
-        Ok(())
+        out
     }
 }
-
-impl std::error::Error for DeclMismatch {}
 
 /// Compares the declarations by name.
 pub fn compare_declarations(a: &Machine, b: &Machine) -> Result<(), DeclMismatch> {

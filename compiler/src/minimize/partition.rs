@@ -71,7 +71,6 @@
 
 use crate::fxhash::FastHash;
 use std::collections::{HashMap, HashSet, VecDeque};
-use std::fmt;
 
 /// A complete deterministic transition system with dense ids.
 ///
@@ -91,9 +90,10 @@ pub struct Dfa {
 }
 
 /// Why a [`Dfa`] is malformed.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
 pub enum DfaError {
     /// `delta.len()` is not `n_states * n_symbols`.
+    #[error("transition table has {actual} entries, expected {expected}")]
     DeltaLength {
         /// The expected length.
         expected: usize,
@@ -101,6 +101,7 @@ pub enum DfaError {
         actual: usize,
     },
     /// `initial.len()` is not `n_states`.
+    #[error("initial labels have {actual} entries, expected {expected}")]
     InitialLength {
         /// The expected length.
         expected: usize,
@@ -108,6 +109,7 @@ pub enum DfaError {
         actual: usize,
     },
     /// A successor is not a state.
+    #[error("state {state} goes to {target} on symbol {symbol}, which is not a state")]
     TargetOutOfRange {
         /// The source state.
         state: u32,
@@ -117,38 +119,9 @@ pub enum DfaError {
         target: u32,
     },
     /// More states than dense `u32` ids can name.
+    #[error("{0} states do not fit in u32 ids")]
     TooManyStates(usize),
 }
-
-impl fmt::Display for DfaError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            DfaError::DeltaLength { expected, actual } => {
-                write!(
-                    f,
-                    "transition table has {actual} entries, expected {expected}"
-                )
-            }
-            DfaError::InitialLength { expected, actual } => {
-                write!(
-                    f,
-                    "initial labels have {actual} entries, expected {expected}"
-                )
-            }
-            DfaError::TargetOutOfRange {
-                state,
-                symbol,
-                target,
-            } => write!(
-                f,
-                "state {state} goes to {target} on symbol {symbol}, which is not a state"
-            ),
-            DfaError::TooManyStates(n) => write!(f, "{n} states do not fit in u32 ids"),
-        }
-    }
-}
-
-impl std::error::Error for DfaError {}
 
 impl Dfa {
     /// Checks the table shape and that every successor is a state.
@@ -185,48 +158,10 @@ impl Dfa {
         self.delta[state as usize * self.n_symbols + symbol as usize]
     }
 
-    /// A pseudo-random complete DFA for tests and benchmarks: successors uniform over
-    /// all states, labels uniform over `0..n_labels` (SplitMix64 from `seed`, so the
-    /// same arguments always give the same table).
-    pub fn random(n_states: usize, n_symbols: usize, n_labels: u32, seed: u64) -> Dfa {
-        let mut rng = SplitMix64(seed);
-        let delta = (0..n_states * n_symbols)
-            .map(|_| rng.below(n_states as u64) as u32)
-            .collect();
-        let initial = (0..n_states)
-            .map(|_| rng.below(n_labels.max(1) as u64) as u32)
-            .collect();
-        Dfa {
-            n_states,
-            n_symbols,
-            delta,
-            initial,
-        }
-    }
-
     fn assert_valid(&self) {
         if let Err(e) = self.validate() {
             panic!("malformed Dfa: {e}");
         }
-    }
-}
-
-/// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number
-/// generators", 2014): a tiny deterministic generator for test tables.
-struct SplitMix64(u64);
-
-impl SplitMix64 {
-    fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// Uniform in `0..n` (multiply-shift; the bias is below 2^-32 for the sizes used).
-    fn below(&mut self, n: u64) -> u64 {
-        ((self.next_u64() >> 32) * n) >> 32
     }
 }
 
@@ -889,9 +824,10 @@ pub fn observe_labels(
 }
 
 /// Why [`distinguish`] could not compare two machines.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
 pub enum DistinguishError {
     /// The machines have different alphabets.
+    #[error("machines have different alphabets ({a} and {b} symbols)")]
     SymbolCount {
         /// Symbols of the first machine.
         a: usize,
@@ -899,6 +835,7 @@ pub enum DistinguishError {
         b: usize,
     },
     /// A start state is not a state of its machine.
+    #[error("start state {start} out of range (machine has {n_states})")]
     StartOutOfRange {
         /// The start state given.
         start: u32,
@@ -906,27 +843,9 @@ pub enum DistinguishError {
         n_states: usize,
     },
     /// A machine is malformed.
+    #[error("malformed machine: {0}")]
     Malformed(DfaError),
 }
-
-impl fmt::Display for DistinguishError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            DistinguishError::SymbolCount { a, b } => {
-                write!(f, "machines have different alphabets ({a} and {b} symbols)")
-            }
-            DistinguishError::StartOutOfRange { start, n_states } => {
-                write!(
-                    f,
-                    "start state {start} out of range (machine has {n_states})"
-                )
-            }
-            DistinguishError::Malformed(e) => write!(f, "malformed machine: {e}"),
-        }
-    }
-}
-
-impl std::error::Error for DistinguishError {}
 
 /// Pairs up to this many (n_a * n_b) use a flat bit set for the visited map.
 const FLAT_VISITED_LIMIT: usize = 1 << 27;

@@ -17,7 +17,7 @@ pub mod steps;
 
 pub use bdd::{Bdd, BddStore};
 pub use resolve::{
-    bdd_overflow_message, resolve, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES,
+    bdd_overflow_message, resolve, resolve_each, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES,
 };
 
 use crate::diag::Lint;

@@ -17,23 +17,38 @@ pub const MAX_EVENTS: usize = 65_535;
 /// Most inputs a machine may have.
 pub const MAX_INPUTS: usize = 64;
 
-/// Resolves every machine of a file; also reports machines with the same name.
+/// Resolves every machine of a file, in source order: each machine, or its errors.
+///
+/// A machine whose name an earlier machine of the file already has is not resolved: its
+/// one error, "machine `X` is defined twice", points at the first definition. This is
+/// the only place that finds duplicate machines, so the CLI and the macro (both through
+/// [`crate::driver`]) report them in the same words.
+pub fn resolve_each(file: &ast::File) -> Vec<Result<Machine, Vec<Diagnostic>>> {
+    let mut seen: FxMap<&str, Span> = FxMap::default();
+    file.machines
+        .iter()
+        .map(|m| {
+            if let Some(first) = seen.get(m.name.name.as_str()) {
+                let mut d = Diagnostic::name_error(
+                    m.name.span,
+                    format!("machine `{}` is defined twice", m.name.name),
+                );
+                d.related.push((*first, "first defined here".into()));
+                return Err(vec![d]);
+            }
+            seen.insert(&m.name.name, m.name.span);
+            resolve(m)
+        })
+        .collect()
+}
+
+/// Resolves every machine of a file ([`resolve_each`]): the machines that resolve, and
+/// every error of the others.
 pub fn resolve_file(file: &ast::File) -> (Vec<Machine>, Vec<Diagnostic>) {
     let mut machines = Vec::new();
     let mut errors = Vec::new();
-    let mut seen: FxMap<&str, Span> = FxMap::default();
-    for m in &file.machines {
-        if let Some(first) = seen.get(m.name.name.as_str()) {
-            let mut d = Diagnostic::name_error(
-                m.name.span,
-                format!("machine `{}` is defined twice", m.name.name),
-            );
-            d.related.push((*first, "first defined here".into()));
-            errors.push(d);
-            continue;
-        }
-        seen.insert(&m.name.name, m.name.span);
-        match resolve(m) {
+    for result in resolve_each(file) {
+        match result {
             Ok(machine) => machines.push(machine),
             Err(mut e) => errors.append(&mut e),
         }

@@ -273,3 +273,19 @@ impl Expr {
         }
     }
 }
+
+/// Joins a chain `x1 op x2 op ... op xn` of one associative operator as a balanced tree,
+/// in order, so that its depth is log2(n) and not n: every pass that recurses over
+/// expressions (resolver, checker, printer) then needs little stack even for
+/// [`MAX_TERMS`](super::lexicon::MAX_TERMS) operands. Chains of up to three keep the left-nested shape
+/// (`(x1 op x2) op x3`); the printer writes every shape the same way.
+pub(crate) fn balanced(mut operands: Vec<Expr>, join: fn(Box<Expr>, Box<Expr>) -> Expr) -> Expr {
+    if operands.len() == 1 {
+        return operands.remove(0);
+    }
+    let right = operands.split_off(operands.len().div_ceil(2));
+    join(
+        Box::new(balanced(operands, join)),
+        Box::new(balanced(right, join)),
+    )
+}

@@ -12,13 +12,12 @@
 //! repository, on random specs and on mutated (mostly invalid) ones.
 
 use super::ast::*;
-use super::parse::{balanced, is_rust_keyword, MAX_NESTING, MAX_TERMS, RESERVED};
+use super::lexicon::{is_rust_keyword, MAX_NESTING, MAX_TERMS, RESERVED};
 extern crate proc_macro;
 
 use proc_macro2::{Delimiter, Group, Spacing, TokenStream, TokenTree};
 
 /// How the parser may use the fast path.
-#[doc(hidden)]
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum FastPath {
     /// Every item goes through syn (the reference behaviour).

@@ -4,11 +4,16 @@
 
 pub mod ast;
 mod fast;
+mod lexicon;
 pub mod parse;
 pub mod print;
 
-#[doc(hidden)]
+/// The parser's fast-path switch, for tests comparing the paths (feature `testing`).
+#[cfg(any(test, feature = "testing"))]
 pub use fast::FastPath;
+#[cfg(not(any(test, feature = "testing")))]
+use fast::FastPath;
+pub use lexicon::{MAX_NESTING, MAX_TERMS, RESERVED};
 pub use parse::parse_tokens;
 
 use proc_macro2::{Span, TokenStream};
@@ -36,12 +41,17 @@ impl From<syn::Error> for SyntaxError {
 
 /// Tokenizes spec text as Rust tokens (with line/column spans) and parses it.
 pub fn parse_source(text: &str) -> Result<ast::File, SyntaxError> {
-    parse_source_with(text, FastPath::Auto)
+    parse_source_in(text, FastPath::Auto)
 }
 
-/// [`parse_source`] with a choice of fast path (for tests comparing the paths).
-#[doc(hidden)]
+/// [`parse_source`] with a choice of fast path, for tests comparing the paths (feature
+/// `testing`).
+#[cfg(any(test, feature = "testing"))]
 pub fn parse_source_with(text: &str, fast: FastPath) -> Result<ast::File, SyntaxError> {
+    parse_source_in(text, fast)
+}
+
+fn parse_source_in(text: &str, fast: FastPath) -> Result<ast::File, SyntaxError> {
     if text.len() as u64 > MAX_FILE_BYTES {
         return Err(SyntaxError {
             message: format!(
@@ -59,4 +69,18 @@ pub fn parse_source_with(text: &str, fast: FastPath) -> Result<ast::File, Syntax
             span: e.span(),
         })?;
     Ok(parse::parse_tokens_of_text(tokens, text, fast)?)
+}
+
+/// Parses one guard (`property` false: inputs, `!`, `&&`, `||`, parentheses, `true`,
+/// `false`) or one `never` property (`property` true: also outputs, actions and
+/// `in STATE`) written as text on its own: the grammar of a spec, for expressions that
+/// stand alone (`detent import` reads the state table's guard fields with it).
+pub fn parse_expr_text(text: &str, property: bool) -> Result<ast::Expr, SyntaxError> {
+    let tokens: TokenStream = text
+        .parse()
+        .map_err(|e: proc_macro2::LexError| SyntaxError {
+            message: format!("cannot tokenize: {e}"),
+            span: e.span(),
+        })?;
+    Ok(parse::parse_expr_tokens(tokens, property)?)
 }

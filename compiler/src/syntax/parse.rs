@@ -7,18 +7,13 @@
 
 use super::ast::*;
 use super::fast::{self, FastPath};
+use super::lexicon::is_rust_keyword;
 use proc_macro2::{Delimiter, Group, Span, TokenStream, TokenTree};
 use syn::ext::IdentExt;
 use syn::parse::{ParseStream, Parser};
 use syn::{Attribute, Token};
 
-/// Deepest nesting of groups, or of parentheses and `!` in one expression, that the
-/// parser accepts.
-pub const MAX_NESTING: usize = 128;
-
-/// Most operands (names and constants) one guard or property may have. Bounds the
-/// depth of expression trees, so no later pass can overflow the stack on them.
-pub const MAX_TERMS: usize = 1024;
+pub use super::lexicon::{MAX_NESTING, MAX_TERMS, RESERVED};
 
 mod kw {
     syn::custom_keyword!(machine);
@@ -44,18 +39,13 @@ mod kw {
     syn::custom_keyword!(reject);
 }
 
-/// Words with a fixed meaning in the language that cannot name a state, event,
-/// input, output, action or group.
-pub const RESERVED: &[&str] = &["stay"];
-
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
 pub fn parse_tokens(tokens: TokenStream) -> syn::Result<File> {
     parse_tokens_with(tokens, FastPath::Auto)
 }
 
-/// [`parse_tokens`] with a choice of fast path (for tests comparing the paths).
-#[doc(hidden)]
-pub fn parse_tokens_with(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
+/// [`parse_tokens`] with a choice of fast path.
+pub(crate) fn parse_tokens_with(tokens: TokenStream, fast: FastPath) -> syn::Result<File> {
     check_token_depth(&tokens)?;
     parse_file(tokens, fast.resolve())
 }
@@ -581,30 +571,6 @@ fn ident(i: syn::Ident) -> Ident {
     }
 }
 
-/// Rust's strict and reserved keywords (2021 edition, plus `gen` reserved in 2024): a
-/// name among them would not compile in generated code.
-/// Sorted (byte order), for binary search.
-const RUST_KEYWORDS: &[&str] = &[
-    "Self", "abstract", "as", "async", "await", "become", "box", "break", "const", "continue",
-    "crate", "do", "dyn", "else", "enum", "extern", "false", "final", "fn", "for", "gen", "if",
-    "impl", "in", "let", "loop", "macro", "match", "mod", "move", "mut", "override", "priv", "pub",
-    "ref", "return", "self", "static", "struct", "super", "trait", "true", "try", "type", "typeof",
-    "unsafe", "unsized", "use", "virtual", "where", "while", "yield",
-];
-
-/// Whether `text` is one of [`RUST_KEYWORDS`]. Every keyword starts with a lowercase
-/// letter (but `Self`) and has 2 to 8 bytes, which rules most names out before the
-/// search.
-pub(crate) fn is_rust_keyword(text: &str) -> bool {
-    match text.as_bytes().first() {
-        Some(b'a'..=b'z') if (2..=8).contains(&text.len()) => {
-            RUST_KEYWORDS.binary_search(&text).is_ok()
-        }
-        Some(b'S') => text == "Self",
-        _ => false,
-    }
-}
-
 /// The next token's text when it is a word (identifier or keyword). Looking at a word
 /// once and comparing strings is much cheaper than one syn `peek` per keyword, each of
 /// which clones the token.
@@ -979,6 +945,22 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     })
 }
 
+/// Parses one guard (`property` false) or one `never` property (`property` true) from
+/// tokens that hold nothing else: the expression grammar of a spec, for expressions
+/// that stand alone (the state table's CSV fields).
+pub(crate) fn parse_expr_tokens(tokens: TokenStream, property: bool) -> syn::Result<Expr> {
+    check_token_depth(&tokens)?;
+    let parser = |input: ParseStream| {
+        let mut terms = 0;
+        let e = parse_expr(input, property, 0, &mut terms)?;
+        if !input.is_empty() {
+            return Err(input.error("expected `&&`, `||` or the end of the expression"));
+        }
+        Ok(e)
+    };
+    parser.parse2(tokens)
+}
+
 fn parse_expr(
     input: ParseStream,
     props: bool,
@@ -1005,22 +987,6 @@ fn parse_and(
         operands.push(parse_not(input, props, depth, terms)?);
     }
     Ok(balanced(operands, Expr::And))
-}
-
-/// Joins a chain `x1 op x2 op ... op xn` of one associative operator as a balanced tree,
-/// in order, so that its depth is log2(n) and not n: every pass that recurses over
-/// expressions (resolver, checker, printer) then needs little stack even for
-/// [`MAX_TERMS`] operands. Chains of up to three keep the left-nested shape
-/// (`(x1 op x2) op x3`); the printer writes every shape the same way.
-pub(crate) fn balanced(mut operands: Vec<Expr>, join: fn(Box<Expr>, Box<Expr>) -> Expr) -> Expr {
-    if operands.len() == 1 {
-        return operands.remove(0);
-    }
-    let right = operands.split_off(operands.len().div_ceil(2));
-    join(
-        Box::new(balanced(operands, join)),
-        Box::new(balanced(right, join)),
-    )
 }
 
 fn parse_not(
@@ -1079,20 +1045,6 @@ fn parse_not(
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn rust_keywords_are_sorted_for_binary_search() {
-        assert!(RUST_KEYWORDS.windows(2).all(|w| w[0] < w[1]));
-        for k in RUST_KEYWORDS {
-            assert!(RUST_KEYWORDS.binary_search(k).is_ok());
-            assert!(is_rust_keyword(k), "{k}");
-            assert!(!is_rust_keyword(&format!("{k}x")), "{k}x");
-            assert!(!is_rust_keyword(&k.to_uppercase()), "{k}");
-        }
-        for name in ["a", "S0", "E1", "Selfish", "lamp", "r#fn", "_", ""] {
-            assert!(!is_rust_keyword(name), "{name}");
-        }
-    }
 
     #[test]
     fn items_split_at_semicolons_and_brace_groups() {

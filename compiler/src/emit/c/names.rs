@@ -1,8 +1,8 @@
 //! The C spellings of a machine's names: spec names kept where C allows them,
 //! keywords and collisions renamed predictably.
 
-use crate::check::to_snake;
 use crate::model::Machine;
+use crate::naming::to_snake;
 use std::fmt::Write;
 
 /// The file stem of a machine's C files: its name in snake_case.

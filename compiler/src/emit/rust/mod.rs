@@ -48,8 +48,8 @@ mod tokens;
 pub use file::{banner, generate_file};
 pub use table_style::NUMERIC_TABLE_CELLS;
 
-use crate::check::to_snake;
 use crate::model::{EventId, Machine, StateId};
+use crate::naming::to_snake;
 use crate::syntax::ast::{DispatchStyle, Vis};
 use proc_macro2::TokenStream;
 use quote::quote;

@@ -1,36 +1,13 @@
 //! Seeded random Boolean functions for tests, benchmarks and the sympy comparison.
 //!
-//! The generator is SplitMix64 (Steele, Lea, Flood 2014), so the same seed gives the
-//! same functions in the unit tests, the criterion benchmark and the JSON exported by
-//! `examples/logic_export.rs` for the Python timing script. Not a cryptographic RNG.
+//! The generator is [`Rng`] (SplitMix64) started from the seed unmixed
+//! ([`Rng::from_state`]), so the same seed gives the same functions in the unit tests,
+//! the criterion benchmark and the JSON exported by `examples/logic_export.rs` for the
+//! Python timing script.
 
-use super::cube::{full_mask, Cube};
-use super::{CubeFunction, Function};
-
-/// SplitMix64 pseudo-random generator.
-#[derive(Clone, Debug)]
-pub struct SplitMix64(u64);
-
-impl SplitMix64 {
-    /// A generator from a seed.
-    pub fn new(seed: u64) -> SplitMix64 {
-        SplitMix64(seed)
-    }
-
-    /// The next 64 random bits.
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// A number in `0..bound` (`bound > 0`; slight modulo bias is fine here).
-    pub fn below(&mut self, bound: u64) -> u64 {
-        self.next_u64() % bound
-    }
-}
+pub use super::Rng;
+use crate::logic::cube::{full_mask, Cube};
+use crate::logic::{CubeFunction, Function};
 
 fn var_names(n: usize) -> Vec<String> {
     (0..n).map(|i| format!("x{i}")).collect()
@@ -38,12 +15,7 @@ fn var_names(n: usize) -> Vec<String> {
 
 /// A random function of `n` variables (`n <= 24`): each minterm is on with probability
 /// `on_per_mille`/1000, else don't-care with probability `dc_per_mille`/1000, else off.
-pub fn random_function(
-    rng: &mut SplitMix64,
-    n: usize,
-    on_per_mille: u64,
-    dc_per_mille: u64,
-) -> Function {
+pub fn random_function(rng: &mut Rng, n: usize, on_per_mille: u64, dc_per_mille: u64) -> Function {
     let mut on = Vec::new();
     let mut dc = Vec::new();
     for m in 0..(1u64 << n) {
@@ -63,7 +35,7 @@ pub fn random_function(
 
 /// A random cube with each of the `n` variables cared for with probability
 /// `care_per_mille`/1000, in a random phase.
-pub fn random_cube(rng: &mut SplitMix64, n: usize, care_per_mille: u64) -> Cube {
+pub fn random_cube(rng: &mut Rng, n: usize, care_per_mille: u64) -> Cube {
     let mut care = 0u64;
     for v in 0..n {
         if rng.below(1000) < care_per_mille {
@@ -76,7 +48,7 @@ pub fn random_cube(rng: &mut SplitMix64, n: usize, care_per_mille: u64) -> Cube 
 /// A random cube-list function of `n` variables: `on_cubes` on-cubes and `dc_cubes`
 /// don't-care cubes, each variable a literal with probability `care_per_mille`/1000.
 pub fn random_cube_function(
-    rng: &mut SplitMix64,
+    rng: &mut Rng,
     n: usize,
     on_cubes: usize,
     dc_cubes: usize,
@@ -100,7 +72,7 @@ pub fn random_cube_function(
 /// the on-set is given as `8 * planted` cubes). Returns the function and the planted
 /// cover's literal count (an upper bound on the minimum). Needs `n >= literals + 3`.
 pub fn planted_cube_function(
-    rng: &mut SplitMix64,
+    rng: &mut Rng,
     n: usize,
     planted: usize,
     literals: usize,
@@ -146,7 +118,7 @@ pub fn planted_cube_function(
 pub fn benchmark_functions(seed: u64, sizes: &[usize], count: usize) -> Vec<Function> {
     let mut out = Vec::new();
     for &n in sizes {
-        let mut rng = SplitMix64::new(seed ^ n as u64);
+        let mut rng = Rng::from_state(seed ^ n as u64);
         for _ in 0..count {
             out.push(random_function(&mut rng, n, 333, 167));
         }

@@ -1,0 +1,101 @@
+//! Typed reports: the machine-readable formats of DESIGN.md ("Machine-readable
+//! formats") as serde structures, built here by the compiler, with the text form of
+//! the same report beside each. The CLI only chooses text or JSON and writes.
+//!
+//! - [`check`]: `check --format json` (SARIF is [`crate::check::sarif`]);
+//! - [`minimize`]: `minimize --format json`;
+//! - [`equiv`]: `equiv --format json`;
+//! - [`tour`]: `tour --format json`;
+//! - [`logic`]: `logic --format json`.
+//!
+//! The state table (`table --format json`) and the JSON lines of `run` are built beside
+//! their text forms, in [`crate::table`] and [`crate::trace`].
+//!
+//! Field order is declaration order (it is part of the format); fields that DESIGN.md
+//! leaves out when absent are `skip_serializing_if`. Every report serializes with
+//! `serde_json::to_string` to one line, as the formats are written.
+
+pub mod check;
+pub mod equiv;
+pub mod logic;
+pub mod minimize;
+pub mod tour;
+
+use serde::ser::{Serialize, SerializeMap, Serializer};
+
+/// An input valuation as a JSON object, in declaration order: `{"a":true,"b":false}`.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Valuation(pub Vec<(String, bool)>);
+
+impl Serialize for Valuation {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(self.0.len()))?;
+        for (name, value) in &self.0 {
+            map.serialize_entry(name, value)?;
+        }
+        map.end()
+    }
+}
+
+/// One entry of a JSON step list (a property's `trace`, `equiv`'s `witness`, `tour`'s
+/// `steps`): `{"event":"Tick","inputs":{..}}`, or a restart `{"reset":true}`.
+#[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(untagged)]
+pub enum StepEntry {
+    /// One step: the event and every input's value.
+    Step {
+        /// The event's name.
+        event: String,
+        /// The inputs, in declaration order.
+        inputs: Valuation,
+    },
+    /// Back to the start configuration.
+    Reset {
+        /// Always `true`.
+        reset: bool,
+    },
+}
+
+impl StepEntry {
+    /// A step of `event` with `inputs`.
+    pub fn step(event: &str, inputs: &[(String, bool)]) -> StepEntry {
+        StepEntry::Step {
+            event: event.to_string(),
+            inputs: Valuation(inputs.to_vec()),
+        }
+    }
+}
+
+/// `Event a=1 b=0`: a step in the trace format of `detent run --trace`.
+pub fn step_text(event: &str, inputs: &[(String, bool)]) -> String {
+    let mut s = event.to_string();
+    for (name, v) in inputs {
+        s.push_str(&format!(" {name}={}", u8::from(*v)));
+    }
+    s
+}
+
+/// One line of JSON. serde_json cannot fail on these reports (every map key is a
+/// string); were it to, the line is a JSON object naming the error.
+pub fn to_json<T: Serialize>(report: &T) -> String {
+    serde_json::to_string(report).unwrap_or_else(|e| {
+        let mut error = serde_json::Map::new();
+        error.insert("error".into(), e.to_string().into());
+        serde_json::Value::Object(error).to_string()
+    })
+}
+
+/// Names mapped to strings, as a JSON object in the given order (`logic`'s
+/// `"encoding":{"Idle":"00",...}`).
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Codes(pub Vec<(String, String)>);
+
+impl Serialize for Codes {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(self.0.len()))?;
+        for (name, value) in &self.0 {
+            map.serialize_entry(name, value)?;
+        }
+        map.end()
+    }
+}
