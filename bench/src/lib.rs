@@ -10,7 +10,7 @@
 
 #![forbid(unsafe_code)]
 
-use detent_compiler::testing::Rng;
+use detent_compiler::rng::Rng;
 
 /// Events per timed pass of the benchmark: long enough that the branch predictor
 /// cannot learn the sequence.

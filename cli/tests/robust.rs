@@ -27,7 +27,7 @@ const TIMEOUT: Duration = Duration::from_secs(10);
 const BIG_TIMEOUT: Duration = Duration::from_secs(120);
 
 /// The workspace's one seeded generator (SplitMix64).
-use detent_compiler::testing::Rng;
+use detent_compiler::rng::Rng;
 
 fn workspace_root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))

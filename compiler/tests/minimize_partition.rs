@@ -14,8 +14,8 @@ use detent_compiler::minimize::partition::{
     distinguish, hopcroft, moore_refinement, observe_labels, quotient, restrict_to_reachable, Dfa,
     Partition,
 };
+use detent_compiler::rng::Rng;
 use detent_compiler::testing::dfa::random_dfa;
-use detent_compiler::testing::Rng;
 
 fn dfa(k: usize, delta: &[u32], initial: &[u32]) -> Dfa {
     let d = Dfa {

@@ -13,9 +13,8 @@
 
 use std::fmt::Write;
 
-/// The workspace's one seeded generator (SplitMix64), from the compiler's `testing`
-/// module.
-pub use detent_compiler::testing::Rng;
+/// The workspace's one seeded generator (SplitMix64), `detent_compiler::rng`.
+pub use detent_compiler::rng::Rng;
 
 /// What kind of spec to generate.
 #[derive(Clone, Debug)]

@@ -20,6 +20,7 @@
 
 use detent_compiler::driver::check_source;
 use detent_compiler::model::{EventId, InputId, Machine, StateId};
+use detent_compiler::rng::Rng;
 
 /// Input hooks whose value flips on every call, recording every call; actions
 /// recorded in order.
@@ -164,40 +165,27 @@ fn model(name: &str, text: &str) -> Machine {
         .expect("one machine")
 }
 
-/// SplitMix64: a seeded sequence, the same everywhere.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-}
-
 /// Steps `generated` and the interpreter side by side over `steps` random events with
 /// flipping inputs (each side flips its own copy of the same levels), and returns the
 /// number of input-hook calls the generated code made. Fails at the first step where
 /// the two differ in the inputs read (set and order), state, outputs, actions or
 /// rejection, or where an input was read twice.
 fn agree(m: &Machine, generated: &mut dyn Stepper, seed: u64, steps: usize) -> usize {
-    let mut rng = Rng(seed);
+    let mut rng = Rng::from_state(seed);
     let n_inputs = m.inputs.len();
-    let levels: Vec<bool> = (0..n_inputs).map(|_| rng.next() & 1 == 1).collect();
+    let levels: Vec<bool> = (0..n_inputs).map(|_| rng.next_u64() & 1 == 1).collect();
     let mut hooks = Flipping::new(levels.clone());
     let mut reference = Flipping::new(levels);
     let mut state = m.start;
     let mut calls = 0;
     for step in 1..=steps {
         // Now and then the inputs take new levels (on both sides alike).
-        if rng.next().is_multiple_of(4) {
-            let fresh: Vec<bool> = (0..n_inputs).map(|_| rng.next() & 1 == 1).collect();
+        if rng.next_u64().is_multiple_of(4) {
+            let fresh: Vec<bool> = (0..n_inputs).map(|_| rng.next_u64() & 1 == 1).collect();
             hooks.levels.clone_from(&fresh);
             reference.levels = fresh;
         }
-        let event = (rng.next() % m.events.len() as u64) as usize;
+        let event = (rng.next_u64() % m.events.len() as u64) as usize;
         hooks.reads.clear();
         hooks.actions.clear();
         let (outputs, rejected) = generated.step_number(event, &mut hooks);
