@@ -48,10 +48,10 @@ fn split_variable(cubes: &[Cube]) -> Option<(u64, bool)> {
         return None;
     }
     let mut best: Option<(u64, bool, (u32, u32))> = None;
-    for b in 0..64 {
-        if any >> b & 1 == 0 {
-            continue;
-        }
+    let mut bits = any;
+    while bits != 0 {
+        let b = bits.trailing_zeros() as usize;
+        bits &= bits - 1;
         let binate = ones[b] > 0 && zeros[b] > 0;
         let key = (
             if binate { ones[b].min(zeros[b]) } else { 0 },
@@ -181,6 +181,15 @@ pub fn remove_contained(cubes: &mut Vec<Cube>) {
 /// The complement of the union of `cubes`, as a cube list (unate-recursive paradigm),
 /// without contained cubes and in the order of [`remove_contained`].
 pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
+    let mut buf = cubes.to_vec();
+    complement_in(&mut buf, 0)
+}
+
+/// [`complement`] of `buf[start..]`, with the cofactors of the recursion built at the
+/// end of `buf` (as in [`tautology_in`]).
+fn complement_in(buf: &mut Vec<Cube>, start: usize) -> Vec<Cube> {
+    let end = buf.len();
+    let cubes = &buf[start..end];
     if cubes.is_empty() {
         return vec![Cube::UNIVERSE];
     }
@@ -205,17 +214,19 @@ pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
     let Some((bit, _)) = split_variable(cubes) else {
         return Vec::new();
     };
-    let pos = Cube {
-        value: bit,
-        care: bit,
-    };
-    let neg = Cube {
-        value: 0,
-        care: bit,
-    };
-    let comp_neg = complement(&cofactor(cubes, &neg));
-    let comp_pos = complement(&cofactor(cubes, &pos));
-    merge_halves(bit, comp_neg, comp_pos)
+    let mut halves = [Vec::new(), Vec::new()];
+    for (half, value) in [0, bit].into_iter().enumerate() {
+        let by = Cube { value, care: bit };
+        for i in start..end {
+            if let Some(c) = buf[i].cofactor(&by) {
+                buf.push(c);
+            }
+        }
+        halves[half] = complement_in(buf, end);
+        buf.truncate(end);
+    }
+    let [neg, pos] = halves;
+    merge_halves(bit, neg, pos)
 }
 
 /// The order [`remove_contained`] and [`complement`] leave cube lists in: fewest
@@ -622,6 +633,64 @@ mod tests {
                 .fold(uncovered[0], |a, u| a.supercube(u));
             cover[i] = Cube::new(sup.value | c.value, (sup.care & !c.care) | c.care);
             i += 1;
+        }
+    }
+
+    /// The complement as first written (hash sets to find the common cubes, then
+    /// containment removal); the faster one must give the same list.
+    fn complement_reference(cubes: &[Cube]) -> Vec<Cube> {
+        if cubes.is_empty() {
+            return vec![Cube::UNIVERSE];
+        }
+        if cubes.iter().any(|c| c.care == 0) {
+            return Vec::new();
+        }
+        if cubes.len() == 1 {
+            let c = cubes[0];
+            let mut out = Vec::new();
+            let mut prefix = Cube::UNIVERSE;
+            let mut bits = c.care;
+            while bits != 0 {
+                let bit = bits & bits.wrapping_neg();
+                bits &= !bit;
+                let lit = c.value & bit;
+                out.push(Cube::new(prefix.value | (lit ^ bit), prefix.care | bit));
+                prefix = Cube::new(prefix.value | lit, prefix.care | bit);
+            }
+            return out;
+        }
+        let Some((bit, _)) = split_variable(cubes) else {
+            return Vec::new();
+        };
+        let neg = complement_reference(&cofactor(cubes, &Cube::new(0, bit)));
+        let pos = complement_reference(&cofactor(cubes, &Cube::new(bit, bit)));
+        let in_pos: std::collections::HashSet<Cube> = pos.iter().copied().collect();
+        let in_neg: std::collections::HashSet<Cube> = neg.iter().copied().collect();
+        let mut out = Vec::new();
+        for a in &neg {
+            if in_pos.contains(a) {
+                out.push(*a);
+            } else {
+                out.push(Cube::new(a.value, a.care | bit));
+            }
+        }
+        for b in &pos {
+            if !in_neg.contains(b) {
+                out.push(Cube::new(b.value | bit, b.care | bit));
+            }
+        }
+        remove_contained(&mut out);
+        out
+    }
+
+    #[test]
+    fn complement_matches_its_reference_form() {
+        let mut rng = SplitMix64::new(13);
+        for _ in 0..3000 {
+            let n = 1 + rng.below(12) as usize;
+            let mut f = random_list(&mut rng, n);
+            f.extend(random_list(&mut rng, n));
+            assert_eq!(complement(&f), complement_reference(&f), "{f:?}");
         }
     }
 
