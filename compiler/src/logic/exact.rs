@@ -235,38 +235,134 @@ fn solve_matrix(matrix: &Matrix, node_budget: u64, split: bool) -> (Vec<u32>, bo
 /// The covering matrix in both orientations, as sorted sparse lists of dense ids.
 struct Matrix {
     /// For each row (on-set minterm), the columns (primes) that cover it.
-    row_cols: Vec<Vec<u32>>,
+    row_cols: Lists,
     /// For each column, the rows it covers.
-    col_rows: Vec<Vec<u32>>,
+    col_rows: Lists,
     /// Cost of each column: literals weighted above products.
     col_cost: Vec<u64>,
 }
 
+/// Lists of ids stored end to end in one allocation (list `i` is `items[ends[i - 1]..
+/// ends[i]]`): building and dropping a matrix of thousands of short lists then costs
+/// two allocations instead of thousands.
+struct Lists {
+    items: Vec<u32>,
+    ends: Vec<usize>,
+}
+
+impl Lists {
+    fn new() -> Lists {
+        Lists {
+            items: Vec::new(),
+            ends: Vec::new(),
+        }
+    }
+
+    /// Number of lists.
+    fn len(&self) -> usize {
+        self.ends.len()
+    }
+
+    /// Ends the list being built (the items pushed since the last end).
+    fn close(&mut self) {
+        self.ends.push(self.items.len());
+    }
+
+    /// The transpose of `lists` over `targets` ids: list `t` holds every `i` whose list
+    /// contains `t`, ascending.
+    fn transpose(&self, targets: usize) -> Lists {
+        let mut ends = vec![0usize; targets];
+        for &t in &self.items {
+            ends[t as usize] += 1;
+        }
+        let mut sum = 0;
+        for e in ends.iter_mut() {
+            sum += *e;
+            *e = sum;
+        }
+        let mut fill: Vec<usize> = std::iter::once(0)
+            .chain(ends.iter().copied())
+            .take(targets)
+            .collect();
+        let mut items = vec![0u32; self.items.len()];
+        for i in 0..self.len() {
+            for &t in &self[i] {
+                items[fill[t as usize]] = i as u32;
+                fill[t as usize] += 1;
+            }
+        }
+        Lists { items, ends }
+    }
+}
+
+impl std::ops::Index<usize> for Lists {
+    type Output = [u32];
+
+    fn index(&self, i: usize) -> &[u32] {
+        let start = if i == 0 { 0 } else { self.ends[i - 1] };
+        &self.items[start..self.ends[i]]
+    }
+}
+
+/// Widest functions whose minterm-to-row index is a direct table (`2^n` entries).
+const DENSE_ROW_VARS: usize = 16;
+
+/// The row number of each on-set minterm.
+enum RowIndex {
+    Dense(Vec<u32>),
+    Hashed(HashMap<u64, u32>),
+}
+
+impl RowIndex {
+    fn new(n: usize, rows: &[u64]) -> RowIndex {
+        if n <= DENSE_ROW_VARS {
+            let mut table = vec![u32::MAX; 1usize << n];
+            for (i, &m) in rows.iter().enumerate() {
+                table[m as usize] = i as u32;
+            }
+            RowIndex::Dense(table)
+        } else {
+            RowIndex::Hashed(
+                rows.iter()
+                    .enumerate()
+                    .map(|(i, &m)| (m, i as u32))
+                    .collect(),
+            )
+        }
+    }
+
+    fn get(&self, m: u64) -> Option<u32> {
+        match self {
+            RowIndex::Dense(table) => table.get(m as usize).copied().filter(|&r| r != u32::MAX),
+            RowIndex::Hashed(map) => map.get(&m).copied(),
+        }
+    }
+}
+
 impl Matrix {
     fn build(n: usize, rows: &[u64], primes: &[Cube]) -> Matrix {
-        let row_of: HashMap<u64, u32> = rows
-            .iter()
-            .enumerate()
-            .map(|(i, &m)| (m, i as u32))
-            .collect();
-        let mut col_rows: Vec<Vec<u32>> = Vec::with_capacity(primes.len());
+        // Row of each minterm: a direct table up to DENSE_ROW_VARS variables (the exact
+        // method's sizes; a hash lookup per minterm cost more than the whole cover
+        // search on the state-machine equations), a hash map beyond.
+        let row_of = RowIndex::new(n, rows);
+        let mut col_rows = Lists::new();
         for p in primes {
-            let mut list = Vec::new();
+            let start = col_rows.items.len();
             if p.minterm_count(n) <= rows.len() as u64 {
                 p.for_each_minterm(n, |m| {
-                    if let Some(&r) = row_of.get(&m) {
-                        list.push(r);
+                    if let Some(r) = row_of.get(m) {
+                        col_rows.items.push(r);
                     }
                 });
-                list.sort_unstable();
+                col_rows.items[start..].sort_unstable();
             } else {
                 for (r, &m) in rows.iter().enumerate() {
                     if p.contains_minterm(m) {
-                        list.push(r as u32);
+                        col_rows.items.push(r as u32);
                     }
                 }
             }
-            col_rows.push(list);
+            col_rows.close();
         }
         // Literals dominate products: one literal outweighs any number of products.
         let weight = rows.len() as u64 + 1;
@@ -274,19 +370,23 @@ impl Matrix {
             .iter()
             .map(|p| p.literals() as u64 * weight + 1)
             .collect();
-        Matrix::from_columns(rows.len(), col_rows, col_cost)
+        Matrix {
+            row_cols: col_rows.transpose(rows.len()),
+            col_rows,
+            col_cost,
+        }
     }
 
     /// A matrix from its columns (sorted row lists) and their costs.
-    fn from_columns(rows: usize, col_rows: Vec<Vec<u32>>, col_cost: Vec<u64>) -> Matrix {
-        let mut row_cols: Vec<Vec<u32>> = vec![Vec::new(); rows];
-        for (c, list) in col_rows.iter().enumerate() {
-            for &r in list {
-                row_cols[r as usize].push(c as u32);
-            }
+    #[cfg(test)]
+    fn from_columns(rows: usize, columns: Vec<Vec<u32>>, col_cost: Vec<u64>) -> Matrix {
+        let mut col_rows = Lists::new();
+        for list in &columns {
+            col_rows.items.extend_from_slice(list);
+            col_rows.close();
         }
         Matrix {
-            row_cols,
+            row_cols: col_rows.transpose(rows),
             col_rows,
             col_cost,
         }

@@ -21,8 +21,6 @@
 //! (literals, then products). The result is a prime and irredundant cover, not
 //! necessarily a minimum. The tautology check is the unate-recursive one as well.
 
-use std::collections::HashSet;
-
 use super::cube::Cube;
 use super::exact::CoverCost;
 
@@ -50,10 +48,10 @@ fn split_variable(cubes: &[Cube]) -> Option<(u64, bool)> {
         return None;
     }
     let mut best: Option<(u64, bool, (u32, u32))> = None;
-    for b in 0..64 {
-        if any >> b & 1 == 0 {
-            continue;
-        }
+    let mut bits = any;
+    while bits != 0 {
+        let b = bits.trailing_zeros() as usize;
+        bits &= bits - 1;
         let binate = ones[b] > 0 && zeros[b] > 0;
         let key = (
             if binate { ones[b].min(zeros[b]) } else { 0 },
@@ -73,34 +71,98 @@ pub fn cofactor(cubes: &[Cube], by: &Cube) -> Vec<Cube> {
 
 /// Whether the union of the cubes is the whole space (unate-recursive tautology check).
 pub fn tautology(cubes: &[Cube]) -> bool {
+    let mut buf = cubes.to_vec();
+    tautology_in(&mut buf, 0)
+}
+
+/// Sum of the cube volumes as a fraction of the space, in units of `2^-64` (a cube of
+/// `l` literals covers `2^-l` of it): below `2^64` the cubes cannot cover the space.
+fn volume(cubes: &[Cube]) -> u128 {
+    cubes
+        .iter()
+        .map(|c| 1u128 << (64 - c.care.count_ones()))
+        .sum()
+}
+
+/// [`tautology`] of `buf[start..]`, using the end of `buf` as scratch for the cofactors
+/// of the recursion (no allocation per node); `buf` is left as it was.
+fn tautology_in(buf: &mut Vec<Cube>, start: usize) -> bool {
+    let end = buf.len();
+    let cubes = &buf[start..end];
     if cubes.iter().any(|c| c.care == 0) {
         return true;
     }
-    if cubes.is_empty() {
+    // Too little volume to cover the space (also catches the empty list).
+    if volume(cubes) < 1u128 << 64 {
         return false;
+    }
+    let (mut ones, mut zeros) = (0u64, 0u64);
+    for c in cubes {
+        ones |= c.value;
+        zeros |= c.care & !c.value;
+    }
+    let unate = ones ^ zeros;
+    if unate != 0 {
+        // Unate reduction: with `x` only ever a true literal, F is a tautology iff its
+        // cofactor by `x'` is, and that cofactor is the cubes without `x`. So only the
+        // cubes free of every unate variable matter (none left: not a tautology).
+        for i in start..end {
+            if buf[i].care & unate == 0 {
+                let c = buf[i];
+                buf.push(c);
+            }
+        }
+        let holds = buf.len() > end && tautology_in(buf, end);
+        buf.truncate(end);
+        return holds;
     }
     match split_variable(cubes) {
         None => true,
-        // A unate cover without the universal cube is never a tautology (the minterm
-        // that takes every variable against its only phase is uncovered).
         Some((_, false)) => false,
         Some((bit, true)) => {
-            let pos = Cube {
-                value: bit,
-                care: bit,
-            };
-            let neg = Cube {
-                value: 0,
-                care: bit,
-            };
-            tautology(&cofactor(cubes, &neg)) && tautology(&cofactor(cubes, &pos))
+            for value in [0, bit] {
+                let by = Cube { value, care: bit };
+                for i in start..end {
+                    if let Some(c) = buf[i].cofactor(&by) {
+                        buf.push(c);
+                    }
+                }
+                let holds = tautology_in(buf, end);
+                buf.truncate(end);
+                if !holds {
+                    return false;
+                }
+            }
+            true
         }
     }
 }
 
+/// Whether the union of `cover` (the cubes with `keep` true, all of them when `keep`
+/// is `None`) and `extra` contains cube `c`: the tautology of their cofactor by `c`,
+/// built in `buf` (cleared first).
+fn covered_by(
+    c: &Cube,
+    cover: &[Cube],
+    keep: Option<&[bool]>,
+    extra: &[Cube],
+    buf: &mut Vec<Cube>,
+) -> bool {
+    buf.clear();
+    for (j, d) in cover.iter().enumerate() {
+        if keep.is_none_or(|k| k[j]) {
+            if let Some(x) = d.cofactor(c) {
+                buf.push(x);
+            }
+        }
+    }
+    buf.extend(extra.iter().filter_map(|d| d.cofactor(c)));
+    tautology_in(buf, 0)
+}
+
 /// Whether cube `c` lies within the union of `cubes`.
 pub fn cube_covered(c: &Cube, cubes: &[Cube]) -> bool {
-    tautology(&cofactor(cubes, c))
+    covered_by(c, cubes, None, &[], &mut Vec::new())
 }
 
 /// Removes cubes contained in another cube of the list (single-cube containment).
@@ -116,8 +178,18 @@ pub fn remove_contained(cubes: &mut Vec<Cube>) {
     *cubes = kept;
 }
 
-/// The complement of the union of `cubes`, as a cube list (unate-recursive paradigm).
+/// The complement of the union of `cubes`, as a cube list (unate-recursive paradigm),
+/// without contained cubes and in the order of [`remove_contained`].
 pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
+    let mut buf = cubes.to_vec();
+    complement_in(&mut buf, 0)
+}
+
+/// [`complement`] of `buf[start..]`, with the cofactors of the recursion built at the
+/// end of `buf` (as in [`tautology_in`]).
+fn complement_in(buf: &mut Vec<Cube>, start: usize) -> Vec<Cube> {
+    let end = buf.len();
+    let cubes = &buf[start..end];
     if cubes.is_empty() {
         return vec![Cube::UNIVERSE];
     }
@@ -142,42 +214,106 @@ pub fn complement(cubes: &[Cube]) -> Vec<Cube> {
     let Some((bit, _)) = split_variable(cubes) else {
         return Vec::new();
     };
-    let pos = Cube {
-        value: bit,
-        care: bit,
-    };
-    let neg = Cube {
-        value: 0,
-        care: bit,
-    };
-    let comp_neg = complement(&cofactor(cubes, &neg));
-    let comp_pos = complement(&cofactor(cubes, &pos));
-    merge_halves(bit, comp_neg, comp_pos)
+    let mut halves = [Vec::new(), Vec::new()];
+    for (half, value) in [0, bit].into_iter().enumerate() {
+        let by = Cube { value, care: bit };
+        for i in start..end {
+            if let Some(c) = buf[i].cofactor(&by) {
+                buf.push(c);
+            }
+        }
+        halves[half] = complement_in(buf, end);
+        buf.truncate(end);
+    }
+    let [neg, pos] = halves;
+    merge_halves(bit, neg, pos)
 }
 
-/// `x'·A + x·B`, with cubes common to both halves (found by hashing) keeping no literal
-/// of `x`. Single-cube containment is removed only while the halves are small (it is
-/// quadratic); a few contained cubes in an off-set cost time, not correctness.
+/// The order [`remove_contained`] and [`complement`] leave cube lists in: fewest
+/// literals first, then by masks.
+fn size_order(c: &Cube) -> (u32, u64, u64) {
+    (c.care.count_ones(), c.care, c.value)
+}
+
+/// `x'·A + x·B`, with cubes common to both halves keeping no literal of `x`, in
+/// [`size_order`]. `neg` (A) and `pos` (B) come in that order, so the common cubes are
+/// found by one merge walk.
+///
+/// No cube of the result contains another when none of A does and none of B does:
+/// `x'a` and `x b` are never contained in each other, a common cube `c` has no `x`, so
+/// `x'a ⊆ c` would mean `a ⊆ c` within A (and likewise for B). The leaves of
+/// [`complement`] (the empty list, the universe, De Morgan's disjoint cubes) have no
+/// contained cubes, so by induction no complement has, and there is nothing to remove.
 fn merge_halves(bit: u64, neg: Vec<Cube>, pos: Vec<Cube>) -> Vec<Cube> {
-    let in_pos: HashSet<Cube> = pos.iter().copied().collect();
-    let in_neg: HashSet<Cube> = neg.iter().copied().collect();
     let mut out = Vec::with_capacity(neg.len() + pos.len());
-    for a in &neg {
-        if in_pos.contains(a) {
-            out.push(*a);
-        } else {
-            out.push(Cube::new(a.value, a.care | bit));
+    let (mut a, mut b) = (neg.iter().peekable(), pos.iter().peekable());
+    loop {
+        match (a.peek(), b.peek()) {
+            (Some(x), Some(y)) if x == y => {
+                out.push(**x);
+                a.next();
+                b.next();
+            }
+            (Some(x), Some(y)) if size_order(x) < size_order(y) => {
+                out.push(Cube::new(x.value, x.care | bit));
+                a.next();
+            }
+            (Some(x), None) => {
+                out.push(Cube::new(x.value, x.care | bit));
+                a.next();
+            }
+            (_, Some(y)) => {
+                out.push(Cube::new(y.value | bit, y.care | bit));
+                b.next();
+            }
+            (None, None) => break,
         }
     }
-    for b in &pos {
-        if !in_neg.contains(b) {
-            out.push(Cube::new(b.value | bit, b.care | bit));
-        }
-    }
-    if out.len() <= 512 {
-        remove_contained(&mut out);
-    }
+    out.sort_unstable_by_key(size_order);
     out
+}
+
+/// The smallest cube containing the complement of the union of `buf[start..]`, `None`
+/// when that union is the whole space. The same recursion as [`complement`] without
+/// building the complement: the supercube of `x'·A + x·B` is the supercube of the two
+/// halves' supercubes (Brayton et al. 1984, the reduce step's "smallest cube containing
+/// the complement"). `buf` is scratch as in [`tautology_in`].
+fn complement_supercube(buf: &mut Vec<Cube>, start: usize) -> Option<Cube> {
+    let end = buf.len();
+    let cubes = &buf[start..end];
+    if cubes.is_empty() {
+        return Some(Cube::UNIVERSE);
+    }
+    if cubes.iter().any(|c| c.care == 0) {
+        return None;
+    }
+    if cubes.len() == 1 {
+        // One literal: its opposite; more: the opposite literals span every variable.
+        let c = cubes[0];
+        return Some(if c.care.count_ones() == 1 {
+            Cube::new(!c.value, c.care)
+        } else {
+            Cube::UNIVERSE
+        });
+    }
+    let (bit, _) = split_variable(cubes)?;
+    let mut halves = [None; 2];
+    for (half, value) in [0, bit].into_iter().enumerate() {
+        let by = Cube { value, care: bit };
+        for i in start..end {
+            if let Some(c) = buf[i].cofactor(&by) {
+                buf.push(c);
+            }
+        }
+        halves[half] = complement_supercube(buf, end);
+        buf.truncate(end);
+    }
+    match halves {
+        [None, None] => None,
+        [Some(a), None] => Some(Cube::new(a.value, a.care | bit)),
+        [None, Some(b)] => Some(Cube::new(b.value | bit, b.care | bit)),
+        [Some(a), Some(b)] => Some(a.supercube(&b)),
+    }
 }
 
 /// Expands every cube of `cover` to a prime against the off-set `off`, removing cubes
@@ -186,6 +322,7 @@ pub fn expand(cover: &mut Vec<Cube>, off: &[Cube]) {
     cover.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
     let mut done: Vec<Cube> = Vec::with_capacity(cover.len());
     let mut covered = vec![false; cover.len()];
+    let mut conflicts: Vec<u64> = Vec::with_capacity(off.len());
     for i in 0..cover.len() {
         if covered[i] {
             continue;
@@ -193,23 +330,36 @@ pub fn expand(cover: &mut Vec<Cube>, off: &[Cube]) {
         let mut cube = cover[i];
         // Literal order: literals whose removal brings more not-yet-covered cubes of the
         // cover closer (they disagree with them there) come first.
+        // One pass over the cover: a cube that disagrees in exactly one variable counts
+        // for that variable.
+        let mut counts = [0usize; 64];
+        for (j, d) in cover.iter().enumerate() {
+            let conflict = d.conflict(&cube);
+            if j != i && !covered[j] && conflict.is_power_of_two() {
+                counts[conflict.trailing_zeros() as usize] += 1;
+            }
+        }
         let mut order: Vec<(usize, u64)> = Vec::new();
         let mut bits = cube.care;
         while bits != 0 {
             let bit = bits & bits.wrapping_neg();
             bits &= !bit;
-            let score = cover
-                .iter()
-                .enumerate()
-                .filter(|&(j, d)| j != i && !covered[j] && d.conflict(&cube) == bit)
-                .count();
-            order.push((score, bit));
+            order.push((counts[bit.trailing_zeros() as usize], bit));
         }
         order.sort_by(|a, b| b.0.cmp(&a.0).then(a.1.cmp(&b.1)));
-        for &(_, bit) in &order {
-            let raised = Cube::new(cube.value, cube.care & !bit);
-            if off.iter().all(|r| r.conflict(&raised) != 0) {
-                cube = raised;
+        // The variables where each off-set cube disagrees with the cube: dropping the
+        // literal of `bit` keeps the cube off the off-set unless some cube disagrees in
+        // `bit` alone. (A cube that already meets the off-set is left as it is.)
+        conflicts.clear();
+        conflicts.extend(off.iter().map(|r| r.conflict(&cube)));
+        if !conflicts.contains(&0) {
+            for &(_, bit) in &order {
+                if !conflicts.contains(&bit) {
+                    cube = Cube::new(cube.value, cube.care & !bit);
+                    for x in conflicts.iter_mut() {
+                        *x &= !bit;
+                    }
+                }
             }
         }
         for j in i + 1..cover.len() {
@@ -229,16 +379,10 @@ pub fn irredundant(cover: &mut Vec<Cube>, dc: &[Cube]) {
     let mut order: Vec<usize> = (0..cover.len()).collect();
     order.sort_by_key(|&i| std::cmp::Reverse(cover[i].literals()));
     let mut alive = vec![true; cover.len()];
+    let mut buf = Vec::new();
     for i in order {
         alive[i] = false;
-        let rest: Vec<Cube> = cover
-            .iter()
-            .enumerate()
-            .filter(|&(j, _)| alive[j])
-            .map(|(_, c)| *c)
-            .chain(dc.iter().copied())
-            .collect();
-        if !cube_covered(&cover[i], &rest) {
+        if !covered_by(&cover[i], cover, Some(&alive), dc, &mut buf) {
             alive[i] = true;
         }
     }
@@ -255,25 +399,24 @@ pub fn irredundant(cover: &mut Vec<Cube>, dc: &[Cube]) {
 /// cubes first); cubes that turn out fully redundant are dropped.
 pub fn reduce(cover: &mut Vec<Cube>, dc: &[Cube]) {
     cover.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
+    let mut buf = Vec::new();
     let mut i = 0;
     while i < cover.len() {
         let c = cover[i];
-        let others: Vec<Cube> = cover
-            .iter()
-            .enumerate()
-            .filter(|&(j, _)| j != i)
-            .map(|(_, d)| *d)
-            .chain(dc.iter().copied())
-            .collect();
-        let uncovered = complement(&cofactor(&others, &c));
-        if uncovered.is_empty() {
+        // The cofactor of the other cubes and dc by c.
+        buf.clear();
+        for (j, d) in cover.iter().enumerate() {
+            if j != i {
+                if let Some(x) = d.cofactor(&c) {
+                    buf.push(x);
+                }
+            }
+        }
+        buf.extend(dc.iter().filter_map(|d| d.cofactor(&c)));
+        let Some(sup) = complement_supercube(&mut buf, 0) else {
             cover.remove(i);
             continue;
-        }
-        let mut sup = uncovered[0];
-        for u in &uncovered[1..] {
-            sup = sup.supercube(u);
-        }
+        };
         // Back into the space of c: the cofactor space lacks c's own literals.
         cover[i] = Cube::new(sup.value | c.value, (sup.care & !c.care) | c.care);
         i += 1;
@@ -348,5 +491,231 @@ mod tests {
         // f = a b + a b' over 3 variables = a.
         let (cover, _) = minimize_heuristic(&cubes(&["11-", "10-"]), &[]);
         assert_eq!(cover, cubes(&["1--"]));
+    }
+
+    use crate::logic::cube::full_mask;
+    use crate::rng::Rng as SplitMix64;
+
+    /// A random cube over `n` variables with about `density` in 8 of them cared for.
+    fn random_cube(rng: &mut SplitMix64, n: usize, density: u64) -> Cube {
+        let mut care = 0u64;
+        for v in 0..n {
+            if rng.below(8) < density {
+                care |= 1 << v;
+            }
+        }
+        Cube::new(rng.next_u64(), care)
+    }
+
+    fn random_list(rng: &mut SplitMix64, n: usize) -> Vec<Cube> {
+        let len = rng.below(14) as usize;
+        let density = 2 + rng.below(5);
+        (0..len).map(|_| random_cube(rng, n, density)).collect()
+    }
+
+    fn in_union(cubes: &[Cube], m: u64) -> bool {
+        cubes.iter().any(|c| c.contains_minterm(m))
+    }
+
+    /// The rewritten tautology, complement (no contained cubes, in size order) and
+    /// supercube of the complement against enumeration on random cube lists.
+    #[test]
+    fn recursive_operations_match_enumeration() {
+        let mut rng = SplitMix64::from_state(11);
+        for _ in 0..3000 {
+            let n = 1 + rng.below(7) as usize;
+            let f = random_list(&mut rng, n);
+            let space = 1u64 << n;
+            // Cubes beyond n variables do not occur: random_cube cares for v < n only.
+            let covered = (0..space).all(|m| in_union(&f, m));
+            assert_eq!(tautology(&f), covered, "{f:?}");
+            let r = complement(&f);
+            for m in 0..space {
+                assert_ne!(in_union(&f, m), in_union(&r, m), "{f:?} minterm {m}");
+            }
+            for (a, x) in r.iter().enumerate() {
+                for (b, y) in r.iter().enumerate() {
+                    assert!(a == b || !x.contains(y), "{r:?} has a contained cube");
+                }
+            }
+            assert!(r.windows(2).all(|w| size_order(&w[0]) < size_order(&w[1])));
+            let expected = (0..space)
+                .filter(|&m| !in_union(&f, m))
+                .map(|m| Cube::minterm(n, m))
+                .reduce(|a, b| a.supercube(&b));
+            let mut buf = f.clone();
+            let got = complement_supercube(&mut buf, 0)
+                .map(|c| Cube::new(c.value, c.care & full_mask(n)));
+            assert_eq!(got, expected, "{f:?}");
+            assert_eq!(buf, f, "the scratch buffer is restored");
+        }
+    }
+
+    /// The straightforward forms the faster expand, irredundant and reduce replaced;
+    /// they must give the same covers, cube for cube.
+    fn expand_reference(cover: &mut Vec<Cube>, off: &[Cube]) {
+        cover.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
+        let mut done: Vec<Cube> = Vec::new();
+        let mut covered = vec![false; cover.len()];
+        for i in 0..cover.len() {
+            if covered[i] {
+                continue;
+            }
+            let mut cube = cover[i];
+            let mut order: Vec<(usize, u64)> = Vec::new();
+            let mut bits = cube.care;
+            while bits != 0 {
+                let bit = bits & bits.wrapping_neg();
+                bits &= !bit;
+                let score = cover
+                    .iter()
+                    .enumerate()
+                    .filter(|&(j, d)| j != i && !covered[j] && d.conflict(&cube) == bit)
+                    .count();
+                order.push((score, bit));
+            }
+            order.sort_by(|a, b| b.0.cmp(&a.0).then(a.1.cmp(&b.1)));
+            for &(_, bit) in &order {
+                let raised = Cube::new(cube.value, cube.care & !bit);
+                if off.iter().all(|r| r.conflict(&raised) != 0) {
+                    cube = raised;
+                }
+            }
+            for j in i + 1..cover.len() {
+                if !covered[j] && cube.contains(&cover[j]) {
+                    covered[j] = true;
+                }
+            }
+            done.push(cube);
+        }
+        remove_contained(&mut done);
+        *cover = done;
+    }
+
+    fn irredundant_reference(cover: &mut Vec<Cube>, dc: &[Cube]) {
+        let mut order: Vec<usize> = (0..cover.len()).collect();
+        order.sort_by_key(|&i| std::cmp::Reverse(cover[i].literals()));
+        let mut alive = vec![true; cover.len()];
+        for i in order {
+            alive[i] = false;
+            let rest: Vec<Cube> = (0..cover.len())
+                .filter(|&j| alive[j])
+                .map(|j| cover[j])
+                .chain(dc.iter().copied())
+                .collect();
+            if !tautology(&cofactor(&rest, &cover[i])) {
+                alive[i] = true;
+            }
+        }
+        *cover = (0..cover.len())
+            .filter(|&j| alive[j])
+            .map(|j| cover[j])
+            .collect();
+    }
+
+    fn reduce_reference(cover: &mut Vec<Cube>, dc: &[Cube]) {
+        cover.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
+        let mut i = 0;
+        while i < cover.len() {
+            let c = cover[i];
+            let others: Vec<Cube> = (0..cover.len())
+                .filter(|&j| j != i)
+                .map(|j| cover[j])
+                .chain(dc.iter().copied())
+                .collect();
+            let uncovered = complement(&cofactor(&others, &c));
+            if uncovered.is_empty() {
+                cover.remove(i);
+                continue;
+            }
+            let sup = uncovered[1..]
+                .iter()
+                .fold(uncovered[0], |a, u| a.supercube(u));
+            cover[i] = Cube::new(sup.value | c.value, (sup.care & !c.care) | c.care);
+            i += 1;
+        }
+    }
+
+    /// The complement as first written (hash sets to find the common cubes, then
+    /// containment removal); the faster one must give the same list.
+    fn complement_reference(cubes: &[Cube]) -> Vec<Cube> {
+        if cubes.is_empty() {
+            return vec![Cube::UNIVERSE];
+        }
+        if cubes.iter().any(|c| c.care == 0) {
+            return Vec::new();
+        }
+        if cubes.len() == 1 {
+            let c = cubes[0];
+            let mut out = Vec::new();
+            let mut prefix = Cube::UNIVERSE;
+            let mut bits = c.care;
+            while bits != 0 {
+                let bit = bits & bits.wrapping_neg();
+                bits &= !bit;
+                let lit = c.value & bit;
+                out.push(Cube::new(prefix.value | (lit ^ bit), prefix.care | bit));
+                prefix = Cube::new(prefix.value | lit, prefix.care | bit);
+            }
+            return out;
+        }
+        let Some((bit, _)) = split_variable(cubes) else {
+            return Vec::new();
+        };
+        let neg = complement_reference(&cofactor(cubes, &Cube::new(0, bit)));
+        let pos = complement_reference(&cofactor(cubes, &Cube::new(bit, bit)));
+        let in_pos: std::collections::HashSet<Cube> = pos.iter().copied().collect();
+        let in_neg: std::collections::HashSet<Cube> = neg.iter().copied().collect();
+        let mut out = Vec::new();
+        for a in &neg {
+            if in_pos.contains(a) {
+                out.push(*a);
+            } else {
+                out.push(Cube::new(a.value, a.care | bit));
+            }
+        }
+        for b in &pos {
+            if !in_neg.contains(b) {
+                out.push(Cube::new(b.value | bit, b.care | bit));
+            }
+        }
+        remove_contained(&mut out);
+        out
+    }
+
+    #[test]
+    fn complement_matches_its_reference_form() {
+        let mut rng = SplitMix64::from_state(13);
+        for _ in 0..3000 {
+            let n = 1 + rng.below(12) as usize;
+            let mut f = random_list(&mut rng, n);
+            f.extend(random_list(&mut rng, n));
+            assert_eq!(complement(&f), complement_reference(&f), "{f:?}");
+        }
+    }
+
+    #[test]
+    fn loop_steps_match_their_reference_forms() {
+        let mut rng = SplitMix64::from_state(12);
+        for _ in 0..1500 {
+            let n = 2 + rng.below(9) as usize;
+            let on = random_list(&mut rng, n);
+            let dc: Vec<Cube> = random_list(&mut rng, n).into_iter().take(4).collect();
+            let all: Vec<Cube> = on.iter().chain(&dc).copied().collect();
+            let off = complement(&all);
+            let mut fast = on.clone();
+            let mut slow = on.clone();
+            remove_contained(&mut fast);
+            remove_contained(&mut slow);
+            expand(&mut fast, &off);
+            expand_reference(&mut slow, &off);
+            assert_eq!(fast, slow, "expand of {on:?}");
+            irredundant(&mut fast, &dc);
+            irredundant_reference(&mut slow, &dc);
+            assert_eq!(fast, slow, "irredundant of {on:?}");
+            reduce(&mut fast, &dc);
+            reduce_reference(&mut slow, &dc);
+            assert_eq!(fast, slow, "reduce of {on:?}");
+        }
     }
 }

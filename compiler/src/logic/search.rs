@@ -69,7 +69,7 @@ use super::assign::{
     raw_assignment_count, Adjacency, Encoding, EncodingKind,
 };
 use super::cube::Cube;
-use super::equations::{function_sets, minimize_sets, tabulate, LogicSpec};
+use super::equations::{function_sets, minimize_sets, tabulate, FunctionSet, LogicSpec, Role};
 use super::excitation::FlipFlop;
 use super::{CubeFunction, EXACT_MAX_VARS};
 use crate::rng::Rng;
@@ -90,6 +90,12 @@ pub const POOL_EXACT: usize = 4;
 
 /// Default cap on exact evaluations (see [`SearchOptions::max_exact`]).
 pub const DEFAULT_MAX_EXACT: u64 = 200;
+
+/// Default of [`SearchOptions::slack_per_mille`].
+pub const DEFAULT_SLACK_PER_MILLE: u32 = 15;
+
+/// Smallest slack of the descent's heuristic stop, in literals.
+pub const MIN_SLACK: usize = 8;
 
 /// Candidates costed in parallel between two looks at the clock and the incumbent.
 const BATCH: usize = 4;
@@ -114,6 +120,11 @@ pub struct SearchOptions {
     /// [`EXHAUSTIVE_MAX_VARS`]); 0 always runs the guided search (used by the tests that
     /// compare it with the exhaustive one).
     pub exhaustive_max_vars: usize,
+    /// In the descent, a neighbour is dropped once the functions costed so far cost
+    /// more than this many thousandths of the current assignment's literals (at least
+    /// [`MIN_SLACK`]) above the same functions of the current assignment. `None`: only
+    /// the exact bound stops an evaluation.
+    pub slack_per_mille: Option<u32>,
 }
 
 impl Default for SearchOptions {
@@ -122,6 +133,7 @@ impl Default for SearchOptions {
             budget: None,
             max_exact: DEFAULT_MAX_EXACT,
             exhaustive_max_vars: EXHAUSTIVE_MAX_VARS,
+            slack_per_mille: Some(DEFAULT_SLACK_PER_MILLE),
         }
     }
 }
@@ -164,12 +176,57 @@ struct FunctionKey {
     dc: Vec<Cube>,
 }
 
+/// A multiply-rotate hasher for the memo's keys (cube words; the standard SipHash cost
+/// about 3% of a search on the generated 16-state machine). Not collision-resistant:
+/// the keys come from the machine itself, and equal hashes still compare the keys.
+#[derive(Default)]
+struct WordHasher(u64);
+
+impl std::hash::Hasher for WordHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut word = [0u8; 8];
+            word[..chunk.len()].copy_from_slice(chunk);
+            self.write_u64(u64::from_le_bytes(word));
+        }
+    }
+    fn write_u64(&mut self, x: u64) {
+        self.0 = (self.0.rotate_left(5) ^ x).wrapping_mul(0x51_7cc1_b727_220a_95);
+    }
+    fn write_usize(&mut self, x: usize) {
+        self.write_u64(x as u64);
+    }
+}
+
+type Memo = HashMap<FunctionKey, usize, std::hash::BuildHasherDefault<WordHasher>>;
+
+/// When an exact evaluation may stop early.
+#[derive(Clone, Copy, Debug)]
+enum Stop<'r> {
+    /// Once the literals so far pass this total (exact: the functions not yet costed can
+    /// only add literals).
+    Above(usize),
+    /// Against a reference assignment (the current one of a descent), whose functions
+    /// cost `reference[i]` each: once the literals so far pass `bound`, or once the
+    /// functions costed so far cost more than `slack` literals above the reference's
+    /// same functions. The second test is a heuristic: it predicts that the functions
+    /// not yet costed will not win those literals back (see the module documentation).
+    Against {
+        bound: usize,
+        reference: &'r [usize],
+        slack: usize,
+    },
+}
+
 /// Costs assignments exactly, with the memo and the bound.
 pub struct Evaluator<'a> {
     spec: &'a LogicSpec,
     ff: FlipFlop,
     bits: usize,
-    memo: Mutex<HashMap<FunctionKey, usize>>,
+    memo: Mutex<Memo>,
     evaluated: AtomicU64,
     pruned: AtomicU64,
     minimized: AtomicU64,
@@ -183,7 +240,7 @@ impl<'a> Evaluator<'a> {
             spec,
             ff,
             bits: dense_bits(spec.n_states),
-            memo: Mutex::new(HashMap::new()),
+            memo: Mutex::new(Memo::default()),
             evaluated: AtomicU64::new(0),
             pruned: AtomicU64::new(0),
             minimized: AtomicU64::new(0),
@@ -194,61 +251,96 @@ impl<'a> Evaluator<'a> {
     /// The literal count of the design under `codes` (what [`super::equations::synthesize`]
     /// would report), or `None` as soon as it is known to exceed `bound`.
     pub fn cost(&self, codes: &[u64], bound: usize) -> Result<Option<usize>, String> {
+        Ok(self
+            .evaluate(codes, Stop::Above(bound))?
+            .map(|per| per.iter().sum()))
+    }
+
+    /// The literal count of each function under `codes`, in the order of
+    /// [`function_sets`], or `None` when `stop` ended the evaluation.
+    fn evaluate(&self, codes: &[u64], stop: Stop<'_>) -> Result<Option<Vec<usize>>, String> {
         self.evaluated.fetch_add(1, Ordering::Relaxed);
         let enc = Encoding {
             kind: EncodingKind::Searched,
             bits: self.bits,
             codes: codes.to_vec(),
         };
-        let mut sets = function_sets(self.spec, &enc, self.ff)?.functions;
+        let sets = function_sets(self.spec, &enc, self.ff)?.functions;
         // Narrow (state-only) functions first: cheap, and they tighten the bound early.
-        sets.sort_by_key(|f| f.vars.len());
-        let mut total = 0usize;
-        for set in sets {
-            let mut key = FunctionKey {
-                vars: set.vars.len(),
-                on: set.on,
-                dc: set.dc,
-            };
-            key.on.sort_unstable();
-            key.on.dedup();
-            key.dc.sort_unstable();
-            key.dc.dedup();
-            let known = self.lock_memo().get(&key).copied();
-            let literals = match known {
-                Some(l) => {
-                    self.memo_hits.fetch_add(1, Ordering::Relaxed);
-                    l
-                }
-                None => {
-                    self.minimized.fetch_add(1, Ordering::Relaxed);
-                    let cf = CubeFunction {
-                        vars: set.vars,
-                        on: key.on.clone(),
-                        dc: key.dc.clone(),
-                    };
-                    // The minterm table serves the exact method only.
-                    let table = if cf.vars.len() <= EXACT_MAX_VARS {
-                        tabulate(&cf.vars, &cf.on, &cf.dc)
-                    } else {
-                        None
-                    };
-                    let cover = minimize_sets(&cf, table.as_ref())
-                        .map_err(|e| format!("function {}: {e}", set.name))?;
-                    self.lock_memo().insert(key, cover.literals);
-                    cover.literals
-                }
-            };
+        // Then the flip-flop inputs, which change the most from one assignment to the
+        // next (the next-state codes move as well as the present-state ones).
+        let group = |f: &FunctionSet| (f.vars.len(), !matches!(f.role, Role::FlipFlop { .. }));
+        let mut order: Vec<usize> = (0..sets.len()).collect();
+        order.sort_by_key(|&i| group(&sets[i]));
+        let groups: Vec<(usize, bool)> = order.iter().map(|&i| group(&sets[i])).collect();
+        let mut sets: Vec<Option<FunctionSet>> = sets.into_iter().map(Some).collect();
+        let mut per = vec![0usize; sets.len()];
+        let (mut total, mut delta) = (0usize, 0i64);
+        let mut remaining: usize = match stop {
+            Stop::Against { reference, .. } => reference.iter().sum(),
+            Stop::Above(_) => 0,
+        };
+        for (k, &i) in order.iter().enumerate() {
+            let Some(set) = sets[i].take() else { continue };
+            let literals = self.function_literals(set)?;
+            per[i] = literals;
             total += literals;
-            if total > bound {
+            let stopped = match stop {
+                Stop::Above(bound) => total > bound,
+                Stop::Against {
+                    bound,
+                    reference,
+                    slack,
+                } => {
+                    delta += literals as i64 - reference[i] as i64;
+                    remaining -= reference[i];
+                    let allowed = (remaining * slack / 1000).max(MIN_SLACK);
+                    let group_done = groups.get(k + 1) != Some(&groups[k]);
+                    total > bound || (group_done && delta > allowed as i64)
+                }
+            };
+            if stopped {
                 self.pruned.fetch_add(1, Ordering::Relaxed);
                 return Ok(None);
             }
         }
-        Ok(Some(total))
+        Ok(Some(per))
     }
 
-    fn lock_memo(&self) -> std::sync::MutexGuard<'_, HashMap<FunctionKey, usize>> {
+    /// The literal count of one function's cover, from the memo or minimized.
+    fn function_literals(&self, set: FunctionSet) -> Result<usize, String> {
+        let mut key = FunctionKey {
+            vars: set.vars.len(),
+            on: set.on,
+            dc: set.dc,
+        };
+        key.on.sort_unstable();
+        key.on.dedup();
+        key.dc.sort_unstable();
+        key.dc.dedup();
+        if let Some(&l) = self.lock_memo().get(&key) {
+            self.memo_hits.fetch_add(1, Ordering::Relaxed);
+            return Ok(l);
+        }
+        self.minimized.fetch_add(1, Ordering::Relaxed);
+        let cf = CubeFunction {
+            vars: set.vars,
+            on: key.on.clone(),
+            dc: key.dc.clone(),
+        };
+        // The minterm table serves the exact method only.
+        let table = if cf.vars.len() <= EXACT_MAX_VARS {
+            tabulate(&cf.vars, &cf.on, &cf.dc)
+        } else {
+            None
+        };
+        let cover = minimize_sets(&cf, table.as_ref())
+            .map_err(|e| format!("function {}: {e}", set.name))?;
+        self.lock_memo().insert(key, cover.literals);
+        Ok(cover.literals)
+    }
+
+    fn lock_memo(&self) -> std::sync::MutexGuard<'_, Memo> {
         // A panic while holding the lock leaves a usable map (entries are complete).
         self.memo.lock().unwrap_or_else(|p| p.into_inner())
     }
@@ -409,19 +501,22 @@ struct Run<'a, 'p> {
     total: u64,
 }
 
+/// Per-function literal counts of each candidate of a batch (`None`: stopped early).
+type BatchCosts = Vec<Option<Vec<usize>>>;
+
 impl Run<'_, '_> {
     fn past_deadline(&self) -> bool {
         self.deadline.is_some_and(|d| Instant::now() >= d)
     }
 
-    /// Costs `batch` in parallel against `bound` (`None` for candidates above it) and
-    /// records the best. The first evaluation of the search is never skipped; after
-    /// that, a deadline already passed costs nothing and marks the run cut short.
+    /// Costs `batch` in parallel under `stop` and records the best. The first
+    /// evaluation of the search is never skipped; after that, a deadline already passed
+    /// costs nothing (`None`) and marks the run cut short.
     fn cost_batch(
         &mut self,
         batch: &[Vec<u64>],
-        bound: usize,
-    ) -> Result<Option<Vec<Option<usize>>>, String> {
+        stop: Stop<'_>,
+    ) -> Result<Option<BatchCosts>, String> {
         let first = self.best.is_none();
         if self.past_deadline() && !first {
             self.cut_short = true;
@@ -434,12 +529,13 @@ impl Run<'_, '_> {
             batch
         };
         let eval = &self.eval;
-        let costs: Vec<Option<usize>> = batch
+        let costs: BatchCosts = batch
             .par_iter()
-            .map(|codes| eval.cost(codes, bound))
+            .map(|codes| eval.evaluate(codes, stop))
             .collect::<Result<_, _>>()?;
-        for (codes, cost) in batch.iter().zip(costs.iter()) {
-            if let Some(c) = *cost {
+        for (codes, per) in batch.iter().zip(costs.iter()) {
+            if let Some(per) = per {
+                let c: usize = per.iter().sum();
                 if self.best.as_ref().is_none_or(|(b, _)| c < *b) {
                     self.best = Some((c, codes.clone()));
                 }
@@ -499,17 +595,18 @@ pub fn search_assignment(
     } else {
         pool.len().min(POOL_EXACT).min(opts.max_exact as usize)
     };
-    let mut pool_costs: Vec<(usize, usize)> = Vec::new(); // (cost, pool index)
+    // (cost, pool index, cost of each function)
+    let mut pool_costs: Vec<(usize, usize, Vec<usize>)> = Vec::new();
     for (chunk_no, chunk) in pool[..ranked].chunks(BATCH).enumerate() {
         // The descent starts from the best few, so the ranking needs their exact costs:
         // no pruning there; the exhaustive search prunes against the best so far.
         let bound = if exhaustive { run.bound() } else { usize::MAX };
-        let Some(costs) = run.cost_batch(chunk, bound)? else {
+        let Some(costs) = run.cost_batch(chunk, Stop::Above(bound))? else {
             break;
         };
-        for (i, c) in costs.iter().enumerate() {
-            if let Some(c) = c {
-                pool_costs.push((*c, chunk_no * BATCH + i));
+        for (i, per) in costs.into_iter().enumerate() {
+            if let Some(per) = per {
+                pool_costs.push((per.iter().sum(), chunk_no * BATCH + i, per));
             }
         }
     }
@@ -520,37 +617,38 @@ pub fn search_assignment(
             .iter()
             .map(|c| canonical_under_permutation(c, bits))
             .collect();
-        // Multi-start descent: from the best ranked assignment, then the next ones while
+        // Multi-start descent. Starts: the costed part of the pool, cheapest first, then
+        // the rest of the pool in score order (costed when reached), while exact
         // evaluations remain.
-        // Starts: the costed part of the pool, cheapest first, then the rest of the pool
-        // in score order (costed when reached), while exact evaluations remain.
-        let mut starts: Vec<(Option<usize>, usize)> =
-            pool_costs.iter().map(|&(c, i)| (Some(c), i)).collect();
+        let mut starts: Vec<(Option<Vec<usize>>, usize)> = pool_costs
+            .into_iter()
+            .map(|(_, i, per)| (Some(per), i))
+            .collect();
         starts.extend((ranked..pool.len()).map(|i| (None, i)));
         'starts: for (known, index) in starts {
             let mut current = pool[index].clone();
-            let mut current_cost = match known {
-                Some(c) => c,
+            let mut current_per = match known {
+                Some(per) => per,
                 None => {
-                    if run.evaluated() >= opts.max_exact
-                        || !visited.insert(canonical_under_permutation(&current, bits))
-                    {
-                        if run.evaluated() >= opts.max_exact {
-                            break 'starts;
-                        }
+                    if run.evaluated() >= opts.max_exact {
+                        break 'starts;
+                    }
+                    if !visited.insert(canonical_under_permutation(&current, bits)) {
                         continue;
                     }
-                    let Some(costs) = run.cost_batch(std::slice::from_ref(&current), usize::MAX)?
+                    let Some(mut costs) =
+                        run.cost_batch(std::slice::from_ref(&current), Stop::Above(usize::MAX))?
                     else {
                         break 'starts;
                     };
-                    match costs[0] {
-                        Some(c) => c,
+                    match costs.pop().flatten() {
+                        Some(per) => per,
                         None => continue,
                     }
                 }
             };
             loop {
+                let current_cost: usize = current_per.iter().sum();
                 let list = neighbours(adj, &current, bits);
                 stats.scored += list.len() as u64;
                 let mut improved = false;
@@ -579,18 +677,25 @@ pub fn search_assignment(
                         break;
                     }
                     // Only strictly better neighbours matter.
-                    let Some(costs) = run.cost_batch(&chunk, current_cost.saturating_sub(1))?
-                    else {
+                    let stop = match opts.slack_per_mille {
+                        Some(per_mille) => Stop::Against {
+                            bound: current_cost.saturating_sub(1),
+                            reference: &current_per,
+                            slack: per_mille as usize,
+                        },
+                        None => Stop::Above(current_cost.saturating_sub(1)),
+                    };
+                    let Some(costs) = run.cost_batch(&chunk, stop)? else {
                         break 'starts;
                     };
                     let winner = costs
                         .iter()
                         .enumerate()
-                        .filter_map(|(i, c)| c.map(|c| (c, i)))
+                        .filter_map(|(i, per)| per.as_ref().map(|p| (p.iter().sum::<usize>(), i)))
                         .min();
-                    if let Some((c, i)) = winner {
+                    if let Some((_, i)) = winner {
                         current = chunk.swap_remove(i);
-                        current_cost = c;
+                        current_per = costs.into_iter().nth(i).flatten().unwrap_or_default();
                         improved = true;
                         break;
                     }
