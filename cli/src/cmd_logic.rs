@@ -6,9 +6,8 @@
 use crate::io::{self, OK};
 use clap::ValueEnum;
 use detent_compiler::logic::assign::Encoding;
-use detent_compiler::logic::equations::{
-    auto_assign_with, synthesize, AutoReport, LogicDesign, LogicSpec, Map,
-};
+use detent_compiler::logic::auto::{auto_assign_with, AutoReport};
+use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::SearchOptions;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};

@@ -2,9 +2,10 @@
 
 use crate::io::{self, FAILED, OK, USAGE};
 use crate::{ReportFormat, TableFormat};
-use detent_compiler::check::{sarif, Options};
+use detent_compiler::check::Options;
 use detent_compiler::diag::Lint;
 use detent_compiler::driver;
+use detent_compiler::report::sarif;
 use detent_compiler::report::{self, check::CheckReport};
 use std::path::{Path, PathBuf};
 

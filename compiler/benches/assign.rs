@@ -14,9 +14,8 @@
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use detent_compiler::logic::assign::Encoding;
-use detent_compiler::logic::equations::{
-    auto_assign, auto_assign_baseline, synthesize, AutoReport, LogicSpec, Map,
-};
+use detent_compiler::logic::auto::{auto_assign, auto_assign_baseline, AutoReport};
+use detent_compiler::logic::equations::{synthesize, LogicSpec, Map};
 use detent_compiler::logic::exact::{prime_implicants, primes_from_cubes};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::Cube;

@@ -2,7 +2,7 @@
 //!
 //! A [`Diagnostic`] is plain data; [`crate::check::render`] prints it in rustc's shape
 //! (text), [`crate::report::check`] as the JSON of DESIGN.md and
-//! [`crate::check::sarif`] as SARIF; the macro turns it into a compile error or warning
+//! [`crate::report::sarif`] as SARIF; the macro turns it into a compile error or warning
 //! at its span.
 
 use proc_macro2::Span;

@@ -5,9 +5,10 @@
 //! candidate, reported as cut short. Speed is measured in `benches/assign.rs`, not here.
 
 use detent_compiler::logic::assign::{dense_bits, Encoding, EncodingKind};
-use detent_compiler::logic::equations::{
-    auto_assign, auto_assign_baseline, auto_assign_with, synthesize, AutoReport, LogicSpec, Map,
+use detent_compiler::logic::auto::{
+    auto_assign, auto_assign_baseline, auto_assign_with, AutoReport,
 };
+use detent_compiler::logic::equations::{synthesize, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::{search_assignment, Evaluator, SearchOptions};
 use detent_compiler::model::Machine;

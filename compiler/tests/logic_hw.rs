@@ -8,7 +8,8 @@
 use detent_compiler::logic::assign::{
     canonical_assignments, dense_bits, raw_assignment_count, Encoding, EncodingKind,
 };
-use detent_compiler::logic::equations::{auto_assign, synthesize, LogicDesign, LogicSpec, Map};
+use detent_compiler::logic::auto::auto_assign;
+use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::logic::{check_cover, check_cube_cover, CubeFunction, Function};

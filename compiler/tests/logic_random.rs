@@ -2,8 +2,8 @@
 //! exact method against an independent brute-force minimum, and the heuristic on wide
 //! cube-list functions and against the exact method.
 
+use detent_compiler::logic::cube::CoverCost;
 use detent_compiler::logic::cube::{full_mask, Cube};
-use detent_compiler::logic::exact::CoverCost;
 use detent_compiler::logic::{
     check_cover, check_cube_cover, gates, minimize, minimize_cubes, Cover, Function, Method,
 };

@@ -2,8 +2,9 @@
 //! is vendored in `tests/data/`, see its README for where it comes from), plus the
 //! properties code-scanning tools rely on, checked by hand.
 
-use detent_compiler::check::{apply_options, sarif, Options};
+use detent_compiler::check::{apply_options, Options};
 use detent_compiler::driver::{check_source, FileReport};
+use detent_compiler::report::sarif;
 
 /// The SARIF log of the reports, as JSON.
 fn sarif_log(reports: &[FileReport]) -> Value {

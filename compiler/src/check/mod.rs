@@ -17,7 +17,6 @@
 
 pub mod property;
 pub mod render;
-pub mod sarif;
 
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::fxhash::FxSet;

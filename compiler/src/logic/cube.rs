@@ -187,6 +187,38 @@ impl Cube {
     }
 }
 
+/// Cost of a cover: literals first, then products (lexicographic).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub struct CoverCost {
+    /// Total number of literals.
+    pub literals: usize,
+    /// Number of products.
+    pub products: usize,
+}
+
+impl CoverCost {
+    /// The cost of a list of cubes.
+    pub fn of(cubes: &[Cube]) -> CoverCost {
+        CoverCost {
+            literals: cubes.iter().map(Cube::literals).sum(),
+            products: cubes.len(),
+        }
+    }
+}
+
+/// Removes cubes contained in another cube of the list (single-cube containment).
+pub fn remove_contained(cubes: &mut Vec<Cube>) {
+    cubes.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
+    cubes.dedup();
+    let mut kept: Vec<Cube> = Vec::with_capacity(cubes.len());
+    for c in cubes.iter() {
+        if !kept.iter().any(|k| k.contains(c)) {
+            kept.push(*c);
+        }
+    }
+    *cubes = kept;
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -40,27 +40,7 @@
 
 use std::collections::{HashMap, HashSet};
 
-use super::cube::{full_mask, Cube};
-use super::heuristic::remove_contained;
-
-/// Cost of a cover: literals first, then products (lexicographic).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
-pub struct CoverCost {
-    /// Total number of literals.
-    pub literals: usize,
-    /// Number of products.
-    pub products: usize,
-}
-
-impl CoverCost {
-    /// The cost of a list of cubes.
-    pub fn of(cubes: &[Cube]) -> CoverCost {
-        CoverCost {
-            literals: cubes.iter().map(Cube::literals).sum(),
-            products: cubes.len(),
-        }
-    }
-}
+use super::cube::{full_mask, remove_contained, Cube};
 
 /// All prime implicants of the function of `n` variables with on-set `on` and don't-care
 /// set `dc` (minterm numbers), by Quine-McCluskey merging. Sorted, without duplicates.
@@ -952,6 +932,7 @@ impl Search<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::logic::cube::CoverCost;
 
     fn strings(n: usize, cubes: &[Cube]) -> Vec<String> {
         let mut v: Vec<String> = cubes.iter().map(|c| c.to_string(n)).collect();

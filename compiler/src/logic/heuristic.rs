@@ -1,7 +1,8 @@
 //! Heuristic two-level minimization on cube lists, for functions too wide for minterms.
 //!
-//! The loop of the published Espresso method (Brayton, Hachtel, McMullen,
-//! Sangiovanni-Vincentelli, 1984), simplified:
+//! The expand / irredundant / reduce loop published by Brayton, Hachtel, McMullen and
+//! Sangiovanni-Vincentelli (*Logic Minimization Algorithms for VLSI Synthesis*, 1984),
+//! simplified:
 //!
 //! * **complement**: the off-set `R` is the complement of `F ∪ D`, computed by the
 //!   unate-recursive paradigm: Shannon expansion on the most binate variable, a
@@ -21,8 +22,7 @@
 //! (literals, then products). The result is a prime and irredundant cover, not
 //! necessarily a minimum. The tautology check is the unate-recursive one as well.
 
-use super::cube::Cube;
-use super::exact::CoverCost;
+use super::cube::{remove_contained, CoverCost, Cube};
 
 /// Chooses the splitting variable for the recursive paradigm: the bit of the variable
 /// that appears in the most cubes in both phases (most binate), else the most frequent.
@@ -163,19 +163,6 @@ fn covered_by(
 /// Whether cube `c` lies within the union of `cubes`.
 pub fn cube_covered(c: &Cube, cubes: &[Cube]) -> bool {
     covered_by(c, cubes, None, &[], &mut Vec::new())
-}
-
-/// Removes cubes contained in another cube of the list (single-cube containment).
-pub fn remove_contained(cubes: &mut Vec<Cube>) {
-    cubes.sort_unstable_by_key(|c| (c.literals(), c.care, c.value));
-    cubes.dedup();
-    let mut kept: Vec<Cube> = Vec::with_capacity(cubes.len());
-    for c in cubes.iter() {
-        if !kept.iter().any(|k| k.contains(c)) {
-            kept.push(*c);
-        }
-    }
-    *cubes = kept;
 }
 
 /// The complement of the union of `cubes`, as a cube list (unate-recursive paradigm),

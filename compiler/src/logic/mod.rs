@@ -6,8 +6,8 @@
 //!   bit of a minterm number).
 //! * [`exact`]: Quine-McCluskey prime implicants and an exact minimum cover by branch and
 //!   bound (cost: literals, then products).
-//! * [`heuristic`]: the expand / irredundant / reduce loop of the published Espresso
-//!   method on cube lists, with the off-set from unate-recursive complementation.
+//! * [`heuristic`]: the published expand / irredundant / reduce loop (Brayton
+//!   et al. 1984) on cube lists, with the off-set from unate-recursive complementation.
 //! * [`gates`]: NAND-NAND and NOR-NOR mapping, gate costs, trade-notation equations.
 //! * [`excitation`]: flip-flop excitation tables (D, T, JK, SR).
 //! * [`assign`], [`search`]: state encodings and the search for a cheap one.
@@ -16,6 +16,7 @@
 //! that constant), the heuristic beyond, and the [`Cover`] says which one ran.
 
 pub mod assign;
+pub mod auto;
 pub mod cube;
 pub mod equations;
 pub mod exact;
@@ -74,7 +75,7 @@ pub struct CubeFunction {
 pub enum Method {
     /// Quine-McCluskey primes and a proven minimum cover (literals, then products).
     Exact,
-    /// Espresso-style expand / irredundant / reduce: prime and irredundant, not proven
+    /// The expand / irredundant / reduce heuristic: prime and irredundant, not proven
     /// minimal. Also reported when the exact branch and bound ran out of its node budget.
     Heuristic,
 }
@@ -257,7 +258,7 @@ pub fn minimize_with_cubes(f: &Function, cubes: Option<&CubeFunction>) -> Result
         }
         let cf = f.to_cubes();
         let (heur, _) = heuristic::minimize_heuristic(&cf.on, &cf.dc);
-        let best = if exact::CoverCost::of(&heur) < exact::CoverCost::of(&result.cubes) {
+        let best = if cube::CoverCost::of(&heur) < cube::CoverCost::of(&result.cubes) {
             heur
         } else {
             result.cubes

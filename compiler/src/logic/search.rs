@@ -3,9 +3,9 @@
 //!
 //! **Exact cost.** The cost of an assignment is the literal count of every flip-flop
 //! input, output and action equation, each minimized as [`super::equations::synthesize`]
-//! does it (exact up to [`super::EXACT_MAX_VARS`] variables, the Espresso-style
-//! heuristic beyond), so the search optimizes exactly what the report shows. One such
-//! evaluation minimizes every function once; it is the only expensive step.
+//! does it (exact up to [`super::EXACT_MAX_VARS`] variables, the expand / irredundant /
+//! reduce heuristic beyond), so the search optimizes exactly what the report shows. One
+//! such evaluation minimizes every function once; it is the only expensive step.
 //!
 //! **Cheap score (the proxy).** The weighted code distance
 //! `sum w(a, b) * hamming(code a, code b)` ([`Adjacency::score`]) with the weights of the
@@ -15,8 +15,8 @@
 //! Circuits with Computer Applications*, ch. 10; Armstrong 1962, "A programmed
 //! algorithm for assigning internal codes to sequential machines", IRE Trans.
 //! Electronic Computers EC-11(4); the weighted fan-in / fan-out form of Devadas, Ma,
-//! Newton and Sangiovanni-Vincentelli 1988, "MUSTANG: State assignment of finite state
-//! machines targeting multilevel logic implementations", IEEE Trans. CAD 7(12)). A code
+//! Newton and Sangiovanni-Vincentelli 1988, "State assignment of finite state machines
+//! targeting multilevel logic implementations", IEEE Trans. CAD 7(12)). A code
 //! swap or a move to a free code changes it by an O(m) sum ([`swap_delta`],
 //! [`move_delta`]), so a descent on the score visits thousands of assignments in the
 //! time of one exact evaluation.
@@ -72,9 +72,10 @@ use super::cube::Cube;
 use super::equations::{function_sets, minimize_sets, tabulate, FunctionSet, LogicSpec, Role};
 use super::excitation::FlipFlop;
 use super::{CubeFunction, EXACT_MAX_VARS};
+use crate::fxhash::FxMap;
 use crate::rng::Rng;
 use rayon::prelude::*;
-use std::collections::{HashMap, HashSet};
+use std::collections::HashSet;
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
@@ -103,7 +104,7 @@ const BATCH: usize = 4;
 /// Widest equations (state bits + event bits + inputs) for which a complete pool (up to
 /// 8 states: at most 840 assignments) is costed in full by default. Up to 12 variables
 /// the exact minimizer runs and, with the pruning and the memo, 840 assignments take
-/// well under a second; past 12 the Espresso-style heuristic runs instead, about 1 ms
+/// well under a second; past 12 the expand / irredundant / reduce heuristic runs instead, about 1 ms
 /// per function, and a full pool would take seconds.
 pub const EXHAUSTIVE_MAX_VARS: usize = 12;
 
@@ -176,32 +177,10 @@ struct FunctionKey {
     dc: Vec<Cube>,
 }
 
-/// A multiply-rotate hasher for the memo's keys (cube words; the standard SipHash cost
-/// about 3% of a search on the generated 16-state machine). Not collision-resistant:
-/// the keys come from the machine itself, and equal hashes still compare the keys.
-#[derive(Default)]
-struct WordHasher(u64);
-
-impl std::hash::Hasher for WordHasher {
-    fn finish(&self) -> u64 {
-        self.0
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for chunk in bytes.chunks(8) {
-            let mut word = [0u8; 8];
-            word[..chunk.len()].copy_from_slice(chunk);
-            self.write_u64(u64::from_le_bytes(word));
-        }
-    }
-    fn write_u64(&mut self, x: u64) {
-        self.0 = (self.0.rotate_left(5) ^ x).wrapping_mul(0x51_7cc1_b727_220a_95);
-    }
-    fn write_usize(&mut self, x: usize) {
-        self.write_u64(x as u64);
-    }
-}
-
-type Memo = HashMap<FunctionKey, usize, std::hash::BuildHasherDefault<WordHasher>>;
+/// Memo of exact function costs, keyed by the function; hashed with the crate's Fx
+/// hasher (see [`crate::fxhash`]): the keys are word lists, for which SipHash was about
+/// 3% of a search on the generated 16-state machine.
+type Memo = FxMap<FunctionKey, usize>;
 
 /// When an exact evaluation may stop early.
 #[derive(Clone, Copy, Debug)]
@@ -464,7 +443,7 @@ fn build_pool(spec: &LogicSpec, adj: &Adjacency, stats: &mut SearchStats) -> (Ve
     let m = spec.n_states;
     let bits = dense_bits(m);
     let mut scored: Vec<(u64, Vec<u64>)> = Vec::new();
-    let complete = raw_assignment_count(m) <= super::equations::EXHAUSTIVE_MAX_RAW;
+    let complete = raw_assignment_count(m) <= super::assign::EXHAUSTIVE_MAX_RAW;
     if complete {
         canonical_assignments(m, spec.start, |codes| {
             scored.push((adj.score(codes), codes.to_vec()));

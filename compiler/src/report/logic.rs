@@ -2,7 +2,8 @@
 //! and output equations with their on- and don't-care sets, and the gate cost; under
 //! `--encoding auto` also the table of what each encoding costs.
 
-use crate::logic::equations::{AutoReport, LogicDesign, Map};
+use crate::logic::auto::AutoReport;
+use crate::logic::equations::{LogicDesign, Map};
 use crate::logic::gates::{format_gates, format_pos, format_sop, Form, GateCost};
 use crate::logic::Method;
 use crate::model::Machine;

@@ -2,7 +2,7 @@
 //! formats") as serde structures, built here by the compiler, with the text form of
 //! the same report beside each. The CLI only chooses text or JSON and writes.
 //!
-//! - [`check`]: `check --format json` (SARIF is [`crate::check::sarif`]);
+//! - [`check`]: `check --format json` (SARIF is [`sarif`]);
 //! - [`minimize`]: `minimize --format json`;
 //! - [`equiv`]: `equiv --format json`;
 //! - [`tour`]: `tour --format json`;
@@ -19,6 +19,7 @@ pub mod check;
 pub mod equiv;
 pub mod logic;
 pub mod minimize;
+pub mod sarif;
 pub mod tour;
 
 use serde::ser::{Serialize, SerializeMap, Serializer};

@@ -19,11 +19,11 @@
 //!
 //! Cost: linear in the number of diagnostics.
 
-use super::render::{line_col, trace_lines, valuation_text};
+use super::check::trace_entries;
+use super::{StepEntry, Valuation};
+use crate::check::render::{line_col, trace_lines, valuation_text};
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::driver::FileReport;
-use crate::report::check::trace_entries;
-use crate::report::{StepEntry, Valuation};
 use proc_macro2::Span;
 use serde::Serialize;
 
