@@ -201,6 +201,7 @@ fn examples_run_hand_worked_traces() {
         let mut state = m.start;
         let got: Vec<String> = steps
             .iter()
+            .filter_map(|e| e.step())
             .map(|s| {
                 let r = m.step(state, s.event, &s.inputs);
                 state = r.to;

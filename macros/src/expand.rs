@@ -39,10 +39,7 @@ fn message_with_notes(d: &Diagnostic) -> String {
         msg.push_str(&format!("\n= note: {n}"));
     }
     if let Some(trace) = &d.trace {
-        msg.push_str("\n= note: shortest trace from the start state:");
-        for (i, line) in render::trace_lines(trace).iter().enumerate() {
-            msg.push_str(&format!("\n    {:>3}. {line}", i + 1));
-        }
+        msg.push_str(&format!("\n= note: {}", render::trace_note(trace)));
     }
     for h in &d.helps {
         msg.push_str(&format!("\n= help: {h}"));

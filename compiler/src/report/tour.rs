@@ -56,23 +56,9 @@ impl TourReport {
     }
 
     /// The text form: one step per line in the trace format of `detent run --trace`
-    /// (inputs that are 1 written out); a reset is the comment line `# reset`, so each
-    /// stretch between resets replays as a trace.
+    /// (inputs that are 1 written out), a restart as the line `reset`: the whole text
+    /// replays through `run` as printed.
     pub fn lines(&self) -> Vec<String> {
-        self.steps
-            .iter()
-            .map(|s| match s {
-                StepEntry::Reset { .. } => "# reset".to_string(),
-                StepEntry::Step { event, inputs } => {
-                    let mut line = event.clone();
-                    for (name, v) in &inputs.0 {
-                        if *v {
-                            line.push_str(&format!(" {name}=1"));
-                        }
-                    }
-                    line
-                }
-            })
-            .collect()
+        super::trace_lines(&self.steps, false)
     }
 }
