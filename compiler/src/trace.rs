@@ -325,18 +325,25 @@ fn list_names<'a>(names: impl Iterator<Item = &'a str>) -> String {
     s
 }
 
+/// ` (did you mean `X`?)` after a misspelled name, or nothing.
+fn suggestion<'a>(name: &str, names: impl Iterator<Item = &'a str>) -> String {
+    crate::naming::closest(name, names).map_or(String::new(), |c| format!(" (did you mean `{c}`?)"))
+}
+
 fn lookup_event(m: &Machine, name: &str) -> Result<EventId, String> {
     if let Some(e) = m.event_id(name) {
         return Ok(e);
     }
+    let guess = suggestion(name, m.events.iter().map(|e| e.name.as_str()));
     if m.clocked {
         Err(format!(
-            "unknown event `{name}`: machine `{}` is clocked, and its only event is `Tick`",
+            "unknown event `{name}`{guess}: machine `{}` is clocked, and its only event is \
+             `Tick`",
             m.name
         ))
     } else {
         Err(format!(
-            "unknown event `{name}`: machine `{}` has events {}",
+            "unknown event `{name}`{guess}: machine `{}` has events {}",
             m.name,
             list_names(m.events.iter().map(|e| e.name.as_str()))
         ))
@@ -354,7 +361,8 @@ fn lookup_input(m: &Machine, name: &str) -> Result<InputId, String> {
         ))
     } else {
         Err(format!(
-            "unknown input `{name}`: machine `{}` has inputs {}",
+            "unknown input `{name}`{}: machine `{}` has inputs {}",
+            suggestion(name, m.inputs.iter().map(|i| i.name.as_str())),
             m.name,
             list_names(m.inputs.iter().map(|i| i.name.as_str()))
         ))
@@ -921,6 +929,20 @@ Stop
                 4,
                 "unknown input `c`: machine `Small` has inputs `a`, `b`".into()
             )
+        );
+        assert_eq!(
+            error(&m, "Hlat b=1"),
+            (
+                1,
+                1,
+                "unknown event `Hlat` (did you mean `Halt`?): machine `Small` has events `Go`, \
+                 `Halt`"
+                    .into()
+            )
+        );
+        assert_eq!(
+            error(&m, "Go B=1").2,
+            "unknown input `B` (did you mean `b`?): machine `Small` has inputs `a`, `b`"
         );
         assert_eq!(
             error(&m, "Go a=2"),

@@ -203,7 +203,10 @@ fn property_diagnostic_text_and_json() {
     assert!(d.notes[0].contains("`Heating`") && d.notes[0].contains("`heater`, `vent`"));
     let text = render_text(d, &Source::new("oven.detent", OVEN));
     assert!(text.contains("error[property]"), "{text}");
-    assert!(text.contains(" Vent door_closed=0\n") && !text.contains("3."), "{text}");
+    assert!(
+        text.contains(" Vent door_closed=0\n") && !text.contains("3."),
+        "{text}"
+    );
     let json = serde_json::to_value(DiagnosticEntry::new(d, "oven.detent")).expect("json");
     assert_eq!(json["lint"], "property");
     assert_eq!(json["trace"][0]["event"], "Start");

@@ -2,6 +2,7 @@
 //! that fire every reachable rule at least once, with restarts where needed.
 
 use super::StepEntry;
+use crate::check::render::plural;
 use crate::minimize::encode::named_inputs;
 use crate::model::Machine;
 use crate::tour::{Tour, TourStep};
@@ -35,12 +36,12 @@ impl TourReport {
             })
             .collect();
         let summary = format!(
-            "tour of `{}`: {} steps, {} resets, covers {} of {} transitions ({})",
+            "tour of `{}`: {}, {}, covers {} of {} ({})",
             m.name,
-            t.len_steps(),
-            t.resets(),
+            plural(t.len_steps(), "step"),
+            plural(t.resets(), "reset"),
             t.covers,
-            t.transitions,
+            plural(t.transitions, "transition"),
             if t.strongly_connected {
                 "strongly connected: postman tour"
             } else {
