@@ -4,10 +4,11 @@
 //! field and function names (`BilgePump` -> `bilge_pump`).
 
 /// The declared name closest to a misspelled `name`, for a "did you mean" help: the
-/// least edit distance (`strsim`'s optimal string alignment: a swap of two neighbours counts as one edit), at most a third of the longer name (and at
-/// least 1), a difference of case alone counting as closest; ties go to the
-/// alphabetically first, so the suggestion does not depend on hash order. `None` when
-/// nothing is that close.
+/// least edit distance (`strsim`'s optimal string alignment: a swap of two neighbours
+/// counts as one edit), at most a third of the longer name rounded down (a name of one
+/// or two characters gets only a change of case), a difference of case alone counting
+/// as closest; ties go to the alphabetically first, so the suggestion does not depend
+/// on hash order. `None` when nothing is that close.
 pub fn closest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
     let lower = name.to_lowercase();
     candidates
@@ -19,7 +20,7 @@ pub fn closest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) ->
             } else {
                 strsim::osa_distance(name, c)
             };
-            let limit = (name.chars().count().max(c.chars().count()) / 3).max(1);
+            let limit = name.chars().count().max(c.chars().count()) / 3;
             (d <= limit).then_some((d, c))
         })
         .min()

@@ -73,8 +73,11 @@ machine Pump {
 fn closest_prefers_case_and_declaration_independent_ties() {
     use detent_compiler::naming::closest;
     assert_eq!(closest("idle", ["Idle", "Idly"]), Some("Idle"));
-    assert_eq!(closest("Ab", ["Ac", "Ad"]), Some("Ac"));
-    assert_eq!(closest("Ab", ["Ad", "Ac"]), Some("Ac"));
+    assert_eq!(closest("Abc", ["Abd", "Abe"]), Some("Abd"));
+    assert_eq!(closest("Abc", ["Abe", "Abd"]), Some("Abd"));
+    // Short names: one edit is a third of three characters; `c` is not `a`.
+    assert_eq!(closest("c", ["a", "b"]), None);
+    assert_eq!(closest("B", ["a", "b"]), Some("b"));
     assert_eq!(closest("Go", ["Stop", "Halt"]), None);
     assert_eq!(
         closest("X", ["X"]),
