@@ -2,6 +2,7 @@
 
 use crate::io::{self, FAILED, OK, USAGE};
 use clap::ValueEnum;
+use detent_compiler::diag::Lint;
 use detent_compiler::minimize::equiv::equiv as compare;
 use detent_compiler::report::{self, equiv::EquivReport};
 use std::path::Path;
@@ -17,11 +18,20 @@ pub enum PlainFormat {
 
 /// Runs the command; returns the exit code.
 pub fn equiv(file_a: &Path, file_b: &Path, machine: Option<&str>, format: PlainFormat) -> u8 {
-    let a = match io::load_machine(file_a, machine) {
+    // Exit codes (DESIGN.md): 0 equivalent, 1 different, 2 could not compare (a spec
+    // with errors in its rules, a missing machine, I/O). A violated property does not
+    // stop the comparison: `equiv` compares behaviour, and "did my fix change only
+    // this?" is asked of specs whose property is still false.
+    let load = |file: &Path| {
+        io::load_machines_tolerating(file, &[Lint::Property])
+            .and_then(|ms| io::pick_machine(file, ms, machine))
+            .map_err(|_| USAGE)
+    };
+    let a = match load(file_a) {
         Ok(m) => m,
         Err(code) => return code,
     };
-    let b = match io::load_machine(file_b, machine) {
+    let b = match load(file_b) {
         Ok(m) => m,
         Err(code) => return code,
     };

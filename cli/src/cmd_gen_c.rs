@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 pub struct GenCArgs {
     /// The spec file; every machine in it gets `<snake>.h` and `<snake>.c`.
     pub file: PathBuf,
-    /// Folder to write into (default: the current folder).
+    /// Folder to write into (required: `-o .` for the current folder; it must exist).
     #[arg(short = 'o', value_name = "OUTDIR")]
     pub out_dir: Option<PathBuf>,
     /// Compare with the files on disk instead of writing; exit 1 when any is stale or
@@ -21,6 +21,15 @@ pub struct GenCArgs {
 /// Runs `detent gen c` and returns the exit code.
 pub fn run(args: &GenCArgs) -> u8 {
     let file = args.file.display().to_string();
+    // Files are written only where the command says: `gen rust` without `-o` prints to
+    // standard output, but two files per machine have no such place, so `gen c` asks.
+    let Some(dir) = args.out_dir.clone() else {
+        return io::usage_error(format!(
+            "`gen c` writes a header and a source file per machine; say which folder with \
+             `-o DIR` (`-o .` for the current folder): `detent gen c {} -o .`",
+            io::shell_word(&file)
+        ));
+    };
     let machines = match io::load_machines(&args.file) {
         Ok(m) => m,
         Err(code) => return code,
@@ -56,10 +65,11 @@ pub fn run(args: &GenCArgs) -> u8 {
     if outputs.is_empty() {
         return io::usage_error(format!("`{file}` defines no machine"));
     }
-    let dir = args.out_dir.clone().unwrap_or_else(|| PathBuf::from("."));
+    // A missing folder is an error, never created silently (a mistyped `-o` would
+    // scatter files); under `--check` the files are then missing, hence stale.
     if !args.check {
-        if let Err(e) = std::fs::create_dir_all(&dir) {
-            return io::usage_error(format!("cannot create `{}`: {e}", dir.display()));
+        if let Err(e) = io::missing_folder(&dir) {
+            return io::usage_error(e);
         }
     }
     let mut stale = 0usize;
@@ -69,7 +79,7 @@ pub fn run(args: &GenCArgs) -> u8 {
             if args.check {
                 if !io::is_fresh(&path, contents.as_bytes()) {
                     eprintln!(
-                        "stale: `{}` differs from what `detent gen c` writes",
+                        "stale: `{}` is missing or differs from what `detent gen c` writes",
                         path.display()
                     );
                     stale += 1;
@@ -84,8 +94,10 @@ pub fn run(args: &GenCArgs) -> u8 {
     }
     if stale > 0 {
         eprintln!(
-            "{stale} file{} out of date",
-            if stale == 1 { "" } else { "s" }
+            "{stale} file{} out of date; run `detent gen c {} -o {}`",
+            if stale == 1 { "" } else { "s" },
+            io::shell_word(&file),
+            io::shell_word(&dir.display().to_string())
         );
         FAILED
     } else {

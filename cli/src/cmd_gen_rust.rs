@@ -8,7 +8,7 @@ use detent_compiler::driver;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::model::Machine;
 use detent_compiler::syntax::ast::DispatchStyle;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// Dispatch style of the generated `step`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -33,6 +33,23 @@ pub struct GenRustArgs {
     /// Write nothing; exit 1 when OUT is missing or differs from what would be written.
     #[arg(long, requires = "output")]
     check: bool,
+}
+
+/// The command that writes `out` as the checked command would: every flag that changes
+/// the output (`--dispatch`) repeated.
+fn regenerate_command(file: &str, out: &Path, dispatch: Option<Dispatch>) -> String {
+    let mut cmd = format!(
+        "detent gen rust {} -o {}",
+        io::shell_word(file),
+        io::shell_word(&out.display().to_string())
+    );
+    if let Some(d) = dispatch {
+        cmd.push_str(match d {
+            Dispatch::Table => " --dispatch table",
+            Dispatch::Match => " --dispatch match",
+        });
+    }
+    cmd
 }
 
 /// Runs `detent gen rust`; returns the exit code.
@@ -66,9 +83,9 @@ pub fn run(args: &GenRustArgs) -> u8 {
                 OK
             } else {
                 eprintln!(
-                    "detent: `{}` is stale or missing; run `detent gen rust {file} -o {}`",
+                    "detent: `{}` is stale or missing; run `{}`",
                     out.display(),
-                    out.display()
+                    regenerate_command(&file, out, args.dispatch)
                 );
                 FAILED
             }

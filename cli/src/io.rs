@@ -122,6 +122,7 @@ pub fn write_atomic(path: &Path, contents: &[u8]) -> Result<(), String> {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => std::path::PathBuf::from("."),
     };
+    missing_folder(&dir)?;
     // `.<name>.<random>.detent-tmp`: hidden, and recognisably ours if a kill leaves it.
     let prefix = format!(".{}.", name.to_string_lossy());
     let mut tmp = tempfile::Builder::new()
@@ -133,6 +134,36 @@ pub fn write_atomic(path: &Path, contents: &[u8]) -> Result<(), String> {
     tmp.as_file().sync_all().map_err(fail)?;
     tmp.persist(path).map_err(|e| fail(e.error))?;
     Ok(())
+}
+
+/// An error naming `dir` when it is not an existing folder. detent never creates
+/// folders: a mistyped output path is reported, not silently made.
+pub fn missing_folder(dir: &Path) -> Result<(), String> {
+    if dir.is_dir() {
+        Ok(())
+    } else if dir.exists() {
+        Err(format!("`{}` is not a folder", dir.display()))
+    } else {
+        Err(format!(
+            "the folder `{}` does not exist; create it first (detent does not create \
+             folders)",
+            dir.display()
+        ))
+    }
+}
+
+/// A path or word as one shell word: as it is when it holds only characters a shell
+/// leaves alone, else in single quotes (a suggested command pastes as printed).
+pub fn shell_word(word: &str) -> String {
+    let plain = !word.is_empty()
+        && word
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "_-./:=+,@%".contains(c));
+    if plain {
+        word.to_string()
+    } else {
+        format!("'{}'", word.replace('\'', "'\\''"))
+    }
 }
 
 /// `--check` support: compares `contents` with the file at `path`. Returns true when
@@ -193,7 +224,7 @@ mod tests {
         // created there, and nothing is created anywhere.
         let target = dir.join("missing").join("out.txt");
         let e = write_atomic(&target, b"new").unwrap_err();
-        assert!(e.contains("cannot write") && e.contains("out.txt"), "{e}");
+        assert!(e.contains("does not exist") && e.contains("missing"), "{e}");
         assert!(names(&dir).is_empty());
         let _ = std::fs::remove_dir_all(&dir);
     }

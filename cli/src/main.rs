@@ -2,7 +2,8 @@
 //!
 //! It parses flags, reads files, calls the compiler and prints. Exit codes: 0 success;
 //! 1 the spec has errors (or `--deny warnings` and warnings, or `--check` found a stale
-//! file, or `equiv` found a difference); 2 usage or I/O error.
+//! file); 2 usage or I/O error. `equiv`: 0 equivalent, 1 different, 2 could not compare
+//! (a spec with errors, a missing machine, I/O).
 
 #![forbid(unsafe_code)]
 
@@ -44,6 +45,15 @@ pub enum ReportFormat {
     Json,
     /// SARIF 2.1.0 for code-scanning tools.
     Sarif,
+}
+
+/// Output format of `run`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum RunFormat {
+    /// JSON lines (stable; see DESIGN.md).
+    Json,
+    /// Human-readable text, one line per step.
+    Text,
 }
 
 /// Output format for the state table.
@@ -92,9 +102,13 @@ enum Command {
         /// Which machine, when the file has several.
         #[arg(long)]
         machine: Option<String>,
-        /// Trace file (one step per line: `Event input=0|1 ...`), or `-` for stdin.
+        /// Trace file (one step per line: `Event input=0|1 ...`, `reset` to restart),
+        /// or `-` for stdin.
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
+        /// Output format: JSON lines (stable; see DESIGN.md) or text.
+        #[arg(long, value_enum, default_value_t = RunFormat::Json)]
+        format: RunFormat,
     },
     /// Minimize: merge equivalent states, drop unreachable ones.
     Minimize {
@@ -138,9 +152,10 @@ enum Command {
         /// Which machine, when the file has several.
         #[arg(long)]
         machine: Option<String>,
-        /// Diagram format.
-        #[arg(long, value_enum, default_value_t = cmd_draw::DrawFormat::Dot)]
-        format: cmd_draw::DrawFormat,
+        /// Diagram format (default: from the extension of `-o`, `.svg` or `.dot`; DOT on
+        /// standard output).
+        #[arg(long, value_enum)]
+        format: Option<cmd_draw::DrawFormat>,
         /// Write here (atomically) instead of standard output.
         #[arg(short = 'o', value_name = "OUT")]
         out: Option<PathBuf>,
@@ -190,7 +205,8 @@ fn main() -> ExitCode {
             file,
             machine,
             trace,
-        } => commands::run(&file, machine.as_deref(), &trace),
+            format,
+        } => commands::run(&file, machine.as_deref(), &trace, format),
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),

@@ -32,6 +32,10 @@ fn writes_a_pair_per_machine_and_check_detects_stale_and_missing_files() {
     };
     // Missing files are stale.
     assert_eq!(run(true).status.code(), Some(1));
+    // A missing folder is an error (detent creates no folders).
+    assert_eq!(run(false).status.code(), Some(2));
+    assert!(!out_dir.exists());
+    std::fs::create_dir_all(&out_dir).unwrap();
     assert_eq!(run(false).status.code(), Some(0));
     for f in ["fan_speed.h", "fan_speed.c", "beeper.h", "beeper.c"] {
         let text = std::fs::read_to_string(out_dir.join(f)).unwrap();

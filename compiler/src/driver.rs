@@ -172,6 +172,17 @@ pub fn check_source(file: &str, text: &str) -> FileReport {
             machine: None,
             diagnostics: vec![Diagnostic::new(Lint::Syntax, Some(e.span), e.message)],
         }],
+        // A file with no machine (empty, or only comments) is an error: checking it
+        // "clean" would let a truncated or misnamed file pass CI.
+        Ok(ast) if ast.machines.is_empty() => vec![MachineReport {
+            name: None,
+            machine: None,
+            diagnostics: vec![Diagnostic::new(
+                Lint::Syntax,
+                None,
+                format!("`{file}` has no machine: a spec file holds at least one `machine Name {{ .. }}`"),
+            )],
+        }],
         Ok(ast) => check_file(&ast),
     };
     FileReport {

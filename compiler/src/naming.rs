@@ -3,6 +3,38 @@
 //! outputs and actions) and the conversions the back ends use to derive module, file,
 //! field and function names (`BilgePump` -> `bilge_pump`).
 
+/// The declared name closest to a misspelled `name`, for a "did you mean" help: the
+/// least edit distance (`strsim`'s optimal string alignment: a swap of two neighbours
+/// counts as one edit), at most a third of the longer name rounded down (a name of one
+/// or two characters gets only a change of case), a difference of case alone counting
+/// as closest; ties go to the alphabetically first, so the suggestion does not depend
+/// on hash order. `None` when nothing is that close.
+pub fn closest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
+    let lower = name.to_lowercase();
+    candidates
+        .into_iter()
+        .filter(|c| *c != name)
+        .filter_map(|c| {
+            let d = if c.to_lowercase() == lower {
+                0
+            } else {
+                strsim::osa_distance(name, c)
+            };
+            let limit = name.chars().count().max(c.chars().count()) / 3;
+            (d <= limit).then_some((d, c))
+        })
+        .min()
+        .map(|(_, c)| c)
+}
+
+/// The help line of a misspelled name: ``did you mean `FloatUp`?``, or `None`.
+pub fn did_you_mean<'a>(
+    name: &str,
+    candidates: impl IntoIterator<Item = &'a str>,
+) -> Option<String> {
+    closest(name, candidates).map(|c| format!("did you mean `{c}`?"))
+}
+
 /// UpperCamelCase: starts with an uppercase letter, no underscores.
 pub fn is_upper_camel(name: &str) -> bool {
     let name = name.trim_start_matches("r#");

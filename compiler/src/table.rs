@@ -322,8 +322,17 @@ pub fn to_text(m: &Machine) -> String {
             list.join(", ")
         }
     };
+    // `moore` is labelled with the state whose outputs it shows: the present state's,
+    // where `run` prints the outputs after each step (those of `next`).
     let header = [
-        "state", "event", "guard", "next", "kind", "mealy", "actions", "moore",
+        "state",
+        "event",
+        "guard",
+        "next",
+        "kind",
+        "mealy",
+        "actions",
+        MOORE_HEADER,
     ];
     let mut table: Vec<[String; 8]> = vec![header.map(str::to_string)];
     for r in rows(m) {
@@ -358,8 +367,17 @@ pub fn to_text(m: &Machine) -> String {
         out.push_str(line.trim_end());
         out.push('\n');
     }
+    out.push_str(MOORE_LEGEND);
+    out.push('\n');
     out
 }
+
+/// The header of the text table's last column: the Moore outputs of `state`.
+pub const MOORE_HEADER: &str = "moore(state)";
+
+/// The line under the text table that says what [`MOORE_HEADER`] shows.
+pub const MOORE_LEGEND: &str = "moore(state): the Moore outputs of the present state `state`; \
+     after the step the outputs are those of `next` (as `run` prints them)";
 
 /// The state table as the JSON of `table --format json`.
 #[derive(Debug, Serialize)]
@@ -602,7 +620,7 @@ mod tests {
         // `unhandled ignore`; Filling inherits Wet's Drain rule and Moore output.
         let expected = "\
 machine Tank (start Empty, unhandled ignore, terminal Broken)
-state    event  guard            next     kind    mealy  actions  moore
+state    event  guard            next     kind    mealy  actions  moore(state)
 Empty    Fill   !(full || leak)  Filling  move    -      -        -
 Empty    Fill   leak && !full    Broken   move    alarm  log      -
 Empty    Fill   full             Empty    ignore  -      -        -
@@ -612,6 +630,7 @@ Filling  Fill   !full            Filling  ignore  -      -        valve
 Filling  Drain  -                Empty    move    -      -        valve
 Broken   Fill   -                Broken   ignore  -      -        alarm
 Broken   Drain  -                Broken   ignore  -      -        alarm
+moore(state): the Moore outputs of the present state `state`; after the step the outputs are those of `next` (as `run` prints them)
 ";
         assert_eq!(to_text(&m), expected);
     }
@@ -622,7 +641,7 @@ Broken   Drain  -                Broken   ignore  -      -        alarm
         // The same steps as the trace test `wildcards_scopes_and_reject`.
         let expected = "\
 machine Gate (start Shut, unhandled reject)
-state   event  guard  next    kind    mealy  actions                 moore
+state   event  guard  next    kind    mealy  actions                 moore(state)
 Shut    Open   -      Ajar    move    -      shut_out                -
 Shut    Close  -      Shut    self    -      shut_out, log, shut_in  -
 Shut    Knock  -      Shut    stay    -      ring                    -
@@ -635,6 +654,7 @@ Locked  Open   -      Shut    move    -      door_in, shut_in        -
 Locked  Close  -      Locked  reject  -      -                       -
 Locked  Knock  -      Locked  reject  -      -                       -
 Locked  Ping   -      Locked  reject  -      -                       -
+moore(state): the Moore outputs of the present state `state`; after the step the outputs are those of `next` (as `run` prints them)
 ";
         assert_eq!(to_text(&m), expected);
     }
@@ -726,11 +746,12 @@ Locked,Open,,Shut,,door_in shut_in,\r\n";
             to_text(&m),
             "\
 machine Det (clocked, start S0, unhandled complete)
-state  event  guard  next  kind     mealy  actions  moore
+state  event  guard  next  kind     mealy  actions  moore(state)
 S0     Tick   bit    S1    move     -      -        -
 S0     Tick   !bit   S0    missing  -      -        -
 S1     Tick   bit    S1    self     -      -        found
 S1     Tick   !bit   S0    move     -      -        found
+moore(state): the Moore outputs of the present state `state`; after the step the outputs are those of `next` (as `run` prints them)
 "
         );
         assert_eq!(

@@ -22,8 +22,12 @@
 //!   prints for property counterexamples and `equiv` prints for witnesses: either an
 //!   array of steps `[{"event":"X","inputs":{"a":true}}, ...]` on one line, or one step
 //!   object `{"event":"X","inputs":{...}}` per line. `inputs` may be left out; values are
-//!   `true`/`false` or `0`/`1`. Any other key is an error (a tour's `{"reset":true}`
-//!   marker too: a trace runs from the start state without restarts).
+//!   `true`/`false` or `0`/`1`. Any other key is an error. A line may also be a whole
+//!   report of `detent tour --format json` (`{"steps":[..],..}`) or of `detent equiv
+//!   --format json` (`{"equivalent":..,"witness":[..],..}`): its step list is read, so
+//!   that every sequence detent prints replays as printed.
+//! - The line `reset` (text), or the entry `{"reset":true}` (JSON, as tours print
+//!   restarts), restarts the machine in its start configuration.
 //!
 //! Errors carry the 1-based line and the 1-based column (in characters) of the offending
 //! word or JSON value. JSON is read by serde_json: each key and value is kept as a
@@ -37,6 +41,11 @@
 //! ([`Machine::step`]) and renders DESIGN.md's JSON lines ([`RunLine`], serde): a step-0 line with the start
 //! state and its Moore outputs, then one line per step with `from`, `event`, `to`,
 //! `handled`, the Mealy and Moore outputs (declaration order) and the actions (run order).
+//! A restart prints `{"step":k,"reset":true,"state":..,"moore":[..]}`, `k` being the
+//! number of the step before it (like step 0, the line shows the state after `k` steps
+//! and a restart); the step after it is `k + 1`, so step numbers count events, as a
+//! tour's summary does. [`run_text_lines`] is the same run as aligned text
+//! (`run --format text`).
 //!
 //! Cost: parsing is linear in the trace's length (name lookups are linear scans over the
 //! machine's events and inputs, which the limits keep small per lookup); running is one
@@ -72,34 +81,84 @@ pub struct TraceError {
     pub message: String,
 }
 
+/// One entry of a parsed trace: a step, or a restart.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum TraceEntry {
+    /// One step.
+    Step(TraceStep),
+    /// Back to the start configuration (`reset`, or `{"reset":true}`).
+    Reset {
+        /// The 1-based line of the trace it comes from.
+        line: usize,
+    },
+}
+
+impl TraceEntry {
+    /// The step, or `None` for a restart.
+    pub fn step(&self) -> Option<&TraceStep> {
+        match self {
+            TraceEntry::Step(s) => Some(s),
+            TraceEntry::Reset { .. } => None,
+        }
+    }
+}
+
 /// Parses a whole trace (text and JSON lines may be mixed) against a machine's events and
 /// inputs. Stops at the first error.
-pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceStep>, TraceError> {
-    let mut steps = Vec::new();
+pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceEntry>, TraceError> {
+    let mut entries = Vec::new();
     for (index, raw) in text.lines().enumerate() {
         let line = index + 1;
         let trimmed = raw.trim_start();
         match trimmed.as_bytes().first() {
             None | Some(b'#') => continue,
-            Some(b'[') | Some(b'{') => parse_json_line(m, raw, line, &mut steps)?,
-            Some(_) => steps.push(parse_text_line(m, raw, line)?),
+            Some(b'[') | Some(b'{') => parse_json_line(m, raw, line, &mut entries)?,
+            Some(_) => entries.push(parse_text_line(m, raw, line)?),
         }
     }
-    Ok(steps)
+    Ok(entries)
 }
 
-/// Runs the steps from the start state and renders DESIGN.md's JSON lines (without
-/// trailing newlines): first `{"step":0,"state":..,"moore":[..]}`, then one line per step.
-pub fn run_json_lines(m: &Machine, steps: &[TraceStep]) -> Vec<String> {
-    let mut out = Vec::with_capacity(steps.len() + 1);
-    out.push(start_json(m));
+/// Runs a trace from the start state through the reference interpreter: the step-0
+/// line, then one line per entry (steps numbered from 1; a restart carries the number
+/// of the step before it).
+pub fn run_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<RunLine> {
+    let mut out = Vec::with_capacity(entries.len() + 1);
+    out.push(RunLine::start(m));
     let mut state = m.start;
-    for (i, s) in steps.iter().enumerate() {
-        let r = m.step(state, s.event, &s.inputs);
-        state = r.to;
-        out.push(step_json(m, i + 1, &r));
+    let mut n = 0;
+    for entry in entries {
+        match entry {
+            TraceEntry::Step(s) => {
+                let r = m.step(state, s.event, &s.inputs);
+                state = r.to;
+                n += 1;
+                out.push(RunLine::step(m, n, &r));
+            }
+            TraceEntry::Reset { .. } => {
+                state = m.start;
+                out.push(RunLine::reset(m, n));
+            }
+        }
     }
     out
+}
+
+/// Runs the trace and renders DESIGN.md's JSON lines (without trailing newlines): first
+/// `{"step":0,"state":..,"moore":[..]}`, then one line per step or restart.
+pub fn run_json_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
+    run_lines(m, entries).iter().map(RunLine::to_json).collect()
+}
+
+/// Runs the trace and renders it as text, one line per step (`run --format text`):
+///
+/// ```text
+///    0  start `Idle`  moore []
+///    1  `Idle` --FloatUp--> `Pumping` (handled)  mealy []  moore [pump]  actions [start_timer]
+///    1  reset to `Idle`  moore []
+/// ```
+pub fn run_text_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
+    run_lines(m, entries).iter().map(RunLine::text).collect()
 }
 
 /// One JSON line of `detent run` (DESIGN.md): the start line, or one step.
@@ -135,6 +194,17 @@ pub enum RunLine {
         /// Actions, in the order they ran.
         actions: Vec<String>,
     },
+    /// `{"step":k,"reset":true,"state":..,"moore":[..]}`: a restart after step `k`.
+    Reset {
+        /// The number of the step before the restart (0 before any).
+        step: usize,
+        /// Always true.
+        reset: bool,
+        /// The start state.
+        state: String,
+        /// Its Moore outputs, declaration order.
+        moore: Vec<String>,
+    },
 }
 
 impl RunLine {
@@ -143,6 +213,17 @@ impl RunLine {
         let start = &m.states[m.start.index()];
         RunLine::Start {
             step: 0,
+            state: start.name.clone(),
+            moore: output_names(m, &start.moore),
+        }
+    }
+
+    /// The restart line after step `n` of machine `m`.
+    pub fn reset(m: &Machine, n: usize) -> RunLine {
+        let start = &m.states[m.start.index()];
+        RunLine::Reset {
+            step: n,
+            reset: true,
             state: start.name.clone(),
             moore: output_names(m, &start.moore),
         }
@@ -170,6 +251,38 @@ impl RunLine {
     pub fn to_json(&self) -> String {
         crate::report::to_json(self)
     }
+
+    /// The line as text (`run --format text`; see [`run_text_lines`]).
+    pub fn text(&self) -> String {
+        match self {
+            RunLine::Start { step, state, moore } => {
+                format!("{step:>4}  start `{state}`  moore [{}]", moore.join(", "))
+            }
+            RunLine::Reset {
+                step, state, moore, ..
+            } => format!(
+                "{step:>4}  reset to `{state}`  moore [{}]",
+                moore.join(", ")
+            ),
+            RunLine::Step {
+                step,
+                from,
+                event,
+                to,
+                handled,
+                mealy,
+                moore,
+                actions,
+            } => format!(
+                "{step:>4}  `{from}` --{event}--> `{to}` ({})  mealy [{}]  moore [{}]  \
+                 actions [{}]",
+                if *handled { "handled" } else { "not handled" },
+                mealy.join(", "),
+                moore.join(", "),
+                actions.join(", ")
+            ),
+        }
+    }
 }
 
 fn output_names(m: &Machine, outputs: &[crate::model::OutputId]) -> Vec<String> {
@@ -188,6 +301,9 @@ pub fn start_json(m: &Machine) -> String {
 pub fn step_json(m: &Machine, n: usize, r: &StepResult) -> String {
     RunLine::step(m, n, r).to_json()
 }
+
+/// The trace line (and the word) that restarts the machine.
+pub const RESET: &str = "reset";
 
 /// 1-based character column of byte offset `byte` in `line`.
 fn column(line: &str, byte: usize) -> usize {
@@ -209,18 +325,25 @@ fn list_names<'a>(names: impl Iterator<Item = &'a str>) -> String {
     s
 }
 
+/// ` (did you mean `X`?)` after a misspelled name, or nothing.
+fn suggestion<'a>(name: &str, names: impl Iterator<Item = &'a str>) -> String {
+    crate::naming::closest(name, names).map_or(String::new(), |c| format!(" (did you mean `{c}`?)"))
+}
+
 fn lookup_event(m: &Machine, name: &str) -> Result<EventId, String> {
     if let Some(e) = m.event_id(name) {
         return Ok(e);
     }
+    let guess = suggestion(name, m.events.iter().map(|e| e.name.as_str()));
     if m.clocked {
         Err(format!(
-            "unknown event `{name}`: machine `{}` is clocked, and its only event is `Tick`",
+            "unknown event `{name}`{guess}: machine `{}` is clocked, and its only event is \
+             `Tick`",
             m.name
         ))
     } else {
         Err(format!(
-            "unknown event `{name}`: machine `{}` has events {}",
+            "unknown event `{name}`{guess}: machine `{}` has events {}",
             m.name,
             list_names(m.events.iter().map(|e| e.name.as_str()))
         ))
@@ -238,7 +361,8 @@ fn lookup_input(m: &Machine, name: &str) -> Result<InputId, String> {
         ))
     } else {
         Err(format!(
-            "unknown input `{name}`: machine `{}` has inputs {}",
+            "unknown input `{name}`{}: machine `{}` has inputs {}",
+            suggestion(name, m.inputs.iter().map(|i| i.name.as_str())),
             m.name,
             list_names(m.inputs.iter().map(|i| i.name.as_str()))
         ))
@@ -267,7 +391,7 @@ fn words(line: &str) -> Vec<(usize, &str)> {
     out
 }
 
-fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceStep, TraceError> {
+fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceEntry, TraceError> {
     let err = |byte: usize, message: String| TraceError {
         line,
         column: column(raw, byte),
@@ -278,6 +402,26 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceStep, Tra
         // `words` is empty only for comment lines, which the caller skips.
         return Err(err(0, "expected an event name".into()));
     };
+    if name == RESET {
+        if m.event_id(RESET).is_some() {
+            return Err(err(
+                at,
+                format!(
+                    "machine `{}` has an event named `reset`, so a `reset` line is \
+                     ambiguous: write the event as `{{\"event\":\"reset\"}}` and a restart \
+                     as `{{\"reset\":true}}`",
+                    m.name
+                ),
+            ));
+        }
+        if let Some(&(extra, _)) = ws.get(1) {
+            return Err(err(
+                extra,
+                "a `reset` line has nothing after `reset`".into(),
+            ));
+        }
+        return Ok(TraceEntry::Reset { line });
+    }
     if name.contains('=') {
         return Err(err(
             at,
@@ -324,18 +468,18 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceStep, Tra
         given[id.index()] = Some(at);
         inputs[id.index()] = v;
     }
-    Ok(TraceStep {
+    Ok(TraceEntry::Step(TraceStep {
         event,
         inputs,
         line,
-    })
+    }))
 }
 
 fn parse_json_line(
     m: &Machine,
     raw: &str,
     line: usize,
-    steps: &mut Vec<TraceStep>,
+    steps: &mut Vec<TraceEntry>,
 ) -> Result<(), TraceError> {
     let err = |byte: usize, message: String| TraceError {
         line,
@@ -349,15 +493,71 @@ fn parse_json_line(
         let at = after + (raw[after..].len() - raw[after..].trim_start().len());
         return Err(err(at, "unexpected text after the JSON value".into()));
     }
-    let items: Vec<&RawValue> = if value.get().starts_with('[') {
-        serde_json::from_str(value.get()).map_err(|e| json_error(raw, line, &e))?
+    let list = match report_list(raw, value).map_err(|(at, msg)| err(at, msg))? {
+        Some(list) => list,
+        None => value,
+    };
+    let items: Vec<&RawValue> = if list.get().starts_with('[') {
+        serde_json::from_str(list.get()).map_err(|e| json_error(raw, line, &e))?
     } else {
-        vec![value]
+        vec![list]
     };
     for item in items {
         steps.push(json_step(m, raw, item, line).map_err(|(at, msg)| err(at, msg))?);
     }
     Ok(())
+}
+
+/// The keys of the reports whose step list a trace line may be: `tour --format json`
+/// (`steps`) and `equiv --format json` (`witness`), each with the report's other keys.
+const REPORTS: [(&str, &[&str]); 2] = [
+    ("steps", &["covers", "transitions"]),
+    ("witness", &["equivalent", "step", "a", "b"]),
+];
+
+/// When `v` is a whole tour or equiv report, its step list; `None` for anything else
+/// (a step object, an array).
+fn report_list<'a>(raw: &str, v: &'a RawValue) -> Result<Option<&'a RawValue>, (usize, String)> {
+    let Some(fields) = fields_of(raw, v)? else {
+        return Ok(None);
+    };
+    let keys: Vec<String> = fields
+        .0
+        .iter()
+        .map(|(k, _)| string_of(k).unwrap_or_default())
+        .collect();
+    if keys.iter().any(|k| k == "machines") {
+        return Err((
+            offset_in(raw, v.get()),
+            "a whole `check --format json` report is not a trace: replay one diagnostic's \
+             `trace` list (for instance `jq -c '.machines[0].diagnostics[0].trace'`)"
+                .into(),
+        ));
+    }
+    for (list_key, others) in REPORTS {
+        let Some(i) = keys.iter().position(|k| k == list_key) else {
+            continue;
+        };
+        if let Some((j, k)) = keys
+            .iter()
+            .enumerate()
+            .find(|(j, k)| *j != i && !others.contains(&k.as_str()))
+        {
+            return Err((
+                offset_in(raw, fields.0[j].0.get()),
+                format!("unknown key `{k}` in a report with `{list_key}`"),
+            ));
+        }
+        let list = fields.0[i].1;
+        if !list.get().starts_with('[') {
+            return Err((
+                offset_in(raw, list.get()),
+                format!("`{list_key}` must be a list of steps"),
+            ));
+        }
+        return Ok(Some(list));
+    }
+    Ok(None)
 }
 
 /// A JSON syntax error of serde_json at its line and column. The trace line is parsed
@@ -439,7 +639,7 @@ fn json_step(
     raw: &str,
     v: &RawValue,
     line: usize,
-) -> Result<TraceStep, (usize, String)> {
+) -> Result<TraceEntry, (usize, String)> {
     let at = |v: &RawValue| offset_in(raw, v.get());
     let Some(fields) = fields_of(raw, v)? else {
         return Err((
@@ -450,6 +650,7 @@ fn json_step(
     let mut event = None;
     let mut inputs = vec![false; m.inputs.len()];
     let mut seen_inputs = false;
+    let mut reset = None;
     for (key, value) in fields.0 {
         let key_at = at(key);
         match string_of(key).as_deref().unwrap_or_default() {
@@ -498,12 +699,10 @@ fn json_step(
                 }
             }
             "reset" => {
-                return Err((
-                    key_at,
-                    "a `reset` marker cannot be replayed: a trace runs from the start state \
-                     without restarts; split the trace at the marker"
-                        .into(),
-                ))
+                if value.get() != "true" {
+                    return Err((at(value), "`reset` must be `true`".into()));
+                }
+                reset = Some(key_at);
             }
             other => {
                 return Err((
@@ -513,14 +712,25 @@ fn json_step(
             }
         }
     }
+    if let Some(reset_at) = reset {
+        if event.is_some() || seen_inputs {
+            return Err((
+                reset_at,
+                "a restart `{\"reset\":true}` has no other key; write the step after it as \
+                 its own entry"
+                    .into(),
+            ));
+        }
+        return Ok(TraceEntry::Reset { line });
+    }
     let Some(event) = event else {
         return Err((at(v), "this step has no `event`".into()));
     };
-    Ok(TraceStep {
+    Ok(TraceEntry::Step(TraceStep {
         event,
         inputs,
         line,
-    })
+    }))
 }
 
 #[cfg(test)]
@@ -682,16 +892,16 @@ Stop
         assert_eq!(
             steps,
             [
-                TraceStep {
+                TraceEntry::Step(TraceStep {
                     event: EventId(0),
                     inputs: vec![true, true],
                     line: 1
-                },
-                TraceStep {
+                }),
+                TraceEntry::Step(TraceStep {
                     event: EventId(1),
                     inputs: vec![false, false],
                     line: 4
-                },
+                }),
             ]
         );
     }
@@ -719,6 +929,20 @@ Stop
                 4,
                 "unknown input `c`: machine `Small` has inputs `a`, `b`".into()
             )
+        );
+        assert_eq!(
+            error(&m, "Hlat b=1"),
+            (
+                1,
+                1,
+                "unknown event `Hlat` (did you mean `Halt`?): machine `Small` has events `Go`, \
+                 `Halt`"
+                    .into()
+            )
+        );
+        assert_eq!(
+            error(&m, "Go B=1").2,
+            "unknown input `B` (did you mean `b`?): machine `Small` has inputs `a`, `b`"
         );
         assert_eq!(
             error(&m, "Go a=2"),
@@ -780,6 +1004,7 @@ Stop
         let steps = parse_trace(&m, text).unwrap();
         let got: Vec<(u32, Vec<bool>, usize)> = steps
             .iter()
+            .filter_map(TraceEntry::step)
             .map(|s| (s.event.0, s.inputs.clone(), s.line))
             .collect();
         assert_eq!(
@@ -839,7 +1064,28 @@ Stop
                 "expected a step object `{\"event\":..,\"inputs\":{..}}`".into()
             )
         );
-        assert_eq!(error(&m, r#"{"reset":true}"#).1, 2);
+        assert_eq!(
+            error(&m, r#"{"reset":true,"event":"Go"}"#),
+            (
+                1,
+                2,
+                "a restart `{\"reset\":true}` has no other key; write the step after it as \
+                 its own entry"
+                    .into()
+            )
+        );
+        assert_eq!(
+            error(&m, r#"{"reset":1}"#),
+            (1, 10, "`reset` must be `true`".into())
+        );
+        assert_eq!(
+            error(&m, r#"{"steps":[],"covers":1,"x":2}"#),
+            (1, 24, "unknown key `x` in a report with `steps`".into())
+        );
+        assert_eq!(
+            error(&m, r#"{"machines":[]}"#).2.split(':').next(),
+            Some("a whole `check --format json` report is not a trace")
+        );
         assert_eq!(
             error(&m, r#"{"event":"Go","when":1}"#),
             (
@@ -879,8 +1125,70 @@ Stop
         assert_eq!(error(&m, &deep_object).0, 1);
         // `\u006f` is `o`: escapes decode.
         assert_eq!(
-            parse_trace(&m, "{\"event\":\"G\\u006f\"}").unwrap()[0].event,
-            EventId(0)
+            parse_trace(&m, "{\"event\":\"G\\u006f\"}").unwrap()[0]
+                .step()
+                .map(|s| s.event),
+            Some(EventId(0))
+        );
+    }
+
+    #[test]
+    fn reset_restarts_and_prints_its_record() {
+        let m = machine(SMALL);
+        // Text `reset`, a JSON restart inside a list and on its own line: each goes back
+        // to `A`, and numbering goes on from the step before.
+        let trace = concat!(
+            "Go a=1\n",
+            "reset\n",
+            "Go a=1\n",
+            r#"[{"reset":true},{"event":"Go","inputs":{"a":true}}]"#,
+            "\n",
+            r#"  {"reset":true}"#,
+            "\n",
+            "Halt\n",
+        );
+        let expected = [
+            r#"{"step":0,"state":"A","moore":[]}"#,
+            r#"{"step":1,"from":"A","event":"Go","to":"B","handled":true,"mealy":[],"moore":[],"actions":[]}"#,
+            r#"{"step":1,"reset":true,"state":"A","moore":[]}"#,
+            r#"{"step":2,"from":"A","event":"Go","to":"B","handled":true,"mealy":[],"moore":[],"actions":[]}"#,
+            r#"{"step":2,"reset":true,"state":"A","moore":[]}"#,
+            r#"{"step":3,"from":"A","event":"Go","to":"B","handled":true,"mealy":[],"moore":[],"actions":[]}"#,
+            r#"{"step":3,"reset":true,"state":"A","moore":[]}"#,
+            // Without the restart this would be B's `_` rule, back to A.
+            r#"{"step":4,"from":"A","event":"Halt","to":"A","handled":true,"mealy":[],"moore":[],"actions":[]}"#,
+        ];
+        assert_eq!(run(&m, trace), expected);
+        let text = run_text_lines(&m, &parse_trace(&m, trace).unwrap());
+        assert_eq!(text[0], "   0  start `A`  moore []");
+        assert_eq!(text[2], "   1  reset to `A`  moore []");
+        assert_eq!(
+            text[7],
+            "   4  `A` --Halt--> `A` (handled)  mealy []  moore []  actions []"
+        );
+        // Whole tour and equiv reports replay their lists.
+        let tour = r#"{"steps":[{"event":"Go","inputs":{"a":true,"b":false}},{"reset":true},{"event":"Halt","inputs":{"a":false,"b":false}}],"covers":2,"transitions":5}"#;
+        assert_eq!(
+            run(&m, tour),
+            [
+                expected[0],
+                expected[1],
+                expected[2],
+                r#"{"step":2,"from":"A","event":"Halt","to":"A","handled":true,"mealy":[],"moore":[],"actions":[]}"#
+            ]
+        );
+        let equiv = r#"{"equivalent":false,"witness":[{"event":"Go","inputs":{"a":true}}],"step":1,"a":{},"b":{}}"#;
+        assert_eq!(run(&m, equiv), expected[..2]);
+        // `reset` takes nothing after it, and is refused when an event has its name.
+        assert_eq!(
+            error(&m, "reset a=1"),
+            (1, 7, "a `reset` line has nothing after `reset`".into())
+        );
+        let named = machine("machine R { events reset; start S; state S { reset => stay; } }");
+        assert_eq!(error(&named, "reset").1, 1);
+        assert_eq!(
+            parse_trace(&named, r#"{"event":"reset"}"#).unwrap().len(),
+            1
         );
     }
 }

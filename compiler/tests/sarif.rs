@@ -181,7 +181,10 @@ fn log_carries_rules_results_locations_and_witnesses() {
     // The property's trace lines are in the message: Go a=1 reaches Busy (lamp high).
     let prop = find("property");
     let text = prop["message"]["text"].as_str().unwrap_or_default();
-    assert!(text.contains("1. Go a=1"), "trace in the message: {text}");
+    assert!(
+        text.contains("\n    Go a=1"),
+        "trace in the message: {text}"
+    );
     let unused = find("unused_declaration");
     assert_eq!(unused["level"], "warning");
     // The syntax error of the third file, and the path with a space percent-encoded.

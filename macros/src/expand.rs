@@ -32,17 +32,31 @@ pub fn inline(input: TokenStream) -> TokenStream {
     out
 }
 
-/// The headline and the `= note:` / `= help:` lines of a diagnostic.
+/// The headline and the `= note:` / `= help:` lines of a diagnostic. Related spans
+/// ("the other rule") are notes of the same error, with their line and column: stable
+/// Rust gives a procedural macro no secondary spans, and a second `compile_error!`
+/// would count as an error of its own.
 fn message_with_notes(d: &Diagnostic) -> String {
     let mut msg = format!("{} [detent::{}]", d.message, d.lint.name());
+    for (span, label) in &d.related {
+        let at = span.start();
+        if at.line > 0 {
+            msg.push_str(&format!(
+                "\n= note: {label}: line {}, column {}",
+                at.line,
+                at.column + 1
+            ));
+        } else {
+            msg.push_str(&format!(
+                "\n= note: {label} (position unknown to this compiler)"
+            ));
+        }
+    }
     for n in &d.notes {
         msg.push_str(&format!("\n= note: {n}"));
     }
     if let Some(trace) = &d.trace {
-        msg.push_str("\n= note: shortest trace from the start state:");
-        for (i, line) in render::trace_lines(trace).iter().enumerate() {
-            msg.push_str(&format!("\n    {:>3}. {line}", i + 1));
-        }
+        msg.push_str(&format!("\n= note: {}", render::trace_note(trace)));
     }
     for h in &d.helps {
         msg.push_str(&format!("\n= help: {h}"));
@@ -54,11 +68,7 @@ fn inline_diagnostic(d: &Diagnostic) -> TokenStream {
     let span = d.span.unwrap_or_else(Span::call_site);
     let msg = message_with_notes(d);
     if d.is_error() {
-        let mut err = syn::Error::new(span, msg);
-        for (s, label) in &d.related {
-            err.combine(syn::Error::new(*s, format!("{label} (of the error above)")));
-        }
-        err.to_compile_error()
+        syn::Error::new(span, msg).to_compile_error()
     } else {
         warning(span, d.lint.name(), &msg)
     }

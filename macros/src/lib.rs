@@ -39,6 +39,9 @@ use proc_macro::TokenStream;
 mod expand;
 
 /// Expands one or more machine specs written inline into one module each.
+///
+/// For a spec in a file, the form is `#[detent::machine_file(file = "x.detent")]` on a
+/// `mod`: one name cannot be both a function-like and an attribute macro on stable Rust.
 #[proc_macro]
 pub fn machine(input: TokenStream) -> TokenStream {
     expand::inline(input.into()).into()

@@ -246,6 +246,9 @@ impl Checker<'_> {
                         "no rule fires when {}",
                         render::valuation_text(&witness)
                     ));
+                    if let Some(note) = hidden_wildcard_note(m, cell, event) {
+                        d.notes.push(note);
+                    }
                     d.witness = Some(witness.clone());
                 } else if !witness.is_empty() {
                     d.witness = Some(witness.clone());
@@ -558,4 +561,40 @@ fn overlap_candidates(bdd: &mut BddStore, m: &Machine, rules: &[RuleId]) -> (Vec
         }
     }
     (earlier, later)
+}
+
+/// `state `Ramp`` or `group `Firing``.
+fn scope_text(m: &Machine, scope: crate::model::Scope) -> String {
+    match scope {
+        crate::model::Scope::State(s) => format!("state `{}`", m.state_name(s)),
+        crate::model::Scope::Group(g) => format!("group `{}`", m.groups[g.index()].name),
+    }
+}
+
+/// When the lookup of a cell reached rules naming the event, and a `_` rule of the
+/// state's scopes was not reached: why that `_` does not cover what the named rules
+/// leave open. Worded from the cell's `reached` list, so that it follows whatever
+/// lookup order the lowered form implements.
+fn hidden_wildcard_note(
+    m: &Machine,
+    cell: &crate::model::lower::Cell,
+    event: &str,
+) -> Option<String> {
+    let named = cell
+        .reached
+        .iter()
+        .find(|g| g.step == crate::model::lower::LookupStep::Named)?;
+    let hidden = m.scope_chain(cell.state).into_iter().find(|&sc| {
+        !m.scope_rules(sc).wildcard.is_empty()
+            && !cell
+                .reached
+                .iter()
+                .any(|g| g.scope == sc && g.step == crate::model::lower::LookupStep::Wildcard)
+    })?;
+    Some(format!(
+        "the `_` rule of {} does not cover `{event}` here: the lookup takes the rules naming \
+         `{event}` in {} instead, and what their guards leave open is unhandled",
+        scope_text(m, hidden),
+        scope_text(m, named.scope)
+    ))
 }

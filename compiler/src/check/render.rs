@@ -104,19 +104,37 @@ pub fn valuation_text(v: &[(String, bool)]) -> String {
         .join(", ")
 }
 
-/// A trace as spec-file trace lines (`Event a=1 b=0`), one per step, each as
+/// A trace as trace-file lines (`Event a=1 b=0`), one per step, each as
 /// `detent run --trace` reads it.
 pub fn trace_lines(trace: &[TraceStep]) -> Vec<String> {
     trace
         .iter()
-        .map(|s| {
-            let mut line = s.event.clone();
-            for (name, v) in &s.inputs {
-                let _ = write!(line, " {name}={}", u8::from(*v));
-            }
-            line
-        })
+        .map(|s| crate::report::trace_line(&s.event, &s.inputs, true))
         .collect()
+}
+
+/// The note that shows a counterexample: a headline, then the steps as trace-file
+/// lines, indented and without numbers, so that the lines paste into a trace file (or
+/// `detent run --trace -`) as they are.
+pub fn trace_note(trace: &[TraceStep]) -> String {
+    let n = trace.len();
+    let mut note = format!(
+        "shortest trace from the start state ({}, one trace line each):",
+        plural(n, "step")
+    );
+    for line in trace_lines(trace) {
+        let _ = write!(note, "\n    {line}");
+    }
+    note
+}
+
+/// `1 step`, `3 steps`: a count and its noun, in the singular for one.
+pub fn plural(n: usize, noun: &str) -> String {
+    if n == 1 {
+        format!("1 {noun}")
+    } else {
+        format!("{n} {noun}s")
+    }
 }
 
 /// Line (1-based) and column (1-based) of a span's start.
@@ -173,13 +191,7 @@ fn render(d: &Diagnostic, src: &Source, color: bool) -> String {
         }
     }
 
-    let trace_note = d.trace.as_ref().map(|trace| {
-        let mut note = "shortest trace from the start state:".to_string();
-        for (i, line) in trace_lines(trace).iter().enumerate() {
-            let _ = write!(note, "\n{:>3}. {line}", i + 1);
-        }
-        note
-    });
+    let trace_note = d.trace.as_deref().map(trace_note);
     let footers = d
         .notes
         .iter()
@@ -227,13 +239,6 @@ fn render(d: &Diagnostic, src: &Source, color: bool) -> String {
 
 /// The summary line printed after text diagnostics.
 pub fn summary_text(errors: usize, warnings: usize) -> String {
-    let plural = |n: usize, w: &str| {
-        if n == 1 {
-            format!("1 {w}")
-        } else {
-            format!("{n} {w}s")
-        }
-    };
     format!(
         "detent: {}, {}",
         plural(errors, "error"),

@@ -71,6 +71,17 @@ enum Place {
     Group(GroupId),
 }
 
+/// The kinds of declared names a misspelling is compared with.
+#[derive(Clone, Copy)]
+enum Kind {
+    Event,
+    Input,
+    Output,
+    Action,
+    State,
+    Group,
+}
+
 struct Resolver<'a> {
     ast: &'a MachineAst,
     errors: Vec<Diagnostic>,
@@ -86,6 +97,10 @@ struct Resolver<'a> {
     rules: Vec<Rule>,
     bdd: BddStore,
     clocked: bool,
+    /// More events (inputs) were declared than the limit allows, so none was: uses of
+    /// them are not reported again, one by one.
+    events_over_limit: bool,
+    inputs_over_limit: bool,
 }
 
 /// The error for a machine whose guards need more than [`MAX_BDD_NODES`] nodes.
@@ -114,6 +129,8 @@ pub fn resolve(ast: &MachineAst) -> Result<Machine, Vec<Diagnostic>> {
         rules: Vec::new(),
         bdd: BddStore::new(),
         clocked: true,
+        events_over_limit: false,
+        inputs_over_limit: false,
     };
     r.run()
 }
@@ -129,6 +146,36 @@ fn item(d: &ast::DocIdent) -> Item {
 impl<'a> Resolver<'a> {
     fn err(&mut self, span: Span, msg: impl Into<String>) {
         self.errors.push(Diagnostic::name_error(span, msg));
+    }
+
+    /// An error about an undefined name, with a "did you mean" help when one of the
+    /// `kinds` of declared names is close to it.
+    fn undefined(&mut self, i: &ast::Ident, msg: String, kinds: &[Kind]) {
+        let mut names: Vec<&str> = Vec::new();
+        for kind in kinds {
+            match kind {
+                Kind::Event => names.extend(self.events.iter().map(|e| e.name.as_str())),
+                Kind::Input => names.extend(self.inputs.iter().map(|e| e.name.as_str())),
+                Kind::Output => names.extend(self.outputs.iter().map(|e| e.name.as_str())),
+                Kind::Action => names.extend(self.actions.iter().map(|e| e.name.as_str())),
+                Kind::State => names.extend(
+                    self.places
+                        .iter()
+                        .filter(|(_, (p, _))| matches!(p, Place::State(_)))
+                        .map(|(n, _)| n.as_str()),
+                ),
+                Kind::Group => names.extend(
+                    self.places
+                        .iter()
+                        .filter(|(_, (p, _))| matches!(p, Place::Group(_)))
+                        .map(|(n, _)| n.as_str()),
+                ),
+            }
+        }
+        let help = crate::naming::did_you_mean(&i.name, names);
+        let mut d = Diagnostic::name_error(i.span, msg);
+        d.helps.extend(help);
+        self.errors.push(d);
     }
 
     fn run(mut self) -> Result<Machine, Vec<Diagnostic>> {
@@ -166,6 +213,7 @@ impl<'a> Resolver<'a> {
                 DeclKind::Events(list) => {
                     self.clocked = false;
                     if list.len() > MAX_EVENTS {
+                        self.events_over_limit = true;
                         self.err(
                             d.span,
                             format!("{} events declared; the limit is {MAX_EVENTS}", list.len()),
@@ -190,6 +238,7 @@ impl<'a> Resolver<'a> {
                 }
                 DeclKind::Inputs(list) => {
                     if list.len() > MAX_INPUTS {
+                        self.inputs_over_limit = true;
                         self.err(
                             d.span,
                             format!("{} inputs declared; the limit is {MAX_INPUTS}", list.len()),
@@ -536,7 +585,9 @@ impl<'a> Resolver<'a> {
             match self.signals.get(&i.name) {
                 Some((Signal::Output(o), _)) => out.push(*o),
                 Some(_) => self.err(i.span, format!("`{}` is not an output", i.name)),
-                None => self.err(i.span, format!("undefined output `{}`", i.name)),
+                None => {
+                    self.undefined(i, format!("undefined output `{}`", i.name), &[Kind::Output])
+                }
             }
         }
         out.sort_unstable();
@@ -550,7 +601,9 @@ impl<'a> Resolver<'a> {
             match self.signals.get(&i.name) {
                 Some((Signal::Action(a), _)) => out.push(*a),
                 Some(_) => self.err(i.span, format!("`{}` is not an action", i.name)),
-                None => self.err(i.span, format!("undefined action `{}`", i.name)),
+                None => {
+                    self.undefined(i, format!("undefined action `{}`", i.name), &[Kind::Action])
+                }
             }
         }
         out
@@ -569,7 +622,7 @@ impl<'a> Resolver<'a> {
                 None
             }
             None => {
-                self.err(i.span, format!("undefined state `{}`", i.name));
+                self.undefined(i, format!("undefined state `{}`", i.name), &[Kind::State]);
                 None
             }
         }
@@ -656,7 +709,12 @@ impl<'a> Resolver<'a> {
                             }
                             ids.push(id);
                         }
-                        None => self.err(e.span, format!("undefined event `{}`", e.name)),
+                        None if self.events_over_limit => {}
+                        None => self.undefined(
+                            e,
+                            format!("undefined event `{}`", e.name),
+                            &[Kind::Event],
+                        ),
                     }
                 }
                 Trigger::Events(ids)
@@ -683,7 +741,7 @@ impl<'a> Resolver<'a> {
         }
         Some(Rule {
             span: rule.span,
-            guard_span: rule.guard.as_ref().map(|g| g.span()).unwrap_or(rule.span),
+            guard_span: rule.guard.as_ref().map_or(rule.span, Expr::full_span),
             scope,
             trigger,
             guard_expr,
@@ -708,8 +766,10 @@ impl<'a> Resolver<'a> {
                     );
                     return None;
                 }
+                // Past the input limit no input is declared: that one error is enough.
+                None if self.inputs_over_limit => return None,
                 None => {
-                    self.err(i.span, format!("undefined input `{}`", i.name));
+                    self.undefined(i, format!("undefined input `{}`", i.name), &[Kind::Input]);
                     return None;
                 }
             },
@@ -747,13 +807,15 @@ impl<'a> Resolver<'a> {
                 Some((Signal::Input(x), _)) => Prop::Input(*x),
                 Some((Signal::Output(x), _)) => Prop::Output(*x),
                 Some((Signal::Action(x), _)) => Prop::Action(*x),
+                None if self.inputs_over_limit => return None,
                 None => {
-                    self.err(
-                        i.span,
+                    self.undefined(
+                        i,
                         format!(
                             "undefined name `{}`: expected an input, output or action",
                             i.name
                         ),
+                        &[Kind::Input, Kind::Output, Kind::Action],
                     );
                     return None;
                 }
@@ -762,7 +824,11 @@ impl<'a> Resolver<'a> {
                 Some((Place::State(s), _)) => Prop::InState(*s),
                 Some((Place::Group(g), _)) => Prop::InGroup(*g),
                 None => {
-                    self.err(i.span, format!("undefined state or group `{}`", i.name));
+                    self.undefined(
+                        i,
+                        format!("undefined state or group `{}`", i.name),
+                        &[Kind::State, Kind::Group],
+                    );
                     return None;
                 }
             },

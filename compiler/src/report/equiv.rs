@@ -2,7 +2,8 @@
 //! a shortest distinguishing input sequence and what each machine does at the step that
 //! differs.
 
-use super::{step_text, StepEntry};
+use super::{trace_lines, StepEntry};
+use crate::check::render::plural;
 use crate::minimize::equiv::{Difference, StepView};
 use serde::Serialize;
 use std::fmt::Write;
@@ -107,7 +108,9 @@ impl EquivReport {
         }
     }
 
-    /// The text form.
+    /// The text form. When the machines differ it is a trace file: the explanation is
+    /// on comment lines (`#`) and the distinguishing sequence on trace lines, so that the
+    /// whole text replays through `detent run --trace` on either machine as printed.
     pub fn text(&self) -> String {
         let (a_name, b_name) = &self.names;
         let (Some(step), Some(a), Some(b)) = (self.step, &self.a, &self.b) else {
@@ -115,24 +118,22 @@ impl EquivReport {
                 "equivalent: `{a_name}` and `{b_name}` behave the same on every input sequence"
             );
         };
-        let mut t = format!("different: `{a_name}` and `{b_name}` disagree at step {step}");
+        let mut t = format!("# different: `{a_name}` and `{b_name}` disagree at step {step}");
         if self.witness.is_empty() {
             t.push_str(" (the start states)");
         } else {
             let _ = write!(
                 t,
-                "; shortest distinguishing sequence ({} steps):",
-                self.witness.len()
+                "; shortest distinguishing sequence ({}):",
+                plural(self.witness.len(), "step")
             );
-            for (i, s) in self.witness.iter().enumerate() {
-                if let StepEntry::Step { event, inputs } = s {
-                    let _ = write!(t, "\n  {}. {}", i + 1, step_text(event, &inputs.0));
-                }
+            for line in trace_lines(&self.witness, true) {
+                let _ = write!(t, "\n{line}");
             }
         }
-        let _ = write!(t, "\nat step {step}:\n");
+        let _ = write!(t, "\n# at step {step}:\n# ");
         t.push_str(&a.text("A"));
-        t.push('\n');
+        t.push_str("\n# ");
         t.push_str(&b.text("B"));
         t
     }

@@ -2,6 +2,7 @@
 //! and output equations with their on- and don't-care sets, and the gate cost; under
 //! `--encoding auto` also the table of what each encoding costs.
 
+use crate::check::render::plural;
 use crate::logic::auto::AutoReport;
 use crate::logic::equations::{LogicDesign, Map};
 use crate::logic::gates::{format_gates, format_pos, format_sop, Form, GateCost};
@@ -337,8 +338,9 @@ impl<'a> LogicReport<'a> {
                 _ => (f.cover.literals, f.cover.method),
             };
             out.push(format!(
-                "{eq}    [{}, {lits} literals]",
-                method_name(method)
+                "{eq}    [{}, {}]",
+                method_name(method),
+                plural(lits, "literal")
             ));
         }
         out.push(String::new());
@@ -354,7 +356,11 @@ fn cost_line(cost: &GateCost, map: Map) -> String {
         Map::Nor => "NOR-NOR",
     };
     format!(
-        "cost ({form}): {} literals, {} gates, {} gate inputs ({} input inverters, {} shared products)",
-        cost.literals, cost.gates, cost.gate_inputs, cost.inverters, cost.shared_terms
+        "cost ({form}): {}, {}, {} ({}, {})",
+        plural(cost.literals, "literal"),
+        plural(cost.gates, "gate"),
+        plural(cost.gate_inputs, "gate input"),
+        plural(cost.inverters, "input inverter"),
+        plural(cost.shared_terms, "shared product")
     )
 }

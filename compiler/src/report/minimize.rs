@@ -47,8 +47,10 @@ impl MinimizedMachine {
     /// class (`A <- A, C` for a merged class).
     pub fn text(&self) -> String {
         let mut t = format!(
-            "machine {}: {} states -> {}",
-            self.name, self.states_before, self.states_after
+            "machine {}: {} -> {}",
+            self.name,
+            crate::check::render::plural(self.states_before, "state"),
+            self.states_after
         );
         if !self.unreachable.is_empty() {
             let _ = write!(

@@ -67,13 +67,32 @@ impl StepEntry {
     }
 }
 
-/// `Event a=1 b=0`: a step in the trace format of `detent run --trace`.
-pub fn step_text(event: &str, inputs: &[(String, bool)]) -> String {
+/// A step as one trace line: `Event a=1 b=0`, with every input (`all`) or only the
+/// inputs that are 1 (an input left out is 0). An event named `reset` becomes the JSON
+/// step `{"event":"reset","inputs":{..}}`, since the text line `reset` is a restart.
+pub fn trace_line(event: &str, inputs: &[(String, bool)], all: bool) -> String {
+    if event == crate::trace::RESET {
+        let entry = StepEntry::step(event, inputs);
+        return to_json(&entry);
+    }
     let mut s = event.to_string();
     for (name, v) in inputs {
-        s.push_str(&format!(" {name}={}", u8::from(*v)));
+        if all || *v {
+            s.push_str(&format!(" {name}={}", u8::from(*v)));
+        }
     }
     s
+}
+
+/// A JSON step list as trace lines: steps as [`trace_line`], restarts as `reset`.
+pub fn trace_lines(steps: &[StepEntry], all: bool) -> Vec<String> {
+    steps
+        .iter()
+        .map(|s| match s {
+            StepEntry::Reset { .. } => crate::trace::RESET.to_string(),
+            StepEntry::Step { event, inputs } => trace_line(event, &inputs.0, all),
+        })
+        .collect()
 }
 
 /// One line of JSON. serde_json cannot fail on these reports (every map key is a

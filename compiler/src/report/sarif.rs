@@ -21,7 +21,7 @@
 
 use super::check::trace_entries;
 use super::{StepEntry, Valuation};
-use crate::check::render::{line_col, trace_lines, valuation_text};
+use crate::check::render::{line_col, trace_note, valuation_text};
 use crate::diag::{Diagnostic, Lint, Severity};
 use crate::driver::FileReport;
 use proc_macro2::Span;
@@ -354,10 +354,7 @@ pub fn message_text(d: &Diagnostic) -> String {
         }
     }
     if let Some(t) = &d.trace {
-        lines.push("shortest trace from the start state:".into());
-        for (i, l) in trace_lines(t).iter().enumerate() {
-            lines.push(format!("  {}. {l}", i + 1));
-        }
+        lines.push(trace_note(t));
     }
     for h in &d.helps {
         lines.push(format!("help: {h}"));

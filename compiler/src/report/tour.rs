@@ -2,6 +2,7 @@
 //! that fire every reachable rule at least once, with restarts where needed.
 
 use super::StepEntry;
+use crate::check::render::plural;
 use crate::minimize::encode::named_inputs;
 use crate::model::Machine;
 use crate::tour::{Tour, TourStep};
@@ -35,12 +36,12 @@ impl TourReport {
             })
             .collect();
         let summary = format!(
-            "tour of `{}`: {} steps, {} resets, covers {} of {} transitions ({})",
+            "tour of `{}`: {}, {}, covers {} of {} ({})",
             m.name,
-            t.len_steps(),
-            t.resets(),
+            plural(t.len_steps(), "step"),
+            plural(t.resets(), "reset"),
             t.covers,
-            t.transitions,
+            plural(t.transitions, "transition"),
             if t.strongly_connected {
                 "strongly connected: postman tour"
             } else {
@@ -56,23 +57,9 @@ impl TourReport {
     }
 
     /// The text form: one step per line in the trace format of `detent run --trace`
-    /// (inputs that are 1 written out); a reset is the comment line `# reset`, so each
-    /// stretch between resets replays as a trace.
+    /// (inputs that are 1 written out), a restart as the line `reset`: the whole text
+    /// replays through `run` as printed.
     pub fn lines(&self) -> Vec<String> {
-        self.steps
-            .iter()
-            .map(|s| match s {
-                StepEntry::Reset { .. } => "# reset".to_string(),
-                StepEntry::Step { event, inputs } => {
-                    let mut line = event.clone();
-                    for (name, v) in &inputs.0 {
-                        if *v {
-                            line.push_str(&format!(" {name}=1"));
-                        }
-                    }
-                    line
-                }
-            })
-            .collect()
+        super::trace_lines(&self.steps, false)
     }
 }

@@ -259,18 +259,36 @@ pub enum Expr {
     And(Box<Expr>, Box<Expr>),
     /// `a || b`
     Or(Box<Expr>, Box<Expr>),
-    /// `(e)`: kept so that printing round-trips the author's grouping.
+    /// `(e)`: kept so that printing round-trips the author's grouping. The span covers
+    /// both parentheses.
     Paren(Box<Expr>, Span),
 }
 
 impl Expr {
-    /// The span of the expression's first token.
+    /// The span of the expression's first token (the whole group for `( .. )`).
     pub fn span(&self) -> Span {
         match self {
             Expr::Name(i) | Expr::In(i) => i.span,
             Expr::Const(_, s) | Expr::Not(_, s) | Expr::Paren(_, s) => *s,
             Expr::And(a, _) | Expr::Or(a, _) => a.span(),
         }
+    }
+
+    /// The span of the expression's last token (the whole group for `( .. )`).
+    pub fn last_span(&self) -> Span {
+        match self {
+            Expr::Name(i) | Expr::In(i) => i.span,
+            Expr::Const(_, s) | Expr::Paren(_, s) => *s,
+            Expr::Not(inner, _) => inner.last_span(),
+            Expr::And(_, b) | Expr::Or(_, b) => b.last_span(),
+        }
+    }
+
+    /// The span of the whole expression, from its first token to its last. Where spans
+    /// cannot be joined (a procedural macro on stable Rust), the first token's.
+    pub fn full_span(&self) -> Span {
+        let first = self.span();
+        first.join(self.last_span()).unwrap_or(first)
     }
 }
 

@@ -286,7 +286,7 @@ impl<'a> P<'a> {
                 return None;
             }
             self.i += 1;
-            return Some(Expr::Paren(Box::new(inner), g.span_open()));
+            return Some(Expr::Paren(Box::new(inner), g.span()));
         }
         *terms += 1;
         if *terms > MAX_TERMS {

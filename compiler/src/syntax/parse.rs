@@ -1012,7 +1012,7 @@ fn parse_not(
         if !content.is_empty() {
             return Err(content.error("expected `)`, `&&` or `||`"));
         }
-        return Ok(Expr::Paren(Box::new(inner), paren.span.open()));
+        return Ok(Expr::Paren(Box::new(inner), paren.span.join()));
     }
     *terms += 1;
     if *terms > MAX_TERMS {
