@@ -168,7 +168,14 @@ impl Checker<'_> {
             let s = cell.state;
             let state_name = &m.states[s.index()].name;
             for group in &cell.reached {
-                let rules = &group.rules;
+                // An `else` rule takes what the others leave: it overlaps none of them.
+                let rules: Vec<RuleId> = group
+                    .rules
+                    .iter()
+                    .copied()
+                    .filter(|r| !m.rules[r.index()].otherwise)
+                    .collect();
+                let rules = &rules;
                 // Overlap: any two guards of one lookup step's rules in one scope that
                 // can both be true. A rule can be the later one of an overlapping pair
                 // only if its guard meets the union of the guards before it, and the

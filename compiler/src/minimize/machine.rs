@@ -44,7 +44,7 @@
 
 use super::encode::{encode, Alphabet, Interner, Side};
 use super::partition::{hopcroft, restrict_to_reachable};
-use crate::model::lower::{CellEvents, Op};
+use crate::model::lower::{CellEvents, LookupStep, Op};
 use crate::model::{
     Bdd, Guard, Item, Machine, Prop, Property, Rule, RuleId, Scope, ScopeRules, State, StateId,
     Target, Trigger,
@@ -292,6 +292,8 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
     let class_state = |s: StateId| min.class_of[s.index()].map(StateId);
     let mut states = Vec::with_capacity(min.classes.len());
     let mut rules: Vec<Rule> = Vec::new();
+    // Guards of choices that follow a preempt rule are narrowed here.
+    let mut bdd = m.bdd.clone();
     for (c, class) in min.classes.iter().enumerate() {
         let rep = class[0];
         let me = Scope::State(StateId::from_index(c));
@@ -318,6 +320,8 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     span: sp,
                     guard_span: sp,
                     scope: me,
+                    preempt: false,
+                    otherwise: false,
                     trigger: trigger.clone(),
                     guard_expr: Some(Guard::Const(false)),
                     guard: Bdd::FALSE,
@@ -326,8 +330,37 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     actions: Vec::new(),
                 });
             }
+            // The quotient has no groups, so a cell's choices all become rules of one
+            // state scope. Choices of one lookup step and scope are exclusive (or the
+            // last is `else`, which stays `else`: it takes what the others leave); a
+            // choice after a preempt rule's is narrowed by `!(its guard)`, so that the
+            // rules of the state are exclusive and keep the order's meaning.
+            let mut before: Vec<(LookupStep, Scope, &Guard, Bdd)> = Vec::new();
             for choice in &cell.choices {
                 let rule = &m.rules[choice.rule.index()];
+                let (mut guard_expr, mut guard) = (rule.guard_expr.clone(), rule.guard);
+                if !rule.otherwise {
+                    for &(step, scope, g, b) in &before {
+                        if (step, scope) == (choice.step, choice.scope) {
+                            continue;
+                        }
+                        if bdd.and(guard, b).is_false() {
+                            continue;
+                        }
+                        let not_b = bdd.not(b);
+                        guard = bdd.and(guard, not_b);
+                        let narrow = Guard::Not(Box::new(g.clone()));
+                        guard_expr = Some(match guard_expr {
+                            None => narrow,
+                            Some(x) => Guard::And(Box::new(x), Box::new(narrow)),
+                        });
+                    }
+                }
+                if choice.step == LookupStep::Preempt {
+                    if let Some(g) = &rule.guard_expr {
+                        before.push((choice.step, choice.scope, g, rule.guard));
+                    }
+                }
                 let target = match (choice.moves, class_state(choice.target)) {
                     (true, Some(t)) => Target::To(t),
                     // A target without a class is unreachable, so this choice cannot fire
@@ -345,9 +378,11 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     span: sp,
                     guard_span: sp,
                     scope: me,
+                    preempt: false,
+                    otherwise: rule.otherwise,
                     trigger: trigger.clone(),
-                    guard_expr: rule.guard_expr.clone(),
-                    guard: rule.guard,
+                    guard_expr,
+                    guard,
                     target,
                     mealy: lowered.outputs(choice.mealy).to_vec(),
                     actions,
@@ -418,7 +453,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         minimize: m.minimize,
         properties: Vec::new(),
         lints: m.lints.clone(),
-        bdd: m.bdd.clone(),
+        bdd,
         lowered: Default::default(),
     };
     for p in &m.properties {
@@ -540,7 +575,9 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
             Target::To(t) => ast::Target::State(ident(q.state_name(t))),
         };
         bodies[s.index()].push(Body::Rule(RuleAst {
+            preempt: None,
             trigger,
+            otherwise: rule.otherwise.then(Span::call_site),
             guard: rule.guard_expr.as_ref().map(|g| guard_expr(q, g)),
             target,
             emit: names(&rule.mealy),
