@@ -282,12 +282,15 @@ impl Names {
             Expr::Name(n) => {
                 let ok = self.inputs.contains(&n.name)
                     || (kind == ExprKind::Property
-                        && (self.outputs.contains(&n.name) || self.actions.contains(&n.name)));
+                        && (self.outputs.contains(&n.name)
+                            || self.actions.contains(&n.name)
+                            || self.events.contains(&n.name)
+                            || (self.clocked && n.name == "Tick")));
                 if !ok {
                     let what = if kind == ExprKind::Guard {
                         "input"
                     } else {
-                        "input, output or action"
+                        "event, input, output or action"
                     };
                     return err(
                         row,

@@ -267,6 +267,7 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => {
             // Flattened: `in G` is "in one of G's states", joined as a balanced tree so

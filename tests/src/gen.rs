@@ -87,7 +87,7 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "#[allow(unreachable_state, dead_end, unused_declaration)]"
+        "#[allow(unreachable_state, dead_end, unused_declaration, dead_rule, repeated_action)]"
     );
     let _ = writeln!(s, "pub machine Random{seed} {{");
     if !clocked {

@@ -177,6 +177,7 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => Expr::In(ident(&m.groups[g.index()].name)),
         Prop::Const(b) => Expr::Const(*b, sp),
@@ -221,7 +222,9 @@ fn class_prop(m: &Machine, min: &Minimization, p: &Prop) -> Prop {
         Prop::Not(a) => Prop::Not(go(a)),
         Prop::And(a, b) => Prop::And(go(a), go(b)),
         Prop::Or(a, b) => Prop::Or(go(a), go(b)),
-        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Const(_) => p.clone(),
+        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Event(_) | Prop::Const(_) => {
+            p.clone()
+        }
     }
 }
 

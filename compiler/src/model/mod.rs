@@ -245,6 +245,8 @@ pub enum Prop {
     Output(OutputId),
     /// An action ran in the step.
     Action(ActionId),
+    /// The step consumed this event (false at step 0).
+    Event(EventId),
     /// The state after the step is this one.
     InState(StateId),
     /// The state after the step is inside this group.

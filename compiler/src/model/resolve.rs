@@ -879,16 +879,19 @@ impl<'a> Resolver<'a> {
                 Some((Signal::Input(x), _)) => Prop::Input(*x),
                 Some((Signal::Output(x), _)) => Prop::Output(*x),
                 Some((Signal::Action(x), _)) => Prop::Action(*x),
-                None => {
-                    self.err(
-                        i.span,
-                        format!(
-                            "undefined name `{}`: expected an input, output or action",
-                            i.name
-                        ),
-                    );
-                    return None;
-                }
+                None => match self.events.iter().position(|e| e.name == i.name) {
+                    Some(e) => Prop::Event(EventId::from_index(e)),
+                    None => {
+                        self.err(
+                            i.span,
+                            format!(
+                                "undefined name `{}`: expected an event, input, output or action",
+                                i.name
+                            ),
+                        );
+                        return None;
+                    }
+                },
             },
             Expr::In(i) => match self.places.get(&i.name) {
                 Some((Place::State(s), _)) => Prop::InState(*s),
