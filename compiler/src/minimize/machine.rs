@@ -288,6 +288,30 @@ pub fn quotient_machine(m: &Machine, min: &Minimization) -> Machine {
     }
 }
 
+/// The operands of a chain of `&&`, in order.
+fn and_operands(g: Guard, out: &mut Vec<Guard>) {
+    match g {
+        Guard::And(a, b) => {
+            and_operands(*a, out);
+            and_operands(*b, out);
+        }
+        other => out.push(other),
+    }
+}
+
+/// A chain of `&&` joined as the parser joins one (`syntax::ast::balanced`): halves,
+/// the left one the larger.
+fn balanced_and(mut operands: Vec<Guard>) -> Guard {
+    if operands.len() == 1 {
+        return operands.remove(0);
+    }
+    let right = operands.split_off(operands.len().div_ceil(2));
+    Guard::And(
+        Box::new(balanced_and(operands)),
+        Box::new(balanced_and(right)),
+    )
+}
+
 /// The quotient machine before lowering.
 fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
     let lowered = &m.lowered;
@@ -342,6 +366,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
             for choice in &cell.choices {
                 let rule = &m.rules[choice.rule.index()];
                 let (mut guard_expr, mut guard) = (rule.guard_expr.clone(), rule.guard);
+                let mut narrowed = false;
                 if !rule.otherwise {
                     for &(step, scope, g, b) in &before {
                         if (step, scope) == (choice.step, choice.scope) {
@@ -353,11 +378,21 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                         let not_b = bdd.not(b);
                         guard = bdd.and(guard, not_b);
                         let narrow = Guard::Not(Box::new(g.clone()));
+                        narrowed = true;
                         guard_expr = Some(match guard_expr {
                             None => narrow,
                             Some(x) => Guard::And(Box::new(x), Box::new(narrow)),
                         });
                     }
+                }
+                if narrowed {
+                    // The shape the printed spec parses back to: one `&&` chain, joined
+                    // as the parser joins chains.
+                    guard_expr = guard_expr.map(|g| {
+                        let mut operands = Vec::new();
+                        and_operands(g, &mut operands);
+                        balanced_and(operands)
+                    });
                 }
                 if choice.step == LookupStep::Preempt {
                     if let Some(g) = &rule.guard_expr {
