@@ -262,8 +262,9 @@ fn sarif_and_lint_options_carry_the_new_lints() {
     // attribute raises one to an error.
     let o = detent_in(&dir, &["check", "--allow", "dead_rule", "dead_rule.detent"]);
     assert_eq!(o.status.code(), Some(0));
+    assert_eq!(String::from_utf8_lossy(&o.stderr), "");
     assert_eq!(
-        String::from_utf8_lossy(&o.stderr),
+        String::from_utf8_lossy(&o.stdout),
         "detent: 1 machine checked, no findings\n"
     );
     let o = detent_in(

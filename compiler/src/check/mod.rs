@@ -424,6 +424,7 @@ impl Checker<'_> {
                 }
             }
         }
+        let mut scratch: Option<BddStore> = None;
         for (ri, rule) in m.rules.iter().enumerate() {
             let r = RuleId::from_index(ri);
             if let Some((s, e, ops, a)) = repeats[ri] {
@@ -470,6 +471,24 @@ impl Checker<'_> {
             let reaching = cells
                 .iter()
                 .find(|c| c.reached.iter().any(|g| g.rules.contains(&r)));
+            // A rule whose valuations an earlier rule of its own step and scope takes
+            // overlaps it: `overlapping_rules` (an error) already says so.
+            if let Some(cell) = reaching {
+                let bdd = scratch.get_or_insert_with(|| m.bdd.clone());
+                let overlapped = cell.reached.iter().any(|g| {
+                    let Some(i) = g.rules.iter().position(|x| *x == r) else {
+                        return false;
+                    };
+                    !rule.otherwise
+                        && g.rules[..i].iter().any(|x| {
+                            let other = &m.rules[x.index()];
+                            !other.otherwise && !bdd.and(other.guard, rule.guard).is_false()
+                        })
+                });
+                if overlapped {
+                    continue;
+                }
+            }
             let mut d = Diagnostic::new(
                 Lint::DeadRule,
                 Some(rule.span),
