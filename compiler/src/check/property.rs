@@ -157,11 +157,7 @@ impl Bfs {
 /// The events a property names, each once.
 fn prop_events(p: &Prop, out: &mut Vec<EventId>) {
     match p {
-        Prop::Event(e) => {
-            if !out.contains(e) {
-                out.push(*e);
-            }
-        }
+        Prop::Event(e) if !out.contains(e) => out.push(*e),
         Prop::Not(a) => prop_events(a, out),
         Prop::And(a, b) | Prop::Or(a, b) => {
             prop_events(a, out);
