@@ -73,12 +73,33 @@ fn write_differential_machines() {
     let mut index = String::from(
         "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
     );
+    let mut specs: Vec<(String, String)> = Vec::new();
     for (ci, cfg) in configs.iter().enumerate() {
         // The big machines cost the most to build: two seeds of them.
         let seeds = if cfg.states.0 > 100 { 2 } else { SEEDS };
         for k in 0..seeds {
             let seed = 1000 + k * 10 + ci as u64;
-            let spec = gen::random_spec(seed, cfg);
+            specs.push((format!("s{seed}"), gen::random_spec(seed, cfg)));
+        }
+    }
+    // The rule-lookup cases of `specs/inherit/` (preempt, else, named over `_`).
+    println!("cargo:rerun-if-changed=specs/inherit");
+    let mut fixed: Vec<PathBuf> = std::fs::read_dir("specs/inherit")
+        .expect("specs/inherit")
+        .map(|e| e.expect("dir entry").path())
+        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
+        .collect();
+    fixed.sort();
+    for p in fixed {
+        println!("cargo:rerun-if-changed={}", p.display());
+        let stem = p.file_stem().expect("stem").to_string_lossy().into_owned();
+        specs.push((
+            format!("inherit_{stem}"),
+            std::fs::read_to_string(&p).expect("read spec"),
+        ));
+    }
+    {
+        for (case, spec) in specs {
             let report = check_source("random.detent", &spec);
             assert!(
                 !report.has_errors(),
@@ -89,7 +110,6 @@ fn write_differential_machines() {
                 .into_iter()
                 .find_map(|m| m.machine)
                 .expect("one machine");
-            let case = format!("s{seed}");
             let spec_path = out.join(format!("{case}.detent"));
             std::fs::write(&spec_path, &spec).expect("write spec");
             for (style, suffix) in [

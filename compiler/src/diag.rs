@@ -34,11 +34,15 @@ pub enum Lint {
     Naming,
     /// A `never` or `recover to` declaration is violated.
     Property,
+    /// A rule in a reachable scope that fires in no reachable state.
+    DeadRule,
+    /// One step can run the same action twice.
+    RepeatedAction,
 }
 
 impl Lint {
     /// Every lint, in a fixed order.
-    pub const ALL: [Lint; 11] = [
+    pub const ALL: [Lint; 13] = [
         Lint::Syntax,
         Lint::Name,
         Lint::Incomplete,
@@ -50,6 +54,8 @@ impl Lint {
         Lint::EquivalentStates,
         Lint::Naming,
         Lint::Property,
+        Lint::DeadRule,
+        Lint::RepeatedAction,
     ];
 
     /// The lint's name as users write it.
@@ -66,6 +72,8 @@ impl Lint {
             Lint::EquivalentStates => "equivalent_states",
             Lint::Naming => "naming",
             Lint::Property => "property",
+            Lint::DeadRule => "dead_rule",
+            Lint::RepeatedAction => "repeated_action",
         }
     }
 
@@ -111,6 +119,8 @@ impl Lint {
                  events; snake_case for inputs, outputs and actions)."
             }
             Lint::Property => "A `never` or `recover to` declaration is violated.",
+            Lint::DeadRule => "A rule that fires in no reachable state.",
+            Lint::RepeatedAction => "One step can run the same action twice.",
         }
     }
 }

@@ -282,12 +282,15 @@ impl Names {
             Expr::Name(n) => {
                 let ok = self.inputs.contains(&n.name)
                     || (kind == ExprKind::Property
-                        && (self.outputs.contains(&n.name) || self.actions.contains(&n.name)));
+                        && (self.outputs.contains(&n.name)
+                            || self.actions.contains(&n.name)
+                            || self.events.contains(&n.name)
+                            || (self.clocked && n.name == "Tick")));
                 if !ok {
                     let what = if kind == ExprKind::Guard {
                         "input"
                     } else {
-                        "input, output or action"
+                        "event, input, output or action"
                     };
                     return err(
                         row,
@@ -658,6 +661,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             format!("the start state `{start}` has no state record"),
         );
     }
+    let mut preempted: HashMap<(usize, String), Vec<Option<Expr>>> = HashMap::new();
     for r in rows {
         let f = &r.fields;
         let row = r.row;
@@ -678,14 +682,53 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             };
             return err(row, 2, format!("`{event}` is not a declared event; {hint}"));
         }
-        let guard = match f[2].trim() {
-            "" => None,
+        // `preempt GUARD` (or `preempt`): a preempt rule's row, whose valuations the
+        // later rows of this state and event leave to it; `else`: an `else` rule's row.
+        let field = f[2].trim();
+        let (is_preempt, field) = match field.strip_prefix("preempt") {
+            Some(rest) if rest.is_empty() || rest.starts_with(char::is_whitespace) => {
+                (true, rest.trim())
+            }
+            _ => (false, field),
+        };
+        let is_else = field == "else";
+        let mut guard = match field {
+            "" | "else" => None,
             g => {
                 let e = read_expr(g, ExprKind::Guard, row, 3)?;
                 names_.check_expr(&e, ExprKind::Guard, row, 3)?;
                 Some(e)
             }
         };
+        let taken = preempted.entry((si, event.to_owned())).or_default();
+        if is_else && is_preempt {
+            return err(
+                row,
+                3,
+                "`preempt else`: a preempt rule cannot be an `else` rule",
+            );
+        }
+        if !is_else {
+            // The imported machine has no groups: what a preempt row takes is cut out of
+            // the rows after it, so that one state's rules stay exclusive.
+            let own = guard.clone();
+            for p in taken.iter() {
+                let not_p = Expr::Not(
+                    Box::new(match p {
+                        Some(e) => Expr::Paren(Box::new(e.clone()), Span::call_site()),
+                        None => Expr::Const(true, Span::call_site()),
+                    }),
+                    Span::call_site(),
+                );
+                guard = Some(match guard {
+                    None => not_p,
+                    Some(g) => Expr::And(Box::new(g), Box::new(not_p)),
+                });
+            }
+            if is_preempt {
+                taken.push(own);
+            }
+        }
         let target = match f[3].trim() {
             "stay" => Target::Stay(Span::call_site()),
             "" => {
@@ -717,7 +760,9 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             );
         }
         states[si].rules.push(RuleAst {
+            preempt: None,
             trigger: (!names_.clocked).then(|| Trigger::Events(vec![ident(event)])),
+            otherwise: is_else.then(Span::call_site),
             guard,
             target,
             emit: mealy.iter().map(|n| ident(n)).collect(),

@@ -31,6 +31,7 @@
 //! Cost: O(states x events x choices per cell) rows; the uncovered condition of each
 //! (state, event) is its cell's `unhandled` region, printed as disjoint cubes.
 
+use crate::model::lower::LookupStep;
 use crate::model::{
     ActionId, Bdd, BddStore, EventId, Guard, Machine, OutputId, Prop, Property, RuleId, StateId,
 };
@@ -160,7 +161,7 @@ pub fn rows(m: &Machine) -> Vec<Row> {
                     state: s,
                     event: e,
                     rule: Some(choice.rule),
-                    guard: rule.guard_expr.as_ref().map(|g| guard_text(m, g)),
+                    guard: choice_guard(m, rule, choice.step),
                     next: choice.target,
                     kind,
                     mealy: lowered.outputs(choice.mealy).to_vec(),
@@ -185,6 +186,23 @@ pub fn rows(m: &Machine) -> Vec<Row> {
         }
     }
     out
+}
+
+/// The guard column of a choice's row: the guard as written; `else` for an `else`
+/// rule; `preempt GUARD` (or `preempt`) for a preempt rule, whose valuations the rows
+/// after it in the same state and event never take.
+fn choice_guard(m: &Machine, rule: &crate::model::Rule, step: LookupStep) -> Option<String> {
+    let guard = rule.guard_expr.as_ref().map(|g| guard_text(m, g));
+    if step == LookupStep::Preempt {
+        return Some(match guard {
+            Some(g) => format!("preempt {g}"),
+            None => "preempt".into(),
+        });
+    }
+    if rule.otherwise {
+        return Some("else".into());
+    }
+    guard
 }
 
 fn ident(name: &str) -> ast::Ident {
@@ -249,6 +267,7 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => {
             // Flattened: `in G` is "in one of G's states", joined as a balanced tree so
@@ -648,7 +667,7 @@ Shut    Knock  -      Shut    stay    -      ring                    -
 Shut    Ping   -      Locked  move    -      shut_out, door_out      -
 Ajar    Open   -      Ajar    stay    -      -                       busy
 Ajar    Close  -      Shut    move    -      shut_in                 busy
-Ajar    Knock  -      Ajar    stay    -      -                       busy
+Ajar    Knock  -      Ajar    stay    -      ring                    busy
 Ajar    Ping   -      Ajar    stay    -      -                       busy
 Locked  Open   -      Shut    move    -      door_in, shut_in        -
 Locked  Close  -      Locked  reject  -      -                       -
@@ -720,7 +739,7 @@ Shut,Ping,,Locked,,shut_out door_out,\r\n\
 Ajar,,,,,,busy\r\n\
 Ajar,Open,,stay,,,busy\r\n\
 Ajar,Close,,Shut,,shut_in,busy\r\n\
-Ajar,Knock,,stay,,,busy\r\n\
+Ajar,Knock,,stay,,ring,busy\r\n\
 Ajar,Ping,,stay,,,busy\r\n\
 Locked,,,,,,\r\n\
 Locked,Open,,Shut,,door_in shut_in,\r\n";

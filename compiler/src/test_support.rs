@@ -10,7 +10,7 @@ pub(crate) fn machine(src: &str) -> Machine {
     machines.remove(0)
 }
 
-/// The Gate machine: `_` at two levels (a state's `_` beats its group's named rule),
+/// The Gate machine: `_` at two levels (a group's named rule beats a state's `_`),
 /// enter/leave actions, `stay` against an external self-transition through a group's
 /// `_`, `unhandled reject`, a `recover to` property.
 pub(crate) const GATE: &str = "

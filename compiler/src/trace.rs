@@ -842,8 +842,8 @@ Stop
             // enter but not Door's.
             r#"{"step":2,"from":"Shut","event":"Close","to":"Shut","handled":true,"mealy":[],"moore":[],"actions":["shut_out","log","shut_in"]}"#,
             r#"{"step":3,"from":"Shut","event":"Open","to":"Ajar","handled":true,"mealy":[],"moore":["busy"],"actions":["shut_out"]}"#,
-            // Ajar's own `_` comes before Door's rule naming Knock: no ring.
-            r#"{"step":4,"from":"Ajar","event":"Knock","to":"Ajar","handled":true,"mealy":[],"moore":["busy"],"actions":[]}"#,
+            // Door's rule naming Knock beats Ajar's own `_`: it rings.
+            r#"{"step":4,"from":"Ajar","event":"Knock","to":"Ajar","handled":true,"mealy":[],"moore":["busy"],"actions":["ring"]}"#,
             r#"{"step":5,"from":"Ajar","event":"Close","to":"Shut","handled":true,"mealy":[],"moore":[],"actions":["shut_in"]}"#,
             r#"{"step":6,"from":"Shut","event":"Ping","to":"Locked","handled":true,"mealy":[],"moore":[],"actions":["shut_out","door_out"]}"#,
             // Locked is outside Door and has no Knock rule: rejected.

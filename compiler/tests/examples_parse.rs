@@ -228,6 +228,7 @@ fn eval(p: &Prop, v: &StepView) -> bool {
             None => v.m.states[v.to.index()].moore.contains(o),
         },
         Prop::Action(a) => v.result.is_some_and(|r| r.actions.contains(a)),
+        Prop::Event(e) => v.result.is_some_and(|r| r.event == *e),
         Prop::InState(s) => v.to == *s,
         Prop::InGroup(g) => v.m.group_contains(*g, v.to),
         Prop::Const(b) => *b,

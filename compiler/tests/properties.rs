@@ -60,9 +60,11 @@ fn words(m: &Machine, trace: &[(EventId, Vec<bool>)]) -> Vec<String> {
 }
 
 /// P on a step, straight from the language's definition (independent of the checker).
+#[allow(clippy::too_many_arguments)]
 fn eval(
     m: &Machine,
     p: &Prop,
+    ev: Option<EventId>,
     to: StateId,
     outs: &[OutputId],
     acts: &[ActionId],
@@ -72,22 +74,35 @@ fn eval(
         Prop::Input(i) => ins.get(i.index()).copied().unwrap_or(false),
         Prop::Output(o) => outs.contains(o),
         Prop::Action(a) => acts.contains(a),
+        Prop::Event(e) => ev == Some(*e),
         Prop::InState(s) => to == *s,
         Prop::InGroup(g) => m.groups[g.index()].states.contains(&to),
         Prop::Const(b) => *b,
-        Prop::Not(a) => !eval(m, a, to, outs, acts, ins),
-        Prop::And(a, b) => eval(m, a, to, outs, acts, ins) && eval(m, b, to, outs, acts, ins),
-        Prop::Or(a, b) => eval(m, a, to, outs, acts, ins) || eval(m, b, to, outs, acts, ins),
+        Prop::Not(a) => !eval(m, a, ev, to, outs, acts, ins),
+        Prop::And(a, b) => {
+            eval(m, a, ev, to, outs, acts, ins) && eval(m, b, ev, to, outs, acts, ins)
+        }
+        Prop::Or(a, b) => {
+            eval(m, a, ev, to, outs, acts, ins) || eval(m, b, ev, to, outs, acts, ins)
+        }
     }
 }
 
 fn eval_step(m: &Machine, p: &Prop, r: &StepResult, ins: &[bool]) -> bool {
-    eval(m, p, r.to, &r.outputs(), &r.actions, ins)
+    eval(m, p, Some(r.event), r.to, &r.outputs(), &r.actions, ins)
 }
 
 fn eval_step0(m: &Machine, p: &Prop) -> bool {
     let moore = &m.states[m.start.index()].moore;
-    eval(m, p, m.start, moore, &[], &vec![false; m.inputs.len()])
+    eval(
+        m,
+        p,
+        None,
+        m.start,
+        moore,
+        &[],
+        &vec![false; m.inputs.len()],
+    )
 }
 
 /// Replays a `never` counterexample through `Machine::step`: no earlier step violates P,
@@ -502,8 +517,12 @@ fn random_machines_agree_with_brute_force() {
             let seed = seed * 7 + ci as u64 * 1000 + 1;
             let spec = random_spec(seed, cfg);
             let mut rng = Rng::new(seed ^ 0xABCD);
-            // Names P may use: outputs, actions, inputs, `in S`, `in G`.
+            // Names P may use: events, outputs, actions, inputs, `in S`, `in G`.
             let mut names: Vec<String> = Vec::new();
+            if cfg.events == 0 {
+                names.push("Tick".into());
+            }
+            names.extend((0..cfg.events).map(|i| format!("Ev{i}")));
             names.extend((0..cfg.outputs).map(|i| format!("out{i}")));
             names.extend((0..cfg.actions).map(|i| format!("act{i}")));
             names.extend((0..cfg.inputs).map(|i| format!("in{i}")));

@@ -6,8 +6,9 @@
 //! (state, event) finds a scope with rules. Under `ignore` and `reject` parts of a
 //! partition are dropped at random, so uncovered valuations occur. Specs exercise
 //! guards over a few inputs, `A | B` triggers, `_`, nested groups with inherited rules
-//! and Moore outputs, enter/leave actions, Mealy outputs, `stay` and external
-//! self-transitions, and clocked machines.
+//! and Moore outputs, `preempt` rules in groups (guarded ones fall through), `else`
+//! rules (for events, for `_`, and in clocked machines), enter/leave actions, Mealy
+//! outputs, `stay` and external self-transitions, and clocked machines.
 //!
 //! Seeded and reproducible: the same seed and config give the same text.
 
@@ -86,7 +87,7 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "#[allow(unreachable_state, dead_end, unused_declaration)]"
+        "#[allow(unreachable_state, dead_end, unused_declaration, dead_rule, repeated_action)]"
     );
     let _ = writeln!(s, "pub machine Random{seed} {{");
     if !clocked {
@@ -184,11 +185,27 @@ impl Gen {
         }
     }
 
-    /// Writes the rules of one trigger: one rule per part of a partition.
-    fn rules(&mut self, trigger: &str, level: usize) {
-        let parts = self.partition();
+    /// Writes the rules of one trigger: one rule per part of a partition. Sometimes the
+    /// last part becomes an `else` rule (it is the complement of the others, which is
+    /// what `else` takes), and under `ignore`/`reject` an `else` may also follow parts
+    /// some of which were dropped. `preempt`: the rules are a group's preempt rules:
+    /// any parts of a partition (the rest falls through to the later lookup steps),
+    /// never `else`.
+    fn rules(&mut self, trigger: &str, level: usize, preempt: bool) {
+        let mut parts = self.partition();
+        let otherwise = !preempt && self.rng.chance(0.25);
+        let n = parts.len();
+        if otherwise && n > 1 && self.rng.chance(0.7) {
+            parts[n - 1] = Some("else".into());
+        } else if otherwise {
+            parts.push(Some("else".into()));
+        }
         for guard in parts {
-            if self.policy != "complete" && self.rng.chance(0.25) {
+            let is_else = guard.as_deref() == Some("else");
+            if !is_else
+                && (preempt || self.policy != "complete")
+                && self.rng.chance(if preempt { 0.4 } else { 0.25 })
+            {
                 continue;
             }
             let target = if self.rng.chance(0.2) {
@@ -202,12 +219,19 @@ impl Gen {
             let act = self.pick_some(&actions, 0.3);
             self.indent(level);
             let mut line = String::new();
+            if preempt {
+                line.push_str("preempt ");
+            }
             if !trigger.is_empty() {
                 line.push_str(trigger);
                 line.push(' ');
             }
-            if let Some(g) = guard {
-                let _ = write!(line, "if {g} ");
+            match guard.as_deref() {
+                Some("else") => line.push_str("else "),
+                Some(g) => {
+                    let _ = write!(line, "if {g} ");
+                }
+                None => {}
             }
             let _ = write!(line, "=> {target}");
             if !emit.is_empty() {
@@ -227,7 +251,7 @@ impl Gen {
         if self.clocked {
             let write = must_cover || self.rng.chance(if is_group { 0.5 } else { 0.7 });
             if write {
-                self.rules("", level);
+                self.rules("", level, false);
             }
             return write;
         }
@@ -252,11 +276,22 @@ impl Gen {
                 .iter()
                 .map(|&e| self.events[e].clone())
                 .collect();
-            self.rules(&trig.join(" | "), level);
+            self.rules(&trig.join(" | "), level, false);
             i += take;
         }
+        if is_group && self.rng.chance(0.35) {
+            // A safety trip: preempt rules for one event (or two), which no member can
+            // override; guarded ones leave some valuations to the later steps.
+            let e = self.rng.index(self.events.len());
+            let mut trig = self.events[e].clone();
+            let f = self.rng.index(self.events.len());
+            if f != e && self.rng.chance(0.3) {
+                trig = format!("{trig} | {}", self.events[f]);
+            }
+            self.rules(&trig, level, true);
+        }
         if wildcard && handled.len() < self.events.len() {
-            self.rules("_", level);
+            self.rules("_", level, false);
             return true;
         }
         handled.len() == self.events.len()

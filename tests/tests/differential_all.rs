@@ -1,7 +1,8 @@
 //! Every back end against the reference interpreter on the same machines and the same
 //! traces (issue 8, "Differential testing").
 //!
-//! Machines: every `examples/*.detent` and random specs from [`random_spec`] over a
+//! Machines: every `examples/*.detent`, the rule-lookup cases of `tests/specs/inherit/`
+//! (preempt, else, a named rule over a `_`) and random specs from [`random_spec`] over a
 //! spread of [`GenConfig`]s (event-driven and clocked; no inputs to six; groups on and
 //! off; each `unhandled` policy; with and without outputs and actions). Traces: random
 //! ones, plus the machine's transition tour once one exists. Each back end runs the
@@ -438,7 +439,10 @@ const TRACE_LEN: usize = 200;
 
 fn cases() -> Vec<Case> {
     let mut all = Vec::new();
-    for f in detent_tests::spec_files("examples") {
+    for f in detent_tests::spec_files("examples")
+        .into_iter()
+        .chain(detent_tests::spec_files("tests/specs/inherit"))
+    {
         let name = f.file_name().unwrap().to_string_lossy().into_owned();
         all.extend(case_of(name, std::fs::read_to_string(&f).unwrap()));
     }

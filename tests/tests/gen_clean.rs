@@ -58,6 +58,9 @@ fn generator_is_deterministic_and_varied() {
         "unhandled reject",
         "unhandled ignore",
         "unhandled complete",
+        "preempt ",
+        " else =>",
+        "_ else =>",
     ] {
         assert!(all.contains(needle), "no spec contains `{needle}`");
     }

@@ -2,9 +2,10 @@
 //!
 //! `compiler/src/model/lower.rs` is the one definition of which rule fires; every back
 //! end and analysis reads it. This test re-derives the lookup from the resolved model
-//! in the plainest way (walk the scope chain of the state, innermost first; the first
-//! scope with rules naming the event or `_` rules decides; among them, the first rule
-//! whose guard holds fires), written here only as a test oracle, and checks on random
+//! in the plainest way (the groups' `preempt` rules outermost first; then the innermost
+//! scope naming the event, or, when none does, the innermost scope with `_` rules; in
+//! it, a rule whose guard holds, else its `else` rule), written here only as a test
+//! oracle, and checks on random
 //! specs (`detent_tests::gen`), every cell and random valuations, that:
 //!
 //! - the lowered form's choice (first test that holds, [`Lowered::choose`]) is the
@@ -22,34 +23,55 @@ use detent_compiler::model::{
 };
 use detent_tests::gen::{random_spec, GenConfig, Rng};
 
-/// The rule LANGUAGE.md's lookup picks (today's language: no preempt, no timeouts).
+/// The rule LANGUAGE.md's lookup picks (no timeouts yet): the groups' `preempt` rules
+/// naming the event, outermost group first; then the innermost scope naming the event;
+/// only if none does, the innermost scope with `_` rules. In the scope used, a rule
+/// whose guard holds fires, else its `else` rule.
 fn oracle_rule(m: &Machine, s: StateId, e: EventId, inputs: &[bool]) -> Option<RuleId> {
-    let mut scope = Scope::State(s);
-    loop {
-        let rules = match scope {
-            Scope::State(s) => &m.states[s.index()].rules,
-            Scope::Group(g) => &m.groups[g.index()].rules,
-        };
-        let used = rules
-            .named
+    let holds = |r: &RuleId| {
+        let rule = &m.rules[r.index()];
+        !rule.otherwise
+            && rule
+                .guard_expr
+                .as_ref()
+                .is_none_or(|g| g.eval(&|i: InputId| inputs[i.index()]))
+    };
+    let pick = |rules: &[RuleId]| {
+        rules
             .iter()
-            .find(|(x, _)| *x == e)
-            .map(|(_, r)| r.as_slice())
-            .or((!rules.wildcard.is_empty()).then_some(rules.wildcard.as_slice()));
-        if let Some(used) = used {
-            return used.iter().copied().find(|r| {
-                m.rules[r.index()]
-                    .guard_expr
-                    .as_ref()
-                    .is_none_or(|g| g.eval(&|i: InputId| inputs[i.index()]))
-            });
-        }
-        let parent = match scope {
-            Scope::State(s) => m.states[s.index()].parent,
-            Scope::Group(g) => m.groups[g.index()].parent,
-        };
-        scope = Scope::Group(parent?);
+            .copied()
+            .find(holds)
+            .or_else(|| rules.iter().copied().find(|r| m.rules[r.index()].otherwise))
+    };
+    let mut chain = vec![Scope::State(s)];
+    let mut g = m.states[s.index()].parent;
+    while let Some(id) = g {
+        chain.push(Scope::Group(id));
+        g = m.groups[id.index()].parent;
     }
+    let rules_of = |scope: Scope| match scope {
+        Scope::State(s) => &m.states[s.index()].rules,
+        Scope::Group(g) => &m.groups[g.index()].rules,
+    };
+    for &scope in chain.iter().rev() {
+        if let Some((_, rules)) = rules_of(scope).preempt.iter().find(|(x, _)| *x == e) {
+            if let Some(r) = rules.iter().copied().find(holds) {
+                return Some(r);
+            }
+        }
+    }
+    for &scope in &chain {
+        if let Some((_, rules)) = rules_of(scope).named.iter().find(|(x, _)| *x == e) {
+            return pick(rules);
+        }
+    }
+    for &scope in &chain {
+        let rules = &rules_of(scope).wildcard;
+        if !rules.is_empty() {
+            return pick(rules);
+        }
+    }
+    None
 }
 
 /// The actions of a rule firing in `from`, by LANGUAGE.md "Action order".

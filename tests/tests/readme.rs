@@ -15,7 +15,10 @@ fn the_readme_spec_checks_without_findings() {
     let m = report.machines[0].machine.as_ref().unwrap();
     assert_eq!(
         m.properties.len(),
-        2,
-        "the README shows a `never` and a `recover to`"
+        3,
+        "the README shows two `never` (one naming an event) and a `recover to`"
     );
+    // It shows a preempt rule and an `else` rule.
+    assert!(m.rules.iter().any(|r| r.preempt));
+    assert!(m.rules.iter().any(|r| r.otherwise));
 }

@@ -48,13 +48,14 @@ fn fingerprint(m: &Machine) -> String {
     }
     for g in &m.groups {
         s += &format!(
-            "group {} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {:?}\n",
+            "group {} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {:?} {:?}\n",
             g.name,
             g.parent,
             g.emit,
             g.enter,
             g.leave,
             g.rules.named,
+            g.rules.preempt,
             g.rules.wildcard,
             g.states,
             g.lints
@@ -62,8 +63,8 @@ fn fingerprint(m: &Machine) -> String {
     }
     for r in &m.rules {
         s += &format!(
-            "rule {:?} {:?} {:?} {:?} {:?} {:?}\n",
-            r.scope, r.trigger, r.guard_expr, r.target, r.mealy, r.actions
+            "rule {:?} {} {} {:?} {:?} {:?} {:?} {:?}\n",
+            r.scope, r.preempt, r.otherwise, r.trigger, r.guard_expr, r.target, r.mealy, r.actions
         );
     }
     for p in &m.properties {

@@ -22,7 +22,8 @@ use crate::diag::{Diagnostic, Lint, Severity};
 use crate::fxhash::FxSet;
 use crate::model::bdd::BddStore;
 use crate::model::graph::{reachable_from, strongly_connected};
-use crate::model::{Bdd, Guard, InputId, Machine, RuleId, Site, StateId};
+use crate::model::lower::SeqId;
+use crate::model::{ActionId, Bdd, EventId, Guard, InputId, Machine, RuleId, Site, StateId};
 use crate::naming::{is_snake, is_upper_camel, to_snake, to_upper_camel};
 use crate::syntax::ast::{LevelAttr, Policy};
 
@@ -67,6 +68,7 @@ pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
         return c.out;
     }
     c.reachability();
+    c.dead_rules_and_repeated_actions();
     c.never_true_guards();
     c.unused_declarations();
     c.naming();
@@ -167,7 +169,14 @@ impl Checker<'_> {
             let s = cell.state;
             let state_name = &m.states[s.index()].name;
             for group in &cell.reached {
-                let rules = &group.rules;
+                // An `else` rule takes what the others leave: it overlaps none of them.
+                let rules: Vec<RuleId> = group
+                    .rules
+                    .iter()
+                    .copied()
+                    .filter(|r| !m.rules[r.index()].otherwise)
+                    .collect();
+                let rules = &rules;
                 // Overlap: any two guards of one lookup step's rules in one scope that
                 // can both be true. A rule can be the later one of an overlapping pair
                 // only if its guard meets the union of the guards before it, and the
@@ -379,6 +388,158 @@ impl Checker<'_> {
             .help("remove the duplicates, or `#[allow(equivalent_states)]` if they are kept apart on purpose");
             d.states = names.iter().map(|s| s.to_string()).collect();
             self.emit(d, Site::State(first));
+        }
+    }
+
+    /// `dead_rule`: a rule of a scope with a reachable state that is no choice (with a
+    /// non-empty firing region) in any cell of a reachable state. `repeated_action`: a
+    /// choice of a reachable state whose operation sequence runs an action twice. Both
+    /// read the lowered form only; reachability is the successor graph's, as for
+    /// `unreachable_state`.
+    fn dead_rules_and_repeated_actions(&mut self) {
+        let m = self.m;
+        let lowered = &m.lowered;
+        let succ = lowered.successor_lists();
+        let reachable = reachable_from(&succ, &[m.start]);
+        let mut fires = vec![false; m.rules.len()];
+        // Per rule, the first reachable (state, cell, repeated action) where it repeats.
+        let mut repeats: Vec<Option<(StateId, EventId, SeqId, ActionId)>> =
+            vec![None; m.rules.len()];
+        for (si, _) in reachable.iter().enumerate().filter(|(_, r)| **r) {
+            let s = StateId::from_index(si);
+            for cell in lowered.cells_of(s) {
+                for ch in &cell.choices {
+                    let r = ch.rule.index();
+                    fires[r] = true;
+                    if repeats[r].is_some() {
+                        continue;
+                    }
+                    let acts: Vec<ActionId> = lowered.actions(ch.ops).collect();
+                    let dup = acts
+                        .iter()
+                        .enumerate()
+                        .find(|(i, a)| acts[..*i].contains(a))
+                        .map(|(_, a)| *a);
+                    if let Some(a) = dup {
+                        repeats[r] = Some((s, cell.event, ch.ops, a));
+                    }
+                }
+            }
+        }
+        let mut scratch: Option<BddStore> = None;
+        for (ri, rule) in m.rules.iter().enumerate() {
+            let r = RuleId::from_index(ri);
+            if let Some((s, e, ops, a)) = repeats[ri] {
+                let name = &m.actions[a.index()].name;
+                let seq: Vec<&str> = lowered
+                    .actions(ops)
+                    .map(|x| m.actions[x.index()].name.as_str())
+                    .collect();
+                let d = Diagnostic::new(
+                    Lint::RepeatedAction,
+                    Some(rule.span),
+                    format!("this rule can run action `{name}` twice in one step"),
+                )
+                .with_state(m.state_name(s))
+                .with_event(m.event_name(e))
+                .note(format!(
+                    "in state `{}` on event `{}` the step runs `{}` (leave actions, the \
+                     rule's, enter actions)",
+                    m.state_name(s),
+                    m.event_name(e),
+                    seq.join(", ")
+                ))
+                .help(format!(
+                    "run `{name}` in one place: the rule's `do` list, or the `enter do`/`leave \
+                     do` of one state or group"
+                ));
+                self.emit(d, m.rule_site(r));
+            }
+            if fires[ri] || rule.guard.is_false() {
+                continue;
+            }
+            // The reachable states the rule's scope governs.
+            let members: Vec<StateId> = match rule.scope {
+                crate::model::Scope::State(s) => vec![s],
+                crate::model::Scope::Group(g) => m.groups[g.index()].states.clone(),
+            };
+            let Some(&s) = members.iter().find(|s| reachable[s.index()]) else {
+                continue;
+            };
+            // Why it does not fire in `s`: the first cell of `s` that reaches it (earlier
+            // rules take its valuations), else one of its events' cells (a scope nearer
+            // to the state decides the event).
+            let cells = lowered.cells_of(s);
+            let reaching = cells
+                .iter()
+                .find(|c| c.reached.iter().any(|g| g.rules.contains(&r)));
+            // A rule whose valuations an earlier rule of its own step and scope takes
+            // overlaps it: `overlapping_rules` (an error) already says so.
+            if let Some(cell) = reaching {
+                let bdd = scratch.get_or_insert_with(|| m.bdd.clone());
+                let overlapped = cell.reached.iter().any(|g| {
+                    let Some(i) = g.rules.iter().position(|x| *x == r) else {
+                        return false;
+                    };
+                    !rule.otherwise
+                        && g.rules[..i].iter().any(|x| {
+                            let other = &m.rules[x.index()];
+                            !other.otherwise && !bdd.and(other.guard, rule.guard).is_false()
+                        })
+                });
+                if overlapped {
+                    continue;
+                }
+            }
+            let mut d = Diagnostic::new(
+                Lint::DeadRule,
+                Some(rule.span),
+                "this rule never fires: in every reachable state it applies to, another rule \
+                 decides first",
+            )
+            .with_state(m.state_name(s));
+            match reaching {
+                Some(cell) => {
+                    let event = m.event_name(cell.event);
+                    d.notes.push(format!(
+                        "in state `{}` on event `{event}`, the rules before it take every \
+                         valuation where it would fire",
+                        m.state_name(s)
+                    ));
+                    if let Some(ch) = cell.choices.first() {
+                        d.related.push((
+                            m.rules[ch.rule.index()].span,
+                            "this rule is considered first".into(),
+                        ));
+                    }
+                    d = d.with_event(event);
+                }
+                None => {
+                    let cell = match &rule.trigger {
+                        crate::model::Trigger::Events(evs) => Some(lowered.cell_of(s, evs[0])),
+                        _ => cells.iter().find(|c| !c.reached.is_empty()),
+                    };
+                    if let Some(cell) = cell {
+                        let event = m.event_name(cell.event);
+                        d.notes.push(format!(
+                            "in state `{}`, event `{event}` is decided by a scope nearer to the \
+                             state",
+                            m.state_name(s)
+                        ));
+                        if let Some(first) = cell.reached.first().and_then(|g| g.rules.first()) {
+                            d.related
+                                .push((m.rules[first.index()].span, "this rule decides".into()));
+                        }
+                        d = d.with_event(event);
+                    }
+                }
+            }
+            d.helps.push(
+                "remove the rule, or change what overrides it (a `_` never hides a named rule; \
+                 a member names the event to override its group)"
+                    .into(),
+            );
+            self.emit(d, m.rule_site(r));
         }
     }
 

@@ -32,7 +32,7 @@
 //! per-state copies.
 
 use crate::diag::{Diagnostic, Lint, TraceStep};
-use crate::model::lower::Op;
+use crate::model::lower::{CellEvents, Op};
 use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
 use std::collections::VecDeque;
 
@@ -76,6 +76,8 @@ struct Facts<'a> {
     ops: &'a [Op],
     /// Step 0: every input reads false.
     step0: bool,
+    /// The event the step consumed (`None` at step 0).
+    event: Option<EventId>,
 }
 
 /// P on one step, as a BDD over the inputs P names (a constant when it names none).
@@ -90,6 +92,7 @@ fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
         }
         Prop::Output(o) => bdd.constant(f.moore.binary_search(o).is_ok() || f.mealy.contains(o)),
         Prop::Action(a) => bdd.constant(f.ops.contains(&Op::Action(*a))),
+        Prop::Event(e) => bdd.constant(f.event == Some(*e)),
         Prop::InState(s) => bdd.constant(f.to == *s),
         Prop::InGroup(g) => bdd.constant(m.group_contains(*g, f.to)),
         Prop::Const(b) => bdd.constant(*b),
@@ -151,6 +154,19 @@ impl Bfs {
     }
 }
 
+/// The events a property names, each once.
+fn prop_events(p: &Prop, out: &mut Vec<EventId>) {
+    match p {
+        Prop::Event(e) if !out.contains(e) => out.push(*e),
+        Prop::Not(a) => prop_events(a, out),
+        Prop::And(a, b) | Prop::Or(a, b) => {
+            prop_events(a, out);
+            prop_events(b, out);
+        }
+        _ => {}
+    }
+}
+
 /// Proves `never P`, or returns the shortest counterexample.
 pub fn check_never(m: &Machine, prop: &Prop) -> Option<NeverViolation> {
     let mut bdd = m.bdd.clone();
@@ -173,6 +189,7 @@ fn check_never_in(
         mealy: &[],
         ops: &[],
         step0: true,
+        event: None,
     };
     if prop_bdd(m, bdd, prop, &step0).is_true() {
         return Some(NeverViolation {
@@ -182,9 +199,12 @@ fn check_never_in(
             actions: Vec::new(),
         });
     }
+    let mut named = Vec::new();
+    prop_events(prop, &mut named);
     let mut bfs = Bfs::new(m.states.len());
     bfs.seen[start.index()] = true;
     let mut queue = VecDeque::from([start]);
+    let mut events = Vec::new();
     while let Some(s) = queue.pop_front() {
         let base = table.start[s.index()];
         for (k, step) in table.of(s).iter().enumerate() {
@@ -193,19 +213,51 @@ fn check_never_in(
                 Some(c) => (lowered.outputs(c.mealy), lowered.seq(c.ops)),
                 None => (&[], &[]),
             };
-            let facts = Facts {
-                to: step.to,
-                moore: lowered.outputs(lowered.moore(step.to)),
-                mealy,
-                ops,
-                step0: false,
-            };
-            let p = prop_bdd(m, bdd, prop, &facts);
-            let hit = bdd.and(p, step.atom);
-            if !hit.is_false() {
+            // The events the step stands for differ only in the event atoms of P: try
+            // each event of the cell's class that P names, and one that it does not.
+            events.clear();
+            let cell = lowered.cell(step.cell);
+            match cell.events {
+                CellEvents::One(e) => events.push(e),
+                CellEvents::Rest => {
+                    events.extend(
+                        named
+                            .iter()
+                            .copied()
+                            .filter(|&e| lowered.cell_id(s, e) == step.cell),
+                    );
+                    if !named.contains(&step.event) {
+                        events.push(step.event);
+                    } else if let Some(e) = lowered
+                        .rest_events(m.events.len(), s)
+                        .into_iter()
+                        .find(|e| !named.contains(e))
+                    {
+                        events.push(e);
+                    }
+                }
+            }
+            let mut hit = None;
+            for &event in &events {
+                let facts = Facts {
+                    to: step.to,
+                    moore: lowered.outputs(lowered.moore(step.to)),
+                    mealy,
+                    ops,
+                    step0: false,
+                    event: Some(event),
+                };
+                let p = prop_bdd(m, bdd, prop, &facts);
+                let h = bdd.and(p, step.atom);
+                if !h.is_false() {
+                    hit = Some((event, h, facts.moore));
+                    break;
+                }
+            }
+            if let Some((event, hit, moore)) = hit {
                 let mut trace = bfs.trace_to(m, bdd, table, s);
-                trace.push((step.event, valuation(m, bdd, hit)));
-                let mut outputs = facts.moore.to_vec();
+                trace.push((event, valuation(m, bdd, hit)));
+                let mut outputs = moore.to_vec();
                 outputs.extend_from_slice(mealy);
                 outputs.sort_unstable();
                 outputs.dedup();

@@ -10,7 +10,9 @@
 //! - a start marker with an arrow into the start state; terminal states with a double
 //!   border;
 //! - one edge per (source state, target state) pair, whose label has one line per rule
-//!   that takes that way: `event [guard] / outputs; do actions` ([`rule_label`]).
+//!   that takes that way: `event [guard] / outputs; do actions` ([`rule_label`]); a
+//!   `preempt` rule's line starts with `preempt` and its edge is drawn bold (DOT
+//!   `style=bold`, a wider stroke in SVG), `[else]` marks an `else` rule.
 //!
 //! Rule choice comes from the machine's lowered form ([`crate::model::lower`]): the
 //! rules drawn from a state are the choices of its cells, the rules that can fire there.
@@ -46,6 +48,9 @@ pub struct Transition {
     pub to: StateId,
     /// One [`rule_label`] per rule, in the order the rules are first used.
     pub lines: Vec<String>,
+    /// Some rule on the edge is a `preempt` rule: drawn bold (its line also starts
+    /// with `preempt`), so that a reader sees no member can override it.
+    pub preempt: bool,
 }
 
 fn output_list(m: &Machine, outs: &[OutputId]) -> String {
@@ -64,12 +69,15 @@ fn action_list(m: &Machine, acts: &[ActionId]) -> String {
 
 /// The label of a rule as used by some state for `events`:
 /// `Ev1 | Ev2 [guard] / out1, out2; do act1, act2`. The trigger is `_` for a wildcard
-/// rule and absent in a clocked machine; the guard in brackets only when the rule has
-/// one; `/ ..` only when the rule has Mealy outputs or actions (`/ do act` when it has
+/// rule and absent in a clocked machine; a preempt rule's label starts with `preempt`;
+/// the guard in brackets only when the rule has one (`[else]` for an `else` rule); `/ ..` only when the rule has Mealy outputs or actions (`/ do act` when it has
 /// actions only).
 pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     let r = &m.rules[rule.index()];
     let mut parts: Vec<String> = Vec::new();
+    if r.preempt {
+        parts.push("preempt".into());
+    }
     match r.trigger {
         Trigger::Tick => {}
         Trigger::Wildcard => parts.push("_".into()),
@@ -83,6 +91,8 @@ pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     }
     if let Some(g) = &r.guard_expr {
         parts.push(format!("[{}]", guard_text(m, g)));
+    } else if r.otherwise {
+        parts.push("[else]".into());
     }
     let mut effects = Vec::new();
     if !r.mealy.is_empty() {
@@ -189,12 +199,17 @@ pub fn transitions_except(m: &Machine, skip: &[RuleId]) -> Vec<Transition> {
         let mut edges: Vec<Transition> = Vec::new();
         for (to, r, evs) in used {
             let line = rule_label(m, &evs, r);
+            let preempt = m.rules[r.index()].preempt;
             match edges.iter_mut().find(|t| t.to == to) {
-                Some(t) => t.lines.push(line),
+                Some(t) => {
+                    t.lines.push(line);
+                    t.preempt |= preempt;
+                }
                 None => edges.push(Transition {
                     from: s,
                     to,
                     lines: vec![line],
+                    preempt,
                 }),
             }
         }

@@ -154,9 +154,14 @@ pub fn to_dot(m: &Machine) -> String {
         // Graphviz clips an edge at the cluster named by `ltail`; the edge starts at the
         // group's first state.
         let via = m.groups[t.group.index()].states[0];
+        let bold = if t.rules.iter().any(|r| m.rules[r.index()].preempt) {
+            ", style=bold, penwidth=2.5"
+        } else {
+            ""
+        };
         let _ = writeln!(
             out,
-            "  s{} -> s{} [ltail=cluster_{}, label={}];",
+            "  s{} -> s{} [ltail=cluster_{}, label={}{bold}];",
             via.index(),
             t.to.index(),
             t.group.index(),
@@ -169,8 +174,13 @@ pub fn to_dot(m: &Machine) -> String {
         .collect();
     for t in transitions_except(m, &skip) {
         let _ = write!(out, "  s{} -> s{}", t.from.index(), t.to.index());
+        let bold = if t.preempt {
+            ", style=bold, penwidth=2.5"
+        } else {
+            ""
+        };
         if t.lines.iter().any(|l| !l.is_empty()) {
-            let _ = write!(out, " [label={}]", quote_lines(&t.lines));
+            let _ = write!(out, " [label={}{bold}]", quote_lines(&t.lines));
         }
         out.push_str(";\n");
     }

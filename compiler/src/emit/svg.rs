@@ -135,9 +135,16 @@ const EDGE_COLOR: &str = "#4a5568";
 const CLUSTER_FILLS: [&str; 3] = ["#eef3fb", "#e3ecf7", "#d8e4f3"];
 
 fn write_edge(svg: &mut String, e: &EdgeGeometry) {
+    // A preempt rule's label line starts with `preempt` (a reserved word, never a
+    // name): its edge is drawn with a wide stroke, not by colour alone.
+    let preempt = e
+        .labels
+        .iter()
+        .any(|l| l.lines().any(|x| x.starts_with("preempt ")));
+    let width = if preempt { "2.8" } else { "1.3" };
     let _ = writeln!(
         svg,
-        r#"<path d="{}" fill="none" stroke="{EDGE_COLOR}" stroke-width="1.3"/>"#,
+        r#"<path d="{}" fill="none" stroke="{EDGE_COLOR}" stroke-width="{width}"/>"#,
         path_data(e)
     );
     let [a, b, c] = e.arrow;

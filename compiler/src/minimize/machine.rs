@@ -44,7 +44,7 @@
 
 use super::encode::{encode, Alphabet, Interner, Side};
 use super::partition::{hopcroft, restrict_to_reachable};
-use crate::model::lower::{CellEvents, Op};
+use crate::model::lower::{CellEvents, LookupStep, Op};
 use crate::model::{
     Bdd, Guard, Item, Machine, Prop, Property, Rule, RuleId, Scope, ScopeRules, State, StateId,
     Target, Trigger,
@@ -177,6 +177,7 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
+        Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => Expr::In(ident(&m.groups[g.index()].name)),
         Prop::Const(b) => Expr::Const(*b, sp),
@@ -221,7 +222,9 @@ fn class_prop(m: &Machine, min: &Minimization, p: &Prop) -> Prop {
         Prop::Not(a) => Prop::Not(go(a)),
         Prop::And(a, b) => Prop::And(go(a), go(b)),
         Prop::Or(a, b) => Prop::Or(go(a), go(b)),
-        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Const(_) => p.clone(),
+        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Event(_) | Prop::Const(_) => {
+            p.clone()
+        }
     }
 }
 
@@ -285,6 +288,30 @@ pub fn quotient_machine(m: &Machine, min: &Minimization) -> Machine {
     }
 }
 
+/// The operands of a chain of `&&`, in order.
+fn and_operands(g: Guard, out: &mut Vec<Guard>) {
+    match g {
+        Guard::And(a, b) => {
+            and_operands(*a, out);
+            and_operands(*b, out);
+        }
+        other => out.push(other),
+    }
+}
+
+/// A chain of `&&` joined as the parser joins one (`syntax::ast::balanced`): halves,
+/// the left one the larger.
+fn balanced_and(mut operands: Vec<Guard>) -> Guard {
+    if operands.len() == 1 {
+        return operands.remove(0);
+    }
+    let right = operands.split_off(operands.len().div_ceil(2));
+    Guard::And(
+        Box::new(balanced_and(operands)),
+        Box::new(balanced_and(right)),
+    )
+}
+
 /// The quotient machine before lowering.
 fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
     let lowered = &m.lowered;
@@ -292,6 +319,8 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
     let class_state = |s: StateId| min.class_of[s.index()].map(StateId);
     let mut states = Vec::with_capacity(min.classes.len());
     let mut rules: Vec<Rule> = Vec::new();
+    // Guards of choices that follow a preempt rule are narrowed here.
+    let mut bdd = m.bdd.clone();
     for (c, class) in min.classes.iter().enumerate() {
         let rep = class[0];
         let me = Scope::State(StateId::from_index(c));
@@ -318,6 +347,8 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     span: sp,
                     guard_span: sp,
                     scope: me,
+                    preempt: false,
+                    otherwise: false,
                     trigger: trigger.clone(),
                     guard_expr: Some(Guard::Const(false)),
                     guard: Bdd::FALSE,
@@ -326,8 +357,48 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     actions: Vec::new(),
                 });
             }
+            // The quotient has no groups, so a cell's choices all become rules of one
+            // state scope. Choices of one lookup step and scope are exclusive (or the
+            // last is `else`, which stays `else`: it takes what the others leave); a
+            // choice after a preempt rule's is narrowed by `!(its guard)`, so that the
+            // rules of the state are exclusive and keep the order's meaning.
+            let mut before: Vec<(LookupStep, Scope, &Guard, Bdd)> = Vec::new();
             for choice in &cell.choices {
                 let rule = &m.rules[choice.rule.index()];
+                let (mut guard_expr, mut guard) = (rule.guard_expr.clone(), rule.guard);
+                let mut narrowed = false;
+                if !rule.otherwise {
+                    for &(step, scope, g, b) in &before {
+                        if (step, scope) == (choice.step, choice.scope) {
+                            continue;
+                        }
+                        if bdd.and(guard, b).is_false() {
+                            continue;
+                        }
+                        let not_b = bdd.not(b);
+                        guard = bdd.and(guard, not_b);
+                        let narrow = Guard::Not(Box::new(g.clone()));
+                        narrowed = true;
+                        guard_expr = Some(match guard_expr {
+                            None => narrow,
+                            Some(x) => Guard::And(Box::new(x), Box::new(narrow)),
+                        });
+                    }
+                }
+                if narrowed {
+                    // The shape the printed spec parses back to: one `&&` chain, joined
+                    // as the parser joins chains.
+                    guard_expr = guard_expr.map(|g| {
+                        let mut operands = Vec::new();
+                        and_operands(g, &mut operands);
+                        balanced_and(operands)
+                    });
+                }
+                if choice.step == LookupStep::Preempt {
+                    if let Some(g) = &rule.guard_expr {
+                        before.push((choice.step, choice.scope, g, rule.guard));
+                    }
+                }
                 let target = match (choice.moves, class_state(choice.target)) {
                     (true, Some(t)) => Target::To(t),
                     // A target without a class is unreachable, so this choice cannot fire
@@ -345,9 +416,11 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     span: sp,
                     guard_span: sp,
                     scope: me,
+                    preempt: false,
+                    otherwise: rule.otherwise,
                     trigger: trigger.clone(),
-                    guard_expr: rule.guard_expr.clone(),
-                    guard: rule.guard,
+                    guard_expr,
+                    guard,
                     target,
                     mealy: lowered.outputs(choice.mealy).to_vec(),
                     actions,
@@ -418,7 +491,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         minimize: m.minimize,
         properties: Vec::new(),
         lints: m.lints.clone(),
-        bdd: m.bdd.clone(),
+        bdd,
         lowered: Default::default(),
     };
     for p in &m.properties {
@@ -540,7 +613,9 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
             Target::To(t) => ast::Target::State(ident(q.state_name(t))),
         };
         bodies[s.index()].push(Body::Rule(RuleAst {
+            preempt: None,
             trigger,
+            otherwise: rule.otherwise.then(Span::call_site),
             guard: rule.guard_expr.as_ref().map(|g| guard_expr(q, g)),
             target,
             emit: names(&rule.mealy),

@@ -45,7 +45,8 @@
 //! # Room for what comes next
 //!
 //! The lookup has four steps (preempt, due timeouts, named, wildcard: [`LookupStep`]);
-//! today's language uses the last two, and a choice records which step it came from.
+//! today's language uses all but the timeouts, and a choice records which step it came
+//! from.
 //! Operations are [`Op`]s rather than bare actions so that counter operations take
 //! their place in the same sequences, and a configuration is more than a state
 //! ([`crate::interp::Config`]) so that timers and counters join it.
@@ -550,45 +551,92 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
     })
 }
 
-/// The events some scope of the chain names, ascending.
+/// The events some scope of the chain names (in a rule or a `preempt` rule),
+/// ascending.
 fn named_events(m: &Machine, chain: &[Scope]) -> Vec<EventId> {
     let mut evs: Vec<EventId> = chain
         .iter()
-        .flat_map(|&sc| m.scope_rules(sc).named.iter().map(|(e, _)| *e))
+        .flat_map(|&sc| {
+            let rules = m.scope_rules(sc);
+            rules.named.iter().chain(&rules.preempt).map(|(e, _)| *e)
+        })
         .collect();
     evs.sort_unstable();
     evs.dedup();
     evs
 }
 
-/// The lookup of LANGUAGE.md for one event (`None`: an event no scope of the chain
-/// names): the rules it reaches, by step and scope, in lookup order.
+/// The lookup of LANGUAGE.md ("Rules and scopes") for one event (`None`: an event no
+/// scope of the chain names): the rules it reaches, by step and scope, in lookup order.
 ///
-/// Today's language has one step that applies: the innermost scope that has a rule
-/// naming the event, or a `_` rule, decides; its rules naming the event are used, or
-/// else its `_` rules. Valuations none of them covers are unhandled (no fall-through
-/// to outer scopes).
+/// 1. *Preempt*: the `preempt` rules naming the event in each group of the chain,
+///    outermost group first (one [`Reached`] per group).
+/// 2. *Timeouts*: not in the language yet.
+/// 3. *Named*: the innermost scope with a (non-preempt) rule naming the event; only
+///    its rules naming the event.
+/// 4. *Wildcard*: only when no scope names the event in step 3: the innermost scope
+///    with a `_` rule; only its `_` rules.
+///
+/// Within one step and scope, an `else` rule comes after the other rules (its guard is
+/// `TRUE`, so it takes what they leave); the rest keep source order. Valuations that
+/// the reached rules leave are unhandled (no fall-through to outer scopes).
 fn reach(m: &Machine, chain: &[Scope], event: Option<EventId>) -> Vec<Reached> {
-    for &scope in chain {
-        let rules = m.scope_rules(scope);
-        if let Some(e) = event {
-            if let Ok(i) = rules.named.binary_search_by_key(&e, |(x, _)| *x) {
-                return vec![Reached {
-                    step: LookupStep::Named,
-                    scope,
-                    rules: rules.named[i].1.clone(),
-                }];
-            }
+    let mut out = Vec::new();
+    let Some(e) = event else {
+        // No scope names the event: only `_` rules can apply.
+        if let Some(r) = wildcard_step(m, chain) {
+            out.push(r);
         }
-        if !rules.wildcard.is_empty() {
-            return vec![Reached {
-                step: LookupStep::Wildcard,
+        return out;
+    };
+    for &scope in chain.iter().rev() {
+        let rules = m.scope_rules(scope);
+        if let Ok(i) = rules.preempt.binary_search_by_key(&e, |(x, _)| *x) {
+            out.push(Reached {
+                step: LookupStep::Preempt,
                 scope,
-                rules: rules.wildcard.clone(),
-            }];
+                rules: else_last(m, &rules.preempt[i].1),
+            });
         }
     }
-    Vec::new()
+    let named = chain.iter().find_map(|&scope| {
+        let rules = m.scope_rules(scope);
+        rules
+            .named
+            .binary_search_by_key(&e, |(x, _)| *x)
+            .ok()
+            .map(|i| Reached {
+                step: LookupStep::Named,
+                scope,
+                rules: else_last(m, &rules.named[i].1),
+            })
+    });
+    match named {
+        Some(r) => out.push(r),
+        None => out.extend(wildcard_step(m, chain)),
+    }
+    out
+}
+
+/// Step 4 of the lookup: the innermost scope's `_` rules (every rule of a clocked
+/// machine), its `else` rule last.
+fn wildcard_step(m: &Machine, chain: &[Scope]) -> Option<Reached> {
+    chain.iter().find_map(|&scope| {
+        let rules = m.scope_rules(scope);
+        (!rules.wildcard.is_empty()).then(|| Reached {
+            step: LookupStep::Wildcard,
+            scope,
+            rules: else_last(m, &rules.wildcard),
+        })
+    })
+}
+
+/// The rules in source order, with the (at most one) `else` rule moved last.
+fn else_last(m: &Machine, rules: &[RuleId]) -> Vec<RuleId> {
+    let (mut out, otherwise): (Vec<RuleId>, Vec<RuleId>) =
+        rules.iter().partition(|r| !m.rules[r.index()].otherwise);
+    out.extend(otherwise);
+    out
 }
 
 /// One cell: the choices of its reached rules in lookup order, with their regions.

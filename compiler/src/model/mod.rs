@@ -99,8 +99,10 @@ pub enum Scope {
 /// The rules of one scope, indexed by the event they name.
 #[derive(Clone, Debug, Default)]
 pub struct ScopeRules {
-    /// Rules naming each event, sorted by event id.
+    /// Rules naming each event, sorted by event id (`preempt` rules are apart).
     pub named: Vec<(EventId, Vec<RuleId>)>,
+    /// `preempt` rules naming each event, sorted by event id (groups only).
+    pub preempt: Vec<(EventId, Vec<RuleId>)>,
     /// `_` rules (and, in a clocked machine, every rule).
     pub wildcard: Vec<RuleId>,
 }
@@ -215,6 +217,11 @@ pub struct Rule {
     pub guard_span: Span,
     /// The state or group whose body holds it.
     pub scope: Scope,
+    /// `preempt`: considered before any rule of the group's members.
+    pub preempt: bool,
+    /// `else`: fires for every valuation the scope's other rules for its events leave
+    /// (its `guard` is `TRUE`; the lowering places it last).
+    pub otherwise: bool,
     /// What fires it.
     pub trigger: Trigger,
     /// The guard as written (`None`: always true).
@@ -238,6 +245,8 @@ pub enum Prop {
     Output(OutputId),
     /// An action ran in the step.
     Action(ActionId),
+    /// The step consumed this event (false at step 0).
+    Event(EventId),
     /// The state after the step is this one.
     InState(StateId),
     /// The state after the step is inside this group.

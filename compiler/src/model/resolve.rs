@@ -277,6 +277,32 @@ impl<'a> Resolver<'a> {
                 DeclKind::Recover { target, except } => recover.push((target, except, d.span)),
             }
         }
+        // An event shares no namespace with inputs, outputs and actions, but a property
+        // names both kinds: one name for both would be ambiguous there.
+        for ev in &self.events {
+            if let Some((sig, first)) = self.signals.get(&ev.name) {
+                let kind = match sig {
+                    Signal::Input(_) => "an input",
+                    Signal::Output(_) => "an output",
+                    Signal::Action(_) => "an action",
+                };
+                let mut diag = Diagnostic::name_error(
+                    ev.span,
+                    format!("`{}` is both an event and {kind}", ev.name),
+                );
+                diag.related
+                    .push((*first, format!("declared as {kind} here")));
+                diag.notes.push(
+                    "a property may name events, inputs, outputs and actions alike, so one \
+                     name cannot be two of them"
+                        .into(),
+                );
+                diag.helps.push(
+                    "rename one of them (events are UpperCamelCase, the others snake_case)".into(),
+                );
+                self.errors.push(diag);
+            }
+        }
         if self.clocked {
             self.events.push(Item {
                 name: "Tick".into(),
@@ -636,7 +662,10 @@ impl<'a> Resolver<'a> {
         let mut enter = Vec::new();
         let mut leave = Vec::new();
         let mut named: FxMap<EventId, Vec<RuleId>> = FxMap::default();
+        let mut preempt: FxMap<EventId, Vec<RuleId>> = FxMap::default();
         let mut wildcard = Vec::new();
+        // The `else` rules seen so far: per event (`None`: among the `_` rules), where.
+        let mut elses: FxMap<Option<EventId>, Span> = FxMap::default();
         for b in body {
             match b {
                 Body::Enter(list, _) => {
@@ -647,13 +676,46 @@ impl<'a> Resolver<'a> {
                     let mut a = self.actions_ref(list);
                     leave.append(&mut a);
                 }
-                Body::Rule(rule) => {
-                    if let Some(rule) = self.resolve_rule(rule, scope) {
+                Body::Rule(ast_rule) => {
+                    if let Some(rule) = self.resolve_rule(ast_rule, scope) {
                         let id = RuleId::from_index(self.rules.len());
+                        if let Some(at) = ast_rule.otherwise {
+                            let keys: Vec<Option<EventId>> = match &rule.trigger {
+                                Trigger::Events(evs) => evs.iter().map(|e| Some(*e)).collect(),
+                                Trigger::Wildcard | Trigger::Tick => vec![None],
+                            };
+                            for k in keys {
+                                if let Some(first) = elses.insert(k, at) {
+                                    let what = match k {
+                                        Some(e) => {
+                                            format!("event `{}`", self.events[e.index()].name)
+                                        }
+                                        None if self.clocked => "the clock tick".to_string(),
+                                        None => "the `_` rules".to_string(),
+                                    };
+                                    let mut d = Diagnostic::name_error(
+                                        at,
+                                        format!("a second `else` rule for {what} in this scope"),
+                                    );
+                                    d.related.push((first, "the first `else` rule".into()));
+                                    d.helps.push(
+                                        "keep one `else` per event and scope: it takes every \
+                                         valuation the scope's other rules leave"
+                                            .into(),
+                                    );
+                                    self.errors.push(d);
+                                }
+                            }
+                        }
                         match &rule.trigger {
                             Trigger::Events(evs) => {
+                                let list = if rule.preempt {
+                                    &mut preempt
+                                } else {
+                                    &mut named
+                                };
                                 for e in evs {
-                                    named.entry(*e).or_default().push(id);
+                                    list.entry(*e).or_default().push(id);
                                 }
                             }
                             Trigger::Wildcard | Trigger::Tick => wildcard.push(id),
@@ -663,13 +725,76 @@ impl<'a> Resolver<'a> {
                 }
             }
         }
-        let mut named: Vec<(EventId, Vec<RuleId>)> = named.into_iter().collect();
-        named.sort_unstable_by_key(|(e, _)| *e);
-        (enter, leave, ScopeRules { named, wildcard })
+        let sorted = |map: FxMap<EventId, Vec<RuleId>>| {
+            let mut v: Vec<(EventId, Vec<RuleId>)> = map.into_iter().collect();
+            v.sort_unstable_by_key(|(e, _)| *e);
+            v
+        };
+        (
+            enter,
+            leave,
+            ScopeRules {
+                named: sorted(named),
+                preempt: sorted(preempt),
+                wildcard,
+            },
+        )
     }
 
     fn resolve_rule(&mut self, rule: &ast::RuleAst, scope: Scope) -> Option<Rule> {
         let before = self.errors.len();
+        if let Some(at) = rule.preempt {
+            if let Scope::State(_) = scope {
+                let mut d = Diagnostic::name_error(
+                    at,
+                    "`preempt` in a state: only a group's rules can preempt its members' rules",
+                );
+                d.helps.push(
+                    "move the rule into a group around the state, or drop `preempt` (a \
+                     state's own rules already come before its groups' rules)"
+                        .into(),
+                );
+                self.errors.push(d);
+            }
+            match &rule.trigger {
+                Some(ast::Trigger::Wildcard(w)) => {
+                    let mut d =
+                        Diagnostic::name_error(*w, "`preempt _`: a preempt rule names its events");
+                    d.helps.push(
+                        "name the events the rule must take from every member \
+                         (`preempt Stop | Fault => Idle;`)"
+                            .into(),
+                    );
+                    self.errors.push(d);
+                }
+                None if self.clocked => {
+                    let mut d = Diagnostic::name_error(
+                        at,
+                        "`preempt` in a clocked machine: a preempt rule names its events, \
+                         and a clocked machine's rules have no trigger",
+                    );
+                    d.helps.push(
+                        "in a clocked machine a group's rules apply on each tick; guard the \
+                         members' rules instead"
+                            .into(),
+                    );
+                    self.errors.push(d);
+                }
+                _ => {}
+            }
+            if let Some(e) = rule.otherwise {
+                let mut d = Diagnostic::name_error(
+                    e,
+                    "`preempt ... else`: a preempt rule cannot be an `else` rule",
+                );
+                d.helps.push(
+                    "give the preempt rule a guard (or none), and put the `else` rule among \
+                     the members' rules"
+                        .into(),
+                );
+                self.errors.push(d);
+            }
+        }
         let trigger = match (&rule.trigger, self.clocked) {
             (None, true) => Trigger::Tick,
             (None, false) => {
@@ -741,8 +866,15 @@ impl<'a> Resolver<'a> {
         }
         Some(Rule {
             span: rule.span,
-            guard_span: rule.guard.as_ref().map_or(rule.span, Expr::full_span),
+            guard_span: rule
+                .guard
+                .as_ref()
+                .map(Expr::full_span)
+                .or(rule.otherwise)
+                .unwrap_or(rule.span),
             scope,
+            preempt: rule.preempt.is_some(),
+            otherwise: rule.otherwise.is_some(),
             trigger,
             guard_expr,
             guard,
@@ -807,18 +939,21 @@ impl<'a> Resolver<'a> {
                 Some((Signal::Input(x), _)) => Prop::Input(*x),
                 Some((Signal::Output(x), _)) => Prop::Output(*x),
                 Some((Signal::Action(x), _)) => Prop::Action(*x),
-                None if self.inputs_over_limit => return None,
-                None => {
-                    self.undefined(
-                        i,
-                        format!(
-                            "undefined name `{}`: expected an input, output or action",
-                            i.name
-                        ),
-                        &[Kind::Input, Kind::Output, Kind::Action],
-                    );
-                    return None;
-                }
+                None => match self.events.iter().position(|e| e.name == i.name) {
+                    Some(e) => Prop::Event(EventId::from_index(e)),
+                    None if self.inputs_over_limit => return None,
+                    None => {
+                        self.undefined(
+                            i,
+                            format!(
+                                "undefined name `{}`: expected an event, input, output or action",
+                                i.name
+                            ),
+                            &[Kind::Event, Kind::Input, Kind::Output, Kind::Action],
+                        );
+                        return None;
+                    }
+                },
             },
             Expr::In(i) => match self.places.get(&i.name) {
                 Some((Place::State(s), _)) => Prop::InState(*s),

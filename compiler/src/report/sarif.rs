@@ -88,6 +88,19 @@ pub fn lint_help(lint: Lint) -> &'static str {
              trace from the start state that shows it, one step per line in the form \
              `detent run --trace` reads."
         }
+        Lint::DeadRule => {
+            "The rule's scope is reachable, but in every reachable state it applies to \
+             something else always decides first: the state (or a group nearer to it) names \
+             the event itself, a preempt rule or an earlier rule takes every valuation where \
+             its guard holds. The note names such a state. Remove the rule, or change what \
+             overrides it."
+        }
+        Lint::RepeatedAction => {
+            "When the rule fires, the step runs one action twice: say, in the rule's `do` \
+             list and in an `enter do` of its target, or in the leave actions of two scopes. \
+             The note gives the state, the event and the whole sequence. Run the action in one \
+             place."
+        }
     }
 }
 

@@ -230,10 +230,14 @@ pub enum Target {
 /// A rule as written.
 #[derive(Clone, Debug)]
 pub struct RuleAst {
+    /// `preempt`: where the keyword is written (groups only).
+    pub preempt: Option<Span>,
     /// The trigger; `None` in clocked machines.
     pub trigger: Option<Trigger>,
     /// The guard after `if`.
     pub guard: Option<Expr>,
+    /// `else` instead of a guard: where the keyword is written.
+    pub otherwise: Option<Span>,
     /// The target after `=>`.
     pub target: Target,
     /// Mealy outputs (`, emit a`).

@@ -239,8 +239,11 @@ impl<'a> P<'a> {
         }
         self.semi()?;
         Some(Body::Rule(RuleAst {
+            // `preempt` and `else` rules are left to the full parser.
+            preempt: None,
             trigger,
             guard,
+            otherwise: None,
             target,
             emit,
             actions,

@@ -13,7 +13,7 @@ pub const MAX_TERMS: usize = 1024;
 
 /// Words with a fixed meaning in the language that cannot name a state, event,
 /// input, output, action or group.
-pub const RESERVED: &[&str] = &["stay"];
+pub const RESERVED: &[&str] = &["stay", "preempt"];
 
 /// Rust's strict and reserved keywords (2021 edition, plus `gen` reserved in 2024): a
 /// name among them would not compile in generated code.

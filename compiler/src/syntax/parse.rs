@@ -37,6 +37,7 @@ mod kw {
     syn::custom_keyword!(complete);
     syn::custom_keyword!(ignore);
     syn::custom_keyword!(reject);
+    syn::custom_keyword!(preempt);
 }
 
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
@@ -885,11 +886,17 @@ fn parse_body(input: ParseStream) -> syn::Result<Body> {
 
 fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     let span = input.span();
+    let preempt = if is_one_of(&word(input), &["preempt"]) {
+        let p: kw::preempt = input.parse()?;
+        Some(p.span)
+    } else {
+        None
+    };
     let w = word(input);
     let trigger = if is_one_of(&w, &["_"]) {
         let t: Token![_] = input.parse()?;
         Some(Trigger::Wildcard(t.span))
-    } else if w.is_some() && !is_one_of(&w, &["if"]) {
+    } else if w.is_some() && !is_one_of(&w, &["if", "else"]) {
         let mut events = vec![parse_name(input, "an event name")?];
         while input.peek(Token![|]) && !input.peek(Token![||]) {
             input.parse::<Token![|]>()?;
@@ -899,18 +906,25 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     } else {
         None
     };
+    let mut otherwise = None;
     let guard = if input.peek(Token![if]) {
         input.parse::<Token![if]>()?;
         Some(parse_expr(input, false, 0, &mut 0)?)
     } else {
+        if input.peek(Token![else]) {
+            let e: Token![else] = input.parse()?;
+            otherwise = Some(e.span);
+        }
         None
     };
     if !input.peek(Token![=>]) {
-        return Err(input.error(if trigger.is_none() && guard.is_none() {
-            "expected a rule (`Event => Target;`), `enter do`, `leave do`, a state or a group"
-        } else {
-            "expected `=>`"
-        }));
+        return Err(input.error(
+            if trigger.is_none() && guard.is_none() && otherwise.is_none() {
+                "expected a rule (`Event => Target;`), `enter do`, `leave do`, a state or a group"
+            } else {
+                "expected `=>`"
+            },
+        ));
     }
     input.parse::<Token![=>]>()?;
     let target = if is_one_of(&word(input), &["stay"]) {
@@ -936,8 +950,10 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     }
     expect_semi(input)?;
     Ok(RuleAst {
+        preempt,
         trigger,
         guard,
+        otherwise,
         target,
         emit,
         actions,

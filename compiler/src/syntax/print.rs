@@ -197,6 +197,9 @@ fn print_body(out: &mut String, b: &Body, level: usize) {
 /// Prints one rule, without indentation or newline.
 pub fn print_rule(r: &RuleAst) -> String {
     let mut s = String::new();
+    if r.preempt.is_some() {
+        s.push_str("preempt ");
+    }
     match &r.trigger {
         Some(Trigger::Events(evs)) => {
             s.push_str(
@@ -212,6 +215,8 @@ pub fn print_rule(r: &RuleAst) -> String {
     }
     if let Some(g) = &r.guard {
         let _ = write!(s, "if {} ", print_expr(g));
+    } else if r.otherwise.is_some() {
+        s.push_str("else ");
     }
     s.push_str("=> ");
     match &r.target {

@@ -388,8 +388,9 @@ impl Gen<'_> {
             ),
         };
         let mut lines = wrap(
-            "Takes one event: finds the rule of the innermost scope whose guard holds (the \
-             guards read each input at most once, the first time one needs it), runs the \
+            "Takes one event: finds the rule that fires (the groups' `preempt` rules, then \
+             the innermost scope naming the event, then the innermost `_` rules; the guards \
+             read each input at most once, the first time one needs it), runs the \
              leave actions, the rule's actions and the enter actions in order, moves to the \
              target and returns the Moore outputs of the new state with the rule's Mealy \
              outputs.",
