@@ -58,7 +58,7 @@ machine Pump {
     assert_eq!(help("undefined state `Idel`"), ["did you mean `Idle`?"]);
     assert_eq!(help("undefined state `Idlle`"), ["did you mean `Idle`?"]);
     assert_eq!(
-        help("undefined name `pmp`: expected an input, output or action"),
+        help("undefined name `pmp`: expected an event, input, output or action"),
         ["did you mean `pump`?"]
     );
     // Nothing close: no guess.
