@@ -1,7 +1,7 @@
 //! One function per subcommand. Each returns the process exit code.
 
 use crate::io::{self, FAILED, OK, USAGE};
-use crate::{ReportFormat, TableFormat};
+use crate::{ReportFormat, RunFormat, TableFormat};
 use detent_compiler::check::Options;
 use detent_compiler::diag::Lint;
 use detent_compiler::driver;
@@ -100,8 +100,8 @@ pub fn table(file: &Path, machine: Option<&str>, format: TableFormat) -> u8 {
     OK
 }
 
-/// `detent run FILE [--machine NAME] --trace TRACEFILE|-`
-pub fn run(file: &Path, machine: Option<&str>, trace: &str) -> u8 {
+/// `detent run FILE [--machine NAME] --trace TRACEFILE|- [--format json|text]`
+pub fn run(file: &Path, machine: Option<&str>, trace: &str, format: RunFormat) -> u8 {
     // A violated property leaves the machine well defined: `run` replays its
     // counterexample on the spec as it is.
     let loaded = io::load_machines_tolerating(file, &[Lint::Property])
@@ -122,7 +122,11 @@ pub fn run(file: &Path, machine: Option<&str>, trace: &str) -> u8 {
             return USAGE;
         }
     };
-    for line in detent_compiler::trace::run_json_lines(&m, &steps) {
+    let lines = match format {
+        RunFormat::Json => detent_compiler::trace::run_json_lines(&m, &steps),
+        RunFormat::Text => crate::cmd_run_text::run_text_lines(&m, &steps),
+    };
+    for line in lines {
         io::out(line);
     }
     OK

@@ -13,6 +13,7 @@ mod cmd_gen_rust;
 mod cmd_import;
 mod cmd_logic;
 mod cmd_minimize;
+mod cmd_run_text;
 mod cmd_tour;
 mod commands;
 mod io;
@@ -57,6 +58,15 @@ pub enum TableFormat {
     Csv,
 }
 
+/// Output format of `detent run`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum RunFormat {
+    /// JSON lines (DESIGN.md; stable).
+    Json,
+    /// One readable line per step.
+    Text,
+}
+
 #[derive(Subcommand, Debug)]
 enum Command {
     /// Check specs for completeness, determinism, reachability, dead ends and properties.
@@ -95,6 +105,9 @@ enum Command {
         /// Trace file (one step per line: `Event input=0|1 ...`), or `-` for stdin.
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
+        /// Output format: JSON lines (stable), or one readable line per step.
+        #[arg(long, value_enum, default_value_t = RunFormat::Json)]
+        format: RunFormat,
     },
     /// Minimize: merge equivalent states, drop unreachable ones.
     Minimize {
@@ -190,7 +203,8 @@ fn main() -> ExitCode {
             file,
             machine,
             trace,
-        } => commands::run(&file, machine.as_deref(), &trace),
+            format,
+        } => commands::run(&file, machine.as_deref(), &trace, format),
         Command::Gen {
             target: GenTarget::C(args),
         } => cmd_gen_c::run(&args),

@@ -7,5 +7,6 @@
 pub mod c;
 pub mod diagram;
 pub mod dot;
+pub mod js;
 pub mod rust;
 pub mod svg;

@@ -1,0 +1,82 @@
+//! `detent run --format text`: one readable line per step.
+//!
+//! ```text
+//! step 0: start in Idle; outputs: none
+//! step 1: FloatUp (pump_current_ok=1) Idle -> Pumping; outputs: pump; actions: start_timer
+//! step 2: Tick (no inputs) Pumping -> Pumping, ignored; outputs: pump; actions: none
+//! ```
+//!
+//! Each step line has the step number, the event, the inputs the trace set to 1 (an
+//! input the trace leaves out is 0, so the ones at 1 say everything), `from -> to`,
+//! `ignored` or `rejected` when no rule handled the event, every output high after the
+//! step (Moore and Mealy together, declaration order) and the actions in the order they
+//! ran. The JSON lines of DESIGN.md stay the default and the stable format; this one is
+//! for reading.
+
+use detent_compiler::interp::{Outcome, StepResult};
+use detent_compiler::model::Machine;
+use detent_compiler::trace::TraceStep;
+
+/// The text lines of a run of `steps` from the start state.
+pub fn run_text_lines(m: &Machine, steps: &[TraceStep]) -> Vec<String> {
+    let mut out = Vec::with_capacity(steps.len() + 1);
+    let start = &m.states[m.start.index()];
+    out.push(format!(
+        "step 0: start in {}; outputs: {}",
+        start.name,
+        names(
+            start
+                .moore
+                .iter()
+                .map(|o| m.outputs[o.index()].name.as_str())
+        )
+    ));
+    let mut state = m.start;
+    for (i, s) in steps.iter().enumerate() {
+        let r = m.step(state, s.event, &s.inputs);
+        state = r.to;
+        out.push(step_line(m, i + 1, s, &r));
+    }
+    out
+}
+
+fn names<'a>(items: impl Iterator<Item = &'a str>) -> String {
+    let v: Vec<&str> = items.collect();
+    if v.is_empty() {
+        "none".to_string()
+    } else {
+        v.join(", ")
+    }
+}
+
+fn step_line(m: &Machine, n: usize, s: &TraceStep, r: &StepResult) -> String {
+    let given: Vec<String> = s
+        .inputs
+        .iter()
+        .enumerate()
+        .filter(|(_, v)| **v)
+        .map(|(i, _)| format!("{}=1", m.inputs[i].name))
+        .collect();
+    let given = if given.is_empty() {
+        "no inputs".to_string()
+    } else {
+        given.join(" ")
+    };
+    let unhandled = match r.outcome {
+        Outcome::Fired(_) => "",
+        Outcome::Ignored => ", ignored",
+        Outcome::Rejected => ", rejected",
+    };
+    format!(
+        "step {n}: {} ({given}) {} -> {}{unhandled}; outputs: {}; actions: {}",
+        m.event_name(r.event),
+        m.states[r.from.index()].name,
+        m.states[r.to.index()].name,
+        names(
+            r.outputs()
+                .iter()
+                .map(|o| m.outputs[o.index()].name.as_str())
+        ),
+        names(r.actions.iter().map(|a| m.actions[a.index()].name.as_str())),
+    )
+}
