@@ -80,7 +80,7 @@ def shown(driver):
         for e in driver.find_elements(By.CSS_SELECTOR, "#lamps .lamp")
         if e.get_attribute("aria-checked") == "true"
     ]
-    actions = [e.text for e in driver.find_elements(By.CSS_SELECTOR, "#last-actions li")]
+    actions = [e.text for e in driver.find_elements(By.CSS_SELECTOR, "#last-actions li:not(.none)")]
     return {"state": state, "outputs": lamps, "actions": actions}
 
 
