@@ -104,16 +104,25 @@ fn page(file: &Path, machine: Option<&str>, live: Option<u64>) -> Result<String,
     let errors = report.errors_except(&[Lint::Property]);
     if !errors.is_empty() {
         let src = Source::new(&report.file, &report.text);
-        let mut out: Vec<String> = errors.iter().map(|d| render::render_text(d, &src)).collect();
+        let mut out: Vec<String> = errors
+            .iter()
+            .map(|d| render::render_text(d, &src))
+            .collect();
         out.push(render::summary_text(errors.len(), 0));
         return Err(Failure::Spec(out.join("\n")));
     }
     let mut reports = report.machines;
     let pick = match machine {
-        Some(n) => reports.iter().position(|m| m.name.as_deref() == Some(n)).ok_or_else(|| {
-            let names: Vec<String> = reports.iter().filter_map(|m| m.name.clone()).collect();
-            Failure::Usage(format!("`{name}` has no machine `{n}`; it has: {}", names.join(", ")))
-        })?,
+        Some(n) => reports
+            .iter()
+            .position(|m| m.name.as_deref() == Some(n))
+            .ok_or_else(|| {
+                let names: Vec<String> = reports.iter().filter_map(|m| m.name.clone()).collect();
+                Failure::Usage(format!(
+                    "`{name}` has no machine `{n}`; it has: {}",
+                    names.join(", ")
+                ))
+            })?,
         None => match reports.len() {
             1 => 0,
             0 => return Err(Failure::Usage(format!("`{name}` defines no machine"))),
@@ -160,7 +169,12 @@ fn rules(m: &Machine) -> serde_json::Value {
     )
 }
 
-fn machine_page(file: &str, m: &Machine, findings: &[DiagnosticEntry], live: Option<u64>) -> String {
+fn machine_page(
+    file: &str,
+    m: &Machine,
+    findings: &[DiagnosticEntry],
+    live: Option<u64>,
+) -> String {
     let drawing = svg::render_svg(&diagram::to_diagram(m));
     // Inline SVG in HTML needs neither the XML declaration nor the namespace address.
     let drawing = drawing
@@ -184,7 +198,11 @@ fn machine_page(file: &str, m: &Machine, findings: &[DiagnosticEntry], live: Opt
         "table": table,
         "svg": drawing,
     });
-    fill(&format!("{} · detent view", m.name), &script_json(&data), &js::to_js(m))
+    fill(
+        &format!("{} · detent view", m.name),
+        &script_json(&data),
+        &js::to_js(m),
+    )
 }
 
 fn fill(title: &str, data: &str, sim: &str) -> String {
@@ -199,7 +217,11 @@ fn fill(title: &str, data: &str, sim: &str) -> String {
 /// once the file is saved again.
 fn error_page(file: &str, errors: &str, version: u64) -> String {
     let data = serde_json::json!({ "file": file, "live": version, "errors": errors });
-    fill(&format!("{file} · detent view"), &script_json(&data), "null")
+    fill(
+        &format!("{file} · detent view"),
+        &script_json(&data),
+        "null",
+    )
 }
 
 fn serve(args: &ViewArgs) -> u8 {
@@ -289,4 +311,3 @@ fn watch(file: &Path, version: Arc<AtomicU64>) -> notify::Result<notify::Recomme
     w.watch(&folder, notify::RecursiveMode::NonRecursive)?;
     Ok(w)
 }
-
