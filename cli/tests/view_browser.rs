@@ -169,3 +169,164 @@ fn clicking_a_trace_through_example_pages_matches_detent_run() {
         );
     }
 }
+
+fn browser(args: &[&std::ffi::OsStr]) -> Value {
+    let o = Command::new(python())
+        .arg(root().join("tests/python/browser.py"))
+        .args(args)
+        .output()
+        .unwrap();
+    assert!(
+        o.status.success(),
+        "browser.py {args:?} failed (scripts/test.sh installs chromium, chromium-driver and selenium):\n{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    serde_json::from_slice(&o.stdout).unwrap()
+}
+
+const PUMP: &str = "machine Pump {
+    events Start, Stop, Tick;
+    inputs dry;
+    outputs motor, alarm;
+    actions beep;
+    start Idle;
+
+    never alarm;
+
+    state Idle { Start => Running; Stop | Tick => stay; }
+    state Running emit motor {
+        Start => stay;
+        Stop => Idle, do beep;
+        Tick if dry => Dry;
+        Tick if !dry => stay;
+    }
+    state Dry emit alarm { Start | Stop | Tick => Idle, do beep; }
+}
+";
+
+fn detent_json(args: &[&str]) -> Value {
+    let o = Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(args)
+        .output()
+        .unwrap();
+    serde_json::from_slice(&o.stdout)
+        .unwrap_or_else(|e| panic!("{args:?}: {e}: {}", String::from_utf8_lossy(&o.stdout)))
+}
+
+#[test]
+fn a_counterexample_and_an_equiv_witness_replay_step_by_step() {
+    let tmp = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("replay");
+    std::fs::create_dir_all(&tmp).unwrap();
+    let spec = tmp.join("pump.detent");
+    std::fs::write(&spec, PUMP).unwrap();
+    let spec_s = spec.to_str().unwrap();
+    let page = tmp.join("pump.html");
+    let st = Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(["view", spec_s, "-o"])
+        .arg(&page)
+        .status()
+        .unwrap();
+    assert!(st.success(), "a violated property still makes a page");
+    // The counterexample of `check`, as `detent run` replays it.
+    let report = detent_json(&["check", spec_s, "--format", "json"]);
+    let trace = report["machines"][0]["diagnostics"][0]["trace"].clone();
+    let trace_file = tmp.join("cx.trace");
+    std::fs::write(&trace_file, trace.to_string()).unwrap();
+    let want = run_says(spec_s, &trace_file);
+    let got = browser(&["replay".as_ref(), page.as_os_str(), "finding".as_ref()]);
+    assert_eq!(got["steps"], Value::Array(want), "counterexample replay");
+    assert_eq!(
+        got["steps"].as_array().unwrap().last().unwrap()["outputs"],
+        json!(["alarm"])
+    );
+    assert!(
+        got["marked"].as_u64().unwrap() >= 1,
+        "the finding marks its state: {got}"
+    );
+
+    // An `equiv` witness, pasted as equiv's JSON output.
+    let a = tmp.join("a.detent");
+    let b = tmp.join("b.detent");
+    let plain = PUMP.replace("never alarm;", "");
+    std::fs::write(&a, &plain).unwrap();
+    std::fs::write(
+        &b,
+        plain.replace("Tick if !dry => stay;", "Tick if !dry => Idle;"),
+    )
+    .unwrap();
+    let eq = detent_json(&[
+        "equiv",
+        a.to_str().unwrap(),
+        b.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(eq["equivalent"], json!(false));
+    let w = tmp.join("w.json");
+    std::fs::write(&w, eq.to_string()).unwrap();
+    let wt = tmp.join("w.trace");
+    std::fs::write(&wt, eq["witness"].to_string()).unwrap();
+    let page_a = tmp.join("a.html");
+    assert!(Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(["view", a.to_str().unwrap(), "-o"])
+        .arg(&page_a)
+        .status()
+        .unwrap()
+        .success());
+    let got = browser(&["replay".as_ref(), page_a.as_os_str(), w.as_os_str()]);
+    assert_eq!(
+        got["steps"],
+        Value::Array(run_says(a.to_str().unwrap(), &wt)),
+        "witness replay"
+    );
+}
+
+#[test]
+fn a_save_reloads_the_served_page_and_keeps_the_trace() {
+    use std::io::BufRead;
+    let tmp = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("live");
+    std::fs::create_dir_all(&tmp).unwrap();
+    let spec = tmp.join("pump.detent");
+    std::fs::write(&spec, PUMP).unwrap();
+    let renamed = tmp.join("renamed.detent.new");
+    std::fs::write(&renamed, PUMP.replace("machine Pump", "machine Pump2")).unwrap();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(["view", "--port", "0"])
+        .arg(&spec)
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let mut line = String::new();
+    std::io::BufReader::new(child.stdout.take().unwrap())
+        .read_line(&mut line)
+        .unwrap();
+    let url = line
+        .split_whitespace()
+        .find(|w| w.starts_with("http://127.0.0.1:"))
+        .unwrap_or_else(|| panic!("no address in {line:?}"))
+        .to_string();
+    let got = Command::new(python())
+        .arg(root().join("tests/python/browser.py"))
+        .args(["live", &url])
+        .arg(&spec)
+        .arg(&renamed)
+        .output()
+        .unwrap();
+    let _ = child.kill();
+    let _ = child.wait();
+    assert!(
+        got.status.success(),
+        "{}",
+        String::from_utf8_lossy(&got.stderr)
+    );
+    let got: Value = serde_json::from_slice(&got.stdout).unwrap();
+    assert_eq!(
+        got["title"],
+        json!("Pump2"),
+        "the page shows the saved machine"
+    );
+    assert_eq!(got["status"], json!("reloaded; kept 2 of 2 trace steps"));
+    assert_eq!(got["before"], got["after"]);
+    assert_eq!(got["after"]["state"], json!("Running"));
+}

@@ -4,6 +4,14 @@
         Opens the page, waits until it sets `window.detentDone`, prints
         `window.detentResults` as JSON.
 
+    browser.py replay PAGE.html finding|TRACEFILE
+        Replays the first finding's counterexample, or pastes TRACEFILE into the trace
+        box, and steps through it with the `n` key; prints what the page shows.
+
+    browser.py live URL SPEC NEW_SPEC
+        On a page served by `detent view`: two Steps, then NEW_SPEC is saved over SPEC;
+        waits for the reload and prints the page's status and what it shows.
+
     browser.py click PAGE.html STEPS.json SCREENSHOT.png
         Opens a `detent view -o` page and plays each step of STEPS.json
         (`[{"event": "E", "inputs": {"a": true}}, ...]`) through its controls as a user
@@ -107,6 +115,56 @@ def click(driver, page, steps_file, shot):
     print(json.dumps(seen))
 
 
+def replay(driver, page, source):
+    """Replays a finding's counterexample (`source` = "finding") or the trace text of a
+    file pasted into the trace box, one step per `n` key; prints what the page shows
+    after each step, and how many diagram elements the first finding marks."""
+    driver.get(Path(page).resolve().as_uri())
+    WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "step-button"))
+    first = driver.find_elements(By.CSS_SELECTOR, "#findings button[aria-pressed]")
+    marked = 0
+    if first:
+        first[0].click()
+        marked = len(driver.find_elements(By.CSS_SELECTOR, "#diagram .flagged"))
+    if source == "finding":
+        driver.find_element(By.XPATH, "//button[text()='Replay its counterexample']").click()
+    else:
+        box = driver.find_element(By.ID, "trace-text")
+        box.clear()
+        box.send_keys(Path(source).read_text())
+        driver.find_element(By.ID, "trace-replay").click()
+    err = driver.find_element(By.ID, "trace-error").text
+    if err:
+        raise SystemExit(f"error: the page refused the trace: {err}")
+    seen = [shown(driver)]
+    body = driver.find_element(By.TAG_NAME, "body")
+    while driver.find_element(By.ID, "replay-next").is_enabled():
+        body.send_keys("n")
+        seen.append(shown(driver))
+        if len(seen) > 1000:
+            raise SystemExit("error: the replay does not end")
+    status = driver.find_element(By.ID, "replay-status").text
+    print(json.dumps({"steps": seen, "marked": marked, "status": status}))
+
+
+def live(driver, url, spec, new_spec):
+    """On a served page: two Steps (first event, no inputs), then saves NEW_SPEC over
+    SPEC and waits for the page to reload; prints its status line and what it shows."""
+    driver.get(url)
+    WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "step-button"))
+    body = driver.find_element(By.TAG_NAME, "body")
+    body.send_keys("s")
+    body.send_keys("s")
+    before = shown(driver)
+    Path(spec).write_text(Path(new_spec).read_text())
+    WebDriverWait(driver, 30).until(
+        lambda d: "reloaded" in d.find_element(By.ID, "live-status").text
+    )
+    status = driver.find_element(By.ID, "live-status").text
+    title = driver.find_element(By.ID, "title").text
+    print(json.dumps({"before": before, "after": shown(driver), "status": status, "title": title}))
+
+
 def main(argv):
     if len(argv) < 3:
         raise SystemExit(__doc__)
@@ -115,6 +173,10 @@ def main(argv):
         try:
             if argv[1] == "results":
                 results(driver, argv[2])
+            elif argv[1] == "live" and len(argv) == 5:
+                live(driver, argv[2], argv[3], argv[4])
+            elif argv[1] == "replay" and len(argv) == 4:
+                replay(driver, argv[2], argv[3])
             elif argv[1] == "click" and len(argv) == 5:
                 click(driver, argv[2], argv[3], argv[4])
             else:

@@ -309,6 +309,8 @@
       if (t.startsWith("[") || t.startsWith("{")) {
         let v;
         try { v = JSON.parse(t); } catch (e) { return { error: `${where}: invalid JSON: ${e.message}` }; }
+        // `equiv --format json` prints {"equivalent": false, "witness": [...], ...}.
+        if (v && !Array.isArray(v) && Array.isArray(v.witness)) v = v.witness;
         for (const s of Array.isArray(v) ? v : [v]) {
           const st = stepOf(s, where);
           if (st.error) return st;
