@@ -1,11 +1,10 @@
 //! `detent view FILE [--machine NAME] [--port N] [-o PAGE.html]`: the machine as a page
 //! to click through (DESIGN.md, "The viewer").
 //!
-//! The page is one self-contained HTML file: the diagram (`emit::svg`, inline), the
-//! findings of `check` (DESIGN.md's JSON entries), the state table (`table --format
-//! json`), and the simulator (`emit::js`, emitted from the lowered form). The page's
-//! own HTML, CSS and script are in `cli/src/view/` and embedded with `include_str!`; it
-//! loads nothing from anywhere.
+//! The page is one self-contained HTML file, built by `detent_compiler::emit::page`
+//! (the diagram, the findings of `check`, the state table and the simulator emitted
+//! from the lowered form); this file reads the spec, writes or serves the page and
+//! watches the file.
 //!
 //! - `-o PAGE.html` writes the page (atomically) and exits.
 //! - Otherwise the page is served on 127.0.0.1 only, at the port given (default 4787;
@@ -19,19 +18,14 @@
 
 use crate::io::{self, FAILED, OK};
 use clap::Args;
-use detent_compiler::check::render::{self, line_col, Source};
+use detent_compiler::check::render::{self, Source};
 use detent_compiler::diag::Lint;
 use detent_compiler::driver;
-use detent_compiler::emit::{diagram, js, svg};
-use detent_compiler::model::Machine;
+use detent_compiler::emit::page;
 use detent_compiler::report::check::DiagnosticEntry;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Arc;
-
-const PAGE: &str = include_str!("view/page.html");
-const CSS: &str = include_str!("view/page.css");
-const SCRIPT: &str = include_str!("view/page.js");
 
 /// The default port of `detent view`.
 pub const DEFAULT_PORT: u16 = 4787;
@@ -76,21 +70,6 @@ enum Failure {
     Usage(String),
     /// The spec has errors (rendered as text).
     Spec(String),
-}
-
-/// Escapes JSON for a `<script>` element (`<` only ever appears inside strings).
-fn script_json(v: &serde_json::Value) -> String {
-    v.to_string()
-        .replace('<', "\\u003c")
-        .replace('\u{2028}', "\\u2028")
-        .replace('\u{2029}', "\\u2029")
-}
-
-fn html_escape(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
 }
 
 /// The page of a machine of `file`. `live`: the version number the page polls for
@@ -144,84 +123,7 @@ fn page(file: &Path, machine: Option<&str>, live: Option<u64>) -> Result<String,
     let m = mr
         .machine
         .ok_or_else(|| Failure::Usage(format!("`{name}`: the machine did not resolve")))?;
-    Ok(machine_page(&name, &m, &findings, live))
-}
-
-/// The rules as the page needs them: the line each starts on, and the edges
-/// (state, target) it takes, from the lowered form.
-fn rules(m: &Machine) -> serde_json::Value {
-    let mut edges: Vec<Vec<(usize, usize)>> = vec![Vec::new(); m.rules.len()];
-    for c in m.lowered.cells() {
-        for ch in &c.choices {
-            let e = (c.state.index(), ch.target.index());
-            let list = &mut edges[ch.rule.index()];
-            if !list.contains(&e) {
-                list.push(e);
-            }
-        }
-    }
-    serde_json::Value::Array(
-        m.rules
-            .iter()
-            .zip(edges)
-            .map(|(r, e)| serde_json::json!({ "line": line_col(r.span).0, "edges": e }))
-            .collect(),
-    )
-}
-
-fn machine_page(
-    file: &str,
-    m: &Machine,
-    findings: &[DiagnosticEntry],
-    live: Option<u64>,
-) -> String {
-    let drawing = svg::render_svg(&diagram::to_diagram(m));
-    // Inline SVG in HTML needs neither the XML declaration nor the namespace address.
-    let drawing = drawing
-        .lines()
-        .filter(|l| !l.starts_with("<?xml"))
-        .collect::<Vec<_>>()
-        .join("\n")
-        .replace(" xmlns=\"http://www.w3.org/2000/svg\"", "");
-    let table: serde_json::Value = serde_json::from_str(&detent_compiler::table::render(
-        m,
-        detent_compiler::table::TableFormat::Json,
-    ))
-    .unwrap_or(serde_json::Value::Null);
-    let data = serde_json::json!({
-        "file": file,
-        "machine": m.name,
-        "live": live,
-        "states": m.states.iter().map(|s| serde_json::json!({"name": s.name, "line": line_col(s.span).0})).collect::<Vec<_>>(),
-        "rules": rules(m),
-        "findings": findings,
-        "table": table,
-        "svg": drawing,
-    });
-    fill(
-        &format!("{} · detent view", m.name),
-        &script_json(&data),
-        &js::to_js(m),
-    )
-}
-
-fn fill(title: &str, data: &str, sim: &str) -> String {
-    PAGE.replace("{{TITLE}}", &html_escape(title))
-        .replace("/*{{CSS}}*/", CSS)
-        .replace("/*{{SCRIPT}}*/", SCRIPT)
-        .replace("{{DATA}}", data)
-        .replace("/*{{SIM}}*/", sim)
-}
-
-/// The page shown while the spec has errors: the errors, and the poller that reloads
-/// once the file is saved again.
-fn error_page(file: &str, errors: &str, version: u64) -> String {
-    let data = serde_json::json!({ "file": file, "live": version, "errors": errors });
-    fill(
-        &format!("{file} · detent view"),
-        &script_json(&data),
-        "null",
-    )
+    Ok(page::machine_page(&name, &m, &findings, live))
 }
 
 fn serve(args: &ViewArgs) -> u8 {
@@ -267,7 +169,7 @@ fn serve(args: &ViewArgs) -> u8 {
                 let body = match page(&args.file, args.machine.as_deref(), Some(v)) {
                     Ok(html) => html,
                     Err(Failure::Usage(msg)) | Err(Failure::Spec(msg)) => {
-                        error_page(&args.file.display().to_string(), &msg, v)
+                        page::error_page(&args.file.display().to_string(), &msg, v)
                     }
                 };
                 (200, "text/html; charset=utf-8", body)

@@ -13,7 +13,6 @@ mod cmd_gen_rust;
 mod cmd_import;
 mod cmd_logic;
 mod cmd_minimize;
-mod cmd_run_text;
 mod cmd_tour;
 mod cmd_view;
 mod commands;

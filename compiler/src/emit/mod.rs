@@ -8,5 +8,6 @@ pub mod c;
 pub mod diagram;
 pub mod dot;
 pub mod js;
+pub mod page;
 pub mod rust;
 pub mod svg;

@@ -1,4 +1,5 @@
-//! `detent run --format text`: one readable line per step.
+//! `detent run --format text`: one readable line per step (the JSON lines are in
+//! [`crate::trace`]).
 //!
 //! ```text
 //! step 0: start in Idle; outputs: none
@@ -13,9 +14,9 @@
 //! ran. The JSON lines of DESIGN.md stay the default and the stable format; this one is
 //! for reading.
 
-use detent_compiler::interp::{Outcome, StepResult};
-use detent_compiler::model::Machine;
-use detent_compiler::trace::TraceStep;
+use crate::interp::{Outcome, StepResult};
+use crate::model::Machine;
+use crate::trace::TraceStep;
 
 /// The text lines of a run of `steps` from the start state.
 pub fn run_text_lines(m: &Machine, steps: &[TraceStep]) -> Vec<String> {
