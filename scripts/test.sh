@@ -5,7 +5,8 @@
 #
 # Debian packages: iverilog (Verilog simulation), gcc-arm-none-eabi (Cortex-M
 # cross-builds), graphviz (DOT parsing), cppcheck (C static analysis), librsvg2-bin
-# (SVG rendering). Python packages (sympy, automata-lib) go into .venv/. Nothing is
+# (SVG rendering), chromium and chromium-driver (the viewer, tested in headless Chromium).
+# Python packages (sympy, automata-lib, selenium) go into .venv/. Nothing is
 # skipped: a tool that cannot be installed makes this script fail and say why.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -15,7 +16,8 @@ say() { printf '\n== %s\n' "$*"; }
 say "Debian packages"
 missing=()
 for pair in iverilog:iverilog arm-none-eabi-gcc:gcc-arm-none-eabi arm-none-eabi-size:binutils-arm-none-eabi \
-            dot:graphviz cppcheck:cppcheck rsvg-convert:librsvg2-bin gcc:gcc; do
+            dot:graphviz cppcheck:cppcheck rsvg-convert:librsvg2-bin gcc:gcc \
+            chromium:chromium chromedriver:chromium-driver; do
   tool=${pair%%:*}; pkg=${pair#*:}
   command -v "$tool" >/dev/null 2>&1 || missing+=("$pkg")
 done
@@ -25,7 +27,8 @@ if [ ${#missing[@]} -gt 0 ]; then
   $SUDO apt-get update -qq
   DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${missing[@]}" >/dev/null
 fi
-for tool in iverilog vvp arm-none-eabi-gcc arm-none-eabi-size dot cppcheck rsvg-convert gcc; do
+for tool in iverilog vvp arm-none-eabi-gcc arm-none-eabi-size dot cppcheck rsvg-convert gcc \
+            chromium chromedriver; do
   command -v "$tool" >/dev/null 2>&1 || { echo "error: $tool is still missing after installing"; exit 1; }
 done
 

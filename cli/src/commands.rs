@@ -124,7 +124,7 @@ pub fn run(file: &Path, machine: Option<&str>, trace: &str, format: RunFormat) -
     };
     let lines = match format {
         RunFormat::Json => detent_compiler::trace::run_json_lines(&m, &steps),
-        RunFormat::Text => detent_compiler::trace::run_text_lines(&m, &steps),
+        RunFormat::Text => detent_compiler::trace_text::run_text_lines(&m, &steps),
     };
     for line in lines {
         io::out(line);

@@ -15,6 +15,7 @@ mod cmd_import;
 mod cmd_logic;
 mod cmd_minimize;
 mod cmd_tour;
+mod cmd_view;
 mod commands;
 mod io;
 
@@ -106,7 +107,7 @@ enum Command {
         /// or `-` for stdin.
         #[arg(long, value_name = "TRACEFILE")]
         trace: String,
-        /// Output format: JSON lines (stable; see DESIGN.md) or text.
+        /// Output format: JSON lines (stable), or one readable line per step.
         #[arg(long, value_enum, default_value_t = RunFormat::Json)]
         format: RunFormat,
     },
@@ -171,6 +172,8 @@ enum Command {
     },
     /// State assignment, minimized flip-flop and output equations, gate costs, Verilog.
     Logic(cmd_logic::LogicArgs),
+    /// Show the machine as a page to click through: served live on 127.0.0.1, or `-o`.
+    View(cmd_view::ViewArgs),
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -214,6 +217,7 @@ fn main() -> ExitCode {
             target: GenTarget::Rust(args),
         } => cmd_gen_rust::run(&args),
         Command::Logic(args) => cmd_logic::run(&args),
+        Command::View(args) => cmd_view::run(&args),
         Command::Minimize {
             file,
             machine,

@@ -191,11 +191,11 @@ fn run_prints_the_reset_record_in_text_too() {
     assert_eq!(
         lines,
         [
-            "   0  start `Closed`  moore []",
-            "   1  `Closed` --Open--> `Opening` (handled)  mealy []  moore [motor_up]  actions []",
-            "   2  `Opening` --Jam--> `Jammed` (handled)  mealy []  moore [jam_lamp]  actions []",
-            "   2  reset to `Closed`  moore []",
-            "   3  `Closed` --Open--> `Opening` (handled)  mealy []  moore [motor_up]  actions []",
+            "step 0: start in Closed; outputs: none",
+            "step 1: Open (no inputs) Closed -> Opening; outputs: motor_up; actions: none",
+            "step 2: Jam (no inputs) Opening -> Jammed; outputs: jam_lamp; actions: none",
+            "step 2: reset to Closed; outputs: none",
+            "step 3: Open (no inputs) Closed -> Opening; outputs: motor_up; actions: none",
         ]
     );
     let json = replay(g, trace);

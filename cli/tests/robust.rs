@@ -484,7 +484,19 @@ fn invocations(
             vec![s("check"), p(spec), s("--format"), s("sarif")],
         ],
         "table" => vec![vec![s("table"), p(spec), s("--format"), s("csv")]],
-        "run" => vec![vec![s("run"), p(spec), s("--trace"), p(trace)]],
+        "run" => vec![
+            vec![s("run"), p(spec), s("--trace"), p(trace)],
+            vec![
+                s("run"),
+                p(spec),
+                s("--trace"),
+                p(trace),
+                s("--format"),
+                s("text"),
+            ],
+        ],
+        // Served mode runs until stopped; the page it serves is the one `-o` writes.
+        "view" => vec![vec![s("view"), p(spec), s("-o"), p(&out.join("m.html"))]],
         "minimize" => vec![
             vec![s("minimize"), p(spec), s("--format"), s("spec")],
             vec![s("minimize"), p(spec), s("--format"), s("json")],

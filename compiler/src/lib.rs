@@ -31,3 +31,4 @@ mod test_support;
 pub mod testing;
 pub mod tour;
 pub mod trace;
+pub mod trace_text;

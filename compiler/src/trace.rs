@@ -44,8 +44,8 @@
 //! A restart prints `{"step":k,"reset":true,"state":..,"moore":[..]}`, `k` being the
 //! number of the step before it (like step 0, the line shows the state after `k` steps
 //! and a restart); the step after it is `k + 1`, so step numbers count events, as a
-//! tour's summary does. [`run_text_lines`] is the same run as aligned text
-//! (`run --format text`).
+//! tour's summary does. [`crate::trace_text::run_text_lines`] is the same run as
+//! readable text (`run --format text`).
 //!
 //! Cost: parsing is linear in the trace's length (name lookups are linear scans over the
 //! machine's events and inputs, which the limits keep small per lookup); running is one
@@ -150,17 +150,6 @@ pub fn run_json_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
     run_lines(m, entries).iter().map(RunLine::to_json).collect()
 }
 
-/// Runs the trace and renders it as text, one line per step (`run --format text`):
-///
-/// ```text
-///    0  start `Idle`  moore []
-///    1  `Idle` --FloatUp--> `Pumping` (handled)  mealy []  moore [pump]  actions [start_timer]
-///    1  reset to `Idle`  moore []
-/// ```
-pub fn run_text_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
-    run_lines(m, entries).iter().map(RunLine::text).collect()
-}
-
 /// One JSON line of `detent run` (DESIGN.md): the start line, or one step.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
 #[serde(untagged)]
@@ -250,38 +239,6 @@ impl RunLine {
     /// The line as one line of JSON.
     pub fn to_json(&self) -> String {
         crate::report::to_json(self)
-    }
-
-    /// The line as text (`run --format text`; see [`run_text_lines`]).
-    pub fn text(&self) -> String {
-        match self {
-            RunLine::Start { step, state, moore } => {
-                format!("{step:>4}  start `{state}`  moore [{}]", moore.join(", "))
-            }
-            RunLine::Reset {
-                step, state, moore, ..
-            } => format!(
-                "{step:>4}  reset to `{state}`  moore [{}]",
-                moore.join(", ")
-            ),
-            RunLine::Step {
-                step,
-                from,
-                event,
-                to,
-                handled,
-                mealy,
-                moore,
-                actions,
-            } => format!(
-                "{step:>4}  `{from}` --{event}--> `{to}` ({})  mealy [{}]  moore [{}]  \
-                 actions [{}]",
-                if *handled { "handled" } else { "not handled" },
-                mealy.join(", "),
-                moore.join(", "),
-                actions.join(", ")
-            ),
-        }
     }
 }
 
@@ -1159,12 +1116,12 @@ Stop
             r#"{"step":4,"from":"A","event":"Halt","to":"A","handled":true,"mealy":[],"moore":[],"actions":[]}"#,
         ];
         assert_eq!(run(&m, trace), expected);
-        let text = run_text_lines(&m, &parse_trace(&m, trace).unwrap());
-        assert_eq!(text[0], "   0  start `A`  moore []");
-        assert_eq!(text[2], "   1  reset to `A`  moore []");
+        let text = crate::trace_text::run_text_lines(&m, &parse_trace(&m, trace).unwrap());
+        assert_eq!(text[0], "step 0: start in A; outputs: none");
+        assert_eq!(text[2], "step 1: reset to A; outputs: none");
         assert_eq!(
             text[7],
-            "   4  `A` --Halt--> `A` (handled)  mealy []  moore []  actions []"
+            "step 4: Halt (no inputs) A -> A; outputs: none; actions: none"
         );
         // Whole tour and equiv reports replay their lists.
         let tour = r#"{"steps":[{"event":"Go","inputs":{"a":true,"b":false}},{"reset":true},{"event":"Halt","inputs":{"a":false,"b":false}}],"covers":2,"transitions":5}"#;

@@ -26,8 +26,8 @@
 //! four long `WindAlarm` edges into one. The SVG renderer draws node-to-node edges
 //! only, so it keeps the per-member edges. A rule's trigger is shown as
 //! written for the events it governs in that state: its event names (only those whose
-//! cell has it as a choice there), `_` for a wildcard rule, nothing in a clocked
-//! machine. Actions on an edge are the rule's own (`do` list); the leave and enter
+//! cell has it as a choice there), `any other event` for a wildcard rule (`_`, which a
+//! lone underscore on a drawing does not say), nothing in a clocked machine. Actions on an edge are the rule's own (`do` list); the leave and enter
 //! actions a transition also runs are shown on the states and clusters, as in the spec.
 //! `=> stay` and an external self-transition `=> S` are both drawn as a loop on `S`.
 //!
@@ -68,9 +68,10 @@ fn action_list(m: &Machine, acts: &[ActionId]) -> String {
 }
 
 /// The label of a rule as used by some state for `events`:
-/// `Ev1 | Ev2 [guard] / out1, out2; do act1, act2`. The trigger is `_` for a wildcard
-/// rule and absent in a clocked machine; a preempt rule's label starts with `preempt`;
-/// the guard in brackets only when the rule has one (`[else]` for an `else` rule); `/ ..` only when the rule has Mealy outputs or actions (`/ do act` when it has
+/// `Ev1 | Ev2 [guard] / out1, out2; do act1, act2`. The trigger is `any other event`
+/// for a `_` rule and absent in a clocked machine; a preempt rule's label starts with
+/// `preempt`; the guard in brackets only when the rule has one (`[else]` for an `else`
+/// rule); `/ ..` only when the rule has Mealy outputs or actions (`/ do act` when it has
 /// actions only).
 pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     let r = &m.rules[rule.index()];
@@ -80,7 +81,8 @@ pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     }
     match r.trigger {
         Trigger::Tick => {}
-        Trigger::Wildcard => parts.push("_".into()),
+        // `_` reads as words on a drawing: the events no other rule of the scope names.
+        Trigger::Wildcard => parts.push("any other event".into()),
         Trigger::Events(_) => parts.push(
             events
                 .iter()
@@ -351,7 +353,7 @@ mod tests {
                 "Draining -> Pumping: FloatUp",
                 "Draining -> DryRun: Tick",
                 "Draining -> Idle: ManualOff",
-                "DryRun -> DryRun: _",
+                "DryRun -> DryRun: any other event",
             ]
         );
         assert_eq!(state_detail(&m, StateId(1)), ["pump"]);

@@ -7,5 +7,7 @@
 pub mod c;
 pub mod diagram;
 pub mod dot;
+pub mod js;
+pub mod page;
 pub mod rust;
 pub mod svg;

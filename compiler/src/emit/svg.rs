@@ -13,8 +13,11 @@
 //! with their name at the top left, nested clusters inside their parent; a self-loop is
 //! a loop on the right of its node with its label beside it; edges with the same source
 //! and target are merged into one edge whose label lines are stacked. The text uses a
-//! monospace font, so the layout's width estimates hold. Output is deterministic: the
-//! same diagram gives the same bytes.
+//! monospace font, so the layout's width estimates hold. Each node is a
+//! `<g class="node" data-node="i">` and each edge (and its label) a
+//! `<g class="edge" data-from="i" data-to="j">`, node indices as in the [`Diagram`], so
+//! that `detent view` can mark the current state and the last step. Output is
+//! deterministic: the same diagram gives the same bytes.
 
 mod layout;
 
@@ -157,6 +160,17 @@ fn write_edge(svg: &mut String, e: &EdgeGeometry) {
     );
 }
 
+/// Opens the group of an edge (or of its label): `data-from` and `data-to` are the node
+/// indices, so that a page can mark the edge a step took.
+fn edge_group(svg: &mut String, e: &EdgeGeometry) {
+    let from = e.from.map_or(String::new(), |f| f.to_string());
+    let _ = writeln!(
+        svg,
+        r#"<g class="edge" data-from="{from}" data-to="{}">"#,
+        e.to
+    );
+}
+
 fn write_label(svg: &mut String, e: &EdgeGeometry) {
     let Some(lb) = e.label_box else { return };
     for (i, line) in e.labels.iter().enumerate() {
@@ -238,7 +252,9 @@ pub fn render_svg(d: &Diagram) -> String {
         write_edge(&mut svg, e);
     }
     for e in &lay.edges {
+        edge_group(&mut svg, e);
         write_edge(&mut svg, e);
+        svg.push_str("</g>\n");
     }
     svg.push_str("</g>\n");
     // Cluster names go over the edges, with a halo of the cluster's own fill, so that an
@@ -259,6 +275,7 @@ pub fn render_svg(d: &Diagram) -> String {
     svg.push_str("</g>\n<g class=\"nodes\">\n");
     for (i, nd) in d.nodes.iter().enumerate() {
         let r = lay.nodes[i];
+        let _ = writeln!(svg, r#"<g class="node" data-node="{i}">"#);
         let _ = writeln!(
             svg,
             r##"<rect x="{}" y="{}" width="{}" height="{}" rx="7" fill="#ffffff" stroke="#1f2d3d" stroke-width="1.5"/>"##,
@@ -310,10 +327,15 @@ pub fn render_svg(d: &Diagram) -> String {
                 );
             }
         }
+        svg.push_str("</g>\n");
     }
     svg.push_str("</g>\n<g class=\"labels\">\n");
     for e in &lay.edges {
-        write_label(&mut svg, e);
+        if e.label_box.is_some() {
+            edge_group(&mut svg, e);
+            write_label(&mut svg, e);
+            svg.push_str("</g>\n");
+        }
     }
     svg.push_str("</g>\n</svg>\n");
     svg

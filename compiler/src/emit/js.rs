@@ -1,0 +1,343 @@
+//! The JavaScript back end: the simulator of `detent view` (DESIGN.md, "The viewer").
+//!
+//! [`to_js`] writes one JavaScript expression that evaluates to a frozen object, the
+//! machine's simulator. It is emitted from the lowered form ([`crate::model::lower`]),
+//! like every other back end, and decides nothing about rule choice on its own: per
+//! state a `switch` over the state's cells (its named events, then `default` for the
+//! rest class), and per cell the choices in order, each an `if` on its folded test
+//! (none for a choice that needs no test) returning the choice's target, Mealy output
+//! set and operation sequence (interned tables, as in the lowered form).
+//!
+//! Inputs are read through a sampler, as the Rust back end reads its hooks: an input is
+//! read the first time a test evaluated needs it and the value is reused by every later
+//! test of the step; tests use JavaScript's short-circuit `&&`, `||` and `!`, left to
+//! right, so the reads are those of the interpreter, in the same order
+//! ([`crate::model::lower::Sampler`]).
+//!
+//! The object:
+//!
+//! ```text
+//! name, states, events, inputs, outputs, actions   names, in declaration order
+//! start                                            the start state's number
+//! policy                                           "complete" | "ignore" | "reject"
+//! clocked                                          true for a clocked machine
+//! moore(state)                                     its Moore outputs, ascending
+//! step(state, event, read)                         one step; `read(i)` is input i's hook
+//! create()                                         { state, step(event, read), reset() }
+//! ```
+//!
+//! `step` returns `{from, event, to, rule, handled, rejected, mealy, moore, outputs,
+//! actions, reads, values}`: `rule` is the rule's number (`null` when none fired),
+//! `outputs` the Moore and Mealy outputs together, ascending, `reads` the inputs read in
+//! the order they were read, `values` the value each input had in the step (`null`:
+//! not read). A state or event out of range throws a `RangeError`. `create().reset()`
+//! restarts at the start state without running any action, as the generated code's
+//! constructor does.
+//!
+//! The text is deterministic and self-contained (no import, no network), so that the
+//! page of `detent view -o` can inline it. Cost: linear in the size of the lowered form.
+
+use crate::model::lower::{CellEvents, Choice, Lowered};
+use crate::model::{Guard, Machine};
+use crate::syntax::ast::Policy;
+use std::fmt::Write as _;
+
+/// A JavaScript string literal for `s` (JSON's escapes, plus `<`, so that the text is
+/// safe inside an HTML `<script>` element).
+fn js_string(s: &str) -> String {
+    let mut out = String::with_capacity(s.len() + 2);
+    out.push('"');
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            '<' => out.push_str("\\u003c"),
+            c if (c as u32) < 0x20 || c == '\u{2028}' || c == '\u{2029}' => {
+                let _ = write!(out, "\\u{:04x}", c as u32);
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+fn name_list(items: impl Iterator<Item = String>) -> String {
+    let names: Vec<String> = items.map(|n| js_string(&n)).collect();
+    format!("Object.freeze([{}])", names.join(", "))
+}
+
+fn number_table(rows: impl Iterator<Item = Vec<usize>>) -> String {
+    let rows: Vec<String> = rows
+        .map(|r| {
+            let nums: Vec<String> = r.iter().map(usize::to_string).collect();
+            format!("Object.freeze([{}])", nums.join(", "))
+        })
+        .collect();
+    format!("Object.freeze([{}])", rows.join(", "))
+}
+
+/// A test as a JavaScript expression over the sampler `inp`. JavaScript evaluates `&&`,
+/// `||` and `!` left to right with short circuit, as
+/// [`crate::model::lower::Sampler::holds`] does; the parentheses follow the tree (only a
+/// left operand with the same operator goes without), so the order of reads is the
+/// tree's.
+fn test_text(g: &Guard) -> String {
+    match g {
+        Guard::Input(i) => format!("inp({})", i.index()),
+        Guard::Const(b) => b.to_string(),
+        Guard::Not(a) => format!("!{}", atom(a)),
+        Guard::And(a, b) => {
+            let l = if matches!(**a, Guard::And(..)) {
+                test_text(a)
+            } else {
+                atom(a)
+            };
+            format!("{l} && {}", atom(b))
+        }
+        Guard::Or(a, b) => {
+            let l = if matches!(**a, Guard::Or(..)) {
+                test_text(a)
+            } else {
+                atom(a)
+            };
+            format!("{l} || {}", atom(b))
+        }
+    }
+}
+
+/// An operand: parenthesized unless it is an input, a constant or a negation.
+fn atom(g: &Guard) -> String {
+    match g {
+        Guard::Input(_) | Guard::Const(_) | Guard::Not(_) => test_text(g),
+        _ => format!("({})", test_text(g)),
+    }
+}
+
+fn choice_return(m: &Machine, c: &Choice) -> String {
+    let target = &m.states[c.target.index()].name;
+    let how = if c.moves { "=>" } else { "stay in" };
+    format!(
+        "return [{}, {}, {}, {}]; // rule {} {how} {target}",
+        c.rule.index(),
+        c.target.index(),
+        c.mealy.index(),
+        c.ops.index(),
+        c.rule.index()
+    )
+}
+
+/// The simulator of `m` as one JavaScript expression (see the module documentation).
+pub fn to_js(m: &Machine) -> String {
+    let low: &Lowered = &m.lowered;
+    let mut js = String::new();
+    let _ = writeln!(
+        js,
+        "// Simulator of machine `{}`, generated by detent from its lowered form. Do not edit.",
+        m.name.replace('\n', " ")
+    );
+    js.push_str("(() => {\n\"use strict\";\n");
+    let _ = writeln!(js, "const NAME = {};", js_string(&m.name));
+    let _ = writeln!(
+        js,
+        "const STATES = {};",
+        name_list(m.states.iter().map(|s| s.name.clone()))
+    );
+    for (what, items) in [
+        ("EVENTS", &m.events),
+        ("INPUTS", &m.inputs),
+        ("OUTPUTS", &m.outputs),
+        ("ACTIONS", &m.actions),
+    ] {
+        let _ = writeln!(
+            js,
+            "const {what} = {};",
+            name_list(items.iter().map(|i| i.name.clone()))
+        );
+    }
+    let policy = match m.policy {
+        Policy::Complete => "complete",
+        Policy::Ignore => "ignore",
+        Policy::Reject => "reject",
+    };
+    let _ = writeln!(js, "const POLICY = {};", js_string(policy));
+    js.push_str("// Interned output sets (0: none) and operation sequences (0: nothing).\n");
+    let _ = writeln!(
+        js,
+        "const OUT_SETS = {};",
+        number_table(
+            low.output_sets()
+                .iter()
+                .map(|s| s.iter().map(|o| o.index()).collect())
+        )
+    );
+    let _ = writeln!(
+        js,
+        "const SEQS = {};",
+        number_table(low.seqs().iter().map(|s| {
+            s.iter()
+                .map(|op| match op {
+                    crate::model::lower::Op::Action(a) => a.index(),
+                })
+                .collect()
+        }))
+    );
+    let moore: Vec<String> = (0..m.states.len())
+        .map(|s| {
+            low.moore(crate::model::StateId::from_index(s))
+                .index()
+                .to_string()
+        })
+        .collect();
+    let _ = writeln!(
+        js,
+        "// The Moore output set of each state.\nconst MOORE = Object.freeze([{}]);",
+        moore.join(", ")
+    );
+
+    js.push_str(
+        "\n// The choice that fires: [rule, target, mealy set, sequence], or null when no\n\
+         // rule handles the step. The first choice whose test holds fires.\n\
+         function choose(state, event, inp) {\n  switch (state) {\n",
+    );
+    for (si, st) in m.states.iter().enumerate() {
+        let _ = writeln!(js, "    case {si}: // {}", st.name.replace('\n', " "));
+        js.push_str("      switch (event) {\n");
+        let cells = low.cells_of(crate::model::StateId::from_index(si));
+        let mut has_rest = false;
+        for cell in cells {
+            match cell.events {
+                CellEvents::One(e) => {
+                    let _ = writeln!(
+                        js,
+                        "        case {}: // {}",
+                        e.index(),
+                        m.event_name(e).replace('\n', " ")
+                    );
+                }
+                CellEvents::Rest => {
+                    has_rest = true;
+                    js.push_str("        default: // every other event\n");
+                }
+            }
+            for c in &cell.choices {
+                match &c.test {
+                    None => {
+                        let _ = writeln!(js, "          {}", choice_return(m, c));
+                    }
+                    Some(t) => {
+                        let _ = writeln!(
+                            js,
+                            "          if ({}) {}",
+                            test_text(t),
+                            choice_return(m, c)
+                        );
+                    }
+                }
+            }
+            let covered = cell.choices.last().is_some_and(|c| c.test.is_none());
+            if !covered {
+                js.push_str("          return null;\n");
+            }
+        }
+        if !has_rest {
+            js.push_str("        default:\n          return null;\n");
+        }
+        js.push_str("      }\n");
+    }
+    js.push_str("  }\n  return null;\n}\n");
+
+    js.push_str(
+        r#"
+// The inputs of one step, each read at most once: the first time a test needs it.
+function sampler(read) {
+  const values = new Array(INPUTS.length).fill(null);
+  const reads = [];
+  const inp = (i) => {
+    if (values[i] === null) {
+      values[i] = read(i) ? true : false;
+      reads.push(i);
+    }
+    return values[i];
+  };
+  return { inp, values, reads };
+}
+
+function union(a, b) {
+  const all = a.concat(b);
+  all.sort((x, y) => x - y);
+  return all.filter((x, k) => k === 0 || all[k - 1] !== x);
+}
+
+function check(what, n, count) {
+  if (!Number.isInteger(n) || n < 0 || n >= count) {
+    throw new RangeError(`${what} ${n} is out of range (0..${count - 1})`);
+  }
+}
+
+// One step from `state` on `event`; `read(i)` is the hook of input i.
+function step(state, event, read) {
+  check("state", state, STATES.length);
+  check("event", event, EVENTS.length);
+  const s = sampler(read);
+  const c = choose(state, event, s.inp);
+  if (c === null) {
+    const moore = OUT_SETS[MOORE[state]].slice();
+    return {
+      from: state, event, to: state, rule: null, handled: false,
+      rejected: POLICY === "reject", mealy: [], moore, outputs: moore.slice(),
+      actions: [], reads: s.reads, values: s.values,
+    };
+  }
+  const [rule, to, mealySet, seq] = c;
+  const mealy = OUT_SETS[mealySet].slice();
+  const moore = OUT_SETS[MOORE[to]].slice();
+  return {
+    from: state, event, to, rule, handled: true, rejected: false, mealy, moore,
+    outputs: union(moore, mealy), actions: SEQS[seq].slice(), reads: s.reads,
+    values: s.values,
+  };
+}
+
+// A running machine: starts (and restarts) in the start state without running actions.
+function create() {
+  const sim = {
+    state: START,
+    step(event, read) {
+      const r = step(sim.state, event, read);
+      sim.state = r.to;
+      return r;
+    },
+    reset() {
+      sim.state = START;
+    },
+  };
+  return sim;
+}
+"#,
+    );
+    let _ = writeln!(js, "const START = {};", m.start.index());
+    let _ = writeln!(
+        js,
+        "return Object.freeze({{\n  name: NAME, states: STATES, events: EVENTS, inputs: INPUTS,\n  \
+         outputs: OUTPUTS, actions: ACTIONS, start: START, policy: POLICY, clocked: {},\n  \
+         moore: (state) => {{ check(\"state\", state, STATES.length); return OUT_SETS[MOORE[state]].slice(); }},\n  \
+         step, create,\n}});\n}})()",
+        m.clocked
+    );
+    js
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn strings_are_safe_in_a_script_element() {
+        assert_eq!(js_string("a\"b</script>"), r#""a\"b\u003c/script>""#);
+        assert_eq!(js_string("x\u{2028}"), r#""x\u2028""#);
+    }
+}

@@ -1,0 +1,273 @@
+//! The JavaScript simulator of `detent view` (`emit::js`) against the reference
+//! interpreter, run in a real browser: Debian's headless Chromium, driven through
+//! chromedriver by selenium (`tests/python/browser.py`).
+//!
+//! Machines: every example, and random machines of the spec generator (`gen.rs`) over
+//! every policy, clocked and event-driven, with and without inputs and groups. Traces:
+//! random events; the input hooks are hostile: every input flips its level on every
+//! call (as a bouncing pin or a register cleared on read does) and every call is
+//! recorded. At every step the hook calls (which inputs, in what order: each at most
+//! once, as the interpreter's sampler reads them), the next state, the rule that fired,
+//! the rejection, the outputs and the actions must equal the interpreter's, stepped
+//! through `Machine::step_reading` over the same flipping levels. The running object's
+//! `reset()` must bring the machine back to the start state.
+//!
+//! All machines go on one page (one browser start), so the test takes seconds. Nothing
+//! is skipped: without chromium, chromedriver or the Python environment the test fails
+//! and says to run `scripts/test.sh`.
+
+use detent_compiler::driver::check_source;
+use detent_compiler::emit::js::to_js;
+use detent_compiler::interp::Outcome;
+use detent_compiler::model::{EventId, InputId, Machine};
+use detent_compiler::rng::Rng;
+use detent_tests::gen::{random_spec, GenConfig};
+use serde_json::{json, Value};
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn machines_of(name: &str, text: &str) -> Vec<Machine> {
+    let report = check_source(name, text);
+    let ms: Vec<Machine> = report
+        .machines
+        .into_iter()
+        .filter_map(|m| m.machine)
+        .collect();
+    assert!(!ms.is_empty(), "{name}: no machine resolved");
+    ms
+}
+
+/// One case: a machine and its trace of (event, levels at the start of the step).
+struct Case {
+    label: String,
+    machine: Machine,
+    steps: Vec<(usize, Vec<bool>)>,
+}
+
+/// What the interpreter does on the case with flipping hooks, in the page's form.
+fn expected(c: &Case) -> Value {
+    let m = &c.machine;
+    let mut state = m.start;
+    let mut out = Vec::new();
+    for (event, levels) in &c.steps {
+        let mut levels = levels.clone();
+        let mut calls = Vec::new();
+        let r = m.step_reading(state, EventId::from_index(*event), &mut |i: InputId| {
+            calls.push(i.index());
+            let v = levels[i.index()];
+            levels[i.index()] = !v;
+            v
+        });
+        state = r.to;
+        let rule = match r.outcome {
+            Outcome::Fired(rule) => json!(rule.index()),
+            Outcome::Ignored | Outcome::Rejected => Value::Null,
+        };
+        out.push(json!({
+            "to": r.to.index(),
+            "rule": rule,
+            "rejected": r.outcome == Outcome::Rejected,
+            "outputs": r.outputs().iter().map(|o| o.index()).collect::<Vec<_>>(),
+            "actions": r.actions.iter().map(|a| a.index()).collect::<Vec<_>>(),
+            "calls": calls,
+        }));
+    }
+    json!({ "steps": out, "reset": m.start.index() })
+}
+
+const RUNNER: &str = r#"
+window.detentResults = CASES.map(([sim, steps]) => {
+  try {
+    let state = sim.start;
+    const out = steps.map(([event, start]) => {
+      const levels = start.slice();
+      const calls = [];
+      const read = (i) => { calls.push(i); const v = levels[i]; levels[i] = !v; return v; };
+      const r = sim.step(state, event, read);
+      state = r.to;
+      return { to: r.to, rule: r.rule, rejected: r.rejected, outputs: r.outputs,
+               actions: r.actions, calls };
+    });
+    const running = sim.create();
+    for (const [event, start] of steps) running.step(event, (i) => start[i]);
+    running.reset();
+    return { steps: out, reset: running.state };
+  } catch (e) {
+    return { error: String(e && e.stack || e) };
+  }
+});
+window.detentDone = true;
+"#;
+
+fn page(cases: &[Case]) -> String {
+    let mut html = String::from("<!DOCTYPE html><html><head><meta charset=\"utf-8\"><title>detent js differential</title></head><body><script>\n\"use strict\";\nconst CASES = [\n");
+    for c in cases {
+        let steps: Vec<Value> = c.steps.iter().map(|(e, l)| json!([e, l])).collect();
+        html.push_str(&format!(
+            "[{}, {}],\n",
+            to_js(&c.machine),
+            Value::Array(steps)
+        ));
+    }
+    html.push_str("];\n");
+    html.push_str(RUNNER);
+    html.push_str("</script></body></html>\n");
+    html
+}
+
+/// Runs `browser.py ARGS` and returns its standard output; panics with its error.
+pub fn browser(args: &[&str]) -> String {
+    let python = detent_tests::python().unwrap_or_else(|e| panic!("{e}"));
+    let script = detent_tests::workspace_root().join("tests/python/browser.py");
+    let out = Command::new(&python)
+        .arg(&script)
+        .args(args)
+        .output()
+        .unwrap_or_else(|e| panic!("cannot run {}: {e}", python.display()));
+    assert!(
+        out.status.success(),
+        "browser.py {args:?} failed (run scripts/test.sh to install chromium, chromium-driver and selenium):\n{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("utf-8")
+}
+
+fn run_cases(cases: &[Case], name: &str) {
+    let dir = PathBuf::from(env!("CARGO_TARGET_TMPDIR"));
+    let file: &Path = &dir.join(format!("{name}.html"));
+    std::fs::write(file, page(cases)).unwrap();
+    let got: Value = serde_json::from_str(&browser(&["results", file.to_str().unwrap()]))
+        .expect("browser.py prints JSON");
+    let got = got.as_array().expect("one result per case");
+    assert_eq!(got.len(), cases.len());
+    let mut steps = 0;
+    for (c, g) in cases.iter().zip(got) {
+        assert!(g.get("error").is_none(), "{}: {}", c.label, g["error"]);
+        let want = expected(c);
+        for (k, (w, s)) in want["steps"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .zip(g["steps"].as_array().unwrap())
+            .enumerate()
+        {
+            assert_eq!(
+                w,
+                s,
+                "{}: step {} (event {}, levels {:?}) differs: interpreter left, browser right",
+                c.label,
+                k + 1,
+                c.steps[k].0,
+                c.steps[k].1
+            );
+            steps += 1;
+        }
+        assert_eq!(
+            want["steps"].as_array().unwrap().len(),
+            g["steps"].as_array().unwrap().len()
+        );
+        assert_eq!(want["reset"], g["reset"], "{}: reset", c.label);
+    }
+    assert!(steps > 0);
+    eprintln!("{} machines, {steps} steps agree in Chromium", cases.len());
+}
+
+fn trace(rng: &mut Rng, m: &Machine, len: usize) -> Vec<(usize, Vec<bool>)> {
+    (0..len)
+        .map(|_| {
+            (
+                rng.index(m.events.len()),
+                (0..m.inputs.len()).map(|_| rng.chance(0.5)).collect(),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn simulator_agrees_with_the_interpreter_in_chromium() {
+    let mut rng = Rng::new(0x5eed_0021);
+    let mut cases = Vec::new();
+    for path in detent_tests::spec_files("examples") {
+        let text = std::fs::read_to_string(&path).unwrap();
+        for m in machines_of(&path.display().to_string(), &text) {
+            let steps = trace(&mut rng, &m, 60);
+            cases.push(Case {
+                label: format!("{} machine {}", path.display(), m.name),
+                machine: m,
+                steps,
+            });
+        }
+    }
+    let configs = [
+        GenConfig::default(),
+        GenConfig {
+            events: 0,
+            inputs: 3,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            states: (1, 12),
+            events: 4,
+            inputs: 4,
+            outputs: 3,
+            actions: 3,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            inputs: 0,
+            groups: false,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            policy: Some("reject"),
+            inputs: 3,
+            ..GenConfig::default()
+        },
+    ];
+    for seed in 0..400u64 {
+        let cfg = &configs[seed as usize % configs.len()];
+        let text = random_spec(seed, cfg);
+        for m in machines_of(&format!("Random{seed}"), &text) {
+            let steps = trace(&mut rng, &m, 40);
+            cases.push(Case {
+                label: format!("Random{seed} ({cfg:?})"),
+                machine: m,
+                steps,
+            });
+        }
+    }
+    run_cases(&cases, "js_differential");
+}
+
+/// The comparison fails when the simulator differs: a simulator with one rule's target
+/// changed, or one that reads an input twice, is caught.
+#[test]
+fn a_wrong_simulator_is_caught() {
+    let text =
+        std::fs::read_to_string(detent_tests::workspace_root().join("examples/greenhouse.detent"))
+            .unwrap();
+    let m = machines_of("greenhouse", &text).remove(0);
+    let mut rng = Rng::new(7);
+    let steps = trace(&mut rng, &m, 200);
+    let case = Case {
+        label: "greenhouse".into(),
+        machine: m,
+        steps,
+    };
+    let want = expected(&case);
+    // Read every input twice: the hostile hooks see it.
+    let js = to_js(&case.machine).replace("const inp = (i) => {", "const inp = (i) => { read(i);");
+    assert_ne!(js, to_js(&case.machine));
+    let steps: Vec<Value> = case.steps.iter().map(|(e, l)| json!([e, l])).collect();
+    let html = format!(
+        "<!DOCTYPE html><html><body><script>\"use strict\";\nconst CASES = [[{js}, {}]];\n{RUNNER}</script></body></html>",
+        Value::Array(steps)
+    );
+    let file = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("js_wrong.html");
+    std::fs::write(&file, html).unwrap();
+    let got: Value = serde_json::from_str(&browser(&["results", file.to_str().unwrap()])).unwrap();
+    assert_ne!(
+        got[0]["steps"], want["steps"],
+        "a double read went unnoticed"
+    );
+}
