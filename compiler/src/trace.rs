@@ -259,8 +259,9 @@ pub fn step_json(m: &Machine, n: usize, r: &StepResult) -> String {
     RunLine::step(m, n, r).to_json()
 }
 
-/// The trace line (and the word) that restarts the machine.
-pub const RESET: &str = "reset";
+/// The trace line (and the word) that restarts the machine (defined with the printed
+/// trace lines in [`crate::report`]).
+pub use crate::report::RESET;
 
 /// 1-based character column of byte offset `byte` in `line`.
 fn column(line: &str, byte: usize) -> usize {

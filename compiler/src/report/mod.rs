@@ -67,11 +67,15 @@ impl StepEntry {
     }
 }
 
+/// The trace line (and the word) that restarts the machine: printed here, read by
+/// [`crate::trace`].
+pub const RESET: &str = "reset";
+
 /// A step as one trace line: `Event a=1 b=0`, with every input (`all`) or only the
 /// inputs that are 1 (an input left out is 0). An event named `reset` becomes the JSON
 /// step `{"event":"reset","inputs":{..}}`, since the text line `reset` is a restart.
 pub fn trace_line(event: &str, inputs: &[(String, bool)], all: bool) -> String {
-    if event == crate::trace::RESET {
+    if event == RESET {
         let entry = StepEntry::step(event, inputs);
         return to_json(&entry);
     }
@@ -89,7 +93,7 @@ pub fn trace_lines(steps: &[StepEntry], all: bool) -> Vec<String> {
     steps
         .iter()
         .map(|s| match s {
-            StepEntry::Reset { .. } => crate::trace::RESET.to_string(),
+            StepEntry::Reset { .. } => RESET.to_string(),
             StepEntry::Step { event, inputs } => trace_line(event, &inputs.0, all),
         })
         .collect()
