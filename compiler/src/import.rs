@@ -761,6 +761,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         }
         states[si].rules.push(RuleAst {
             preempt: None,
+            after: None,
             trigger: (!names_.clocked).then(|| Trigger::Events(vec![ident(event)])),
             otherwise: is_else.then(Span::call_site),
             guard,

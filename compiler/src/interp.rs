@@ -18,10 +18,40 @@
 //!    as ignored so that it stays total.)
 //!
 //! The start state is entered at construction without running its enter actions.
+//!
+//! # Time
+//!
+//! With `after` rules, what the machine remembers is a [`Config`]: the state and one
+//! timer per scope with timeouts (LANGUAGE.md, "Time and counts"). On the time-base
+//! event, each timer of the state's scopes first adds one (stopping at its largest
+//! duration); a timeout is due when that brings its timer to its duration. A rule that
+//! moves sets the timers of the scopes it enters to 0. Timers of scopes that are not
+//! active are kept at 0, so that equal configurations compare equal.
 
 use crate::model::lower::{Lowered, Sampler};
-use crate::model::{ActionId, EventId, InputId, Machine, OutputId, RuleId, StateId};
+use crate::model::{ActionId, EventId, InputId, Machine, OutputId, RuleId, StateId, TimerId};
 use crate::syntax::ast::Policy;
+
+/// What a machine remembers between steps: its state and its timers.
+#[derive(Clone, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct Config {
+    /// The current state.
+    pub state: StateId,
+    /// One value per timer of the machine ([`Machine::timers`]): time-base events
+    /// counted since its scope was entered, at most its largest duration; 0 for timers
+    /// of scopes that are not active.
+    pub timers: Vec<u32>,
+}
+
+impl Config {
+    /// The state `s` just entered: every timer at 0.
+    pub fn at(m: &Machine, s: StateId) -> Config {
+        Config {
+            state: s,
+            timers: vec![0; m.timers.len()],
+        }
+    }
+}
 
 /// How a step ended.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -81,9 +111,95 @@ impl StepResult {
 }
 
 impl Machine {
-    /// One step. `inputs[i]` is the value of input `i`; missing entries read as false.
+    /// The start configuration: the start state, every timer at 0.
+    pub fn start_config(&self) -> Config {
+        Config::at(self, self.start)
+    }
+
+    /// One step from `state` with every timer at 0 (the state just entered). `inputs[i]`
+    /// is the value of input `i`; missing entries read as false. Machines with timers
+    /// step through [`Machine::step_config`].
     pub fn step(&self, state: StateId, event: EventId, inputs: &[bool]) -> StepResult {
         self.step_reading(state, event, &mut |i: InputId| value(inputs, i))
+    }
+
+    /// One step from a configuration, which it updates (state and timers).
+    pub fn step_config(&self, config: &mut Config, event: EventId, inputs: &[bool]) -> StepResult {
+        self.step_config_reading(config, event, &mut |i: InputId| value(inputs, i))
+    }
+
+    /// One step from a configuration that reads inputs through `read` (at most once
+    /// each, as [`Machine::step_reading`]).
+    pub fn step_config_reading(
+        &self,
+        config: &mut Config,
+        event: EventId,
+        read: &mut dyn FnMut(InputId) -> bool,
+    ) -> StepResult {
+        let state = config.state;
+        let lowered: &Lowered = &self.lowered;
+        let cell = lowered.cell_of(state, event);
+        let is_tb = self.timebase.as_ref().is_some_and(|t| t.event == event);
+        // The timers before this event (for the due test), then counted.
+        let before: Vec<u32> = config.timers.clone();
+        if is_tb {
+            for &t in &cell.timers {
+                let max = self.timers[t.index()].max();
+                let v = &mut config.timers[t.index()];
+                *v = (*v + 1).min(max);
+            }
+        }
+        let due = |t: TimerId, d: u32| {
+            is_tb
+                && cell.timers.contains(&t)
+                && before
+                    .get(t.index())
+                    .is_some_and(|&v| u64::from(v) + 1 == u64::from(d))
+        };
+        let mut sample = Sampler::new(self.inputs.len(), read);
+        let fired = lowered.choose_due(cell, &due, &mut sample).cloned();
+        let inputs_read = sample.read_order().to_vec();
+        let result = self.result_of(state, event, fired.as_ref(), inputs_read);
+        if let Some(choice) = &fired {
+            for t in &choice.resets {
+                config.timers[t.index()] = 0;
+            }
+            config.state = choice.target;
+            if choice.moves {
+                self.zero_inactive_timers(config);
+            }
+        }
+        result
+    }
+
+    /// Sets the timers of scopes that are not active in the configuration's state to 0.
+    pub fn zero_inactive_timers(&self, config: &mut Config) {
+        if self.timers.is_empty() {
+            return;
+        }
+        let active = self.chain_timers(config.state);
+        for (i, v) in config.timers.iter_mut().enumerate() {
+            if !active.contains(&TimerId::from_index(i)) {
+                *v = 0;
+            }
+        }
+    }
+
+    /// The number of time-base events after which a timeout of the configuration comes
+    /// due (guards aside), or `None` when none is pending: what a tickless host may
+    /// sleep for.
+    pub fn next_timeout(&self, config: &Config) -> Option<u32> {
+        self.chain_timers(config.state)
+            .into_iter()
+            .filter_map(|t| {
+                let v = config.timers[t.index()];
+                self.timers[t.index()]
+                    .durations
+                    .iter()
+                    .find(|&&d| d > v)
+                    .map(|&d| d - v)
+            })
+            .min()
     }
 
     /// One step that reads inputs through `read`, as generated code reads its hooks:
@@ -95,11 +211,19 @@ impl Machine {
         event: EventId,
         read: &mut dyn FnMut(InputId) -> bool,
     ) -> StepResult {
+        let mut config = Config::at(self, state);
+        self.step_config_reading(&mut config, event, read)
+    }
+
+    /// What a step did, from the choice that fired (`None`: nothing fired).
+    fn result_of(
+        &self,
+        state: StateId,
+        event: EventId,
+        fired: Option<&crate::model::lower::Choice>,
+        inputs_read: Vec<InputId>,
+    ) -> StepResult {
         let lowered: &Lowered = &self.lowered;
-        let cell = lowered.cell_of(state, event);
-        let mut sample = Sampler::new(self.inputs.len(), read);
-        let fired = lowered.choose(cell, &mut sample).cloned();
-        let inputs_read = sample.read_order().to_vec();
         match fired {
             Some(choice) => StepResult {
                 from: state,
@@ -133,12 +257,10 @@ impl Machine {
         &self,
         steps: impl IntoIterator<Item = (EventId, &'a [bool])>,
     ) -> Vec<StepResult> {
-        let mut state = self.start;
+        let mut config = self.start_config();
         let mut out = Vec::new();
         for (event, inputs) in steps {
-            let r = self.step(state, event, inputs);
-            state = r.to;
-            out.push(r);
+            out.push(self.step_config(&mut config, event, inputs));
         }
         out
     }

@@ -28,6 +28,9 @@
 //!   that every sequence detent prints replays as printed.
 //! - The line `reset` (text), or the entry `{"reset":true}` (JSON, as tours print
 //!   restarts), restarts the machine in its start configuration.
+//! - A step line may end with `*N` (`Tick *250`): N copies of the step (N >= 1); in
+//!   JSON, `"repeat":N` in the step object. The parsed trace holds every copy; a trace
+//!   of more than [`MAX_TRACE_STEPS`] steps in all is refused.
 //!
 //! Errors carry the 1-based line and the 1-based column (in characters) of the offending
 //! word or JSON value. JSON is read by serde_json: each key and value is kept as a
@@ -103,20 +106,71 @@ impl TraceEntry {
     }
 }
 
+/// The most steps one trace may expand to (after `*N` repetitions): 16,777,216.
+pub const MAX_TRACE_STEPS: usize = 1 << 24;
+
 /// Parses a whole trace (text and JSON lines may be mixed) against a machine's events and
-/// inputs. Stops at the first error.
+/// inputs. Stops at the first error. Repeated steps (`*N`) are expanded.
 pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceEntry>, TraceError> {
     let mut entries = Vec::new();
     for (index, raw) in text.lines().enumerate() {
         let line = index + 1;
         let trimmed = raw.trim_start();
+        let before = entries.len();
         match trimmed.as_bytes().first() {
             None | Some(b'#') => continue,
             Some(b'[') | Some(b'{') => parse_json_line(m, raw, line, &mut entries)?,
-            Some(_) => entries.push(parse_text_line(m, raw, line)?),
+            Some(_) => {
+                let (entry, repeat) = parse_text_line(m, raw, line)?;
+                push_repeated(&mut entries, entry, repeat, raw, line)?;
+            }
+        }
+        if entries.len() > MAX_TRACE_STEPS && before <= MAX_TRACE_STEPS {
+            return Err(too_long(raw, line));
         }
     }
     Ok(entries)
+}
+
+fn too_long(raw: &str, line: usize) -> TraceError {
+    TraceError {
+        line,
+        column: column(raw, raw.len() - raw.trim_start().len()),
+        message: format!("the trace passes {MAX_TRACE_STEPS} steps (the limit) here"),
+    }
+}
+
+/// Pushes `repeat` copies of an entry, refusing a total past [`MAX_TRACE_STEPS`].
+fn push_repeated(
+    entries: &mut Vec<TraceEntry>,
+    entry: TraceEntry,
+    repeat: u64,
+    raw: &str,
+    line: usize,
+) -> Result<(), TraceError> {
+    if (entries.len() as u64).saturating_add(repeat) > MAX_TRACE_STEPS as u64 {
+        return Err(too_long(raw, line));
+    }
+    for _ in 1..repeat {
+        entries.push(entry.clone());
+    }
+    entries.push(entry);
+    Ok(())
+}
+
+/// Reads a repetition count `*N` (N from 1 to [`MAX_TRACE_STEPS`]).
+fn repeat_count(word: &str) -> Result<u64, String> {
+    let digits = &word[1..];
+    match digits.parse::<u64>() {
+        Ok(0) => Err("a repetition `*N` needs N of at least 1".into()),
+        Ok(n) if n <= MAX_TRACE_STEPS as u64 => Ok(n),
+        Ok(_) => Err(format!(
+            "a repetition of more than {MAX_TRACE_STEPS} steps (the limit)"
+        )),
+        Err(_) => Err(format!(
+            "expected a repetition `*N` with N a whole number, found `{word}`"
+        )),
+    }
 }
 
 /// Runs a trace from the start state through the reference interpreter: the step-0
@@ -125,18 +179,17 @@ pub fn parse_trace(m: &Machine, text: &str) -> Result<Vec<TraceEntry>, TraceErro
 pub fn run_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<RunLine> {
     let mut out = Vec::with_capacity(entries.len() + 1);
     out.push(RunLine::start(m));
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut n = 0;
     for entry in entries {
         match entry {
             TraceEntry::Step(s) => {
-                let r = m.step(state, s.event, &s.inputs);
-                state = r.to;
+                let r = m.step_config(&mut config, s.event, &s.inputs);
                 n += 1;
                 out.push(RunLine::step(m, n, &r));
             }
             TraceEntry::Reset { .. } => {
-                state = m.start;
+                config = m.start_config();
                 out.push(RunLine::reset(m, n));
             }
         }
@@ -349,13 +402,26 @@ fn words(line: &str) -> Vec<(usize, &str)> {
     out
 }
 
-fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceEntry, TraceError> {
+fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<(TraceEntry, u64), TraceError> {
     let err = |byte: usize, message: String| TraceError {
         line,
         column: column(raw, byte),
         message,
     };
-    let ws = words(raw);
+    let mut ws = words(raw);
+    let mut repeat = 1;
+    if let Some(&(at, last)) = ws.last() {
+        if last.starts_with('*') {
+            if ws.len() == 1 {
+                return Err(err(
+                    at,
+                    "a repetition `*N` follows a step (`Tick *250`)".into(),
+                ));
+            }
+            repeat = repeat_count(last).map_err(|msg| err(at, msg))?;
+            ws.pop();
+        }
+    }
     let Some(&(at, name)) = ws.first() else {
         // `words` is empty only for comment lines, which the caller skips.
         return Err(err(0, "expected an event name".into()));
@@ -378,7 +444,10 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceEntry, Tr
                 "a `reset` line has nothing after `reset`".into(),
             ));
         }
-        return Ok(TraceEntry::Reset { line });
+        if repeat != 1 {
+            return Err(err(at, "a `reset` line is not repeated".into()));
+        }
+        return Ok((TraceEntry::Reset { line }, 1));
     }
     if name.contains('=') {
         return Err(err(
@@ -426,11 +495,14 @@ fn parse_text_line(m: &Machine, raw: &str, line: usize) -> Result<TraceEntry, Tr
         given[id.index()] = Some(at);
         inputs[id.index()] = v;
     }
-    Ok(TraceEntry::Step(TraceStep {
-        event,
-        inputs,
-        line,
-    }))
+    Ok((
+        TraceEntry::Step(TraceStep {
+            event,
+            inputs,
+            line,
+        }),
+        repeat,
+    ))
 }
 
 fn parse_json_line(
@@ -461,7 +533,8 @@ fn parse_json_line(
         vec![list]
     };
     for item in items {
-        steps.push(json_step(m, raw, item, line).map_err(|(at, msg)| err(at, msg))?);
+        let (entry, repeat) = json_step(m, raw, item, line).map_err(|(at, msg)| err(at, msg))?;
+        push_repeated(steps, entry, repeat, raw, line)?;
     }
     Ok(())
 }
@@ -597,7 +670,7 @@ fn json_step(
     raw: &str,
     v: &RawValue,
     line: usize,
-) -> Result<TraceEntry, (usize, String)> {
+) -> Result<(TraceEntry, u64), (usize, String)> {
     let at = |v: &RawValue| offset_in(raw, v.get());
     let Some(fields) = fields_of(raw, v)? else {
         return Err((
@@ -609,6 +682,7 @@ fn json_step(
     let mut inputs = vec![false; m.inputs.len()];
     let mut seen_inputs = false;
     let mut reset = None;
+    let mut repeat: Option<u64> = None;
     for (key, value) in fields.0 {
         let key_at = at(key);
         match string_of(key).as_deref().unwrap_or_default() {
@@ -656,6 +730,18 @@ fn json_step(
                     };
                 }
             }
+            "repeat" => {
+                if repeat.is_some() {
+                    return Err((key_at, "key `repeat` is given twice".into()));
+                }
+                let n = repeat_count(&format!("*{}", value.get())).map_err(|_| {
+                    (
+                        at(value),
+                        format!("`repeat` must be a whole number from 1 to {MAX_TRACE_STEPS}"),
+                    )
+                })?;
+                repeat = Some(n);
+            }
             "reset" => {
                 if value.get() != "true" {
                     return Err((at(value), "`reset` must be `true`".into()));
@@ -665,13 +751,13 @@ fn json_step(
             other => {
                 return Err((
                     key_at,
-                    format!("unknown key `{other}`; a step has `event` and `inputs`"),
+                    format!("unknown key `{other}`; a step has `event`, `inputs` and `repeat`"),
                 ))
             }
         }
     }
     if let Some(reset_at) = reset {
-        if event.is_some() || seen_inputs {
+        if event.is_some() || seen_inputs || repeat.is_some() {
             return Err((
                 reset_at,
                 "a restart `{\"reset\":true}` has no other key; write the step after it as \
@@ -679,16 +765,19 @@ fn json_step(
                     .into(),
             ));
         }
-        return Ok(TraceEntry::Reset { line });
+        return Ok((TraceEntry::Reset { line }, 1));
     }
     let Some(event) = event else {
         return Err((at(v), "this step has no `event`".into()));
     };
-    Ok(TraceEntry::Step(TraceStep {
-        event,
-        inputs,
-        line,
-    }))
+    Ok((
+        TraceEntry::Step(TraceStep {
+            event,
+            inputs,
+            line,
+        }),
+        repeat.unwrap_or(1),
+    ))
 }
 
 #[cfg(test)]

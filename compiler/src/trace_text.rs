@@ -25,18 +25,17 @@ use crate::trace::{TraceEntry, TraceStep};
 pub fn run_text_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
     let mut out = Vec::with_capacity(entries.len() + 1);
     out.push(format!("step 0: start in {}", at_start(m, m.start)));
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut n = 0;
     for entry in entries {
         match entry {
             TraceEntry::Step(s) => {
-                let r = m.step(state, s.event, &s.inputs);
-                state = r.to;
+                let r = m.step_config(&mut config, s.event, &s.inputs);
                 n += 1;
                 out.push(step_line(m, n, s, &r));
             }
             TraceEntry::Reset { .. } => {
-                state = m.start;
+                config = m.start_config();
                 out.push(format!("step {n}: reset to {}", at_start(m, m.start)));
             }
         }

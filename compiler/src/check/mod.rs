@@ -561,6 +561,10 @@ impl Checker<'_> {
     fn unused_declarations(&mut self) {
         let m = self.m;
         let mut event_used = vec![m.clocked; m.events.len()];
+        if let Some(tb) = &m.timebase {
+            // Named by the `timebase` declaration: it makes the timers count.
+            event_used[tb.event.index()] = true;
+        }
         let mut input_used = vec![false; m.inputs.len()];
         let mut output_used = vec![false; m.outputs.len()];
         let mut action_used = vec![false; m.actions.len()];
@@ -573,7 +577,7 @@ impl Checker<'_> {
                     }
                 }
                 crate::model::Trigger::Wildcard => any_wildcard = true,
-                crate::model::Trigger::Tick => {}
+                crate::model::Trigger::Tick | crate::model::Trigger::After(_) => {}
             }
             if let Some(g) = &r.guard_expr {
                 let mut ins = Vec::new();

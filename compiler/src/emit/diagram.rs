@@ -81,6 +81,7 @@ pub fn rule_label(m: &Machine, events: &[EventId], rule: RuleId) -> String {
     }
     match r.trigger {
         Trigger::Tick => {}
+        Trigger::After(d) => parts.push(format!("after {}", m.duration_text(d))),
         // `_` reads as words on a drawing: the events no other rule of the scope names.
         Trigger::Wildcard => parts.push("any other event".into()),
         Trigger::Events(_) => parts.push(

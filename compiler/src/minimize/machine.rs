@@ -476,6 +476,8 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         doc: m.doc.clone(),
         vis: m.vis,
         clocked: m.clocked,
+        timebase: m.timebase.clone(),
+        timers: Vec::new(),
         events: plain_items(&m.events),
         inputs: plain_items(&m.inputs),
         outputs: plain_items(&m.outputs),
@@ -602,7 +604,7 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
             continue;
         };
         let trigger = match &rule.trigger {
-            Trigger::Tick => None,
+            Trigger::Tick | Trigger::After(_) => None,
             Trigger::Wildcard => Some(ast::Trigger::Wildcard(Span::call_site())),
             Trigger::Events(evs) => Some(ast::Trigger::Events(
                 evs.iter().map(|e| ident(q.event_name(*e))).collect(),
@@ -614,6 +616,14 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
         };
         bodies[s.index()].push(Body::Rule(RuleAst {
             preempt: None,
+            after: match rule.trigger {
+                Trigger::After(d) => Some(ast::Duration {
+                    value: u64::from(d),
+                    unit: ast::TimeUnit::Ticks,
+                    span: Span::call_site(),
+                }),
+                _ => None,
+            },
             trigger,
             otherwise: rule.otherwise.then(Span::call_site),
             guard: rule.guard_expr.as_ref().map(|g| guard_expr(q, g)),

@@ -61,8 +61,12 @@
 
 use super::{
     ActionId, Bdd, BddStore, EventId, Guard, InputId, Machine, OutputId, RuleId, Scope, StateId,
-    Target,
+    Target, TimerId, Trigger,
 };
+
+/// Most due-timeout combinations one cell may have (the product over the state's
+/// timers of one plus their number of distinct durations).
+pub const MAX_VARIANTS: usize = 4096;
 use crate::fxhash::FxMap;
 use std::ops::Range;
 
@@ -166,6 +170,13 @@ pub struct Choice {
     pub mealy: OutSetId,
     /// What runs, in order: leave actions, the rule's, enter actions.
     pub ops: SeqId,
+    /// A timeout rule: the timer and duration (ticks) that must come due on this
+    /// time-base event for the choice to be considered (tested before `test`, reads no
+    /// input).
+    pub due: Option<(TimerId, u32)>,
+    /// The timers this choice sets to 0 (the scopes it enters that have timers: the
+    /// target, and its groups that do not hold the current state). Empty for `stay`.
+    pub resets: Vec<TimerId>,
 }
 
 /// One state's class of events and how the lookup resolves it.
@@ -183,6 +194,27 @@ pub struct Cell {
     /// The rules that can fire, in lookup order.
     pub choices: Vec<Choice>,
     /// The valuations where no choice fires (`FALSE` when the cell is covered).
+    /// With timeouts: where nothing is due (variant 0).
+    pub unhandled: Bdd,
+    /// The timers whose timeouts this cell can consider (the time-base cell of a state
+    /// whose scopes have timers: those timers, innermost scope first; empty otherwise).
+    pub timers: Vec<TimerId>,
+    /// The exact regions for each combination of due timeouts ([`Variant`]); one
+    /// variant (nothing due) in a cell without timers. Indexed in mixed radix over
+    /// `timers`: digit `k` is 0 when timer `timers[k]` has nothing due, `j` when its
+    /// `j`th duration (ascending, from 1) is due ([`Lowered::variant_index`]).
+    pub variants: Vec<Variant>,
+}
+
+/// The exact regions of a cell's choices for one set of due timeouts.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Variant {
+    /// The due timeouts, one per timer at most.
+    pub due: Vec<(TimerId, u32)>,
+    /// Per choice (parallel to [`Cell::choices`]): where it fires, given this due set
+    /// (`FALSE` for a timeout choice that is not due).
+    pub regions: Vec<Bdd>,
+    /// Where no choice fires, given this due set.
     pub unhandled: Bdd,
 }
 
@@ -298,14 +330,52 @@ impl Lowered {
 
     /// The choice that fires in `cell`: the first whose test holds, each input read
     /// through `sample` (at most once per step). `None`: no rule handles the step.
+    /// Timeout choices are never due here (see [`Lowered::choose_due`]).
     ///
     /// This is the rule choice of the language; every back end emits code that makes
     /// the same choice with the same reads.
     pub fn choose<'c>(&self, cell: &'c Cell, sample: &mut Sampler<'_>) -> Option<&'c Choice> {
-        cell.choices.iter().find(|c| match &c.test {
-            None => true,
-            Some(t) => sample.holds(t),
+        self.choose_due(cell, &|_, _| false, sample)
+    }
+
+    /// The choice that fires in `cell` when `due(timer, ticks)` says which timeouts are
+    /// due: the first choice whose due condition (if any) holds and then whose test
+    /// holds. The due condition is checked first and reads no input.
+    pub fn choose_due<'c>(
+        &self,
+        cell: &'c Cell,
+        due: &dyn Fn(TimerId, u32) -> bool,
+        sample: &mut Sampler<'_>,
+    ) -> Option<&'c Choice> {
+        cell.choices.iter().find(|c| {
+            c.due.is_none_or(|(t, d)| due(t, d))
+                && match &c.test {
+                    None => true,
+                    Some(t) => sample.holds(t),
+                }
         })
+    }
+
+    /// The variant of `cell` for a due set given per timer of [`Cell::timers`] as the
+    /// due duration (`None`: nothing due). Durations that are not the timer's are read
+    /// as nothing due.
+    pub fn variant_index(
+        &self,
+        m: &Machine,
+        cell: &Cell,
+        due: &dyn Fn(TimerId) -> Option<u32>,
+    ) -> usize {
+        let mut index = 0;
+        let mut stride = 1;
+        for &t in &cell.timers {
+            let durations = &m.timers[t.index()].durations;
+            let digit = due(t)
+                .and_then(|d| durations.binary_search(&d).ok())
+                .map_or(0, |j| j + 1);
+            index += digit * stride;
+            stride *= durations.len() + 1;
+        }
+        index
     }
 
     /// The choice of `cell` whose region holds a full valuation (exact; reads nothing).
@@ -489,6 +559,8 @@ impl Interner {
 pub enum LowerError {
     /// The firing regions need more decision-diagram nodes than the limit.
     TooManyNodes,
+    /// A state's timers have more due combinations than [`MAX_VARIANTS`].
+    TooManyVariants(StateId),
 }
 
 /// Lowers a resolved machine: the cells of every state, with their choices, in the
@@ -502,9 +574,33 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
         state_cells.push(cells.len() as u32);
         let s = StateId::from_index(si);
         let chain = m.scope_chain(s);
-        let named = named_events(m, &chain);
+        let mut named = named_events(m, &chain);
+        let chain_timers = m.chain_timers(s);
+        let tb = m.timebase.as_ref().map(|t| t.event);
+        if let (Some(tb), false) = (tb, chain_timers.is_empty()) {
+            // The time base gets a cell of its own where timeouts can come due.
+            if let Err(i) = named.binary_search(&tb) {
+                named.insert(i, tb);
+            }
+            let variants: usize = chain_timers
+                .iter()
+                .map(|t| m.timers[t.index()].durations.len() + 1)
+                .try_fold(1usize, |acc, n| {
+                    acc.checked_mul(n).filter(|&x| x <= MAX_VARIANTS)
+                })
+                .unwrap_or(usize::MAX);
+            if variants > MAX_VARIANTS {
+                return Err(LowerError::TooManyVariants(s));
+            }
+        }
         for &e in &named {
-            let reached = reach(m, &chain, Some(e));
+            let mut reached = reach(m, &chain, Some(e));
+            let timers = if Some(e) == tb && !chain_timers.is_empty() {
+                insert_timeouts(m, &chain, &mut reached);
+                chain_timers.clone()
+            } else {
+                Vec::new()
+            };
             cells.push(build_cell(
                 m,
                 bdd,
@@ -513,6 +609,7 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
                 CellEvents::One(e),
                 e,
                 reached,
+                timers,
             ));
         }
         if named.len() < n_events {
@@ -530,6 +627,7 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
                 CellEvents::Rest,
                 rep,
                 reached,
+                Vec::new(),
             ));
         }
         if bdd.overflowed() {
@@ -618,6 +716,30 @@ fn reach(m: &Machine, chain: &[Scope], event: Option<EventId>) -> Vec<Reached> {
     out
 }
 
+/// Step 2 of the lookup, for the time-base event: the `after` rules of each scope of
+/// the chain, innermost first, one [`Reached`] per scope and duration (durations
+/// ascending), placed after the preempt steps.
+fn insert_timeouts(m: &Machine, chain: &[Scope], reached: &mut Vec<Reached>) {
+    let at = reached
+        .iter()
+        .position(|r| r.step != LookupStep::Preempt)
+        .unwrap_or(reached.len());
+    let timeouts: Vec<Reached> = chain
+        .iter()
+        .flat_map(|&scope| {
+            m.scope_rules(scope)
+                .timeouts
+                .iter()
+                .map(move |(_, rules)| Reached {
+                    step: LookupStep::Timeout,
+                    scope,
+                    rules: rules.clone(),
+                })
+        })
+        .collect();
+    reached.splice(at..at, timeouts);
+}
+
 /// Step 4 of the lookup: the innermost scope's `_` rules (every rule of a clocked
 /// machine), its `else` rule last.
 fn wildcard_step(m: &Machine, chain: &[Scope]) -> Option<Reached> {
@@ -639,7 +761,9 @@ fn else_last(m: &Machine, rules: &[RuleId]) -> Vec<RuleId> {
     out
 }
 
-/// One cell: the choices of its reached rules in lookup order, with their regions.
+/// One cell: the choices of its reached rules in lookup order, with their regions in
+/// every variant (combination of due timeouts).
+#[allow(clippy::too_many_arguments)]
 fn build_cell(
     m: &Machine,
     bdd: &mut BddStore,
@@ -648,17 +772,39 @@ fn build_cell(
     events: CellEvents,
     event: EventId,
     reached: Vec<Reached>,
+    timers: Vec<TimerId>,
 ) -> Cell {
+    // The due sets, in mixed radix over `timers` (variant 0: nothing due).
+    let mut due_sets: Vec<Vec<(TimerId, u32)>> = vec![Vec::new()];
+    for &t in &timers {
+        let durations = &m.timers[t.index()].durations;
+        let mut next = Vec::with_capacity(due_sets.len() * (durations.len() + 1));
+        for digit in 0..=durations.len() {
+            for set in &due_sets {
+                let mut set = set.clone();
+                if digit > 0 {
+                    set.push((t, durations[digit - 1]));
+                }
+                next.push(set);
+            }
+        }
+        due_sets = next;
+    }
+    // Per variant, what no earlier choice takes, kept as it shrinks (complementing the
+    // growing union for every rule would cost as much as the union each time).
+    let mut untaken = vec![Bdd::TRUE; due_sets.len()];
+    let mut regions: Vec<Vec<Bdd>> = vec![Vec::new(); due_sets.len()];
     let mut choices = Vec::new();
-    // What no earlier choice takes, kept as it shrinks (complementing the growing union
-    // for every rule would cost as much as the union each time).
-    let mut untaken = Bdd::TRUE;
     for group in &reached {
         for &r in &group.rules {
-            if untaken.is_false() {
-                break;
-            }
             let rule = &m.rules[r.index()];
+            let due = match rule.trigger {
+                Trigger::After(d) => match rule.scope_timer(m) {
+                    Some(t) => Some((t, d)),
+                    None => continue,
+                },
+                _ => None,
+            };
             let test = match &rule.guard_expr {
                 None => None,
                 Some(g) => match fold(g) {
@@ -667,12 +813,38 @@ fn build_cell(
                     Ok(t) => Some(t),
                 },
             };
-            let region = bdd.and(rule.guard, untaken);
-            if region.is_false() {
+            let mut any = false;
+            let mut needs_test = false;
+            let mut here = Vec::with_capacity(due_sets.len());
+            let not_guard = bdd.not(rule.guard);
+            for (v, set) in due_sets.iter().enumerate() {
+                if untaken[v].is_false() || due.is_some_and(|d| !set.contains(&d)) {
+                    here.push(Bdd::FALSE);
+                    continue;
+                }
+                let region = bdd.and(rule.guard, untaken[v]);
+                if region.is_false() {
+                    // Reached in this variant but never taking anything: the test must
+                    // stay, or the choice would take what this variant leaves.
+                    needs_test = true;
+                    here.push(Bdd::FALSE);
+                    continue;
+                }
+                any = true;
+                untaken[v] = bdd.and(untaken[v], not_guard);
+                // The last choice of a covered variant takes every valuation left:
+                // nothing needs testing there, unless another variant needs the test.
+                if !untaken[v].is_false() {
+                    needs_test = true;
+                }
+                here.push(region);
+            }
+            if !any {
                 continue;
             }
-            let not_guard = bdd.not(rule.guard);
-            untaken = bdd.and(untaken, not_guard);
+            for (v, region) in here.into_iter().enumerate() {
+                regions[v].push(region);
+            }
             let (target, moves) = match rule.target {
                 Target::Stay => (s, false),
                 Target::To(t) => (t, true),
@@ -685,25 +857,54 @@ fn build_cell(
                 rule: r,
                 step: group.step,
                 scope: group.scope,
-                // The last choice of a covered cell takes every valuation left: nothing
-                // needs testing there.
-                test: if untaken.is_false() { None } else { test },
-                region,
+                test: if needs_test { test } else { None },
+                region: regions[0].last().copied().unwrap_or(Bdd::FALSE),
                 target,
                 moves,
                 mealy: intern.out_set(rule.mealy.clone()),
                 ops: intern.seq(ops),
+                due,
+                resets: if moves {
+                    entered_timers(m, s, target)
+                } else {
+                    Vec::new()
+                },
             });
         }
     }
+    let variants: Vec<Variant> = due_sets
+        .into_iter()
+        .zip(regions)
+        .zip(untaken.iter().copied())
+        .map(|((due, regions), unhandled)| Variant {
+            due,
+            regions,
+            unhandled,
+        })
+        .collect();
     Cell {
         state: s,
         events,
         event,
         reached,
         choices,
-        unhandled: untaken,
+        unhandled: untaken[0],
+        timers,
+        variants,
     }
+}
+
+/// The timers a move from `from` to `to` sets to 0: those of the scopes it enters (`to`
+/// itself, and its groups that do not hold `from`), innermost first.
+pub fn entered_timers(m: &Machine, from: StateId, to: StateId) -> Vec<TimerId> {
+    let mut out = Vec::new();
+    out.extend(m.states[to.index()].rules.timer);
+    for g in m.ancestors(to) {
+        if !m.group_contains(g, from) {
+            out.extend(m.groups[g.index()].rules.timer);
+        }
+    }
+    out
 }
 
 /// The actions a rule runs when it fires in state `from`, in order: leave actions of

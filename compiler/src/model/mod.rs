@@ -72,6 +72,39 @@ id_type!(
     /// A rule, numbered in source order.
     RuleId
 );
+id_type!(
+    /// A scope's timer (a state or group with `after` rules), numbered in source order
+    /// of the scopes.
+    TimerId
+);
+
+/// The time base: the event that marks time, and what one such event stands for.
+#[derive(Clone, Debug)]
+pub struct Timebase {
+    /// The event (`Tick`, the clock, in a clocked machine).
+    pub event: EventId,
+    /// The period in microseconds, when the spec gives one.
+    pub period_us: Option<u64>,
+    /// Where `timebase` is written.
+    pub span: Span,
+}
+
+/// The timer of one scope: counts time-base events from the scope's entry, saturating
+/// at its largest duration (LANGUAGE.md, "Time and counts").
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Timer {
+    /// The state or group whose `after` rules read it.
+    pub scope: Scope,
+    /// The distinct durations of its `after` rules, in ticks, ascending.
+    pub durations: Vec<u32>,
+}
+
+impl Timer {
+    /// The value it saturates at: its largest duration.
+    pub fn max(&self) -> u32 {
+        self.durations.last().copied().unwrap_or(0)
+    }
+}
 
 /// A declared name (event, input, output or action).
 #[derive(Clone, Debug)]
@@ -103,8 +136,12 @@ pub struct ScopeRules {
     pub named: Vec<(EventId, Vec<RuleId>)>,
     /// `preempt` rules naming each event, sorted by event id (groups only).
     pub preempt: Vec<(EventId, Vec<RuleId>)>,
-    /// `_` rules (and, in a clocked machine, every rule).
+    /// `_` rules (and, in a clocked machine, every rule but timeouts).
     pub wildcard: Vec<RuleId>,
+    /// `after` rules by duration in ticks, ascending.
+    pub timeouts: Vec<(u32, Vec<RuleId>)>,
+    /// The scope's timer, when it has `after` rules.
+    pub timer: Option<TimerId>,
 }
 
 /// A state.
@@ -206,6 +243,8 @@ pub enum Trigger {
     Wildcard,
     /// The clock of a clocked machine (no trigger written).
     Tick,
+    /// `after D`: the time-base event that brings the scope's timer to `D` ticks.
+    After(u32),
 }
 
 /// A rule.
@@ -234,6 +273,13 @@ pub struct Rule {
     pub mealy: Vec<OutputId>,
     /// The rule's own actions, in written order.
     pub actions: Vec<ActionId>,
+}
+
+impl Rule {
+    /// The timer of the scope that holds the rule (for `after` rules).
+    pub fn scope_timer(&self, m: &Machine) -> Option<TimerId> {
+        m.scope_rules(self.scope).timer
+    }
 }
 
 /// A property expression (`never P`).
@@ -327,6 +373,10 @@ pub struct Machine {
     pub properties: Vec<Property>,
     /// Lint attributes on the machine.
     pub lints: LintLevels,
+    /// The time base, when declared.
+    pub timebase: Option<Timebase>,
+    /// The timers of the scopes with `after` rules.
+    pub timers: Vec<Timer>,
     /// The node table of every guard (and of the lowered form's regions).
     pub bdd: BddStore,
     /// The lowered transition table: the one definition of which rule fires
@@ -361,6 +411,17 @@ impl Machine {
                 self.span,
                 bdd_overflow_message(&self.name, "the firing regions of this machine's rules"),
             )]),
+            Err(lower::LowerError::TooManyVariants(s)) => {
+                Err(vec![crate::diag::Diagnostic::name_error(
+                    self.states[s.index()].span,
+                    format!(
+                        "state `{}`: its timers have more than {} combinations of due \
+                         timeouts (the limit); give its scopes fewer distinct durations",
+                        self.states[s.index()].name,
+                        lower::MAX_VARIANTS
+                    ),
+                )])
+            }
         }
     }
 
@@ -466,6 +527,29 @@ impl Machine {
             Scope::State(s) => Site::State(s),
             Scope::Group(g) => Site::Group(g),
         }
+    }
+
+    /// The timers of a state's active scopes (the state, then its groups outward).
+    pub fn chain_timers(&self, s: StateId) -> Vec<TimerId> {
+        self.scope_chain(s)
+            .into_iter()
+            .filter_map(|sc| self.scope_rules(sc).timer)
+            .collect()
+    }
+
+    /// A duration of `ticks` time-base events as the spec would write it: in the largest
+    /// time unit that states it exactly when the time base has a period (`20 ms`),
+    /// else in ticks (`20 ticks`).
+    pub fn duration_text(&self, ticks: u32) -> String {
+        match self.timebase.as_ref().and_then(|t| t.period_us) {
+            Some(p) => resolve::format_us(u64::from(ticks) * p),
+            None => format!("{ticks} ticks"),
+        }
+    }
+
+    /// True when the machine has timeout rules.
+    pub fn has_timers(&self) -> bool {
+        !self.timers.is_empty()
     }
 
     /// The input ids a BDD depends on.

@@ -101,7 +101,17 @@ struct Resolver<'a> {
     /// them are not reported again, one by one.
     events_over_limit: bool,
     inputs_over_limit: bool,
+    /// The resolved time base (after the declarations).
+    timebase: Option<Timebase>,
+    /// Where `timebase` is written, even when it did not resolve (no second error for
+    /// every timeout rule).
+    timebase_written: bool,
+    /// The timers, in source order of their scopes.
+    timers: Vec<Timer>,
 }
+
+/// The longest duration, in ticks (LANGUAGE.md, "Limits").
+pub const MAX_DURATION_TICKS: u64 = u32::MAX as u64;
 
 /// The error for a machine whose guards need more than [`MAX_BDD_NODES`] nodes.
 pub fn bdd_overflow_message(machine: &str, what: &str) -> String {
@@ -131,6 +141,9 @@ pub fn resolve(ast: &MachineAst) -> Result<Machine, Vec<Diagnostic>> {
         clocked: true,
         events_over_limit: false,
         inputs_over_limit: false,
+        timebase: None,
+        timebase_written: false,
+        timers: Vec::new(),
     };
     r.run()
 }
@@ -186,6 +199,7 @@ impl<'a> Resolver<'a> {
         let mut policy_span = None;
         let mut never = Vec::new();
         let mut recover = Vec::new();
+        let mut timebase = None;
         for d in &ast.decls {
             let key = match &d.kind {
                 DeclKind::Events(_) => "events",
@@ -196,6 +210,7 @@ impl<'a> Resolver<'a> {
                 DeclKind::Unhandled(_) => "unhandled",
                 DeclKind::Never(_) => "never",
                 DeclKind::Recover { .. } => "recover",
+                DeclKind::Timebase { .. } => "timebase",
             };
             if key != "never" && key != "recover" {
                 if let Some(first) = seen_decl.get(key) {
@@ -275,6 +290,7 @@ impl<'a> Resolver<'a> {
                 }
                 DeclKind::Never(e) => never.push((e, d.span)),
                 DeclKind::Recover { target, except } => recover.push((target, except, d.span)),
+                DeclKind::Timebase { event, period } => timebase = Some((event, period, d.span)),
             }
         }
         // An event shares no namespace with inputs, outputs and actions, but a property
@@ -309,6 +325,11 @@ impl<'a> Resolver<'a> {
                 span: ast.name.span,
                 doc: vec!["One clock tick.".into()],
             });
+        }
+
+        if let Some((event, period, span)) = timebase {
+            self.timebase_written = true;
+            self.timebase = self.resolve_timebase(event.as_ref(), period.as_ref(), span);
         }
 
         // States and groups: ids in declaration order.
@@ -435,6 +456,8 @@ impl<'a> Resolver<'a> {
             minimize,
             properties,
             lints,
+            timebase: self.timebase,
+            timers: self.timers,
             bdd: self.bdd,
             lowered: super::lower::Lowered::default(),
         }
@@ -664,6 +687,7 @@ impl<'a> Resolver<'a> {
         let mut named: FxMap<EventId, Vec<RuleId>> = FxMap::default();
         let mut preempt: FxMap<EventId, Vec<RuleId>> = FxMap::default();
         let mut wildcard = Vec::new();
+        let mut timeouts: FxMap<u32, Vec<RuleId>> = FxMap::default();
         // The `else` rules seen so far: per event (`None`: among the `_` rules), where.
         let mut elses: FxMap<Option<EventId>, Span> = FxMap::default();
         for b in body {
@@ -683,6 +707,7 @@ impl<'a> Resolver<'a> {
                             let keys: Vec<Option<EventId>> = match &rule.trigger {
                                 Trigger::Events(evs) => evs.iter().map(|e| Some(*e)).collect(),
                                 Trigger::Wildcard | Trigger::Tick => vec![None],
+                                Trigger::After(_) => Vec::new(),
                             };
                             for k in keys {
                                 if let Some(first) = elses.insert(k, at) {
@@ -719,6 +744,7 @@ impl<'a> Resolver<'a> {
                                 }
                             }
                             Trigger::Wildcard | Trigger::Tick => wildcard.push(id),
+                            Trigger::After(d) => timeouts.entry(*d).or_default().push(id),
                         }
                         self.rules.push(rule);
                     }
@@ -730,6 +756,16 @@ impl<'a> Resolver<'a> {
             v.sort_unstable_by_key(|(e, _)| *e);
             v
         };
+        let mut timeouts: Vec<(u32, Vec<RuleId>)> = timeouts.into_iter().collect();
+        timeouts.sort_unstable_by_key(|(d, _)| *d);
+        let timer = (!timeouts.is_empty()).then(|| {
+            let id = TimerId::from_index(self.timers.len());
+            self.timers.push(Timer {
+                scope,
+                durations: timeouts.iter().map(|(d, _)| *d).collect(),
+            });
+            id
+        });
         (
             enter,
             leave,
@@ -737,6 +773,8 @@ impl<'a> Resolver<'a> {
                 named: sorted(named),
                 preempt: sorted(preempt),
                 wildcard,
+                timeouts,
+                timer,
             },
         )
     }
@@ -796,6 +834,16 @@ impl<'a> Resolver<'a> {
             }
         }
         let trigger = match (&rule.trigger, self.clocked) {
+            _ if rule.after.is_some() => {
+                let d = rule
+                    .after
+                    .as_ref()
+                    .map(|d| self.duration_ticks(d, "a timeout"));
+                match d {
+                    Some(Some(ticks)) => Trigger::After(ticks),
+                    _ => Trigger::Tick,
+                }
+            }
             (None, true) => Trigger::Tick,
             (None, false) => {
                 self.err(
@@ -882,6 +930,174 @@ impl<'a> Resolver<'a> {
             mealy,
             actions,
         })
+    }
+
+    /// The `timebase` declaration: its event (declared; the clock in a clocked machine)
+    /// and its period (a time, at least 1 us).
+    fn resolve_timebase(
+        &mut self,
+        event: Option<&ast::Ident>,
+        period: Option<&ast::Duration>,
+        span: Span,
+    ) -> Option<Timebase> {
+        let before = self.errors.len();
+        let event = match (event, self.clocked) {
+            (None, true) => Some(EventId(0)),
+            (Some(e), true) if e.name == "Tick" => Some(EventId(0)),
+            (Some(e), true) => {
+                let mut d = Diagnostic::name_error(
+                    e.span,
+                    format!(
+                        "`timebase {}`: a clocked machine's time base is its clock tick",
+                        e.name
+                    ),
+                );
+                d.helps.push(
+                    "write `timebase 10 us;` (the period of one tick), or declare the \
+                     machine's `events` to mark time with an event"
+                        .into(),
+                );
+                self.errors.push(d);
+                None
+            }
+            (None, false) => {
+                let mut d = Diagnostic::name_error(
+                    span,
+                    "this time base names no event: an event-driven machine marks time with \
+                     one of its events",
+                );
+                d.helps
+                    .push("write `timebase Tick 1 ms;` with `Tick` in `events`".into());
+                self.errors.push(d);
+                None
+            }
+            (Some(e), false) => match self.event_ids.get(&e.name) {
+                Some(&id) => Some(id),
+                None if self.events_over_limit => None,
+                None => {
+                    self.undefined(
+                        e,
+                        format!("undefined event `{}` as the time base", e.name),
+                        &[Kind::Event],
+                    );
+                    None
+                }
+            },
+        };
+        let period_us = match period {
+            None => None,
+            Some(p) => match p.unit.micros() {
+                None => {
+                    self.err(
+                        p.span,
+                        "the time base's period is a time (`1 ms`, `10 us`), not a number of ticks",
+                    );
+                    None
+                }
+                Some(unit) => match p.value.checked_mul(unit) {
+                    Some(0) => {
+                        self.err(p.span, "the time base's period must be longer than zero");
+                        None
+                    }
+                    Some(us) => Some(us),
+                    None => {
+                        self.err(
+                            p.span,
+                            "this period does not fit in 64 bits of microseconds",
+                        );
+                        None
+                    }
+                },
+            },
+        };
+        if self.errors.len() > before {
+            return None;
+        }
+        Some(Timebase {
+            event: event?,
+            period_us,
+            span,
+        })
+    }
+
+    /// A duration in time-base ticks: at least one, at most [`MAX_DURATION_TICKS`], a
+    /// whole number of periods. `None` (with an error) otherwise.
+    fn duration_ticks(&mut self, d: &ast::Duration, what: &str) -> Option<u32> {
+        if !self.timebase_written {
+            let mut e = Diagnostic::name_error(
+                d.span,
+                format!("{what} needs a time base, and this machine declares none"),
+            );
+            e.helps.push(if self.clocked {
+                "declare the period of one clock tick: `timebase 1 ms;` (or `timebase;` and \
+                 durations in `ticks`)"
+                    .into()
+            } else {
+                "declare the event that marks time and its period: `timebase Tick 1 ms;`".into()
+            });
+            self.errors.push(e);
+            return None;
+        }
+        let tb = self.timebase.clone()?;
+        let ticks = match (d.unit.micros(), tb.period_us) {
+            (None, _) => d.value,
+            (Some(_), None) => {
+                let mut e = Diagnostic::name_error(
+                    d.span,
+                    format!(
+                        "`{} {}`: the time base has no period, so durations are in `ticks`",
+                        d.value,
+                        d.unit.keyword()
+                    ),
+                );
+                e.helps.push(
+                    "give the time base a period (`timebase Tick 1 ms;`) or write the \
+                     duration in ticks"
+                        .into(),
+                );
+                self.errors.push(e);
+                return None;
+            }
+            (Some(unit), Some(period)) => {
+                let Some(us) = d.value.checked_mul(unit) else {
+                    self.err(
+                        d.span,
+                        "this duration does not fit in 64 bits of microseconds",
+                    );
+                    return None;
+                };
+                if us % period != 0 {
+                    self.err(
+                        d.span,
+                        format!(
+                            "`{} {}` is not a whole number of time-base periods ({})",
+                            d.value,
+                            d.unit.keyword(),
+                            format_us(period)
+                        ),
+                    );
+                    return None;
+                }
+                us / period
+            }
+        };
+        if ticks == 0 {
+            self.err(
+                d.span,
+                format!("{what} of zero: a duration is at least one time-base period"),
+            );
+            return None;
+        }
+        if ticks > MAX_DURATION_TICKS {
+            self.err(
+                d.span,
+                format!(
+                    "{what} of {ticks} ticks; the limit is {MAX_DURATION_TICKS} ticks (2^32 - 1)"
+                ),
+            );
+            return None;
+        }
+        Some(ticks as u32)
     }
 
     fn guard(&mut self, e: &Expr) -> Option<(Guard, Bdd)> {
@@ -979,6 +1195,17 @@ impl<'a> Resolver<'a> {
                 Prop::Or(Box::new(a?), Box::new(b?))
             }
         })
+    }
+}
+
+/// A period in the largest unit that states it exactly (`1 ms`, `250 us`).
+pub fn format_us(us: u64) -> String {
+    if us % 1_000_000 == 0 {
+        format!("{} s", us / 1_000_000)
+    } else if us % 1_000 == 0 {
+        format!("{} ms", us / 1_000)
+    } else {
+        format!("{us} us")
     }
 }
 

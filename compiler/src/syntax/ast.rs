@@ -127,6 +127,71 @@ pub enum DeclKind {
         /// States exempted from the obligation.
         except: Vec<Ident>,
     },
+    /// `timebase Tick 1 ms;` (event-driven) or `timebase 10 us;` (clocked); the event
+    /// and the period may each be left out.
+    Timebase {
+        /// The event that marks time (event-driven machines).
+        event: Option<Ident>,
+        /// The time one time-base event stands for.
+        period: Option<Duration>,
+    },
+}
+
+/// The unit of a duration.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum TimeUnit {
+    /// Time-base events.
+    Ticks,
+    /// Microseconds.
+    Us,
+    /// Milliseconds.
+    Ms,
+    /// Seconds.
+    S,
+}
+
+impl TimeUnit {
+    /// The unit as written.
+    pub fn keyword(self) -> &'static str {
+        match self {
+            TimeUnit::Ticks => "ticks",
+            TimeUnit::Us => "us",
+            TimeUnit::Ms => "ms",
+            TimeUnit::S => "s",
+        }
+    }
+
+    /// Microseconds in one unit (`None` for ticks).
+    pub fn micros(self) -> Option<u64> {
+        match self {
+            TimeUnit::Ticks => None,
+            TimeUnit::Us => Some(1),
+            TimeUnit::Ms => Some(1_000),
+            TimeUnit::S => Some(1_000_000),
+        }
+    }
+
+    /// The unit a word names (`ticks`, `us`, `ms`, `s`).
+    pub fn from_word(w: &str) -> Option<TimeUnit> {
+        Some(match w {
+            "ticks" => TimeUnit::Ticks,
+            "us" => TimeUnit::Us,
+            "ms" => TimeUnit::Ms,
+            "s" => TimeUnit::S,
+            _ => return None,
+        })
+    }
+}
+
+/// A duration as written: `250 ms`, `250ms`, `40 ticks`.
+#[derive(Clone, Copy, Debug)]
+pub struct Duration {
+    /// The number.
+    pub value: u64,
+    /// The unit.
+    pub unit: TimeUnit,
+    /// Where the number is written.
+    pub span: Span,
 }
 
 /// A declaration with the span of its keyword.
@@ -232,6 +297,8 @@ pub enum Target {
 pub struct RuleAst {
     /// `preempt`: where the keyword is written (groups only).
     pub preempt: Option<Span>,
+    /// `after D`: a timeout rule (no trigger, no `preempt`, no `else`).
+    pub after: Option<Duration>,
     /// The trigger; `None` in clocked machines.
     pub trigger: Option<Trigger>,
     /// The guard after `if`.

@@ -241,6 +241,7 @@ impl<'a> P<'a> {
         Some(Body::Rule(RuleAst {
             // `preempt` and `else` rules are left to the full parser.
             preempt: None,
+            after: None,
             trigger,
             guard,
             otherwise: None,

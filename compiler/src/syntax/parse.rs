@@ -38,6 +38,8 @@ mod kw {
     syn::custom_keyword!(ignore);
     syn::custom_keyword!(reject);
     syn::custom_keyword!(preempt);
+    syn::custom_keyword!(timebase);
+    syn::custom_keyword!(after);
 }
 
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
@@ -699,6 +701,19 @@ fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
             Vec::new()
         };
         DeclKind::Recover { target, except }
+    } else if is("timebase") {
+        input.parse::<kw::timebase>()?;
+        let event = if input.cursor().ident().is_some() {
+            Some(parse_name(input, "the time base's event")?)
+        } else {
+            None
+        };
+        let period = if input.peek(syn::LitInt) || input.peek(syn::LitFloat) {
+            Some(parse_duration(input)?)
+        } else {
+            None
+        };
+        DeclKind::Timebase { event, period }
     } else {
         return Ok(None);
     };
@@ -884,14 +899,100 @@ fn parse_body(input: ParseStream) -> syn::Result<Body> {
     parse_rule(input).map(Body::Rule)
 }
 
+/// `INT unit` or `INT_WITH_UNIT_SUFFIX` (`250 ms`, `250ms`, `40 ticks`).
+pub(crate) fn parse_duration(input: ParseStream) -> syn::Result<Duration> {
+    if input.peek(syn::LitFloat) {
+        let f: syn::LitFloat = input.parse()?;
+        return Err(syn::Error::new(
+            f.span(),
+            "a duration is a whole number of `ticks`, `us`, `ms` or `s` (write `1500 us`, not `1.5 ms`)",
+        ));
+    }
+    if !input.peek(syn::LitInt) {
+        return Err(input.error("expected a duration (`250 ms`, `250ms`, `40 ticks`)"));
+    }
+    let lit: syn::LitInt = input.parse()?;
+    let span = lit.span();
+    let value: u64 = lit
+        .base10_parse()
+        .map_err(|_| syn::Error::new(span, "this duration does not fit in 64 bits"))?;
+    let unit = if lit.suffix().is_empty() {
+        match word(input) {
+            Some(w) => match TimeUnit::from_word(&w.0.to_string()) {
+                Some(u) => {
+                    input.step(|c| {
+                        let (_, rest) = c.ident().ok_or_else(|| c.error("expected a unit"))?;
+                        Ok(((), rest))
+                    })?;
+                    u
+                }
+                None => {
+                    return Err(syn::Error::new(
+                        w.0.span(),
+                        format!(
+                            "`{}` is not a unit of time: write `ticks`, `us`, `ms` or `s`",
+                            w.0
+                        ),
+                    ))
+                }
+            },
+            None => {
+                return Err(
+                    input.error("a duration needs its unit: `ticks`, `us`, `ms` or `s` (`250 ms`)")
+                )
+            }
+        }
+    } else {
+        match TimeUnit::from_word(lit.suffix()) {
+            Some(u) => u,
+            None => {
+                return Err(syn::Error::new(
+                    span,
+                    format!(
+                        "`{}` is not a unit of time: write `ticks`, `us`, `ms` or `s`",
+                        lit.suffix()
+                    ),
+                ))
+            }
+        }
+    };
+    Ok(Duration { value, unit, span })
+}
+
 fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     let span = input.span();
+    if is_one_of(&word(input), &["after"])
+        && (input.peek2(syn::LitInt) || input.peek2(syn::LitFloat))
+    {
+        input.parse::<kw::after>()?;
+        let after = parse_duration(input)?;
+        let guard = if input.peek(Token![if]) {
+            input.parse::<Token![if]>()?;
+            Some(parse_expr(input, false, 0, &mut 0)?)
+        } else {
+            if input.peek(Token![else]) {
+                return Err(input
+                    .error("a timeout rule cannot be an `else` rule: give it a guard, or none"));
+            }
+            None
+        };
+        return finish_rule(input, span, None, Some(after), None, guard, None);
+    }
     let preempt = if is_one_of(&word(input), &["preempt"]) {
         let p: kw::preempt = input.parse()?;
         Some(p.span)
     } else {
         None
     };
+    if preempt.is_some()
+        && is_one_of(&word(input), &["after"])
+        && (input.peek2(syn::LitInt) || input.peek2(syn::LitFloat))
+    {
+        return Err(input.error(
+            "`preempt after`: a timeout rule cannot preempt; a group's timeouts already \
+             come before its members' named rules",
+        ));
+    }
     let w = word(input);
     let trigger = if is_one_of(&w, &["_"]) {
         let t: Token![_] = input.parse()?;
@@ -917,9 +1018,22 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
         }
         None
     };
+    finish_rule(input, span, preempt, None, trigger, guard, otherwise)
+}
+
+/// The rest of a rule, from `=>` on.
+fn finish_rule(
+    input: ParseStream,
+    span: Span,
+    preempt: Option<Span>,
+    after: Option<Duration>,
+    trigger: Option<Trigger>,
+    guard: Option<Expr>,
+    otherwise: Option<Span>,
+) -> syn::Result<RuleAst> {
     if !input.peek(Token![=>]) {
         return Err(input.error(
-            if trigger.is_none() && guard.is_none() && otherwise.is_none() {
+            if trigger.is_none() && guard.is_none() && otherwise.is_none() && after.is_none() {
                 "expected a rule (`Event => Target;`), `enter do`, `leave do`, a state or a group"
             } else {
                 "expected `=>`"
@@ -951,6 +1065,7 @@ fn parse_rule(input: ParseStream) -> syn::Result<RuleAst> {
     expect_semi(input)?;
     Ok(RuleAst {
         preempt,
+        after,
         trigger,
         guard,
         otherwise,

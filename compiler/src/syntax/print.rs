@@ -126,7 +126,22 @@ fn print_decl(out: &mut String, d: &Decl) {
                 );
             }
         }
+        DeclKind::Timebase { event, period } => {
+            out.push_str("    timebase");
+            if let Some(e) = event {
+                let _ = write!(out, " {}", e.name);
+            }
+            if let Some(p) = period {
+                let _ = write!(out, " {}", print_duration(p));
+            }
+            out.push_str(";\n");
+        }
     }
+}
+
+/// A duration as `250 ms`.
+pub fn print_duration(d: &Duration) -> String {
+    format!("{} {}", d.value, d.unit.keyword())
 }
 
 fn print_emit(list: &[Ident]) -> String {
@@ -199,6 +214,9 @@ pub fn print_rule(r: &RuleAst) -> String {
     let mut s = String::new();
     if r.preempt.is_some() {
         s.push_str("preempt ");
+    }
+    if let Some(d) = &r.after {
+        let _ = write!(s, "after {} ", print_duration(d));
     }
     match &r.trigger {
         Some(Trigger::Events(evs)) => {
