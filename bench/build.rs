@@ -46,6 +46,7 @@ fn specs() -> Vec<Spec> {
                 actions: 3,
                 groups: true,
                 policy: Some(policy),
+                timeouts: false,
             },
         )
     };

@@ -43,6 +43,7 @@ fn machines() -> Vec<(&'static str, LogicSpec)> {
             actions: 3,
             groups: true,
             policy: Some("ignore"),
+            timeouts: false,
         },
     );
     vec![("charger9", load(charger)), ("gen16", load(&generated))]

@@ -11,6 +11,7 @@
 #![warn(missing_docs)]
 
 pub mod check;
+pub mod configs;
 pub mod diag;
 pub mod driver;
 pub mod emit;

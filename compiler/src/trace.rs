@@ -1138,7 +1138,7 @@ Stop
             (
                 1,
                 15,
-                "unknown key `when`; a step has `event` and `inputs`".into()
+                "unknown key `when`; a step has `event`, `inputs` and `repeat`".into()
             )
         );
         assert_eq!(

@@ -66,6 +66,7 @@ fn random_machines() -> Vec<(String, Machine)> {
                 actions: (seed % 3) as usize,
                 groups: seed % 2 == 0,
                 policy: Some("ignore"),
+                timeouts: false,
             };
             let name = format!("random seed {seed}");
             (name.clone(), load(&name, &random_spec(1000 + seed, &cfg)))

@@ -251,6 +251,7 @@ fn exhaustive_search_matches_brute_force_over_all_assignments() {
             actions: 1,
             groups: false,
             policy: Some("ignore"),
+            timeouts: false,
         },
     );
     let m = load("random", &text);
@@ -311,6 +312,7 @@ fn random_machines_simulate_like_the_interpreter() {
             actions: ((seed + 1) % 3) as usize,
             groups: true,
             policy: None,
+            timeouts: false,
         };
         let text = random_spec(seed, &cfg);
         let m = load(&format!("random{seed}"), &text);
@@ -338,6 +340,7 @@ fn wide_machines_use_cube_lists_and_still_simulate() {
             actions: 1,
             groups: true,
             policy: Some("ignore"),
+            timeouts: false,
         };
         let text = random_spec(seed, &cfg);
         let m = load("wide", &text);

@@ -8,7 +8,13 @@
 //! guards over a few inputs, `A | B` triggers, `_`, nested groups with inherited rules
 //! and Moore outputs, `preempt` rules in groups (guarded ones fall through), `else`
 //! rules (for events, for `_`, and in clocked machines), enter/leave actions, Mealy
-//! outputs, `stay` and external self-transitions, and clocked machines.
+//! outputs, `stay` and external self-transitions, and clocked machines. With
+//! [`GenConfig::timeouts`], a time base (the first event, or the clock; with or
+//! without a period) and `after` rules in states and groups: one to three durations
+//! per scope, short enough for random traces to reach (1 to 6 ticks, sometimes 12),
+//! guarded ones as partitions of the inputs with parts dropped (they fall through to
+//! the named rules), to other states, to the same state (an external self-transition
+//! that restarts the timer) or `stay`.
 //!
 //! Seeded and reproducible: the same seed and config give the same text.
 
@@ -34,6 +40,8 @@ pub struct GenConfig {
     pub groups: bool,
     /// `None`: pick a policy at random.
     pub policy: Option<&'static str>,
+    /// Declare a time base and write `after` rules.
+    pub timeouts: bool,
 }
 
 impl Default for GenConfig {
@@ -46,6 +54,7 @@ impl Default for GenConfig {
             actions: 2,
             groups: true,
             policy: None,
+            timeouts: false,
         }
     }
 }
@@ -83,6 +92,8 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         actions,
         n_states,
         out: String::new(),
+        period_us: None,
+        timeouts: cfg.timeouts,
     };
     let mut s = String::new();
     let _ = writeln!(
@@ -104,6 +115,26 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     }
     let _ = writeln!(s, "    start S0;");
     let _ = writeln!(s, "    unhandled {policy};");
+    if cfg.timeouts {
+        let event = if clocked {
+            String::new()
+        } else {
+            format!(" {}", g.events[0])
+        };
+        match g.rng.index(3) {
+            0 => {
+                let _ = writeln!(s, "    timebase{event};");
+            }
+            1 => {
+                g.period_us = Some(1_000);
+                let _ = writeln!(s, "    timebase{event} 1 ms;");
+            }
+            _ => {
+                g.period_us = Some(250);
+                let _ = writeln!(s, "    timebase{event} 250 us;");
+            }
+        }
+    }
     g.out = s;
     for node in &tree {
         g.node(node, 1, false);
@@ -148,6 +179,9 @@ struct Gen {
     actions: Vec<String>,
     n_states: usize,
     out: String,
+    /// The time base's period, when it has one (durations are then written in time).
+    period_us: Option<u64>,
+    timeouts: bool,
 }
 
 impl Gen {
@@ -245,9 +279,83 @@ impl Gen {
         }
     }
 
+    /// A duration of `ticks` as the spec writes it: ticks, or time when the time base
+    /// has a period (in either spelling, `2 ms` or `2ms`).
+    // `u64::is_multiple_of` needs Rust 1.87; the workspace's MSRV is 1.85.
+    #[allow(clippy::manual_is_multiple_of)]
+    fn duration(&mut self, ticks: u64) -> String {
+        match self.period_us {
+            None => format!("{ticks} ticks"),
+            Some(p) => {
+                let us = ticks * p;
+                let text = if us % 1_000 == 0 {
+                    (us / 1_000, "ms")
+                } else {
+                    (us, "us")
+                };
+                if self.rng.chance(0.5) {
+                    format!("{}{}", text.0, text.1)
+                } else {
+                    format!("{} {}", text.0, text.1)
+                }
+            }
+        }
+    }
+
+    /// Writes a scope's timeout rules (sometimes none): one to three durations, each a
+    /// partition of the inputs with parts dropped.
+    fn timeout_rules(&mut self, level: usize) {
+        if !self.timeouts || !self.rng.chance(0.5) {
+            return;
+        }
+        let mut durations: Vec<u64> = (0..self.rng.range(1, 3))
+            .map(|_| {
+                if self.rng.chance(0.1) {
+                    12
+                } else {
+                    self.rng.range(1, 6) as u64
+                }
+            })
+            .collect();
+        durations.sort_unstable();
+        durations.dedup();
+        for d in durations {
+            let parts = self.partition();
+            for guard in parts {
+                if guard.is_some() && self.rng.chance(0.3) {
+                    continue;
+                }
+                let target = match self.rng.index(5) {
+                    0 => "stay".to_string(),
+                    _ => format!("S{}", self.rng.index(self.n_states)),
+                };
+                let outputs = self.outputs.clone();
+                let actions = self.actions.clone();
+                let emit = self.pick_some(&outputs, 0.25);
+                let act = self.pick_some(&actions, 0.3);
+                let dur = self.duration(d);
+                self.indent(level);
+                let mut line = format!("after {dur} ");
+                if let Some(g) = guard {
+                    let _ = write!(line, "if {g} ");
+                }
+                let _ = write!(line, "=> {target}");
+                if !emit.is_empty() {
+                    let _ = write!(line, ", emit {}", emit.join(", "));
+                }
+                if !act.is_empty() {
+                    let _ = write!(line, ", do {}", act.join(", "));
+                }
+                line.push_str(";\n");
+                self.out.push_str(&line);
+            }
+        }
+    }
+
     /// Writes a scope's rules. `must_cover`: every event needs a rule here (no
     /// enclosing scope provides one).
     fn scope_rules(&mut self, level: usize, must_cover: bool, is_group: bool) -> bool {
+        self.timeout_rules(level);
         if self.clocked {
             let write = must_cover || self.rng.chance(if is_group { 0.5 } else { 0.7 });
             if write {
@@ -351,6 +459,29 @@ impl Gen {
             }
         }
     }
+}
+
+/// A random trace for a machine with a time base: like [`random_trace`], but the
+/// time-base event (event 0: the first event, or the clock) comes with probability
+/// `p_tick`, so that timeouts come due.
+pub fn random_timed_trace(
+    rng: &mut Rng,
+    n_events: usize,
+    n_inputs: usize,
+    len: usize,
+    p_tick: f64,
+) -> Vec<(usize, Vec<bool>)> {
+    (0..len)
+        .map(|_| {
+            let e = if n_events <= 1 || rng.chance(p_tick) {
+                0
+            } else {
+                rng.range(1, n_events - 1)
+            };
+            let ins = (0..n_inputs).map(|_| rng.chance(0.5)).collect();
+            (e, ins)
+        })
+        .collect()
 }
 
 /// A random trace for a machine: `len` steps of (event number, input values).

@@ -91,6 +91,7 @@ fn random_machines() -> Vec<(String, Vec<Machine>)> {
             actions: 0,
             groups: false,
             policy: Some("reject"),
+            timeouts: false,
         },
         GenConfig {
             policy: Some("complete"),

@@ -1022,6 +1022,8 @@ impl<'a> Resolver<'a> {
 
     /// A duration in time-base ticks: at least one, at most [`MAX_DURATION_TICKS`], a
     /// whole number of periods. `None` (with an error) otherwise.
+    // `u64::is_multiple_of` needs Rust 1.87; the workspace's MSRV is 1.85.
+    #[allow(clippy::manual_is_multiple_of)]
     fn duration_ticks(&mut self, d: &ast::Duration, what: &str) -> Option<u32> {
         if !self.timebase_written {
             let mut e = Diagnostic::name_error(
@@ -1199,6 +1201,8 @@ impl<'a> Resolver<'a> {
 }
 
 /// A period in the largest unit that states it exactly (`1 ms`, `250 us`).
+// `u64::is_multiple_of` needs Rust 1.87; the workspace's MSRV is 1.85.
+#[allow(clippy::manual_is_multiple_of)]
 pub fn format_us(us: u64) -> String {
     if us % 1_000_000 == 0 {
         format!("{} s", us / 1_000_000)

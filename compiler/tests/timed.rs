@@ -1,0 +1,390 @@
+//! Time in the spec (LANGUAGE.md, "Time and counts"): the interpreter, which steps
+//! through the lowered form, against a direct reading of the timer rules written from
+//! LANGUAGE.md on the resolved model (no lowered form), on random machines with
+//! timeouts and long random traces; hand-checked runs; and the errors a spec with
+//! time can get.
+
+use detent_compiler::interp::{Config, Outcome};
+use detent_compiler::model::{EventId, Guard, Machine, RuleId, Scope, StateId, Target, TimerId};
+use detent_tests::gen::{random_spec, random_timed_trace, GenConfig, Rng};
+
+fn resolve(text: &str) -> Machine {
+    let file = detent_compiler::syntax::parse_source(text).expect("parses");
+    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
+    assert!(errors.is_empty(), "{text}\n{errors:#?}");
+    machines.remove(0)
+}
+
+fn errors(text: &str) -> Vec<String> {
+    let report = detent_compiler::driver::check_source("t.detent", text);
+    report
+        .diagnostics()
+        .filter(|d| d.is_error())
+        .map(|d| d.message.clone())
+        .collect()
+}
+
+/// The first rule of `rules` (an `else` rule last) whose guard holds.
+fn first_holding(m: &Machine, rules: &[RuleId], inputs: &[bool]) -> Option<RuleId> {
+    let (plain, otherwise): (Vec<RuleId>, Vec<RuleId>) =
+        rules.iter().partition(|r| !m.rules[r.index()].otherwise);
+    plain.into_iter().chain(otherwise).find(|r| {
+        m.rules[r.index()]
+            .guard_expr
+            .as_ref()
+            .is_none_or(|g: &Guard| g.eval(&|i| inputs.get(i.index()).copied().unwrap_or(false)))
+    })
+}
+
+/// One step, read directly off LANGUAGE.md: timers count first on the time base; then
+/// preempt rules (outermost group first), due timeouts (innermost scope first), the
+/// innermost scope naming the event, else the innermost `_`; a move sets the timers
+/// of the scopes it enters to 0.
+fn oracle_step(
+    m: &Machine,
+    state: &mut StateId,
+    timers: &mut [u32],
+    event: EventId,
+    inputs: &[bool],
+) -> Option<RuleId> {
+    let chain = m.scope_chain(*state);
+    let is_tb = m.timebase.as_ref().is_some_and(|t| t.event == event);
+    let before = timers.to_vec();
+    if is_tb {
+        for sc in &chain {
+            if let Some(t) = m.scope_rules(*sc).timer {
+                let max = m.timers[t.index()].max();
+                timers[t.index()] = (timers[t.index()] + 1).min(max);
+            }
+        }
+    }
+    let mut fired = None;
+    for sc in chain.iter().rev() {
+        if fired.is_some() {
+            break;
+        }
+        if let Some((_, rules)) = m.scope_rules(*sc).preempt.iter().find(|(e, _)| *e == event) {
+            fired = first_holding(m, rules, inputs);
+        }
+    }
+    if fired.is_none() && is_tb {
+        for sc in &chain {
+            let rules = m.scope_rules(*sc);
+            let Some(t) = rules.timer else { continue };
+            for (d, list) in &rules.timeouts {
+                if before[t.index()] + 1 == *d {
+                    fired = fired.or_else(|| first_holding(m, list, inputs));
+                }
+            }
+            if fired.is_some() {
+                break;
+            }
+        }
+    }
+    if fired.is_none() {
+        let named = chain.iter().find_map(|sc| {
+            m.scope_rules(*sc)
+                .named
+                .iter()
+                .find(|(e, _)| *e == event)
+                .map(|(_, l)| l.clone())
+        });
+        fired = match named {
+            Some(list) => first_holding(m, &list, inputs),
+            None => chain
+                .iter()
+                .find(|sc| !m.scope_rules(**sc).wildcard.is_empty())
+                .and_then(|sc| first_holding(m, &m.scope_rules(*sc).wildcard, inputs)),
+        };
+    }
+    if let Some(r) = fired {
+        if let Target::To(to) = m.rules[r.index()].target {
+            let from = *state;
+            // Entered: the target, and its groups that do not hold the source.
+            let mut entered = vec![Scope::State(to)];
+            for g in m.ancestors(to) {
+                if !m.group_contains(g, from) {
+                    entered.push(Scope::Group(g));
+                }
+            }
+            for sc in entered {
+                if let Some(t) = m.scope_rules(sc).timer {
+                    timers[t.index()] = 0;
+                }
+            }
+            *state = to;
+            let active = m.chain_timers(to);
+            for (i, v) in timers.iter_mut().enumerate() {
+                if !active.contains(&TimerId::from_index(i)) {
+                    *v = 0;
+                }
+            }
+        }
+    }
+    fired
+}
+
+#[test]
+fn interpreter_matches_the_written_timer_rules_on_random_machines() {
+    let d = GenConfig {
+        timeouts: true,
+        ..GenConfig::default()
+    };
+    let configs = [
+        d.clone(),
+        GenConfig {
+            events: 0,
+            ..d.clone()
+        },
+        GenConfig {
+            groups: false,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (6, 16),
+            events: 4,
+            inputs: 3,
+            ..d.clone()
+        },
+        GenConfig {
+            policy: Some("ignore"),
+            ..d.clone()
+        },
+    ];
+    let mut machines = 0;
+    let mut timeouts_fired = 0usize;
+    let mut steps = 0usize;
+    for (k, cfg) in configs.iter().enumerate() {
+        for seed in 0..40u64 {
+            let seed = 9_000 + k as u64 * 1_000 + seed;
+            let text = random_spec(seed, cfg);
+            let errs = errors(&text);
+            assert!(errs.is_empty(), "seed {seed}: {errs:?}\n{text}");
+            let m = resolve(&text);
+            machines += 1;
+            let mut rng = Rng::new(seed);
+            for _ in 0..3 {
+                let trace = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.7);
+                let mut config: Config = m.start_config();
+                let mut state = m.start;
+                let mut timers = vec![0u32; m.timers.len()];
+                for (n, (e, ins)) in trace.iter().enumerate() {
+                    let e = EventId::from_index(*e);
+                    let r = m.step_config(&mut config, e, ins);
+                    let want = oracle_step(&m, &mut state, &mut timers, e, ins);
+                    let got = match r.outcome {
+                        Outcome::Fired(rule) => Some(rule),
+                        _ => None,
+                    };
+                    assert_eq!(got, want, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.state, state, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.timers, timers, "seed {seed}, step {n}\n{text}");
+                    if let Some(rule) = got {
+                        if matches!(
+                            m.rules[rule.index()].trigger,
+                            detent_compiler::model::Trigger::After(_)
+                        ) {
+                            timeouts_fired += 1;
+                        }
+                    }
+                    steps += 1;
+                }
+            }
+        }
+    }
+    assert_eq!(machines, 200);
+    // The traces do reach the timeouts (a test that never fires one proves nothing).
+    assert!(
+        timeouts_fired > 1_000,
+        "{timeouts_fired} timeouts fired in {steps} steps"
+    );
+}
+
+const BLINK: &str = "
+machine Blink {
+    events Tick, Press;
+    outputs lamp;
+    timebase Tick 1 ms;
+    start Off;
+    group Active {
+        after 3 s => Off;
+        Press => Off;
+        Tick => stay;
+        state On emit lamp { after 500 ms => Dark; }
+        state Dark { after 500ms => On; }
+    }
+    state Off { Press => On; Tick => stay; }
+}";
+
+#[test]
+fn a_blinking_lamp_keeps_its_times() {
+    // Hand-checked: On for 500 ticks, Dark for 500, and the group's 3 s timeout is due
+    // on the 3,000th tick after Press, the same tick Dark's own timeout is due: the
+    // innermost scope's timeout fires first (LANGUAGE.md, lookup step 2), and the
+    // group's, one-shot, never fires in that entry.
+    let m = resolve(BLINK);
+    let tick = m.event_id("Tick").unwrap();
+    let press = m.event_id("Press").unwrap();
+    let mut c = m.start_config();
+    m.step_config(&mut c, press, &[]);
+    assert_eq!(m.state_name(c.state), "On");
+    assert_eq!(m.next_timeout(&c), Some(500));
+    let mut states = Vec::new();
+    for _ in 0..3_001 {
+        let r = m.step_config(&mut c, tick, &[]);
+        states.push(m.state_name(r.to).to_string());
+    }
+    assert_eq!(states[498], "On");
+    assert_eq!(states[499], "Dark", "the 500th tick leaves On");
+    assert_eq!(states[998], "Dark");
+    assert_eq!(states[999], "On");
+    assert_eq!(states[2_999], "On", "Dark's own timeout wins on tick 3,000");
+    assert_eq!(m.next_timeout(&c), Some(499));
+    // The group's timer stays saturated at 3,000 until the group is left.
+    assert_eq!(c.timers.iter().copied().max(), Some(3_000));
+    // Press leaves the group; entering it again restarts its timer.
+    m.step_config(&mut c, press, &[]);
+    assert_eq!(m.state_name(c.state), "Off");
+    assert_eq!(c.timers, vec![0, 0, 0]);
+    m.step_config(&mut c, press, &[]);
+    for _ in 0..2_999 {
+        m.step_config(&mut c, tick, &[]);
+    }
+    assert_eq!(m.state_name(c.state), "Dark");
+    let r = m.step_config(&mut c, tick, &[]);
+    assert_eq!(
+        m.state_name(r.to),
+        "On",
+        "tick 3,000 again: Dark's timeout first"
+    );
+}
+
+#[test]
+fn a_timeout_fires_once_per_entry_and_a_guard_that_fails_waits_for_the_next_entry() {
+    let m = resolve(
+        "machine Once { events Tick, Go; inputs ready; timebase Tick; start A;
+            state A { after 2 ticks if ready => B; Tick => stay; Go => A; }
+            state B { Tick => stay; Go => A; } }",
+    );
+    let tick = m.event_id("Tick").unwrap();
+    let go = m.event_id("Go").unwrap();
+    let mut c = m.start_config();
+    m.step_config(&mut c, tick, &[false]);
+    // Due on the second tick, but `ready` is low: not due again in this entry.
+    let r = m.step_config(&mut c, tick, &[false]);
+    assert_eq!(r.to, c.state);
+    for _ in 0..10 {
+        assert_eq!(m.state_name(m.step_config(&mut c, tick, &[true]).to), "A");
+    }
+    assert_eq!(m.next_timeout(&c), None);
+    // `Go => A` is an external self-transition: the timer starts again.
+    m.step_config(&mut c, go, &[]);
+    assert_eq!(m.next_timeout(&c), Some(2));
+    m.step_config(&mut c, tick, &[true]);
+    assert_eq!(m.state_name(m.step_config(&mut c, tick, &[true]).to), "B");
+}
+
+#[test]
+fn stay_keeps_the_timer_and_a_clocked_machine_counts_every_step() {
+    let m = resolve(
+        "machine Clk { inputs hold; timebase 10 us; start A;
+            state A { after 50 us => B; if hold => stay; else => stay; }
+            state B { else => A; } }",
+    );
+    let mut c = m.start_config();
+    let mut path = Vec::new();
+    for _ in 0..7 {
+        path.push(
+            m.state_name(m.step_config(&mut c, EventId(0), &[true]).to)
+                .to_string(),
+        );
+    }
+    assert_eq!(path, ["A", "A", "A", "A", "B", "A", "A"]);
+}
+
+#[test]
+fn time_errors_say_what_is_wrong() {
+    let cases: &[(&str, &str)] = &[
+        (
+            "machine M { events Tick; start A; state A { after 3 ticks => A; Tick => stay; } }",
+            "a timeout needs a time base, and this machine declares none",
+        ),
+        (
+            "machine M { events Tick; timebase Tick 1 ms; start A; state A { after 250 us => A; Tick => stay; } }",
+            "`250 us` is not a whole number of time-base periods (1 ms)",
+        ),
+        (
+            "machine M { events Tick; timebase Tick 1 ms; start A; state A { after 0 ms => A; Tick => stay; } }",
+            "a timeout of zero: a duration is at least one time-base period",
+        ),
+        (
+            "machine M { events Tick; timebase Tock 1 ms; start A; state A { Tick => stay; } }",
+            "undefined event `Tock` as the time base",
+        ),
+        (
+            "machine M { events Tick; timebase Tick; start A; state A { after 2 ms => A; Tick => stay; } }",
+            "`2 ms`: the time base has no period, so durations are in `ticks`",
+        ),
+        (
+            "machine M { events Tick; timebase 1 ms; start A; state A { Tick => stay; } }",
+            "this time base names no event",
+        ),
+        (
+            "machine M { timebase Tick 1 ticks; start A; state A { else => stay; } }",
+            "the time base's period is a time",
+        ),
+        (
+            "machine M { events Tick; timebase Tick; start A; state A { after 5000000000 ticks => A; Tick => stay; } }",
+            "the limit is 4294967295 ticks",
+        ),
+    ];
+    for (spec, want) in cases {
+        let errs = errors(spec);
+        assert!(
+            errs.iter().any(|e| e.contains(want)),
+            "{spec}\nwant: {want}\ngot: {errs:?}"
+        );
+    }
+    // Parse errors.
+    for (spec, want) in [
+        ("machine M { events Tick; timebase Tick; start A; group G { preempt after 2 ticks => A; state A { Tick => stay; } } }", "`preempt after`"),
+        ("machine M { events Tick; timebase Tick; start A; state A { after 2 => A; } }", "a duration needs its unit"),
+        ("machine M { events Tick; timebase Tick; start A; state A { after 2 min => A; } }", "`min` is not a unit of time"),
+        ("machine M { events Tick; timebase Tick 1 ms; start A; state A { after 1.5 ms => A; } }", "whole number"),
+        ("machine M { events Tick; timebase Tick; start A; state A { after 2 ticks else => A; } }", "cannot be an `else` rule"),
+    ] {
+        let errs = errors(spec);
+        assert!(errs.iter().any(|e| e.contains(want)), "{spec}\nwant: {want}\ngot: {errs:?}");
+    }
+}
+
+#[test]
+fn repeated_trace_lines_expand_and_are_bounded() {
+    let m = resolve(BLINK);
+    let steps = detent_compiler::trace::parse_trace(
+        &m,
+        "Press\nTick *499\n{\"event\":\"Tick\",\"repeat\":2}\n",
+    )
+    .unwrap();
+    assert_eq!(steps.len(), 502);
+    let lines = detent_compiler::trace::run_json_lines(&m, &steps);
+    assert!(
+        lines[501].contains(r#""from":"On","event":"Tick","to":"Dark""#),
+        "{}",
+        lines[501]
+    );
+    for (bad, want) in [
+        ("Tick *0", "N of at least 1"),
+        ("Tick *x", "N a whole number"),
+        ("*3", "follows a step"),
+        ("reset *2", "not repeated"),
+        ("Tick *99999999999", "the limit"),
+        (
+            "{\"event\":\"Tick\",\"repeat\":0}",
+            "`repeat` must be a whole number",
+        ),
+    ] {
+        let e = detent_compiler::trace::parse_trace(&m, bad).unwrap_err();
+        assert!(e.message.contains(want), "{bad}: {}", e.message);
+    }
+}
