@@ -343,8 +343,37 @@ impl Names {
     }
 }
 
+/// A duration as the table writes it: `INT UNIT` or `INT` directly followed by its
+/// unit (`20 ms`, `20ms`, `5 ticks`).
+fn read_duration(
+    text: &str,
+    row: usize,
+    column: usize,
+) -> Result<crate::syntax::ast::Duration, ImportError> {
+    use crate::syntax::ast::{Duration, TimeUnit};
+    let text = text.trim();
+    let digits = text
+        .find(|c: char| !c.is_ascii_digit())
+        .unwrap_or(text.len());
+    let (num, unit) = text.split_at(digits);
+    let value = num.parse::<u64>().ok();
+    let unit = TimeUnit::from_word(unit.trim());
+    match (value, unit) {
+        (Some(value), Some(unit)) => Ok(Duration {
+            value,
+            unit,
+            span: Span::call_site(),
+        }),
+        _ => err(
+            row,
+            column,
+            format!("`{text}` is not a duration (`20 ms`, `250 us`, `5 ticks`)"),
+        ),
+    }
+}
+
 /// Declaration keys in the order `docs/table-csv.md` lists them.
-const DECLS: [&str; 12] = [
+const DECLS: [&str; 13] = [
     "@machine",
     "@vis",
     "@dispatch",
@@ -355,6 +384,7 @@ const DECLS: [&str; 12] = [
     "@actions",
     "@start",
     "@unhandled",
+    "@timebase",
     "@never",
     "@recover",
 ];
@@ -426,6 +456,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     let mut policy = None;
     let mut nevers: Vec<(String, usize)> = Vec::new();
     let mut recovers: Vec<(String, usize)> = Vec::new();
+    let mut timebase: Option<(String, usize)> = None;
     for r in decl_rows {
         let key = r.fields[0].trim();
         let value = r.fields[1].trim();
@@ -526,6 +557,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
                 })
             }
             "@never" => nevers.push((value.to_owned(), row)),
+            "@timebase" => timebase = Some((value.to_owned(), row)),
             _ => recovers.push((value.to_owned(), row)),
         }
     }
@@ -661,6 +693,38 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             format!("the start state `{start}` has no state record"),
         );
     }
+    // `@timebase`: `[EVENT] [PERIOD]`, as `timebase` is written in a spec.
+    let mut timebase_decl = None;
+    let mut timebase_event: Option<String> = None;
+    if let Some((value, row)) = &timebase {
+        let mut words: Vec<&str> = value.split_whitespace().collect();
+        let event = match words.first() {
+            Some(w) if w.starts_with(|c: char| c.is_ascii_alphabetic()) => {
+                let w = words.remove(0).to_owned();
+                if !names_.events.contains(&w) {
+                    return err(
+                        *row,
+                        2,
+                        format!("the time base `{w}` is not a declared event"),
+                    );
+                }
+                Some(w)
+            }
+            _ => None,
+        };
+        let period = if words.is_empty() {
+            None
+        } else {
+            Some(read_duration(&words.join(" "), *row, 2)?)
+        };
+        timebase_event = event
+            .clone()
+            .or_else(|| names_.clocked.then(|| "Tick".to_owned()));
+        timebase_decl = Some(DeclKind::Timebase {
+            event: event.map(|e| ident(&e)),
+            period,
+        });
+    }
     let mut preempted: HashMap<(usize, String), Vec<Option<Expr>>> = HashMap::new();
     for r in rows {
         let f = &r.fields;
@@ -685,6 +749,38 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         // `preempt GUARD` (or `preempt`): a preempt rule's row, whose valuations the
         // later rows of this state and event leave to it; `else`: an `else` rule's row.
         let field = f[2].trim();
+        // `after D` / `after D if GUARD`: a timeout row (`after D in GROUP`: a group's,
+        // which a flat table cannot rebuild).
+        let (after, field) = match field.strip_prefix("after") {
+            Some(rest) if rest.starts_with(char::is_whitespace) => {
+                if timebase.is_none() {
+                    return err(
+                        row,
+                        3,
+                        "a timeout row (`after ...`) needs a `@timebase` record",
+                    );
+                }
+                let rest = rest.trim();
+                let (dur, guard_text) = match rest.find(" if ") {
+                    Some(i) => (rest[..i].trim(), rest[i + 4..].trim()),
+                    None => (rest, ""),
+                };
+                if let Some(i) = dur.find(" in ") {
+                    return err(
+                        row,
+                        3,
+                        format!(
+                            "`{}` is a timeout of group `{}`: the CSV form has no groups, so \
+                             it cannot rebuild a group's timer (keep that machine as a spec)",
+                            field,
+                            dur[i + 4..].trim()
+                        ),
+                    );
+                }
+                (Some(read_duration(dur, row, 3)?), guard_text)
+            }
+            _ => (None, field),
+        };
         let (is_preempt, field) = match field.strip_prefix("preempt") {
             Some(rest) if rest.is_empty() || rest.starts_with(char::is_whitespace) => {
                 (true, rest.trim())
@@ -692,6 +788,9 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             _ => (false, field),
         };
         let is_else = field == "else";
+        if after.is_some() && (is_else || is_preempt) {
+            return err(row, 3, "a timeout row cannot be `else` or `preempt`");
+        }
         let mut guard = match field {
             "" | "else" => None,
             g => {
@@ -759,10 +858,21 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             ),
             );
         }
+        if after.is_some() {
+            let tb = timebase_event.as_deref().unwrap_or("Tick");
+            if event != tb {
+                return err(
+                    row,
+                    2,
+                    format!("a timeout row belongs to the time-base event `{tb}`, not `{event}`"),
+                );
+            }
+        }
         states[si].rules.push(RuleAst {
             preempt: None,
-            after: None,
-            trigger: (!names_.clocked).then(|| Trigger::Events(vec![ident(event)])),
+            after,
+            trigger: (!names_.clocked && after.is_none())
+                .then(|| Trigger::Events(vec![ident(event)])),
             otherwise: is_else.then(Span::call_site),
             guard,
             target,
@@ -774,6 +884,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
 
     // Properties.
     let mut decls = Vec::new();
+    let timebase_decl = timebase_decl;
     let decl = |kind| Decl {
         kind,
         span: Span::call_site(),
@@ -803,6 +914,9 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     }
     decls.push(decl(DeclKind::Start(ident(&start))));
     decls.push(decl(DeclKind::Unhandled(policy)));
+    if let Some(tb) = timebase_decl {
+        decls.push(decl(tb));
+    }
     for (text, row) in &nevers {
         let e = read_expr(text, ExprKind::Property, *row, 2)?;
         names_.check_expr(&e, ExprKind::Property, *row, 2)?;

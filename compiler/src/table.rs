@@ -191,8 +191,22 @@ pub fn rows(m: &Machine) -> Vec<Row> {
 /// The guard column of a choice's row: the guard as written; `else` for an `else`
 /// rule; `preempt GUARD` (or `preempt`) for a preempt rule, whose valuations the rows
 /// after it in the same state and event never take.
+///
+/// A timeout rule's guard column is `after D` (`after D in GROUP` for a group's
+/// timeout), then ` if GUARD` when it has a guard: the row applies only on the
+/// time-base event that brings the scope's timer to `D`.
 fn choice_guard(m: &Machine, rule: &crate::model::Rule, step: LookupStep) -> Option<String> {
     let guard = rule.guard_expr.as_ref().map(|g| guard_text(m, g));
+    if let crate::model::Trigger::After(d) = rule.trigger {
+        let mut text = format!("after {}", m.duration_text(d));
+        if let crate::model::Scope::Group(g) = rule.scope {
+            let _ = write!(text, " in {}", m.groups[g.index()].name);
+        }
+        if let Some(g) = guard {
+            let _ = write!(text, " if {g}");
+        }
+        return Some(text);
+    }
     if step == LookupStep::Preempt {
         return Some(match guard {
             Some(g) => format!("preempt {g}"),
@@ -550,6 +564,20 @@ pub fn to_csv(m: &Machine) -> String {
     );
     out.decl("@start", m.state_name(m.start));
     out.decl("@unhandled", m.policy.keyword());
+    if let Some(tb) = &m.timebase {
+        let mut text = if m.clocked {
+            String::new()
+        } else {
+            m.event_name(tb.event).to_owned()
+        };
+        if let Some(p) = tb.period_us {
+            if !text.is_empty() {
+                text.push(' ');
+            }
+            text.push_str(&crate::model::format_us(p));
+        }
+        out.decl("@timebase", &text);
+    }
     for p in &m.properties {
         match p {
             Property::Never { prop, .. } => out.decl("@never", &flat_prop_text(m, prop)),

@@ -388,3 +388,50 @@ fn repeated_trace_lines_expand_and_are_bounded() {
         assert!(e.message.contains(want), "{bad}: {}", e.message);
     }
 }
+
+#[test]
+fn state_tables_show_timeouts_and_csv_round_trips_state_timers() {
+    // Random timed machines without groups: the CSV rebuilds a machine that runs the
+    // same on long random traces (state, outputs, actions, timers).
+    let cfg = GenConfig {
+        timeouts: true,
+        groups: false,
+        ..GenConfig::default()
+    };
+    let mut with_timeouts = 0;
+    for seed in 0..40u64 {
+        let text = random_spec(31_000 + seed, &cfg);
+        let m = resolve(&text);
+        let csv = detent_compiler::table::to_csv(&m);
+        let file =
+            detent_compiler::import::import_csv(&csv).unwrap_or_else(|e| panic!("{e:?}\n{csv}"));
+        let printed = detent_compiler::syntax::print::print_file(&file);
+        let back = resolve(&printed);
+        if !m.timers.is_empty() {
+            with_timeouts += 1;
+            assert!(csv.contains(",after "), "{csv}");
+        }
+        let mut rng = Rng::new(seed);
+        let trace = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 400, 0.7);
+        let (mut a, mut b) = (m.start_config(), back.start_config());
+        for (n, (e, ins)) in trace.iter().enumerate() {
+            let e = EventId::from_index(*e);
+            let ra = m.step_config(&mut a, e, ins);
+            let rb = back.step_config(&mut b, e, ins);
+            assert_eq!(
+                (ra.to, ra.outputs(), ra.handled(), ra.actions),
+                (rb.to, rb.outputs(), rb.handled(), rb.actions),
+                "seed {seed} step {n}\n{text}\n{printed}"
+            );
+            assert_eq!(a.timers, b.timers, "seed {seed} step {n}");
+        }
+    }
+    assert!(with_timeouts >= 10, "{with_timeouts}");
+    // A group's timer has no flat form: import says so, with the row.
+    let csv = detent_compiler::table::to_csv(&resolve(BLINK));
+    let e = detent_compiler::import::import_csv(&csv).unwrap_err();
+    assert!(e.to_string().contains("timeout of group `Active`"), "{e}");
+    let text = detent_compiler::table::to_text(&resolve(BLINK));
+    assert!(text.contains("after 500 ms"), "{text}");
+    assert!(text.contains("after 3 s in Active"), "{text}");
+}

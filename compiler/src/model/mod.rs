@@ -17,7 +17,8 @@ pub mod steps;
 
 pub use bdd::{Bdd, BddStore};
 pub use resolve::{
-    bdd_overflow_message, resolve, resolve_each, resolve_file, MAX_EVENTS, MAX_INPUTS, MAX_STATES,
+    bdd_overflow_message, format_us, resolve, resolve_each, resolve_file, MAX_DURATION_TICKS,
+    MAX_EVENTS, MAX_INPUTS, MAX_STATES,
 };
 
 use crate::diag::Lint;
