@@ -10,7 +10,7 @@
 //! # What an edge is
 //!
 //! From configuration `c` in state `S`, each cell of `S` (a class of events) has one
-//! [`Variant`](crate::model::lower::Variant): the one whose due timeouts are exactly those
+//! `Variant`: the one whose due timeouts are exactly those
 //! `c`'s timers bring due on this event (none unless the cell is the time base's). Each
 //! choice with a non-empty region in that variant is an [`Edge`] (its region: the input
 //! valuations that take it), and so is the variant's unhandled region when it is not

@@ -42,14 +42,28 @@
 //! and the same short-circuit evaluation of each test, so each reads the same inputs in
 //! the same order as the interpreter; the hostile-hooks differential test checks it.
 //!
+//! # Timeouts
+//!
+//! The time-base event has a cell of its own in every state whose scopes have timers
+//! (`after` rules). Its choices include the due timeouts (lookup step 2, after the
+//! preempt rules, innermost scope first), each with a `due` condition (timer, ticks):
+//! the choice is considered only on the time-base event that brings that timer to
+//! that many ticks, which a back end tests first (it reads no input). Counting is part
+//! of the step: on the time-base event, each timer of the cell ([`Cell::timers`]) adds
+//! one, stopping at its largest duration, before the choice; a choice that fires sets
+//! the timers of the scopes it enters ([`Choice::resets`]) to 0.
+//!
+//! Which timeouts are due depends on the timers, so a time-base cell has one exact set
+//! of regions per combination of due timeouts ([`Variant`]; variant 0: nothing due,
+//! whose regions are also [`Choice::region`] and [`Cell::unhandled`]). Analyses pick
+//! the variant of a configuration ([`crate::configs::variant_at`]); a choice's test is
+//! left out only when it takes everything left in every variant that reaches it.
+//!
 //! # Room for what comes next
 //!
-//! The lookup has four steps (preempt, due timeouts, named, wildcard: [`LookupStep`]);
-//! today's language uses all but the timeouts, and a choice records which step it came
-//! from.
 //! Operations are [`Op`]s rather than bare actions so that counter operations take
 //! their place in the same sequences, and a configuration is more than a state
-//! ([`crate::interp::Config`]) so that timers and counters join it.
+//! ([`crate::interp::Config`]) so that counters join the timers there.
 //!
 //! # Cost
 //!
