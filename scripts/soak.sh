@@ -51,9 +51,9 @@ for t in "${TARGETS[@]}"; do
     exit 1
   fi
   execs=$(grep -o 'stat::number_of_executed_units: [0-9]*' "$LOG/fuzz_$t.log" | grep -o '[0-9]*$' || echo "?")
-  cov=$(grep -E '^#[0-9]+ *DONE' "$LOG/fuzz_$t.log" | grep -o 'cov: [0-9]*' | grep -o '[0-9]*$' || echo "?")
-  ft=$(grep -E '^#[0-9]+ *DONE' "$LOG/fuzz_$t.log" | grep -o 'ft: [0-9]*' | grep -o '[0-9]*$' || echo "?")
-  corp=$(ls "fuzz/corpus/$t" | wc -l)
+  cov=$(grep -E '^#[0-9]+[[:space:]]+DONE' "$LOG/fuzz_$t.log" | grep -o 'cov: [0-9]*' | grep -o '[0-9]*$' || echo "?")
+  ft=$(grep -E '^#[0-9]+[[:space:]]+DONE' "$LOG/fuzz_$t.log" | grep -o 'ft: [0-9]*' | grep -o '[0-9]*$' || echo "?")
+  corp=$(grep -E '^#[0-9]+[[:space:]]+DONE' "$LOG/fuzz_$t.log" | grep -o 'corp: [0-9]*' | grep -o '[0-9]*$' || echo "?")
   summary+=("fuzz $t: $execs executions in ${SECONDS_PER_TARGET} s, cov $cov edges, ft $ft features, corpus $corp inputs, no crash")
   echo "${summary[-1]}"
 done

@@ -87,7 +87,7 @@ for t in spec trace csv structured; do
     exit 1
   fi
   echo "fuzz $t: $(grep -o 'stat::number_of_executed_units: [0-9]*' "$fuzz_corpus/$t.log" | grep -o '[0-9]*$') executions," \
-       "$(grep -E '^#[0-9]+ *DONE' "$fuzz_corpus/$t.log" | grep -o 'cov: [0-9]*'), no crash"
+       "$(grep -E '^#[0-9]+[[:space:]]+DONE' "$fuzz_corpus/$t.log" | grep -o 'cov: [0-9]*'), no crash"
 done
 echo "fuzz part: $(( $(date +%s) - fuzz_started )) s"
 
