@@ -43,6 +43,17 @@ fn compile_c_ffi() {
 fn write_differential_machines() {
     println!("cargo:rerun-if-changed=src/gen.rs");
     println!("cargo:rerun-if-changed=build.rs");
+    // A soak run (scripts/soak.sh) asks for this many random machines in all; the Rust
+    // forms of the extra ones are `gen rust` table and match only (the macros expand the
+    // same generator), compiled into the differential test.
+    println!("cargo:rerun-if-env-changed=DETENT_SOAK_MACHINES");
+    let soak: Option<u64> =
+        std::env::var("DETENT_SOAK_MACHINES")
+            .ok()
+            .map(|v| match v.trim().parse::<u64>() {
+                Ok(n) if n > 0 => n,
+                _ => panic!("DETENT_SOAK_MACHINES must be a positive number, not `{v}`"),
+            });
     let out = PathBuf::from(std::env::var_os("OUT_DIR").expect("cargo sets OUT_DIR"));
     let configs = [
         gen::GenConfig::default(),
@@ -74,12 +85,25 @@ fn write_differential_machines() {
         "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
     );
     let mut specs: Vec<(String, String)> = Vec::new();
+    // (name, spec) of the soak machines: table and match forms only.
+    let mut soak_specs: Vec<(String, String)> = Vec::new();
     for (ci, cfg) in configs.iter().enumerate() {
         // The big machines cost the most to build: two seeds of them.
         let seeds = if cfg.states.0 > 100 { 2 } else { SEEDS };
         for k in 0..seeds {
             let seed = 1000 + k * 10 + ci as u64;
             specs.push((format!("s{seed}"), gen::random_spec(seed, cfg)));
+        }
+    }
+    if let Some(n) = soak {
+        // The small configurations only (the big one takes minutes per machine to build).
+        let small = &configs[..3];
+        let per = n.div_ceil(small.len() as u64);
+        for (ci, cfg) in small.iter().enumerate() {
+            for k in SEEDS..per.max(SEEDS) {
+                let seed = 0x50A4_0000 + k * 10 + ci as u64;
+                soak_specs.push((format!("soak{seed}"), gen::random_spec(seed, cfg)));
+            }
         }
     }
     // The rule-lookup cases of `specs/inherit/` (preempt, else, named over `_`).
@@ -99,7 +123,11 @@ fn write_differential_machines() {
         ));
     }
     {
-        for (case, spec) in specs {
+        let all_specs = specs
+            .into_iter()
+            .map(|(c, s)| (c, s, true))
+            .chain(soak_specs.into_iter().map(|(c, s)| (c, s, false)));
+        for (case, spec, macros) in all_specs {
             let report = check_source("random.detent", &spec);
             assert!(
                 !report.has_errors(),
@@ -127,27 +155,35 @@ fn write_differential_machines() {
             let _ = writeln!(all, "#[allow(deprecated)]\npub mod {case} {{");
             let _ = writeln!(all, "    pub mod table {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_table.rs\")); }}");
             let _ = writeln!(all, "    pub mod matched {{ include!(concat!(env!(\"OUT_DIR\"), \"/{case}_match.rs\")); }}");
-            let _ = writeln!(
-                all,
-                "    pub mod inline {{ ::detent::machine! {{\n{spec}\n    }} }}"
-            );
-            let _ = writeln!(
-                all,
-                "    #[::detent::machine_file(file = {:?}, dispatch = \"match\")]\n    pub mod file {{}}",
-                spec_path.display().to_string()
-            );
-            for (form, path) in [
+            let mut forms = vec![
                 ("table", format!("table::{snake}")),
                 ("matched", format!("matched::{snake}")),
-                ("inline", format!("inline::{snake}")),
-                ("file", "file".to_string()),
-            ] {
-                all.push_str(&runner(&m, form, &path));
+            ];
+            if macros {
+                let _ = writeln!(
+                    all,
+                    "    pub mod inline {{ ::detent::machine! {{\n{spec}\n    }} }}"
+                );
+                let _ = writeln!(
+                    all,
+                    "    #[::detent::machine_file(file = {:?}, dispatch = \"match\")]\n    pub mod file {{}}",
+                    spec_path.display().to_string()
+                );
+                forms.push(("inline", format!("inline::{snake}")));
+                forms.push(("file", "file".to_string()));
+            }
+            for (form, path) in &forms {
+                all.push_str(&runner(&m, form, path));
             }
             all.push_str("}\n");
+            let runners = if macros {
+                format!("(\"table\", {case}::run_table), (\"match\", {case}::run_matched), (\"inline macro\", {case}::run_inline), (\"file macro\", {case}::run_file)")
+            } else {
+                format!("(\"table\", {case}::run_table), (\"match\", {case}::run_matched)")
+            };
             let _ = writeln!(
                 index,
-                "    Case {{ name: {case:?}, spec: {spec:?}, runners: &[(\"table\", {case}::run_table), (\"match\", {case}::run_matched), (\"inline macro\", {case}::run_inline), (\"file macro\", {case}::run_file)] }},"
+                "    Case {{ name: {case:?}, spec: {spec:?}, runners: &[{runners}] }},"
             );
         }
     }

@@ -20,6 +20,42 @@ pub fn workspace_root() -> PathBuf {
         .map_or_else(|| manifest_dir.to_path_buf(), Path::to_path_buf)
 }
 
+/// The number of random machines a soak run asks for: `$DETENT_SOAK_MACHINES` when set
+/// to a positive number (`scripts/soak.sh` sets it), else `None` and each suite keeps
+/// its own default count.
+///
+/// # Panics
+///
+/// When the variable is set but is not a positive number (a soak run that silently
+/// fell back to the default count would report figures it did not reach).
+pub fn soak_machines() -> Option<usize> {
+    let v = std::env::var("DETENT_SOAK_MACHINES").ok()?;
+    match v.trim().parse::<usize>() {
+        Ok(n) if n > 0 => Some(n),
+        _ => panic!("DETENT_SOAK_MACHINES must be a positive number, not `{v}`"),
+    }
+}
+
+/// Random machines per configuration: `default` normally, and under
+/// [`soak_machines`] `N` machines spread over `configs` configurations (never fewer
+/// than `default`).
+pub fn per_config(default: u64, configs: usize) -> u64 {
+    soak_machines().map_or(default, |n| {
+        (n.div_ceil(configs.max(1)) as u64).max(default)
+    })
+}
+
+/// The seed of random machine `k` of configuration `ci`: `base + ci * 100 + k` for the
+/// first 100 (the seeds the suites have always used), and past those (soak runs) seeds
+/// from a range of their own, so no two (ci, k) share one.
+pub fn machine_seed(base: u64, ci: usize, k: u64) -> u64 {
+    if k < 100 {
+        base + (ci as u64) * 100 + k
+    } else {
+        0x50A4_0000_0000 ^ (base << 8) ^ ((ci as u64) << 40) ^ k
+    }
+}
+
 /// The `.detent` files of a workspace folder (e.g. `"examples"`), sorted by path.
 ///
 /// # Panics

@@ -37,7 +37,9 @@ use detent_compiler::minimize::{minimize, minimized_machine};
 use detent_compiler::model::{EventId, Machine, StateId};
 use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
-use detent_tests::c_harness::{build_harness, require_tool, run_harness, Cmd};
+use detent_tests::c_harness::{
+    build_harness, expected_lines, random_cmds, require_tool, run_harness, Cmd,
+};
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -140,11 +142,41 @@ impl Backend for CBackend {
     fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String> {
         let files = generate_c(&case.machine, &case.label);
         let exe = build_harness(dir, &case.machine, &files)?;
+        faults_agree(&exe, &case.machine, &case.label)?;
         Ok(Box::new(CRunner {
             exe,
             reject: case.machine.policy == Policy::Reject,
         }))
     }
+}
+
+/// The hostile world beyond traces: 400 commands of which about one in seven is a fault
+/// (a corrupt or restored state byte, an event number out of range, NULL hooks, a hooks
+/// struct of NULL pointers, NULL `out`, NULL machine), on the sanitizer build; the C
+/// must print exactly what the interpreter predicts (`-1` and no change for every bad
+/// call and every step from a corrupt byte, normal steps again once a valid byte is
+/// restored).
+fn faults_agree(exe: &Path, m: &Machine, label: &str) -> Result<(), String> {
+    let seed = 0xFA17 ^ (label.len() as u64) << 16 ^ m.states.len() as u64;
+    let cmds = random_cmds(&mut Rng::new(seed), m, 400, true);
+    let got = run_harness(exe, &cmds)?;
+    let want = expected_lines(m, &cmds);
+    match got.iter().zip(&want).position(|(g, w)| g != w) {
+        None if got.len() == want.len() => Ok(()),
+        at => {
+            let i = at.unwrap_or(got.len().min(want.len()));
+            Err(format!(
+                "faults run (seed {seed:#x}) differs at command {i} `{}`: C printed {:?}, the interpreter predicts {:?}",
+                trace_of_cmds(&cmds[i..=i.min(cmds.len() - 1)]),
+                got.get(i),
+                want.get(i)
+            ))
+        }
+    }
+}
+
+fn trace_of_cmds(cmds: &[Cmd]) -> String {
+    detent_tests::c_harness::trace_text(cmds).trim().to_string()
 }
 
 impl Runner for CRunner {
@@ -446,9 +478,11 @@ fn cases() -> Vec<Case> {
         let name = f.file_name().unwrap().to_string_lossy().into_owned();
         all.extend(case_of(name, std::fs::read_to_string(&f).unwrap()));
     }
-    for (ci, cfg) in configs().iter().enumerate() {
-        for k in 0..SEEDS_PER_CONFIG {
-            let seed = 0x0D1F_F000 + (ci as u64) * 100 + k;
+    let configs = configs();
+    let per_config = detent_tests::per_config(SEEDS_PER_CONFIG, configs.len());
+    for (ci, cfg) in configs.iter().enumerate() {
+        for k in 0..per_config {
+            let seed = detent_tests::machine_seed(0x0D1F_F000, ci, k);
             all.extend(case_of(
                 format!("random_{seed}.detent"),
                 random_spec(seed, cfg),
@@ -688,11 +722,16 @@ fn case_specs() -> Vec<(String, String, usize)> {
 fn assert_backend_agrees(backend: &dyn Backend) {
     match check_backend(backend, &case_specs()) {
         Ok(f) => println!(
-            "differential {}: {} machines, {} traces, {} steps, no disagreement",
+            "differential {}: {} machines, {} traces, {} steps{}, no disagreement",
             backend.name(),
             f.machines,
             f.traces,
-            f.steps
+            f.steps,
+            if backend.name() == "C" {
+                format!(", {} fault commands", f.machines * 400)
+            } else {
+                String::new()
+            }
         ),
         Err(failures) => panic!("{} failures; the first:\n{}", failures.len(), failures[0]),
     }
@@ -766,7 +805,13 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
                 )
             })
             .collect();
-        let backends: [&dyn Backend; 2] = [&CBackend, &VerilogBackend];
+        // The soak machines (`DETENT_SOAK_MACHINES`) are here for their Rust forms; C
+        // and Verilog run the soak count in their own tests above.
+        let backends: &[&dyn Backend] = if rc.name.starts_with("soak") {
+            &[]
+        } else {
+            &[&CBackend, &VerilogBackend]
+        };
         for b in backends {
             let dir = std::env::temp_dir().join(format!(
                 "detent-all-{}-{}-{i}",
@@ -813,9 +858,13 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
         failures.len(),
         failures[0]
     );
+    let soak = rust_cases::CASES
+        .iter()
+        .filter(|c| c.name.starts_with("soak"))
+        .count();
     println!(
-        "differential all back ends: {machines} machines x {} back ends ({runs} runs), {traces_run} traces, {steps} steps each, no disagreement",
-        runs / machines.max(1)
+        "differential all back ends: {machines} machines ({} through 6 back ends, {soak} soak machines through Rust table and match), {runs} runs, {traces_run} traces and {steps} steps per back end, no disagreement",
+        machines - soak
     );
 }
 
@@ -882,9 +931,17 @@ fn minimized_machines_behave_like_the_originals_on_every_trace() {
     const SEEDS: u64 = 30;
     let (mut machines, mut traces, mut steps, mut merged) = (0usize, 0usize, 0usize, 0usize);
     let mut all: Vec<Case> = cases();
-    for (ci, cfg) in configs().iter().enumerate() {
-        for k in SEEDS_PER_CONFIG..SEEDS {
-            let seed = 0x0D1F_F000 + (ci as u64) * 100 + k;
+    let configs = configs();
+    let first = detent_tests::per_config(SEEDS_PER_CONFIG, configs.len());
+    // Under a soak run `cases()` already has the soak count; no more on top.
+    let last = if detent_tests::soak_machines().is_some() {
+        first
+    } else {
+        SEEDS
+    };
+    for (ci, cfg) in configs.iter().enumerate() {
+        for k in first..last {
+            let seed = detent_tests::machine_seed(0x0D1F_F000, ci, k);
             all.extend(case_of(
                 format!("random_{seed}.detent"),
                 random_spec(seed, cfg),

@@ -145,9 +145,16 @@ fn configs() -> Vec<GenConfig> {
 #[test]
 fn the_lowered_form_is_the_lookup_of_the_language() {
     let (mut cells, mut valuations, mut fired, mut unhandled, mut reads) = (0, 0, 0, 0, 0);
-    for (ci, cfg) in configs().iter().enumerate() {
-        for k in 0..100u64 {
-            let seed = 7_000 + ci as u64 * 1_000 + k;
+    let mut machines = 0usize;
+    let configs = configs();
+    let per_config = detent_tests::per_config(100, configs.len());
+    for (ci, cfg) in configs.iter().enumerate() {
+        for k in 0..per_config {
+            let seed = if k < 1_000 {
+                7_000 + ci as u64 * 1_000 + k
+            } else {
+                detent_tests::machine_seed(7_000, ci, k)
+            };
             let spec = random_spec(seed, cfg);
             let report = check_source("random.detent", &spec);
             assert!(!report.has_errors(), "generator made a bad spec:\n{spec}");
@@ -156,6 +163,7 @@ fn the_lowered_form_is_the_lookup_of_the_language() {
                 .into_iter()
                 .find_map(|r| r.machine)
                 .expect("one machine");
+            machines += 1;
             let lowered = &m.lowered;
             let mut rng = Rng::new(seed);
             for si in 0..m.states.len() {
@@ -248,7 +256,7 @@ fn the_lowered_form_is_the_lookup_of_the_language() {
     );
     assert!(reads > 10_000, "{reads} inputs read");
     println!(
-        "lowered form vs the language's lookup: {cells} cells, {valuations} valuations, \
+        "lowered form vs the language's lookup: {machines} machines, {cells} cells, {valuations} valuations, \
          {fired} fired, {unhandled} unhandled, {reads} reads"
     );
 }
