@@ -149,12 +149,19 @@ fn a_cmake_build_generates_compiles_and_regenerates_when_the_spec_changes() {
         .arg(&src)
         .arg("-B")
         .arg(&bin)
-        .arg(format!("-DDETENT_EXECUTABLE={}", env!("CARGO_BIN_EXE_detent"))));
+        .arg(format!(
+            "-DDETENT_EXECUTABLE={}",
+            env!("CARGO_BIN_EXE_detent")
+        )));
     assert!(o.status.success(), "configure failed:\n{}", text(&o));
 
     let o = build(&bin);
     assert!(o.status.success(), "build failed:\n{}", text(&o));
-    assert!(text(&o).contains("detent: generating C from specs/lamp.detent"), "{}", text(&o));
+    assert!(
+        text(&o).contains("detent: generating C from specs/lamp.detent"),
+        "{}",
+        text(&o)
+    );
     let generated = bin.join("detent/lamp");
     for f in ["lamp.h", "lamp.c", "http_beeper.h", "http_beeper.c"] {
         assert!(generated.join(f).is_file(), "{f} not generated");
@@ -221,7 +228,10 @@ fn choosing_a_machine_and_naming_errors() {
             .arg(&src)
             .arg("-B")
             .arg(dir.join(b))
-            .arg(format!("-DDETENT_EXECUTABLE={}", env!("CARGO_BIN_EXE_detent"))))
+            .arg(format!(
+                "-DDETENT_EXECUTABLE={}",
+                env!("CARGO_BIN_EXE_detent")
+            )))
     };
     std::fs::write(src.join("CMakeLists.txt"), lists("Lamp")).unwrap();
     let o = configure("b1");
@@ -238,6 +248,9 @@ fn choosing_a_machine_and_naming_errors() {
     assert!(!o.status.success());
     // CMake wraps messages: compare with the whitespace collapsed.
     let t = text(&o).split_whitespace().collect::<Vec<_>>().join(" ");
-    assert!(t.contains("has no machine `Lmap`") && t.contains("Lamp, HTTPBeeper"), "{t}");
+    assert!(
+        t.contains("has no machine `Lmap`") && t.contains("Lamp, HTTPBeeper"),
+        "{t}"
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }
