@@ -5,7 +5,9 @@
 #
 # Debian packages: iverilog (Verilog simulation), gcc-arm-none-eabi (Cortex-M
 # cross-builds), graphviz (DOT parsing), cppcheck (C static analysis), librsvg2-bin
-# (SVG rendering), chromium and chromium-driver (the viewer, tested in headless Chromium).
+# (SVG rendering), chromium and chromium-driver (the viewer, tested in headless Chromium),
+# cmake (cmake/Detent.cmake, tested by building a C program). The editor package's
+# grammar test needs Node 20 and npm (the npm registry, for `npm ci`).
 # Python packages (sympy, automata-lib, selenium) go into .venv/. Nothing is
 # skipped: a tool that cannot be installed makes this script fail and say why.
 set -euo pipefail
@@ -17,7 +19,7 @@ say "Debian packages"
 missing=()
 for pair in iverilog:iverilog arm-none-eabi-gcc:gcc-arm-none-eabi arm-none-eabi-size:binutils-arm-none-eabi \
             dot:graphviz cppcheck:cppcheck rsvg-convert:librsvg2-bin gcc:gcc \
-            chromium:chromium chromedriver:chromium-driver; do
+            chromium:chromium chromedriver:chromium-driver cmake:cmake; do
   tool=${pair%%:*}; pkg=${pair#*:}
   command -v "$tool" >/dev/null 2>&1 || missing+=("$pkg")
 done
@@ -28,7 +30,7 @@ if [ ${#missing[@]} -gt 0 ]; then
   DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${missing[@]}" >/dev/null
 fi
 for tool in iverilog vvp arm-none-eabi-gcc arm-none-eabi-size dot cppcheck rsvg-convert gcc \
-            chromium chromedriver; do
+            chromium chromedriver cmake; do
   command -v "$tool" >/dev/null 2>&1 || { echo "error: $tool is still missing after installing"; exit 1; }
 done
 
@@ -90,6 +92,10 @@ for t in spec trace csv structured; do
        "$(grep -E '^#[0-9]+[[:space:]]+DONE' "$fuzz_corpus/$t.log" | grep -o 'cov: [0-9]*'), no crash"
 done
 echo "fuzz part: $(( $(date +%s) - fuzz_started )) s"
+
+say "Editor package: the grammar tokenizes every example (editors/vscode)"
+(cd editors/vscode && npm ci --no-audit --no-fund --loglevel=error && npm test &&
+  npx vsce package --skip-license -o "$(mktemp -d)/detent.vsix")
 
 say "Examples: the README's main command"
 cargo run -q -p detent-cli -- check examples/*.detent

@@ -9,6 +9,7 @@
 
 mod cmd_draw;
 mod cmd_equiv;
+mod cmd_fmt;
 mod cmd_gen_c;
 mod cmd_gen_rust;
 mod cmd_import;
@@ -18,6 +19,8 @@ mod cmd_tour;
 mod cmd_view;
 mod commands;
 mod io;
+mod lsp;
+mod lsp_index;
 
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
@@ -174,6 +177,10 @@ enum Command {
     Logic(cmd_logic::LogicArgs),
     /// Show the machine as a page to click through: served live on 127.0.0.1, or `-o`.
     View(cmd_view::ViewArgs),
+    /// Format specs in the canonical layout (comments and blank-line groups kept).
+    Fmt(cmd_fmt::FmtArgs),
+    /// Serve the Language Server Protocol over standard input and output (editors).
+    Lsp,
     /// Generate code from a spec.
     Gen {
         #[command(subcommand)]
@@ -241,6 +248,8 @@ fn main() -> ExitCode {
             out,
         } => cmd_draw::draw(&file, machine.as_deref(), format, out.as_deref()),
         Command::Import { table, out } => cmd_import::import(&table, out.as_deref()),
+        Command::Fmt(args) => cmd_fmt::run(&args),
+        Command::Lsp => lsp::run(),
     };
     ExitCode::from(code)
 }

@@ -546,6 +546,12 @@ fn invocations(
             v
         }
         "gen c" => vec![vec![s("gen"), s("c"), p(spec), s("-o"), p(out)]],
+        // In place would change the mutant under the commands that follow; the layout
+        // check reads and formats all the same. (`fmt -` would read the empty stdin.)
+        "fmt" => vec![vec![s("fmt"), s("--check"), p(spec)]],
+        // With nothing on standard input the server finds no client and exits; the
+        // protocol itself, with mutated specs, is driven by cli/tests/lsp.rs.
+        "lsp" => vec![vec![s("lsp")]],
         "gen rust" => vec![
             vec![s("gen"), s("rust"), p(spec), s("-o"), p(&out.join("m.rs"))],
             vec![

@@ -4,6 +4,7 @@
 
 pub mod ast;
 mod fast;
+pub mod format;
 mod lexicon;
 pub mod parse;
 pub mod print;

@@ -38,13 +38,13 @@ pub fn print_machine(out: &mut String, m: &MachineAst) {
     out.push_str("}\n");
 }
 
-fn indent(out: &mut String, level: usize) {
+pub(crate) fn indent(out: &mut String, level: usize) {
     for _ in 0..level {
         out.push_str("    ");
     }
 }
 
-fn print_doc(out: &mut String, doc: &[String], level: usize) {
+pub(crate) fn print_doc(out: &mut String, doc: &[String], level: usize) {
     for line in doc {
         indent(out, level);
         if line.is_empty() {
@@ -55,7 +55,7 @@ fn print_doc(out: &mut String, doc: &[String], level: usize) {
     }
 }
 
-fn print_attrs(out: &mut String, attrs: &[Attr], level: usize) {
+pub(crate) fn print_attrs(out: &mut String, attrs: &[Attr], level: usize) {
     for a in attrs {
         indent(out, level);
         match a {
@@ -99,7 +99,7 @@ fn print_doc_list(out: &mut String, keyword: &str, list: &[DocIdent]) {
     }
 }
 
-fn print_decl(out: &mut String, d: &Decl) {
+pub(crate) fn print_decl(out: &mut String, d: &Decl) {
     match &d.kind {
         DeclKind::Events(l) => print_doc_list(out, "events", l),
         DeclKind::Inputs(l) => print_doc_list(out, "inputs", l),
@@ -144,7 +144,7 @@ pub fn print_duration(d: &Duration) -> String {
     format!("{} {}", d.value, d.unit.keyword())
 }
 
-fn print_emit(list: &[Ident]) -> String {
+pub(crate) fn print_emit(list: &[Ident]) -> String {
     if list.is_empty() {
         String::new()
     } else {
