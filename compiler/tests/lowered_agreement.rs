@@ -711,17 +711,44 @@ fn random_timed_machines(count: u64) -> Vec<(String, Machine)> {
             ..GenConfig::default()
         },
     ];
-    let mut out = Vec::new();
+    let mut out: Vec<(String, Machine)> = HOSTILE_TIMED
+        .iter()
+        .map(|t| (t.to_string(), resolve(t)))
+        .collect();
     for (ci, cfg) in configs.iter().enumerate() {
         for seed in 0..count {
             let seed = seed * 37 + ci as u64 * 104_729 + 11;
-            let text = random_spec(seed, cfg);
+            // Without the generator's `#[allow(..)]`, so that every lint is compared.
+            let text: String = random_spec(seed, cfg)
+                .lines()
+                .filter(|l| !l.starts_with("#[allow("))
+                .collect::<Vec<_>>()
+                .join("\n");
             let m = resolve(&text);
             out.push((text, m));
         }
     }
     out
 }
+
+/// Hand-written machines with timers: two states that merge (same timeouts, same
+/// behaviour), a timeout a preempt rule always takes, one that never comes due, a
+/// group timer, an uncovered tick at some timer values only.
+const HOSTILE_TIMED: [&str; 3] = [
+    "machine Merge { events Tick, Go; inputs x; outputs o; timebase Tick 1 ms; start A;
+       state A { after 3 ms if x => C; after 5 ms => C; Go => B; Tick => stay; }
+       state B { after 3 ms if x => C; after 5 ms => C; Go => A; Tick => stay; }
+       state C emit o { Go => A; Tick => stay; } }",
+    "machine Pre { events Tick, Go; inputs x; timebase Tick; start A;
+       group G { preempt Tick if x => B; after 2 ticks => C;
+         state A { after 4 ticks => B; Go => A; Tick => stay; }
+         state B { after 1 ticks => A; Go | Tick => stay; } }
+       state C { Tick => stay; Go => A; } }",
+    "machine Gap { events Tick, Go; inputs x; timebase Tick; start A;
+       state A { after 1 ticks => B; Go => B; }
+       state B { after 3 ticks if x => A; Tick if !x => stay; Go => A; }
+       state Never { after 2 ticks => A; Go | Tick => stay; } }",
+];
 
 /// Every configuration the interpreter reaches from the start (every event, every
 /// valuation), and the rules it fires.
@@ -751,7 +778,11 @@ fn brute_configs(
     (seen, fired)
 }
 
-fn timed_agree(text: &str, m: &Machine, seed: u64) {
+/// What one timed machine exercised: (an `incomplete` finding, a dead timeout, a
+/// merge by minimization, an unreachable state).
+type Exercised = [bool; 4];
+
+fn timed_agree(text: &str, m: &Machine, seed: u64) -> Exercised {
     use detent_compiler::configs::{all_configs_of, explore};
     let mut rng = Rng::new(seed);
     let (vals, exhaustive) = valuations(m.inputs.len(), &mut rng);
@@ -851,6 +882,17 @@ fn timed_agree(text: &str, m: &Machine, seed: u64) {
             );
         }
     }
+    let exercised = [
+        !found(Lint::Incomplete).is_empty(),
+        dead.iter().any(|&r| {
+            matches!(
+                m.rules[r].trigger,
+                detent_compiler::model::Trigger::After(_)
+            )
+        }),
+        false,
+        !found(Lint::UnreachableState).is_empty(),
+    ];
     // The tour fires every transition, timeouts included.
     let t = detent_compiler::tour::tour(m);
     assert_eq!(t.covers, t.transitions, "tour\n{text}");
@@ -865,6 +907,8 @@ fn timed_agree(text: &str, m: &Machine, seed: u64) {
     // The quotient behaves as the original, by `equiv` over configurations and on random
     // timed traces; its printed spec resolves to a machine `equiv` finds equal.
     let q = quotient(m);
+    let mut exercised = exercised;
+    exercised[2] = q.minimization.classes.iter().any(|c| c.len() > 1);
     assert!(equiv(m, &q.machine).unwrap().is_none(), "quotient\n{text}");
     if !detent_compiler::minimize::machine::has_group_timer(m) {
         let mut printed = String::new();
@@ -899,11 +943,20 @@ fn timed_agree(text: &str, m: &Machine, seed: u64) {
             );
         }
     }
+    exercised
 }
 
 #[test]
 fn random_timed_machines_agree_over_configurations() {
+    let mut counts = [0usize; 4];
     for (i, (text, m)) in random_timed_machines(30).iter().enumerate() {
-        timed_agree(text, m, i as u64);
+        let e = timed_agree(text, m, i as u64);
+        for k in 0..4 {
+            counts[k] += usize::from(e[k]);
+        }
     }
+    // The random machines exercise what is compared: gaps, dead timeouts, merges and
+    // unreachable states each occur.
+    eprintln!("incomplete, dead timeout, merged, unreachable: {counts:?}");
+    assert!(counts.iter().all(|&c| c > 0), "{counts:?}");
 }
