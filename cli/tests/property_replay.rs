@@ -119,7 +119,9 @@ fn a_timed_counterexample_prints_with_counts_and_replays_to_the_violation() {
     let out = detent(&["check", spec]);
     let text = String::from_utf8(out.stderr).unwrap();
     assert!(
-        text.contains("violated at step 1501") && text.contains("\n    Open\n    Tick *1500"),
+        text.contains("violated at step 1501")
+            && text.contains("(1501 steps as 2 trace lines):")
+            && text.contains("Open\n              Tick *1500\n"),
         "{text}"
     );
 

@@ -115,11 +115,21 @@ pub fn trace_lines(trace: &[TraceStep]) -> Vec<String> {
 /// `detent run --trace -`) as they are.
 pub fn trace_note(trace: &[TraceStep]) -> String {
     let n = trace.len();
-    let mut note = format!(
-        "shortest trace from the start state ({}, one trace line each):",
-        plural(n, "step")
-    );
-    for line in trace_lines(trace) {
+    let lines = trace_lines(trace);
+    let mut note = if lines.len() == n {
+        format!(
+            "shortest trace from the start state ({}, one trace line each):",
+            plural(n, "step")
+        )
+    } else {
+        // Runs of equal steps are one line with their count (`Tick *1500`).
+        format!(
+            "shortest trace from the start state ({} as {}):",
+            plural(n, "step"),
+            plural(lines.len(), "trace line")
+        )
+    };
+    for line in lines {
         let _ = write!(note, "\n    {line}");
     }
     note
