@@ -37,6 +37,13 @@ pub fn equiv(file_a: &Path, file_b: &Path, machine: Option<&str>, format: PlainF
     };
     let result = match compare(&a, &b) {
         Ok(r) => r,
+        Err(detent_compiler::minimize::equiv::EquivError::Limit(limit)) => {
+            eprintln!(
+                "error: cannot compare `{}` with `{}`: {limit}",
+                a.name, b.name
+            );
+            return USAGE;
+        }
         Err(mismatch) => {
             eprintln!(
                 "error: cannot compare `{}` ({}) with `{}` ({}): {mismatch}",

@@ -2,6 +2,7 @@
 
 use crate::io::{self, OK};
 use clap::ValueEnum;
+use detent_compiler::minimize::machine::has_group_timer;
 use detent_compiler::minimize::{machine::minimized_ast, minimize as min_states};
 use detent_compiler::model::Machine;
 use detent_compiler::report::{self, minimize::MinimizeReport, minimize::MinimizedMachine};
@@ -56,6 +57,14 @@ pub fn minimize(file: &Path, machine: Option<&str>, format: MinimizeFormat) -> u
             }
         }
         MinimizeFormat::Spec => {
+            if let Some(m) = machines.iter().find(|m| has_group_timer(m)) {
+                return io::usage_error(format!(
+                    "cannot print the minimized `{}` as a spec: a group has `after` rules, \
+                     and a minimized machine has no groups to keep the group's timer \
+                     (such a machine is not minimized)",
+                    m.name
+                ));
+            }
             let specs: Vec<String> = machines
                 .iter()
                 .map(|m| {

@@ -96,12 +96,11 @@ fn equiv_exit_codes_and_witness() {
     assert_eq!(code, 1);
     let v: Value = serde_json::from_str(&out).unwrap();
     assert_eq!(v["equivalent"], false);
-    let w = v["witness"].as_array().unwrap();
-    assert_eq!(w.len(), 3);
-    for s in w {
-        assert_eq!(s["event"], "Go");
-        assert_eq!(s["inputs"], serde_json::json!({"x": true}));
-    }
+    // Three equal steps: one entry with its count (DESIGN.md, step lists).
+    assert_eq!(
+        v["witness"],
+        serde_json::json!([{"event": "Go", "inputs": {"x": true}, "repeat": 3}])
+    );
     let (code, out, _) = detent(&["equiv", a, b]);
     assert_eq!(code, 1);
     assert!(out.contains("step 3"), "{out}");
@@ -157,4 +156,106 @@ fn tour_json_covers_everything() {
     let (code, out, err) = detent(&["run", f.to_str().unwrap(), "--trace", t.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert_eq!(out.lines().count(), 5, "{out}");
+}
+
+/// Two blinkers: `Slow` waits 1.2 s in `On`, `Fast` 1 s; both at a 1 ms time base.
+/// `A` and `B` of the first are equivalent (same timeouts, same behaviour).
+fn blinker(on_ms: u32) -> String {
+    format!(
+        "machine Blink {{ events Tick, Go; outputs led; timebase Tick 1 ms; start Off;
+           state Off {{ Go => On; Tick => stay; }}
+           state On emit led {{ after {on_ms} ms => A; Go => Off; Tick => stay; }}
+           state A {{ after 500 ms => On; Go => B; Tick => stay; }}
+           state B {{ after 500 ms => On; Go => A; Tick => stay; }} }}"
+    )
+}
+
+#[test]
+fn timed_equiv_witness_uses_counts_and_replays() {
+    let a = write("slow.detent", &blinker(1200));
+    let b = write("fast.detent", &blinker(1000));
+    let (a, b) = (a.to_str().unwrap(), b.to_str().unwrap());
+    let (code, out, err) = detent(&["equiv", a, b, "--format", "json"]);
+    assert_eq!(code, 1, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    // Go, then the 1000th tick turns the fast blinker's led off: 1001 steps.
+    assert_eq!(
+        v["witness"],
+        serde_json::json!([
+            {"event": "Go", "inputs": {}},
+            {"event": "Tick", "inputs": {}, "repeat": 1000}
+        ])
+    );
+    assert_eq!(v["step"], 1001);
+    // The text form is a trace: it replays on either machine.
+    let (code, text, _) = detent(&["equiv", a, b]);
+    assert_eq!(code, 1);
+    assert!(text.contains("\nGo\nTick *1000\n"), "{text}");
+    let t = write("witness.trace", &text);
+    for spec in [a, b] {
+        let (code, out, err) = detent(&["run", spec, "--trace", t.to_str().unwrap()]);
+        assert_eq!(code, 0, "{err}");
+        assert_eq!(out.lines().count(), 1002, "step 0 and 1001 steps");
+    }
+    let (code, _, _) = detent(&["equiv", a, a]);
+    assert_eq!(code, 0);
+}
+
+#[test]
+fn timed_minimize_spec_keeps_the_time_base_and_timeouts() {
+    let f = write("blink.detent", &blinker(1200));
+    let f = f.to_str().unwrap();
+    let (code, out, err) = detent(&["minimize", f, "--format", "spec"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("timebase Tick 1 ms;"), "{out}");
+    assert!(out.contains("after 1200 ms => A;"), "{out}");
+    assert!(out.contains("after 500 ms => On;"), "{out}");
+    assert!(!out.contains("state B"), "A and B merge:\n{out}");
+    let g = write("blink.min.detent", &out);
+    let g = g.to_str().unwrap();
+    let (code, _, err) = detent(&["check", g]);
+    assert_eq!(code, 0, "{err}");
+    let (code, out, _) = detent(&["equiv", f, g]);
+    assert_eq!(code, 0, "{out}");
+}
+
+#[test]
+fn timed_tour_fires_every_timeout_and_replays() {
+    let f = write("blink_tour.detent", &blinker(1200));
+    let f = f.to_str().unwrap();
+    let (code, out, err) = detent(&["tour", f]);
+    assert_eq!(code, 0, "{err}");
+    // Reaching the 1200 ms timeout takes a run of ticks, printed with its count.
+    assert!(
+        out.lines().any(|l| l
+            .strip_prefix("Tick *")
+            .and_then(|n| n.parse::<u32>().ok())
+            .is_some_and(|n| n >= 1199)),
+        "{out}"
+    );
+    assert!(err.contains("greedy cover over configurations"), "{err}");
+    let t = write("tour.trace", &out);
+    let (code, run, err) = detent(&["run", f, "--trace", t.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    // Every `after` rule fired: On -> A (1200 ms) and A or B -> On (500 ms).
+    let steps: Vec<Value> = run
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    let moved = |from: &str, to: &str| {
+        steps
+            .windows(2)
+            .any(|w| w[0]["to"] == from && w[1]["to"] == to && w[1]["event"] == "Tick")
+    };
+    assert!(moved("On", "A"), "{out}");
+    assert!(moved("A", "On") && moved("B", "On"), "{out}");
+    let (code, out, _) = detent(&["tour", f, "--format", "json"]);
+    assert_eq!(code, 0);
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["covers"], v["transitions"]);
+    assert!(v["steps"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|s| s["repeat"].as_u64().is_some_and(|n| n >= 499)));
 }

@@ -74,3 +74,81 @@ fn counterexample_replays_to_the_violation() {
     assert_eq!(last["moore"], serde_json::json!(["heater"]));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A door left open for 1.5 s at a 1 ms time base raises the alarm: 1,501 steps.
+const DOOR: &str = "
+machine Door {
+    events Tick, Open, Close;
+    outputs alarm;
+    timebase Tick 1 ms;
+    start Closed;
+    never alarm;
+    state Closed { Open => Opened; Close | Tick => stay; }
+    state Opened { after 1500 ms => Alarm; Close => Closed; Open | Tick => stay; }
+    state Alarm emit alarm { Close => Closed; Open | Tick => stay; }
+}
+";
+
+#[test]
+fn a_timed_counterexample_prints_with_counts_and_replays_to_the_violation() {
+    let dir = std::env::temp_dir().join(format!("detent-replay-timed-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let spec = dir.join("door.detent");
+    std::fs::write(&spec, DOOR).unwrap();
+    let spec = spec.to_str().unwrap();
+
+    // JSON: two entries, the second with `repeat`.
+    let out = detent(&["check", "--format", "json", spec]);
+    assert_eq!(out.status.code(), Some(1));
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let diag = report["machines"][0]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["lint"] == "property")
+        .expect("a property diagnostic")
+        .clone();
+    assert_eq!(
+        diag["trace"],
+        serde_json::json!([
+            {"event": "Open", "inputs": {}},
+            {"event": "Tick", "inputs": {}, "repeat": 1500}
+        ])
+    );
+    // Text: the note's trace lines.
+    let out = detent(&["check", spec]);
+    let text = String::from_utf8(out.stderr).unwrap();
+    assert!(
+        text.contains("violated at step 1501")
+            && text.contains("(1501 steps as 2 trace lines):")
+            && text.contains("Open\n              Tick *1500\n"),
+        "{text}"
+    );
+
+    // Both forms replay through `run` to the alarm at step 1501.
+    let json_trace = dir.join("cex.json");
+    std::fs::write(&json_trace, serde_json::to_string(&diag["trace"]).unwrap()).unwrap();
+    let text_trace = dir.join("cex.trace");
+    std::fs::write(&text_trace, "Open\nTick *1500\n").unwrap();
+    for trace in [&json_trace, &text_trace] {
+        let out = detent(&["run", spec, "--trace", trace.to_str().unwrap()]);
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let stdout = String::from_utf8(out.stdout).unwrap();
+        let lines: Vec<serde_json::Value> = stdout
+            .lines()
+            .map(|l| serde_json::from_str(l).unwrap())
+            .collect();
+        assert_eq!(lines.len(), 1502, "step 0 and 1501 steps");
+        assert_eq!(lines[1500]["to"], "Opened");
+        let last = &lines[1501];
+        assert_eq!(last["step"], 1501);
+        assert_eq!(last["to"], "Alarm");
+        assert_eq!(last["moore"], serde_json::json!(["alarm"]));
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -83,6 +83,11 @@ impl ConfigGraph {
         &self.edges[self.edge_start[i] as usize..self.edge_start[i + 1] as usize]
     }
 
+    /// The index into `edges` of the `k`th edge out of configuration `i`.
+    pub fn edge_index(&self, i: usize, k: usize) -> usize {
+        self.edge_start[i] as usize + k
+    }
+
     /// The index of a configuration, when it is reachable.
     pub fn find(&self, c: &Config) -> Option<usize> {
         self.index.get(c).map(|&i| i as usize)
@@ -99,6 +104,21 @@ impl ConfigGraph {
         path
     }
 
+    /// The graph of states the configurations give: `S -> T` when some reachable
+    /// configuration of `S` has a step to one of `T`; ascending, without duplicates.
+    pub fn state_successors(&self, n_states: usize) -> Vec<Vec<StateId>> {
+        let mut succ: Vec<Vec<StateId>> = vec![Vec::new(); n_states];
+        for (k, e) in self.edges.iter().enumerate() {
+            let from = self.configs[self.edge_from[k] as usize].state;
+            succ[from.index()].push(self.configs[e.to as usize].state);
+        }
+        for list in &mut succ {
+            list.sort_unstable();
+            list.dedup();
+        }
+        succ
+    }
+
     /// The states some reachable configuration is in, as a mask indexed by state.
     pub fn reachable_states(&self, n_states: usize) -> Vec<bool> {
         let mut out = vec![false; n_states];
@@ -106,6 +126,58 @@ impl ConfigGraph {
             out[c.state.index()] = true;
         }
         out
+    }
+}
+
+/// The timers of a configuration's state, as a witness says them: `the timer of state
+/// `Wait` at 0 ms`, `the timers of state `A` at 2 ticks and of group `G` at 5 ticks`
+/// (innermost scope first). `None` when the state's scopes have no timers.
+pub fn timers_text(m: &Machine, c: &Config) -> Option<String> {
+    let timers = m.chain_timers(c.state);
+    if timers.is_empty() {
+        return None;
+    }
+    let parts: Vec<String> = timers
+        .iter()
+        .map(|t| {
+            let scope = match m.timers[t.index()].scope {
+                crate::model::Scope::State(s) => format!("state `{}`", m.state_name(s)),
+                crate::model::Scope::Group(g) => format!("group `{}`", m.groups[g.index()].name),
+            };
+            format!("{scope} at {}", timer_value_text(m, c.timers[t.index()]))
+        })
+        .collect();
+    Some(if parts.len() == 1 {
+        format!("the timer of {}", parts[0])
+    } else {
+        format!("the timers of {}", parts.join(" and of "))
+    })
+}
+
+/// A timer value in the unit of the time base's period (`0 ms`, `1499 ms`, `40 us`), or
+/// in ticks when the time base has no period.
+pub fn timer_value_text(m: &Machine, ticks: u32) -> String {
+    match m.timebase.as_ref().and_then(|t| t.period_us) {
+        Some(p) => {
+            let (unit, name) = if p % 1_000_000 == 0 {
+                (1_000_000, "s")
+            } else if p % 1_000 == 0 {
+                (1_000, "ms")
+            } else {
+                (1, "us")
+            };
+            format!("{} {name}", u64::from(ticks) * p / unit)
+        }
+        None => format!("{ticks} ticks"),
+    }
+}
+
+/// `state `Wait` with the timer of state `Wait` at 0 ms`, or `state `Idle`` when
+/// the state counts no time: a configuration as diagnostics name it.
+pub fn config_text(m: &Machine, c: &Config) -> String {
+    match timers_text(m, c) {
+        Some(t) => format!("state `{}` with {t}", m.state_name(c.state)),
+        None => format!("state `{}`", m.state_name(c.state)),
     }
 }
 

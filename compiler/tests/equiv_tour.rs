@@ -109,7 +109,11 @@ fn mismatched_declarations_are_reported() {
         "machine M { events Go, Halt; outputs o, p; actions log; start A; unhandled ignore;
            state A { Go => stay; } }",
     );
-    let err = equiv(&a, &b).expect_err("declarations differ");
+    let detent_compiler::minimize::equiv::EquivError::Decl(err) =
+        equiv(&a, &b).expect_err("declarations differ")
+    else {
+        panic!("declarations differ")
+    };
     let kinds: Vec<&str> = err.diffs.iter().map(|d| d.0).collect();
     assert_eq!(kinds, vec!["events", "inputs", "outputs", "actions"]);
     let text = err.to_string();

@@ -154,7 +154,9 @@ machine Oven {
 #[test]
 fn never_over_a_mealy_output_gives_the_exact_shortest_trace() {
     let m = machine(OVEN);
-    let v = check_never(&m, never_prop(&m, 0)).expect("heater && vent is reachable");
+    let v = check_never(&m, never_prop(&m, 0))
+        .unwrap()
+        .expect("heater && vent is reachable");
     // Off -Start(door closed)-> Ready -Heat-> Heating -Vent(door open)-> stay + vent: three
     // steps; the other way (Warm, Hotter) needs four.
     assert_eq!(
@@ -181,16 +183,18 @@ fn never_over_an_input_refines_the_step_atom() {
     let m = machine(OVEN);
     // heater is high in Heating whatever the door: the Heat step's atom is `true`, and
     // the witness picks door_closed = 0 from P.
-    let v = check_never(&m, never_prop(&m, 1)).expect("violated");
+    let v = check_never(&m, never_prop(&m, 1))
+        .unwrap()
+        .expect("violated");
     assert_eq!(
         words(&m, &v.trace),
         ["Start door_closed=1", "Heat door_closed=0"]
     );
     replay_never(&m, never_prop(&m, 1), &v);
     // vent without heater happens only in Cooling: holds.
-    assert_eq!(check_never(&m, never_prop(&m, 2)), None);
+    assert_eq!(check_never(&m, never_prop(&m, 2)).unwrap(), None);
     // Step 0 counts: the start state is Off.
-    let v0 = check_never(&m, never_prop(&m, 3)).expect("step 0");
+    let v0 = check_never(&m, never_prop(&m, 3)).unwrap().expect("step 0");
     assert!(v0.trace.is_empty());
 }
 
@@ -295,8 +299,10 @@ machine Conveyor {
 fn never_over_actions_groups_and_enter_leave() {
     let m = machine(CONVEYOR);
     // brake runs only on leaving the group, so never inside it.
-    assert_eq!(check_never(&m, never_prop(&m, 0)), None);
-    let v = check_never(&m, never_prop(&m, 1)).expect("brake runs on Halt");
+    assert_eq!(check_never(&m, never_prop(&m, 0)).unwrap(), None);
+    let v = check_never(&m, never_prop(&m, 1))
+        .unwrap()
+        .expect("brake runs on Halt");
     assert_eq!(words(&m, &v.trace), ["Go", "Up", "Halt"]);
     let names: Vec<&str> = v
         .actions
@@ -307,9 +313,11 @@ fn never_over_actions_groups_and_enter_leave() {
     replay_never(&m, never_prop(&m, 1), &v);
     // chime is Quick's enter action: only when arriving in Quick. `Slow => Slow` is an
     // external self-transition of Slow and does not re-run the group's actions.
-    assert_eq!(check_never(&m, never_prop(&m, 2)), None);
-    assert_eq!(check_never(&m, never_prop(&m, 3)), None);
-    let v = check_never(&m, never_prop(&m, 4)).expect("in Moving after Go");
+    assert_eq!(check_never(&m, never_prop(&m, 2)).unwrap(), None);
+    assert_eq!(check_never(&m, never_prop(&m, 3)).unwrap(), None);
+    let v = check_never(&m, never_prop(&m, 4))
+        .unwrap()
+        .expect("in Moving after Go");
     assert_eq!(words(&m, &v.trace), ["Go"]);
     assert_eq!(property_diags(&m).len(), 2);
 }
@@ -331,10 +339,12 @@ fn never_in_a_clocked_machine_with_guards_on_p_inputs() {
         "#,
     );
     // Being in High after a step needs set = 1 in that step.
-    assert_eq!(check_never(&m, never_prop(&m, 0)), None);
-    let v = check_never(&m, never_prop(&m, 1)).expect("violated");
+    assert_eq!(check_never(&m, never_prop(&m, 0)).unwrap(), None);
+    let v = check_never(&m, never_prop(&m, 1))
+        .unwrap()
+        .expect("violated");
     assert_eq!(words(&m, &v.trace), ["Tick set=1"]);
-    assert_eq!(check_never(&m, never_prop(&m, 2)), None);
+    assert_eq!(check_never(&m, never_prop(&m, 2)).unwrap(), None);
 }
 
 const PUMP: &str = r#"
@@ -360,15 +370,17 @@ fn recover_with_an_exception_that_hides_a_stuck_state() {
     // Stuck is reachable only through the exempted Fault; Limping recovers through
     // Fault (paths through exempted states count).
     let (t, ex) = recover_prop(&m, 0);
-    assert_eq!(check_recover(&m, t, ex), None);
+    assert_eq!(check_recover(&m, t, ex).unwrap(), None);
     // Without the exception, Stuck is the state that cannot get back.
     let (t, ex) = recover_prop(&m, 1);
-    let v = check_recover(&m, t, ex).expect("Stuck cannot recover");
+    let v = check_recover(&m, t, ex)
+        .unwrap()
+        .expect("Stuck cannot recover");
     assert_eq!(m.state_name(v.state), "Stuck");
     assert_eq!(words(&m, &v.trace), ["Go", "Fail", "Jam"]);
     assert_eq!(v.stuck, [v.state]);
     let (t, ex) = recover_prop(&m, 2);
-    assert_eq!(check_recover(&m, t, ex), None);
+    assert_eq!(check_recover(&m, t, ex).unwrap(), None);
     let diags = property_diags(&m);
     assert_eq!(diags.len(), 1);
     assert_eq!(
@@ -383,7 +395,9 @@ fn recover_with_an_exception_that_hides_a_stuck_state() {
 fn recover_fails_when_a_stuck_state_is_reachable_around_the_exception() {
     let m = machine(&PUMP.replace("Limp => Limping; }", "Limp => Limping; Jam => Stuck; }"));
     let (t, ex) = recover_prop(&m, 0);
-    let v = check_recover(&m, t, ex).expect("Stuck is reachable without Fault");
+    let v = check_recover(&m, t, ex)
+        .unwrap()
+        .expect("Stuck is reachable without Fault");
     assert_eq!(words(&m, &v.trace), ["Go", "Jam"]);
     let r = m.run(v.trace.iter().map(|(e, i)| (*e, i.as_slice())));
     assert_eq!(r.last().map(|r| r.to), Some(v.state));
@@ -561,7 +575,7 @@ fn random_machines_agree_with_brute_force() {
             for p in &m.properties {
                 match p {
                     Property::Never { prop, text, .. } => {
-                        let got = check_never(&m, prop);
+                        let got = check_never(&m, prop).unwrap();
                         let want = brute_never(&m, prop);
                         assert_eq!(got.as_ref().map(|v| v.trace.len()), want, "{text}\n{spec}");
                         match got {
@@ -578,7 +592,7 @@ fn random_machines_agree_with_brute_force() {
                         text,
                         ..
                     } => {
-                        let got = check_recover(&m, *target, except);
+                        let got = check_recover(&m, *target, except).unwrap();
                         let want = brute_recover(&m, *target, except);
                         match got {
                             None => {
@@ -699,18 +713,22 @@ fn chain(n: usize, back: bool) -> Machine {
 fn hundred_thousand_state_chain() {
     const N: usize = 100_000;
     let m = chain(N, true);
-    let v = check_never(&m, never_prop(&m, 0)).expect("the last state emits done");
+    let v = check_never(&m, never_prop(&m, 0))
+        .unwrap()
+        .expect("the last state emits done");
     assert_eq!(v.trace.len(), N - 1);
     assert_eq!(v.state, StateId::from_index(N - 1));
     let (t, ex) = recover_prop(&m, 2);
-    assert_eq!(check_recover(&m, t, ex), None);
+    assert_eq!(check_recover(&m, t, ex).unwrap(), None);
     // `step` runs on every Next, including the one into C1 (step 1).
-    let v = check_never(&m, never_prop(&m, 1)).expect("step into C1");
+    let v = check_never(&m, never_prop(&m, 1))
+        .unwrap()
+        .expect("step into C1");
     assert_eq!(v.trace.len(), 1);
 
     let m = chain(N, false);
     let (t, ex) = recover_prop(&m, 2);
-    let v = check_recover(&m, t, ex).expect("no way back");
+    let v = check_recover(&m, t, ex).unwrap().expect("no way back");
     assert_eq!(m.state_name(v.state), "C1");
     assert_eq!(v.stuck.len(), N - 1);
     // Informal timing for the report (printed with --nocapture; never asserted).

@@ -52,7 +52,21 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 
 /// Runs every lint on a machine and applies the spec's lint attributes.
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
-    let mut c = Checker { m, out: Vec::new() };
+    // A machine with timers is analysed over its configurations (state and timer
+    // values); one without has one configuration per state and keeps the state graph.
+    let (configs, limit) = if m.has_timers() {
+        match crate::configs::explore(m) {
+            Ok(g) => (Some(g), None),
+            Err(e) => (None, Some(e)),
+        }
+    } else {
+        (None, None)
+    };
+    let mut c = Checker {
+        m,
+        out: Vec::new(),
+        configs,
+    };
     // The firing regions were built within the decision-diagram budget when the machine
     // was lowered (a machine past it does not resolve); the overlap check's own
     // conjunctions must fit it too, or its results would be meaningless.
@@ -65,6 +79,23 @@ pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
                 "the coverage and overlap checks of this machine",
             ),
         ));
+        return c.out;
+    }
+    if let Some(limit) = limit {
+        // Coverage, reachability, dead rules, dead ends, equivalence and properties
+        // need the configuration graph: one error says they were not decided.
+        c.out.clear();
+        c.out.push(property::limit_diagnostic(
+            m,
+            &limit,
+            "coverage, reachability, dead rules, dead ends, state equivalence and the \
+             properties",
+        ));
+        c.overlap_only();
+        c.never_true_guards();
+        c.unused_declarations();
+        c.naming();
+        sort_diagnostics(&mut c.out);
         return c.out;
     }
     c.reachability();
@@ -95,6 +126,9 @@ pub fn sort_diagnostics(diags: &mut [Diagnostic]) {
 struct Checker<'a> {
     m: &'a Machine,
     out: Vec<Diagnostic>,
+    /// The configuration graph of a machine with timers (`None` without timers: the
+    /// state graph is exact there).
+    configs: Option<crate::configs::ConfigGraph>,
 }
 
 /// Names of the inputs a guard expression mentions, in declaration order.
@@ -161,11 +195,70 @@ impl Checker<'_> {
     ///
     /// [`MAX_BDD_NODES`]: crate::model::bdd::MAX_BDD_NODES
     fn coverage_and_overlap(&mut self) -> bool {
+        self.coverage_and_overlap_with(true)
+    }
+
+    /// The overlap check alone (coverage needs the configurations).
+    fn overlap_only(&mut self) {
+        self.coverage_and_overlap_with(false);
+    }
+
+    /// Per cell, where coverage is decided: the unhandled region to show and the
+    /// configuration (or due set) it holds in. Without timers: the cell's `unhandled`.
+    /// With timers: in a state some configuration reaches, the first configuration in
+    /// breadth-first order whose variant leaves valuations unhandled (exact: only
+    /// reachable timer values count); in a state none reaches, the first variant that
+    /// does (every timer value).
+    fn uncovered(&self) -> Vec<(Bdd, Uncovered)> {
+        let m = self.m;
+        let cells = m.lowered.cells();
+        let Some(g) = &self.configs else {
+            return cells
+                .iter()
+                .map(|c| (c.unhandled, Uncovered::Always))
+                .collect();
+        };
+        let mut out: Vec<(Bdd, Uncovered)> = vec![(Bdd::FALSE, Uncovered::Always); cells.len()];
+        let reachable = g.reachable_states(m.states.len());
+        for (i, c) in g.configs.iter().enumerate() {
+            for id in m.lowered.cell_range(c.state) {
+                if !out[id].0.is_false() {
+                    continue;
+                }
+                let cell = &cells[id];
+                let v = &cell.variants[crate::configs::variant_at(m, cell, c)];
+                if !v.unhandled.is_false() {
+                    out[id] = (v.unhandled, Uncovered::Config(i));
+                }
+            }
+        }
+        for (id, cell) in cells.iter().enumerate() {
+            if reachable[cell.state.index()] {
+                continue;
+            }
+            if let Some((k, v)) = cell
+                .variants
+                .iter()
+                .enumerate()
+                .find(|(_, v)| !v.unhandled.is_false())
+            {
+                out[id] = (v.unhandled, Uncovered::Variant(k));
+            }
+        }
+        out
+    }
+
+    fn coverage_and_overlap_with(&mut self, coverage: bool) -> bool {
         let m = self.m;
         let lowered = &m.lowered;
+        let uncovered = if coverage {
+            self.uncovered()
+        } else {
+            Vec::new()
+        };
         let mut bdd = m.bdd.clone();
         let mut reported_pairs: FxSet<(RuleId, RuleId)> = FxSet::default();
-        for cell in lowered.cells() {
+        for (cell_index, cell) in lowered.cells().iter().enumerate() {
             let s = cell.state;
             let state_name = &m.states[s.index()].name;
             for group in &cell.reached {
@@ -227,7 +320,11 @@ impl Checker<'_> {
                 break;
             }
             // Coverage: the valuations where no choice fires.
-            if m.policy != Policy::Complete || cell.unhandled.is_false() {
+            if !coverage || m.policy != Policy::Complete {
+                continue;
+            }
+            let (unhandled, at) = uncovered[cell_index];
+            if unhandled.is_false() {
                 continue;
             }
             let rules: Vec<RuleId> = cell
@@ -235,8 +332,21 @@ impl Checker<'_> {
                 .iter()
                 .flat_map(|g| g.rules.iter().copied())
                 .collect();
-            let path = m.bdd.sat_one(cell.unhandled).unwrap_or_default();
+            let path = m.bdd.sat_one(unhandled).unwrap_or_default();
             let witness = self.witness(&rules, &path);
+            let when = match at {
+                Uncovered::Always => None,
+                Uncovered::Config(i) => self
+                    .configs
+                    .as_ref()
+                    .and_then(|g| crate::configs::timers_text(m, &g.configs[i]))
+                    .map(|t| format!("in state `{state_name}` with {t}")),
+                Uncovered::Variant(0) => None,
+                Uncovered::Variant(k) => Some(format!(
+                    "in state `{state_name}` (no configuration reaches it) when {} due",
+                    due_text(m, &cell.variants[k].due)
+                )),
+            };
             for e in lowered.cell_events(m.events.len(), cell) {
                 let event = m.event_name(e);
                 let message = if rules.is_empty() {
@@ -255,6 +365,9 @@ impl Checker<'_> {
                         "no rule fires when {}",
                         render::valuation_text(&witness)
                     ));
+                    if let Some(when) = &when {
+                        d.notes.push(when.clone());
+                    }
                     if let Some(note) = hidden_wildcard_note(m, cell, event) {
                         d.notes.push(note);
                     }
@@ -278,10 +391,26 @@ impl Checker<'_> {
         bdd.overflowed()
     }
 
+    /// The graph of states (from the configurations when the machine has timers) and
+    /// the states reachable from the start.
+    fn state_graph(&self) -> (Vec<Vec<StateId>>, Vec<bool>) {
+        let m = self.m;
+        match &self.configs {
+            Some(g) => (
+                g.state_successors(m.states.len()),
+                g.reachable_states(m.states.len()),
+            ),
+            None => {
+                let succ = m.lowered.successor_lists();
+                let reachable = reachable_from(&succ, &[m.start]);
+                (succ, reachable)
+            }
+        }
+    }
+
     fn reachability(&mut self) {
         let m = self.m;
-        let succ = m.lowered.successor_lists();
-        let reachable = reachable_from(&succ, &[m.start]);
+        let (succ, reachable) = self.state_graph();
         for (i, st) in m.states.iter().enumerate() {
             if !reachable[i] {
                 let d = Diagnostic::new(
@@ -399,8 +528,7 @@ impl Checker<'_> {
     fn dead_rules_and_repeated_actions(&mut self) {
         let m = self.m;
         let lowered = &m.lowered;
-        let succ = lowered.successor_lists();
-        let reachable = reachable_from(&succ, &[m.start]);
+        let (_, reachable) = self.state_graph();
         let mut fires = vec![false; m.rules.len()];
         // Per rule, the first reachable (state, cell, repeated action) where it repeats.
         let mut repeats: Vec<Option<(StateId, EventId, SeqId, ActionId)>> =
@@ -410,7 +538,9 @@ impl Checker<'_> {
             for cell in lowered.cells_of(s) {
                 for ch in &cell.choices {
                     let r = ch.rule.index();
-                    fires[r] = true;
+                    if self.configs.is_none() {
+                        fires[r] = true;
+                    }
                     if repeats[r].is_some() {
                         continue;
                     }
@@ -423,6 +553,14 @@ impl Checker<'_> {
                     if let Some(a) = dup {
                         repeats[r] = Some((s, cell.event, ch.ops, a));
                     }
+                }
+            }
+        }
+        // With timers, a rule fires when some step of the configuration graph takes it.
+        if let Some(g) = &self.configs {
+            for e in &g.edges {
+                if let Some(k) = e.choice {
+                    fires[lowered.cell(e.cell).choices[k as usize].rule.index()] = true;
                 }
             }
         }
@@ -473,6 +611,12 @@ impl Checker<'_> {
             let reaching = cells
                 .iter()
                 .find(|c| c.reached.iter().any(|g| g.rules.contains(&r)));
+            // A timeout that never fires: why, read off the configurations.
+            if let (crate::model::Trigger::After(ticks), Some(g)) = (&rule.trigger, &self.configs) {
+                let d = self.dead_timeout(g, r, *ticks, &members, &reachable);
+                self.emit(d, m.rule_site(r));
+                continue;
+            }
             // A rule whose valuations an earlier rule of its own step and scope takes
             // overlaps it: `overlapping_rules` (an error) already says so.
             if let Some(cell) = reaching {
@@ -541,6 +685,81 @@ impl Checker<'_> {
             );
             self.emit(d, m.rule_site(r));
         }
+    }
+
+    /// `dead_rule` for a timeout rule `r` (`after ticks`) of a reachable scope that no
+    /// step of the configuration graph takes: either its timeout never comes due in a
+    /// reachable configuration (every way time passes there leaves the scope first, or
+    /// the time base is taken by a `preempt` rule each time), or it comes due and an
+    /// earlier choice (a preempt rule, an inner scope's timeout, an earlier rule of the
+    /// same timeout) takes every valuation where it would fire.
+    fn dead_timeout(
+        &self,
+        g: &crate::configs::ConfigGraph,
+        r: RuleId,
+        ticks: u32,
+        members: &[StateId],
+        reachable: &[bool],
+    ) -> Diagnostic {
+        let m = self.m;
+        let rule = &m.rules[r.index()];
+        let timer = rule.scope_timer(m);
+        let s = members
+            .iter()
+            .copied()
+            .find(|s| reachable[s.index()])
+            .unwrap_or(m.start);
+        let base = m.timebase.as_ref().map(|tb| tb.event);
+        let scope = scope_text(m, rule.scope);
+        let when = m.duration_text(ticks);
+        // A reachable configuration in the scope on which the time base brings it due.
+        let due_at = timer.and_then(|t| {
+            g.configs
+                .iter()
+                .position(|c| members.contains(&c.state) && c.timers[t.index()] + 1 == ticks)
+        });
+        let mut d = Diagnostic::new(
+            Lint::DeadRule,
+            Some(rule.span),
+            "this rule never fires: in every reachable state it applies to, another rule \
+             decides first",
+        )
+        .with_state(m.state_name(s));
+        if let Some(e) = base {
+            d = d.with_event(m.event_name(e));
+        }
+        match due_at {
+            None => {
+                d.message = format!(
+                    "this timeout never fires: no reachable configuration of {scope} counts \
+                     to {when}"
+                );
+                d.notes.push(format!(
+                    "every way through {scope} leaves it, or has the time base taken by \
+                     another rule, before its timer reaches {when}"
+                ));
+            }
+            Some(i) => {
+                let c = &g.configs[i];
+                let cell = m.lowered.cell_of(c.state, base.unwrap_or(EventId(0)));
+                let at = crate::configs::config_text(m, c);
+                d.notes.push(format!(
+                    "its timeout comes due in {at}, and the choices before it take every \
+                     valuation where it would fire"
+                ));
+                if let Some(ch) = cell.choices.first() {
+                    d.related.push((
+                        m.rules[ch.rule.index()].span,
+                        "this rule is considered first".into(),
+                    ));
+                }
+            }
+        }
+        d.helps.push(
+            "remove the rule, shorten the timeout, or change what decides the time base first"
+                .into(),
+        );
+        d
     }
 
     fn never_true_guards(&mut self) {
@@ -698,6 +917,36 @@ impl Checker<'_> {
         for (d, site) in found {
             self.emit(d, site);
         }
+    }
+}
+
+/// Where a cell's coverage gap was found.
+#[derive(Clone, Copy, Debug)]
+enum Uncovered {
+    /// No timers: the cell's own `unhandled`.
+    Always,
+    /// At this reachable configuration (index into the configuration graph).
+    Config(usize),
+    /// In a state no configuration reaches, with this variant's timeouts due.
+    Variant(usize),
+}
+
+/// `the `after 20 ms` timeout of state `Wait` is` / `... timeouts ... are`: a due set.
+fn due_text(m: &Machine, due: &[(crate::model::TimerId, u32)]) -> String {
+    let parts: Vec<String> = due
+        .iter()
+        .map(|&(t, d)| {
+            format!(
+                "`after {}` of {}",
+                m.duration_text(d),
+                scope_text(m, m.timers[t.index()].scope)
+            )
+        })
+        .collect();
+    if parts.len() == 1 {
+        format!("the timeout {} is", parts[0])
+    } else {
+        format!("the timeouts {} are", parts.join(" and "))
     }
 }
 

@@ -31,14 +31,13 @@
 //! every step once: O(states + steps) time and memory, with flat `u32` tables and no
 //! per-state copies.
 
+use crate::configs::{self, ConfigGraph, ConfigLimit};
 use crate::diag::{Diagnostic, Lint, TraceStep};
 use crate::model::lower::{CellEvents, Op};
 use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
 use std::collections::VecDeque;
 
 const NONE: u32 = u32::MAX;
-
-pub use crate::model::steps::{Step, StepTable};
 
 /// A concrete trace from the start state: (event, full input valuation) per step.
 pub type Trace = Vec<(EventId, Vec<bool>)>;
@@ -50,6 +49,8 @@ pub struct NeverViolation {
     pub trace: Trace,
     /// The state after the violating step.
     pub state: StateId,
+    /// The timer values after it (one per timer of the machine; empty without timers).
+    pub timers: Vec<u32>,
     /// Outputs high after the violating step, ascending.
     pub outputs: Vec<OutputId>,
     /// Actions run in the violating step, in order.
@@ -61,9 +62,13 @@ pub struct NeverViolation {
 pub struct RecoverViolation {
     /// The reachable state (closest to the start) from which S cannot be reached.
     pub state: StateId,
+    /// Its timer values in the configuration that cannot recover (empty without
+    /// timers).
+    pub timers: Vec<u32>,
     /// The shortest trace from the start to it that avoids exempted states.
     pub trace: Trace,
-    /// Every reachable, non-exempt state that cannot reach S, in BFS order.
+    /// Every state with a reachable, non-exempt configuration that cannot reach S, in
+    /// BFS order.
     pub stuck: Vec<StateId>,
 }
 
@@ -123,35 +128,18 @@ fn valuation(m: &Machine, bdd: &BddStore, region: Bdd) -> Vec<bool> {
     crate::model::steps::valuation(m.inputs.len(), bdd, region)
 }
 
-/// Breadth-first parent pointers: for each reached state, the state and step index
-/// that first reached it (`NONE` for the start and for unreached states).
-struct Bfs {
-    parent_state: Vec<u32>,
-    parent_step: Vec<u32>,
-    seen: Vec<bool>,
-}
-
-impl Bfs {
-    fn new(n: usize) -> Bfs {
-        Bfs {
-            parent_state: vec![NONE; n],
-            parent_step: vec![NONE; n],
-            seen: vec![false; n],
-        }
-    }
-
-    /// The trace from the start to `s`, one valuation per step.
-    fn trace_to(&self, m: &Machine, bdd: &BddStore, table: &StepTable, s: StateId) -> Trace {
-        let mut rev = Vec::new();
-        let mut cur = s.index();
-        while self.parent_step[cur] != NONE {
-            let step = table.steps[self.parent_step[cur] as usize];
-            rev.push((step.event, valuation(m, bdd, step.atom)));
-            cur = self.parent_state[cur] as usize;
-        }
-        rev.reverse();
-        rev
-    }
+/// The trace from the start along `edges` of the configuration graph.
+fn trace_of(m: &Machine, bdd: &BddStore, g: &ConfigGraph, edges: &[u32]) -> Trace {
+    edges
+        .iter()
+        .map(|&e| {
+            let edge = &g.edges[e as usize];
+            (
+                m.lowered.cell(edge.cell).event,
+                valuation(m, bdd, edge.region),
+            )
+        })
+        .collect()
 }
 
 /// The events a property names, each once.
@@ -167,17 +155,18 @@ fn prop_events(p: &Prop, out: &mut Vec<EventId>) {
     }
 }
 
-/// Proves `never P`, or returns the shortest counterexample.
-pub fn check_never(m: &Machine, prop: &Prop) -> Option<NeverViolation> {
+/// Proves `never P`, or returns the shortest counterexample; an error when the
+/// machine has more reachable configurations than exact analysis explores.
+pub fn check_never(m: &Machine, prop: &Prop) -> Result<Option<NeverViolation>, ConfigLimit> {
     let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m);
-    check_never_in(m, &mut bdd, &table, prop)
+    let g = configs::explore(m)?;
+    Ok(check_never_in(m, &mut bdd, &g, prop))
 }
 
 fn check_never_in(
     m: &Machine,
     bdd: &mut BddStore,
-    table: &StepTable,
+    g: &ConfigGraph,
     prop: &Prop,
 ) -> Option<NeverViolation> {
     let lowered = &m.lowered;
@@ -195,28 +184,29 @@ fn check_never_in(
         return Some(NeverViolation {
             trace: Vec::new(),
             state: start,
+            timers: m.start_config().timers,
             outputs: start_moore.to_vec(),
             actions: Vec::new(),
         });
     }
     let mut named = Vec::new();
     prop_events(prop, &mut named);
-    let mut bfs = Bfs::new(m.states.len());
-    bfs.seen[start.index()] = true;
-    let mut queue = VecDeque::from([start]);
     let mut events = Vec::new();
-    while let Some(s) = queue.pop_front() {
-        let base = table.start[s.index()];
-        for (k, step) in table.of(s).iter().enumerate() {
-            let fired = step.fired(m);
+    // The configurations are in breadth-first order from the start: the first one with
+    // a violating step has the shortest trace.
+    for i in 0..g.configs.len() {
+        let s = g.configs[i].state;
+        for edge in g.out(i) {
+            let cell = lowered.cell(edge.cell);
+            let fired = edge.choice.map(|k| &cell.choices[k as usize]);
             let (mealy, ops): (&[OutputId], &[Op]) = match fired {
                 Some(c) => (lowered.outputs(c.mealy), lowered.seq(c.ops)),
                 None => (&[], &[]),
             };
+            let to = g.configs[edge.to as usize].state;
             // The events the step stands for differ only in the event atoms of P: try
             // each event of the cell's class that P names, and one that it does not.
             events.clear();
-            let cell = lowered.cell(step.cell);
             match cell.events {
                 CellEvents::One(e) => events.push(e),
                 CellEvents::Rest => {
@@ -224,10 +214,10 @@ fn check_never_in(
                         named
                             .iter()
                             .copied()
-                            .filter(|&e| lowered.cell_id(s, e) == step.cell),
+                            .filter(|&e| lowered.cell_id(s, e) == edge.cell),
                     );
-                    if !named.contains(&step.event) {
-                        events.push(step.event);
+                    if !named.contains(&cell.event) {
+                        events.push(cell.event);
                     } else if let Some(e) = lowered
                         .rest_events(m.events.len(), s)
                         .into_iter()
@@ -240,22 +230,22 @@ fn check_never_in(
             let mut hit = None;
             for &event in &events {
                 let facts = Facts {
-                    to: step.to,
-                    moore: lowered.outputs(lowered.moore(step.to)),
+                    to,
+                    moore: lowered.outputs(lowered.moore(to)),
                     mealy,
                     ops,
                     step0: false,
                     event: Some(event),
                 };
                 let p = prop_bdd(m, bdd, prop, &facts);
-                let h = bdd.and(p, step.atom);
+                let h = bdd.and(p, edge.region);
                 if !h.is_false() {
                     hit = Some((event, h, facts.moore));
                     break;
                 }
             }
             if let Some((event, hit, moore)) = hit {
-                let mut trace = bfs.trace_to(m, bdd, table, s);
+                let mut trace = trace_of(m, bdd, g, &g.path_to(i));
                 trace.push((event, valuation(m, bdd, hit)));
                 let mut outputs = moore.to_vec();
                 outputs.extend_from_slice(mealy);
@@ -267,54 +257,56 @@ fn check_never_in(
                 };
                 return Some(NeverViolation {
                     trace,
-                    state: step.to,
+                    state: to,
+                    timers: g.configs[edge.to as usize].timers.clone(),
                     outputs,
                     actions,
                 });
-            }
-            let t = step.to.index();
-            if !bfs.seen[t] {
-                bfs.seen[t] = true;
-                bfs.parent_state[t] = s.0;
-                bfs.parent_step[t] = base + k as u32;
-                queue.push_back(step.to);
             }
         }
     }
     None
 }
 
-/// Proves `recover to target except ...`, or returns the closest state that cannot
-/// recover, with the shortest trace to it.
-pub fn check_recover(m: &Machine, target: StateId, except: &[StateId]) -> Option<RecoverViolation> {
-    let table = StepTable::build(m);
-    check_recover_in(m, &m.bdd, &table, target, except)
+/// Proves `recover to target except ...`, or returns the closest configuration that
+/// cannot recover, with the shortest trace to it; an error past the configuration
+/// limit.
+pub fn check_recover(
+    m: &Machine,
+    target: StateId,
+    except: &[StateId],
+) -> Result<Option<RecoverViolation>, ConfigLimit> {
+    let g = configs::explore(m)?;
+    Ok(check_recover_in(m, &m.bdd, &g, target, except))
 }
 
-/// Which states can reach `target` (itself included), by a backward breadth-first
-/// search over the reversed step graph (a flat CSR table).
-pub fn can_reach(table: &StepTable, target: StateId) -> Vec<bool> {
-    let n = table.start.len() - 1;
-    let mut in_deg = vec![0u32; n + 1];
-    for st in &table.steps {
-        in_deg[st.to.index() + 1] += 1;
+/// Which configurations can reach a configuration in state `target` (those included),
+/// by a backward breadth-first search over the reversed configuration graph (a flat
+/// CSR table).
+pub fn can_reach(g: &ConfigGraph, target: StateId) -> Vec<bool> {
+    let n = g.configs.len();
+    let mut offsets = vec![0u32; n + 1];
+    for e in &g.edges {
+        offsets[e.to as usize + 1] += 1;
     }
     for i in 0..n {
-        in_deg[i + 1] += in_deg[i];
+        offsets[i + 1] += offsets[i];
     }
-    let offsets = in_deg;
     let mut fill = offsets.clone();
-    let mut preds = vec![0u32; table.steps.len()];
-    for s in 0..n {
-        for st in table.of(StateId::from_index(s)) {
-            let slot = &mut fill[st.to.index()];
-            preds[*slot as usize] = s as u32;
-            *slot += 1;
-        }
+    let mut preds = vec![0u32; g.edges.len()];
+    for (k, e) in g.edges.iter().enumerate() {
+        let slot = &mut fill[e.to as usize];
+        preds[*slot as usize] = g.edge_from[k];
+        *slot += 1;
     }
     let mut ok = vec![false; n];
-    ok[target.index()] = true;
-    let mut queue = VecDeque::from([target.0]);
+    let mut queue = VecDeque::new();
+    for (i, c) in g.configs.iter().enumerate() {
+        if c.state == target {
+            ok[i] = true;
+            queue.push_back(i as u32);
+        }
+    }
     while let Some(t) = queue.pop_front() {
         let t = t as usize;
         for &p in &preds[offsets[t] as usize..offsets[t + 1] as usize] {
@@ -330,41 +322,58 @@ pub fn can_reach(table: &StepTable, target: StateId) -> Vec<bool> {
 fn check_recover_in(
     m: &Machine,
     bdd: &BddStore,
-    table: &StepTable,
+    g: &ConfigGraph,
     target: StateId,
     except: &[StateId],
 ) -> Option<RecoverViolation> {
-    let ok = can_reach(table, target);
+    let ok = can_reach(g, target);
     let mut exempt = vec![false; m.states.len()];
     for e in except {
         exempt[e.index()] = true;
     }
-    let mut bfs = Bfs::new(m.states.len());
-    bfs.seen[m.start.index()] = true;
-    let mut queue = VecDeque::from([m.start]);
+    // Breadth first from the start, not expanding exempt configurations: its parent
+    // edges give shortest traces that avoid them.
+    let n = g.configs.len();
+    let mut parent = vec![NONE; n];
+    let mut seen = vec![false; n];
+    seen[0] = true;
+    let mut queue = VecDeque::from([0u32]);
+    let mut first: Option<u32> = None;
+    let mut stuck_seen = vec![false; m.states.len()];
     let mut stuck = Vec::new();
-    while let Some(s) = queue.pop_front() {
-        if exempt[s.index()] {
+    while let Some(i) = queue.pop_front() {
+        let c = &g.configs[i as usize];
+        if exempt[c.state.index()] {
             continue;
         }
-        if !ok[s.index()] {
-            stuck.push(s);
+        if !ok[i as usize] {
+            first.get_or_insert(i);
+            if !stuck_seen[c.state.index()] {
+                stuck_seen[c.state.index()] = true;
+                stuck.push(c.state);
+            }
         }
-        let base = table.start[s.index()];
-        for (k, step) in table.of(s).iter().enumerate() {
-            let t = step.to.index();
-            if !bfs.seen[t] {
-                bfs.seen[t] = true;
-                bfs.parent_state[t] = s.0;
-                bfs.parent_step[t] = base + k as u32;
-                queue.push_back(step.to);
+        for (k, e) in g.out(i as usize).iter().enumerate() {
+            let t = e.to as usize;
+            if !seen[t] {
+                seen[t] = true;
+                parent[t] = g.edge_index(i as usize, k) as u32;
+                queue.push_back(e.to);
             }
         }
     }
-    let first = *stuck.first()?;
+    let first = first? as usize;
+    let mut edges = Vec::new();
+    let mut cur = first;
+    while parent[cur] != NONE {
+        edges.push(parent[cur]);
+        cur = g.edge_from[parent[cur] as usize] as usize;
+    }
+    edges.reverse();
     Some(RecoverViolation {
-        state: first,
-        trace: bfs.trace_to(m, bdd, table, first),
+        state: g.configs[first].state,
+        timers: g.configs[first].timers.clone(),
+        trace: trace_of(m, bdd, g, &edges),
         stuck,
     })
 }
@@ -394,18 +403,31 @@ fn name_list(names: impl Iterator<Item = String>) -> String {
     }
 }
 
+/// The error of an analysis that stopped at the configuration limit: at the machine,
+/// naming the limit and what could not be decided.
+pub fn limit_diagnostic(m: &Machine, limit: &ConfigLimit, what: &str) -> Diagnostic {
+    Diagnostic::name_error(m.span, limit.to_string()).note(format!(
+        "{what} of `{}` are not decided: exact analysis stops at {} configurations \
+         (MAX_CONFIGS)",
+        m.name, limit.limit
+    ))
+}
+
 /// Proves every declared property of a machine; one `property` error per violated one.
 pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
     if m.properties.is_empty() {
         return Vec::new();
     }
     let mut bdd = m.bdd.clone();
-    let table = StepTable::build(m);
+    let g = match configs::explore(m) {
+        Ok(g) => g,
+        Err(limit) => return vec![limit_diagnostic(m, &limit, "the properties")],
+    };
     let mut out = Vec::new();
     for p in &m.properties {
         match p {
             Property::Never { prop, span, text } => {
-                let Some(v) = check_never_in(m, &mut bdd, &table, prop) else {
+                let Some(v) = check_never_in(m, &mut bdd, &g, prop) else {
                     continue;
                 };
                 let n = v.trace.len();
@@ -421,6 +443,15 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                     name_list(v.outputs.iter().map(|o| m.outputs[o.index()].name.clone())),
                     name_list(v.actions.iter().map(|a| m.actions[a.index()].name.clone())),
                 ));
+                if let Some(t) = configs::timers_text(
+                    m,
+                    &crate::interp::Config {
+                        state: v.state,
+                        timers: v.timers.clone(),
+                    },
+                ) {
+                    d = d.note(format!("after step {n}, {t}"));
+                }
                 if n == 0 {
                     d = d
                         .note("step 0 is the start state before any event, with every input false");
@@ -438,7 +469,7 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                 span,
                 text,
             } => {
-                let Some(v) = check_recover_in(m, &bdd, &table, *target, except) else {
+                let Some(v) = check_recover_in(m, &bdd, &g, *target, except) else {
                     continue;
                 };
                 let state = m.state_name(v.state);
@@ -455,6 +486,15 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                     "`{state}` is reached in {} step(s), and no input sequence leads from it to `{goal}`",
                     v.trace.len()
                 ));
+                if let Some(t) = configs::timers_text(
+                    m,
+                    &crate::interp::Config {
+                        state: v.state,
+                        timers: v.timers.clone(),
+                    },
+                ) {
+                    d = d.note(format!("`{state}` cannot recover with {t}"));
+                }
                 if v.stuck.len() > 1 {
                     const SHOWN: usize = 8;
                     let more = v.stuck.len().saturating_sub(SHOWN);

@@ -104,13 +104,10 @@ pub fn valuation_text(v: &[(String, bool)]) -> String {
         .join(", ")
 }
 
-/// A trace as trace-file lines (`Event a=1 b=0`), one per step, each as
-/// `detent run --trace` reads it.
+/// A trace as trace-file lines (`Event a=1 b=0`), one per step, a run of equal steps
+/// as one line with its count (`Tick *250`), each as `detent run --trace` reads it.
 pub fn trace_lines(trace: &[TraceStep]) -> Vec<String> {
-    trace
-        .iter()
-        .map(|s| crate::report::trace_line(&s.event, &s.inputs, true))
-        .collect()
+    crate::report::trace_lines(&crate::report::check::trace_entries(trace), true)
 }
 
 /// The note that shows a counterexample: a headline, then the steps as trace-file
@@ -118,11 +115,21 @@ pub fn trace_lines(trace: &[TraceStep]) -> Vec<String> {
 /// `detent run --trace -`) as they are.
 pub fn trace_note(trace: &[TraceStep]) -> String {
     let n = trace.len();
-    let mut note = format!(
-        "shortest trace from the start state ({}, one trace line each):",
-        plural(n, "step")
-    );
-    for line in trace_lines(trace) {
+    let lines = trace_lines(trace);
+    let mut note = if lines.len() == n {
+        format!(
+            "shortest trace from the start state ({}, one trace line each):",
+            plural(n, "step")
+        )
+    } else {
+        // Runs of equal steps are one line with their count (`Tick *1500`).
+        format!(
+            "shortest trace from the start state ({} as {}):",
+            plural(n, "step"),
+            plural(lines.len(), "trace line")
+        )
+    };
+    for line in lines {
         let _ = write!(note, "\n    {line}");
     }
     note

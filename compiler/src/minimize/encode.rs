@@ -474,3 +474,138 @@ pub fn named_inputs(reference: &Machine, inputs: &[bool]) -> Vec<(String, bool)>
         .map(|(i, it)| (it.name.clone(), inputs.get(i).copied().unwrap_or(false)))
         .collect()
 }
+
+/// One machine with timers over an [`Alphabet`], its states being configurations.
+#[derive(Clone, Debug)]
+pub struct EncodedConfigs {
+    /// The encoding; DFA state `i` is `configs[i]`.
+    pub enc: Encoded,
+    /// The configurations, the roots first, then breadth first from them.
+    pub configs: Vec<crate::interp::Config>,
+}
+
+/// [`encode`] over configurations (state and timer values): every configuration
+/// reachable from `roots` on the alphabet's symbols is a DFA state, and each symbol's
+/// step is the choice of the configuration's variant
+/// ([`crate::configs::variant_at`]) whose region holds the symbol's valuation, with the
+/// timers counted and reset as [`crate::configs::next_config`] does. What a step shows is
+/// what [`encode`] records (timers are not observable, only what they make happen).
+/// Stops with [`crate::configs::ConfigLimit`] past `limit` configurations.
+pub fn encode_configs(
+    side: &Side<'_>,
+    alphabet: &Alphabet,
+    interner: &mut Interner,
+    roots: &[crate::interp::Config],
+    limit: usize,
+) -> Result<EncodedConfigs, crate::configs::ConfigLimit> {
+    use crate::configs::{next_config, variant_at};
+    let m = side.m;
+    let lowered = &m.lowered;
+    let k = alphabet.symbols.len();
+    let local: Vec<(EventId, Vec<bool>)> = alphabet
+        .symbols
+        .iter()
+        .map(|sym| {
+            (
+                side.event_of_ref[sym.event.index()],
+                side.local_inputs(&sym.inputs),
+            )
+        })
+        .collect();
+    let moore_set = |s: StateId| {
+        mapped_sorted(
+            lowered
+                .outputs(lowered.moore(s))
+                .iter()
+                .map(|o| side.output_to_ref[o.index()]),
+        )
+    };
+    let rejects = m.policy == Policy::Reject;
+    let mut configs: Vec<crate::interp::Config> = Vec::new();
+    let mut index: FxMap<crate::interp::Config, u32> = FxMap::default();
+    for r in roots {
+        if !index.contains_key(r) {
+            index.insert(r.clone(), configs.len() as u32);
+            configs.push(r.clone());
+        }
+    }
+    let over = || crate::configs::ConfigLimit {
+        machine: m.name.clone(),
+        limit,
+    };
+    if configs.len() > limit {
+        return Err(over());
+    }
+    let mut delta = Vec::new();
+    let mut obs = Vec::new();
+    let mut moore = Vec::new();
+    let mut initial = Vec::new();
+    let mut i = 0;
+    while i < configs.len() {
+        let c = configs[i].clone();
+        let from = c.state;
+        let moore_id = interner.moore(moore_set(from));
+        moore.push(moore_id);
+        for (event, inputs) in &local {
+            let cell = lowered.cell_of(from, *event);
+            let v = &cell.variants[variant_at(m, cell, &c)];
+            let fired = v
+                .regions
+                .iter()
+                .position(|r| m.bdd.eval(*r, |x| value(inputs, x)));
+            let next = next_config(m, cell, fired, &c);
+            let observation = match fired.map(|j| &cell.choices[j]) {
+                Some(ch) => Observation {
+                    rejected: false,
+                    mealy: mapped_sorted(
+                        lowered
+                            .outputs(ch.mealy)
+                            .iter()
+                            .map(|o| side.output_to_ref[o.index()]),
+                    ),
+                    moore: moore_set(ch.target),
+                    actions: lowered
+                        .actions(ch.ops)
+                        .map(|a| side.action_to_ref[a.index()])
+                        .collect(),
+                },
+                None => Observation {
+                    rejected: rejects,
+                    mealy: Vec::new(),
+                    moore: moore_set(from),
+                    actions: Vec::new(),
+                },
+            };
+            obs.push(interner.observation(observation));
+            let to = match index.get(&next) {
+                Some(&to) => to,
+                None => {
+                    if configs.len() >= limit {
+                        return Err(over());
+                    }
+                    let to = configs.len() as u32;
+                    index.insert(next.clone(), to);
+                    configs.push(next);
+                    to
+                }
+            };
+            delta.push(to);
+        }
+        let row = obs[i * k..(i + 1) * k].to_vec();
+        initial.push(interner.row(moore_id, row));
+        i += 1;
+    }
+    Ok(EncodedConfigs {
+        enc: Encoded {
+            dfa: Dfa {
+                n_states: configs.len(),
+                n_symbols: k,
+                delta,
+                initial,
+            },
+            obs,
+            moore,
+        },
+        configs,
+    })
+}

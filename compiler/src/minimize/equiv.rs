@@ -12,10 +12,15 @@
 //! state sets and names of the two machines play no part. Cost O(k n_a n_b) in the
 //! worst case for k symbols, memory proportional to the pairs visited.
 //!
+//! Machines with timers are encoded over their configurations (state and timer values,
+//! [`super::encode::encode_configs`]) and the product is searched from the pair of
+//! start configurations, so a witness may need thousands of time-base events (printed
+//! as `Tick *N`).
+//!
 //! The witness is then replayed through the reference interpreter on both machines to
 //! report what each did at the step where they disagree.
 
-use super::encode::{encode, named_inputs, Alphabet, Interner, Side};
+use super::encode::{encode, encode_configs, named_inputs, Alphabet, Encoded, Interner, Side};
 use super::partition::{distinguish, Observed};
 use crate::interp::{Outcome, StepResult};
 use crate::model::{Item, Machine, StateId};
@@ -163,6 +168,57 @@ fn view_step(m: &Machine, r: &StepResult) -> StepView {
     }
 }
 
+/// Why two machines could not be compared.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+pub enum EquivError {
+    /// Their declarations differ.
+    #[error(transparent)]
+    Decl(#[from] DeclMismatch),
+    /// A machine with timers has more configurations than exact analysis explores.
+    #[error(transparent)]
+    Limit(#[from] crate::configs::ConfigLimit),
+}
+
+/// Shortest distinguishing word between two machines with timers from their start
+/// configurations, by breadth-first search over pairs of configurations (the product
+/// of their configuration encodings); `None` when equivalent.
+fn search_configs(
+    sa: &Side<'_>,
+    sb: &Side<'_>,
+    alphabet: &Alphabet,
+) -> Result<Option<Vec<u32>>, crate::configs::ConfigLimit> {
+    let mut interner = Interner::default();
+    let limit = crate::configs::MAX_CONFIGS;
+    let ea = encode_configs(sa, alphabet, &mut interner, &[sa.m.start_config()], limit)?.enc;
+    let eb = encode_configs(sb, alphabet, &mut interner, &[sb.m.start_config()], limit)?.enc;
+    Ok(search_encoded(&ea, 0, &eb, 0, alphabet.symbols.len()))
+}
+
+fn search_encoded(
+    ea: &Encoded,
+    start_a: u32,
+    eb: &Encoded,
+    start_b: u32,
+    k: usize,
+) -> Option<Vec<u32>> {
+    let oa = Observed {
+        dfa: &ea.dfa,
+        start: start_a,
+        state_label: |s: u32| ea.moore[s as usize] as u64,
+        step_label: |s: u32, x: u32| ea.obs[s as usize * k + x as usize] as u64,
+    };
+    let ob = Observed {
+        dfa: &eb.dfa,
+        start: start_b,
+        state_label: |s: u32| eb.moore[s as usize] as u64,
+        step_label: |s: u32, x: u32| eb.obs[s as usize * k + x as usize] as u64,
+    };
+    match distinguish(&oa, &ob) {
+        Ok(w) => w,
+        Err(e) => panic!("internal error: product search failed: {e}"),
+    }
+}
+
 /// Shortest distinguishing word between two (machine, start state) sides that share
 /// `alphabet`, as symbol indices; `None` when equivalent.
 fn search(
@@ -175,26 +231,10 @@ fn search(
     let mut interner = Interner::default();
     let ea = encode(sa, alphabet, &mut interner);
     let eb = encode(sb, alphabet, &mut interner);
-    let k = alphabet.symbols.len();
-    let oa = Observed {
-        dfa: &ea.dfa,
-        start: start_a.0,
-        state_label: |s: u32| ea.moore[s as usize] as u64,
-        step_label: |s: u32, x: u32| ea.obs[s as usize * k + x as usize] as u64,
-    };
-    let ob = Observed {
-        dfa: &eb.dfa,
-        start: start_b.0,
-        state_label: |s: u32| eb.moore[s as usize] as u64,
-        step_label: |s: u32, x: u32| eb.obs[s as usize * k + x as usize] as u64,
-    };
     // Both encodings come from the same alphabet and valid machines, so the search
     // cannot fail on shape; treat a failure as "no witness found" would hide bugs, so
     // surface it as a panic with context.
-    match distinguish(&oa, &ob) {
-        Ok(w) => w,
-        Err(e) => panic!("internal error: product search failed: {e}"),
-    }
+    search_encoded(&ea, start_a.0, &eb, start_b.0, alphabet.symbols.len())
 }
 
 fn witness_of(reference: &Machine, alphabet: &Alphabet, word: &[u32]) -> Vec<WitnessStep> {
@@ -212,7 +252,12 @@ fn witness_of(reference: &Machine, alphabet: &Alphabet, word: &[u32]) -> Vec<Wit
 /// Compares two machines from their start states. `Ok(None)`: equivalent;
 /// `Ok(Some(d))`: a shortest distinguishing sequence and what each machine did where
 /// they disagree; `Err`: their declarations differ (by name; order may differ).
-pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, DeclMismatch> {
+///
+/// Machines with timers are compared over configurations: breadth first over pairs of
+/// configurations from the two start configurations, so the witness is shortest in
+/// steps (time-base events included); `Err(Limit)` past
+/// [`crate::configs::MAX_CONFIGS`] configurations of either machine.
+pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, EquivError> {
     compare_declarations(a, b)?;
     let sa = Side::reference(a);
     let sb = Side::by_name(a, b).ok_or_else(|| DeclMismatch {
@@ -221,7 +266,12 @@ pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, DeclMismatc
         diffs: vec![("declarations", Vec::new(), Vec::new())],
     })?;
     let alphabet = Alphabet::build(&[sa.clone(), sb.clone()]);
-    let Some(word) = search(&sa, a.start, &sb, b.start, &alphabet) else {
+    let found = if a.has_timers() || b.has_timers() {
+        search_configs(&sa, &sb, &alphabet)?
+    } else {
+        search(&sa, a.start, &sb, b.start, &alphabet)
+    };
+    let Some(word) = found else {
         return Ok(None);
     };
     let witness = witness_of(a, &alphabet, &word);
@@ -233,22 +283,20 @@ pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, DeclMismatc
             b: view_start(b, b.start),
         }));
     }
-    let (mut pa, mut pb) = (a.start, b.start);
+    let (mut pa, mut pb) = (a.start_config(), b.start_config());
     let mut last = None;
     for &x in &word {
         let sym = &alphabet.symbols[x as usize];
-        let ra = a.step(
-            pa,
+        let ra = a.step_config(
+            &mut pa,
             sa.event_of_ref[sym.event.index()],
             &sa.local_inputs(&sym.inputs),
         );
-        let rb = b.step(
-            pb,
+        let rb = b.step_config(
+            &mut pb,
             sb.event_of_ref[sym.event.index()],
             &sb.local_inputs(&sym.inputs),
         );
-        pa = ra.to;
-        pb = rb.to;
         last = Some((ra, rb));
     }
     let (ra, rb) = last.expect("word is not empty");

@@ -93,6 +93,9 @@ impl Minimization {
 
 /// Computes the state equivalence of `m` (see the module doc).
 pub fn minimize(m: &Machine) -> Minimization {
+    if m.has_timers() {
+        return minimize_timed(m);
+    }
     let side = Side::reference(m);
     let alphabet = Alphabet::build(std::slice::from_ref(&side));
     let mut interner = Interner::default();
@@ -109,6 +112,118 @@ pub fn minimize(m: &Machine) -> Minimization {
                 .collect()
         })
         .collect();
+    let mut class_of = vec![None; m.states.len()];
+    for (c, members) in classes.iter().enumerate() {
+        for s in members {
+            class_of[s.index()] = Some(c as u32);
+        }
+    }
+    let unreachable = (0..m.states.len())
+        .filter(|&s| class_of[s].is_none())
+        .map(StateId::from_index)
+        .collect();
+    Minimization {
+        states_before: m.states.len(),
+        unreachable,
+        classes,
+        class_of,
+    }
+}
+
+/// The shape of a state's timers, as merging compares them: per timer of its scopes
+/// (innermost first), its durations; `None` when one of them is a group's (its timer runs
+/// across the group's members, which a quotient without groups cannot keep: such a
+/// state is never merged).
+fn timer_shape(m: &Machine, s: StateId) -> Option<Vec<Vec<u32>>> {
+    m.chain_timers(s)
+        .into_iter()
+        .map(|t| {
+            let timer = &m.timers[t.index()];
+            matches!(timer.scope, Scope::State(_)).then(|| timer.durations.clone())
+        })
+        .collect()
+}
+
+/// True when a group has `after` rules: its timer runs across its members' moves, which
+/// a quotient without groups cannot keep, so such a machine is not minimized.
+pub fn has_group_timer(m: &Machine) -> bool {
+    m.timers.iter().any(|t| matches!(t.scope, Scope::Group(_)))
+}
+
+/// [`minimize`] for a machine with timers (docs/language-decisions.md, "Minimizing
+/// machines with timers").
+///
+/// Reachable states are those of the configuration graph. Every configuration of
+/// every reachable state, at every value of its timers ([`crate::configs::all_configs_of`]),
+/// is a root of a configuration encoding ([`super::encode::encode_configs`]), whose
+/// equivalence Hopcroft's algorithm computes. Two states merge exactly when their timer
+/// shapes are equal (the same durations, timer by timer) and, at every
+/// timer value, their configurations are equivalent (the values taken position by
+/// position). The quotient keeps the representative's timeouts. A machine with a group
+/// timer ([`has_group_timer`]) merges nothing. Past
+/// [`crate::configs::MAX_CONFIGS`] configurations nothing merges (no merge is always
+/// sound).
+fn minimize_timed(m: &Machine) -> Minimization {
+    let limit = crate::configs::MAX_CONFIGS;
+    let reachable = match crate::configs::explore(m) {
+        Ok(g) => g.reachable_states(m.states.len()),
+        Err(_) => crate::model::graph::reachable_from(&m.lowered.successor_lists(), &[m.start]),
+    };
+    let states: Vec<StateId> = (0..m.states.len())
+        .filter(|&s| reachable[s])
+        .map(StateId::from_index)
+        .collect();
+    let singletons = || {
+        let classes: Vec<Vec<StateId>> = states.iter().map(|&s| vec![s]).collect();
+        finish(m, classes)
+    };
+    if has_group_timer(m) {
+        return singletons();
+    }
+    let mut roots = Vec::new();
+    let mut ranges = Vec::with_capacity(states.len());
+    for &s in &states {
+        let Ok(all) = crate::configs::all_configs_of(m, s, limit) else {
+            return singletons();
+        };
+        let start = roots.len();
+        roots.extend(all);
+        if roots.len() > limit {
+            return singletons();
+        }
+        ranges.push(start..roots.len());
+    }
+    let side = Side::reference(m);
+    let alphabet = Alphabet::build(std::slice::from_ref(&side));
+    let mut interner = Interner::default();
+    let Ok(enc) = super::encode::encode_configs(&side, &alphabet, &mut interner, &roots, limit)
+    else {
+        return singletons();
+    };
+    let partition = hopcroft(&enc.enc.dfa);
+    // States with the same key merge; a state that must not merge keys on itself.
+    type Key = (Option<Vec<Vec<u32>>>, Vec<u32>, Option<StateId>);
+    let mut by_key: crate::fxhash::FxMap<Key, usize> = Default::default();
+    let mut classes: Vec<Vec<StateId>> = Vec::new();
+    for (k, &s) in states.iter().enumerate() {
+        let shape = timer_shape(m, s);
+        let alone = shape.is_none().then_some(s);
+        let blocks: Vec<u32> = ranges[k].clone().map(|i| partition.class_of[i]).collect();
+        let key = (shape, blocks, alone);
+        match by_key.get(&key) {
+            Some(&c) => classes[c].push(s),
+            None => {
+                by_key.insert(key, classes.len());
+                classes.push(vec![s]);
+            }
+        }
+    }
+    finish(m, classes)
+}
+
+/// A [`Minimization`] from classes of reachable states (each ascending, ordered by
+/// first member).
+fn finish(m: &Machine, classes: Vec<Vec<StateId>>) -> Minimization {
     let mut class_of = vec![None; m.states.len()];
     for (c, members) in classes.iter().enumerate() {
         for s in members {
@@ -256,6 +371,19 @@ pub struct Quotient {
 ///
 /// Only on an internal error (see [`quotient_machine`]).
 pub fn quotient(m: &Machine) -> Quotient {
+    if has_group_timer(m) {
+        // Not minimized: the machine itself, every state its own class.
+        let n = m.states.len();
+        return Quotient {
+            minimization: Minimization {
+                states_before: n,
+                unreachable: Vec::new(),
+                classes: (0..n).map(|s| vec![StateId::from_index(s)]).collect(),
+                class_of: (0..n).map(|s| Some(s as u32)).collect(),
+            },
+            machine: m.clone(),
+        };
+    }
     let minimization = minimize(m);
     let machine = quotient_machine(m, &minimization);
     Quotient {
@@ -285,6 +413,24 @@ pub fn quotient_machine(m: &Machine, min: &Minimization) -> Machine {
                 .collect::<Vec<_>>()
                 .join("; ")
         ),
+    }
+}
+
+/// `ticks` periods of `period_us` microseconds in the largest unit that states it
+/// exactly (`1500 ms`, `30 s`, `250 us`).
+fn duration_in_units(period_us: u64, ticks: u32) -> ast::Duration {
+    let us = period_us * u64::from(ticks);
+    let (value, unit) = if us % 1_000_000 == 0 {
+        (us / 1_000_000, ast::TimeUnit::S)
+    } else if us % 1_000 == 0 {
+        (us / 1_000, ast::TimeUnit::Ms)
+    } else {
+        (us, ast::TimeUnit::Us)
+    };
+    ast::Duration {
+        value,
+        unit,
+        span: Span::call_site(),
     }
 }
 
@@ -321,6 +467,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
     let mut rules: Vec<Rule> = Vec::new();
     // Guards of choices that follow a preempt rule are narrowed here.
     let mut bdd = m.bdd.clone();
+    let mut timers = Vec::new();
     for (c, class) in min.classes.iter().enumerate() {
         let rep = class[0];
         let me = Scope::State(StateId::from_index(c));
@@ -337,25 +484,31 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                 CellEvents::Rest => Trigger::Wildcard,
             };
             let mut ids = Vec::with_capacity(cell.choices.len());
-            let mut add = |rule: Rule| {
+            // Per rule added: the choice it stands for (`None` for a placeholder).
+            let mut fired: Vec<Option<(crate::model::TimerId, u32)>> = Vec::new();
+            let mut add = |rule: Rule, due: Option<(crate::model::TimerId, u32)>| {
                 ids.push(RuleId::from_index(rules.len()));
                 rules.push(rule);
+                fired.push(due);
             };
             if cell.choices.is_empty() && cell.events != CellEvents::Rest && wildcard_fires {
                 // Named, yet nothing fires: keep it named so it does not fall to `_`.
-                add(Rule {
-                    span: sp,
-                    guard_span: sp,
-                    scope: me,
-                    preempt: false,
-                    otherwise: false,
-                    trigger: trigger.clone(),
-                    guard_expr: Some(Guard::Const(false)),
-                    guard: Bdd::FALSE,
-                    target: Target::Stay,
-                    mealy: Vec::new(),
-                    actions: Vec::new(),
-                });
+                add(
+                    Rule {
+                        span: sp,
+                        guard_span: sp,
+                        scope: me,
+                        preempt: false,
+                        otherwise: false,
+                        trigger: trigger.clone(),
+                        guard_expr: Some(Guard::Const(false)),
+                        guard: Bdd::FALSE,
+                        target: Target::Stay,
+                        mealy: Vec::new(),
+                        actions: Vec::new(),
+                    },
+                    None,
+                );
             }
             // The quotient has no groups, so a cell's choices all become rules of one
             // state scope. Choices of one lookup step and scope are exclusive (or the
@@ -412,20 +565,40 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                         Op::Action(a) => *a,
                     })
                     .collect();
-                add(Rule {
-                    span: sp,
-                    guard_span: sp,
-                    scope: me,
-                    preempt: false,
-                    otherwise: rule.otherwise,
-                    trigger: trigger.clone(),
-                    guard_expr,
-                    guard,
-                    target,
-                    mealy: lowered.outputs(choice.mealy).to_vec(),
-                    actions,
-                });
+                add(
+                    Rule {
+                        span: sp,
+                        guard_span: sp,
+                        scope: me,
+                        preempt: false,
+                        otherwise: rule.otherwise,
+                        trigger: trigger.clone(),
+                        guard_expr,
+                        guard,
+                        target,
+                        mealy: lowered.outputs(choice.mealy).to_vec(),
+                        actions,
+                    },
+                    choice.due,
+                );
             }
+            // Timeout choices become the class state's own `after` rules (the quotient
+            // has no groups: only machines whose timers are states' own merge, see
+            // [`minimize_timed`]), grouped by duration.
+            let mut plain = Vec::with_capacity(ids.len());
+            for (&id, choice) in ids.iter().zip(fired.iter()) {
+                match *choice {
+                    Some((_, ticks)) => {
+                        rules[id.index()].trigger = Trigger::After(ticks);
+                        match own.timeouts.iter_mut().find(|(d, _)| *d == ticks) {
+                            Some((_, list)) => list.push(id),
+                            None => own.timeouts.push((ticks, vec![id])),
+                        }
+                    }
+                    None => plain.push(id),
+                }
+            }
+            let ids = plain;
             if ids.is_empty() {
                 continue;
             }
@@ -433,6 +606,14 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                 CellEvents::One(e) if !m.clocked => own.named.push((e, ids)),
                 CellEvents::One(_) | CellEvents::Rest => own.wildcard.extend(ids),
             }
+        }
+        if !own.timeouts.is_empty() {
+            own.timeouts.sort_by_key(|(d, _)| *d);
+            own.timer = Some(crate::model::TimerId::from_index(timers.len()));
+            timers.push(crate::model::Timer {
+                scope: me,
+                durations: own.timeouts.iter().map(|(d, _)| *d).collect(),
+            });
         }
         let mut doc = st.doc.clone();
         if class.len() > 1 {
@@ -477,7 +658,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         vis: m.vis,
         clocked: m.clocked,
         timebase: m.timebase.clone(),
-        timers: Vec::new(),
+        timers,
         events: plain_items(&m.events),
         inputs: plain_items(&m.inputs),
         outputs: plain_items(&m.outputs),
@@ -562,6 +743,13 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
     if !q.actions.is_empty() {
         decls.push(decl(DeclKind::Actions(doc_list(&q.actions))));
     }
+    if let Some(tb) = &q.timebase {
+        decls.push(decl(DeclKind::Timebase {
+            // A clocked machine's time base is its clock: the event is left out.
+            event: (!q.clocked).then(|| ident(q.event_name(tb.event))),
+            period: tb.period_us.map(|us| duration_in_units(us, 1)),
+        }));
+    }
     decls.push(decl(DeclKind::Start(ident(q.state_name(q.start)))));
     if q.policy != Policy::Complete {
         decls.push(decl(DeclKind::Unhandled(q.policy)));
@@ -617,10 +805,13 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
         bodies[s.index()].push(Body::Rule(RuleAst {
             preempt: None,
             after: match rule.trigger {
-                Trigger::After(d) => Some(ast::Duration {
-                    value: u64::from(d),
-                    unit: ast::TimeUnit::Ticks,
-                    span: Span::call_site(),
+                Trigger::After(d) => Some(match q.timebase.as_ref().and_then(|t| t.period_us) {
+                    Some(us) => duration_in_units(us, d),
+                    None => ast::Duration {
+                        value: u64::from(d),
+                        unit: ast::TimeUnit::Ticks,
+                        span: Span::call_site(),
+                    },
                 }),
                 _ => None,
             },

@@ -76,12 +76,10 @@ pub struct DiagnosticEntry {
     pub helps: Vec<String>,
 }
 
-/// A counterexample trace as a JSON step list.
+/// A counterexample trace as a JSON step list, runs of equal steps as one entry with
+/// `repeat`.
 pub fn trace_entries(trace: &[TraceStep]) -> Vec<StepEntry> {
-    trace
-        .iter()
-        .map(|s| StepEntry::step(&s.event, &s.inputs))
-        .collect()
+    super::compress(trace.iter().map(|s| StepEntry::step(&s.event, &s.inputs)))
 }
 
 impl DiagnosticEntry {

@@ -95,11 +95,11 @@ impl EquivReport {
             },
             Some(d) => EquivReport {
                 equivalent: false,
-                witness: d
-                    .witness
-                    .iter()
-                    .map(|s| StepEntry::step(&s.event, &s.inputs))
-                    .collect(),
+                witness: super::compress(
+                    d.witness
+                        .iter()
+                        .map(|s| StepEntry::step(&s.event, &s.inputs)),
+                ),
                 step: Some(d.step),
                 a: Some(ViewEntry::new(&d.a)),
                 b: Some(ViewEntry::new(&d.b)),
@@ -125,7 +125,7 @@ impl EquivReport {
             let _ = write!(
                 t,
                 "; shortest distinguishing sequence ({}):",
-                plural(self.witness.len(), "step")
+                plural(self.witness.iter().map(StepEntry::len).sum(), "step")
             );
             for line in trace_lines(&self.witness, true) {
                 let _ = write!(t, "\n{line}");

@@ -39,7 +39,8 @@ impl Serialize for Valuation {
 }
 
 /// One entry of a JSON step list (a property's `trace`, `equiv`'s `witness`, `tour`'s
-/// `steps`): `{"event":"Tick","inputs":{..}}`, or a restart `{"reset":true}`.
+/// `steps`): `{"event":"Tick","inputs":{..}}` (with `"repeat":N` when the same step
+/// comes N times in a row, N > 1), or a restart `{"reset":true}`.
 #[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
 #[serde(untagged)]
 pub enum StepEntry {
@@ -49,6 +50,9 @@ pub enum StepEntry {
         event: String,
         /// The inputs, in declaration order.
         inputs: Valuation,
+        /// How many times the step comes in a row (left out when 1).
+        #[serde(skip_serializing_if = "is_one")]
+        repeat: u32,
     },
     /// Back to the start configuration.
     Reset {
@@ -63,8 +67,50 @@ impl StepEntry {
         StepEntry::Step {
             event: event.to_string(),
             inputs: Valuation(inputs.to_vec()),
+            repeat: 1,
         }
     }
+
+    /// How many steps the entry stands for (0 for a restart).
+    pub fn len(&self) -> usize {
+        match self {
+            StepEntry::Step { repeat, .. } => *repeat as usize,
+            StepEntry::Reset { .. } => 0,
+        }
+    }
+}
+
+fn is_one(n: &u32) -> bool {
+    *n == 1
+}
+
+/// A step list with each run of equal steps (same event, same inputs) as one entry
+/// with its count: the form every printed sequence takes (`Tick *250`, `"repeat":250`).
+/// Restarts are never merged. Expanding the counts gives the list back.
+pub fn compress(steps: impl IntoIterator<Item = StepEntry>) -> Vec<StepEntry> {
+    let mut out: Vec<StepEntry> = Vec::new();
+    for s in steps {
+        if let (
+            Some(StepEntry::Step {
+                event: e0,
+                inputs: i0,
+                repeat: r0,
+            }),
+            StepEntry::Step {
+                event,
+                inputs,
+                repeat,
+            },
+        ) = (out.last_mut(), &s)
+        {
+            if e0 == event && i0 == inputs {
+                *r0 = r0.saturating_add(*repeat);
+                continue;
+            }
+        }
+        out.push(s);
+    }
+    out
 }
 
 /// The trace line (and the word) that restarts the machine: printed here, read by
@@ -75,8 +121,18 @@ pub const RESET: &str = "reset";
 /// inputs that are 1 (an input left out is 0). An event named `reset` becomes the JSON
 /// step `{"event":"reset","inputs":{..}}`, since the text line `reset` is a restart.
 pub fn trace_line(event: &str, inputs: &[(String, bool)], all: bool) -> String {
+    repeated_line(event, inputs, 1, all)
+}
+
+/// [`trace_line`] for a step that comes `repeat` times in a row: `Tick *250` (the JSON
+/// form `"repeat":250` for an event named `reset`).
+pub fn repeated_line(event: &str, inputs: &[(String, bool)], repeat: u32, all: bool) -> String {
     if event == RESET {
-        let entry = StepEntry::step(event, inputs);
+        let entry = StepEntry::Step {
+            event: event.to_string(),
+            inputs: Valuation(inputs.to_vec()),
+            repeat,
+        };
         return to_json(&entry);
     }
     let mut s = event.to_string();
@@ -84,6 +140,9 @@ pub fn trace_line(event: &str, inputs: &[(String, bool)], all: bool) -> String {
         if all || *v {
             s.push_str(&format!(" {name}={}", u8::from(*v)));
         }
+    }
+    if repeat != 1 {
+        s.push_str(&format!(" *{repeat}"));
     }
     s
 }
@@ -94,7 +153,11 @@ pub fn trace_lines(steps: &[StepEntry], all: bool) -> Vec<String> {
         .iter()
         .map(|s| match s {
             StepEntry::Reset { .. } => RESET.to_string(),
-            StepEntry::Step { event, inputs } => trace_line(event, &inputs.0, all),
+            StepEntry::Step {
+                event,
+                inputs,
+                repeat,
+            } => repeated_line(event, &inputs.0, *repeat, all),
         })
         .collect()
 }

@@ -25,16 +25,12 @@ pub struct TourReport {
 impl TourReport {
     /// The report of tour `t` of machine `m`.
     pub fn new(m: &Machine, t: &Tour) -> TourReport {
-        let steps = t
-            .steps
-            .iter()
-            .map(|s| match s {
-                TourStep::Reset => StepEntry::Reset { reset: true },
-                TourStep::Step { event, inputs } => {
-                    StepEntry::step(m.event_name(*event), &named_inputs(m, inputs))
-                }
-            })
-            .collect();
+        let steps = super::compress(t.steps.iter().map(|s| match s {
+            TourStep::Reset => StepEntry::Reset { reset: true },
+            TourStep::Step { event, inputs } => {
+                StepEntry::step(m.event_name(*event), &named_inputs(m, inputs))
+            }
+        }));
         let summary = format!(
             "tour of `{}`: {}, {}, covers {} of {} ({})",
             m.name,
@@ -42,7 +38,9 @@ impl TourReport {
             plural(t.resets(), "reset"),
             t.covers,
             plural(t.transitions, "transition"),
-            if t.strongly_connected {
+            if m.has_timers() {
+                "timers: greedy cover over configurations"
+            } else if t.strongly_connected {
                 "strongly connected: postman tour"
             } else {
                 "not strongly connected: greedy cover with resets"

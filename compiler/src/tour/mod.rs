@@ -28,14 +28,23 @@
 //! (marked [`TourStep::Reset`]). Resets happen only when nothing uncovered is
 //! reachable. Cost O(E (n + E)) at worst, usually far less.
 //!
+//! **Machines with timers: greedy cover over configurations.** A timeout fires only
+//! after enough time-base events, so the tour walks the configuration graph
+//! ([`crate::configs`]) instead of the state graph, with ignored time-base steps as
+//! steps (they advance the timers): from the current configuration, the nearest step
+//! that fires an uncovered (state, event, rule), breadth first; a restart when none is
+//! reachable. Every timeout rule that can fire is covered. Printed, runs of equal steps
+//! become `Tick *N`.
+//!
 //! `covers` is counted by replaying the tour through the reference interpreter, not
 //! taken from the construction.
 
+use crate::configs::ConfigGraph;
 use crate::model::graph::strongly_connected;
 use crate::model::lower::CellId;
 use crate::model::steps::{valuation, StepTable};
 use crate::model::{EventId, Machine, RuleId, StateId};
-use std::collections::{HashSet, VecDeque};
+use std::collections::{HashMap, HashSet, VecDeque};
 
 /// Above this many surplus units, pairing is greedy instead of optimal.
 pub const HUNGARIAN_LIMIT: usize = 600;
@@ -97,8 +106,16 @@ pub struct Transition {
     pub inputs: Vec<bool>,
 }
 
-/// Every reachable transition, grouped by source state in state order.
+/// Every reachable transition, grouped by source state in state order. For a machine
+/// with timers, reachability and the valuations come from the configuration graph, and
+/// a transition's `inputs` fire it from the first configuration that can.
 pub fn transitions(m: &Machine) -> Vec<Transition> {
+    if m.has_timers() {
+        return match crate::configs::explore(m) {
+            Ok(g) => timed_transitions(m, &g).0,
+            Err(_) => Vec::new(),
+        };
+    }
     let table = StepTable::build(m);
     let n = m.states.len();
     let mut seen = vec![false; n];
@@ -141,24 +158,143 @@ pub fn transitions(m: &Machine) -> Vec<Transition> {
     out
 }
 
-/// The distinct (state, event, rule) triples a sequence fires from the start state,
-/// replayed through the reference interpreter.
+/// The distinct (state, event, rule) triples a sequence fires from the start
+/// configuration, replayed through the reference interpreter.
 pub fn fired(m: &Machine, steps: &[TourStep]) -> HashSet<(StateId, EventId, RuleId)> {
     let mut out = HashSet::new();
-    let mut state = m.start;
+    let mut config = m.start_config();
     for step in steps {
         match step {
-            TourStep::Reset => state = m.start,
+            TourStep::Reset => config = m.start_config(),
             TourStep::Step { event, inputs } => {
-                let r = m.step(state, *event, inputs);
+                let state = config.state;
+                let r = m.step_config(&mut config, *event, inputs);
                 if let crate::interp::Outcome::Fired(rule) = r.outcome {
                     out.insert((state, *event, rule));
                 }
-                state = r.to;
             }
         }
     }
     out
+}
+
+/// The transitions of a machine with timers (each (state, event, rule) once, from the
+/// first configuration in breadth-first order that fires it) and, per edge of the
+/// configuration graph, the transitions it stands for (indices into the first list).
+fn timed_transitions(m: &Machine, g: &ConfigGraph) -> (Vec<Transition>, Vec<Vec<u32>>) {
+    let mut index: HashMap<(StateId, EventId, RuleId), u32> = HashMap::new();
+    let mut out: Vec<Transition> = Vec::new();
+    let mut of_edge = vec![Vec::new(); g.edges.len()];
+    for i in 0..g.configs.len() {
+        let from = g.configs[i].state;
+        for (k, e) in g.out(i).iter().enumerate() {
+            let Some(choice) = e.choice else { continue };
+            let cell = m.lowered.cell(e.cell);
+            let ch = &cell.choices[choice as usize];
+            for event in m.lowered.cell_events(m.events.len(), cell) {
+                let key = (from, event, ch.rule);
+                let t = *index.entry(key).or_insert_with(|| {
+                    out.push(Transition {
+                        from,
+                        event,
+                        rule: ch.rule,
+                        to: ch.target,
+                        inputs: valuation(m.inputs.len(), &m.bdd, e.region),
+                    });
+                    (out.len() - 1) as u32
+                });
+                of_edge[g.edge_index(i, k)].push(t);
+            }
+        }
+    }
+    (out, of_edge)
+}
+
+/// The tour of a machine with timers: a greedy cover over its configuration graph.
+/// From the current configuration, breadth-first search (every step counts, ignored
+/// time-base events included, since they advance the timers) finds the nearest
+/// configuration with a step that fires an uncovered transition; the path and that
+/// step are walked; when no uncovered transition is reachable, the tour restarts from
+/// the start configuration (when one is reachable from there). Every transition,
+/// timeouts included, is reachable from the start, so the cover is complete. Cost
+/// O(T (C + E)) for T transitions, C configurations and E steps between them.
+fn tour_timed(m: &Machine) -> Tour {
+    let Ok(g) = crate::configs::explore(m) else {
+        return Tour {
+            steps: Vec::new(),
+            covers: 0,
+            transitions: 0,
+            strongly_connected: false,
+        };
+    };
+    let (edges, of_edge) = timed_transitions(m, &g);
+    let mut covered = vec![false; edges.len()];
+    let mut left = edges.len();
+    let mut steps = Vec::new();
+    let n = g.configs.len();
+    let mut cur = 0usize;
+    let step_of = |e: usize, event: EventId| TourStep::Step {
+        event,
+        inputs: valuation(m.inputs.len(), &m.bdd, g.edges[e].region),
+    };
+    let mut parent = vec![u32::MAX; n];
+    let mut seen = vec![false; n];
+    while left > 0 {
+        // Breadth first from `cur` to the nearest step that covers something new.
+        parent.fill(u32::MAX);
+        seen.fill(false);
+        seen[cur] = true;
+        let mut queue = VecDeque::from([cur as u32]);
+        let mut found = None;
+        'search: while let Some(i) = queue.pop_front() {
+            let i = i as usize;
+            for (k, e) in g.out(i).iter().enumerate() {
+                let id = g.edge_index(i, k);
+                if let Some(&t) = of_edge[id].iter().find(|&&t| !covered[t as usize]) {
+                    found = Some((i, id, t));
+                    break 'search;
+                }
+                let to = e.to as usize;
+                if !seen[to] {
+                    seen[to] = true;
+                    parent[to] = id as u32;
+                    queue.push_back(e.to);
+                }
+            }
+        }
+        let Some((at, id, t)) = found else {
+            if cur == 0 {
+                break;
+            }
+            steps.push(TourStep::Reset);
+            cur = 0;
+            continue;
+        };
+        let mut path = Vec::new();
+        let mut x = at;
+        while x != cur {
+            let e = parent[x] as usize;
+            path.push(e);
+            x = g.edge_from[e] as usize;
+        }
+        for &e in path.iter().rev() {
+            let event = m.lowered.cell(g.edges[e].cell).event;
+            steps.push(step_of(e, event));
+        }
+        steps.push(step_of(id, edges[t as usize].event));
+        covered[t as usize] = true;
+        left -= 1;
+        cur = g.edges[id].to as usize;
+    }
+    let want: HashSet<(StateId, EventId, RuleId)> =
+        edges.iter().map(|e| (e.from, e.event, e.rule)).collect();
+    let covers = fired(m, &steps).intersection(&want).count();
+    Tour {
+        steps,
+        covers,
+        transitions: want.len(),
+        strongly_connected: false,
+    }
 }
 
 /// Out-edge lists over edge ids.
@@ -414,6 +550,9 @@ fn greedy(n: usize, start: usize, edges: &[Transition]) -> Vec<u32> {
 
 /// A tour of `m` (see the module doc).
 pub fn tour(m: &Machine) -> Tour {
+    if m.has_timers() {
+        return tour_timed(m);
+    }
     let edges = transitions(m);
     let n = m.states.len();
     let start = m.start.index();
