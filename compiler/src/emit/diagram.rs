@@ -259,6 +259,11 @@ pub fn group_header(m: &Machine, g: GroupId) -> Vec<String> {
 /// The SVG renderer draws a cluster's name on one line, so the group header's lines are
 /// joined by ` · ` there.
 pub fn to_diagram(m: &Machine) -> Diagram {
+    let lifted = lifted_group_rules(m);
+    let skip: Vec<RuleId> = lifted
+        .iter()
+        .flat_map(|t| t.rules.iter().copied())
+        .collect();
     Diagram {
         title: m.name.clone(),
         nodes: (0..m.states.len())
@@ -272,13 +277,20 @@ pub fn to_diagram(m: &Machine) -> Diagram {
                 }
             })
             .collect(),
-        edges: transitions(m)
-            .into_iter()
+        edges: lifted
+            .iter()
             .map(|t| Edge {
+                from: m.groups[t.group.index()].states[0].index(),
+                to: t.to.index(),
+                label: t.lines.join("\n"),
+                from_cluster: Some(t.group.index()),
+            })
+            .chain(transitions_except(m, &skip).into_iter().map(|t| Edge {
                 from: t.from.index(),
                 to: t.to.index(),
                 label: t.lines.join("\n"),
-            })
+                from_cluster: None,
+            }))
             .collect(),
         clusters: (0..m.groups.len())
             .map(|i| Cluster {

@@ -68,6 +68,11 @@ pub struct Edge {
     /// Label (for a transition: `event [guard] / outputs; actions`); `\n` breaks lines;
     /// may be empty.
     pub label: String,
+    /// When set, the edge stands for one edge from every node inside this cluster
+    /// (nested clusters included) and is drawn once, leaving the cluster's border (a
+    /// group's rule that every member uses); `from` is then only a fallback for a
+    /// cluster that is out of range, empty, or holds `to`.
+    pub from_cluster: Option<usize>,
 }
 
 /// A cluster (group) of a [`Diagram`], drawn as a rounded rectangle around its members.
@@ -160,13 +165,23 @@ fn write_edge(svg: &mut String, e: &EdgeGeometry) {
     );
 }
 
-/// Opens the group of an edge (or of its label): `data-from` and `data-to` are the node
-/// indices, so that a page can mark the edge a step took.
+/// Opens the group of an edge (or of its label): `data-from` lists the source node
+/// indices (one, or every member of the cluster an edge leaves, space-separated, so
+/// that the selector `[data-from~="i"]` finds it), `data-to` is the target's index and
+/// `data-group` the cluster's, so that a page can mark the edge a step took.
 fn edge_group(svg: &mut String, e: &EdgeGeometry) {
-    let from = e.from.map_or(String::new(), |f| f.to_string());
+    let from = e
+        .sources
+        .iter()
+        .map(usize::to_string)
+        .collect::<Vec<_>>()
+        .join(" ");
+    let group = e
+        .from_cluster
+        .map_or(String::new(), |c| format!(r#" data-group="{c}""#));
     let _ = writeln!(
         svg,
-        r#"<g class="edge" data-from="{from}" data-to="{}">"#,
+        r#"<g class="edge" data-from="{from}" data-to="{}"{group}>"#,
         e.to
     );
 }
