@@ -69,7 +69,7 @@ const CL_PAD: f64 = 10.0;
 const CL_GAP: f64 = 14.0;
 const HEADER_H: f64 = 16.0;
 const RANK_GAP: f64 = 16.0;
-const MAX_RANK_GAP: f64 = 52.0;
+const MAX_RANK_GAP: f64 = 36.0;
 const BEND_SLOPE: f64 = 0.2;
 const LOOP_REACH: f64 = 30.0;
 const LOOP_LABEL_DX: f64 = 28.0;
@@ -563,6 +563,21 @@ pub fn layout(d: &Diagram) -> Layout {
             label_item: (kind == Kind::Label).then_some(mid),
         });
     }
+    // A label goes on the label rank of its edge's span that holds the least label
+    // width so far (the middle one on a tie): edges of one layer first, as they have no
+    // choice, then longer ones.
+    let mut load: Vec<f64> = Vec::new();
+    let mut add_load = |load: &mut Vec<f64>, r: usize, w: f64| {
+        if load.len() <= r {
+            load.resize(r + 1, 0.0);
+        }
+        load[r] += w;
+    };
+    for &(a, _, id) in &flat {
+        let w = max_width(&merged[id].labels, TEXT_FONT);
+        add_load(&mut load, items[a].rank + 1, w);
+    }
+    chain_ends.sort_by_key(|&(a, b, _, _)| items[b].rank - items[a].rank);
     for (a, b, id, rev) in chain_ends {
         let owner = if id.is_some() {
             lca(items[a].cluster, items[b].cluster)
@@ -570,7 +585,19 @@ pub fn layout(d: &Diagram) -> Layout {
             None
         };
         let (ra, rb) = (items[a].rank, items[b].rank);
-        let label_rank = 2 * ((ra / 2 + rb / 2) / 2) + 1;
+        let middle = 2 * ((ra / 2 + rb / 2) / 2) + 1;
+        let w = id.map_or(0.0, |m| max_width(&merged[m].labels, TEXT_FONT));
+        let label_rank = (ra + 1..rb)
+            .step_by(2)
+            .min_by(|&x, &y| {
+                let lx = load.get(x).copied().unwrap_or(0.0);
+                let ly = load.get(y).copied().unwrap_or(0.0);
+                lx.total_cmp(&ly)
+                    .then(x.abs_diff(middle).cmp(&y.abs_diff(middle)))
+                    .then(x.cmp(&y))
+            })
+            .unwrap_or(middle);
+        add_load(&mut load, label_rank, w);
         let labels: &[String] = id.map(|m| merged[m].labels.as_slice()).unwrap_or(&[]);
         let mut chain = Chain {
             merged: id,
@@ -776,8 +803,10 @@ pub fn layout(d: &Diagram) -> Layout {
         }
     }
 
-    // Flat edges of one rank nest: the narrowest U is the shallowest, and each deeper U
-    // runs below the labels of the ones above it, so that no two U's share a line.
+    // Flat edges of one rank nest: narrower U's are shallower, and a U whose extent
+    // (its ends, its bottom and its label) meets that of a shallower one runs below
+    // that one's label, so that no two U's share a line or cross a label. O(F^2) for F
+    // flat edges on a rank.
     let mut drop = vec![0.0f64; chains.len()];
     {
         let mut by_rank: BTreeMap<usize, Vec<(f64, usize)>> = BTreeMap::new();
@@ -790,13 +819,22 @@ pub fn layout(d: &Diagram) -> Layout {
         }
         for list in by_rank.values_mut() {
             list.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            let mut depth = 0.0;
+            // (left, right, bottom of the label) of the U's placed so far.
+            let mut placed: Vec<(f64, f64, f64)> = Vec::new();
             for &(_, ci) in list.iter() {
-                drop[ci] = depth;
                 let mid = chains[ci].items[1];
-                let h = items[mid].height;
+                let it = &items[mid];
+                let left = port_x[ci].0.min(port_x[ci].1).min(xs[mid] - it.lext) - 4.0;
+                let right = port_x[ci].0.max(port_x[ci].1).max(xs[mid] + it.rext) + 4.0;
+                let depth = placed
+                    .iter()
+                    .filter(|p| p.0 < right && left < p.1)
+                    .map(|p| p.2 + FLAT_LABEL_GAP)
+                    .fold(0.0, f64::max);
+                drop[ci] = depth;
+                let h = it.height;
                 items[mid].height = depth + FLAT_LABEL_GAP + h;
-                depth += FLAT_LABEL_GAP + h + FLAT_LABEL_GAP;
+                placed.push((left, right, depth + FLAT_LABEL_GAP + h));
             }
         }
     }
