@@ -252,6 +252,110 @@ struct Merged {
     labels: Vec<String>,
 }
 
+/// The cluster tree, for layering one scope (the whole drawing or a cluster) at a time.
+struct Scope<'a> {
+    /// Cluster path (outermost first) of each node.
+    paths: &'a [&'a [usize]],
+    /// Successors of each node.
+    adj: &'a [Vec<usize>],
+    /// Members of each cluster, nested ones included.
+    members: &'a [Vec<usize>],
+    start: Option<usize>,
+}
+
+impl Scope<'_> {
+    /// Sets `layer` of the `nodes` of a scope at cluster depth `k` (the scope's own
+    /// members, nested clusters included), counted from 0, and returns the number of
+    /// layers used. The scope's units are its direct nodes and its direct child
+    /// clusters; a breadth-first search over the edges between units runs from the
+    /// start's unit, then from units entered from outside the scope, then from any unit
+    /// left (each new root at depth 0). The units at one depth share a band of layers as
+    /// tall as the tallest of them (a cluster is laid out by the same method inside).
+    fn layers(&self, nodes: &[usize], k: usize, layer: &mut [usize]) -> usize {
+        // A unit: a node `i` is `i`, a child cluster `c` is `usize::MAX - c`.
+        let unit_of = |i: usize| -> usize {
+            match self.paths[i].get(k) {
+                Some(&c) => usize::MAX - c,
+                None => i,
+            }
+        };
+        let mut units: Vec<usize> = Vec::new();
+        let mut index: BTreeMap<usize, usize> = BTreeMap::new();
+        for &i in nodes {
+            let u = unit_of(i);
+            index.entry(u).or_insert_with(|| {
+                units.push(u);
+                units.len() - 1
+            });
+        }
+        let nu = units.len();
+        let mut in_scope = vec![false; layer.len()];
+        nodes.iter().for_each(|&i| in_scope[i] = true);
+        let mut next: Vec<Vec<usize>> = vec![Vec::new(); nu];
+        let mut entered = vec![false; nu];
+        for (i, succ) in self.adj.iter().enumerate() {
+            for &w in succ.iter().filter(|&&w| in_scope[w]) {
+                let uw = index[&unit_of(w)];
+                if !in_scope[i] {
+                    entered[uw] = true;
+                } else {
+                    let ui = index[&unit_of(i)];
+                    if ui != uw && !next[ui].contains(&uw) {
+                        next[ui].push(uw);
+                    }
+                }
+            }
+        }
+        let start_unit = self
+            .start
+            .filter(|&s| in_scope[s])
+            .map(|s| index[&unit_of(s)]);
+        let roots = start_unit
+            .into_iter()
+            .chain((0..nu).filter(|&u| entered[u]))
+            .chain(0..nu);
+        let mut depth = vec![usize::MAX; nu];
+        for root in roots {
+            if depth[root] != usize::MAX {
+                continue;
+            }
+            depth[root] = 0;
+            let mut queue = VecDeque::from([root]);
+            while let Some(v) = queue.pop_front() {
+                for &w in &next[v] {
+                    if depth[w] == usize::MAX {
+                        depth[w] = depth[v] + 1;
+                        queue.push_back(w);
+                    }
+                }
+            }
+        }
+        // Heights: a node is one layer; a cluster lays itself out.
+        let mut height = vec![1usize; nu];
+        for (u, &code) in units.iter().enumerate() {
+            if code >= layer.len() && usize::MAX - code < self.members.len() {
+                let c = usize::MAX - code;
+                height[u] = self.layers(&self.members[c], k + 1, layer).max(1);
+            } else {
+                layer[code] = 0;
+            }
+        }
+        let levels = depth.iter().map(|&d| d + 1).max().unwrap_or(0);
+        let mut band = vec![0usize; levels];
+        for u in 0..nu {
+            band[depth[u]] = band[depth[u]].max(height[u]);
+        }
+        let mut offset = vec![0usize; levels + 1];
+        for d in 0..levels {
+            offset[d + 1] = offset[d] + band[d];
+        }
+        for &i in nodes {
+            layer[i] += offset[depth[index[&unit_of(i)]]];
+        }
+        offset[levels]
+    }
+}
+
 /// (right extent, height, kind, separation) of the item an edge has on a rank between
 /// its ends: a label box beside the edge when it has label lines, else a thin virtual
 /// item.
@@ -404,12 +508,14 @@ pub fn layout(d: &Diagram) -> Layout {
             };
     }
 
-    // 1-2. Layering, breadth-first from the start state (then from each node not yet
-    // reached, in declaration order): a node's layer is its distance in transitions, so
-    // every edge leads one layer down, stays on its layer (a flat edge, drawn as a U
-    // through the label rank below), or leads up (drawn upwards). The drawing is as
-    // tall as the machine is deep, not as long as its longest path. An edge leaving a
-    // cluster counts as an edge from every member. O(V + E).
+    // 1-2. Layering, breadth-first from the start state ([`Scope::layers`]): a node's
+    // layer is its distance in transitions, a cluster counting as one step on the
+    // layers of the scope around it (it takes as many layers as its own members need),
+    // so every edge leads down, stays on its layer (a flat edge, drawn as a U through
+    // the label rank below), or leads up (drawn upwards), and each cluster spans as few
+    // layers as its inside needs. The drawing is as tall as the machine is deep, not as
+    // long as its longest path. An edge leaving a cluster counts as an edge from every
+    // member. O((V + E) * cluster depth).
     let mut adj: Vec<Vec<usize>> = vec![Vec::new(); n];
     for m in &merged {
         let sources: &[usize] = match m.cluster {
@@ -422,21 +528,17 @@ pub fn layout(d: &Diagram) -> Layout {
             }
         }
     }
-    let mut layer = vec![usize::MAX; n];
-    for root in start.into_iter().chain(0..n) {
-        if layer[root] != usize::MAX {
-            continue;
-        }
-        layer[root] = 0;
-        let mut queue = VecDeque::from([root]);
-        while let Some(v) = queue.pop_front() {
-            for &w in &adj[v] {
-                if layer[w] == usize::MAX {
-                    layer[w] = layer[v] + 1;
-                    queue.push_back(w);
-                }
-            }
-        }
+    let mut layer = vec![0usize; n];
+    {
+        let paths: Vec<&[usize]> = node_cluster.iter().map(|&c| path_of(c)).collect();
+        let all: Vec<usize> = (0..n).collect();
+        let scope = Scope {
+            paths: &paths,
+            adj: &adj,
+            members: &members,
+            start,
+        };
+        scope.layers(&all, 0, &mut layer);
     }
     // An edge leaving a cluster is laid out from the member nearest its target: the
     // lowest member above it, else one beside it, else the highest below it.
@@ -567,7 +669,7 @@ pub fn layout(d: &Diagram) -> Layout {
     // width so far (the middle one on a tie): edges of one layer first, as they have no
     // choice, then longer ones.
     let mut load: Vec<f64> = Vec::new();
-    let mut add_load = |load: &mut Vec<f64>, r: usize, w: f64| {
+    let add_load = |load: &mut Vec<f64>, r: usize, w: f64| {
         if load.len() <= r {
             load.resize(r + 1, 0.0);
         }
