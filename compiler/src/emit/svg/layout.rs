@@ -5,12 +5,23 @@
 //! treatment of Gansner, Koutsofios, North and Vo, "A Technique for Drawing Directed
 //! Graphs" (IEEE TSE, 1993):
 //!
-//! 1. **Cycle removal.** A depth-first search from the start state (then from every
-//!    unvisited node in declaration order) reverses each back edge. O(V + E).
-//! 2. **Layering** by longest path from the sources; a source is then pulled down to sit
-//!    just above its highest successor. O(V + E). Node layer `l` becomes rank `2l`; the
-//!    odd ranks in between carry edge labels, so every edge spans at least two ranks and
-//!    its label is a box that takes part in the layout like a node (Gansner et al.).
+//! 1. **Layering** breadth-first from the start state, cluster by cluster
+//!    ([`Scope::layers`]): in each scope (the drawing, then each cluster inside) the
+//!    direct nodes and child clusters are units, a unit's depth is its distance from the
+//!    start's unit (then from units entered from outside, then from any unit left), and
+//!    the units of one depth share a band of layers as tall as the tallest. So the
+//!    drawing is as tall as the machine is deep, each cluster spans as few layers as its
+//!    inside needs, and no cycle has to be broken: an edge leads down, up (drawn
+//!    upwards) or stays on its layer (a flat edge, drawn as a U through the label rank
+//!    below, its label hanging from the U's bottom; nested U's of one rank go deeper
+//!    where their extents meet). O((V + E) * cluster depth).
+//! 2. **Label ranks.** Node layer `l` becomes rank `2l`; the odd ranks in between carry
+//!    edge labels, so every edge spans at least two ranks and its label is a box that
+//!    takes part in the layout like a node (Gansner et al.), beside its own edge. An edge
+//!    across several layers puts its label on the label rank of its span holding the
+//!    least label width so far. An edge that leaves a cluster's border (a group's rule
+//!    that every member uses, drawn once) is laid out from the member nearest its target
+//!    and clipped where it crosses the border.
 //! 3. **Virtual nodes** on every rank an edge crosses. O(total edge span).
 //! 4. **Crossing reduction** by the barycenter method: alternating down and up sweeps,
 //!    the order with the fewest crossings kept. Each rank is ordered as a tree of blocks
@@ -20,14 +31,12 @@
 //!    Fenwick tree. O(sweeps * (N log N + S log N)) for N items and S segments.
 //! 5. **Coordinates.** Horizontal positions obey difference constraints
 //!    (`x_b >= x_a + gap`: neighbours in a rank, cluster walls, cluster members inside
-//!    their walls), which form a DAG. The inner items of a long edge share one variable
-//!    (a straight vertical run, the priority the priority method of Sugiyama et al. gives
-//!    to virtual nodes) unless that would cross another run or pass a cluster on both
-//!    sides. Each round moves every variable to the median of its neighbours (above,
-//!    below, or both, alternating; leaves follow but do not pull) and projects that wish
-//!    onto the constraints with the block-merging "satisfy" step of Dwyer, Marriott and
-//!    Stuckey (2005), then one clamp sweep each way frees items stuck to a block.
-//!    O(rounds * C log^2 C) for C constraints.
+//!    their walls), which form a DAG. Each round moves every item to the median of its
+//!    neighbours (above, below, or both, alternating; leaves follow but do not pull) and
+//!    projects that wish onto the constraints with the block-merging "satisfy" step of
+//!    Dwyer, Marriott and Stuckey (2005), then one clamp sweep each way frees items stuck
+//!    to a block. Last, every vertical strip that nothing occupies on any rank is
+//!    removed. O(rounds * C log^2 C) for C constraints.
 //! 6. **Routing.** An edge runs straight down through each rank band it crosses and as a
 //!    cubic Bézier with vertical tangents between bands, so the path is smooth (C1) and
 //!    never cuts through a band beside a node. Self-loops sit on the right of the node
@@ -361,13 +370,13 @@ impl Scope<'_> {
 /// item.
 fn label_item_shape(labels: &[String]) -> (f64, f64, Kind, f64) {
     if labels.is_empty() {
-        (3.0, 0.0, Kind::Virtual, 10.0)
+        (3.0, 0.0, Kind::Virtual, 8.0)
     } else {
         (
             LABEL_DX + max_width(labels, TEXT_FONT) + 2.0,
             labels.len() as f64 * TEXT_LH,
             Kind::Label,
-            12.0,
+            8.0,
         )
     }
 }
@@ -618,7 +627,7 @@ pub fn layout(d: &Diagram) -> Layout {
             lext: box_w[i] / 2.0,
             rext,
             height,
-            sep: 28.0,
+            sep: 22.0,
         });
     }
     let dot_item = start.map(|_| {
@@ -834,7 +843,7 @@ pub fn layout(d: &Diagram) -> Layout {
     orderer.refresh_pos();
 
     // 5. Horizontal coordinates.
-    let xs = place_x(&items, &orderer, &up, &down, &chains, &cpath, &cparent, d);
+    let xs = place_x(&items, &orderer, &up, &down, &cpath, &cparent, d);
     let lvar = |c: usize| ni + 2 * c;
     let rvar = |c: usize| ni + 2 * c + 1;
 
@@ -921,8 +930,16 @@ pub fn layout(d: &Diagram) -> Layout {
         }
         for list in by_rank.values_mut() {
             list.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            // (left, right, bottom of the label) of the U's placed so far.
-            let mut placed: Vec<(f64, f64, f64)> = Vec::new();
+            // (left, right, bottom of the label) of the U's placed so far, starting with
+            // the other labels of the rank (which hang from the top of the rank).
+            let rank = items[chains[list[0].1].items[1]].rank;
+            let mut placed: Vec<(f64, f64, f64)> = chains
+                .iter()
+                .filter(|ch| !ch.flat)
+                .filter_map(|ch| ch.label_item)
+                .filter(|&v| items[v].rank == rank)
+                .map(|v| (xs[v] - 4.0, xs[v] + items[v].rext + 4.0, items[v].height))
+                .collect();
             for &(_, ci) in list.iter() {
                 let mid = chains[ci].items[1];
                 let it = &items[mid];
@@ -1139,11 +1156,12 @@ pub fn layout(d: &Diagram) -> Layout {
                 let lb = ch.label_item.map(|v| {
                     let it = &items[v];
                     let h = merged[m].labels.len() as f64 * TEXT_LH;
-                    // A flat edge's label hangs from the bottom of its U.
+                    // A flat edge's label hangs from the bottom of its U; other labels hang
+                    // from the top of their rank, so that U's can pass below them.
                     let top = if ch.flat {
                         band_top[it.rank] + drop[ci] + FLAT_LABEL_GAP
                     } else {
-                        center_y(it.rank) - h / 2.0
+                        band_top[it.rank]
                     };
                     Rect {
                         x: xs[v] + LABEL_DX,
@@ -1593,19 +1611,14 @@ impl Orderer<'_> {
 }
 
 /// Horizontal positions of items (anchor x) followed by each cluster's left and right
-/// wall (`items.len() + 2c` and `+ 1`).
-///
-/// The inner items of a long edge are first merged into one variable, so that the edge
-/// runs as one straight vertical line (the priority the priority method gives to virtual
-/// nodes); a merge that would make the constraints cyclic (two straight runs that cross,
-/// or a run that passes a cluster on both sides) is skipped.
+/// wall (`items.len() + 2c` and `+ 1`), with the empty vertical strips removed at the
+/// end ([`compact`]).
 #[allow(clippy::too_many_arguments)]
 fn place_x(
     items: &[Item],
     ord: &Orderer,
     up: &[Vec<usize>],
     down: &[Vec<usize>],
-    chains: &[Chain],
     cpath: &[Vec<usize>],
     cparent: &[Option<usize>],
     d: &Diagram,
@@ -1663,33 +1676,11 @@ fn place_x(
         cons.push((lvar(c), rvar(c), header + 2.0 * CL_PAD));
     }
 
-    // Variables: slot -> variable; merge the inner items of long chains.
-    let mut var: Vec<usize> = (0..nv).collect();
-    let inner = |ch: &Chain| -> Vec<usize> { ch.items[1..ch.items.len() - 1].to_vec() };
-    let mut runs: Vec<Vec<usize>> = chains.iter().map(inner).filter(|r| r.len() >= 2).collect();
-    runs.sort_by_key(|r| std::cmp::Reverse(r.len()));
-    let apply = |var: &mut Vec<usize>, run: &[usize]| {
-        for &i in run {
-            var[i] = run[0];
-        }
-    };
-    let runs = compatible_runs(runs, items, ord, cpath);
-    let mut all = var.clone();
-    for r in &runs {
-        apply(&mut all, r);
-    }
-    if topo_order(&all, &cons, nv).is_some() {
-        var = all;
-    } else {
-        // A cycle through three or more runs and walls: fall back to one run at a time.
-        for r in &runs {
-            let mut trial = var.clone();
-            apply(&mut trial, r);
-            if topo_order(&trial, &cons, nv).is_some() {
-                var = trial;
-            }
-        }
-    }
+    // Variables: one per slot. (Merging the inner items of a long edge into one variable
+    // would draw it as one straight vertical run, at the price of a column as wide as its
+    // label through every rank it crosses; measured against Graphviz that doubled the
+    // width of dense machines, so each item of a long edge moves on its own.)
+    let var: Vec<usize> = (0..nv).collect();
     let (incoming, outgoing) = var_graph(&var, &cons, nv);
     let topo = match topo_order(&var, &cons, nv) {
         Some(t) => t,
@@ -1893,69 +1884,6 @@ fn compact(out: &mut [f64], items: &[Item], nc: usize) {
             *v -= cuts[k - 1].1;
         }
     }
-}
-
-/// Keeps the runs (inner items of long edges, longest first) that can each be drawn as
-/// one straight line: a run must not swap sides with an accepted run on two ranks they
-/// share (their inner segments would cross), nor pass a cluster that does not hold it on
-/// both sides. These are the conflicts that make merged constraints cyclic, found in
-/// O(runs^2 * shared ranks + run items * clusters per rank) instead of one cycle test per run.
-fn compatible_runs(
-    runs: Vec<Vec<usize>>,
-    items: &[Item],
-    ord: &Orderer,
-    cpath: &[Vec<usize>],
-) -> Vec<Vec<usize>> {
-    let nranks = ord.ranks.len();
-    // Block range (first, last position) of each cluster on each rank.
-    let mut ranges: BTreeMap<(usize, usize), (usize, usize)> = BTreeMap::new();
-    for (i, it) in items.iter().enumerate() {
-        if let Some(c) = it.cluster {
-            for &k in &cpath[c] {
-                let e = ranges
-                    .entry((it.rank, k))
-                    .or_insert((ord.pos[i], ord.pos[i]));
-                e.0 = e.0.min(ord.pos[i]);
-                e.1 = e.1.max(ord.pos[i]);
-            }
-        }
-    }
-    let mut per_rank: Vec<Vec<(usize, usize, usize)>> = vec![Vec::new(); nranks];
-    for (&(r, c), &(lo, hi)) in &ranges {
-        per_rank[r].push((c, lo, hi));
-    }
-    let mut accepted: Vec<Vec<usize>> = Vec::new();
-    'runs: for run in runs {
-        let mut side: BTreeMap<usize, bool> = BTreeMap::new();
-        for &i in &run {
-            let it = &items[i];
-            let own: &[usize] = it.cluster.map(|c| cpath[c].as_slice()).unwrap_or(&[]);
-            for &(c, lo, hi) in &per_rank[it.rank] {
-                if own.contains(&c) {
-                    continue;
-                }
-                let left = ord.pos[i] < lo;
-                debug_assert!(left || ord.pos[i] > hi);
-                if *side.entry(c).or_insert(left) != left {
-                    continue 'runs;
-                }
-            }
-        }
-        let (lo, hi) = (items[run[0]].rank, items[run[run.len() - 1]].rank);
-        for other in &accepted {
-            let (olo, ohi) = (items[other[0]].rank, items[other[other.len() - 1]].rank);
-            let (a, b) = (lo.max(olo), hi.min(ohi));
-            if a >= b {
-                continue;
-            }
-            let first = ord.pos[run[a - lo]] < ord.pos[other[a - olo]];
-            if (a + 1..=b).any(|r| (ord.pos[run[r - lo]] < ord.pos[other[r - olo]]) != first) {
-                continue 'runs;
-            }
-        }
-        accepted.push(run);
-    }
-    accepted
 }
 
 /// Incoming and outgoing constraint lists over variables (largest gap per pair).
