@@ -152,8 +152,18 @@ fn svg_area_against_graphviz_on_random_machines() {
         ratios[ratios.len() / 2],
         ratios[ratios.len() - 1]
     );
-    assert!(bad.is_empty(), "area over {MAX_RANDOM}x dot's:\n{}", bad.join("\n"));
+    assert!(
+        bad.is_empty(),
+        "area over {MAX_RANDOM}x dot's:\n{}",
+        bad.join("\n")
+    );
     let over = ratios.iter().filter(|&&r| r > MAX_RATIO).count();
-    assert!(over <= OVER_GOAL, "{over} machines over {MAX_RATIO}x dot's area");
-    assert!(ratios[ratios.len() / 2] <= MAX_RATIO, "median over {MAX_RATIO}x");
+    assert!(
+        over <= OVER_GOAL,
+        "{over} machines over {MAX_RATIO}x dot's area"
+    );
+    assert!(
+        ratios[ratios.len() / 2] <= MAX_RATIO,
+        "median over {MAX_RATIO}x"
+    );
 }

@@ -2,10 +2,11 @@
 //!
 //! The input is a machine-independent [`Diagram`] (nodes, labelled edges, nested
 //! clusters, an optional start node); [`layout`] computes a layered drawing of it
-//! (Sugiyama-style: cycle removal, longest-path layering, virtual nodes, barycenter
-//! crossing reduction with clusters kept contiguous, constrained median placement,
-//! Bézier routing; see the [`layout`](self::layout) module docs for the methods and
-//! their cost), and [`render_svg`] writes that drawing as a standalone SVG 1.1 document.
+//! (breadth-first layering cluster by cluster, virtual nodes, label boxes on their own
+//! ranks, barycenter crossing reduction with clusters kept contiguous, constrained
+//! median placement with empty strips removed, Bézier routing; see the
+//! [`layout`](self::layout) module docs for the methods and their cost), and
+//! [`render_svg`] writes that drawing as a standalone SVG 1.1 document.
 //!
 //! Conventions of the drawing: a filled dot with an arrow marks the start node;
 //! terminal nodes have a double border; [`Node::detail`] lines (Moore outputs, for a
@@ -15,7 +16,9 @@
 //! and target are merged into one edge whose label lines are stacked. The text uses a
 //! monospace font, so the layout's width estimates hold. Each node is a
 //! `<g class="node" data-node="i">` and each edge (and its label) a
-//! `<g class="edge" data-from="i" data-to="j">`, node indices as in the [`Diagram`], so
+//! `<g class="edge" data-from="i" data-to="j">` (an edge leaving a cluster's border lists
+//! every member in `data-from`, space-separated, and adds `data-group`), node indices as
+//! in the [`Diagram`], so
 //! that `detent view` can mark the current state and the last step. Output is
 //! deterministic: the same diagram gives the same bytes.
 
