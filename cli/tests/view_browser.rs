@@ -157,10 +157,40 @@ fn clicking_a_trace_through_example_pages_matches_detent_run() {
         assert_eq!(shown.len(), steps.len() + 1, "{ex}");
         assert_eq!(want.len(), shown.len(), "{ex}");
         for (k, (w, s)) in want.iter().zip(&shown).enumerate() {
+            let mut s = s.clone();
+            let marked = s
+                .as_object_mut()
+                .and_then(|o| o.remove("marked"))
+                .expect("the marked edges");
             assert_eq!(
-                w, s,
+                w, &s,
                 "{ex}: after step {k}: detent run (left) and the page (right) differ"
             );
+            // A step that moved marks the edge it took (for a group's rule drawn once
+            // from the group's border, that edge), and only edges into the new state
+            // from the old one.
+            if k > 0 && want[k - 1]["state"] != w["state"] {
+                let marked = marked.as_array().expect("a list");
+                assert!(!marked.is_empty(), "{ex}: step {k} marks no edge");
+                for e in marked {
+                    assert_eq!(e["to"], w["state"], "{ex}: step {k} marks {e}");
+                    assert!(
+                        e["from"]
+                            .as_array()
+                            .expect("sources")
+                            .contains(&want[k - 1]["state"]),
+                        "{ex}: step {k} marks {e}"
+                    );
+                }
+            }
+            if ex == "greenhouse" && k == 5 {
+                // WindAlarm in Circulating: the Auto group's rule, drawn once.
+                assert_eq!(
+                    marked[0]["from"].as_array().map(Vec::len),
+                    Some(4),
+                    "{ex}: the group's edge stands for its four members: {marked}"
+                );
+            }
         }
         let png = std::fs::read(&shot).unwrap();
         assert!(

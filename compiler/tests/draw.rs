@@ -181,3 +181,27 @@ fn svg_of_every_example_is_xml_with_every_state() {
     }
     check_svg(&machine(NESTED), "the nested spec");
 }
+
+/// A group's rule that every member uses is one SVG edge, leaving the group's border,
+/// standing for every member (the page finds it from any of them), as in the DOT output.
+#[test]
+fn svg_draws_a_group_rule_once_from_the_group() {
+    let m = machine(NESTED);
+    let text = svg::render_svg(&diagram::to_diagram(&m));
+    let doc = roxmltree::Document::parse(&text).expect("XML");
+    let halt: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("g") && n.attribute("class") == Some("edge"))
+        .filter(|n| {
+            n.descendants()
+                .any(|t| t.has_tag_name("text") && t.text() == Some("Halt"))
+        })
+        .collect();
+    assert_eq!(halt.len(), 1, "one Halt label:\n{text}");
+    assert_eq!(halt[0].attribute("data-group"), Some("0"));
+    // Outer holds Inner1, Inner2 (through Middle and Core) and Side: states 1, 2, 3.
+    assert_eq!(halt[0].attribute("data-from"), Some("1 2 3"));
+    assert_eq!(halt[0].attribute("data-to"), Some("0"));
+    // Back is overridden by Inner2: drawn from Inner1 alone, not from the group.
+    assert!(!text.contains("data-group=\"1\""), "{text}");
+}

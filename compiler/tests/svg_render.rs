@@ -23,6 +23,7 @@ fn edge(from: usize, to: usize, label: &str) -> Edge {
         from,
         to,
         label: label.to_string(),
+        from_cluster: None,
     }
 }
 
@@ -329,12 +330,13 @@ fn cycle_long_edges_self_loops_and_nested_clusters() {
     // Self-loops drawn, parallel-free edges all present: 11 input edges, none merged.
     assert_eq!(lay.edges.len(), d.edges.len());
     assert_eq!(lay.edges.iter().filter(|e| e.from == Some(e.to)).count(), 2);
-    // The long edge A -> E spans several ranks, so its path has several pieces.
+    // Layers are distances from the start: E is one step from A, D three, so the edge
+    // D -> E leads up across several ranks and its path has several pieces.
     let long = lay
         .edges
         .iter()
-        .find(|e| e.from == Some(0) && e.to == 4)
-        .expect("A -> E drawn");
+        .find(|e| e.from == Some(3) && e.to == 4)
+        .expect("D -> E drawn");
     assert!(
         long.segs.len() >= 5,
         "long edge has {} pieces",
@@ -428,7 +430,12 @@ fn arb_diagram() -> impl Strategy<Value = Diagram> {
                     .collect(),
                 edges: edges
                     .into_iter()
-                    .map(|(from, to, label)| Edge { from, to, label })
+                    .map(|(from, to, label)| Edge {
+                        from,
+                        to,
+                        label,
+                        from_cluster: None,
+                    })
                     .collect(),
                 start,
             },

@@ -92,11 +92,28 @@ def shown(driver):
     return {"state": state, "outputs": lamps, "actions": actions}
 
 
+def marked_edges(driver):
+    """The edges the diagram marks as the last step's, by state names: each edge's
+    sources (one state, or every member of the group whose border it leaves) and
+    target."""
+    return driver.execute_script(
+        """
+        const svg = document.querySelector("#diagram svg");
+        if (!svg) return [];
+        const name = (i) => svg.querySelector(`.node[data-node="${i}"] text`).textContent;
+        return [...svg.querySelectorAll("g.edge.last")].map((g) => ({
+          from: g.dataset.from.split(" ").map(name),
+          to: name(g.dataset.to),
+        }));
+        """
+    )
+
+
 def click(driver, page, steps_file, shot):
     driver.get(Path(page).resolve().as_uri())
     WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "step-button"))
     steps = json.loads(Path(steps_file).read_text())
-    seen = [shown(driver)]
+    seen = [dict(shown(driver), marked=marked_edges(driver))]
     for s in steps:
         Select(driver.find_element(By.ID, "event-picker")).select_by_value(s["event"])
         wanted = s.get("inputs", {})
@@ -104,7 +121,7 @@ def click(driver, page, steps_file, shot):
             if box.is_selected() != bool(wanted.get(box.get_attribute("name"), False)):
                 box.click()
         driver.find_element(By.ID, "step-button").click()
-        seen.append(shown(driver))
+        seen.append(dict(shown(driver), marked=marked_edges(driver)))
     if len(steps) > 0:
         driver.find_element(By.ID, "back-button").click()
         back = shown(driver)["state"]

@@ -21,10 +21,10 @@
 //! that every edge is true of its source state, and a rule that can never fire is not
 //! drawn. When
 //! every member of a group uses one of the group's rules for the same events and the
-//! rule leads out of the group, the DOT writer draws it once, from the cluster's border
-//! ([`lifted_group_rules`], Graphviz's `ltail`): in the greenhouse example that turns
-//! four long `WindAlarm` edges into one. The SVG renderer draws node-to-node edges
-//! only, so it keeps the per-member edges. A rule's trigger is shown as
+//! rule leads out of the group, both back ends draw it once, from the cluster's border
+//! ([`lifted_group_rules`]; DOT's `ltail`, the SVG's [`Edge::from_cluster`]): in the
+//! greenhouse example that turns four long `WindAlarm` edges into one. A rule's trigger
+//! is shown as
 //! written for the events it governs in that state: its event names (only those whose
 //! cell has it as a choice there), `any other event` for a wildcard rule (`_`, which a
 //! lone underscore on a drawing does not say), nothing in a clocked machine. Actions on an edge are the rule's own (`do` list); the leave and enter
@@ -260,6 +260,11 @@ pub fn group_header(m: &Machine, g: GroupId) -> Vec<String> {
 /// The SVG renderer draws a cluster's name on one line, so the group header's lines are
 /// joined by ` · ` there.
 pub fn to_diagram(m: &Machine) -> Diagram {
+    let lifted = lifted_group_rules(m);
+    let skip: Vec<RuleId> = lifted
+        .iter()
+        .flat_map(|t| t.rules.iter().copied())
+        .collect();
     Diagram {
         title: m.name.clone(),
         nodes: (0..m.states.len())
@@ -273,13 +278,20 @@ pub fn to_diagram(m: &Machine) -> Diagram {
                 }
             })
             .collect(),
-        edges: transitions(m)
-            .into_iter()
+        edges: lifted
+            .iter()
             .map(|t| Edge {
+                from: m.groups[t.group.index()].states[0].index(),
+                to: t.to.index(),
+                label: t.lines.join("\n"),
+                from_cluster: Some(t.group.index()),
+            })
+            .chain(transitions_except(m, &skip).into_iter().map(|t| Edge {
                 from: t.from.index(),
                 to: t.to.index(),
                 label: t.lines.join("\n"),
-            })
+                from_cluster: None,
+            }))
             .collect(),
         clusters: (0..m.groups.len())
             .map(|i| Cluster {

@@ -2,10 +2,11 @@
 //!
 //! The input is a machine-independent [`Diagram`] (nodes, labelled edges, nested
 //! clusters, an optional start node); [`layout`] computes a layered drawing of it
-//! (Sugiyama-style: cycle removal, longest-path layering, virtual nodes, barycenter
-//! crossing reduction with clusters kept contiguous, constrained median placement,
-//! Bézier routing; see the [`layout`](self::layout) module docs for the methods and
-//! their cost), and [`render_svg`] writes that drawing as a standalone SVG 1.1 document.
+//! (breadth-first layering cluster by cluster, virtual nodes, label boxes on their own
+//! ranks, barycenter crossing reduction with clusters kept contiguous, constrained
+//! median placement with empty strips removed, Bézier routing; see the
+//! [`layout`](self::layout) module docs for the methods and their cost), and
+//! [`render_svg`] writes that drawing as a standalone SVG 1.1 document.
 //!
 //! Conventions of the drawing: a filled dot with an arrow marks the start node;
 //! terminal nodes have a double border; [`Node::detail`] lines (Moore outputs, for a
@@ -15,7 +16,9 @@
 //! and target are merged into one edge whose label lines are stacked. The text uses a
 //! monospace font, so the layout's width estimates hold. Each node is a
 //! `<g class="node" data-node="i">` and each edge (and its label) a
-//! `<g class="edge" data-from="i" data-to="j">`, node indices as in the [`Diagram`], so
+//! `<g class="edge" data-from="i" data-to="j">` (an edge leaving a cluster's border lists
+//! every member in `data-from`, space-separated, and adds `data-group`), node indices as
+//! in the [`Diagram`], so
 //! that `detent view` can mark the current state and the last step. Output is
 //! deterministic: the same diagram gives the same bytes.
 
@@ -68,6 +71,11 @@ pub struct Edge {
     /// Label (for a transition: `event [guard] / outputs; actions`); `\n` breaks lines;
     /// may be empty.
     pub label: String,
+    /// When set, the edge stands for one edge from every node inside this cluster
+    /// (nested clusters included) and is drawn once, leaving the cluster's border (a
+    /// group's rule that every member uses); `from` is then only a fallback for a
+    /// cluster that is out of range, empty, or holds `to`.
+    pub from_cluster: Option<usize>,
 }
 
 /// A cluster (group) of a [`Diagram`], drawn as a rounded rectangle around its members.
@@ -160,13 +168,23 @@ fn write_edge(svg: &mut String, e: &EdgeGeometry) {
     );
 }
 
-/// Opens the group of an edge (or of its label): `data-from` and `data-to` are the node
-/// indices, so that a page can mark the edge a step took.
+/// Opens the group of an edge (or of its label): `data-from` lists the source node
+/// indices (one, or every member of the cluster an edge leaves, space-separated, so
+/// that the selector `[data-from~="i"]` finds it), `data-to` is the target's index and
+/// `data-group` the cluster's, so that a page can mark the edge a step took.
 fn edge_group(svg: &mut String, e: &EdgeGeometry) {
-    let from = e.from.map_or(String::new(), |f| f.to_string());
+    let from = e
+        .sources
+        .iter()
+        .map(usize::to_string)
+        .collect::<Vec<_>>()
+        .join(" ");
+    let group = e
+        .from_cluster
+        .map_or(String::new(), |c| format!(r#" data-group="{c}""#));
     let _ = writeln!(
         svg,
-        r#"<g class="edge" data-from="{from}" data-to="{}">"#,
+        r#"<g class="edge" data-from="{from}" data-to="{}"{group}>"#,
         e.to
     );
 }

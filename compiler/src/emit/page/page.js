@@ -184,7 +184,7 @@
       const node = svg.querySelector(`.node[data-node="${state}"]`);
       if (node) node.classList.add("current");
       if (last && last.handled) {
-        svg.querySelectorAll(`.edge[data-from="${last.from}"][data-to="${last.to}"]`)
+        svg.querySelectorAll(`.edge[data-from~="${last.from}"][data-to="${last.to}"]`)
           .forEach((e) => e.classList.add("last"));
       }
     }
@@ -211,7 +211,7 @@
     DATA.rules.forEach((r) => {
       if (r.line !== line) return;
       for (const [a, b] of r.edges) {
-        svg?.querySelectorAll(`.edge[data-from="${a}"][data-to="${b}"]`).forEach((e) => e.classList.add("flagged"));
+        svg?.querySelectorAll(`.edge[data-from~="${a}"][data-to="${b}"]`).forEach((e) => e.classList.add("flagged"));
       }
     });
     DATA.states.forEach((s, i) => { if (s.line === line && svg) svg.querySelector(`.node[data-node="${i}"]`)?.classList.add("flagged"); });

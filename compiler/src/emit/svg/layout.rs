@@ -5,12 +5,23 @@
 //! treatment of Gansner, Koutsofios, North and Vo, "A Technique for Drawing Directed
 //! Graphs" (IEEE TSE, 1993):
 //!
-//! 1. **Cycle removal.** A depth-first search from the start state (then from every
-//!    unvisited node in declaration order) reverses each back edge. O(V + E).
-//! 2. **Layering** by longest path from the sources; a source is then pulled down to sit
-//!    just above its highest successor. O(V + E). Node layer `l` becomes rank `2l`; the
-//!    odd ranks in between carry edge labels, so every edge spans at least two ranks and
-//!    its label is a box that takes part in the layout like a node (Gansner et al.).
+//! 1. **Layering** breadth-first from the start state, cluster by cluster
+//!    ([`Scope::layers`]): in each scope (the drawing, then each cluster inside) the
+//!    direct nodes and child clusters are units, a unit's depth is its distance from the
+//!    start's unit (then from units entered from outside, then from any unit left), and
+//!    the units of one depth share a band of layers as tall as the tallest. So the
+//!    drawing is as tall as the machine is deep, each cluster spans as few layers as its
+//!    inside needs, and no cycle has to be broken: an edge leads down, up (drawn
+//!    upwards) or stays on its layer (a flat edge, drawn as a U through the label rank
+//!    below, its label hanging from the U's bottom; nested U's of one rank go deeper
+//!    where their extents meet). O((V + E) * cluster depth).
+//! 2. **Label ranks.** Node layer `l` becomes rank `2l`; the odd ranks in between carry
+//!    edge labels, so every edge spans at least two ranks and its label is a box that
+//!    takes part in the layout like a node (Gansner et al.), beside its own edge. An edge
+//!    across several layers puts its label on the label rank of its span holding the
+//!    least label width so far. An edge that leaves a cluster's border (a group's rule
+//!    that every member uses, drawn once) is laid out from the member nearest its target
+//!    and clipped where it crosses the border.
 //! 3. **Virtual nodes** on every rank an edge crosses. O(total edge span).
 //! 4. **Crossing reduction** by the barycenter method: alternating down and up sweeps,
 //!    the order with the fewest crossings kept. Each rank is ordered as a tree of blocks
@@ -20,14 +31,12 @@
 //!    Fenwick tree. O(sweeps * (N log N + S log N)) for N items and S segments.
 //! 5. **Coordinates.** Horizontal positions obey difference constraints
 //!    (`x_b >= x_a + gap`: neighbours in a rank, cluster walls, cluster members inside
-//!    their walls), which form a DAG. The inner items of a long edge share one variable
-//!    (a straight vertical run, the priority the priority method of Sugiyama et al. gives
-//!    to virtual nodes) unless that would cross another run or pass a cluster on both
-//!    sides. Each round moves every variable to the median of its neighbours (above,
-//!    below, or both, alternating; leaves follow but do not pull) and projects that wish
-//!    onto the constraints with the block-merging "satisfy" step of Dwyer, Marriott and
-//!    Stuckey (2005), then one clamp sweep each way frees items stuck to a block.
-//!    O(rounds * C log^2 C) for C constraints.
+//!    their walls), which form a DAG. Each round moves every item to the median of its
+//!    neighbours (above, below, or both, alternating; leaves follow but do not pull) and
+//!    projects that wish onto the constraints with the block-merging "satisfy" step of
+//!    Dwyer, Marriott and Stuckey (2005), then one clamp sweep each way frees items stuck
+//!    to a block. Last, every vertical strip that nothing occupies on any rank is
+//!    removed. O(rounds * C log^2 C) for C constraints.
 //! 6. **Routing.** An edge runs straight down through each rank band it crosses and as a
 //!    cubic Bézier with vertical tangents between bands, so the path is smooth (C1) and
 //!    never cuts through a band beside a node. Self-loops sit on the right of the node
@@ -69,11 +78,13 @@ const CL_PAD: f64 = 10.0;
 const CL_GAP: f64 = 14.0;
 const HEADER_H: f64 = 16.0;
 const RANK_GAP: f64 = 16.0;
-const MAX_RANK_GAP: f64 = 52.0;
+const MAX_RANK_GAP: f64 = 36.0;
 const BEND_SLOPE: f64 = 0.2;
 const LOOP_REACH: f64 = 30.0;
 const LOOP_LABEL_DX: f64 = 28.0;
 const LABEL_DX: f64 = 5.0;
+/// Space between the bottom of a flat edge's U and its label.
+const FLAT_LABEL_GAP: f64 = 3.0;
 /// Length of an arrowhead.
 pub(crate) const ARROW_LEN: f64 = 9.0;
 const ARROW_HALF_W: f64 = 4.0;
@@ -155,8 +166,13 @@ impl PathSeg {
 /// The geometry of one drawn edge (parallel edges of one direction merged).
 #[derive(Clone, Debug, PartialEq)]
 pub struct EdgeGeometry {
-    /// Source node index (`None` for the start marker's edge).
+    /// Source node index (`None` for the start marker's edge); for an edge that leaves
+    /// a cluster's border, the member it is laid out from.
     pub from: Option<usize>,
+    /// The cluster whose border the edge leaves ([`super::Edge::from_cluster`]).
+    pub from_cluster: Option<usize>,
+    /// The nodes the edge stands for: `from`, or every member of `from_cluster`.
+    pub sources: Vec<usize>,
     /// Target node index.
     pub to: usize,
     /// Label lines, one per merged edge that had a label, in input order.
@@ -228,15 +244,141 @@ struct Chain {
     merged: Option<usize>,
     /// Items from the upper end to the lower end, inclusive.
     items: Vec<usize>,
-    /// True when the drawn direction is upwards (the edge was reversed to break a cycle).
+    /// True when the drawn direction is upwards (the edge leads to a higher layer).
     reversed: bool,
+    /// A flat edge: `items` is `[from, middle, to]`, both ends on one rank and the
+    /// middle on the rank below.
+    flat: bool,
     label_item: Option<usize>,
 }
 
 struct Merged {
     from: usize,
     to: usize,
+    /// The cluster whose border the edge leaves (then `from` is the member it is laid
+    /// out from).
+    cluster: Option<usize>,
     labels: Vec<String>,
+}
+
+/// The cluster tree, for layering one scope (the whole drawing or a cluster) at a time.
+struct Scope<'a> {
+    /// Cluster path (outermost first) of each node.
+    paths: &'a [&'a [usize]],
+    /// Successors of each node.
+    adj: &'a [Vec<usize>],
+    /// Members of each cluster, nested ones included.
+    members: &'a [Vec<usize>],
+    start: Option<usize>,
+}
+
+impl Scope<'_> {
+    /// Sets `layer` of the `nodes` of a scope at cluster depth `k` (the scope's own
+    /// members, nested clusters included), counted from 0, and returns the number of
+    /// layers used. The scope's units are its direct nodes and its direct child
+    /// clusters; a breadth-first search over the edges between units runs from the
+    /// start's unit, then from units entered from outside the scope, then from any unit
+    /// left (each new root at depth 0). The units at one depth share a band of layers as
+    /// tall as the tallest of them (a cluster is laid out by the same method inside).
+    fn layers(&self, nodes: &[usize], k: usize, layer: &mut [usize]) -> usize {
+        // A unit: a node `i` is `i`, a child cluster `c` is `usize::MAX - c`.
+        let unit_of = |i: usize| -> usize {
+            match self.paths[i].get(k) {
+                Some(&c) => usize::MAX - c,
+                None => i,
+            }
+        };
+        let mut units: Vec<usize> = Vec::new();
+        let mut index: BTreeMap<usize, usize> = BTreeMap::new();
+        for &i in nodes {
+            let u = unit_of(i);
+            index.entry(u).or_insert_with(|| {
+                units.push(u);
+                units.len() - 1
+            });
+        }
+        let nu = units.len();
+        let mut in_scope = vec![false; layer.len()];
+        nodes.iter().for_each(|&i| in_scope[i] = true);
+        let mut next: Vec<Vec<usize>> = vec![Vec::new(); nu];
+        let mut entered = vec![false; nu];
+        for (i, succ) in self.adj.iter().enumerate() {
+            for &w in succ.iter().filter(|&&w| in_scope[w]) {
+                let uw = index[&unit_of(w)];
+                if !in_scope[i] {
+                    entered[uw] = true;
+                } else {
+                    let ui = index[&unit_of(i)];
+                    if ui != uw && !next[ui].contains(&uw) {
+                        next[ui].push(uw);
+                    }
+                }
+            }
+        }
+        let start_unit = self
+            .start
+            .filter(|&s| in_scope[s])
+            .map(|s| index[&unit_of(s)]);
+        let roots = start_unit
+            .into_iter()
+            .chain((0..nu).filter(|&u| entered[u]))
+            .chain(0..nu);
+        let mut depth = vec![usize::MAX; nu];
+        for root in roots {
+            if depth[root] != usize::MAX {
+                continue;
+            }
+            depth[root] = 0;
+            let mut queue = VecDeque::from([root]);
+            while let Some(v) = queue.pop_front() {
+                for &w in &next[v] {
+                    if depth[w] == usize::MAX {
+                        depth[w] = depth[v] + 1;
+                        queue.push_back(w);
+                    }
+                }
+            }
+        }
+        // Heights: a node is one layer; a cluster lays itself out.
+        let mut height = vec![1usize; nu];
+        for (u, &code) in units.iter().enumerate() {
+            if code >= layer.len() && usize::MAX - code < self.members.len() {
+                let c = usize::MAX - code;
+                height[u] = self.layers(&self.members[c], k + 1, layer).max(1);
+            } else {
+                layer[code] = 0;
+            }
+        }
+        let levels = depth.iter().map(|&d| d + 1).max().unwrap_or(0);
+        let mut band = vec![0usize; levels];
+        for u in 0..nu {
+            band[depth[u]] = band[depth[u]].max(height[u]);
+        }
+        let mut offset = vec![0usize; levels + 1];
+        for d in 0..levels {
+            offset[d + 1] = offset[d] + band[d];
+        }
+        for &i in nodes {
+            layer[i] += offset[depth[index[&unit_of(i)]]];
+        }
+        offset[levels]
+    }
+}
+
+/// (right extent, height, kind, separation) of the item an edge has on a rank between
+/// its ends: a label box beside the edge when it has label lines, else a thin virtual
+/// item.
+fn label_item_shape(labels: &[String]) -> (f64, f64, Kind, f64) {
+    if labels.is_empty() {
+        (3.0, 0.0, Kind::Virtual, 8.0)
+    } else {
+        (
+            LABEL_DX + max_width(labels, TEXT_FONT) + 2.0,
+            labels.len() as f64 * TEXT_LH,
+            Kind::Label,
+            8.0,
+        )
+    }
 }
 
 fn label_lines(label: &str) -> impl Iterator<Item = String> + '_ {
@@ -316,17 +458,35 @@ pub fn layout(d: &Diagram) -> Layout {
             .map(|(x, _)| *x)
     };
 
-    // Merge parallel edges of one direction; collect self-loops.
+    // Members of each cluster, nested clusters included, ascending.
+    let members: Vec<Vec<usize>> = (0..nc)
+        .map(|c| {
+            (0..n)
+                .filter(|&i| node_cluster[i].is_some_and(|k| cpath[k].contains(&c)))
+                .collect()
+        })
+        .collect();
+    // Merge parallel edges of one direction (and source cluster); collect self-loops.
     let mut merged: Vec<Merged> = Vec::new();
-    let mut pair: BTreeMap<(usize, usize), usize> = BTreeMap::new();
+    let mut pair: BTreeMap<(Option<usize>, usize, usize), usize> = BTreeMap::new();
     for e in &d.edges {
-        if e.from >= n || e.to >= n {
+        let cluster = e
+            .from_cluster
+            .filter(|&c| c < nc && e.to < n && !members[c].is_empty())
+            .filter(|&c| !members[c].contains(&e.to));
+        if (cluster.is_none() && e.from >= n) || e.to >= n {
             continue;
         }
-        let id = *pair.entry((e.from, e.to)).or_insert_with(|| {
+        let from = match cluster {
+            Some(c) => members[c][0],
+            None => e.from,
+        };
+        let key = (cluster, if cluster.is_some() { 0 } else { from }, e.to);
+        let id = *pair.entry(key).or_insert_with(|| {
             merged.push(Merged {
-                from: e.from,
+                from,
                 to: e.to,
+                cluster,
                 labels: Vec::new(),
             });
             merged.len() - 1
@@ -357,84 +517,65 @@ pub fn layout(d: &Diagram) -> Layout {
             };
     }
 
-    // 1. Cycle removal by DFS; reversed[m] for merged edge m.
-    let mut out: Vec<Vec<usize>> = vec![Vec::new(); n];
-    for (id, m) in merged.iter().enumerate() {
-        if m.from != m.to {
-            out[m.from].push(id);
-        }
-    }
-    let mut reversed = vec![false; merged.len()];
-    {
-        // 0 white, 1 on stack, 2 done
-        let mut color = vec![0u8; n];
-        let roots = start.into_iter().chain(0..n);
-        for root in roots {
-            if color[root] != 0 {
-                continue;
-            }
-            let mut stack: Vec<(usize, usize)> = vec![(root, 0)];
-            color[root] = 1;
-            while let Some(&mut (v, ref mut next)) = stack.last_mut() {
-                if *next < out[v].len() {
-                    let id = out[v][*next];
-                    *next += 1;
-                    let w = merged[id].to;
-                    match color[w] {
-                        0 => {
-                            color[w] = 1;
-                            stack.push((w, 0));
-                        }
-                        1 => reversed[id] = true,
-                        _ => {}
-                    }
-                } else {
-                    color[v] = 2;
-                    stack.pop();
-                }
+    // 1-2. Layering, breadth-first from the start state ([`Scope::layers`]): a node's
+    // layer is its distance in transitions, a cluster counting as one step on the
+    // layers of the scope around it (it takes as many layers as its own members need),
+    // so every edge leads down, stays on its layer (a flat edge, drawn as a U through
+    // the label rank below), or leads up (drawn upwards), and each cluster spans as few
+    // layers as its inside needs. The drawing is as tall as the machine is deep, not as
+    // long as its longest path. An edge leaving a cluster counts as an edge from every
+    // member. O((V + E) * cluster depth).
+    let mut adj: Vec<Vec<usize>> = vec![Vec::new(); n];
+    for m in &merged {
+        let sources: &[usize] = match m.cluster {
+            Some(c) => &members[c],
+            None => std::slice::from_ref(&m.from),
+        };
+        for &s in sources {
+            if s != m.to {
+                adj[s].push(m.to);
             }
         }
-    }
-
-    // 2. Longest-path layering over the DAG of (upper, lower) pairs.
-    let dag: Vec<(usize, usize, usize)> = merged
-        .iter()
-        .enumerate()
-        .filter(|(_, m)| m.from != m.to)
-        .map(|(id, m)| {
-            if reversed[id] {
-                (m.to, m.from, id)
-            } else {
-                (m.from, m.to, id)
-            }
-        })
-        .collect();
-    let mut succ: Vec<Vec<usize>> = vec![Vec::new(); n];
-    let mut indeg = vec![0usize; n];
-    for &(a, b, _) in &dag {
-        succ[a].push(b);
-        indeg[b] += 1;
     }
     let mut layer = vec![0usize; n];
     {
-        let mut deg = indeg.clone();
-        let mut queue: VecDeque<usize> = (0..n).filter(|&v| deg[v] == 0).collect();
-        let mut topo = Vec::with_capacity(n);
-        while let Some(v) = queue.pop_front() {
-            topo.push(v);
-            for &w in &succ[v] {
-                layer[w] = layer[w].max(layer[v] + 1);
-                deg[w] -= 1;
-                if deg[w] == 0 {
-                    queue.push_back(w);
-                }
-            }
+        let paths: Vec<&[usize]> = node_cluster.iter().map(|&c| path_of(c)).collect();
+        let all: Vec<usize> = (0..n).collect();
+        let scope = Scope {
+            paths: &paths,
+            adj: &adj,
+            members: &members,
+            start,
+        };
+        scope.layers(&all, 0, &mut layer);
+    }
+    // An edge leaving a cluster is laid out from the member nearest its target: the
+    // lowest member above it, else one beside it, else the highest below it.
+    for m in merged.iter_mut() {
+        let Some(c) = m.cluster else { continue };
+        let t = layer[m.to];
+        let mem = &members[c];
+        m.from = mem
+            .iter()
+            .copied()
+            .filter(|&s| layer[s] < t)
+            .max_by_key(|&s| (layer[s], std::cmp::Reverse(s)))
+            .or_else(|| mem.iter().copied().find(|&s| layer[s] == t))
+            .or_else(|| mem.iter().copied().min_by_key(|&s| (layer[s], s)))
+            .unwrap_or(m.from);
+    }
+    // (upper, lower, merged id, drawn upwards) of every edge between layers, and the
+    // flat edges (from, to, merged id).
+    let mut dag: Vec<(usize, usize, usize, bool)> = Vec::new();
+    let mut flat: Vec<(usize, usize, usize)> = Vec::new();
+    for (id, m) in merged.iter().enumerate() {
+        if m.from == m.to {
+            continue;
         }
-        for v in 0..n {
-            if indeg[v] == 0 && !succ[v].is_empty() {
-                let lowest = succ[v].iter().map(|&w| layer[w]).min().unwrap_or(1);
-                layer[v] = lowest.saturating_sub(1);
-            }
+        match layer[m.from].cmp(&layer[m.to]) {
+            std::cmp::Ordering::Less => dag.push((m.from, m.to, id, false)),
+            std::cmp::Ordering::Greater => dag.push((m.to, m.from, id, true)),
+            std::cmp::Ordering::Equal => flat.push((m.from, m.to, id)),
         }
     }
     let mut dot_layer = 0;
@@ -454,9 +595,13 @@ pub fn layout(d: &Diagram) -> Layout {
             .for_each(|(i, p)| *p = usize::from(i == s));
     }
     let mut ports_bottom = vec![0usize; n];
-    for &(a, b, _) in &dag {
+    for &(a, b, _, _) in &dag {
         ports_bottom[a] += 1;
         ports_top[b] += 1;
+    }
+    for &(a, b, _) in &flat {
+        ports_bottom[a] += 1;
+        ports_bottom[b] += 1;
     }
     for i in 0..n {
         let ports = ports_top[i].max(ports_bottom[i]) as f64;
@@ -482,7 +627,7 @@ pub fn layout(d: &Diagram) -> Layout {
             lext: box_w[i] / 2.0,
             rext,
             height,
-            sep: 28.0,
+            sep: 22.0,
         });
     }
     let dot_item = start.map(|_| {
@@ -500,11 +645,50 @@ pub fn layout(d: &Diagram) -> Layout {
     let mut chains: Vec<Chain> = Vec::new();
     let mut chain_ends: Vec<(usize, usize, Option<usize>, bool)> = dag
         .iter()
-        .map(|&(a, b, id)| (a, b, Some(id), reversed[id]))
+        .map(|&(a, b, id, rev)| (a, b, Some(id), rev))
         .collect();
     if let (Some(s), Some(dot)) = (start, dot_item) {
         chain_ends.push((dot, s, None, false));
     }
+    // A flat edge is a chain `from, middle, to` whose middle (its label) sits on the
+    // label rank below both ends.
+    for &(a, b, id) in &flat {
+        let labels = &merged[id].labels;
+        let owner = lca(items[a].cluster, items[b].cluster);
+        let (rext, height, kind, sep) = label_item_shape(labels);
+        items.push(Item {
+            kind,
+            rank: items[a].rank + 1,
+            cluster: owner,
+            lext: 3.0,
+            rext,
+            height,
+            sep,
+        });
+        let mid = items.len() - 1;
+        chains.push(Chain {
+            merged: Some(id),
+            items: vec![a, mid, b],
+            reversed: false,
+            flat: true,
+            label_item: (kind == Kind::Label).then_some(mid),
+        });
+    }
+    // A label goes on the label rank of its edge's span that holds the least label
+    // width so far (the middle one on a tie): edges of one layer first, as they have no
+    // choice, then longer ones.
+    let mut load: Vec<f64> = Vec::new();
+    let add_load = |load: &mut Vec<f64>, r: usize, w: f64| {
+        if load.len() <= r {
+            load.resize(r + 1, 0.0);
+        }
+        load[r] += w;
+    };
+    for &(a, _, id) in &flat {
+        let w = max_width(&merged[id].labels, TEXT_FONT);
+        add_load(&mut load, items[a].rank + 1, w);
+    }
+    chain_ends.sort_by_key(|&(a, b, _, _)| items[b].rank - items[a].rank);
     for (a, b, id, rev) in chain_ends {
         let owner = if id.is_some() {
             lca(items[a].cluster, items[b].cluster)
@@ -512,25 +696,33 @@ pub fn layout(d: &Diagram) -> Layout {
             None
         };
         let (ra, rb) = (items[a].rank, items[b].rank);
-        let label_rank = 2 * ((ra / 2 + rb / 2) / 2) + 1;
+        let middle = 2 * ((ra / 2 + rb / 2) / 2) + 1;
+        let w = id.map_or(0.0, |m| max_width(&merged[m].labels, TEXT_FONT));
+        let label_rank = (ra + 1..rb)
+            .step_by(2)
+            .min_by(|&x, &y| {
+                let lx = load.get(x).copied().unwrap_or(0.0);
+                let ly = load.get(y).copied().unwrap_or(0.0);
+                lx.total_cmp(&ly)
+                    .then(x.abs_diff(middle).cmp(&y.abs_diff(middle)))
+                    .then(x.cmp(&y))
+            })
+            .unwrap_or(middle);
+        add_load(&mut load, label_rank, w);
         let labels: &[String] = id.map(|m| merged[m].labels.as_slice()).unwrap_or(&[]);
         let mut chain = Chain {
             merged: id,
             items: vec![a],
             reversed: rev,
+            flat: false,
             label_item: None,
         };
         for r in ra + 1..rb {
             let is_label = r == label_rank;
-            let (rext, height, kind, sep) = if is_label && !labels.is_empty() {
-                (
-                    LABEL_DX + max_width(labels, TEXT_FONT) + 2.0,
-                    labels.len() as f64 * TEXT_LH,
-                    Kind::Label,
-                    12.0,
-                )
+            let (rext, height, kind, sep) = if is_label {
+                label_item_shape(labels)
             } else {
-                (3.0, 0.0, Kind::Virtual, 10.0)
+                label_item_shape(&[])
             };
             items.push(Item {
                 kind,
@@ -598,6 +790,14 @@ pub fn layout(d: &Diagram) -> Layout {
     let mut up: Vec<Vec<usize>> = vec![Vec::new(); ni];
     let mut down: Vec<Vec<usize>> = vec![Vec::new(); ni];
     for ch in &chains {
+        if ch.flat {
+            let (a, mid, b) = (ch.items[0], ch.items[1], ch.items[2]);
+            down[a].push(mid);
+            down[b].push(mid);
+            up[mid].push(a);
+            up[mid].push(b);
+            continue;
+        }
         for w in ch.items.windows(2) {
             down[w[0]].push(w[1]);
             up[w[1]].push(w[0]);
@@ -643,7 +843,7 @@ pub fn layout(d: &Diagram) -> Layout {
     orderer.refresh_pos();
 
     // 5. Horizontal coordinates.
-    let xs = place_x(&items, &orderer, &up, &down, &chains, &cpath, &cparent, d);
+    let xs = place_x(&items, &orderer, &up, &down, &cpath, &cparent, d);
     let lvar = |c: usize| ni + 2 * c;
     let rvar = |c: usize| ni + 2 * c + 1;
 
@@ -654,19 +854,30 @@ pub fn layout(d: &Diagram) -> Layout {
             _ => (xs[i] - START_R, 2.0 * START_R),
         }
     };
-    let mut bottom_ports: Vec<Vec<(f64, usize)>> = vec![Vec::new(); ni];
     let mut top_ports: Vec<Vec<(f64, usize)>> = vec![Vec::new(); ni];
+    // A port list entry: (x of the neighbour, chain, true for the chain's lower end of a
+    // flat edge).
+    let mut bottom_ports: Vec<Vec<(f64, usize, bool)>> = vec![Vec::new(); ni];
     for (ci, ch) in chains.iter().enumerate() {
         let k = ch.items.len();
-        bottom_ports[ch.items[0]].push((xs[ch.items[1]], ci));
-        top_ports[ch.items[k - 1]].push((xs[ch.items[k - 2]], ci));
+        bottom_ports[ch.items[0]].push((xs[ch.items[1]], ci, false));
+        if ch.flat {
+            bottom_ports[ch.items[2]].push((xs[ch.items[1]], ci, true));
+        } else {
+            top_ports[ch.items[k - 1]].push((xs[ch.items[k - 2]], ci));
+        }
     }
     let mut port_x = vec![(0.0, 0.0); chains.len()];
     for (i, list) in bottom_ports.iter_mut().enumerate() {
-        list.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        list.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)).then(a.2.cmp(&b.2)));
         let (rx, rw) = x_extent(i);
-        for (j, &(_, ci)) in list.iter().enumerate() {
-            port_x[ci].0 = rx + rw * (j + 1) as f64 / (list.len() + 1) as f64;
+        for (j, &(_, ci, second)) in list.iter().enumerate() {
+            let x = rx + rw * (j + 1) as f64 / (list.len() + 1) as f64;
+            if second {
+                port_x[ci].1 = x;
+            } else {
+                port_x[ci].0 = x;
+            }
         }
     }
     for (i, list) in top_ports.iter_mut().enumerate() {
@@ -681,6 +892,12 @@ pub fn layout(d: &Diagram) -> Layout {
     let mut sideways = vec![0.0f64; nranks];
     for (ci, ch) in chains.iter().enumerate() {
         let k = ch.items.len();
+        if ch.flat {
+            let (r, xm) = (items[ch.items[0]].rank, xs[ch.items[1]]);
+            let wide = (xm - port_x[ci].0).abs().max((xm - port_x[ci].1).abs());
+            sideways[r] = sideways[r].max(wide);
+            continue;
+        }
         for j in 0..k - 1 {
             let x0 = if j == 0 {
                 port_x[ci].0
@@ -694,6 +911,50 @@ pub fn layout(d: &Diagram) -> Layout {
             };
             let r = items[ch.items[j]].rank;
             sideways[r] = sideways[r].max((x1 - x0).abs());
+        }
+    }
+
+    // Flat edges of one rank nest: narrower U's are shallower, and a U whose extent
+    // (its ends, its bottom and its label) meets that of a shallower one runs below
+    // that one's label, so that no two U's share a line or cross a label. O(F^2) for F
+    // flat edges on a rank.
+    let mut drop = vec![0.0f64; chains.len()];
+    {
+        let mut by_rank: BTreeMap<usize, Vec<(f64, usize)>> = BTreeMap::new();
+        for (ci, ch) in chains.iter().enumerate().filter(|(_, ch)| ch.flat) {
+            let span = (port_x[ci].0 - port_x[ci].1).abs();
+            by_rank
+                .entry(items[ch.items[1]].rank)
+                .or_default()
+                .push((span, ci));
+        }
+        for list in by_rank.values_mut() {
+            list.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+            // (left, right, bottom of the label) of the U's placed so far, starting with
+            // the other labels of the rank (which hang from the top of the rank).
+            let rank = items[chains[list[0].1].items[1]].rank;
+            let mut placed: Vec<(f64, f64, f64)> = chains
+                .iter()
+                .filter(|ch| !ch.flat)
+                .filter_map(|ch| ch.label_item)
+                .filter(|&v| items[v].rank == rank)
+                .map(|v| (xs[v] - 4.0, xs[v] + items[v].rext + 4.0, items[v].height))
+                .collect();
+            for &(_, ci) in list.iter() {
+                let mid = chains[ci].items[1];
+                let it = &items[mid];
+                let left = port_x[ci].0.min(port_x[ci].1).min(xs[mid] - it.lext) - 4.0;
+                let right = port_x[ci].0.max(port_x[ci].1).max(xs[mid] + it.rext) + 4.0;
+                let depth = placed
+                    .iter()
+                    .filter(|p| p.0 < right && left < p.1)
+                    .map(|p| p.2 + FLAT_LABEL_GAP)
+                    .fold(0.0, f64::max);
+                drop[ci] = depth;
+                let h = it.height;
+                items[mid].height = depth + FLAT_LABEL_GAP + h;
+                placed.push((left, right, depth + FLAT_LABEL_GAP + h));
+            }
         }
     }
 
@@ -808,7 +1069,46 @@ pub fn layout(d: &Diagram) -> Layout {
         };
         let ya = band_bottom(items[a].rank);
         line_to(&mut segs, &mut cur, Point { x: p0.x, y: ya });
-        for &v in &ch.items[1..k - 1] {
+        if ch.flat {
+            // A U through the middle item: down from `from`, level beside the label,
+            // up into the bottom of `to`.
+            let mid = ch.items[1];
+            let low = Point {
+                x: xs[mid],
+                y: band_top[items[mid].rank] + drop[ci],
+            };
+            let reach = (low.y - ya).max(1.0);
+            let toward =
+                |from: f64, to: f64| from + (to - from).signum() * reach.min((to - from).abs());
+            segs.push(PathSeg::Cubic(
+                Point { x: cur.x, y: low.y },
+                Point {
+                    x: toward(low.x, cur.x),
+                    y: low.y,
+                },
+                low,
+            ));
+            let pb = port_x[ci].1;
+            let yb = band_bottom(items[b].rank);
+            segs.push(PathSeg::Cubic(
+                Point {
+                    x: toward(low.x, pb),
+                    y: low.y,
+                },
+                Point { x: pb, y: low.y },
+                Point { x: pb, y: yb },
+            ));
+            cur = Point { x: pb, y: yb };
+            line_to(
+                &mut segs,
+                &mut cur,
+                Point {
+                    x: pb,
+                    y: rb.bottom(),
+                },
+            );
+        }
+        for &v in ch.items[1..k - 1].iter().filter(|_| !ch.flat) {
             let r = items[v].rank;
             curve_to(
                 &mut segs,
@@ -827,20 +1127,28 @@ pub fn layout(d: &Diagram) -> Layout {
                 },
             );
         }
-        let px = port_x[ci].1;
-        curve_to(
-            &mut segs,
-            &mut cur,
-            Point {
-                x: px,
-                y: band_top[items[b].rank],
-            },
-        );
-        line_to(&mut segs, &mut cur, Point { x: px, y: rb.y });
-        let (start_pt, mut segs) = if ch.reversed {
+        if !ch.flat {
+            let px = port_x[ci].1;
+            curve_to(
+                &mut segs,
+                &mut cur,
+                Point {
+                    x: px,
+                    y: band_top[items[b].rank],
+                },
+            );
+            line_to(&mut segs, &mut cur, Point { x: px, y: rb.y });
+        }
+        let (start_pt, segs) = if ch.reversed {
             reverse_path(p0, &segs)
         } else {
             (p0, segs)
+        };
+        // An edge that leaves a cluster starts where its path crosses the border.
+        let from_cluster = ch.merged.and_then(|m| merged[m].cluster);
+        let (start_pt, mut segs) = match from_cluster {
+            Some(c) => clip_start(start_pt, &segs, &clusters[c]),
+            None => (start_pt, segs),
         };
         let arrow = trim_for_arrow(start_pt, &mut segs);
         let (labels, label_box, label_cluster) = match ch.merged {
@@ -848,9 +1156,16 @@ pub fn layout(d: &Diagram) -> Layout {
                 let lb = ch.label_item.map(|v| {
                     let it = &items[v];
                     let h = merged[m].labels.len() as f64 * TEXT_LH;
+                    // A flat edge's label hangs from the bottom of its U; other labels hang
+                    // from the top of their rank, so that U's can pass below them.
+                    let top = if ch.flat {
+                        band_top[it.rank] + drop[ci] + FLAT_LABEL_GAP
+                    } else {
+                        band_top[it.rank]
+                    };
                     Rect {
                         x: xs[v] + LABEL_DX,
-                        y: center_y(it.rank) - h / 2.0,
+                        y: top,
                         w: it.rext - LABEL_DX,
                         h,
                     }
@@ -865,8 +1180,14 @@ pub fn layout(d: &Diagram) -> Layout {
             Some(m) => merged[m].to,
             None => start.unwrap_or(0),
         };
+        let sources = match from_cluster {
+            Some(c) => members[c].clone(),
+            None => from.into_iter().collect(),
+        };
         let geom = EdgeGeometry {
             from,
+            from_cluster,
+            sources,
             to,
             labels,
             start: start_pt,
@@ -915,6 +1236,8 @@ pub fn layout(d: &Diagram) -> Layout {
         };
         edges_by_merged[m] = Some(EdgeGeometry {
             from: Some(mg.from),
+            from_cluster: None,
+            sources: vec![mg.from],
             to: mg.to,
             labels: mg.labels.clone(),
             start: start_pt,
@@ -952,6 +1275,73 @@ pub fn layout(d: &Diagram) -> Layout {
         node_cluster,
         crossings: best_cross,
     }
+}
+
+/// The point of a segment at parameter `t`, starting from `p0`.
+fn seg_at(p0: Point, seg: &PathSeg, t: f64) -> Point {
+    match *seg {
+        PathSeg::Line(p) => Point {
+            x: p0.x + (p.x - p0.x) * t,
+            y: p0.y + (p.y - p0.y) * t,
+        },
+        PathSeg::Cubic(a, b, p) => {
+            let u = 1.0 - t;
+            let (w0, w1, w2, w3) = (u * u * u, 3.0 * u * u * t, 3.0 * u * t * t, t * t * t);
+            Point {
+                x: w0 * p0.x + w1 * a.x + w2 * b.x + w3 * p.x,
+                y: w0 * p0.y + w1 * a.y + w2 * b.y + w3 * p.y,
+            }
+        }
+    }
+}
+
+/// The part of a segment after parameter `t` (de Casteljau).
+fn seg_after(seg: &PathSeg, t: f64) -> PathSeg {
+    match *seg {
+        PathSeg::Line(p) => PathSeg::Line(p),
+        PathSeg::Cubic(a, b, p) => {
+            let lerp = |u: Point, v: Point| Point {
+                x: u.x + (v.x - u.x) * t,
+                y: u.y + (v.y - u.y) * t,
+            };
+            let (ab, bc) = (lerp(a, b), lerp(b, p));
+            let abc = lerp(ab, bc);
+            PathSeg::Cubic(abc, bc, p)
+        }
+    }
+}
+
+/// The path from the first point where it leaves `rect` (found by sampling each
+/// segment, then bisection); the whole path when it never leaves.
+fn clip_start(start: Point, segs: &[PathSeg], rect: &Rect) -> (Point, Vec<PathSeg>) {
+    let inside =
+        |p: Point| p.x > rect.x && p.x < rect.right() && p.y > rect.y && p.y < rect.bottom();
+    let mut p0 = start;
+    for (i, seg) in segs.iter().enumerate() {
+        const STEPS: usize = 32;
+        let mut lo = 0.0;
+        for k in 1..=STEPS {
+            let t = k as f64 / STEPS as f64;
+            if !inside(seg_at(p0, seg, t)) {
+                let mut hi = t;
+                for _ in 0..30 {
+                    let mid = (lo + hi) / 2.0;
+                    if inside(seg_at(p0, seg, mid)) {
+                        lo = mid;
+                    } else {
+                        hi = mid;
+                    }
+                }
+                let at = seg_at(p0, seg, hi);
+                let mut out = vec![seg_after(seg, hi)];
+                out.extend_from_slice(&segs[i + 1..]);
+                return (at, out);
+            }
+            lo = t;
+        }
+        p0 = seg.end();
+    }
+    (start, segs.to_vec())
 }
 
 /// The same path walked backwards.
@@ -1221,19 +1611,14 @@ impl Orderer<'_> {
 }
 
 /// Horizontal positions of items (anchor x) followed by each cluster's left and right
-/// wall (`items.len() + 2c` and `+ 1`).
-///
-/// The inner items of a long edge are first merged into one variable, so that the edge
-/// runs as one straight vertical line (the priority the priority method gives to virtual
-/// nodes); a merge that would make the constraints cyclic (two straight runs that cross,
-/// or a run that passes a cluster on both sides) is skipped.
+/// wall (`items.len() + 2c` and `+ 1`), with the empty vertical strips removed at the
+/// end ([`compact`]).
 #[allow(clippy::too_many_arguments)]
 fn place_x(
     items: &[Item],
     ord: &Orderer,
     up: &[Vec<usize>],
     down: &[Vec<usize>],
-    chains: &[Chain],
     cpath: &[Vec<usize>],
     cparent: &[Option<usize>],
     d: &Diagram,
@@ -1291,33 +1676,11 @@ fn place_x(
         cons.push((lvar(c), rvar(c), header + 2.0 * CL_PAD));
     }
 
-    // Variables: slot -> variable; merge the inner items of long chains.
-    let mut var: Vec<usize> = (0..nv).collect();
-    let inner = |ch: &Chain| -> Vec<usize> { ch.items[1..ch.items.len() - 1].to_vec() };
-    let mut runs: Vec<Vec<usize>> = chains.iter().map(inner).filter(|r| r.len() >= 2).collect();
-    runs.sort_by_key(|r| std::cmp::Reverse(r.len()));
-    let apply = |var: &mut Vec<usize>, run: &[usize]| {
-        for &i in run {
-            var[i] = run[0];
-        }
-    };
-    let runs = compatible_runs(runs, items, ord, cpath);
-    let mut all = var.clone();
-    for r in &runs {
-        apply(&mut all, r);
-    }
-    if topo_order(&all, &cons, nv).is_some() {
-        var = all;
-    } else {
-        // A cycle through three or more runs and walls: fall back to one run at a time.
-        for r in &runs {
-            let mut trial = var.clone();
-            apply(&mut trial, r);
-            if topo_order(&trial, &cons, nv).is_some() {
-                var = trial;
-            }
-        }
-    }
+    // Variables: one per slot. (Merging the inner items of a long edge into one variable
+    // would draw it as one straight vertical run, at the price of a column as wide as its
+    // label through every rank it crosses; measured against Graphviz that doubled the
+    // width of dense machines, so each item of a long edge moves on its own.)
+    let var: Vec<usize> = (0..nv).collect();
     let (incoming, outgoing) = var_graph(&var, &cons, nv);
     let topo = match topo_order(&var, &cons, nv) {
         Some(t) => t,
@@ -1467,6 +1830,7 @@ fn place_x(
     // Every slot takes its variable's position; shift so the leftmost thing sits at the
     // margin.
     let mut out: Vec<f64> = (0..nv).map(|s| x[var[s]]).collect();
+    compact(&mut out, items, nc);
     let mut min_x = f64::INFINITY;
     for (i, it) in items.iter().enumerate() {
         min_x = min_x.min(out[i] - it.lext);
@@ -1481,67 +1845,45 @@ fn place_x(
     out
 }
 
-/// Keeps the runs (inner items of long edges, longest first) that can each be drawn as
-/// one straight line: a run must not swap sides with an accepted run on two ranks they
-/// share (their inner segments would cross), nor pass a cluster that does not hold it on
-/// both sides. These are the conflicts that make merged constraints cyclic, found in
-/// O(runs^2 * shared ranks + run items * clusters per rank) instead of one cycle test per run.
-fn compatible_runs(
-    runs: Vec<Vec<usize>>,
-    items: &[Item],
-    ord: &Orderer,
-    cpath: &[Vec<usize>],
-) -> Vec<Vec<usize>> {
-    let nranks = ord.ranks.len();
-    // Block range (first, last position) of each cluster on each rank.
-    let mut ranges: BTreeMap<(usize, usize), (usize, usize)> = BTreeMap::new();
+/// Removes the vertical strips of the drawing that nothing occupies on any rank: every
+/// item with its padding (half its separation, at least a cluster's padding) and every
+/// cluster wall with a sibling gap on each side makes an interval; the gaps between
+/// the union of the intervals are closed by moving everything right of them left.
+/// Every constraint of [`place_x`] still holds, since the space each one asks for lies
+/// within the padding of its two ends, and the left-to-right order on every rank is
+/// kept. O(S log S) for S slots.
+fn compact(out: &mut [f64], items: &[Item], nc: usize) {
+    let ni = items.len();
+    let mut spans: Vec<(f64, f64)> = Vec::with_capacity(ni + 2 * nc);
     for (i, it) in items.iter().enumerate() {
-        if let Some(c) = it.cluster {
-            for &k in &cpath[c] {
-                let e = ranges
-                    .entry((it.rank, k))
-                    .or_insert((ord.pos[i], ord.pos[i]));
-                e.0 = e.0.min(ord.pos[i]);
-                e.1 = e.1.max(ord.pos[i]);
-            }
+        let pad = (it.sep / 2.0).max(CL_PAD);
+        spans.push((out[i] - it.lext - pad, out[i] + it.rext + pad));
+    }
+    for &w in &out[ni..ni + 2 * nc] {
+        spans.push((w - CL_GAP, w + CL_GAP));
+    }
+    spans.sort_by(|a, b| a.0.total_cmp(&b.0));
+    // (x where a gap ends, total width of the gaps up to there).
+    let mut cuts: Vec<(f64, f64)> = Vec::new();
+    let mut reach = f64::NEG_INFINITY;
+    let mut removed = 0.0;
+    for &(lo, hi) in &spans {
+        if reach.is_finite() && lo > reach {
+            removed += lo - reach;
+            cuts.push((lo, removed));
+        }
+        reach = reach.max(hi);
+    }
+    if cuts.is_empty() {
+        return;
+    }
+    for v in out.iter_mut() {
+        // The gaps that end at or left of v.
+        let k = cuts.partition_point(|&(end, _)| end <= *v);
+        if k > 0 {
+            *v -= cuts[k - 1].1;
         }
     }
-    let mut per_rank: Vec<Vec<(usize, usize, usize)>> = vec![Vec::new(); nranks];
-    for (&(r, c), &(lo, hi)) in &ranges {
-        per_rank[r].push((c, lo, hi));
-    }
-    let mut accepted: Vec<Vec<usize>> = Vec::new();
-    'runs: for run in runs {
-        let mut side: BTreeMap<usize, bool> = BTreeMap::new();
-        for &i in &run {
-            let it = &items[i];
-            let own: &[usize] = it.cluster.map(|c| cpath[c].as_slice()).unwrap_or(&[]);
-            for &(c, lo, hi) in &per_rank[it.rank] {
-                if own.contains(&c) {
-                    continue;
-                }
-                let left = ord.pos[i] < lo;
-                debug_assert!(left || ord.pos[i] > hi);
-                if *side.entry(c).or_insert(left) != left {
-                    continue 'runs;
-                }
-            }
-        }
-        let (lo, hi) = (items[run[0]].rank, items[run[run.len() - 1]].rank);
-        for other in &accepted {
-            let (olo, ohi) = (items[other[0]].rank, items[other[other.len() - 1]].rank);
-            let (a, b) = (lo.max(olo), hi.min(ohi));
-            if a >= b {
-                continue;
-            }
-            let first = ord.pos[run[a - lo]] < ord.pos[other[a - olo]];
-            if (a + 1..=b).any(|r| (ord.pos[run[r - lo]] < ord.pos[other[r - olo]]) != first) {
-                continue 'runs;
-            }
-        }
-        accepted.push(run);
-    }
-    accepted
 }
 
 /// Incoming and outgoing constraint lists over variables (largest gap per pair).
