@@ -75,7 +75,7 @@ run_test differential --test differential_all
 while IFS= read -r line; do
   summary+=("$line")
   echo "$line"
-done < <(grep -E '^(differential|minimize)' "$LOG/differential.log")
+done < <(grep -oE 'differential [A-Za-z ]+: .*' "$LOG/differential.log")
 
 echo
 echo "== soak summary (${SECONDS_PER_TARGET} s per fuzz target, $MACHINES machines; $(( $(date +%s) - started )) s in all)"
