@@ -1,0 +1,107 @@
+//! The bundled examples with time (`examples/burner.detent`, `examples/debounce.detent`)
+//! through the CLI: the burner's one-trial property holds with its 20 s window; with a
+//! 25 s window the checker finds the shortest counterexample, 2,301 steps printed as
+//! two lines (`Demand`, `Tick *2300`), which `detent run` replays to the violation; the
+//! debouncer confirms a press after 20 ms of equal samples and not before.
+
+use std::path::PathBuf;
+use std::process::Command;
+
+fn detent(args: &[&str], stdin: Option<&str>) -> std::process::Output {
+    use std::io::Write;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(args)
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .expect("detent runs");
+    if let Some(text) = stdin {
+        child
+            .stdin
+            .take()
+            .unwrap()
+            .write_all(text.as_bytes())
+            .unwrap();
+    }
+    drop(child.stdin.take());
+    child.wait_with_output().expect("detent finishes")
+}
+
+fn example(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("../examples")
+        .join(name)
+}
+
+#[test]
+fn the_burner_window_proof_and_its_long_counterexample() {
+    let burner = example("burner.detent");
+    let out = detent(&["check", burner.to_str().unwrap()], None);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+
+    // One line longer window: a second trial fits in it.
+    let text = std::fs::read_to_string(&burner).unwrap();
+    assert!(text.contains("after 20 s => Lockout"));
+    let longer = text.replace("after 20 s => Lockout", "after 25 s => Lockout");
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("burner25.detent");
+    std::fs::write(&spec, longer).unwrap();
+    let spec = spec.to_str().unwrap();
+    let out = detent(&["check", "--format", "json", spec], None);
+    assert_eq!(out.status.code(), Some(1));
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let diag = report["machines"][0]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["lint"] == "property")
+        .expect("the property is violated")
+        .clone();
+    let trace = diag["trace"].as_array().unwrap();
+    // Shortest: Demand, then 1,000 ticks of purge, 300 of trial, 1,000 of purge again.
+    assert_eq!(trace.len(), 2, "{trace:?}");
+    assert_eq!(trace[0]["event"], "Demand");
+    assert_eq!(trace[1]["event"], "Tick");
+    assert_eq!(trace[1]["repeat"], 2300);
+    // The text form says the same, and replays as printed.
+    let out = detent(&["check", spec], None);
+    let text = String::from_utf8_lossy(&out.stderr).to_string();
+    assert!(text.contains("Tick *2300"), "{text}");
+    let json_line = serde_json::to_string(&diag["trace"]).unwrap();
+    for trace_text in [json_line.as_str(), "Demand\nTick *2300\n"] {
+        let out = detent(&["run", spec, "--trace", "-"], Some(trace_text));
+        assert_eq!(out.status.code(), Some(0));
+        let lines: Vec<&str> = std::str::from_utf8(&out.stdout).unwrap().lines().collect();
+        assert_eq!(lines.len(), 2_302, "step 0 and 2,301 steps");
+        assert!(
+            lines[2_301].contains(r#""from":"Repurge","event":"Tick","to":"Retrial""#),
+            "{}",
+            lines[2_301]
+        );
+        assert!(lines[2_300].contains(r#""to":"Repurge""#));
+    }
+}
+
+#[test]
+fn the_debouncer_waits_twenty_milliseconds() {
+    let debounce = example("debounce.detent");
+    let spec = debounce.to_str().unwrap();
+    // A bounce after 10 ms starts the wait again; then 21 high samples confirm.
+    let trace = "Tick raw=1 *10\nTick\nTick raw=1 *20\nTick raw=1\n";
+    let out = detent(&["run", spec, "--trace", "-", "--format", "text"], Some(trace));
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8(out.stdout).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 33);
+    assert!(lines[11].contains("Pressing -> Released"), "{}", lines[11]);
+    assert!(lines[31].contains("Pressing -> Pressing"), "{}", lines[31]);
+    assert!(lines[32].contains("Pressing -> Pressed"), "{}", lines[32]);
+    assert!(lines[32].contains("press_edge"), "{}", lines[32]);
+    assert!(lines[32].contains("on_press"), "{}", lines[32]);
+}
