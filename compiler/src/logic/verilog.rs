@@ -14,6 +14,19 @@
 //! ([`LogicSpec`]), and the testbench's expected values are the interpreter's, which
 //! steps through it.
 //!
+//! **Timers** (DESIGN.md, "Hardware port"): each scope with `after` rules has a timer
+//! register beside the state register, written as a datapath rather than as minimized
+//! equations: `timer_<scope>` of the narrowest width that holds its largest duration,
+//! set to 0 by `rst`, and on each clock edge set to 0 when its minimized clear function
+//! `clear_<scope>` is high (the rule taken enters the scope), else increased by one on
+//! a time-base cycle (`tb`: `ev` equal to the time base's code, or every cycle when
+//! there is no event bus) unless it is at its largest duration (it saturates). The
+//! due variables `due_<scope>_<ticks>` are comparisons of the register with `ticks - 1`
+//! on a time-base cycle: the variables the flip-flop, output, action and clear equations
+//! read (LANGUAGE.md, "Time and counts": the timer's value before this event's count
+//! decides whether the timeout is due). The clear has priority over the count, as in
+//! the interpreter, which counts first and then clears the scopes the rule enters.
+//!
 //! Names: the ports `clk`, `rst`, `ev`, `state` are fixed; inputs, outputs and actions
 //! keep their spec names; a name that is a Verilog (or SystemVerilog) keyword becomes an
 //! escaped identifier (`\begin `); a spec name equal to a fixed port, or an output and an
@@ -235,6 +248,12 @@ pub enum TbStep {
 /// Names of the module's signals.
 struct Names {
     inputs: Vec<String>,
+    /// Due variable wires, in [`LogicSpec::dues`] order.
+    dues: Vec<String>,
+    /// Timer registers, in [`LogicSpec::timers`] order.
+    timers: Vec<String>,
+    /// The time-base cycle wire (used only when there are timers).
+    tb: String,
     outputs: Vec<String>,
     actions: Vec<String>,
     /// Internal wire per function, in `design.functions` order.
@@ -271,6 +290,21 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         .iter()
         .map(|n| claim("action", n))
         .collect::<Result<Vec<_>, _>>()?;
+    let dues = spec
+        .dues
+        .iter()
+        .map(|d| claim("due variable", &d.name))
+        .collect::<Result<Vec<_>, _>>()?;
+    let timers = spec
+        .timers
+        .iter()
+        .map(|t| claim("timer register", &t.register))
+        .collect::<Result<Vec<_>, _>>()?;
+    let clears = spec
+        .timers
+        .iter()
+        .map(|t| claim("timer clear", &t.clear))
+        .collect::<Result<Vec<_>, _>>()?;
     let mut fresh = |base: String| -> String {
         let mut name = base;
         while KEYWORDS.contains(&name.as_str()) || !used.insert(name.clone()) {
@@ -279,6 +313,7 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         name
     };
     let reg = fresh("q".to_string());
+    let tb = fresh("tb".to_string());
     let wires = design
         .functions
         .iter()
@@ -286,10 +321,14 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
             Role::FlipFlop { .. } => fresh(f.name.clone()),
             Role::Output(o) => outputs[o].clone(),
             Role::Action(a) => actions[a].clone(),
+            Role::TimerClear(t) => clears[t].clone(),
         })
         .collect();
     Ok(Names {
         inputs,
+        dues,
+        timers,
+        tb,
         outputs,
         actions,
         wires,
@@ -297,17 +336,22 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
     })
 }
 
-/// A cover as a Verilog expression over `q[..]`, `ev[..]` and the input ports.
+/// A cover as a Verilog expression over `q[..]`, `ev[..]`, the input ports and the due
+/// wires. `vars` is the function's variable count: a Moore output reads the state bits
+/// only.
 fn expression(design: &LogicDesign, n: &Names, vars: usize, cover: &Cover) -> String {
     let k = design.state_vars.len();
-    let b = design.pin_vars.len() - n.inputs.len();
+    let ni = n.inputs.len();
+    let b = design.pin_vars.len() - ni - n.dues.len();
     let var = |i: usize| -> String {
         if i < k {
             format!("{}[{}]", n.reg, k - 1 - i)
         } else if i < k + b {
             format!("ev[{}]", b - 1 - (i - k))
-        } else {
+        } else if i < k + b + ni {
             n.inputs[i - k - b].clone()
+        } else {
+            n.dues[i - k - b - ni].clone()
         }
     };
     if cover.cubes.is_empty() {
@@ -413,6 +457,46 @@ pub fn generate_module(
         ports.join(",\n")
     );
     let _ = writeln!(out, "    reg [{}:0] {};", k - 1, n.reg);
+    if !spec.timers.is_empty() {
+        out.push_str(
+            "\n    // Timers (the datapath): one counter per scope with `after` rules, cleared\n    \
+             // when the rule taken enters the scope, else counting time-base cycles up to\n    \
+             // its largest duration. A due wire is high on a time-base cycle where its\n    \
+             // timer stands at the duration minus one.\n",
+        );
+        let tb_expr = match spec.timebase_code {
+            Some(code) => format!("(ev == {b}'d{code})"),
+            None => "1'b1".to_string(),
+        };
+        let _ = writeln!(out, "    wire {} = {tb_expr};", n.tb);
+        for (t, timer) in spec.timers.iter().enumerate() {
+            let _ = writeln!(
+                out,
+                "    reg [{}:0] {}; // {}: {}, saturates at {}",
+                timer.bits - 1,
+                n.timers[t],
+                timer.scope,
+                timer
+                    .durations
+                    .iter()
+                    .map(|d| format!("after {d}"))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                timer.max
+            );
+            for (&j, &d) in timer.dues.iter().zip(&timer.durations) {
+                let _ = writeln!(
+                    out,
+                    "    wire {} = {} & ({} == {}'d{});",
+                    n.dues[j],
+                    n.tb,
+                    n.timers[t],
+                    timer.bits,
+                    d - 1
+                );
+            }
+        }
+    }
     out.push_str("\n    // Flip-flop input equations.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
         if let Role::FlipFlop { .. } = f.role {
@@ -423,7 +507,19 @@ pub fn generate_module(
             );
         }
     }
-    out.push_str("\n    always @(posedge clk) begin\n        if (rst)\n");
+    if !spec.timers.is_empty() {
+        out.push_str("\n    // Timer clear equations (the rule taken enters the scope).\n");
+        for (f, w) in design.functions.iter().zip(&n.wires) {
+            if let Role::TimerClear(_) = f.role {
+                let _ = writeln!(
+                    out,
+                    "    wire {w} = {};",
+                    expression(design, &n, f.vars.len(), &f.cover)
+                );
+            }
+        }
+    }
+    out.push_str("\n    always @(posedge clk) begin\n        if (rst) begin\n");
     let _ = writeln!(
         out,
         "            {} <= {}'b{};",
@@ -431,7 +527,10 @@ pub fn generate_module(
         k,
         design.encoding.code_string(spec.start)
     );
-    out.push_str("        else begin\n");
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let _ = writeln!(out, "            {} <= {}'d0;", n.timers[t], timer.bits);
+    }
+    out.push_str("        end else begin\n");
     for bit in (0..k).rev() {
         let wire = |input: usize| -> &str {
             let idx = design
@@ -450,10 +549,25 @@ pub fn generate_module(
         };
         let _ = writeln!(out, "            {q} <= {next};");
     }
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let clear = design
+            .functions
+            .iter()
+            .position(|f| f.role == Role::TimerClear(t))
+            .map_or("1'b0", |i| n.wires[i].as_str());
+        let r = &n.timers[t];
+        let w = timer.bits;
+        let _ = writeln!(
+            out,
+            "            if ({clear})\n                {r} <= {w}'d0;\n            \
+             else if ({} && {r} != {w}'d{})\n                {r} <= {r} + {w}'d1;",
+            n.tb, timer.max
+        );
+    }
     out.push_str("        end\n    end\n");
     out.push_str("\n    // Outputs (Moore part of the current state, Mealy part of the rule taken)\n    // and action pulses.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
-        if !matches!(f.role, Role::FlipFlop { .. }) {
+        if matches!(f.role, Role::Output(_) | Role::Action(_)) {
             let _ = writeln!(
                 out,
                 "    assign {w} = {};",
@@ -467,7 +581,10 @@ pub fn generate_module(
 
 /// A self-checking testbench driving `steps` cycle by cycle: before each clock edge it
 /// compares `state`, every output and every action pulse with what the interpreter
-/// ([`Machine::step`]) computed for that step (embedded as constants), and after the
+/// ([`Machine::step_config`], from the start configuration) computed for that step
+/// (embedded as constants), and the register of every timer whose scope is active
+/// with the interpreter's timer (read through the hierarchical name `dut.timer_..`;
+/// the value of an inactive timer does not matter and is not checked), and after the
 /// last step the final state. It prints `PASS` and calls `$finish` (exit status 0), or
 /// prints the first mismatch as `MISMATCH cycle N signal S expected E got G` and calls
 /// `$fatal(1, ..)`, which ends the simulation with a non-zero exit status (Icarus
@@ -556,11 +673,22 @@ pub fn generate_testbench(
     out.push_str("        begin\n            if (state !== exp_state) begin\n");
     out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
     out.push_str("                $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n\n");
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let r = &n.timers[t];
+        let _ = writeln!(
+            out,
+            "    task check_{r};\n        input integer cycle;\n        input [{}:0] exp;\n        \
+             begin\n            if (dut.{r} !== exp) begin\n                \
+             $display(\"MISMATCH cycle %0d signal {r} expected %0d got %0d\", cycle, exp, dut.{r});\n                \
+             $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n",
+            timer.bits - 1
+        );
+    }
     out.push_str("    task tick;\n        begin\n            #4 clk = 1'b1;\n            #5 clk = 1'b0;\n        end\n    endtask\n\n");
 
     out.push_str("    initial begin\n");
     let start_code = design.encoding.code_string(spec.start);
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut cycle = 0usize;
     let emit_reset = |out: &mut String, cycle: &mut usize| {
         *cycle += 1;
@@ -575,14 +703,16 @@ pub fn generate_testbench(
         match step {
             TbStep::Reset => {
                 emit_reset(&mut out, &mut cycle);
-                state = m.start;
+                config = m.start_config();
             }
             TbStep::Step { event, inputs } => {
                 if *event >= spec.n_events {
                     return Err(format!("testbench step: event {event} out of range"));
                 }
                 cycle += 1;
-                let r = m.step(state, EventId::from_index(*event), inputs);
+                let state = config.state;
+                let timers_before = config.timers.clone();
+                let r = m.step_config(&mut config, EventId::from_index(*event), inputs);
                 let from = design.encoding.code_string(state.index());
                 let mut expect = String::new();
                 for o in 0..spec.outputs.len() {
@@ -606,6 +736,15 @@ pub fn generate_testbench(
                     let _ = write!(line, "{name} = 1'b{}; ", u8::from(v));
                 }
                 line.push_str("#1; ");
+                for (t, timer) in spec.timers.iter().enumerate() {
+                    if timer.active[state.index()] {
+                        let _ = write!(
+                            line,
+                            "check_{}({cycle}, {}'d{}); ",
+                            n.timers[t], timer.bits, timers_before[t]
+                        );
+                    }
+                }
                 if n_out > 0 {
                     let _ = write!(
                         line,
@@ -615,7 +754,6 @@ pub fn generate_testbench(
                     let _ = write!(line, "check({cycle}, {k}'b{from}); tick;");
                 }
                 let _ = writeln!(out, "{line}");
-                state = r.to;
             }
         }
     }
@@ -623,7 +761,7 @@ pub fn generate_testbench(
         out,
         "        #1; check_state({}, {k}'b{});\n        $display(\"PASS\");\n        $finish;\n    end\nendmodule",
         cycle + 1,
-        code_string(design.encoding.codes[state.index()], k)
+        code_string(design.encoding.codes[config.state.index()], k)
     );
     Ok(out)
 }
