@@ -245,6 +245,55 @@ pub enum TbStep {
     },
 }
 
+/// Most steps of the timed sequence [`testbench_steps`] appends for a machine with
+/// timers.
+pub const TIMED_STEPS_MAX: usize = 4096;
+
+/// The steps `detent logic --testbench` drives: the transition tour (every reachable
+/// rule fired at least once, resets where the machine is not strongly connected); for a
+/// machine with timers, then a reset and a seeded random timed sequence (the time base
+/// on three steps of four, other events and inputs uniform; `64 + 4 x` the sum of the
+/// timers' largest durations steps, at most [`TIMED_STEPS_MAX`]) so that timeouts come
+/// due and the timer registers are exercised whatever the tour reaches. Deterministic:
+/// the same machine gives the same steps.
+pub fn testbench_steps(m: &Machine) -> Vec<TbStep> {
+    use crate::tour::{tour, TourStep};
+    let mut steps: Vec<TbStep> = tour(m)
+        .steps
+        .into_iter()
+        .map(|s| match s {
+            TourStep::Reset => TbStep::Reset,
+            TourStep::Step { event, inputs } => TbStep::Step {
+                event: event.index(),
+                inputs,
+            },
+        })
+        .collect();
+    if let (Some(tb), false) = (&m.timebase, m.timers.is_empty()) {
+        let total: usize = m.timers.iter().map(|t| t.max() as usize).sum();
+        let len = total
+            .saturating_mul(4)
+            .saturating_add(64)
+            .min(TIMED_STEPS_MAX);
+        let n_events = m.events.len().max(1);
+        let tb_event = tb.event.index();
+        let mut rng = crate::rng::Rng::new(0x7E57_BE4C);
+        if !steps.is_empty() {
+            steps.push(TbStep::Reset);
+        }
+        for _ in 0..len {
+            let event = if n_events == 1 || rng.chance(0.75) {
+                tb_event.min(n_events - 1)
+            } else {
+                rng.index(n_events)
+            };
+            let inputs = (0..m.inputs.len()).map(|_| rng.chance(0.5)).collect();
+            steps.push(TbStep::Step { event, inputs });
+        }
+    }
+    steps
+}
+
 /// Names of the module's signals.
 struct Names {
     inputs: Vec<String>,
