@@ -263,6 +263,18 @@ fn timers_go_through_every_path() {
             "due_Dark_1"
         ])
     );
+    let keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    assert_eq!(
+        keys[..6],
+        [
+            "encoding",
+            "state_bits",
+            "inputs",
+            "functions",
+            "cost",
+            "timers"
+        ]
+    );
     assert_eq!(v["timers"][0]["register"], "timer_Running");
     assert_eq!(v["timers"][0]["bits"], 3);
     assert_eq!(v["timers"][0]["max"], 5);

@@ -137,13 +137,14 @@ pub struct LogicReport<'a> {
     pub state_bits: usize,
     /// Pin variables: event bus bits, inputs, then the timers' due variables.
     pub inputs: Vec<String>,
-    /// The timer registers (empty without `after` rules).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
-    pub timers: Vec<TimerEntry>,
     /// The functions.
     pub functions: Vec<FunctionEntry>,
     /// The cost.
     pub cost: CostEntry,
+    /// The timer registers (left out without `after` rules; after `cost`, so that the
+    /// documented keys keep their order).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub timers: Vec<TimerEntry>,
     /// The machine.
     pub machine: String,
     /// The encoding's kind.
