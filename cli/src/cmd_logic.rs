@@ -10,10 +10,8 @@ use detent_compiler::logic::auto::{auto_assign_with, AutoReport};
 use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::SearchOptions;
-use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
-use detent_compiler::model::Machine;
+use detent_compiler::logic::verilog::{generate_module, generate_testbench, testbench_steps};
 use detent_compiler::report::{self, logic::LogicReport};
-use detent_compiler::tour::{tour, TourStep};
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
@@ -170,22 +168,6 @@ impl Progress {
             eprint!("\r{}\r", " ".repeat(70));
         }
     }
-}
-
-/// The testbench steps: the transition tour (every reachable rule fired at least once,
-/// resets where the machine is not strongly connected).
-fn testbench_steps(m: &Machine) -> Vec<TbStep> {
-    tour(m)
-        .steps
-        .into_iter()
-        .map(|s| match s {
-            TourStep::Reset => TbStep::Reset,
-            TourStep::Step { event, inputs } => TbStep::Step {
-                event: event.index(),
-                inputs,
-            },
-        })
-        .collect()
 }
 
 /// Runs `detent logic` and returns the exit code.

@@ -173,11 +173,13 @@ pub fn auto_assign_baseline(
     cost_table(spec, ff, map, best.map(|(_, codes)| codes), stats)
 }
 
-/// Functions per design: the flip-flop inputs of the dense encoding, outputs, actions.
+/// Functions per design: the flip-flop inputs of the dense encoding, outputs, actions,
+/// timer clears.
 fn spec_function_count(spec: &LogicSpec, ff: FlipFlop) -> usize {
     super::assign::dense_bits(spec.n_states) * ff.input_names().len()
         + spec.outputs.len()
         + spec.actions.len()
+        + spec.timers.len()
 }
 
 /// The `auto` table: binary, gray, one-hot (up to 64 states) and the searched

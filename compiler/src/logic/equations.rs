@@ -4,7 +4,26 @@
 //! the state bits `q_{k-1} .. q_0`, the event bus `ev_{b-1} .. ev_0` with
 //! `b = ceil(log2 E)` (none for clocked machines or a single event; event `i` in
 //! declaration order has code `i`, codes `>= E` are don't-cares), then the inputs as
-//! pins in declaration order. Moore-only outputs are functions of the state bits alone.
+//! pins in declaration order, then the due variables of the timers (below). Moore-only
+//! outputs are functions of the state bits alone.
+//!
+//! **Timers** (LANGUAGE.md, "Time and counts"; DESIGN.md, "Hardware port"). Each scope
+//! with `after` rules has a timer register beside the state register: a counter of the
+//! datapath, not a minimized function (see [`super::verilog`]). Its comparisons with the
+//! durations are the due variables `due_<scope>_<ticks>`: `timer == ticks - 1` on a
+//! time-base cycle (`ev` equal to the time base's code, every cycle when there is no
+//! event bus), one per (timer, duration) of the lowered form's timeout choices. The
+//! time-base cell of a state with timers is cut per combination of due timeouts
+//! ([`crate::model::lower::Variant`]): each variant's exact regions, times the cube
+//! that fixes the due variables of the state's timers to that combination. Combinations
+//! that cannot happen are don't-cares: a due variable high outside a time-base cycle, and
+//! two durations of one timer due together. Due variables of timers that are not
+//! active in a state are left free there (the hardware's inactive timers keep counting;
+//! nothing in that state reads them). Each timer also has a clear function
+//! `clear_<scope>`, minimized like the others: 1 where the choice that fires enters the
+//! scope (its `resets`), 0 where the next state is in the scope and the choice does not
+//! enter it, don't-care where the next state is outside the scope (the value of an
+//! inactive timer never matters: entering the scope clears it).
 //!
 //! **Functions.** For each state bit the input(s) of the chosen flip-flop (D; T; J and
 //! K; S and R) from its excitation table, with every don't-care the flip-flop allows;
@@ -49,16 +68,19 @@ pub const MINTERM_MAX_VARS: usize = 16;
 pub const AUTO_MAX_STATES: usize = 1024;
 
 /// One region of behaviour: in `state`, for the events `events` (their codes), under
-/// the input valuations of `guards`, the machine goes to `next`, raises `mealy` and runs
-/// `actions`. It is one choice of a cell of the lowered form (or the cell's unhandled
-/// part, which holds the state and does nothing).
+/// the input and due valuations of `guards`, the machine goes to `next`, raises `mealy`,
+/// runs `actions` and clears the timers `resets`. It is one choice of a cell of the
+/// lowered form (or the cell's unhandled part, which holds the state and does nothing),
+/// in one combination of due timeouts for the time-base cell of a state with timers.
 #[derive(Clone, Debug)]
 pub struct Region {
     /// The present state.
     pub state: usize,
     /// The event codes (declaration order numbers).
     pub events: Vec<u64>,
-    /// Disjoint cubes over the input bits (input `i` at bit `I - 1 - i`).
+    /// Disjoint cubes over the condition bits: the inputs, then the due variables
+    /// (input `i` at bit `I + U - 1 - i`, due variable `j` at bit `U - 1 - j`, with `I`
+    /// inputs and `U` due variables).
     pub guards: Vec<Cube>,
     /// The next state.
     pub next: usize,
@@ -66,6 +88,43 @@ pub struct Region {
     pub mealy: Vec<usize>,
     /// The actions pulsed, in the order they run.
     pub actions: Vec<usize>,
+    /// The timers (indices into [`LogicSpec::timers`]) the step clears: the scopes with
+    /// timers that the choice enters.
+    pub resets: Vec<usize>,
+}
+
+/// A timer register of the datapath: one per scope with `after` rules.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct TimerSpec {
+    /// The scope's name (a state or group).
+    pub scope: String,
+    /// The register's name (`timer_<scope>`).
+    pub register: String,
+    /// The clear function's name (`clear_<scope>`).
+    pub clear: String,
+    /// Width: the narrowest that holds `max` (at least 1).
+    pub bits: usize,
+    /// The value it saturates at: its largest duration.
+    pub max: u32,
+    /// Its durations in ticks, ascending.
+    pub durations: Vec<u32>,
+    /// Its due variables (indices into [`LogicSpec::dues`]), parallel to `durations`.
+    pub dues: Vec<usize>,
+    /// Per state: whether the timer's scope is active there (the state or one of its
+    /// groups).
+    pub active: Vec<bool>,
+}
+
+/// A due variable: timer `timer` is at `ticks - 1` on a time-base cycle, so its
+/// `after ticks` timeout comes due in this step.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct DueVar {
+    /// The variable's name (`due_<scope>_<ticks>`).
+    pub name: String,
+    /// The timer (index into [`LogicSpec::timers`]).
+    pub timer: usize,
+    /// The duration in ticks.
+    pub ticks: u32,
 }
 
 /// What the equations are built from: the machine cut into regions, independent of
@@ -88,6 +147,13 @@ pub struct LogicSpec {
     pub outputs: Vec<String>,
     /// Action names, declaration order.
     pub actions: Vec<String>,
+    /// The timer registers, in the machine's timer order ([`Machine::timers`]).
+    pub timers: Vec<TimerSpec>,
+    /// The due variables: per timer, per duration ascending.
+    pub dues: Vec<DueVar>,
+    /// The time base's event code when it is read from the event bus (`None`: every
+    /// cycle counts, as in a clocked machine or one whose only event is the time base).
+    pub timebase_code: Option<u64>,
     /// Moore outputs of each state.
     moore: Vec<Vec<usize>>,
     /// Whether each output is raised by some rule (then it depends on ev and inputs).
@@ -111,6 +177,8 @@ pub enum Role {
     Output(usize),
     /// An action pulse.
     Action(usize),
+    /// The clear input of timer register `t` ([`LogicSpec::timers`]).
+    TimerClear(usize),
 }
 
 /// One minimized function.
@@ -155,10 +223,16 @@ pub struct LogicDesign {
     pub flip_flop: FlipFlop,
     /// State-bit variable names, `q_{k-1}` first.
     pub state_vars: Vec<String>,
-    /// Pin variables: event bus bits (`ev_{b-1}` first), then inputs.
+    /// Pin variables: event bus bits (`ev_{b-1}` first), inputs, then the timers' due
+    /// variables.
     pub pin_vars: Vec<String>,
-    /// Every function: flip-flop inputs (most significant bit first), outputs, actions.
+    /// Every function: flip-flop inputs (most significant bit first), outputs, actions,
+    /// then the clear function of each timer.
     pub functions: Vec<LogicFunction>,
+    /// The timer registers of the datapath ([`LogicSpec::timers`]).
+    pub timers: Vec<TimerSpec>,
+    /// The due variables ([`LogicSpec::dues`]), the last pin variables.
+    pub dues: Vec<DueVar>,
 }
 
 /// Cubes covering the codes `lo..hi` of a `b`-bit field: aligned power-of-two blocks.
@@ -185,19 +259,31 @@ impl LogicSpec {
         let ev_bits = bus_bits(n_events);
         let n_inputs = m.inputs.len();
         let k = super::assign::dense_bits(n_states);
-        if k + ev_bits + n_inputs > 64 {
+        let (timers, dues) = timer_specs(m);
+        let n_dues = dues.len();
+        if k + ev_bits + n_inputs + n_dues > 64 {
             return Err(format!(
-                "{k} state bits + {ev_bits} event bits + {n_inputs} inputs exceed the 64 \
-                 variables the logic layer supports"
+                "{k} state bits + {ev_bits} event bits + {n_inputs} inputs + {n_dues} timer due \
+                 variables exceed the 64 variables the logic layer supports"
             ));
         }
-        let input_bit = |v: u32| 1u64 << (n_inputs - 1 - v as usize);
-        let to_cubes = |g: Bdd| -> Vec<Cube> {
+        let timebase_code = match (&m.timebase, timers.is_empty()) {
+            (_, true) => None,
+            (None, false) => {
+                return Err("the machine has `after` rules but no time base".to_string());
+            }
+            (Some(_), false) if ev_bits == 0 => None,
+            (Some(tb), false) => Some(tb.event.index() as u64),
+        };
+        let n_cond = n_inputs + n_dues;
+        let input_bit = |v: u32| 1u64 << (n_cond - 1 - v as usize);
+        let due_bit = |j: usize| 1u64 << (n_dues - 1 - j);
+        let to_cubes = |g: Bdd, due: Cube| -> Vec<Cube> {
             m.bdd
                 .cubes(g)
                 .into_iter()
                 .map(|path| {
-                    let (mut value, mut care) = (0u64, 0u64);
+                    let (mut value, mut care) = (due.value, due.care);
                     for (v, b) in path {
                         care |= input_bit(v);
                         if b {
@@ -207,6 +293,11 @@ impl LogicSpec {
                     Cube::new(value, care)
                 })
                 .collect()
+        };
+        let due_index = |t: crate::model::TimerId, ticks: u32| -> usize {
+            let spec = &timers[t.index()];
+            let j = spec.durations.iter().position(|&d| d == ticks).unwrap_or(0);
+            spec.dues[j]
         };
         let lowered = &m.lowered;
         let mut regions = Vec::new();
@@ -221,29 +312,63 @@ impl LogicSpec {
                 if events.is_empty() {
                     continue;
                 }
-                for choice in &cell.choices {
-                    regions.push(Region {
-                        state: s,
-                        events: events.clone(),
-                        guards: to_cubes(choice.region),
-                        next: choice.target.index(),
-                        mealy: lowered
-                            .outputs(choice.mealy)
-                            .iter()
-                            .map(|o| o.index())
-                            .collect(),
-                        actions: lowered.actions(choice.ops).map(|a| a.index()).collect(),
-                    });
-                }
-                if !cell.unhandled.is_false() {
-                    regions.push(Region {
-                        state: s,
-                        events,
-                        guards: to_cubes(cell.unhandled),
-                        next: s,
-                        mealy: Vec::new(),
-                        actions: Vec::new(),
-                    });
+                // One pass per combination of due timeouts (one pass, nothing fixed,
+                // for a cell without timers): the variant's exact regions, each cube
+                // with the state's due variables fixed to the combination.
+                let passes: Vec<(Cube, Vec<Bdd>, Bdd)> = if cell.timers.is_empty() {
+                    vec![(
+                        Cube::UNIVERSE,
+                        cell.choices.iter().map(|c| c.region).collect(),
+                        cell.unhandled,
+                    )]
+                } else {
+                    cell.variants
+                        .iter()
+                        .map(|v| {
+                            let mut care = 0u64;
+                            for &t in &cell.timers {
+                                for &j in &timers[t.index()].dues {
+                                    care |= due_bit(j);
+                                }
+                            }
+                            let value = v
+                                .due
+                                .iter()
+                                .fold(0u64, |acc, &(t, d)| acc | due_bit(due_index(t, d)));
+                            (Cube::new(value, care), v.regions.clone(), v.unhandled)
+                        })
+                        .collect()
+                };
+                for (due, choice_regions, unhandled) in passes {
+                    for (choice, &region) in cell.choices.iter().zip(&choice_regions) {
+                        if region.is_false() {
+                            continue;
+                        }
+                        regions.push(Region {
+                            state: s,
+                            events: events.clone(),
+                            guards: to_cubes(region, due),
+                            next: choice.target.index(),
+                            mealy: lowered
+                                .outputs(choice.mealy)
+                                .iter()
+                                .map(|o| o.index())
+                                .collect(),
+                            actions: lowered.actions(choice.ops).map(|a| a.index()).collect(),
+                            resets: choice.resets.iter().map(|t| t.index()).collect(),
+                        });
+                    }
+                    if !unhandled.is_false() {
+                        regions.push(Region {
+                            state: s,
+                            events: events.clone(),
+                            guards: to_cubes(unhandled, due),
+                            next: s,
+                            mealy: Vec::new(),
+                            actions: Vec::new(),
+                            resets: Vec::new(),
+                        });
+                    }
                 }
             }
         }
@@ -279,6 +404,9 @@ impl LogicSpec {
             inputs: names(&m.inputs),
             outputs: names(&m.outputs),
             actions: names(&m.actions),
+            timers,
+            dues,
+            timebase_code,
             moore,
             mealy_output,
             regions,
@@ -301,6 +429,61 @@ impl LogicSpec {
     pub fn moore_of(&self, s: usize) -> &[usize] {
         &self.moore[s]
     }
+}
+
+/// The timer registers and due variables of a machine, named after their scopes and
+/// made distinct from every port and from each other (a clash gets `_` appended).
+fn timer_specs(m: &Machine) -> (Vec<TimerSpec>, Vec<DueVar>) {
+    let plain = |n: &str| n.trim_start_matches("r#").to_string();
+    let mut used: HashSet<String> = ["clk", "rst", "ev", "state", "tb"]
+        .iter()
+        .map(|s| s.to_string())
+        .chain(m.inputs.iter().map(|i| plain(&i.name)))
+        .chain(m.outputs.iter().map(|i| plain(&i.name)))
+        .chain(m.actions.iter().map(|i| plain(&i.name)))
+        .collect();
+    let mut fresh = |base: String| -> String {
+        let mut name = base;
+        while !used.insert(name.clone()) {
+            name.push('_');
+        }
+        name
+    };
+    let mut timers = Vec::with_capacity(m.timers.len());
+    let mut dues = Vec::new();
+    for (t, timer) in m.timers.iter().enumerate() {
+        let scope = match timer.scope {
+            crate::model::Scope::State(s) => plain(&m.states[s.index()].name),
+            crate::model::Scope::Group(g) => plain(&m.groups[g.index()].name),
+        };
+        let max = timer.max();
+        let mut due_ids = Vec::with_capacity(timer.durations.len());
+        for &ticks in &timer.durations {
+            due_ids.push(dues.len());
+            dues.push(DueVar {
+                name: fresh(format!("due_{scope}_{ticks}")),
+                timer: t,
+                ticks,
+            });
+        }
+        let id = crate::model::TimerId::from_index(t);
+        timers.push(TimerSpec {
+            register: fresh(format!("timer_{scope}")),
+            clear: fresh(format!("clear_{scope}")),
+            scope,
+            bits: (32 - max.leading_zeros() as usize).max(1),
+            max,
+            durations: timer.durations.clone(),
+            dues: due_ids,
+            active: (0..m.states.len())
+                .map(|s| {
+                    m.chain_timers(crate::model::StateId::from_index(s))
+                        .contains(&id)
+                })
+                .collect(),
+        });
+    }
+    (timers, dues)
 }
 
 /// The classic adjacency rules as weights: states with the same next state under the
@@ -472,6 +655,8 @@ pub fn synthesize(
         state_vars: sets.state_vars,
         pin_vars: sets.pin_vars,
         functions: out,
+        timers: spec.timers.clone(),
+        dues: spec.dues.clone(),
     })
 }
 
@@ -495,9 +680,9 @@ pub(crate) struct FunctionSet {
 pub(crate) struct FunctionSets {
     /// State-bit variable names, `q_{k-1}` first.
     pub state_vars: Vec<String>,
-    /// Pin variables: event bus bits, then inputs.
+    /// Pin variables: event bus bits, inputs, then due variables.
     pub pin_vars: Vec<String>,
-    /// Flip-flop inputs (most significant bit first), outputs, actions.
+    /// Flip-flop inputs (most significant bit first), outputs, actions, timer clears.
     pub functions: Vec<FunctionSet>,
 }
 
@@ -511,11 +696,14 @@ pub(crate) fn function_sets(
     let k = encoding.bits;
     let b = spec.ev_bits;
     let ni = spec.inputs.len();
-    let n = k + b + ni;
+    let nu = spec.dues.len();
+    // Condition variables: the inputs, then the due variables.
+    let nc = ni + nu;
+    let n = k + b + nc;
     if n > 64 {
         return Err(format!(
-            "{k} state bits + {b} event bits + {ni} inputs exceed the 64 variables the logic \
-             layer supports"
+            "{k} state bits + {b} event bits + {ni} inputs + {nu} timer due variables exceed \
+             the 64 variables the logic layer supports"
         ));
     }
     if encoding.codes.len() != spec.n_states {
@@ -528,8 +716,9 @@ pub(crate) fn function_sets(
     let state_vars: Vec<String> = (0..k).rev().map(|j| format!("q{j}")).collect();
     let mut pin_vars: Vec<String> = (0..b).rev().map(|j| format!("ev{j}")).collect();
     pin_vars.extend(spec.inputs.iter().cloned());
+    pin_vars.extend(spec.dues.iter().map(|d| d.name.clone()));
     let all_vars: Vec<String> = state_vars.iter().chain(pin_vars.iter()).cloned().collect();
-    let state_shift = b + ni;
+    let state_shift = b + nc;
 
     // State cubes over the k state bits alone (shifted into place below).
     let state_cube = |s: usize| -> Cube {
@@ -561,22 +750,46 @@ pub(crate) fn function_sets(
     global_dc.extend(
         range_cubes(spec.n_events as u64, 1u64 << b, b)
             .iter()
-            .map(|c| lift(c, ni)),
+            .map(|c| lift(c, nc)),
     );
+    // Due combinations that cannot happen: a due variable high outside a time-base cycle
+    // (event codes other than the time base's), two durations of one timer due at once.
+    let due_bit = |j: usize| 1u64 << (nu - 1 - j);
+    if let Some(code) = spec.timebase_code {
+        let others: Vec<Cube> = range_cubes(0, code, b)
+            .into_iter()
+            .chain(range_cubes(code + 1, 1u64 << b, b))
+            .collect();
+        for j in 0..nu {
+            for c in &others {
+                let l = lift(c, nc);
+                global_dc.push(Cube::new(l.value | due_bit(j), l.care | due_bit(j)));
+            }
+        }
+    }
+    for t in &spec.timers {
+        for (x, &i) in t.dues.iter().enumerate() {
+            for &j in &t.dues[x + 1..] {
+                let c = due_bit(i) | due_bit(j);
+                global_dc.push(Cube::new(c, c));
+            }
+        }
+    }
 
     let n_ff_inputs = ff.input_names().len();
-    let n_fns = k * n_ff_inputs + spec.outputs.len() + spec.actions.len();
+    let n_fns = k * n_ff_inputs + spec.outputs.len() + spec.actions.len() + spec.timers.len();
     let mut on: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
     let mut dc: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
     let ff_index = |bit: usize, input: usize| (k - 1 - bit) * n_ff_inputs + input;
     let out_index = |o: usize| k * n_ff_inputs + o;
     let act_index = |a: usize| k * n_ff_inputs + spec.outputs.len() + a;
+    let clear_index = |t: usize| k * n_ff_inputs + spec.outputs.len() + spec.actions.len() + t;
 
     for r in &spec.regions {
         let sc = lift(&state_cube(r.state), state_shift);
         let mut cubes = Vec::with_capacity(r.events.len() * r.guards.len());
         for &e in &r.events {
-            let ec = Cube::new(e << ni, full_mask(b) << ni);
+            let ec = Cube::new(e << nc, full_mask(b) << nc);
             for g in &r.guards {
                 cubes.push(Cube::new(
                     sc.value | ec.value | g.value,
@@ -607,6 +820,15 @@ pub(crate) fn function_sets(
         for a in acts {
             on[act_index(a)].extend_from_slice(&cubes);
         }
+        for (t, timer) in spec.timers.iter().enumerate() {
+            if r.resets.contains(&t) {
+                on[clear_index(t)].extend_from_slice(&cubes);
+            } else if !timer.active[r.next] {
+                // The next state is outside the scope: its timer is not read until the
+                // scope is entered again, which clears it.
+                dc[clear_index(t)].extend_from_slice(&cubes);
+            }
+        }
     }
 
     let mut functions = Vec::with_capacity(n_fns);
@@ -621,6 +843,9 @@ pub(crate) fn function_sets(
     }
     for (a, name) in spec.actions.iter().enumerate() {
         functions.push((name.clone(), Role::Action(a), act_index(a)));
+    }
+    for (t, timer) in spec.timers.iter().enumerate() {
+        functions.push((timer.clear.clone(), Role::TimerClear(t), clear_index(t)));
     }
     let mut out = Vec::with_capacity(n_fns);
     for (name, role, idx) in functions {

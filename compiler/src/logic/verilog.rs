@@ -14,6 +14,19 @@
 //! ([`LogicSpec`]), and the testbench's expected values are the interpreter's, which
 //! steps through it.
 //!
+//! **Timers** (DESIGN.md, "Hardware port"): each scope with `after` rules has a timer
+//! register beside the state register, written as a datapath rather than as minimized
+//! equations: `timer_<scope>` of the narrowest width that holds its largest duration,
+//! set to 0 by `rst`, and on each clock edge set to 0 when its minimized clear function
+//! `clear_<scope>` is high (the rule taken enters the scope), else increased by one on
+//! a time-base cycle (`tb`: `ev` equal to the time base's code, or every cycle when
+//! there is no event bus) unless it is at its largest duration (it saturates). The
+//! due variables `due_<scope>_<ticks>` are comparisons of the register with `ticks - 1`
+//! on a time-base cycle: the variables the flip-flop, output, action and clear equations
+//! read (LANGUAGE.md, "Time and counts": the timer's value before this event's count
+//! decides whether the timeout is due). The clear has priority over the count, as in
+//! the interpreter, which counts first and then clears the scopes the rule enters.
+//!
 //! Names: the ports `clk`, `rst`, `ev`, `state` are fixed; inputs, outputs and actions
 //! keep their spec names; a name that is a Verilog (or SystemVerilog) keyword becomes an
 //! escaped identifier (`\begin `); a spec name equal to a fixed port, or an output and an
@@ -232,9 +245,64 @@ pub enum TbStep {
     },
 }
 
+/// Most steps of the timed sequence [`testbench_steps`] appends for a machine with
+/// timers.
+pub const TIMED_STEPS_MAX: usize = 4096;
+
+/// The steps `detent logic --testbench` drives: the transition tour (every reachable
+/// rule fired at least once, resets where the machine is not strongly connected); for a
+/// machine with timers, then a reset and a seeded random timed sequence (the time base
+/// on three steps of four, other events and inputs uniform; `64 + 4 x` the sum of the
+/// timers' largest durations steps, at most [`TIMED_STEPS_MAX`]) so that timeouts come
+/// due and the timer registers are exercised whatever the tour reaches. Deterministic:
+/// the same machine gives the same steps.
+pub fn testbench_steps(m: &Machine) -> Vec<TbStep> {
+    use crate::tour::{tour, TourStep};
+    let mut steps: Vec<TbStep> = tour(m)
+        .steps
+        .into_iter()
+        .map(|s| match s {
+            TourStep::Reset => TbStep::Reset,
+            TourStep::Step { event, inputs } => TbStep::Step {
+                event: event.index(),
+                inputs,
+            },
+        })
+        .collect();
+    if let (Some(tb), false) = (&m.timebase, m.timers.is_empty()) {
+        let total: usize = m.timers.iter().map(|t| t.max() as usize).sum();
+        let len = total
+            .saturating_mul(4)
+            .saturating_add(64)
+            .min(TIMED_STEPS_MAX);
+        let n_events = m.events.len().max(1);
+        let tb_event = tb.event.index();
+        let mut rng = crate::rng::Rng::new(0x7E57_BE4C);
+        if !steps.is_empty() {
+            steps.push(TbStep::Reset);
+        }
+        for _ in 0..len {
+            let event = if n_events == 1 || rng.chance(0.75) {
+                tb_event.min(n_events - 1)
+            } else {
+                rng.index(n_events)
+            };
+            let inputs = (0..m.inputs.len()).map(|_| rng.chance(0.5)).collect();
+            steps.push(TbStep::Step { event, inputs });
+        }
+    }
+    steps
+}
+
 /// Names of the module's signals.
 struct Names {
     inputs: Vec<String>,
+    /// Due variable wires, in [`LogicSpec::dues`] order.
+    dues: Vec<String>,
+    /// Timer registers, in [`LogicSpec::timers`] order.
+    timers: Vec<String>,
+    /// The time-base cycle wire (used only when there are timers).
+    tb: String,
     outputs: Vec<String>,
     actions: Vec<String>,
     /// Internal wire per function, in `design.functions` order.
@@ -271,6 +339,21 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         .iter()
         .map(|n| claim("action", n))
         .collect::<Result<Vec<_>, _>>()?;
+    let dues = spec
+        .dues
+        .iter()
+        .map(|d| claim("due variable", &d.name))
+        .collect::<Result<Vec<_>, _>>()?;
+    let timers = spec
+        .timers
+        .iter()
+        .map(|t| claim("timer register", &t.register))
+        .collect::<Result<Vec<_>, _>>()?;
+    let clears = spec
+        .timers
+        .iter()
+        .map(|t| claim("timer clear", &t.clear))
+        .collect::<Result<Vec<_>, _>>()?;
     let mut fresh = |base: String| -> String {
         let mut name = base;
         while KEYWORDS.contains(&name.as_str()) || !used.insert(name.clone()) {
@@ -279,6 +362,7 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         name
     };
     let reg = fresh("q".to_string());
+    let tb = fresh("tb".to_string());
     let wires = design
         .functions
         .iter()
@@ -286,10 +370,14 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
             Role::FlipFlop { .. } => fresh(f.name.clone()),
             Role::Output(o) => outputs[o].clone(),
             Role::Action(a) => actions[a].clone(),
+            Role::TimerClear(t) => clears[t].clone(),
         })
         .collect();
     Ok(Names {
         inputs,
+        dues,
+        timers,
+        tb,
         outputs,
         actions,
         wires,
@@ -297,17 +385,22 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
     })
 }
 
-/// A cover as a Verilog expression over `q[..]`, `ev[..]` and the input ports.
+/// A cover as a Verilog expression over `q[..]`, `ev[..]`, the input ports and the due
+/// wires. `vars` is the function's variable count: a Moore output reads the state bits
+/// only.
 fn expression(design: &LogicDesign, n: &Names, vars: usize, cover: &Cover) -> String {
     let k = design.state_vars.len();
-    let b = design.pin_vars.len() - n.inputs.len();
+    let ni = n.inputs.len();
+    let b = design.pin_vars.len() - ni - n.dues.len();
     let var = |i: usize| -> String {
         if i < k {
             format!("{}[{}]", n.reg, k - 1 - i)
         } else if i < k + b {
             format!("ev[{}]", b - 1 - (i - k))
-        } else {
+        } else if i < k + b + ni {
             n.inputs[i - k - b].clone()
+        } else {
+            n.dues[i - k - b - ni].clone()
         }
     };
     if cover.cubes.is_empty() {
@@ -413,6 +506,46 @@ pub fn generate_module(
         ports.join(",\n")
     );
     let _ = writeln!(out, "    reg [{}:0] {};", k - 1, n.reg);
+    if !spec.timers.is_empty() {
+        out.push_str(
+            "\n    // Timers (the datapath): one counter per scope with `after` rules, cleared\n    \
+             // when the rule taken enters the scope, else counting time-base cycles up to\n    \
+             // its largest duration. A due wire is high on a time-base cycle where its\n    \
+             // timer stands at the duration minus one.\n",
+        );
+        let tb_expr = match spec.timebase_code {
+            Some(code) => format!("(ev == {b}'d{code})"),
+            None => "1'b1".to_string(),
+        };
+        let _ = writeln!(out, "    wire {} = {tb_expr};", n.tb);
+        for (t, timer) in spec.timers.iter().enumerate() {
+            let _ = writeln!(
+                out,
+                "    reg [{}:0] {}; // {}: {}, saturates at {}",
+                timer.bits - 1,
+                n.timers[t],
+                timer.scope,
+                timer
+                    .durations
+                    .iter()
+                    .map(|d| format!("after {d}"))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                timer.max
+            );
+            for (&j, &d) in timer.dues.iter().zip(&timer.durations) {
+                let _ = writeln!(
+                    out,
+                    "    wire {} = {} & ({} == {}'d{});",
+                    n.dues[j],
+                    n.tb,
+                    n.timers[t],
+                    timer.bits,
+                    d - 1
+                );
+            }
+        }
+    }
     out.push_str("\n    // Flip-flop input equations.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
         if let Role::FlipFlop { .. } = f.role {
@@ -423,7 +556,19 @@ pub fn generate_module(
             );
         }
     }
-    out.push_str("\n    always @(posedge clk) begin\n        if (rst)\n");
+    if !spec.timers.is_empty() {
+        out.push_str("\n    // Timer clear equations (the rule taken enters the scope).\n");
+        for (f, w) in design.functions.iter().zip(&n.wires) {
+            if let Role::TimerClear(_) = f.role {
+                let _ = writeln!(
+                    out,
+                    "    wire {w} = {};",
+                    expression(design, &n, f.vars.len(), &f.cover)
+                );
+            }
+        }
+    }
+    out.push_str("\n    always @(posedge clk) begin\n        if (rst) begin\n");
     let _ = writeln!(
         out,
         "            {} <= {}'b{};",
@@ -431,7 +576,10 @@ pub fn generate_module(
         k,
         design.encoding.code_string(spec.start)
     );
-    out.push_str("        else begin\n");
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let _ = writeln!(out, "            {} <= {}'d0;", n.timers[t], timer.bits);
+    }
+    out.push_str("        end else begin\n");
     for bit in (0..k).rev() {
         let wire = |input: usize| -> &str {
             let idx = design
@@ -450,10 +598,25 @@ pub fn generate_module(
         };
         let _ = writeln!(out, "            {q} <= {next};");
     }
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let clear = design
+            .functions
+            .iter()
+            .position(|f| f.role == Role::TimerClear(t))
+            .map_or("1'b0", |i| n.wires[i].as_str());
+        let r = &n.timers[t];
+        let w = timer.bits;
+        let _ = writeln!(
+            out,
+            "            if ({clear})\n                {r} <= {w}'d0;\n            \
+             else if ({} && {r} != {w}'d{})\n                {r} <= {r} + {w}'d1;",
+            n.tb, timer.max
+        );
+    }
     out.push_str("        end\n    end\n");
     out.push_str("\n    // Outputs (Moore part of the current state, Mealy part of the rule taken)\n    // and action pulses.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
-        if !matches!(f.role, Role::FlipFlop { .. }) {
+        if matches!(f.role, Role::Output(_) | Role::Action(_)) {
             let _ = writeln!(
                 out,
                 "    assign {w} = {};",
@@ -467,7 +630,10 @@ pub fn generate_module(
 
 /// A self-checking testbench driving `steps` cycle by cycle: before each clock edge it
 /// compares `state`, every output and every action pulse with what the interpreter
-/// ([`Machine::step`]) computed for that step (embedded as constants), and after the
+/// ([`Machine::step_config`], from the start configuration) computed for that step
+/// (embedded as constants), and the register of every timer whose scope is active
+/// with the interpreter's timer (read through the hierarchical name `dut.timer_..`;
+/// the value of an inactive timer does not matter and is not checked), and after the
 /// last step the final state. It prints `PASS` and calls `$finish` (exit status 0), or
 /// prints the first mismatch as `MISMATCH cycle N signal S expected E got G` and calls
 /// `$fatal(1, ..)`, which ends the simulation with a non-zero exit status (Icarus
@@ -556,11 +722,22 @@ pub fn generate_testbench(
     out.push_str("        begin\n            if (state !== exp_state) begin\n");
     out.push_str("                $display(\"MISMATCH cycle %0d signal state expected %b got %b\", cycle, exp_state, state);\n");
     out.push_str("                $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n\n");
+    for (t, timer) in spec.timers.iter().enumerate() {
+        let r = &n.timers[t];
+        let _ = writeln!(
+            out,
+            "    task check_{r};\n        input integer cycle;\n        input [{}:0] exp;\n        \
+             begin\n            if (dut.{r} !== exp) begin\n                \
+             $display(\"MISMATCH cycle %0d signal {r} expected %0d got %0d\", cycle, exp, dut.{r});\n                \
+             $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n",
+            timer.bits - 1
+        );
+    }
     out.push_str("    task tick;\n        begin\n            #4 clk = 1'b1;\n            #5 clk = 1'b0;\n        end\n    endtask\n\n");
 
     out.push_str("    initial begin\n");
     let start_code = design.encoding.code_string(spec.start);
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut cycle = 0usize;
     let emit_reset = |out: &mut String, cycle: &mut usize| {
         *cycle += 1;
@@ -575,14 +752,16 @@ pub fn generate_testbench(
         match step {
             TbStep::Reset => {
                 emit_reset(&mut out, &mut cycle);
-                state = m.start;
+                config = m.start_config();
             }
             TbStep::Step { event, inputs } => {
                 if *event >= spec.n_events {
                     return Err(format!("testbench step: event {event} out of range"));
                 }
                 cycle += 1;
-                let r = m.step(state, EventId::from_index(*event), inputs);
+                let state = config.state;
+                let timers_before = config.timers.clone();
+                let r = m.step_config(&mut config, EventId::from_index(*event), inputs);
                 let from = design.encoding.code_string(state.index());
                 let mut expect = String::new();
                 for o in 0..spec.outputs.len() {
@@ -606,6 +785,15 @@ pub fn generate_testbench(
                     let _ = write!(line, "{name} = 1'b{}; ", u8::from(v));
                 }
                 line.push_str("#1; ");
+                for (t, timer) in spec.timers.iter().enumerate() {
+                    if timer.active[state.index()] {
+                        let _ = write!(
+                            line,
+                            "check_{}({cycle}, {}'d{}); ",
+                            n.timers[t], timer.bits, timers_before[t]
+                        );
+                    }
+                }
                 if n_out > 0 {
                     let _ = write!(
                         line,
@@ -615,7 +803,6 @@ pub fn generate_testbench(
                     let _ = write!(line, "check({cycle}, {k}'b{from}); tick;");
                 }
                 let _ = writeln!(out, "{line}");
-                state = r.to;
             }
         }
     }
@@ -623,7 +810,7 @@ pub fn generate_testbench(
         out,
         "        #1; check_state({}, {k}'b{});\n        $display(\"PASS\");\n        $finish;\n    end\nendmodule",
         cycle + 1,
-        code_string(design.encoding.codes[state.index()], k)
+        code_string(design.encoding.codes[config.state.index()], k)
     );
     Ok(out)
 }

@@ -62,6 +62,28 @@ pub struct FunctionEntry {
     pub complement_literals: Option<usize>,
 }
 
+/// One timer register of the datapath (a scope with `after` rules).
+#[derive(Debug, Serialize)]
+pub struct TimerEntry {
+    /// The state or group whose `after` rules read it.
+    pub scope: String,
+    /// The register's name in the Verilog module.
+    pub register: String,
+    /// Its width in bits (the narrowest that holds `max`).
+    pub bits: usize,
+    /// The value it saturates at (its largest duration, in ticks).
+    pub max: u32,
+    /// The durations of its `after` rules, in ticks, ascending.
+    pub durations: Vec<u32>,
+    /// The due variable of each duration (parallel to `durations`): a variable of the
+    /// equations, listed in `inputs`, high on a time-base cycle where the timer stands
+    /// at the duration minus one.
+    pub due: Vec<String>,
+    /// The function (in `functions`) that clears it: high when the rule taken enters the
+    /// scope.
+    pub clear: String,
+}
+
 /// The cost summary of DESIGN.md.
 #[derive(Debug, Serialize)]
 pub struct CostEntry {
@@ -113,12 +135,16 @@ pub struct LogicReport<'a> {
     pub encoding: super::Codes,
     /// State bits.
     pub state_bits: usize,
-    /// Pin variables (event bus bits and inputs).
+    /// Pin variables: event bus bits, inputs, then the timers' due variables.
     pub inputs: Vec<String>,
     /// The functions.
     pub functions: Vec<FunctionEntry>,
     /// The cost.
     pub cost: CostEntry,
+    /// The timer registers (left out without `after` rules; after `cost`, so that the
+    /// documented keys keep their order).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub timers: Vec<TimerEntry>,
     /// The machine.
     pub machine: String,
     /// The encoding's kind.
@@ -213,6 +239,23 @@ impl<'a> LogicReport<'a> {
             encoding,
             state_bits: design.encoding.bits,
             inputs: design.pin_vars.clone(),
+            timers: design
+                .timers
+                .iter()
+                .map(|t| TimerEntry {
+                    scope: t.scope.clone(),
+                    register: t.register.clone(),
+                    bits: t.bits,
+                    max: t.max,
+                    durations: t.durations.clone(),
+                    due: t
+                        .dues
+                        .iter()
+                        .map(|&j| design.dues[j].name.clone())
+                        .collect(),
+                    clear: t.clear.clone(),
+                })
+                .collect(),
             functions,
             cost: CostEntry {
                 literals: cost.literals,
@@ -314,6 +357,26 @@ impl<'a> LogicReport<'a> {
         }
         if !d.pin_vars.is_empty() {
             out.push(format!("pins: {}", d.pin_vars.join(" ")));
+        }
+        for t in &d.timers {
+            out.push(format!(
+                "timer {}: register {} ({}), saturates at {}, cleared by {}; due: {}",
+                t.scope,
+                t.register,
+                plural(t.bits, "bit"),
+                m.duration_text(t.max),
+                t.clear,
+                t.dues
+                    .iter()
+                    .zip(&t.durations)
+                    .map(|(&j, &ticks)| format!(
+                        "{} (after {})",
+                        d.dues[j].name,
+                        m.duration_text(ticks)
+                    ))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
         }
         out.push(String::new());
         for f in &d.functions {
