@@ -47,6 +47,15 @@ pub fn run(args: &FmtArgs) -> u8 {
                 continue;
             }
         };
+        // Like every command: a file with no machine (empty, or only comments) is an
+        // error naming it, not a clean pass.
+        if detent_compiler::syntax::parse_source(&text).is_ok_and(|f| f.machines.is_empty()) {
+            eprintln!(
+                "error: `{file}` has no machine: a spec file holds at least one `machine Name {{ .. }}`"
+            );
+            code = code.max(FAILED);
+            continue;
+        }
         if file == "-" {
             if args.check {
                 if formatted != text {

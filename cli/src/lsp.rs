@@ -71,7 +71,17 @@ pub fn run() -> u8 {
         Err(e) => return crate::io::usage_error(e),
     };
     if let Err(e) = conn.initialize(caps) {
-        return crate::io::usage_error(format!("lsp: initialization failed: {e}"));
+        // The reader's own error (a malformed header, end of input) comes with the join;
+        // the writer ends when the connection's sender is dropped.
+        drop(conn);
+        let why = match threads.join() {
+            Err(io) => io.to_string(),
+            Ok(()) => e.to_string(),
+        };
+        return crate::io::usage_error(format!(
+            "lsp: no client to serve (standard input ended or does not speak the Language \
+             Server Protocol: {why}); editors start `detent lsp` themselves"
+        ));
     }
     let mut server = Server::default();
     let code = match server.main_loop(&conn) {
@@ -387,6 +397,9 @@ impl Server {
                 new_text: new.to_string(),
             })
             .collect();
+        // lsp-types keys `WorkspaceEdit::changes` by `Uri`, whose interior cell only
+        // caches parsing; its hash and equality are those of the text.
+        #[allow(clippy::mutable_key_type)]
         let mut changes = HashMap::new();
         changes.insert(uri, edits);
         to_json(lt::WorkspaceEdit {
