@@ -159,9 +159,9 @@ pub fn timers_text(m: &Machine, c: &Config) -> Option<String> {
 pub fn timer_value_text(m: &Machine, ticks: u32) -> String {
     match m.timebase.as_ref().and_then(|t| t.period_us) {
         Some(p) => {
-            let (unit, name) = if p % 1_000_000 == 0 {
+            let (unit, name) = if p.is_multiple_of(1_000_000) {
                 (1_000_000, "s")
-            } else if p % 1_000 == 0 {
+            } else if p.is_multiple_of(1_000) {
                 (1_000, "ms")
             } else {
                 (1, "us")

@@ -99,7 +99,7 @@ fn compress_merges_runs_and_keeps_restarts() {
         lines,
         ["Tick x=0 *2", "reset", "Tick x=0", "Go x=0", "Tick x=0 *3"]
     );
-    assert_eq!(c.iter().map(StepEntry::len).sum::<usize>(), 7);
+    assert_eq!(c.iter().map(StepEntry::steps).sum::<usize>(), 7);
 }
 
 #[test]

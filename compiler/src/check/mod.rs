@@ -10,6 +10,12 @@
 //! connected components (Tarjan). Work is linear in the number of cells plus the rules
 //! they reach.
 //!
+//! A machine with timers is checked over its configurations (state and timer values,
+//! [`crate::configs`]): coverage at each reachable configuration's variant (states no
+//! configuration reaches at every timer value), reachability, dead ends and dead rules on
+//! the configuration graph (docs/language-decisions.md, "Analyses of machines with
+//! timers"). Past the configuration limit one error names it.
+//!
 //! Levels: hard errors (`syntax`, `name`, `incomplete`, `overlapping_rules`,
 //! `property`) always stay errors. Every other lint takes the innermost
 //! `#[allow/warn/deny]` naming it on the state, its groups outward, then the machine;

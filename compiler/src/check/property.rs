@@ -26,6 +26,12 @@
 //! states count: some input sequence reaches S). The first reached state, in BFS
 //! order, that cannot reach S is the violation with the shortest trace.
 //!
+//! **Configurations.** Both searches run over the configuration graph
+//! ([`crate::configs`]): a configuration is a state and its timers' values, and each of
+//! its steps one cell variant's region. A machine without timers has one configuration
+//! per state, so the graph is its state graph; with timers, counterexamples are
+//! shortest counting every time-base event, and they print with `Tick *N`.
+//!
 //! **Cost.** Listing the steps is linear in the cells plus their choices (the regions
 //! are the lowered form's, built once at resolution); each search then visits
 //! every step once: O(states + steps) time and memory, with flat `u32` tables and no

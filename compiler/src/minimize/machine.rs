@@ -420,9 +420,9 @@ pub fn quotient_machine(m: &Machine, min: &Minimization) -> Machine {
 /// exactly (`1500 ms`, `30 s`, `250 us`).
 fn duration_in_units(period_us: u64, ticks: u32) -> ast::Duration {
     let us = period_us * u64::from(ticks);
-    let (value, unit) = if us % 1_000_000 == 0 {
+    let (value, unit) = if us.is_multiple_of(1_000_000) {
         (us / 1_000_000, ast::TimeUnit::S)
-    } else if us % 1_000 == 0 {
+    } else if us.is_multiple_of(1_000) {
         (us / 1_000, ast::TimeUnit::Ms)
     } else {
         (us, ast::TimeUnit::Us)

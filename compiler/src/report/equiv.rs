@@ -125,7 +125,7 @@ impl EquivReport {
             let _ = write!(
                 t,
                 "; shortest distinguishing sequence ({}):",
-                plural(self.witness.iter().map(StepEntry::len).sum(), "step")
+                plural(self.witness.iter().map(StepEntry::steps).sum(), "step")
             );
             for line in trace_lines(&self.witness, true) {
                 let _ = write!(t, "\n{line}");

@@ -72,7 +72,7 @@ impl StepEntry {
     }
 
     /// How many steps the entry stands for (0 for a restart).
-    pub fn len(&self) -> usize {
+    pub fn steps(&self) -> usize {
         match self {
             StepEntry::Step { repeat, .. } => *repeat as usize,
             StepEntry::Reset { .. } => 0,
