@@ -52,6 +52,7 @@
   let history = [];
   let results = [];
   let state = SIM.start;
+  let timers = SIM.timers.map(() => 0);
   let pending = []; // replay steps not yet taken
   let replayTotal = 0;
 
@@ -62,10 +63,11 @@
   };
 
   function doStep(event, inputs, replayed) {
-    const r = SIM.step(state, event, (i) => inputs[i]);
+    const r = SIM.step(state, event, (i) => inputs[i], timers);
     history.push({ event, inputs: inputs.slice(), replayed: !!replayed });
     results.push(r);
     state = r.to;
+    timers = r.timers;
   }
 
   function back() {
@@ -79,6 +81,7 @@
     history = [];
     results = [];
     state = SIM.start;
+    timers = SIM.timers.map(() => 0);
   }
 
   // ---- controls -----------------------------------------------------------------
