@@ -274,10 +274,7 @@ pub fn to_js(m: &Machine) -> String {
                 }
             }
             for c in &cell.choices {
-                let zeroed: Vec<usize> = zeroed_timers(m, cell.state, c)
-                    .iter()
-                    .map(|t| t.index())
-                    .collect();
+                let zeroed: Vec<usize> = zeroed_timers(m, c).iter().map(|t| t.index()).collect();
                 let zero = match zero_sets.iter().position(|z| *z == zeroed) {
                     Some(k) => k,
                     None => {

@@ -148,7 +148,7 @@ impl Layout {
                         }
                         gid
                     };
-                    let zeroed = zeroed_timers(m, s, ch);
+                    let zeroed = zeroed_timers(m, ch);
                     let zero = if zeroed.is_empty() {
                         0
                     } else {

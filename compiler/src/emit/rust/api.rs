@@ -113,11 +113,7 @@ impl Gen<'_> {
             format!("The `{name}` machine: its current state, {state_bytes} of RAM.")
         });
         let timers_struct = self.timers_struct();
-        let timers_field = if self.timed() {
-            quote!(timers: Timers,)
-        } else {
-            quote!()
-        };
+        let timers_field = self.timer_slots();
         quote! {
             ::detent::__derive_extras! {
                 #state_doc
@@ -275,12 +271,7 @@ impl Gen<'_> {
         } else {
             quote!(Machine::restore(raw))
         };
-        let timers_init = if self.timed() {
-            let zero = self.timers_zero();
-            quote!(, timers: #zero)
-        } else {
-            quote!()
-        };
+        let timers_init = self.timers_zero();
         let restore_doc = if self.timed() {
             quote! {
                 ///

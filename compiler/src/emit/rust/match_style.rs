@@ -187,14 +187,14 @@ impl Gen<'_> {
         let unhandled = self.unhandled();
         let mut chain = match always {
             Some(choice) => {
-                let body = self.fire(cell.state, choice);
+                let body = self.fire(choice);
                 quote!({ #body })
             }
             None => quote!({ #unhandled }),
         };
         let single = guarded.len() == 1;
         for choice in guarded.into_iter().rev() {
-            let body = self.fire(cell.state, choice);
+            let body = self.fire(choice);
             // A lone test is `if t { .. } else { .. }`: when `t` is a negation, test its
             // positive form and swap the branches, so the code does not read
             // `if !x { .. } else { .. }` (clippy's `if_not_else`, which leaves `else if`
@@ -208,11 +208,13 @@ impl Gen<'_> {
             }
             // A timeout is tested first: it reads no input.
             let due = choice.due.map(|(t, d)| self.due_expr(t, d));
-            let test = choice.test.as_ref().map(|t| self.test_expr(t, &reads));
-            let cond = match (due, test) {
-                (Some(d), Some(t)) => quote!(#d && #t),
+            let cond = match (due, &choice.test) {
+                (Some(d), Some(t)) => {
+                    let t = self.test_operand(t, &reads);
+                    quote!(#d && #t)
+                }
                 (Some(d), None) => d,
-                (None, Some(t)) => t,
+                (None, Some(t)) => self.test_expr(t, &reads),
                 (None, None) => quote!(true),
             };
             chain = quote!(if #cond { #body } else #chain);
@@ -224,7 +226,7 @@ impl Gen<'_> {
         } else {
             let stmts = cell.timers.iter().map(|&t| self.count_stmt(t));
             let before = if super::tokens::uses_ident(&chain, "before") {
-                quote!(let before = self.timers;)
+                quote!(let before = self.timers();)
             } else {
                 quote!()
             };
@@ -241,7 +243,7 @@ impl Gen<'_> {
     /// The statements of a choice firing: its operations in order, the state assigned
     /// unless it stays, and the outputs (Moore of the target with the choice's Mealy
     /// outputs).
-    fn fire(&self, from: StateId, choice: &Choice) -> TokenStream {
+    fn fire(&self, choice: &Choice) -> TokenStream {
         let m = self.m;
         let lowered = &m.lowered;
         let actions = lowered.actions(choice.ops).map(|a| {
@@ -254,7 +256,7 @@ impl Gen<'_> {
         } else {
             quote!()
         };
-        let zero = self.zero_stmts(&zeroed_timers(m, from, choice));
+        let zero = self.zero_stmts(&zeroed_timers(m, choice));
         let high = union(
             lowered.outputs(lowered.moore(choice.target)),
             lowered.outputs(choice.mealy),

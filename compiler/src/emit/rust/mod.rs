@@ -175,6 +175,9 @@ struct Gen<'a> {
 struct TimerGen {
     /// Its field in `Timers`.
     field: proc_macro2::Ident,
+    /// Its field in `Machine` (`timer_<field>`): the timers are fields of `Machine`
+    /// itself, so that the compiler packs them with the state byte.
+    slot: proc_macro2::Ident,
     /// Its integer type: the narrowest that holds its largest duration.
     ty: TokenStream,
     /// Its largest duration: the value it stops at.
@@ -200,6 +203,7 @@ impl<'a> Gen<'a> {
                     let max = m.timers[i].max();
                     TimerGen {
                         field: ident(name),
+                        slot: ident(&format!("timer_{name}")),
                         ty: uint(max as usize),
                         max,
                         wide: max > u32::from(u16::MAX),
@@ -219,8 +223,8 @@ impl<'a> Gen<'a> {
     /// The statements that set timers to 0 (`self.timers.x = 0;` each).
     fn zero_stmts(&self, timers: &[TimerId]) -> TokenStream {
         let stmts = timers.iter().map(|t| {
-            let f = &self.timers[t.index()].field;
-            quote!(self.timers.#f = 0;)
+            let f = &self.timers[t.index()].slot;
+            quote!(self.#f = 0;)
         });
         quote!(#(#stmts)*)
     }

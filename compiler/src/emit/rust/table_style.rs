@@ -552,7 +552,7 @@ impl Gen<'_> {
                             let due = self.due_expr(timer, d);
                             let cond = match test {
                                 Some(g) => {
-                                    let g = self.test_expr(g, &reads);
+                                    let g = self.test_operand(g, &reads);
                                     quote!(#due && #g)
                                 }
                                 None => due,
@@ -666,7 +666,7 @@ impl Gen<'_> {
         };
         let trace = self.trace();
         let before = if self.timed() {
-            quote!(let before = self.timers;)
+            quote!(let before = self.timers();)
         } else {
             quote!()
         };
@@ -803,8 +803,8 @@ impl<'g> Tables<'g> {
         let mut runs: HashMap<Vec<RuleRow>, usize> = HashMap::new();
         // The row of every lowered cell, built the first time a pair uses it.
         let mut built: Vec<Option<CellRow>> = vec![None; lowered.cells().len()];
-        let mut row_of = |from: StateId, choice: &Choice| {
-            let zeroed = zeroed_timers(m, from, choice);
+        let mut row_of = |choice: &Choice| {
+            let zeroed = zeroed_timers(m, choice);
             let zero = if zeroed.is_empty() {
                 0
             } else {
@@ -838,7 +838,7 @@ impl<'g> Tables<'g> {
                     if choice.ops != SeqId::EMPTY {
                         used_seqs.push(choice.ops);
                     }
-                    run.push(row_of(s, choice));
+                    run.push(row_of(choice));
                     guards.push((choice.due, choice.test.as_ref()));
                 }
                 let row_cell = if run.is_empty() {

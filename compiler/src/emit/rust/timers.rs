@@ -48,30 +48,41 @@ impl Gen<'_> {
         }
     }
 
-    /// `Timers { a: 0, .. }`: every timer at 0 (`const`, unlike `Default`).
+    /// `, timer_a: 0, ..`: the timer fields of `Machine` at 0, for its constructors.
     pub(super) fn timers_zero(&self) -> TokenStream {
         let fields = self.timers.iter().map(|t| {
-            let f = &t.field;
-            quote!(#f: 0)
+            let f = &t.slot;
+            quote!(, #f: 0)
         });
-        quote!(Timers { #(#fields),* })
+        quote!(#(#fields)*)
+    }
+
+    /// The timer fields of `Machine` (`timer_a: u8, ..`).
+    pub(super) fn timer_slots(&self) -> TokenStream {
+        let fields = self.timers.iter().map(|t| {
+            let f = &t.slot;
+            let ty = &t.ty;
+            let doc = doc_text(&format!("Timer `{}` (see `Timers`).", t.field));
+            quote!(#doc #f: #ty,)
+        });
+        quote!(#(#fields)*)
     }
 
     /// The statement that counts one time-base event for timer `t`: add one, stopping
     /// at its largest duration.
     pub(super) fn count_stmt(&self, t: TimerId) -> TokenStream {
         let tg = &self.timers[t.index()];
-        let f = &tg.field;
+        let f = &tg.slot;
         let type_max: u64 = match tg.ty.to_string().as_str() {
             "u8" => u64::from(u8::MAX),
             "u16" => u64::from(u16::MAX),
             _ => u64::from(u32::MAX),
         };
         if u64::from(tg.max) == type_max {
-            quote!(self.timers.#f = self.timers.#f.saturating_add(1);)
+            quote!(self.#f = self.#f.saturating_add(1);)
         } else {
             let max = Literal::u32_unsuffixed(tg.max);
-            quote!(self.timers.#f = self.timers.#f.saturating_add(1).min(#max);)
+            quote!(self.#f = self.#f.saturating_add(1).min(#max);)
         }
     }
 
@@ -101,11 +112,11 @@ impl Gen<'_> {
                     .durations
                     .iter()
                     .map(|&d| Literal::u32_unsuffixed(d));
-                let f = &t.field;
+                let f = &t.slot;
                 let value = if t.wide {
-                    quote!(self.timers.#f)
+                    quote!(self.#f)
                 } else {
-                    quote!(u32::from(self.timers.#f))
+                    quote!(u32::from(self.#f))
                 };
                 let cond = self.in_states(&state, &t.states);
                 quote! {
@@ -135,13 +146,17 @@ impl Gen<'_> {
             quote!()
         };
         let by_ref = super::tokens::by_ref_allow();
+        let read = self.timers.iter().map(|t| {
+            let (f, slot) = (&t.field, &t.slot);
+            quote!(#f: self.#slot)
+        });
         quote! {
             impl Machine {
                 /// The timers now (a timer whose scope the machine is not in is 0).
                 #[must_use]
                 #by_ref
                 pub const fn timers(&self) -> Timers {
-                    self.timers
+                    Timers { #(#read),* }
                 }
 
                 /// The number of time-base events after which a timeout of the current
