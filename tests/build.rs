@@ -234,7 +234,14 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
     } else {
         let fields: Vec<String> = detent_compiler::emit::timers::timer_names(m)
             .iter()
-            .map(|f| format!("u32::try_from(t.{f}).unwrap_or(u32::MAX)"))
+            .zip(&m.timers)
+            .map(|(f, timer)| {
+                if timer.max() > u32::from(u16::MAX) {
+                    format!("t.{f}")
+                } else {
+                    format!("u32::from(t.{f})")
+                }
+            })
             .collect();
         format!(
             "{{ let t = machine.timers(); vec![{}] }}",
