@@ -80,6 +80,26 @@ fn write_differential_machines() {
             ..gen::GenConfig::default()
         },
     ];
+    // Timeouts (issue 19): a time base with `after` rules in states and nested groups,
+    // guarded, to self and `stay`; event-driven and clocked.
+    let timed = [
+        gen::GenConfig {
+            timeouts: true,
+            ..gen::GenConfig::default()
+        },
+        gen::GenConfig {
+            events: 0,
+            timeouts: true,
+            ..gen::GenConfig::default()
+        },
+        gen::GenConfig {
+            states: (6, 12),
+            events: 4,
+            inputs: 3,
+            timeouts: true,
+            ..gen::GenConfig::default()
+        },
+    ];
     let mut all = String::new();
     let mut index = String::from(
         "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
@@ -93,6 +113,12 @@ fn write_differential_machines() {
         for k in 0..seeds {
             let seed = 1000 + k * 10 + ci as u64;
             specs.push((format!("s{seed}"), gen::random_spec(seed, cfg)));
+        }
+    }
+    for (ci, cfg) in timed.iter().enumerate() {
+        for k in 0..5 {
+            let seed = 5000 + k * 10 + ci as u64;
+            specs.push((format!("t{seed}"), gen::random_spec(seed, cfg)));
         }
     }
     if let Some(n) = soak {
@@ -238,6 +264,31 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
     }
     let _ = writeln!(s, "    }}");
     let outputs: Vec<String> = m.outputs.iter().map(|o| format!("o.{}", o.name)).collect();
+    // The timers as `u32`s, in timer order, and `next_timeout`.
+    let timers = if m.timers.is_empty() {
+        "vec![]".to_string()
+    } else {
+        let fields: Vec<String> = detent_compiler::emit::timers::timer_names(m)
+            .iter()
+            .zip(&m.timers)
+            .map(|(f, timer)| {
+                if timer.max() > u32::from(u16::MAX) {
+                    format!("t.{f}")
+                } else {
+                    format!("u32::from(t.{f})")
+                }
+            })
+            .collect();
+        format!(
+            "{{ let t = machine.timers(); vec![{}] }}",
+            fields.join(", ")
+        )
+    };
+    let next = if m.timers.is_empty() {
+        "None"
+    } else {
+        "machine.next_timeout()"
+    };
     let _ = writeln!(
         s,
         "    pub fn run_{form}(trace: &[(usize, Vec<bool>)]) -> Vec<crate::Observed> {{
@@ -245,14 +296,14 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
         let mut machine = Machine::new();
         let mut rec = crate::Recorder::default();
         let o = machine.outputs();
-        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![], reads: vec![] }}];
+        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![], reads: vec![], timers: {timers}, next_timeout: {next} }}];
         for (e, ins) in trace {{
             rec.begin(ins);
             let (o, rejected) = match machine.step(Event::ALL[*e], &mut rec) {{
                 Ok(o) => (o, false),
                 Err(::detent::Rejected) => (machine.outputs(), true),
             }};
-            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take(), reads: rec.take_reads() }});
+            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take(), reads: rec.take_reads(), timers: {timers}, next_timeout: {next} }});
         }}
         out
     }}",

@@ -25,3 +25,21 @@ fn clocked_pattern_detector() {
     );
     insta::assert_snapshot!("pattern_detector_c", files.source);
 }
+
+/// Timers (issue 19): fields of the machine struct, counted on the time base with
+/// corrupt values clamped, due tests before guards, the resets of each transition and
+/// `_next_timeout`.
+#[test]
+fn timed_header_and_source() {
+    let path = format!(
+        "{}/../tests/specs/timed_sampled.detent",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let text = std::fs::read_to_string(&path).expect("spec exists");
+    let report = detent_compiler::driver::check_source("timed_sampled.detent", &text);
+    assert!(!report.has_errors(), "timed_sampled.detent checks clean");
+    let m = report.machines.into_iter().next().unwrap().machine.unwrap();
+    let files = generate_c(&m, "timed_sampled.detent");
+    insta::assert_snapshot!("timed_sampled_h", files.header);
+    insta::assert_snapshot!("timed_sampled_c", files.source);
+}

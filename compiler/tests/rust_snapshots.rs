@@ -77,6 +77,39 @@ machine Sampled {
 }
 "#;
 
+/// Timeouts: a time base with a period, a state timer with two durations (one guarded),
+/// a group timer (u16), a timeout back into the state itself, and `stay` on the tick.
+const BLINK: &str = r#"
+/// Blinks a lamp while armed; gives up after a minute.
+pub machine Blink {
+    events Arm, Disarm, Tick;
+    inputs door_open;
+    outputs lamp, fault;
+    actions beep;
+    start Idle;
+    timebase Tick 10 ms;
+    unhandled ignore;
+
+    state Idle {
+        Arm => On;
+        Tick => stay;
+    }
+    group Armed {
+        Disarm => Idle;
+        Tick => stay;
+        after 60 s => Failed, do beep;
+        state On emit lamp {
+            after 200 ms if door_open => Failed;
+            after 500 ms => Off;
+        }
+        state Off {
+            after 500 ms => On;
+        }
+    }
+    terminal state Failed emit fault;
+}
+"#;
+
 fn generate(spec: &str, style: DispatchStyle) -> String {
     let report = check_source("snapshot.detent", spec);
     assert!(
@@ -120,6 +153,16 @@ fn sampled_table() {
 #[test]
 fn sampled_match() {
     insta::assert_snapshot!(generate(SAMPLED, DispatchStyle::Match));
+}
+
+#[test]
+fn blink_table() {
+    insta::assert_snapshot!(generate(BLINK, DispatchStyle::Table));
+}
+
+#[test]
+fn blink_match() {
+    insta::assert_snapshot!(generate(BLINK, DispatchStyle::Match));
 }
 
 #[test]

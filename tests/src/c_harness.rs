@@ -26,6 +26,7 @@
 
 use crate::gen::Rng;
 use detent_compiler::emit::c::{needs_hooks, CFiles, CNames};
+use detent_compiler::interp::Config;
 use detent_compiler::model::{EventId, Machine, StateId};
 use std::fmt::Write;
 use std::path::{Path, PathBuf};
@@ -46,6 +47,9 @@ pub enum Cmd {
     NullMachine(i64),
     /// `S`: overwrite the state byte.
     SetState(u32),
+    /// Writes a raw value into timer `k` of the machine struct (a corrupt or restored
+    /// byte; may exceed the timer's largest duration).
+    SetTimer(usize, u32),
 }
 
 /// gcc's strict warning flags every generated file must pass.
@@ -92,6 +96,7 @@ pub fn trace_text(cmds: &[Cmd]) -> String {
             Cmd::NullOut(e) => writeln!(out, "o {e}"),
             Cmd::NullMachine(e) => writeln!(out, "m {e}"),
             Cmd::SetState(n) => writeln!(out, "S {n}"),
+            Cmd::SetTimer(k, v) => writeln!(out, "T{k} {v}"),
         };
     }
     out
@@ -130,6 +135,77 @@ pub fn random_cmds(rng: &mut Rng, m: &Machine, len: usize, faults: bool) -> Vec<
         .collect()
 }
 
+/// Random commands for a machine with timers: events from
+/// [`crate::gen::random_timed_trace`] (the time base with probability `p_tick`) and,
+/// with `faults`, the faults of [`random_cmds`] plus corrupt timer values (up to the
+/// largest value of the timer's C type).
+pub fn random_timed_cmds(
+    rng: &mut Rng,
+    m: &Machine,
+    len: usize,
+    p_tick: f64,
+    faults: bool,
+) -> Vec<Cmd> {
+    let trace = crate::gen::random_timed_trace(rng, m.events.len(), m.inputs.len(), len, p_tick);
+    trace
+        .into_iter()
+        .map(|(e, ins)| {
+            if !faults || m.timers.is_empty() || rng.chance(0.97) {
+                return Cmd::Step(e as i64, ins);
+            }
+            let k = rng.index(m.timers.len());
+            let max = m.timers[k].max();
+            let type_max: u32 = if max <= 255 {
+                255
+            } else if max <= 65535 {
+                65535
+            } else {
+                u32::MAX
+            };
+            let v = match rng.index(3) {
+                0 => rng.index(max as usize + 1) as u32,
+                1 => max.saturating_add(1 + rng.index(3) as u32).min(type_max),
+                _ => type_max,
+            };
+            Cmd::SetTimer(k, v)
+        })
+        .collect()
+}
+
+/// The timer part of a result line for a machine with timers: ` t=` and, per timer, its
+/// value when it counts in the current state (`_` when it does not, or the state is
+/// corrupt), then ` n=` and `next_timeout` (0: none). Empty without timers.
+fn timer_suffix(m: &Machine, raw: u32, timers: &[u32]) -> String {
+    if m.timers.is_empty() {
+        return String::new();
+    }
+    let valid = (raw as usize) < m.states.len();
+    let active = if valid {
+        m.chain_timers(StateId(raw))
+    } else {
+        Vec::new()
+    };
+    let vals: Vec<String> = (0..m.timers.len())
+        .map(|k| {
+            if active.iter().any(|t| t.index() == k) {
+                timers[k].to_string()
+            } else {
+                "_".to_string()
+            }
+        })
+        .collect();
+    let next = if valid {
+        m.next_timeout(&Config {
+            state: StateId(raw),
+            timers: timers.to_vec(),
+        })
+        .unwrap_or(0)
+    } else {
+        0
+    };
+    format!(" t={} n={next}", vals.join(","))
+}
+
 fn bad_line(state: u32, m: &Machine) -> String {
     let zeros = if m.outputs.is_empty() {
         "-".to_string()
@@ -143,6 +219,7 @@ fn bad_line(state: u32, m: &Machine) -> String {
 pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
     let hooks_needed = needs_hooks(m);
     let mut raw: u32 = m.start.0;
+    let mut timers: Vec<u32> = vec![0; m.timers.len()];
     let mut out = Vec::new();
     for c in cmds {
         let valid =
@@ -150,11 +227,18 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
         let line = match c {
             Cmd::SetState(n) => {
                 raw = *n;
-                format!("set {n}")
+                out.push(format!("set {n}"));
+                continue;
+            }
+            Cmd::SetTimer(k, v) => {
+                timers[*k] = *v;
+                out.push(format!("timer {k} {v}"));
+                continue;
             }
             Cmd::NullOut(e) => {
                 let _ = e;
-                format!("{raw} -1 x - -")
+                out.push(format!("{raw} -1 x - -"));
+                continue;
             }
             Cmd::NullMachine(_) => bad_line(raw, m),
             Cmd::NullHooks(e, _) | Cmd::ZeroHooks(e, _) if hooks_needed || !valid(*e) => {
@@ -162,8 +246,13 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
             }
             Cmd::Step(e, _) if !valid(*e) => bad_line(raw, m),
             Cmd::Step(e, ins) | Cmd::NullHooks(e, ins) | Cmd::ZeroHooks(e, ins) => {
-                let r = m.step(StateId(raw), EventId(*e as u32), ins);
+                let mut config = Config {
+                    state: StateId(raw),
+                    timers: timers.clone(),
+                };
+                let r = m.step_config(&mut config, EventId(*e as u32), ins);
                 raw = r.to.0;
+                timers = config.timers;
                 let outs = r.outputs();
                 let ob = if m.outputs.is_empty() {
                     "-".to_string()
@@ -202,7 +291,7 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                 )
             }
         };
-        out.push(line);
+        out.push(format!("{line}{}", timer_suffix(m, raw, &timers)));
     }
     out
 }
@@ -258,19 +347,79 @@ pub fn harness_main(m: &Machine) -> String {
     if m.outputs.is_empty() {
         let _ = writeln!(c, "    (void)out;\n    putchar('-');");
     }
+    let timer_print = if m.timers.is_empty() {
+        String::new()
+    } else {
+        let mut t = String::from(
+            "    fputs(\" t=\", stdout);\n    if ((unsigned int)m->state < (unsigned int)STATE_COUNT_) {\n",
+        );
+        t.push_str("        switch ((unsigned int)m->state) {\n");
+        for si in 0..m.states.len() {
+            let chain = m.chain_timers(StateId::from_index(si));
+            let _ = writeln!(t, "        case {si}u:");
+            for (k, f) in n.timers.iter().enumerate() {
+                let sep = if k == 0 { "" } else { "," };
+                if chain.iter().any(|x| x.index() == k) {
+                    let _ = writeln!(
+                        t,
+                        "            printf(\"{sep}%lu\", (unsigned long)m->{f});"
+                    );
+                } else {
+                    let _ = writeln!(t, "            fputs(\"{sep}_\", stdout);");
+                }
+            }
+            let _ = writeln!(t, "            break;");
+        }
+        t.push_str("        default:\n            break;\n        }\n    } else {\n");
+        let unders = vec!["_"; m.timers.len()].join(",");
+        let _ = writeln!(t, "        fputs(\"{unders}\", stdout);\n    }}");
+        let _ = writeln!(
+            t,
+            "    printf(\" n=%lu\", (unsigned long){p}_next_timeout(m));"
+        );
+        t
+    };
     for o in &n.outputs {
         let _ = writeln!(c, "    putchar(out->{o} ? '1' : '0');");
     }
     let _ = writeln!(
         c,
-        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar(' ');\n    if (c->n_reads == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->reads[i]);\n    }}\n    putchar('\\n');\n}}\n"
+        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar(' ');\n    if (c->n_reads == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->reads[i]);\n    }}\n{timer_print}    putchar('\\n');\n}}\n",
+        timer_print = timer_print.replace("STATE_COUNT_", &format!("{}_STATE_COUNT", n.up))
     );
     let _ = writeln!(
         c,
-        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        hc.n_reads = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x - -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
-        inits.join(", ")
+        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        hc.n_reads = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x - -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n{set_timer}        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
+        inits.join(", "),
+        set_timer = set_timer_case(m, &n)
     );
     c
+}
+
+/// The harness's `T<k> <v>` command: writes `v` into timer `k` (cast to its C type).
+fn set_timer_case(m: &Machine, n: &CNames) -> String {
+    if m.timers.is_empty() {
+        return String::new();
+    }
+    let mut t = String::from(
+        "        case 'T': {\n            unsigned long v = strtoul(end, NULL, 10);\n            switch (ev) {\n",
+    );
+    for (k, f) in n.timers.iter().enumerate() {
+        let max = m.timers[k].max();
+        let ty = if max <= 255 {
+            "uint8_t"
+        } else if max <= 65535 {
+            "uint16_t"
+        } else {
+            "uint32_t"
+        };
+        let _ = writeln!(
+            t,
+            "            case {k}:\n                m.{f} = ({ty})v;\n                break;"
+        );
+    }
+    t.push_str("            default:\n                break;\n            }\n            printf(\"timer %ld %lu\\n\", ev, v);\n            break;\n        }\n");
+    t
 }
 
 /// Writes the generated files and the harness into `dir` and builds the harness with

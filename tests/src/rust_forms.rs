@@ -17,6 +17,10 @@ pub struct Observed {
     pub actions: Vec<usize>,
     /// Input numbers in the order the step called their hooks, one entry per call.
     pub reads: Vec<usize>,
+    /// The timers after the step, in timer order (empty without timers).
+    pub timers: Vec<u32>,
+    /// `next_timeout` after the step (`None` without timers).
+    pub next_timeout: Option<u32>,
 }
 
 /// The test's `Hooks`: hostile inputs, actions recorded.

@@ -10,7 +10,8 @@ use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::{generate_c, table_sizes, CFiles};
 use detent_compiler::model::Machine;
 use detent_tests::c_harness::{
-    build_harness, expected_lines, random_cmds, require_tool, run_harness, Cmd, STRICT_FLAGS,
+    build_harness, expected_lines, random_cmds, random_timed_cmds, require_tool, run_harness, Cmd,
+    STRICT_FLAGS,
 };
 use detent_tests::gen::{random_spec, GenConfig, Rng};
 use detent_tests::workspace_root;
@@ -259,6 +260,109 @@ fn c_matches_the_interpreter_on_every_example_and_corner_spec() {
 #[test]
 fn c_matches_the_interpreter_on_random_machines() {
     differential("random", &random_machines(), 4, 300);
+}
+
+/// Random machines with timeouts (nested groups, guarded timeouts, self and stay
+/// targets, clocked and event-driven, every policy), with or without a period.
+fn random_timed_machines() -> Vec<(String, Machine)> {
+    let mut out = Vec::new();
+    for (ci, policy) in [None, Some("ignore"), Some("reject"), Some("complete")]
+        .into_iter()
+        .enumerate()
+    {
+        for (di, events) in [0usize, 3, 5].into_iter().enumerate() {
+            for seed in 0..3u64 {
+                let cfg = GenConfig {
+                    events,
+                    timeouts: true,
+                    policy,
+                    ..GenConfig::default()
+                };
+                let name = format!("timed_{ci}_{di}_{seed}.detent");
+                let text = random_spec(seed * 131 + (ci * 7 + di) as u64, &cfg);
+                let report = check_source(&name, &text);
+                if report.has_errors() {
+                    // `complete` can be unsatisfiable for a random spec: skip it there.
+                    assert_eq!(policy, Some("complete"), "{text}");
+                    continue;
+                }
+                for m in report.machines.into_iter().filter_map(|m| m.machine) {
+                    if m.has_timers() {
+                        out.push((name.clone(), m));
+                    }
+                }
+            }
+        }
+    }
+    out
+}
+
+/// C against the interpreter on timed machines: every step compares the state,
+/// outputs, actions, handled, the inputs read (hostile hooks), the timers of the active
+/// scopes and `next_timeout`; half the traces also write corrupt timer values (above
+/// the largest duration, up to the type's maximum) and corrupt states.
+#[test]
+fn c_matches_the_interpreter_on_random_timed_machines() {
+    let machines = random_timed_machines();
+    let mut steps = 0usize;
+    let mut timeouts = 0usize;
+    for (i, (file, m)) in machines.iter().enumerate() {
+        let files = generate_c(m, file);
+        let dir = scratch(&format!("timed-{i}"));
+        let exe =
+            build_harness(&dir, m, &files).unwrap_or_else(|e| panic!("{e}\n{}", files.source));
+        let mut rng = Rng::new(0x71_3ED + i as u64);
+        for k in 0..4 {
+            let mut cmds = random_timed_cmds(&mut rng, m, 400, 0.7, k % 2 == 1);
+            if k % 2 == 1 {
+                let faults = random_cmds(&mut rng, m, 60, true);
+                cmds.extend(faults);
+            }
+            let got = run_harness(&exe, &cmds).unwrap_or_else(|e| panic!("{file}: {e}"));
+            let want = expected_lines(m, &cmds);
+            assert_eq!(got.len(), want.len(), "{file}: line count");
+            for (j, (g, w)) in got.iter().zip(&want).enumerate() {
+                assert_eq!(
+                    g, w,
+                    "{file} / {}: command {j} `{:?}` differs (C left, interpreter right)\n{}",
+                    m.name, cmds[j], files.source
+                );
+            }
+            steps += cmds.len();
+            // Steps where a timeout rule fired: the interpreter says which rule.
+            let mut config = m.start_config();
+            for c in &cmds {
+                if let Cmd::Step(e, ins) = c {
+                    if (*e as usize) < m.events.len() {
+                        let r = m.step_config(
+                            &mut config,
+                            detent_compiler::model::EventId(*e as u32),
+                            ins,
+                        );
+                        if r.rule().is_some_and(|rule| {
+                            matches!(
+                                m.rules[rule.index()].trigger,
+                                detent_compiler::model::Trigger::After(_)
+                            )
+                        }) {
+                            timeouts += 1;
+                        }
+                    }
+                } else {
+                    break;
+                }
+            }
+        }
+    }
+    eprintln!(
+        "{} timed machines, {steps} commands, {timeouts} timeouts fired (C)",
+        machines.len()
+    );
+    assert!(machines.len() >= 24, "{}", machines.len());
+    assert!(
+        timeouts * 20 > steps,
+        "{timeouts} timeouts in {steps} commands"
+    );
 }
 
 #[test]

@@ -12,8 +12,8 @@
 
 use detent_compiler::driver::check_source;
 use detent_compiler::interp::Outcome;
-use detent_compiler::model::{EventId, OutputId, StateId};
-use detent_tests::gen::{random_trace, Rng};
+use detent_compiler::model::{EventId, OutputId, Trigger};
+use detent_tests::gen::{random_timed_trace, random_trace, Rng};
 
 // The types the generated cases use, shared with `differential_all.rs`.
 use detent_tests::rust_forms::{Case, Observed, Recorder};
@@ -28,23 +28,26 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
             .map(|i| set.contains(&OutputId::from_index(i)))
             .collect()
     };
-    let mut state: StateId = m.start;
+    let mut config = m.start_config();
     let mut out = vec![Observed {
-        state: state.index(),
-        outputs: outputs(&m.states[state.index()].moore),
+        state: config.state.index(),
+        outputs: outputs(&m.states[config.state.index()].moore),
         rejected: false,
         actions: vec![],
         reads: vec![],
+        timers: config.timers.clone(),
+        next_timeout: m.next_timeout(&config),
     }];
     for (e, ins) in trace {
-        let r = m.step(state, EventId::from_index(*e), ins);
-        state = r.to;
+        let r = m.step_config(&mut config, EventId::from_index(*e), ins);
         out.push(Observed {
             state: r.to.index(),
             outputs: outputs(&r.outputs()),
             rejected: r.outcome == Outcome::Rejected,
             actions: r.actions.iter().map(|a| a.index()).collect(),
             reads: r.inputs_read.iter().map(|i| i.index()).collect(),
+            timers: config.timers.clone(),
+            next_timeout: m.next_timeout(&config),
         });
     }
     out
@@ -56,13 +59,33 @@ fn generated_rust_agrees_with_the_interpreter() {
     let mut moved = 0usize;
     let mut rejected = 0usize;
     let mut acted = 0usize;
+    let mut timed = 0usize;
+    let mut timed_steps = 0usize;
+    let mut timeouts = 0usize;
     for case in CASES {
         let report = check_source("case.detent", case.spec);
         let m = report.machines.into_iter().find_map(|m| m.machine).unwrap();
         let mut rng = Rng::new(case.name.len() as u64 * 7919 + case.spec.len() as u64);
+        timed += usize::from(m.has_timers());
         for t in 0..12 {
-            let trace = random_trace(&mut rng, m.events.len(), m.inputs.len(), 60);
+            let trace = if m.has_timers() {
+                random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.7)
+            } else {
+                random_trace(&mut rng, m.events.len(), m.inputs.len(), 60)
+            };
             let expected = interpret(case.spec, &trace);
+            if m.has_timers() {
+                timed_steps += trace.len();
+                let mut config = m.start_config();
+                for (e, ins) in &trace {
+                    let r = m.step_config(&mut config, EventId::from_index(*e), ins);
+                    if r.rule().is_some_and(|rule| {
+                        matches!(m.rules[rule.index()].trigger, Trigger::After(_))
+                    }) {
+                        timeouts += 1;
+                    }
+                }
+            }
             for (form, run) in case.runners {
                 let got = run(&trace);
                 for (i, (g, x)) in got.iter().zip(&expected).enumerate() {
@@ -82,6 +105,15 @@ fn generated_rust_agrees_with_the_interpreter() {
             }
         }
     }
+    eprintln!(
+        "{} cases ({timed} timed: {timed_steps} steps, {timeouts} timeouts fired), {steps} steps, 4 Rust forms each",
+        CASES.len()
+    );
+    assert!(timed >= 12, "{timed} timed cases");
+    assert!(
+        timeouts * 20 > timed_steps,
+        "{timeouts} timeouts in {timed_steps} steps"
+    );
     // The comparison means something only if the traces exercise the machines.
     assert!(CASES.len() >= 24, "{} cases", CASES.len());
     assert!(moved * 10 > steps, "{moved} of {steps} steps changed state");

@@ -34,7 +34,7 @@ use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::minimize::equiv::equiv;
 use detent_compiler::minimize::{minimize, minimized_machine};
-use detent_compiler::model::{EventId, Machine, StateId};
+use detent_compiler::model::{EventId, Machine};
 use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
 use detent_tests::c_harness::{
@@ -105,11 +105,10 @@ trait Backend: Sync {
 // The reference
 
 fn interpret(m: &Machine, trace: &Trace) -> Vec<Seen> {
-    let mut state: StateId = m.start;
+    let mut config = m.start_config();
     let mut out = Vec::with_capacity(trace.len());
     for (e, ins) in trace {
-        let r = m.step(state, EventId(*e as u32), ins);
-        state = r.to;
+        let r = m.step_config(&mut config, EventId(*e as u32), ins);
         let high = r.outputs();
         out.push(Seen {
             state: r.to.index(),
@@ -795,6 +794,12 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
             panic!("{} has no machine", rc.name);
         };
         let m = &case.machine;
+        if m.has_timers() {
+            // Timed machines: the Rust forms and C are compared with timers and
+            // `next_timeout` in `differential.rs` and `c_backend.rs`; the hardware port of
+            // timers comes separately.
+            continue;
+        }
         let mut runners: Vec<(String, Box<dyn Runner>)> = rc
             .runners
             .iter()

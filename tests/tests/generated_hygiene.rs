@@ -7,7 +7,8 @@
 //! libraries to.)
 //!
 //! The random machines reach what the examples do not: more than 256 states or events
-//! (`u16` numbers), many outputs and actions, clocked machines, a lone negated guard.
+//! (`u16` numbers), many outputs and actions, clocked machines, a lone negated guard,
+//! timers of `after` rules.
 //! The private machine of `tests/specs/blinker.detent` is not exported, which is where
 //! clippy's `trivially_copy_pass_by_ref` and `unnecessary_wraps` apply (as in a firmware
 //! binary that includes the generated file).
@@ -95,6 +96,19 @@ fn random_machines() -> Vec<(String, Vec<Machine>)> {
         },
         GenConfig {
             policy: Some("complete"),
+            ..base.clone()
+        },
+        // Timeouts (issue 19): timers in states and nested groups, event-driven and
+        // clocked, with and without a period.
+        GenConfig {
+            states: (4, 10),
+            events: 3,
+            timeouts: true,
+            ..base.clone()
+        },
+        GenConfig {
+            events: 0,
+            timeouts: true,
             ..base.clone()
         },
         // Tiny: one event, no inputs, outputs or actions.

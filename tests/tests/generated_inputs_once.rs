@@ -154,6 +154,13 @@ mod sampled_match {}
 form!(sampled_table, inputs: [a = 0, b = 1, c = 2], actions: [x = 0, y = 1, z = 2], outputs: [hit]);
 form!(sampled_match, inputs: [a = 0, b = 1, c = 2], actions: [x = 0, y = 1, z = 2], outputs: [hit]);
 
+#[detent::machine_file(file = "specs/timed_sampled.detent", dispatch = "table")]
+mod timed_table {}
+#[detent::machine_file(file = "specs/timed_sampled.detent", dispatch = "match")]
+mod timed_match {}
+form!(timed_table, inputs: [a = 0, b = 1], actions: [x = 0, y = 1], outputs: [busy]);
+form!(timed_match, inputs: [a = 0, b = 1], actions: [x = 0, y = 1], outputs: [busy]);
+
 /// The resolved machine of a spec, for the interpreter.
 fn model(name: &str, text: &str) -> Machine {
     let report = check_source(name, text);
@@ -176,7 +183,7 @@ fn agree(m: &Machine, generated: &mut dyn Stepper, seed: u64, steps: usize) -> u
     let levels: Vec<bool> = (0..n_inputs).map(|_| rng.next_u64() & 1 == 1).collect();
     let mut hooks = Flipping::new(levels.clone());
     let mut reference = Flipping::new(levels);
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut calls = 0;
     for step in 1..=steps {
         // Now and then the inputs take new levels (on both sides alike).
@@ -198,10 +205,11 @@ fn agree(m: &Machine, generated: &mut dyn Stepper, seed: u64, steps: usize) -> u
         };
         calls += seen.reads.len();
 
-        let r = m.step_reading(state, EventId::from_index(event), &mut |i: InputId| {
-            reference.read(i.index())
-        });
-        state = r.to;
+        let r = m.step_config_reading(
+            &mut config,
+            EventId::from_index(event),
+            &mut |i: InputId| reference.read(i.index()),
+        );
         let high = r.outputs();
         let expected = Seen {
             reads: r.inputs_read.iter().map(|i| i.index()).collect(),
@@ -231,7 +239,7 @@ fn agree(m: &Machine, generated: &mut dyn Stepper, seed: u64, steps: usize) -> u
             m.events[event].name,
             m.states[r.from.index()].name
         );
-        assert_eq!(StateId::from_index(seen.state), state);
+        assert_eq!(StateId::from_index(seen.state), config.state);
     }
     calls
 }
@@ -298,5 +306,15 @@ fn inputs_read_on_some_paths_only_are_read_once() {
         include_str!("../specs/sampled_guards.detent"),
         || Box::new(sampled_table::Machine::new()),
         || Box::new(sampled_match::Machine::new()),
+    );
+}
+
+#[test]
+fn timeouts_test_due_first_and_read_each_input_once() {
+    both_styles(
+        "timed_sampled.detent",
+        include_str!("../specs/timed_sampled.detent"),
+        || Box::new(timed_table::Machine::new()),
+        || Box::new(timed_match::Machine::new()),
     );
 }

@@ -21,7 +21,7 @@ use detent_compiler::emit::js::to_js;
 use detent_compiler::interp::Outcome;
 use detent_compiler::model::{EventId, InputId, Machine};
 use detent_compiler::rng::Rng;
-use detent_tests::gen::{random_spec, GenConfig};
+use detent_tests::gen::{random_spec, random_timed_trace, GenConfig};
 use serde_json::{json, Value};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -47,18 +47,21 @@ struct Case {
 /// What the interpreter does on the case with flipping hooks, in the page's form.
 fn expected(c: &Case) -> Value {
     let m = &c.machine;
-    let mut state = m.start;
+    let mut config = m.start_config();
     let mut out = Vec::new();
     for (event, levels) in &c.steps {
         let mut levels = levels.clone();
         let mut calls = Vec::new();
-        let r = m.step_reading(state, EventId::from_index(*event), &mut |i: InputId| {
-            calls.push(i.index());
-            let v = levels[i.index()];
-            levels[i.index()] = !v;
-            v
-        });
-        state = r.to;
+        let r = m.step_config_reading(
+            &mut config,
+            EventId::from_index(*event),
+            &mut |i: InputId| {
+                calls.push(i.index());
+                let v = levels[i.index()];
+                levels[i.index()] = !v;
+                v
+            },
+        );
         let rule = match r.outcome {
             Outcome::Fired(rule) => json!(rule.index()),
             Outcome::Ignored | Outcome::Rejected => Value::Null,
@@ -70,6 +73,8 @@ fn expected(c: &Case) -> Value {
             "outputs": r.outputs().iter().map(|o| o.index()).collect::<Vec<_>>(),
             "actions": r.actions.iter().map(|a| a.index()).collect::<Vec<_>>(),
             "calls": calls,
+            "timers": config.timers,
+            "next": m.next_timeout(&config),
         }));
     }
     json!({ "steps": out, "reset": m.start.index() })
@@ -79,18 +84,21 @@ const RUNNER: &str = r#"
 window.detentResults = CASES.map(([sim, steps]) => {
   try {
     let state = sim.start;
+    let timers = [];
     const out = steps.map(([event, start]) => {
       const levels = start.slice();
       const calls = [];
       const read = (i) => { calls.push(i); const v = levels[i]; levels[i] = !v; return v; };
-      const r = sim.step(state, event, read);
+      const r = sim.step(state, event, read, timers);
       state = r.to;
+      timers = r.timers;
       return { to: r.to, rule: r.rule, rejected: r.rejected, outputs: r.outputs,
-               actions: r.actions, calls };
+               actions: r.actions, calls, timers: r.timers, next: r.nextTimeout };
     });
     const running = sim.create();
     for (const [event, start] of steps) running.step(event, (i) => start[i]);
     running.reset();
+    if (running.timers.some((t) => t !== 0)) throw new Error("reset kept a timer");
     return { steps: out, reset: running.state };
   } catch (e) {
     return { error: String(e && e.stack || e) };
@@ -237,6 +245,39 @@ fn simulator_agrees_with_the_interpreter_in_chromium() {
         }
     }
     run_cases(&cases, "js_differential");
+}
+
+/// Timed machines (issue 19): random specs with time bases and `after` rules in
+/// states and nested groups, guarded, to self and `stay`, clocked and event-driven,
+/// every policy, over traces of 300 steps where the time base is 70% of the events; at
+/// every step the timers and `nextTimeout` must equal the interpreter's too.
+#[test]
+fn timed_simulator_agrees_with_the_interpreter_in_chromium() {
+    let mut rng = Rng::new(0x5eed_0019);
+    let mut cases = Vec::new();
+    let policies = [None, Some("ignore"), Some("reject")];
+    for seed in 0..60u64 {
+        let cfg = GenConfig {
+            events: [0usize, 3, 5][seed as usize % 3],
+            policy: policies[(seed / 3) as usize % 3],
+            timeouts: true,
+            ..GenConfig::default()
+        };
+        let text = random_spec(9000 + seed, &cfg);
+        for m in machines_of(&format!("Timed{seed}"), &text) {
+            if !m.has_timers() {
+                continue;
+            }
+            let steps = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.7);
+            cases.push(Case {
+                label: format!("Timed{seed} ({cfg:?})"),
+                machine: m,
+                steps,
+            });
+        }
+    }
+    assert!(cases.len() >= 40, "{} timed machines", cases.len());
+    run_cases(&cases, "js_timed");
 }
 
 /// The comparison fails when the simulator differs: a simulator with one rule's target

@@ -291,3 +291,58 @@ fn the_interpreter_reads_each_input_once_on_the_examples() {
         }
     }
 }
+
+/// Timed machines (issue 19): on random machines with timeouts and traces where the
+/// time base is most events, the interpreter reads each input at most once per step
+/// through hostile hooks (each further call flips), and the step it takes, with the
+/// timers after it, is the one friendly inputs give: due tests read nothing.
+#[test]
+fn the_interpreter_reads_each_input_once_on_timed_machines() {
+    let mut steps = 0usize;
+    let mut timeouts = 0usize;
+    for seed in 0..80u64 {
+        let cfg = detent_tests::gen::GenConfig {
+            events: [0usize, 3, 4][seed as usize % 3],
+            timeouts: true,
+            ..detent_tests::gen::GenConfig::default()
+        };
+        let text = detent_tests::gen::random_spec(7000 + seed, &cfg);
+        let report = check_source("timed.detent", &text);
+        let Some(m) = report.machines.into_iter().find_map(|r| r.machine) else {
+            continue;
+        };
+        let mut rng = Rng::new(seed);
+        let trace = detent_tests::gen::random_timed_trace(
+            &mut rng,
+            m.events.len(),
+            m.inputs.len(),
+            300,
+            0.7,
+        );
+        let mut hostile_config = m.start_config();
+        let mut friendly_config = m.start_config();
+        for (e, inputs) in &trace {
+            let e = EventId::from_index(*e);
+            let mut calls = vec![0u32; m.inputs.len()];
+            let r = m.step_config_reading(&mut hostile_config, e, &mut |i| {
+                calls[i.index()] += 1;
+                inputs[i.index()] ^ (calls[i.index()] > 1)
+            });
+            assert!(calls.iter().all(|&c| c <= 1), "an input read twice\n{text}");
+            let friendly = m.step_config(&mut friendly_config, e, inputs);
+            assert_eq!(r, friendly, "a hostile source changed the step\n{text}");
+            assert_eq!(hostile_config, friendly_config);
+            steps += 1;
+            timeouts += usize::from(r.rule().is_some_and(|rule| {
+                matches!(
+                    m.rules[rule.index()].trigger,
+                    detent_compiler::model::Trigger::After(_)
+                )
+            }));
+        }
+    }
+    assert!(
+        timeouts * 20 > steps,
+        "{timeouts} timeouts in {steps} steps"
+    );
+}

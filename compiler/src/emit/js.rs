@@ -22,21 +22,33 @@
 //! policy                                           "complete" | "ignore" | "reject"
 //! clocked                                          true for a clocked machine
 //! moore(state)                                     its Moore outputs, ascending
-//! step(state, event, read)                         one step; `read(i)` is input i's hook
-//! create()                                         { state, step(event, read), reset() }
+//! step(state, event, read, timers)                 one step; `read(i)` is input i's hook
+//! timers, timeBase                                 the timers ({scope, durations, max,
+//!                                                  states}) and the time-base event
+//! nextTimeout(state, timers)                       time-base events to the next timeout
+//! create()                                         { state, timers, step(event, read),
+//!                                                    reset() }
 //! ```
+//!
+//! Timers follow the interpreter ([`crate::interp::Machine::step_config`]): on the
+//! time-base event each timer of the state's scopes adds one first (stopping at its
+//! largest duration), a timeout choice is due when its timer was at its duration minus
+//! one before that, and a choice that fires sets the timers of the scopes it enters and
+//! leaves to 0 ([`crate::emit::timers::zeroed_timers`]).
 //!
 //! `step` returns `{from, event, to, rule, handled, rejected, mealy, moore, outputs,
 //! actions, reads, values}`: `rule` is the rule's number (`null` when none fired),
 //! `outputs` the Moore and Mealy outputs together, ascending, `reads` the inputs read in
 //! the order they were read, `values` the value each input had in the step (`null`:
-//! not read). A state or event out of range throws a `RangeError`. `create().reset()`
+//! not read), `timers` the timers after the step and `nextTimeout` what
+//! `nextTimeout` says after it. A state or event out of range throws a `RangeError`. `create().reset()`
 //! restarts at the start state without running any action, as the generated code's
 //! constructor does.
 //!
 //! The text is deterministic and self-contained (no import, no network), so that the
 //! page of `detent view -o` can inline it. Cost: linear in the size of the lowered form.
 
+use crate::emit::timers::{scope_name, timer_states, zeroed_timers};
 use crate::model::lower::{CellEvents, Choice, Lowered};
 use crate::model::{Guard, Machine};
 use crate::syntax::ast::Policy;
@@ -117,11 +129,11 @@ fn atom(g: &Guard) -> String {
     }
 }
 
-fn choice_return(m: &Machine, c: &Choice) -> String {
+fn choice_return(m: &Machine, c: &Choice, zero: usize) -> String {
     let target = &m.states[c.target.index()].name;
     let how = if c.moves { "=>" } else { "stay in" };
     format!(
-        "return [{}, {}, {}, {}]; // rule {} {how} {target}",
+        "return [{}, {}, {}, {}, {zero}]; // rule {} {how} {target}",
         c.rule.index(),
         c.target.index(),
         c.mealy.index(),
@@ -198,10 +210,48 @@ pub fn to_js(m: &Machine) -> String {
         moore.join(", ")
     );
 
+    // Timers: what each counts, the states where it counts, and the sets of timers a
+    // choice sets to 0 (interned; 0: none).
+    let mut zero_sets: Vec<Vec<usize>> = vec![Vec::new()];
+    let timers: Vec<String> = (0..m.timers.len())
+        .map(|k| {
+            let t = crate::model::TimerId::from_index(k);
+            let durations: Vec<String> =
+                m.timers[k].durations.iter().map(u32::to_string).collect();
+            let states: Vec<String> = timer_states(m, t)
+                .iter()
+                .map(|s| s.index().to_string())
+                .collect();
+            format!(
+                "Object.freeze({{ scope: {}, durations: Object.freeze([{}]), max: {}, states: Object.freeze([{}]) }})",
+                js_string(scope_name(m, m.timers[k].scope)),
+                durations.join(", "),
+                m.timers[k].max(),
+                states.join(", ")
+            )
+        })
+        .collect();
+    let _ = writeln!(
+        js,
+        "// The timers: per scope with `after` rules, its durations (ticks, ascending), the\n\
+         // value it stops at, and the states where it counts.\nconst TIMERS = Object.freeze([{}]);",
+        timers.join(", ")
+    );
+    let tb = m
+        .timebase
+        .as_ref()
+        .filter(|_| m.has_timers())
+        .map_or("null".to_string(), |t| t.event.index().to_string());
+    let _ = writeln!(
+        js,
+        "// The time-base event (null: no timers).\nconst TIME_BASE = {tb};"
+    );
+
     js.push_str(
-        "\n// The choice that fires: [rule, target, mealy set, sequence], or null when no\n\
-         // rule handles the step. The first choice whose test holds fires.\n\
-         function choose(state, event, inp) {\n  switch (state) {\n",
+        "\n// The choice that fires: [rule, target, mealy set, sequence, timers set to 0], or\n\
+         // null when no rule handles the step. The first choice whose due timeout (if any,\n\
+         // `before` holds the timers before this event) and then test hold fires.\n\
+         function choose(state, event, inp, before) {\n  switch (state) {\n",
     );
     for (si, st) in m.states.iter().enumerate() {
         let _ = writeln!(js, "    case {si}: // {}", st.name.replace('\n', " "));
@@ -224,21 +274,36 @@ pub fn to_js(m: &Machine) -> String {
                 }
             }
             for c in &cell.choices {
-                match &c.test {
+                let zeroed: Vec<usize> = zeroed_timers(m, c).iter().map(|t| t.index()).collect();
+                let zero = match zero_sets.iter().position(|z| *z == zeroed) {
+                    Some(k) => k,
                     None => {
-                        let _ = writeln!(js, "          {}", choice_return(m, c));
+                        zero_sets.push(zeroed);
+                        zero_sets.len() - 1
                     }
-                    Some(t) => {
-                        let _ = writeln!(
-                            js,
-                            "          if ({}) {}",
-                            test_text(t),
-                            choice_return(m, c)
-                        );
+                };
+                let due = c
+                    .due
+                    .map(|(t, d)| format!("before[{}] === {}", t.index(), d.saturating_sub(1)));
+                let cond = match (due, &c.test) {
+                    (None, None) => None,
+                    (Some(d), None) => Some(d),
+                    (None, Some(t)) => Some(test_text(t)),
+                    (Some(d), Some(t)) => Some(format!("{d} && {}", atom(t))),
+                };
+                match cond {
+                    None => {
+                        let _ = writeln!(js, "          {}", choice_return(m, c, zero));
+                    }
+                    Some(cond) => {
+                        let _ = writeln!(js, "          if ({cond}) {}", choice_return(m, c, zero));
                     }
                 }
             }
-            let covered = cell.choices.last().is_some_and(|c| c.test.is_none());
+            let covered = cell
+                .choices
+                .last()
+                .is_some_and(|c| c.test.is_none() && c.due.is_none());
             if !covered {
                 js.push_str("          return null;\n");
             }
@@ -249,6 +314,11 @@ pub fn to_js(m: &Machine) -> String {
         js.push_str("      }\n");
     }
     js.push_str("  }\n  return null;\n}\n");
+    let _ = writeln!(
+        js,
+        "// The sets of timers a choice sets to 0: those of the scopes it enters and leaves.\nconst ZERO_SETS = {};",
+        number_table(zero_sets.into_iter())
+    );
 
     js.push_str(
         r#"
@@ -278,27 +348,53 @@ function check(what, n, count) {
   }
 }
 
-// One step from `state` on `event`; `read(i)` is the hook of input i.
-function step(state, event, read) {
+// The time-base events until a timeout of `state` comes due (guards aside), given
+// its timers; null when none is pending.
+function nextTimeout(state, timers) {
+  check("state", state, STATES.length);
+  let next = null;
+  TIMERS.forEach((t, k) => {
+    if (!t.states.includes(state)) return;
+    const v = timers[k];
+    const d = t.durations.find((x) => x > v);
+    if (d !== undefined && (next === null || d - v < next)) next = d - v;
+  });
+  return next;
+}
+
+// One step from `state` on `event` with `timers` (one count per timer, all 0 when left
+// out); `read(i)` is the hook of input i. On the time-base event each timer of the
+// state's scopes first adds one, stopping at its largest duration; the result holds
+// the timers after the step.
+function step(state, event, read, timers) {
   check("state", state, STATES.length);
   check("event", event, EVENTS.length);
+  const before = TIMERS.map((_, k) => (timers && timers[k]) || 0);
+  const after = before.slice();
+  if (event === TIME_BASE) {
+    TIMERS.forEach((t, k) => {
+      if (t.states.includes(state)) after[k] = Math.min(before[k] + 1, t.max);
+    });
+  }
   const s = sampler(read);
-  const c = choose(state, event, s.inp);
+  const c = choose(state, event, s.inp, before);
   if (c === null) {
     const moore = OUT_SETS[MOORE[state]].slice();
     return {
       from: state, event, to: state, rule: null, handled: false,
       rejected: POLICY === "reject", mealy: [], moore, outputs: moore.slice(),
-      actions: [], reads: s.reads, values: s.values,
+      actions: [], reads: s.reads, values: s.values, timers: after,
+      nextTimeout: nextTimeout(state, after),
     };
   }
-  const [rule, to, mealySet, seq] = c;
+  const [rule, to, mealySet, seq, zero] = c;
+  for (const k of ZERO_SETS[zero]) after[k] = 0;
   const mealy = OUT_SETS[mealySet].slice();
   const moore = OUT_SETS[MOORE[to]].slice();
   return {
     from: state, event, to, rule, handled: true, rejected: false, mealy, moore,
     outputs: union(moore, mealy), actions: SEQS[seq].slice(), reads: s.reads,
-    values: s.values,
+    values: s.values, timers: after, nextTimeout: nextTimeout(to, after),
   };
 }
 
@@ -306,13 +402,16 @@ function step(state, event, read) {
 function create() {
   const sim = {
     state: START,
+    timers: TIMERS.map(() => 0),
     step(event, read) {
-      const r = step(sim.state, event, read);
+      const r = step(sim.state, event, read, sim.timers);
       sim.state = r.to;
+      sim.timers = r.timers;
       return r;
     },
     reset() {
       sim.state = START;
+      sim.timers = TIMERS.map(() => 0);
     },
   };
   return sim;
@@ -325,7 +424,7 @@ function create() {
         "return Object.freeze({{\n  name: NAME, states: STATES, events: EVENTS, inputs: INPUTS,\n  \
          outputs: OUTPUTS, actions: ACTIONS, start: START, policy: POLICY, clocked: {},\n  \
          moore: (state) => {{ check(\"state\", state, STATES.length); return OUT_SETS[MOORE[state]].slice(); }},\n  \
-         step, create,\n}});\n}})()",
+         timers: TIMERS, timeBase: TIME_BASE, nextTimeout, step, create,\n}});\n}})()",
         m.clocked
     );
     js

@@ -11,3 +11,4 @@ pub mod js;
 pub mod page;
 pub mod rust;
 pub mod svg;
+pub mod timers;

@@ -108,9 +108,20 @@ pub(super) fn header(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     };
     let _ = writeln!(
         h,
-        "/** A running machine: the current state number, nothing else. It may be stored\n    (for example in flash) and written back; `{p}_step` rejects a value that is\n    not a state. */"
+        "/** A running machine: the current state number (and its timers, when it has\n    timeouts). It may be stored (for example in flash) and written back; `{p}_step`\n    rejects a value that is not a state. */"
     );
-    let _ = writeln!(h, "struct {p}_machine {{\n    /** The current state (`enum {p}_state`). */\n    {st_ty} state;\n}};\n");
+    let _ = write!(h, "struct {p}_machine {{\n    /** The current state (`enum {p}_state`). */\n    {st_ty} state;\n");
+    for (k, f) in n.timers.iter().enumerate() {
+        let ty = super::tables::uint_for(u64::from(m.timers[k].max())).0;
+        let text = format!(
+            "{} A stored value above the longest timeout reads as the longest timeout.",
+            crate::emit::timers::timer_doc(m, crate::model::TimerId::from_index(k))
+        );
+        let doc: Vec<String> = wrap(&text, "\n").lines().map(str::to_string).collect();
+        doc_block(&mut h, "    ", &doc);
+        let _ = writeln!(h, "    {ty} {f};");
+    }
+    let _ = writeln!(h, "}};\n");
 
     // Functions.
     let start_name = &n.states[m.start.index()];
@@ -154,6 +165,16 @@ pub(super) fn header(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         h,
         "int {p}_step(struct {p}_machine *m, enum {p}_event ev,\n    const struct {p}_hooks *hooks, void *ctx, struct {p}_outputs *out);\n"
     );
+    if m.has_timers() {
+        let _ = writeln!(
+            h,
+            "/** The number of time-base events after which a timeout of the current state or\n    its groups comes due (its guard aside), so that a tickless host may sleep until\n    then; 0 when none is pending (or `m` is NULL or its state corrupt). */"
+        );
+        let _ = writeln!(
+            h,
+            "uint32_t {p}_next_timeout(const struct {p}_machine *m);\n"
+        );
+    }
     let _ = writeln!(
         h,
         "/** The state's name as in the spec, or \"?\" when `s` is not a state. */"

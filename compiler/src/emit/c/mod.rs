@@ -109,6 +109,12 @@ pub fn table_sizes(m: &Machine) -> TableSizes {
     if l.has_guards() {
         bytes += t_rows * l.guard_ty.1;
     }
+    if l.has_zero() {
+        bytes += t_rows * l.zero_ty.1;
+    }
+    if m.has_timers() {
+        bytes += s * m.timers.len().div_ceil(8);
+    }
     bytes += row.max(1) + s * row;
     if l.has_mealy() {
         bytes += t_rows * row;

@@ -166,6 +166,8 @@ pub struct CNames {
     pub inputs: Vec<String>,
     /// Action members of `struct <p>_hooks`.
     pub actions: Vec<String>,
+    /// Timer members of `struct <p>_machine` (`timer_<scope>`).
+    pub timers: Vec<String>,
 }
 
 impl CNames {
@@ -212,6 +214,10 @@ impl CNames {
             outputs,
             inputs,
             actions,
+            timers: crate::emit::timers::timer_names(m)
+                .iter()
+                .map(|n| format!("timer_{}", c_ident(n)))
+                .collect(),
         }
     }
 }

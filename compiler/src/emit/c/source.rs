@@ -2,7 +2,7 @@
 //! arrays, the input sampler, the guard and action switches, and `step`.
 
 use super::names::CNames;
-use super::tables::{uint_for, Layout};
+use super::tables::{uint_for, Layout, Test};
 use super::text::{banner, c_string, comment_text, number_rows};
 use crate::model::{Guard, Machine};
 use std::fmt::Write;
@@ -15,6 +15,21 @@ fn guard_c(g: &Guard, p: &str) -> String {
         Guard::Not(a) => format!("!{}", guard_c(a, p)),
         Guard::And(a, b) => format!("({} && {})", guard_c(a, p), guard_c(b, p)),
         Guard::Or(a, b) => format!("({} || {})", guard_c(a, p), guard_c(b, p)),
+    }
+}
+
+/// A transition's test in C: the due timeout first (it reads no input: `before[k]` is
+/// timer `k` before this time-base event, clamped to its largest duration), then the
+/// guard.
+fn test_c(t: &Test, p: &str) -> String {
+    let due = t
+        .due
+        .map(|(timer, d)| format!("before[{}u] == {}u", timer.index(), d.saturating_sub(1)));
+    match (due, &t.guard) {
+        (Some(d), Some(g)) => format!("{d} && {}", guard_c(g, p)),
+        (Some(d), None) => d,
+        (None, Some(g)) => guard_c(g, p),
+        (None, None) => "true".into(),
     }
 }
 
@@ -62,6 +77,41 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
             c,
             "/* The machine has no transitions; one unused row keeps the arrays non-empty. */"
         );
+    }
+    let timed = m.has_timers();
+    let n_timers = m.timers.len();
+    let active_bytes = n_timers.div_ceil(8);
+    if timed {
+        let _ = writeln!(
+            c,
+            "/* The timers that count in each state (its own and its groups'): bit k % 8 of\n   byte k / 8 is timer k. */\nstatic const uint8_t {p}_active_[{s_count}][{active_bytes}] = {{"
+        );
+        for si in 0..s_count {
+            let on = m.chain_timers(crate::model::StateId::from_index(si));
+            let mut bytes = vec![0u8; active_bytes];
+            for t in on {
+                bytes[t.index() / 8] |= 1 << (t.index() % 8);
+            }
+            let cells: Vec<String> = bytes.iter().map(|b| format!("0x{b:x}u")).collect();
+            let _ = writeln!(
+                c,
+                "    {{ {} }}, /* {} */",
+                cells.join(", "),
+                comment_text(&m.states[si].name)
+            );
+        }
+        let _ = writeln!(c, "}};\n");
+    }
+    if l.has_zero() {
+        let mut vals: Vec<u64> = l.trans.iter().map(|t| t.zero as u64).collect();
+        vals.resize(t_rows, 0);
+        let _ = writeln!(
+            c,
+            "/* Per transition: the set of timers it sets to 0 (0: none, see {p}_reset_timers_). */\nstatic const {} {p}_resets_[{t_rows}] = {{",
+            l.zero_ty.0
+        );
+        number_rows(&mut c, &vals, false);
+        let _ = writeln!(c, "}};\n");
     }
     if l.has_guards() {
         let mut vals: Vec<u64> = l.trans.iter().map(|t| t.guard as u64).collect();
@@ -224,16 +274,24 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         } else {
             String::new()
         };
+        let before_param = if timed {
+            "const uint32_t *before, "
+        } else {
+            ""
+        };
         let _ = writeln!(
             c,
-            "static bool {p}_guard_holds_(unsigned int g, {in_param}const struct {p}_hooks *hooks,\n    void *ctx)\n{{"
+            "static bool {p}_guard_holds_(unsigned int g, {before_param}{in_param}const struct {p}_hooks *hooks,\n    void *ctx)\n{{"
         );
         if !used_inputs {
             let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
         }
+        if timed && !l.guards.iter().any(|g| g.due.is_some()) {
+            let _ = writeln!(c, "    (void)before;");
+        }
         let _ = writeln!(c, "    switch (g) {{");
         for (i, g) in l.guards.iter().enumerate() {
-            let _ = writeln!(c, "    case {}u:\n        return {};", i + 1, guard_c(g, p));
+            let _ = writeln!(c, "    case {}u:\n        return {};", i + 1, test_c(g, p));
         }
         let _ = writeln!(c, "    default:\n        return true;\n    }}\n}}\n");
     }
@@ -249,6 +307,20 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
                     "    case {i}u:\n        hooks->{cname}(ctx);\n        break;"
                 );
             }
+        }
+        let _ = writeln!(c, "    default:\n        break;\n    }}\n}}\n");
+    }
+    if l.has_zero() {
+        let _ = writeln!(
+            c,
+            "/* Sets the timers of set `z` to 0 (0: none): those of the scopes a transition\n   enters, which restart, and of those it leaves. */\nstatic void {p}_reset_timers_(struct {p}_machine *m, unsigned int z)\n{{\n    switch (z) {{"
+        );
+        for (k, set) in l.zero_sets.iter().enumerate() {
+            let _ = writeln!(c, "    case {}u:", k + 1);
+            for t in set {
+                let _ = writeln!(c, "        m->{} = 0u;", n.timers[t.index()]);
+            }
+            let _ = writeln!(c, "        break;");
         }
         let _ = writeln!(c, "    default:\n        break;\n    }}\n}}\n");
     }
@@ -284,9 +356,43 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     };
     let _ = writeln!(
         c,
-        "void {p}_init(struct {p}_machine *m)\n{{\n    if (m != NULL) {{\n        m->state = ({st_ty}){};\n    }}\n}}\n",
+        "void {p}_init(struct {p}_machine *m)\n{{\n    if (m != NULL) {{\n        m->state = ({st_ty}){};",
         n.states[m.start.index()]
     );
+    for f in &n.timers {
+        let _ = writeln!(c, "        m->{f} = 0u;");
+    }
+    let _ = writeln!(c, "    }}\n}}\n");
+    if timed {
+        let _ = writeln!(
+            c,
+            "/* The sooner of two counts of time-base events, 0 meaning none. */\nstatic uint32_t {p}_sooner_(uint32_t a, uint32_t b)\n{{\n    return (a == 0u || b < a) ? b : a;\n}}\n"
+        );
+        let _ = writeln!(
+            c,
+            "uint32_t {p}_next_timeout(const struct {p}_machine *m)\n{{\n    uint32_t next = 0u;\n    uint32_t v;\n    unsigned int s;\n    if (m == NULL || (unsigned int)m->state >= (unsigned int){up}_STATE_COUNT) {{\n        return 0u;\n    }}\n    s = (unsigned int)m->state;"
+        );
+        for (k, timer) in m.timers.iter().enumerate() {
+            let _ = writeln!(
+                c,
+                "    if (({p}_active_[s][{}] & 0x{:x}u) != 0u) {{\n        v = (uint32_t)m->{};",
+                k / 8,
+                1u32 << (k % 8),
+                n.timers[k]
+            );
+            let mut first = true;
+            for &d in &timer.durations {
+                let kw = if first { "        if" } else { " else if" };
+                first = false;
+                let _ = write!(
+                    c,
+                    "{kw} (v < {d}u) {{\n            next = {p}_sooner_(next, {d}u - v);\n        }}"
+                );
+            }
+            let _ = writeln!(c, "\n    }}");
+        }
+        let _ = writeln!(c, "    return next;\n}}\n");
+    }
     let zero = format!("{p}_zero_");
     let moore_row = |s: &str| {
         if w > 0 {
@@ -309,6 +415,9 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     if used_inputs {
         let _ = writeln!(c, "    struct {p}_inputs_ in;");
     }
+    if timed {
+        let _ = writeln!(c, "    uint32_t before[{n_timers}];");
+    }
     let _ = writeln!(
         c,
         "    if (out == NULL) {{\n        return -1;\n    }}\n    {p}_put_outputs_({zero}, {zero}, out);\n    if (m == NULL || (unsigned int)ev >= (unsigned int){up}_EVENT_COUNT\n        || (unsigned int)m->state >= (unsigned int){up}_STATE_COUNT) {{\n        return -1;\n    }}"
@@ -321,12 +430,49 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     } else {
         let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
     }
+    let _ = writeln!(c, "    s = (unsigned int)m->state;");
+    if timed {
+        let _ = writeln!(
+            c,
+            "    /* The timers before this event, a stored value above a timer's largest\n       duration (a corrupt byte) read as that duration. */"
+        );
+        for (k, timer) in m.timers.iter().enumerate() {
+            let max = timer.max();
+            let f = &n.timers[k];
+            let _ = writeln!(
+                c,
+                "    before[{k}] = (uint32_t)m->{f} > {max}u ? {max}u : (uint32_t)m->{f};"
+            );
+        }
+        let tb = m.timebase.as_ref().map_or(0, |t| t.event.index());
+        let _ = writeln!(
+            c,
+            "    /* The time-base event: each timer of the state's scopes adds one, stopping at\n       its largest duration. */\n    if ((unsigned int)ev == {tb}u) {{"
+        );
+        for (k, timer) in m.timers.iter().enumerate() {
+            let max = timer.max();
+            let f = &n.timers[k];
+            let ty = uint_for(u64::from(max)).0;
+            let _ = writeln!(
+                c,
+                "        if (({p}_active_[s][{}] & 0x{:x}u) != 0u) {{\n            m->{f} = ({ty})(before[{k}] < {max}u ? before[{k}] + 1u : {max}u);\n        }}",
+                k / 8,
+                1u32 << (k % 8),
+            );
+        }
+        let _ = writeln!(c, "    }}");
+    }
     let _ = writeln!(
         c,
-        "    s = (unsigned int)m->state;\n    r = (unsigned int){p}_cell_[s][(unsigned int)ev];\n    t = (unsigned int){p}_range_[r];\n    t_end = (unsigned int){p}_range_[r + 1u];"
+        "    r = (unsigned int){p}_cell_[s][(unsigned int)ev];\n    t = (unsigned int){p}_range_[r];\n    t_end = (unsigned int){p}_range_[r + 1u];"
     );
     if l.has_guards() {
         let in_arg = if used_inputs { "&in, " } else { "" };
+        let in_arg = if timed {
+            format!("before, {in_arg}")
+        } else {
+            in_arg.to_string()
+        };
         if used_inputs {
             let _ = writeln!(c, "    in.known = 0u;\n    in.value = 0u;");
         }
@@ -346,9 +492,14 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
             "    {{\n        const unsigned int q = (unsigned int){p}_seq_[t];\n        unsigned int a;\n        for (a = (unsigned int){p}_seq_start_[q]; a < (unsigned int){p}_seq_start_[q + 1u]; ++a) {{\n            {p}_run_action_((unsigned int){p}_act_[a], hooks, ctx);\n        }}\n    }}"
         );
     }
+    let zero_call = if l.has_zero() {
+        format!("\n    {p}_reset_timers_(m, (unsigned int){p}_resets_[t]);")
+    } else {
+        String::new()
+    };
     let _ = writeln!(
         c,
-        "    m->state = ({st_ty}){p}_target_[t];\n    {p}_put_outputs_({}, {}, out);\n    return 0;\n}}\n",
+        "    m->state = ({st_ty}){p}_target_[t];{zero_call}\n    {p}_put_outputs_({}, {}, out);\n    return 0;\n}}\n",
         moore_row(&format!("{p}_target_[t]")),
         mealy_row("t")
     );

@@ -7,9 +7,10 @@
 //! whose guard holds, which is [`crate::model::lower::Lowered::choose`], and reads each
 //! input at most once through its sampler, as `choose` does.
 
+use crate::emit::timers::zeroed_timers;
 use crate::fxhash::FxMap;
 use crate::model::lower::{OutSetId, SeqId};
-use crate::model::{ActionId, EventId, Guard, Machine, OutputId, StateId};
+use crate::model::{ActionId, EventId, Guard, Machine, OutputId, StateId, TimerId};
 
 /// One transition: a choice of the lowered form as one cell has it.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
@@ -21,6 +22,16 @@ pub(super) struct Trans {
     pub mealy: Vec<u64>,
     /// Index into the used sequences (`seq_start`).
     pub seq: usize,
+    /// The set of timers it sets to 0: 0 none, `z > 0` is `zero_sets[z - 1]`.
+    pub zero: usize,
+}
+
+/// What a transition tests: the timeout that must be due (timer, duration in ticks),
+/// then the folded guard; each `None` when there is none.
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+pub(super) struct Test {
+    pub due: Option<(TimerId, u32)>,
+    pub guard: Option<Guard>,
 }
 
 /// The tables, computed once and printed by the header and source writers.
@@ -30,8 +41,10 @@ pub(super) struct Layout {
     /// First transition of each range, plus the end.
     pub range_start: Vec<usize>,
     pub trans: Vec<Trans>,
-    /// Distinct guards; guard id `g > 0` is `guards[g - 1]`.
-    pub guards: Vec<Guard>,
+    /// Distinct tests; guard id `g > 0` is `guards[g - 1]`.
+    pub guards: Vec<Test>,
+    /// Distinct non-empty sets of timers a transition sets to 0, ascending each.
+    pub zero_sets: Vec<Vec<TimerId>>,
     /// First action entry of each used sequence, plus the end; sequence 0 is empty.
     pub seq_start: Vec<usize>,
     pub act_list: Vec<ActionId>,
@@ -53,6 +66,7 @@ pub(super) struct Layout {
     pub seq_ty: (&'static str, usize),
     pub seq_start_ty: (&'static str, usize),
     pub action_ty: (&'static str, usize),
+    pub zero_ty: (&'static str, usize),
 }
 
 /// The narrowest C unsigned type holding `max`, and its size in bytes.
@@ -88,8 +102,10 @@ impl Layout {
             words
         };
         let mut mealy_masks: FxMap<OutSetId, Vec<u64>> = FxMap::default();
-        let mut guard_ids: FxMap<Guard, usize> = FxMap::default();
-        let mut guards: Vec<Guard> = Vec::new();
+        let mut guard_ids: FxMap<Test, usize> = FxMap::default();
+        let mut guards: Vec<Test> = Vec::new();
+        let mut zero_ids: FxMap<Vec<TimerId>, usize> = FxMap::default();
+        let mut zero_sets: Vec<Vec<TimerId>> = Vec::new();
         // Used sequences: index 0 is the empty one.
         let mut seq_index: FxMap<SeqId, usize> = FxMap::default();
         seq_index.insert(SeqId::EMPTY, 0);
@@ -115,17 +131,33 @@ impl Layout {
                 let c = lowered.cell(id);
                 let mut list = Vec::with_capacity(c.choices.len());
                 for ch in &c.choices {
-                    let guard = match &ch.test {
-                        None => 0,
-                        Some(g) => {
+                    let guard = if ch.test.is_none() && ch.due.is_none() {
+                        0
+                    } else {
+                        if let Some(g) = &ch.test {
                             mark_inputs(g, &mut inputs_used);
-                            let next = guards.len() + 1;
-                            let gid = *guard_ids.entry(g.clone()).or_insert(next);
-                            if gid == next {
-                                guards.push(g.clone());
-                            }
-                            gid
                         }
+                        let test = Test {
+                            due: ch.due,
+                            guard: ch.test.clone(),
+                        };
+                        let next = guards.len() + 1;
+                        let gid = *guard_ids.entry(test.clone()).or_insert(next);
+                        if gid == next {
+                            guards.push(test);
+                        }
+                        gid
+                    };
+                    let zeroed = zeroed_timers(m, ch);
+                    let zero = if zeroed.is_empty() {
+                        0
+                    } else {
+                        let next = zero_sets.len() + 1;
+                        let z = *zero_ids.entry(zeroed.clone()).or_insert(next);
+                        if z == next {
+                            zero_sets.push(zeroed);
+                        }
+                        z
                     };
                     let next = seq_start.len() - 1;
                     let seq = *seq_index.entry(ch.ops).or_insert(next);
@@ -145,6 +177,7 @@ impl Layout {
                         target: ch.target,
                         mealy,
                         seq,
+                        zero,
                     });
                 }
                 let r = if list.is_empty() {
@@ -176,9 +209,11 @@ impl Layout {
             seq_ty: uint_for(n_seqs.saturating_sub(1) as u64),
             seq_start_ty: uint_for(act_list.len() as u64),
             action_ty: uint_for(m.actions.len().saturating_sub(1) as u64),
+            zero_ty: uint_for(zero_sets.len() as u64),
             range_start,
             trans,
             guards,
+            zero_sets,
             seq_start,
             act_list,
             moore,
@@ -196,6 +231,11 @@ impl Layout {
 
     pub fn has_guards(&self) -> bool {
         !self.guards.is_empty()
+    }
+
+    /// Whether some transition sets timers to 0.
+    pub fn has_zero(&self) -> bool {
+        !self.zero_sets.is_empty()
     }
 
     pub fn needs_hooks(&self) -> bool {

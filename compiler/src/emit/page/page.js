@@ -52,6 +52,7 @@
   let history = [];
   let results = [];
   let state = SIM.start;
+  let timers = SIM.timers.map(() => 0);
   let pending = []; // replay steps not yet taken
   let replayTotal = 0;
 
@@ -62,10 +63,11 @@
   };
 
   function doStep(event, inputs, replayed) {
-    const r = SIM.step(state, event, (i) => inputs[i]);
+    const r = SIM.step(state, event, (i) => inputs[i], timers);
     history.push({ event, inputs: inputs.slice(), replayed: !!replayed });
     results.push(r);
     state = r.to;
+    timers = r.timers;
   }
 
   function back() {
@@ -79,6 +81,7 @@
     history = [];
     results = [];
     state = SIM.start;
+    timers = SIM.timers.map(() => 0);
   }
 
   // ---- controls -----------------------------------------------------------------
@@ -164,6 +167,19 @@
     const acts = $("last-actions");
     acts.replaceChildren(...(last ? last.actions.map((a) => text("li", SIM.actions[a])) : []));
     if (!last || last.actions.length === 0) acts.replaceChildren(text("li", "(none)", "none"));
+    // Timers: the value of each timer that counts in the current state, and how many
+    // time-base events until the next timeout.
+    if (SIM.timers.length > 0) {
+      $("timers-heading").hidden = false;
+      $("timers").hidden = false;
+      const items = SIM.timers
+        .map((t, k) => [t, k])
+        .filter(([t]) => t.states.includes(state))
+        .map(([t, k]) => text("li", `${t.scope}: ${timers[k]} of ${t.max}`));
+      const next = SIM.nextTimeout(state, timers);
+      items.push(text("li", next === null ? "no timeout pending" : `next timeout in ${next} ${SIM.events[SIM.timeBase]}`));
+      $("timers").replaceChildren(...items);
+    }
     const tr = $("trace");
     tr.replaceChildren(...results.map((r, n) => {
       const li = text("li", lineOf(r, n));

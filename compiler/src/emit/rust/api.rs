@@ -99,14 +99,21 @@ impl Gen<'_> {
         } else {
             quote!()
         };
-        let machine_doc = doc_text(&format!(
-            "The `{name}` machine: its current state, {} of RAM.",
-            if m.states.len() <= 256 {
-                "one byte"
-            } else {
-                "two bytes"
-            }
-        ));
+        let state_bytes = if m.states.len() <= 256 {
+            "one byte"
+        } else {
+            "two bytes"
+        };
+        let machine_doc = doc_text(&if self.timed() {
+            format!(
+                "The `{name}` machine: its current state ({state_bytes}) and its timers \
+                 (`Timers`)."
+            )
+        } else {
+            format!("The `{name}` machine: its current state, {state_bytes} of RAM.")
+        });
+        let timers_struct = self.timers_struct();
+        let timers_field = self.timer_slots();
         quote! {
             ::detent::__derive_extras! {
                 #state_doc
@@ -134,7 +141,10 @@ impl Gen<'_> {
                 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
                 pub struct Machine {
                     state: State,
+                    #timers_field
                 }
+
+                #timers_struct
             }
 
             impl State {
@@ -261,6 +271,15 @@ impl Gen<'_> {
         } else {
             quote!(Machine::restore(raw))
         };
+        let timers_init = self.timers_zero();
+        let restore_doc = if self.timed() {
+            quote! {
+                ///
+                /// Every timer starts at 0, as if the state had just been entered.
+            }
+        } else {
+            quote!()
+        };
         quote! {
             impl Machine {
                 /// The start state.
@@ -269,7 +288,7 @@ impl Gen<'_> {
                 #start_doc
                 #[must_use]
                 pub const fn new() -> Self {
-                    Machine { state: #start }
+                    Machine { state: #start #timers_init }
                 }
 
                 /// The current state.
@@ -281,13 +300,14 @@ impl Gen<'_> {
 
                 /// A machine in the state numbered `raw` (for instance read back from
                 /// flash).
+                #restore_doc
                 ///
                 /// # Errors
                 ///
                 #restore_errors
                 pub fn restore(raw: #state_ty) -> Result<Self, ::detent::InvalidState> {
                     match State::from_raw(raw) {
-                        Some(state) => Ok(Machine { state }),
+                        Some(state) => Ok(Machine { state #timers_init }),
                         None => Err(::detent::InvalidState { #invalid_fields }),
                     }
                 }
@@ -395,6 +415,17 @@ impl Gen<'_> {
              target and returns the Moore outputs of the new state with the rule's Mealy \
              outputs.",
         );
+        if let Some(tb) = self.m.timebase.as_ref().filter(|_| self.timed()) {
+            let event = &self.m.events[tb.event.index()].name;
+            lines.push(String::new());
+            lines.extend(wrap(&format!(
+                "On the time-base event `{event}`, each timer of the state and its groups \
+                 first adds one (stopping at its longest timeout); an `after` rule is due \
+                 when that brings its timer to its duration, and due rules are tried after \
+                 the `preempt` rules and before the rules naming the event, the state's \
+                 first. A rule that moves restarts the timers of the scopes it enters."
+            )));
+        }
         if let Some(tail) = tail {
             lines.push(String::new());
             lines.extend(wrap(tail));

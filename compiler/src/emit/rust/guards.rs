@@ -111,6 +111,12 @@ impl Gen<'_> {
         self.test_at(g, reads, Prec::Or)
     }
 
+    /// A test as the right operand of `&&` (after a due timeout): parenthesized when it
+    /// is an `||`, so that it binds as one condition.
+    pub(super) fn test_operand(&self, g: &Guard, reads: &Reads) -> TokenStream {
+        self.test_at(g, reads, Prec::And)
+    }
+
     fn test_at(&self, g: &Guard, reads: &Reads, outer: Prec) -> TokenStream {
         let (tokens, prec) = match g {
             Guard::Input(i) => {

@@ -10,6 +10,7 @@ use super::tokens::{
     by_ref_allow, ident, line_estimate, long_fn_allow, merge_arms, param, uses_ident,
 };
 use super::Gen;
+use crate::emit::timers::zeroed_timers;
 use crate::model::lower::{Cell, Choice, OutSetId};
 use crate::model::{EventId, OutputId, StateId};
 use proc_macro2::TokenStream;
@@ -57,7 +58,9 @@ impl Gen<'_> {
                 let e = EventId::from_index(ei);
                 let id = lowered.cell_id(s, e);
                 let cell = lowered.cell(id);
-                if cell.choices.is_empty() {
+                // A cell without choices is unhandled, unless it is a time-base cell
+                // whose timers still count.
+                if cell.choices.is_empty() && cell.timers.is_empty() {
                     unhandled_events.push(e);
                     continue;
                 }
@@ -130,8 +133,10 @@ impl Gen<'_> {
         let hooks_param = param("hooks", uses_ident(&arms, "hooks"));
         let event_param = param("event", uses_ident(&arms, "event"));
         let sampler = self.sampler_items(&sampled);
+        let timer_methods = self.timer_methods(false);
         quote! {
             #sampler
+            #timer_methods
 
             impl Machine {
                 /// The Moore outputs of the current state.
@@ -168,16 +173,16 @@ impl Gen<'_> {
             cell.choices.iter().filter_map(|c| c.test.as_ref()),
         );
         reads.add_to(sampled);
+        // The choices with a condition (a test, a due timeout or both), up to the first
+        // without one, which ends the chain.
         let mut guarded = Vec::new();
         let mut always = None;
         for choice in &cell.choices {
-            match &choice.test {
-                Some(test) => guarded.push((choice, test)),
-                None => {
-                    always = Some(choice);
-                    break;
-                }
+            if choice.test.is_none() && choice.due.is_none() {
+                always = Some(choice);
+                break;
             }
+            guarded.push(choice);
         }
         let unhandled = self.unhandled();
         let mut chain = match always {
@@ -188,25 +193,48 @@ impl Gen<'_> {
             None => quote!({ #unhandled }),
         };
         let single = guarded.len() == 1;
-        for (choice, test) in guarded.into_iter().rev() {
+        for choice in guarded.into_iter().rev() {
             let body = self.fire(choice);
             // A lone test is `if t { .. } else { .. }`: when `t` is a negation, test its
             // positive form and swap the branches, so the code does not read
             // `if !x { .. } else { .. }` (clippy's `if_not_else`, which leaves `else if`
             // chains alone).
-            if single {
-                if let Some(positive) = negated(test) {
+            if single && choice.due.is_none() {
+                if let Some(positive) = choice.test.as_ref().and_then(negated) {
                     let cond = self.test_expr(positive, &reads);
                     chain = quote!(if #cond #chain else { #body });
                     continue;
                 }
             }
-            let cond = self.test_expr(test, &reads);
+            // A timeout is tested first: it reads no input.
+            let due = choice.due.map(|(t, d)| self.due_expr(t, d));
+            let cond = match (due, &choice.test) {
+                (Some(d), Some(t)) => {
+                    let t = self.test_operand(t, &reads);
+                    quote!(#d && #t)
+                }
+                (Some(d), None) => d,
+                (None, Some(t)) => self.test_expr(t, &reads),
+                (None, None) => quote!(true),
+            };
             chain = quote!(if #cond { #body } else #chain);
         }
-        if reads.any_sampled() {
+        // The time-base event first counts the timers of the state's scopes, keeping
+        // their values from before for the due tests.
+        let count = if cell.timers.is_empty() {
+            quote!()
+        } else {
+            let stmts = cell.timers.iter().map(|&t| self.count_stmt(t));
+            let before = if super::tokens::uses_ident(&chain, "before") {
+                quote!(let before = self.timers();)
+            } else {
+                quote!()
+            };
+            quote!(#before #(#stmts)*)
+        };
+        if reads.any_sampled() || !cell.timers.is_empty() {
             let start = self.sampler_start(&reads);
-            quote!({ #start #chain })
+            quote!({ #count #start #chain })
         } else {
             chain
         }
@@ -228,6 +256,7 @@ impl Gen<'_> {
         } else {
             quote!()
         };
+        let zero = self.zero_stmts(&zeroed_timers(m, choice));
         let high = union(
             lowered.outputs(lowered.moore(choice.target)),
             lowered.outputs(choice.mealy),
@@ -238,6 +267,7 @@ impl Gen<'_> {
             #(#actions)*
             let to = #to_v;
             #assign
+            #zero
             #trace
             Ok(#outputs)
         }

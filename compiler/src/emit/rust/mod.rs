@@ -43,12 +43,14 @@ mod file;
 mod guards;
 mod match_style;
 mod table_style;
+mod timers;
 mod tokens;
 
 pub use file::{banner, generate_file};
 pub use table_style::NUMERIC_TABLE_CELLS;
 
-use crate::model::{EventId, Machine, StateId};
+use crate::emit::timers::{timer_names, timer_states};
+use crate::model::{EventId, Machine, StateId, TimerId};
 use crate::naming::to_snake;
 use crate::syntax::ast::{DispatchStyle, Vis};
 use proc_macro2::TokenStream;
@@ -165,6 +167,25 @@ struct Gen<'a> {
     event_ty: TokenStream,
     /// Bytes of an output mask (`ceil(outputs / 8)`).
     mask_bytes: usize,
+    /// The machine's timers (empty without timeout rules), in timer order.
+    timers: Vec<TimerGen>,
+}
+
+/// How one timer appears in the generated code.
+struct TimerGen {
+    /// Its field in `Timers`.
+    field: proc_macro2::Ident,
+    /// Its field in `Machine` (`timer_<field>`): the timers are fields of `Machine`
+    /// itself, so that the compiler packs them with the state byte.
+    slot: proc_macro2::Ident,
+    /// Its integer type: the narrowest that holds its largest duration.
+    ty: TokenStream,
+    /// Its largest duration: the value it stops at.
+    max: u32,
+    /// Its type is `u32` (no widening needed to read it as one).
+    wide: bool,
+    /// The states in which it counts.
+    states: Vec<StateId>,
 }
 
 impl<'a> Gen<'a> {
@@ -174,7 +195,38 @@ impl<'a> Gen<'a> {
             state_ty: uint(m.states.len().saturating_sub(1)),
             event_ty: uint(m.events.len().saturating_sub(1)),
             mask_bytes: m.outputs.len().div_ceil(8),
+            timers: timer_names(m)
+                .iter()
+                .enumerate()
+                .map(|(i, name)| {
+                    let t = TimerId::from_index(i);
+                    let max = m.timers[i].max();
+                    TimerGen {
+                        field: ident(name),
+                        slot: ident(&format!("timer_{name}")),
+                        ty: uint(max as usize),
+                        max,
+                        wide: max > u32::from(u16::MAX),
+                        states: timer_states(m, t),
+                    }
+                })
+                .collect(),
         }
+    }
+
+    /// `matches!(<value>, State::A | State::B)`: whether a state is one of `states`.
+    fn in_states(&self, value: &TokenStream, states: &[StateId]) -> TokenStream {
+        let vs = states.iter().map(|&s| self.state_variant(s));
+        quote!(matches!(#value, #(#vs)|*))
+    }
+
+    /// The statements that set timers to 0 (`self.timers.x = 0;` each).
+    fn zero_stmts(&self, timers: &[TimerId]) -> TokenStream {
+        let stmts = timers.iter().map(|t| {
+            let f = &self.timers[t.index()].slot;
+            quote!(self.#f = 0;)
+        });
+        quote!(#(#stmts)*)
     }
 
     /// `State::Name`.

@@ -32,8 +32,9 @@ use super::tokens::{
     by_ref_allow, doc_text, ident, line_estimate, lit, long_fn_allow, param, uint, uses_ident,
 };
 use super::Gen;
+use crate::emit::timers::zeroed_timers;
 use crate::model::lower::{Choice, SeqId};
-use crate::model::{EventId, Guard, OutputId, StateId};
+use crate::model::{EventId, Guard, OutputId, StateId, TimerId};
 use proc_macro2::{Literal, TokenStream};
 use quote::quote;
 use std::collections::HashMap;
@@ -58,6 +59,7 @@ impl Gen<'_> {
                 .chain(t.cells.iter().flatten().map(|c| &c.first))
                 .any(|r| r.mealy.iter().any(|b| *b != 0));
         let has_rest = !t.rules.is_empty();
+        let has_zero = !t.zero_sets.is_empty();
         // How the tables are written. Big machines: arrays of numbers of one type, the
         // narrowest that holds every number in them, targets included; rustc checks
         // those far faster than the same table holding `State` paths (BENCHMARKS.md,
@@ -77,6 +79,7 @@ impl Gen<'_> {
             t.guard_seqs.len(),
             t.max_seq(),
             t.rules.len(),
+            t.zero_sets.len(),
             if has_mealy { 0xff } else { 0 },
         ]
         .into_iter()
@@ -158,12 +161,28 @@ impl Gen<'_> {
             }
         };
 
+        // The time-base event counts the timers of the state's scopes first.
+        let count = match &m.timebase {
+            Some(tb) if self.timed() => {
+                if m.events.len() == 1 {
+                    quote!(self.count();)
+                } else {
+                    let tb = self.event_variant(tb.event);
+                    quote!(if event == #tb { self.count(); })
+                }
+            }
+            _ => quote!(),
+        };
+        let timer_methods = self.timer_methods(true);
         if t.guard_seqs.is_empty() {
             // No rule can fire anywhere: no tables to consult.
-            let machine_impl = machine_impl(quote!(_event), quote!(_hooks), unhandled);
+            let event = param("event", uses_ident(&count, "event"));
+            let machine_impl =
+                machine_impl(quote!(#event), quote!(_hooks), quote!(#count #unhandled));
             return quote! {
                 #moore_table
                 #outputs_from
+                #timer_methods
                 #machine_impl
             };
         }
@@ -174,7 +193,7 @@ impl Gen<'_> {
         // A rule's numbers are `[actions, mealy..]`, a cell's `[actions, mealy.., seq,
         // rest]`, leaving out the columns this machine does not need; numeric tables put
         // the target's number first, the others pair a `State` with the numbers.
-        let mut rule_numbers_width = usize::from(has_actions);
+        let mut rule_numbers_width = usize::from(has_actions) + usize::from(has_zero);
         if has_mealy {
             rule_numbers_width += self.mask_bytes;
         }
@@ -183,6 +202,9 @@ impl Gen<'_> {
             let mut n = Vec::new();
             if has_actions {
                 n.push(lit(r.actions));
+            }
+            if has_zero {
+                n.push(lit(r.zero));
             }
             if has_mealy {
                 n.extend(r.mealy.iter().map(|b| lit(usize::from(*b))));
@@ -219,7 +241,7 @@ impl Gen<'_> {
                 quote!([target, #(#numbers),*])
             } else if numbers.is_empty() {
                 quote!(target)
-            } else if !has_actions && numbers.len() == 1 && has_mealy {
+            } else if !has_actions && !has_zero && numbers.len() == 1 && has_mealy {
                 // The numbers are the Mealy masks alone: bind the array itself
                 // (clippy's `redundant_at_rest_pattern`).
                 quote!((target, mealy))
@@ -257,6 +279,9 @@ impl Gen<'_> {
         if has_actions {
             rule_columns.push(quote!(actions));
         }
+        if has_zero {
+            rule_columns.push(quote!(zero));
+        }
         if has_mealy {
             rule_columns.push(quote!(mealy @ ..));
         }
@@ -264,6 +289,9 @@ impl Gen<'_> {
             let mut v = vec![quote!(target)];
             if has_actions {
                 v.push(quote!(actions));
+            }
+            if has_zero {
+                v.push(quote!(zero));
             }
             if has_mealy {
                 v.push(quote!(mealy));
@@ -287,6 +315,9 @@ impl Gen<'_> {
             let mut d = Vec::new();
             if has_actions {
                 d.push("actions");
+            }
+            if has_zero {
+                d.push("zero");
             }
             if has_mealy {
                 d.extend(std::iter::repeat_n("mealy", self.mask_bytes));
@@ -313,9 +344,14 @@ impl Gen<'_> {
             "the target state (the state itself for `stay`)"
         };
         let rule_parts = format!(
-            "{target_doc}{}{}",
+            "{target_doc}{}{}{}",
             if has_actions {
                 ", the operation sequence (`0`: none, see `run_actions`)"
+            } else {
+                ""
+            },
+            if has_zero {
+                ", the set of timers it sets to 0 (`0`: none, see `zero_timers`)"
             } else {
                 ""
             },
@@ -386,6 +422,11 @@ impl Gen<'_> {
         // `Tables::build`) skips `select`: a compare and a branch instead of a jump
         // through `select`'s table, which the benchmark measured at about 5% of a step
         // on small machines (BENCHMARKS.md, "Dispatch").
+        let before_arg = if self.timed() {
+            quote!(before,)
+        } else {
+            quote!()
+        };
         let choose = |seq: TokenStream, first: TokenStream, found: TokenStream| {
             let later = if has_rest {
                 quote! {
@@ -400,7 +441,7 @@ impl Gen<'_> {
                 quote!(Some(_) | None => return #unhandled,)
             };
             let selected = quote! {
-                match select(#seq, hooks) {
+                match select(#seq, #before_arg hooks) {
                     Some(0) => #first,
                     #later
                 }
@@ -481,18 +522,22 @@ impl Gen<'_> {
             .guard_seqs
             .iter()
             .map(|seq| {
-                let reads = Reads::of(m.inputs.len(), seq.iter().flatten().copied());
+                let reads = Reads::of(m.inputs.len(), seq.iter().filter_map(|(_, g)| *g));
                 reads.add_to(&mut sampled);
                 // A block (`{ None }`, `{ Some(i) }`) or an `if` chain.
                 let mut chain = quote!({ None });
                 // A lone test that is a negation is tested in its positive form with
                 // the branches swapped (clippy's `if_not_else`), as in the match style.
-                let single = seq.iter().filter(|g| g.is_some()).count() == 1;
-                for (i, test) in seq.iter().enumerate().rev() {
+                let single = seq
+                    .iter()
+                    .filter(|(due, g)| due.is_some() || g.is_some())
+                    .count()
+                    == 1;
+                for (i, entry) in seq.iter().enumerate().rev() {
                     let at = lit(i);
-                    chain = match test {
-                        None => quote!({ Some(#at) }),
-                        Some(g) => match negated(g).filter(|_| single) {
+                    chain = match *entry {
+                        (None, None) => quote!({ Some(#at) }),
+                        (None, Some(g)) => match negated(g).filter(|_| single) {
                             Some(positive) => {
                                 let cond = self.test_expr(positive, &reads);
                                 quote!(if #cond #chain else { Some(#at) })
@@ -502,13 +547,25 @@ impl Gen<'_> {
                                 quote!(if #cond { Some(#at) } else #chain)
                             }
                         },
+                        // A timeout is tested first: it reads no input.
+                        (Some((timer, d)), test) => {
+                            let due = self.due_expr(timer, d);
+                            let cond = match test {
+                                Some(g) => {
+                                    let g = self.test_operand(g, &reads);
+                                    quote!(#due && #g)
+                                }
+                                None => due,
+                            };
+                            quote!(if #cond { Some(#at) } else #chain)
+                        }
                     };
                 }
                 (self.sampler_start(&reads), chain)
             })
             .collect();
         let select_body = if let [(start, body)] = seq_bodies.as_slice() {
-            if start.is_empty() && t.guard_seqs[0].first().is_some_and(Option::is_none) {
+            if start.is_empty() && matches!(t.guard_seqs[0].first(), Some((None, None))) {
                 quote!(if seq == 1 #body else { None })
             } else {
                 quote!(if seq == 1 { #start #body } else { None })
@@ -531,17 +588,33 @@ impl Gen<'_> {
         };
         let sampler = self.sampler_items(&sampled);
         let select_hooks = param("hooks", uses_ident(&select_body, "hooks"));
+        let select_before = if self.timed() {
+            let before = param("before", uses_ident(&select_body, "before"));
+            quote!(#before: Timers,)
+        } else {
+            quote!()
+        };
         let select_allow = long_fn_allow(
             line_estimate(&select_body) + 2,
             "one match arm per distinct test list of the spec",
         );
+        let select_timed_doc = if self.timed() {
+            quote! {
+                ///
+                /// A timeout rule is only tried when it is due: its timer was at its
+                /// duration minus one `before` this time-base event.
+            }
+        } else {
+            quote!()
+        };
         let select_fn = quote! {
             /// The position among a cell's rules of the first whose test holds (`0`:
             /// the cell's own first rule, `at`: `RULES[rest + at - 1]`), for the cell's
             /// test list `seq` (`0`: no rules), reading each input through `hooks` at
             /// most once; `None` when no test holds.
+            #select_timed_doc
             #select_allow
-            fn select<H: Hooks + ?Sized>(seq: #num, #select_hooks: &mut H) -> Option<usize> {
+            fn select<H: Hooks + ?Sized>(seq: #num, #select_before #select_hooks: &mut H) -> Option<usize> {
                 #select_body
             }
         };
@@ -592,14 +665,30 @@ impl Gen<'_> {
             (quote!(), quote!())
         };
         let trace = self.trace();
+        let before = if self.timed() {
+            quote!(let before = self.timers();)
+        } else {
+            quote!()
+        };
+        let (zero, zero_fn) = if has_zero {
+            (
+                quote!(self.zero_timers(zero);),
+                self.zero_timers_fn(&t.zero_sets, &num),
+            )
+        } else {
+            (quote!(), quote!())
+        };
         let machine_impl = machine_impl(
             quote!(event),
             quote!(hooks),
             quote! {
                 let from = self.state;
+                #before
+                #count
                 #lookup
                 #run_actions
                 self.state = to;
+                #zero
                 #trace
                 #step_outputs
             },
@@ -620,6 +709,8 @@ impl Gen<'_> {
             #select_fn
             #actions_fn
             #outputs_from
+            #timer_methods
+            #zero_fn
 
             #machine_impl
         }
@@ -651,6 +742,8 @@ struct RuleRow {
     mealy: Vec<u8>,
     /// The operation sequence's number in the lowered form (`0`: none).
     actions: usize,
+    /// The set of timers it sets to 0 (`0`: none; `k` is `Tables::zero_sets[k - 1]`).
+    zero: usize,
 }
 
 /// One cell of the table: the cell's first choice, its test list and where its other
@@ -673,11 +766,18 @@ struct Tables<'g> {
     rules: Vec<RuleRow>,
     /// Distinct test lists of the cells, in choice order (`None`: no test, which ends a
     /// list); list id `i + 1` is `guard_seqs[i]`.
-    guard_seqs: Vec<Vec<Option<&'g Guard>>>,
+    guard_seqs: Vec<Vec<TestEntry<'g>>>,
     /// The non-empty operation sequences some choice runs, ascending (their numbers
     /// are the lowered form's [`SeqId`]s).
     used_seqs: Vec<SeqId>,
+    /// The distinct non-empty sets of timers some choice sets to 0; set `k` is
+    /// `zero_sets[k - 1]`.
+    zero_sets: Vec<Vec<TimerId>>,
 }
+
+/// One entry of a test list: the timeout that must be due (timer and duration) and the
+/// test, each `None` when there is none.
+type TestEntry<'g> = (Option<(TimerId, u32)>, Option<&'g Guard>);
 
 impl<'g> Tables<'g> {
     /// The tables of every (state, event) pair, one cell of the lowered form per pair:
@@ -690,15 +790,37 @@ impl<'g> Tables<'g> {
             rules: Vec::new(),
             guard_seqs: Vec::new(),
             used_seqs: Vec::new(),
+            zero_sets: Vec::new(),
         };
+        let mut zero_ids: HashMap<Vec<TimerId>, usize> = HashMap::new();
         let mut seq_ids: HashMap<Vec<String>, usize> = HashMap::new();
+        let (mut cells, mut rules, mut guard_seqs, mut used_seqs) = (
+            Vec::with_capacity(m.states.len()),
+            Vec::new(),
+            Vec::new(),
+            Vec::new(),
+        );
         let mut runs: HashMap<Vec<RuleRow>, usize> = HashMap::new();
         // The row of every lowered cell, built the first time a pair uses it.
         let mut built: Vec<Option<CellRow>> = vec![None; lowered.cells().len()];
-        let row_of = |choice: &Choice| RuleRow {
-            target: choice.target.index(),
-            mealy: g.mask(lowered.outputs(choice.mealy)),
-            actions: choice.ops.index(),
+        let mut row_of = |choice: &Choice| {
+            let zeroed = zeroed_timers(m, choice);
+            let zero = if zeroed.is_empty() {
+                0
+            } else {
+                let next = t.zero_sets.len() + 1;
+                let id = *zero_ids.entry(zeroed.clone()).or_insert(next);
+                if id == next {
+                    t.zero_sets.push(zeroed);
+                }
+                id
+            };
+            RuleRow {
+                target: choice.target.index(),
+                mealy: g.mask(lowered.outputs(choice.mealy)),
+                actions: choice.ops.index(),
+                zero,
+            }
         };
         for si in 0..m.states.len() {
             let s = StateId::from_index(si);
@@ -711,13 +833,13 @@ impl<'g> Tables<'g> {
                 }
                 let cell = lowered.cell(id);
                 let mut run: Vec<RuleRow> = Vec::with_capacity(cell.choices.len());
-                let mut guards: Vec<Option<&'g Guard>> = Vec::with_capacity(cell.choices.len());
+                let mut guards: Vec<TestEntry<'g>> = Vec::with_capacity(cell.choices.len());
                 for choice in &cell.choices {
                     if choice.ops != SeqId::EMPTY {
-                        t.used_seqs.push(choice.ops);
+                        used_seqs.push(choice.ops);
                     }
                     run.push(row_of(choice));
-                    guards.push(choice.test.as_ref());
+                    guards.push((choice.due, choice.test.as_ref()));
                 }
                 let row_cell = if run.is_empty() {
                     CellRow {
@@ -725,6 +847,7 @@ impl<'g> Tables<'g> {
                             target: si,
                             mealy: vec![0u8; g.mask_bytes],
                             actions: 0,
+                            zero: 0,
                         },
                         seq: 0,
                         rest: 0,
@@ -734,26 +857,30 @@ impl<'g> Tables<'g> {
                     // printed (how a list reads its inputs follows from the list).
                     let key: Vec<String> = guards
                         .iter()
-                        .map(|x| {
-                            x.map_or_else(String::new, |e| {
+                        .map(|(due, x)| {
+                            let test = x.map_or_else(String::new, |e| {
                                 g.test_expr(e, &Reads::of(0, [])).to_string()
-                            })
+                            });
+                            match due {
+                                Some((timer, d)) => format!("{}@{d} {test}", timer.index()),
+                                None => test,
+                            }
                         })
                         .collect();
-                    let next = t.guard_seqs.len() + 1;
+                    let next = guard_seqs.len() + 1;
                     let seq = *seq_ids.entry(key).or_insert(next);
                     if seq == next {
-                        t.guard_seqs.push(guards);
+                        guard_seqs.push(guards);
                     }
                     let others = run.split_off(1);
                     let rest = if others.is_empty() {
                         0
                     } else {
-                        let next = t.rules.len();
+                        let next = rules.len();
                         match runs.get(&others) {
                             Some(&rest) => rest,
                             None => {
-                                t.rules.extend_from_slice(&others);
+                                rules.extend_from_slice(&others);
                                 runs.insert(others, next);
                                 next
                             }
@@ -768,8 +895,12 @@ impl<'g> Tables<'g> {
                 built[id.index()] = Some(row_cell.clone());
                 row.push(row_cell);
             }
-            t.cells.push(row);
+            cells.push(row);
         }
+        t.cells = cells;
+        t.rules = rules;
+        t.guard_seqs = guard_seqs;
+        t.used_seqs = used_seqs;
         t.used_seqs.sort_unstable();
         t.used_seqs.dedup();
         t.unconditional_to_front();
@@ -782,7 +913,7 @@ impl<'g> Tables<'g> {
         let Some(at) = self
             .guard_seqs
             .iter()
-            .position(|seq| matches!(seq.as_slice(), [None]))
+            .position(|seq| matches!(seq.as_slice(), [(None, None)]))
         else {
             return;
         };
@@ -804,7 +935,7 @@ impl<'g> Tables<'g> {
     fn unconditional_first(&self) -> bool {
         self.guard_seqs
             .first()
-            .is_some_and(|seq| matches!(seq.as_slice(), [None]))
+            .is_some_and(|seq| matches!(seq.as_slice(), [(None, None)]))
     }
 
     /// The largest operation-sequence number the tables hold (`0`: none).
