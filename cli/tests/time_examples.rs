@@ -94,8 +94,16 @@ fn the_debouncer_waits_twenty_milliseconds() {
     let spec = debounce.to_str().unwrap();
     // A bounce after 10 ms starts the wait again; then 21 high samples confirm.
     let trace = "Tick raw=1 *10\nTick\nTick raw=1 *20\nTick raw=1\n";
-    let out = detent(&["run", spec, "--trace", "-", "--format", "text"], Some(trace));
-    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let out = detent(
+        &["run", spec, "--trace", "-", "--format", "text"],
+        Some(trace),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let text = String::from_utf8(out.stdout).unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 33);

@@ -5,10 +5,10 @@
 //! valuations, fine for the few inputs the examples have).
 
 use detent_compiler::driver::check_source;
-use detent_compiler::interp::StepResult;
+use detent_compiler::interp::{Config, StepResult};
 use detent_compiler::model::{EventId, Machine, Prop, Property, StateId};
 use detent_compiler::trace::parse_trace;
-use std::collections::VecDeque;
+use std::collections::{HashMap, VecDeque};
 use std::path::PathBuf;
 
 fn examples_dir() -> PathBuf {
@@ -75,17 +75,27 @@ fn hand_traces() -> Vec<(&'static str, Vec<&'static str>)> {
         (
             "debounce.detent",
             vec![
-                "Pressing1 [] {}",
+                "Pressing [] {} *10",
                 "Released [] {}",
-                "Pressing1 [] {}",
-                "Pressing2 [] {}",
+                "Pressing [] {} *20",
                 "Pressed [pressed press_edge] {on_press}",
-                "Pressed [pressed] {}",
-                "Releasing1 [pressed] {}",
-                "Pressed [pressed] {}",
-                "Releasing1 [pressed] {}",
-                "Releasing2 [pressed] {}",
+                "Pressed [pressed] {} *5",
+                "Releasing [pressed] {} *20",
                 "Released [] {on_release}",
+            ],
+        ),
+        (
+            "burner.detent",
+            vec![
+                "Purge [fan] {} *1000",
+                "Trial [fan igniter gas_valve] {} *151",
+                "Running [fan gas_valve] {} *501",
+                "Idle [] {}",
+                "Purge [fan] {} *1000",
+                "Trial [fan igniter gas_valve] {} *300",
+                "Repurge [fan] {} *700",
+                "Lockout [lockout_lamp] {log_trip}",
+                "Idle [] {}",
             ],
         ),
         (
@@ -198,16 +208,24 @@ fn examples_run_hand_worked_traces() {
         let trace = std::fs::read_to_string(&trace_path)
             .unwrap_or_else(|e| panic!("{}: {e}", trace_path.display()));
         let steps = parse_trace(&m, &trace).unwrap_or_else(|e| panic!("{name}: {e}"));
-        let mut state = m.start;
-        let got: Vec<String> = steps
+        let mut config = m.start_config();
+        let shown: Vec<String> = steps
             .iter()
             .filter_map(|e| e.step())
-            .map(|s| {
-                let r = m.step(state, s.event, &s.inputs);
-                state = r.to;
-                show(&m, &r)
-            })
+            .map(|s| show(&m, &m.step_config(&mut config, s.event, &s.inputs)))
             .collect();
+        // Runs of equal steps are written once with their count, as traces write them.
+        let mut got: Vec<String> = Vec::new();
+        let mut i = 0;
+        while i < shown.len() {
+            let n = shown[i..].iter().take_while(|x| **x == shown[i]).count();
+            got.push(if n == 1 {
+                shown[i].clone()
+            } else {
+                format!("{} *{n}", shown[i])
+            });
+            i += n;
+        }
         assert_eq!(got, expected, "{name}");
     }
 }
@@ -238,34 +256,70 @@ fn eval(p: &Prop, v: &StepView) -> bool {
     }
 }
 
-/// Every (state, step result) transition: all events x all input valuations.
-fn successors(m: &Machine, s: StateId) -> Vec<(Vec<bool>, StepResult)> {
+/// Every step from a configuration: all events x all input valuations, each with
+/// the configuration after it.
+fn successors(m: &Machine, c: &Config) -> Vec<(Vec<bool>, StepResult, Config)> {
     let n = m.inputs.len();
     assert!(n <= 12, "exhaustive exploration is for small examples");
     let mut out = Vec::new();
     for e in 0..m.events.len() {
         for bits in 0..(1u32 << n) {
             let inputs: Vec<bool> = (0..n).map(|i| bits >> i & 1 == 1).collect();
-            let r = m.step(s, EventId::from_index(e), &inputs);
-            out.push((inputs, r));
+            let mut next = c.clone();
+            let r = m.step_config(&mut next, EventId::from_index(e), &inputs);
+            out.push((inputs, r, next));
         }
     }
     out
 }
 
-/// States reachable from the start without expanding through `blocked` states.
-fn reachable(m: &Machine, blocked: &[StateId]) -> Vec<bool> {
-    let mut seen = vec![false; m.states.len()];
-    let mut queue = VecDeque::from([m.start]);
-    seen[m.start.index()] = true;
-    while let Some(s) = queue.pop_front() {
-        if blocked.contains(&s) {
+/// Every configuration reachable from the start, by brute force (the interpreter's
+/// steps over every event and valuation; independent of `configs.rs`), with the steps
+/// out of each: (configurations, edges as (from, inputs, step, to)).
+type Edges = Vec<(usize, Vec<bool>, StepResult, usize)>;
+fn explore(m: &Machine) -> (Vec<Config>, Edges) {
+    let mut index: HashMap<Config, usize> = HashMap::new();
+    let mut configs = vec![m.start_config()];
+    index.insert(m.start_config(), 0);
+    let mut edges = Vec::new();
+    let mut queue = VecDeque::from([0usize]);
+    while let Some(i) = queue.pop_front() {
+        let c = configs[i].clone();
+        for (inputs, r, next) in successors(m, &c) {
+            let j = match index.get(&next) {
+                Some(&j) => j,
+                None => {
+                    let j = configs.len();
+                    index.insert(next.clone(), j);
+                    configs.push(next);
+                    queue.push_back(j);
+                    j
+                }
+            };
+            edges.push((i, inputs, r, j));
+        }
+        assert!(configs.len() < 200_000, "examples stay small");
+    }
+    (configs, edges)
+}
+
+/// Configurations reachable from the start without expanding through `blocked` states.
+fn reachable(configs: &[Config], edges: &Edges, blocked: &[StateId]) -> Vec<bool> {
+    let mut out_edges: Vec<Vec<usize>> = vec![Vec::new(); configs.len()];
+    for (a, _, _, b) in edges {
+        out_edges[*a].push(*b);
+    }
+    let mut seen = vec![false; configs.len()];
+    seen[0] = true;
+    let mut queue = VecDeque::from([0usize]);
+    while let Some(i) = queue.pop_front() {
+        if blocked.contains(&configs[i].state) {
             continue;
         }
-        for (_, r) in successors(m, s) {
-            if !seen[r.to.index()] {
-                seen[r.to.index()] = true;
-                queue.push_back(r.to);
+        for &j in &out_edges[i] {
+            if !seen[j] {
+                seen[j] = true;
+                queue.push_back(j);
             }
         }
     }
@@ -277,7 +331,7 @@ fn examples_satisfy_their_properties_exhaustively() {
     let mut checked = 0;
     for (name, text) in example_files() {
         let m = load(&name, &text);
-        let live = reachable(&m, &[]);
+        let (configs, edges) = explore(&m);
         for p in &m.properties {
             checked += 1;
             match p {
@@ -289,25 +343,21 @@ fn examples_satisfy_their_properties_exhaustively() {
                         result: None,
                     };
                     assert!(!eval(prop, &start), "{name}: `{text}` holds at step 0");
-                    for s in (0..m.states.len()).map(StateId::from_index) {
-                        if !live[s.index()] {
-                            continue;
-                        }
-                        for (inputs, r) in successors(&m, s) {
-                            let v = StepView {
-                                m: &m,
-                                to: r.to,
-                                inputs: &inputs,
-                                result: Some(&r),
-                            };
-                            assert!(
-                                !eval(prop, &v),
-                                "{name}: `{text}` holds after {} --{}--> {}",
-                                m.state_name(s),
-                                m.event_name(r.event),
-                                m.state_name(r.to)
-                            );
-                        }
+                    for (a, inputs, r, _) in &edges {
+                        let v = StepView {
+                            m: &m,
+                            to: r.to,
+                            inputs,
+                            result: Some(r),
+                        };
+                        assert!(
+                            !eval(prop, &v),
+                            "{name}: `{text}` holds after {} --{}--> {} (from {:?})",
+                            m.state_name(r.from),
+                            m.event_name(r.event),
+                            m.state_name(r.to),
+                            configs[*a]
+                        );
                     }
                 }
                 Property::Recover {
@@ -316,28 +366,28 @@ fn examples_satisfy_their_properties_exhaustively() {
                     text,
                     ..
                 } => {
-                    // Backward reachability to the target over every transition.
-                    let mut reaches = vec![false; m.states.len()];
-                    reaches[target.index()] = true;
-                    let edges: Vec<(StateId, StateId)> = (0..m.states.len())
-                        .map(StateId::from_index)
-                        .flat_map(|s| successors(&m, s).into_iter().map(move |(_, r)| (s, r.to)))
-                        .collect();
+                    // Backward reachability to the target over every step.
+                    let mut reaches: Vec<bool> =
+                        configs.iter().map(|c| c.state == *target).collect();
                     let mut changed = true;
                     while changed {
                         changed = false;
-                        for &(a, b) in &edges {
-                            if reaches[b.index()] && !reaches[a.index()] {
-                                reaches[a.index()] = true;
+                        for (a, _, _, b) in &edges {
+                            if reaches[*b] && !reaches[*a] {
+                                reaches[*a] = true;
                                 changed = true;
                             }
                         }
                     }
-                    let obliged = reachable(&m, except);
-                    for (i, st) in m.states.iter().enumerate() {
-                        let exempt = except.contains(&StateId::from_index(i));
-                        if obliged[i] && !exempt {
-                            assert!(reaches[i], "{name}: `{text}` fails from `{}`", st.name);
+                    let obliged = reachable(&configs, &edges, except);
+                    for (i, c) in configs.iter().enumerate() {
+                        if obliged[i] && !except.contains(&c.state) {
+                            assert!(
+                                reaches[i],
+                                "{name}: `{text}` fails from `{}` {:?}",
+                                m.state_name(c.state),
+                                c.timers
+                            );
                         }
                     }
                 }
