@@ -360,3 +360,30 @@ fn a_save_reloads_the_served_page_and_keeps_the_trace() {
     assert_eq!(got["before"], got["after"]);
     assert_eq!(got["after"]["state"], json!("Running"));
 }
+
+/// A trace with repeated lines (`Tick raw=1 *21`, JSON `"repeat"`) replays in the page
+/// of a timed example step by step, as `detent run` runs it: the debouncer's press is
+/// confirmed on the 21st high sample.
+#[test]
+fn a_repeated_trace_line_replays_on_a_timed_page() {
+    let tmp = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("repeat");
+    std::fs::create_dir_all(&tmp).unwrap();
+    let spec = root().join("examples/debounce.detent");
+    let page = tmp.join("debounce.html");
+    assert!(Command::new(env!("CARGO_BIN_EXE_detent"))
+        .args(["view", spec.to_str().unwrap(), "-o"])
+        .arg(&page)
+        .status()
+        .unwrap()
+        .success());
+    let trace = tmp.join("t.trace");
+    std::fs::write(
+        &trace,
+        "Tick raw=1 *3\nTick\n{\"event\":\"Tick\",\"inputs\":{\"raw\":1},\"repeat\":21}\n",
+    )
+    .unwrap();
+    let got = browser(&["replay".as_ref(), page.as_os_str(), trace.as_os_str()]);
+    let want = run_says(spec.to_str().unwrap(), &trace);
+    assert_eq!(want.len(), 26, "step 0 and 25 steps");
+    assert_eq!(got["steps"], Value::Array(want), "repeated trace replay");
+}

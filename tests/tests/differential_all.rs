@@ -796,8 +796,9 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
         let m = &case.machine;
         if m.has_timers() {
             // Timed machines: the Rust forms and C are compared with timers and
-            // `next_timeout` in `differential.rs` and `c_backend.rs`; the hardware port of
-            // timers comes separately.
+            // `next_timeout` in `differential.rs` and `c_backend.rs`, the hardware port
+            // under Icarus Verilog in `compiler/tests/logic_timed.rs`, the JavaScript in
+            // `js_browser.rs`.
             continue;
         }
         let mut runners: Vec<(String, Box<dyn Runner>)> = rc

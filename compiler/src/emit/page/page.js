@@ -118,9 +118,12 @@
   const chosenEvent = () => picker.selectedIndex;
   const chosenInputs = () => toggles.map((b) => b.checked);
 
+  // The step is taken `Times` times (1 to 100000): `Tick` a hundred times to let a
+  // timeout come due, as a trace line `Tick *100` does.
   function stepFromControls() {
     pending = [];
-    doStep(chosenEvent(), chosenInputs(), false);
+    const n = Math.min(100000, Math.max(1, Math.floor(Number($("repeat-count").value)) || 1));
+    for (let k = 0; k < n; k++) doStep(chosenEvent(), chosenInputs(), false);
     show();
   }
 
@@ -291,7 +294,14 @@
       return { error: `${where}: a step is {"event": "E", "inputs": {...}}` };
     }
     for (const k of Object.keys(obj)) {
-      if (k !== "event" && k !== "inputs") return { error: `${where}: unknown key \`${k}\`` };
+      if (k !== "event" && k !== "inputs" && k !== "repeat") return { error: `${where}: unknown key \`${k}\`` };
+    }
+    let repeat = 1;
+    if ("repeat" in obj) {
+      if (!Number.isInteger(obj.repeat) || obj.repeat < 1 || obj.repeat > MAX_STEPS) {
+        return { error: `${where}: \`repeat\` must be a whole number from 1 to ${MAX_STEPS}` };
+      }
+      repeat = obj.repeat;
     }
     const e = SIM.events.indexOf(obj.event);
     if (e < 0) return { error: `${where}: unknown event \`${obj.event}\`` };
@@ -302,7 +312,17 @@
       if (v !== true && v !== false && v !== 0 && v !== 1) return { error: `${where}: \`${k}\` must be true, false, 0 or 1` };
       inputs[i] = v === true || v === 1;
     }
-    return { event: e, inputs };
+    return { event: e, inputs, repeat };
+  }
+
+  // The most steps a loaded trace may expand to (`*N` repetitions included).
+  const MAX_STEPS = 1000000;
+
+  // Appends `s.repeat` copies of a step (a trace line `E *N`, or `"repeat": N`).
+  function pushRepeated(out, s, where) {
+    if (out.length + s.repeat > MAX_STEPS) return { error: `${where}: the trace passes ${MAX_STEPS} steps` };
+    for (let k = 0; k < s.repeat; k++) out.push({ event: s.event, inputs: s.inputs });
+    return null;
   }
 
   function parseSteps(list) {
@@ -310,7 +330,8 @@
     for (let k = 0; k < list.length; k++) {
       const s = stepOf(list[k], `step ${k + 1}`);
       if (s.error) return s;
-      out.push(s);
+      const bad = pushRepeated(out, s, `step ${k + 1}`);
+      if (bad) return bad;
     }
     return out;
   }
@@ -330,12 +351,20 @@
         for (const s of Array.isArray(v) ? v : [v]) {
           const st = stepOf(s, where);
           if (st.error) return st;
-          out.push(st);
+          const bad = pushRepeated(out, st, where);
+          if (bad) return bad;
         }
         continue;
       }
       const words = [];
       for (const w of t.split(/[ \t]+/)) { if (w.startsWith("#")) break; words.push(w); }
+      let repeat = 1;
+      const rep = words.length > 1 ? /^\*([0-9]+)$/.exec(words[words.length - 1]) : null;
+      if (rep) {
+        repeat = Number(rep[1]);
+        if (repeat < 1 || repeat > MAX_STEPS) return { error: `${where}: a repetition \`*N\` needs N from 1 to ${MAX_STEPS}` };
+        words.pop();
+      }
       const e = SIM.events.indexOf(words[0]);
       if (e < 0) return { error: `${where}: unknown event \`${words[0]}\`; events: ${SIM.events.join(", ")}` };
       const inputs = SIM.inputs.map(() => false);
@@ -349,18 +378,28 @@
         seen.add(i);
         inputs[i] = m[2] === "1";
       }
-      out.push({ event: e, inputs });
+      const bad = pushRepeated(out, { event: e, inputs, repeat }, where);
+      if (bad) return bad;
     }
     return out;
   }
 
   function traceText() {
     const lines = [`# trace of ${SIM.name} (${DATA.file}), saved by detent view; replay: detent run FILE --trace THIS`];
+    // A run of equal steps is one line with its count (`Tick *250`), as detent prints.
+    let last = null;
+    let count = 0;
+    const flush = () => { if (last !== null) lines.push(count > 1 ? `${last} *${count}` : last); };
     for (const s of history) {
       const words = [SIM.events[s.event]];
       s.inputs.forEach((v, i) => { if (v) words.push(SIM.inputs[i] + "=1"); });
-      lines.push(words.join(" "));
+      const line = words.join(" ");
+      if (line === last) { count++; continue; }
+      flush();
+      last = line;
+      count = 1;
     }
+    flush();
     return lines.join("\n") + "\n";
   }
 
