@@ -107,7 +107,7 @@ pub fn valuation_text(v: &[(String, bool)]) -> String {
 /// A trace as trace-file lines (`Event a=1 b=0`), one per step, a run of equal steps
 /// as one line with its count (`Tick *250`), each as `detent run --trace` reads it.
 pub fn trace_lines(trace: &[TraceStep]) -> Vec<String> {
-    crate::report::trace_lines(&crate::report::check::trace_entries(trace), true)
+    crate::report::trace_lines(&crate::report::trace_entries(trace), true)
 }
 
 /// The note that shows a counterexample: a headline, then the steps as trace-file

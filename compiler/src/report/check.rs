@@ -4,7 +4,7 @@
 
 use super::{StepEntry, Valuation};
 use crate::check::render::{self, line_col, Source};
-use crate::diag::{Diagnostic, TraceStep};
+use crate::diag::Diagnostic;
 use crate::driver::FileReport;
 use serde::Serialize;
 
@@ -76,12 +76,6 @@ pub struct DiagnosticEntry {
     pub helps: Vec<String>,
 }
 
-/// A counterexample trace as a JSON step list, runs of equal steps as one entry with
-/// `repeat`.
-pub fn trace_entries(trace: &[TraceStep]) -> Vec<StepEntry> {
-    super::compress(trace.iter().map(|s| StepEntry::step(&s.event, &s.inputs)))
-}
-
 impl DiagnosticEntry {
     /// The entry of diagnostic `d` of file `file`.
     pub fn new(d: &Diagnostic, file: &str) -> DiagnosticEntry {
@@ -93,7 +87,7 @@ impl DiagnosticEntry {
             event: d.event.clone(),
             states: d.states.clone(),
             witness: d.witness.clone().map(Valuation),
-            trace: d.trace.as_deref().map(trace_entries),
+            trace: d.trace.as_deref().map(super::trace_entries),
             span: d.span.map(|s| {
                 let (line, column) = line_col(s);
                 SpanEntry {

@@ -84,6 +84,12 @@ fn is_one(n: &u32) -> bool {
     *n == 1
 }
 
+/// A counterexample trace as a JSON step list, runs of equal steps as one entry with
+/// `repeat`.
+pub fn trace_entries(trace: &[crate::diag::TraceStep]) -> Vec<StepEntry> {
+    compress(trace.iter().map(|s| StepEntry::step(&s.event, &s.inputs)))
+}
+
 /// A step list with each run of equal steps (same event, same inputs) as one entry
 /// with its count: the form every printed sequence takes (`Tick *250`, `"repeat":250`).
 /// Restarts are never merged. Expanding the counts gives the list back.

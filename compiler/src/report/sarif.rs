@@ -19,7 +19,7 @@
 //!
 //! Cost: linear in the number of diagnostics.
 
-use super::check::trace_entries;
+use super::trace_entries;
 use super::{StepEntry, Valuation};
 use crate::check::render::{line_col, trace_note, valuation_text};
 use crate::diag::{Diagnostic, Lint, Severity};
