@@ -677,18 +677,22 @@ fn exercise_machine(m: &Machine, trace: &str) {
     if detent_compiler::emit::c::cell_count(m) <= 1 << 16 {
         let _ = detent_compiler::emit::c::generate_c(m, "mutant.detent");
     }
-    // minimize: the printed spec parses and checks again, and is equivalent.
-    let spec = detent_compiler::minimize::minimized_spec(m);
-    let again = check_source("minimized.detent", &spec);
-    let errors: Vec<&str> = again
-        .diagnostics()
-        .filter(|d| d.is_error())
-        .map(|d| d.message.as_str())
-        .collect();
-    assert!(
-        errors.is_empty(),
-        "the minimized spec has errors {errors:?}:\n{spec}"
-    );
+    // minimize: the printed spec parses and checks again, and is equivalent. A machine
+    // with a group's timer has no flat spec (`minimize --format spec` refuses it, and
+    // `#[minimize]` keeps it as it is): only its quotient is compared.
+    if !detent_compiler::minimize::machine::has_group_timer(m) {
+        let spec = detent_compiler::minimize::minimized_spec(m);
+        let again = check_source("minimized.detent", &spec);
+        let errors: Vec<&str> = again
+            .diagnostics()
+            .filter(|d| d.is_error())
+            .map(|d| d.message.as_str())
+            .collect();
+        assert!(
+            errors.is_empty(),
+            "the minimized spec has errors {errors:?}:\n{spec}"
+        );
+    }
     let q = detent_compiler::minimize::minimized_machine(m);
     assert!(matches!(
         detent_compiler::minimize::equiv::equiv(m, &q),

@@ -41,15 +41,25 @@ fn steps_of(trace: &str) -> Vec<Value> {
             .split_whitespace()
             .take_while(|w| !w.starts_with('#'))
             .collect();
-        let Some((event, rest)) = words.split_first() else {
+        let Some((event, mut rest)) = words.split_first() else {
             continue;
         };
+        // `E ... *N`: N copies of the step.
+        let mut repeat = 1;
+        if let Some((last, head)) = rest.split_last() {
+            if let Some(n) = last.strip_prefix('*') {
+                repeat = n.parse::<usize>().expect("*N");
+                rest = head;
+            }
+        }
         let mut inputs = serde_json::Map::new();
         for w in rest {
             let (name, v) = w.split_once('=').expect("name=value");
             inputs.insert(name.to_string(), json!(v == "1"));
         }
-        out.push(json!({ "event": event, "inputs": inputs }));
+        for _ in 0..repeat {
+            out.push(json!({ "event": event, "inputs": inputs }));
+        }
     }
     out
 }

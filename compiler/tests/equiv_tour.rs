@@ -241,6 +241,12 @@ fn example_tours_cover_every_transition() {
     assert!(files.len() >= 6);
     for f in files {
         let m = machine(&std::fs::read_to_string(&f).unwrap());
+        if m.has_timers() {
+            // This brute force steps states, not configurations; timed tours are
+            // checked over configurations in `timed_analyses.rs` and
+            // `lowered_agreement.rs`.
+            continue;
+        }
         let t = tour(&m);
         let want = brute_transitions(&m);
         let got = replay(&m, &t.steps);

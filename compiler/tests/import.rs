@@ -97,6 +97,14 @@ fn every_example_round_trips_through_csv() {
         let what = p.display().to_string();
         let original = machine(&std::fs::read_to_string(&p).expect("readable"));
         let csv = to_csv(&original);
+        if detent_compiler::minimize::machine::has_group_timer(&original) {
+            // A group's timer has no flat form: import refuses it, naming the row
+            // (docs/table-csv.md).
+            let e = import_spec(&csv).expect_err("a group timer is refused");
+            assert!(e.to_string().contains("a timeout of group"), "{what}: {e}");
+            n += 1;
+            continue;
+        }
         let spec = import_spec(&csv).unwrap_or_else(|e| panic!("{what}: {e}"));
         let imported = machine(&spec);
         assert_same_behaviour(&original, &imported, &what);

@@ -13,7 +13,8 @@ use detent_compiler::model::{
     ActionId, EventId, Machine, OutputId, Prop, Property, RuleId, Scope, ScopeRules, StateId,
     Target,
 };
-use detent_compiler::report::check::{trace_entries, DiagnosticEntry};
+use detent_compiler::report::check::DiagnosticEntry;
+use detent_compiler::report::trace_entries;
 use detent_compiler::trace::{parse_trace, run_json_lines};
 use detent_tests::gen::{random_spec, GenConfig, Rng};
 use std::collections::VecDeque;

@@ -5,7 +5,7 @@
 use detent_compiler::check::property::{check_never, check_recover};
 use detent_compiler::diag::{Diagnostic, Lint};
 use detent_compiler::model::{Machine, Property};
-use detent_compiler::report::{self, check::trace_entries, StepEntry};
+use detent_compiler::report::{self, trace_entries, StepEntry};
 
 fn resolve(text: &str) -> Machine {
     let file = detent_compiler::syntax::parse_source(text).expect("parses");

@@ -63,9 +63,9 @@ struct bilge_pump_hooks {
     void (*log_fault)(void *ctx);
 };
 
-/** A running machine: the current state number, nothing else. It may be stored
-    (for example in flash) and written back; `bilge_pump_step` rejects a value that is
-    not a state. */
+/** A running machine: the current state number (and its timers, when it has
+    timeouts). It may be stored (for example in flash) and written back; `bilge_pump_step`
+    rejects a value that is not a state. */
 struct bilge_pump_machine {
     /** The current state (`enum bilge_pump_state`). */
     uint8_t state;
