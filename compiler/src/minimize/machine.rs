@@ -112,22 +112,7 @@ pub fn minimize(m: &Machine) -> Minimization {
                 .collect()
         })
         .collect();
-    let mut class_of = vec![None; m.states.len()];
-    for (c, members) in classes.iter().enumerate() {
-        for s in members {
-            class_of[s.index()] = Some(c as u32);
-        }
-    }
-    let unreachable = (0..m.states.len())
-        .filter(|&s| class_of[s].is_none())
-        .map(StateId::from_index)
-        .collect();
-    Minimization {
-        states_before: m.states.len(),
-        unreachable,
-        classes,
-        class_of,
-    }
+    finish(m, classes)
 }
 
 /// The shape of a state's timers, as merging compares them: per timer of its scopes
