@@ -516,6 +516,7 @@ impl Server {
                     Kind::Input => lt::CompletionItemKind::VARIABLE,
                     Kind::Output => lt::CompletionItemKind::FIELD,
                     Kind::Action => lt::CompletionItemKind::FUNCTION,
+                    Kind::Counter => lt::CompletionItemKind::VARIABLE,
                     Kind::Machine => lt::CompletionItemKind::CLASS,
                 };
                 items.push(lt::CompletionItem {

@@ -58,6 +58,8 @@ pub enum Kind {
     Output,
     /// An action.
     Action,
+    /// A counter.
+    Counter,
 }
 
 impl Kind {
@@ -71,16 +73,24 @@ impl Kind {
             Kind::Input => "input",
             Kind::Output => "output",
             Kind::Action => "action",
+            Kind::Counter => "counter",
         }
     }
 }
 
 const PLACES: &[Kind] = &[Kind::State, Kind::Group];
 const EVENTS: &[Kind] = &[Kind::Event];
-const INPUTS: &[Kind] = &[Kind::Input];
 const OUTPUTS: &[Kind] = &[Kind::Output];
 const ACTIONS: &[Kind] = &[Kind::Action];
-const PROPERTY_NAMES: &[Kind] = &[Kind::Output, Kind::Action, Kind::Input, Kind::Event];
+const COUNTERS: &[Kind] = &[Kind::Counter];
+const GUARD_NAMES: &[Kind] = &[Kind::Input, Kind::Counter];
+const PROPERTY_NAMES: &[Kind] = &[
+    Kind::Output,
+    Kind::Action,
+    Kind::Input,
+    Kind::Event,
+    Kind::Counter,
+];
 
 /// One name as written.
 #[derive(Clone, Debug)]
@@ -240,6 +250,24 @@ impl Index {
             match &d.kind {
                 DeclKind::Start(s) => self.occ(mi, s, None, PLACES),
                 DeclKind::Never(e) => self.expr(mi, e, PROPERTY_NAMES),
+                DeclKind::Ensure {
+                    response, trigger, ..
+                } => {
+                    self.expr(mi, response, PROPERTY_NAMES);
+                    self.expr(mi, trigger, PROPERTY_NAMES);
+                }
+                DeclKind::Counters(list) => {
+                    for c in list {
+                        self.declared.push(Declared {
+                            machine: mi,
+                            kind: Kind::Counter,
+                            name: c.ident.name.clone(),
+                            range: Range::of(c.ident.span),
+                            doc: c.doc.clone(),
+                        });
+                        self.occ(mi, &c.ident, Some(Kind::Counter), &[]);
+                    }
+                }
                 DeclKind::Recover { target, except } => {
                     self.occ(mi, target, None, PLACES);
                     for e in except {
@@ -270,9 +298,18 @@ impl Index {
         }
     }
 
+    /// An item of a `do` list: an action, or a counter operation.
+    fn op(&mut self, mi: usize, op: &OpAst) {
+        match op {
+            OpAst::Action(a) => self.occ(mi, a, None, ACTIONS),
+            OpAst::Counter { name, .. } => self.occ(mi, name, None, COUNTERS),
+        }
+    }
+
     fn expr(&mut self, mi: usize, e: &Expr, wants: &'static [Kind]) {
         match e {
             Expr::Name(i) => self.occ(mi, i, None, wants),
+            Expr::Compare { name, .. } => self.occ(mi, name, None, COUNTERS),
             Expr::In(i) => self.occ(mi, i, None, PLACES),
             Expr::Const(..) => {}
             Expr::Not(inner, _) | Expr::Paren(inner, _) => self.expr(mi, inner, wants),
@@ -311,9 +348,9 @@ impl Index {
             match b {
                 Body::Enter(list, _) | Body::Leave(list, _) => {
                     for a in list {
-                        self.occ(mi, a, None, ACTIONS);
+                        self.op(mi, a);
                     }
-                    let names = list.iter().map(|i| i.name.clone());
+                    let names = list.iter().map(|i| i.name().name.clone());
                     if matches!(b, Body::Enter(..)) {
                         self.scopes[at].enter.extend(names);
                     } else {
@@ -334,7 +371,7 @@ impl Index {
                         None => {}
                     }
                     if let Some(g) = &r.guard {
-                        self.expr(mi, g, INPUTS);
+                        self.expr(mi, g, GUARD_NAMES);
                     }
                     if let Target::State(t) = &r.target {
                         self.occ(mi, t, None, PLACES);
@@ -343,7 +380,7 @@ impl Index {
                         self.occ(mi, e, None, OUTPUTS);
                     }
                     for a in &r.actions {
-                        self.occ(mi, a, None, ACTIONS);
+                        self.op(mi, a);
                     }
                     self.scopes[at].rules.push(RuleInfo {
                         text: print_rule(r),
@@ -555,7 +592,7 @@ impl Index {
                     }
                 }
             }
-            Kind::Input | Kind::Output | Kind::Action => {
+            Kind::Input | Kind::Output | Kind::Action | Kind::Counter => {
                 out.push_str(&format!("**{}** `{}`\n\n", kind.word(), o.name));
                 if let Some(d) = self.declared_item(mi, kind, &o.name) {
                     doc(&mut out, &d.doc);

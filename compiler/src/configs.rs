@@ -27,7 +27,7 @@
 use crate::fxhash::FxMap;
 use crate::interp::Config;
 use crate::model::lower::{Cell, CellId};
-use crate::model::{Bdd, Machine, StateId, TimerId};
+use crate::model::{AtomId, Bdd, Machine, StateId, TimerId};
 
 /// The most configurations an analysis explores before it stops with an error.
 pub const MAX_CONFIGS: usize = 4_000_000;
@@ -35,8 +35,9 @@ pub const MAX_CONFIGS: usize = 4_000_000;
 /// The configuration space passed [`MAX_CONFIGS`].
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
 #[error(
-    "machine `{machine}` has more than {limit} reachable configurations (states and timer \
-     values), the limit of exact analysis; shorten its longest timeouts or use a coarser time base"
+    "machine `{machine}` has more than {limit} reachable configurations (states, timer and \
+     counter values), the limit of exact analysis; shorten its longest timeouts, use a coarser \
+     time base or give its counters smaller ranges"
 )]
 pub struct ConfigLimit {
     /// The machine.
@@ -172,22 +173,48 @@ pub fn timer_value_text(m: &Machine, ticks: u32) -> String {
     }
 }
 
+/// The counters of a configuration as a witness says them: `strikes = 2, retries = 0`
+/// (`None` without counters).
+pub fn counters_text(m: &Machine, c: &Config) -> Option<String> {
+    if m.counters.is_empty() {
+        return None;
+    }
+    Some(
+        m.counters
+            .iter()
+            .zip(&c.counters)
+            .map(|(k, v)| format!("{} = {v}", k.name))
+            .collect::<Vec<_>>()
+            .join(", "),
+    )
+}
+
 /// `state `Wait` with the timer of state `Wait` at 0 ms`, or `state `Idle`` when
-/// the state counts no time: a configuration as diagnostics name it.
+/// the state counts no time, and `and counters strikes = 2` with counters: a
+/// configuration as diagnostics name it.
 pub fn config_text(m: &Machine, c: &Config) -> String {
-    match timers_text(m, c) {
+    let mut out = match timers_text(m, c) {
         Some(t) => format!("state `{}` with {t}", m.state_name(c.state)),
         None => format!("state `{}`", m.state_name(c.state)),
+    };
+    if let Some(k) = counters_text(m, c) {
+        out.push_str(&format!(" and counters {k}"));
     }
+    out
 }
 
 /// The variant of `cell` that applies in configuration `c`: the timeouts that the
 /// cell's event brings due from `c`'s timers (none unless the cell counts time).
 pub fn variant_at(m: &Machine, cell: &Cell, c: &Config) -> usize {
-    m.lowered.variant_index(m, cell, &|t: TimerId| {
-        // Due on this event: the timer is one short of a duration.
-        Some(c.timers[t.index()] + 1)
-    })
+    m.lowered.variant_index_with(
+        m,
+        cell,
+        &|t: TimerId| {
+            // Due on this event: the timer is one short of a duration.
+            Some(c.timers[t.index()] + 1)
+        },
+        &|a: AtomId| m.atoms[a.index()].holds(c.counters[m.atoms[a.index()].counter.index()]),
+    )
 }
 
 /// The configuration after `choice` (or nothing, `None`) fires in `cell` from `c`.
@@ -200,6 +227,7 @@ pub fn next_config(m: &Machine, cell: &Cell, choice: Option<usize>, c: &Config) 
     }
     if let Some(i) = choice {
         let ch = &cell.choices[i];
+        crate::interp::apply_counter_ops(m, m.lowered.seq(ch.ops), &mut next.counters);
         for t in &ch.resets {
             next.timers[t.index()] = 0;
         }
@@ -291,10 +319,27 @@ pub fn explore_from(
     Ok(g)
 }
 
-/// The configurations of state `s` with every combination of its active timers'
-/// values: what an analysis of a state no configuration reaches covers.
+/// The configurations of state `s` with every combination of its active timers' and
+/// the counters' values: what an analysis of a state no configuration reaches covers.
 pub fn all_configs_of(m: &Machine, s: StateId, limit: usize) -> Result<Vec<Config>, ConfigLimit> {
     let mut out = vec![Config::at(m, s)];
+    for (k, counter) in m.counters.iter().enumerate() {
+        let mut next = Vec::new();
+        for c in &out {
+            for v in 0..=counter.max {
+                if next.len() >= limit {
+                    return Err(ConfigLimit {
+                        machine: m.name.clone(),
+                        limit,
+                    });
+                }
+                let mut c = c.clone();
+                c.counters[k] = v;
+                next.push(c);
+            }
+        }
+        out = next;
+    }
     for t in m.chain_timers(s) {
         let max = m.timers[t.index()].max();
         let mut next = Vec::new();

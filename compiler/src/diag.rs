@@ -38,11 +38,13 @@ pub enum Lint {
     DeadRule,
     /// One step can run the same action twice.
     RepeatedAction,
+    /// A counter operation can take a counter outside its range.
+    CounterRange,
 }
 
 impl Lint {
     /// Every lint, in a fixed order.
-    pub const ALL: [Lint; 13] = [
+    pub const ALL: [Lint; 14] = [
         Lint::Syntax,
         Lint::Name,
         Lint::Incomplete,
@@ -56,6 +58,7 @@ impl Lint {
         Lint::Property,
         Lint::DeadRule,
         Lint::RepeatedAction,
+        Lint::CounterRange,
     ];
 
     /// The lint's name as users write it.
@@ -74,6 +77,7 @@ impl Lint {
             Lint::Property => "property",
             Lint::DeadRule => "dead_rule",
             Lint::RepeatedAction => "repeated_action",
+            Lint::CounterRange => "counter_range",
         }
     }
 
@@ -89,7 +93,8 @@ impl Lint {
             | Lint::Name
             | Lint::Incomplete
             | Lint::OverlappingRules
-            | Lint::Property => Severity::Error,
+            | Lint::Property
+            | Lint::CounterRange => Severity::Error,
             _ => Severity::Warning,
         }
     }
@@ -118,9 +123,13 @@ impl Lint {
                 "A name against the convention (UpperCamelCase for machines, states, groups and \
                  events; snake_case for inputs, outputs and actions)."
             }
-            Lint::Property => "A `never` or `recover to` declaration is violated.",
+            Lint::Property => "A `never`, `recover to` or `ensure` declaration is violated.",
             Lint::DeadRule => "A rule that fires in no reachable state.",
             Lint::RepeatedAction => "One step can run the same action twice.",
+            Lint::CounterRange => {
+                "A counter operation can take a counter outside `0..=N` in a reachable \
+                 configuration."
+            }
         }
     }
 }

@@ -28,7 +28,7 @@
 
 use crate::syntax::ast::{
     Attr, Body, Decl, DeclKind, DispatchStyle, DocIdent, Expr, File, Ident, MachineAst, Member,
-    Policy, RuleAst, StateAst, Target, Trigger, Vis,
+    OpAst, Policy, RuleAst, StateAst, Target, Trigger, Vis,
 };
 use proc_macro2::Span;
 use std::collections::HashMap;
@@ -300,6 +300,14 @@ impl Names {
                 }
                 Ok(())
             }
+            Expr::Compare { name, .. } => err(
+                row,
+                column,
+                format!(
+                    "`{}`: counter comparisons are not read from the table format yet",
+                    name.name
+                ),
+            ),
             Expr::In(s) => {
                 if kind == ExprKind::Guard {
                     return err(
@@ -877,7 +885,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             guard,
             target,
             emit: mealy.iter().map(|n| ident(n)).collect(),
-            actions: acts.iter().map(|n| ident(n)).collect(),
+            actions: acts.iter().map(|n| OpAst::Action(ident(n))).collect(),
             span: Span::call_site(),
         });
     }

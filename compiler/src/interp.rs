@@ -27,12 +27,19 @@
 //! duration); a timeout is due when that brings its timer to its duration. A rule that
 //! moves sets the timers of the scopes it enters to 0. Timers of scopes that are not
 //! active are kept at 0, so that equal configurations compare equal.
+//!
+//! # Counters
+//!
+//! Counters are part of the configuration too. Guards compare them as they were at the
+//! start of the step ([`Sampler::with_atoms`]); the operations of the choice that fires
+//! then run in order with its actions ([`apply_counter_ops`]), each kept in `0..=N`
+//! (the checker's `counter_range` error says when a reachable step would leave it).
 
 use crate::model::lower::{Lowered, Sampler};
-use crate::model::{ActionId, EventId, InputId, Machine, OutputId, RuleId, StateId, TimerId};
+use crate::model::{ActionId, EventId, InputId, Machine, Op, OutputId, RuleId, StateId, TimerId};
 use crate::syntax::ast::Policy;
 
-/// What a machine remembers between steps: its state and its timers.
+/// What a machine remembers between steps: its state, its timers and its counters.
 #[derive(Clone, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub struct Config {
     /// The current state.
@@ -41,16 +48,37 @@ pub struct Config {
     /// counted since its scope was entered, at most its largest duration; 0 for timers
     /// of scopes that are not active.
     pub timers: Vec<u32>,
+    /// One value per counter of the machine ([`Machine::counters`]), in `0..=max`.
+    pub counters: Vec<u16>,
 }
 
 impl Config {
-    /// The state `s` just entered: every timer at 0.
+    /// The state `s` just entered: every timer and counter at 0.
     pub fn at(m: &Machine, s: StateId) -> Config {
         Config {
             state: s,
             timers: vec![0; m.timers.len()],
+            counters: vec![0; m.counters.len()],
         }
     }
+}
+
+/// Runs the counter operations of `ops` on `counters`, in order (actions are the
+/// host's): each keeps its counter in `0..=max`, stopping at the end of the range. The
+/// first operation that would have left the range, if any: its index in `ops`.
+pub fn apply_counter_ops(m: &Machine, ops: &[Op], counters: &mut [u16]) -> Option<usize> {
+    let mut first = None;
+    for (k, op) in ops.iter().enumerate() {
+        if let Op::Counter(c) = op {
+            let i = c.counter.index();
+            let (v, out) = c.apply(counters[i], m.counters[i].max);
+            counters[i] = v;
+            if out && first.is_none() {
+                first = Some(k);
+            }
+        }
+    }
+    first
 }
 
 /// How a step ended.
@@ -156,11 +184,13 @@ impl Machine {
                     .get(t.index())
                     .is_some_and(|&v| u64::from(v) + 1 == u64::from(d))
         };
-        let mut sample = Sampler::new(self.inputs.len(), read);
+        let atoms = self.atom_values(&config.counters);
+        let mut sample = Sampler::new(self.inputs.len(), read).with_atoms(atoms);
         let fired = lowered.choose_due(cell, &due, &mut sample).cloned();
         let inputs_read = sample.read_order().to_vec();
         let result = self.result_of(state, event, fired.as_ref(), inputs_read);
         if let Some(choice) = &fired {
+            apply_counter_ops(self, lowered.seq(choice.ops), &mut config.counters);
             for t in &choice.resets {
                 config.timers[t.index()] = 0;
             }

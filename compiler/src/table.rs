@@ -226,15 +226,7 @@ fn ident(name: &str) -> ast::Ident {
     }
 }
 
-fn guard_expr(m: &Machine, g: &Guard) -> Expr {
-    match g {
-        Guard::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
-        Guard::Const(b) => Expr::Const(*b, Span::call_site()),
-        Guard::Not(a) => Expr::Not(Box::new(guard_expr(m, a)), Span::call_site()),
-        Guard::And(a, b) => Expr::And(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
-        Guard::Or(a, b) => Expr::Or(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
-    }
-}
+use crate::minimize::machine::guard_expr;
 
 /// A guard in spec syntax, with the parentheses its structure needs (the syntax
 /// printer's rules: `!` binds tighter than `&&`, `&&` than `||`).
@@ -282,6 +274,12 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Output(o) => Expr::Name(ident(&m.outputs[o.index()].name)),
         Prop::Action(a) => Expr::Name(ident(&m.actions[a.index()].name)),
         Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
+        Prop::Compare(c, cmp, v) => Expr::Compare {
+            name: ident(&m.counters[c.index()].name),
+            cmp: *cmp,
+            value: u64::from(*v),
+            value_span: sp,
+        },
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => {
             // Flattened: `in G` is "in one of G's states", joined as a balanced tree so
@@ -581,6 +579,22 @@ pub fn to_csv(m: &Machine) -> String {
     for p in &m.properties {
         match p {
             Property::Never { prop, .. } => out.decl("@never", &flat_prop_text(m, prop)),
+            Property::Ensure {
+                response,
+                within,
+                trigger,
+                ..
+            } => out.decl(
+                "@ensure",
+                &format!(
+                    "{} within {} after {}",
+                    flat_prop_text(m, response),
+                    crate::syntax::print::print_within(&crate::minimize::machine::within_ast(
+                        m, *within
+                    )),
+                    flat_prop_text(m, trigger)
+                ),
+            ),
             Property::Recover { target, except, .. } => {
                 let mut text = m.state_name(*target).to_string();
                 if !except.is_empty() {

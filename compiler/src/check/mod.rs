@@ -60,7 +60,7 @@ pub fn apply_options(diags: Vec<Diagnostic>, opts: &Options) -> Vec<Diagnostic> 
 pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
     // A machine with timers is analysed over its configurations (state and timer
     // values); one without has one configuration per state and keeps the state graph.
-    let (configs, limit) = if m.has_timers() {
+    let (configs, limit) = if m.has_configs() {
         match crate::configs::explore(m) {
             Ok(g) => (Some(g), None),
             Err(e) => (None, Some(e)),
@@ -105,6 +105,7 @@ pub fn check_machine(m: &Machine) -> Vec<Diagnostic> {
         return c.out;
     }
     c.reachability();
+    c.counter_range();
     c.dead_rules_and_repeated_actions();
     c.never_true_guards();
     c.unused_declarations();
@@ -145,7 +146,7 @@ pub fn guard_mentions(g: &Guard, out: &mut Vec<InputId>) {
                 out.push(*i);
             }
         }
-        Guard::Const(_) => {}
+        Guard::Const(_) | Guard::Atom(_) => {}
         Guard::Not(a) => guard_mentions(a, out),
         Guard::And(a, b) | Guard::Or(a, b) => {
             guard_mentions(a, out);
@@ -178,7 +179,7 @@ impl Checker<'_> {
             }
         }
         for &(v, _) in path {
-            if !mentioned.contains(&InputId(v)) {
+            if v < crate::model::ATOM_VAR_BASE && !mentioned.contains(&InputId(v)) {
                 mentioned.push(InputId(v));
             }
         }
@@ -246,7 +247,7 @@ impl Checker<'_> {
                 .variants
                 .iter()
                 .enumerate()
-                .find(|(_, v)| !v.unhandled.is_false())
+                .find(|(_, v)| !v.unhandled.is_false() && variant_feasible(m, cell, v))
             {
                 out[id] = (v.unhandled, Uncovered::Variant(k));
             }
@@ -293,13 +294,18 @@ impl Checker<'_> {
                         if !later[j] {
                             continue;
                         }
-                        let both = bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
+                        let mut both = bdd.and(m.rules[a.index()].guard, m.rules[b.index()].guard);
+                        if !m.atoms.is_empty() {
+                            // Only comparison values some counter values give.
+                            both = bdd.and(both, m.atom_domain);
+                        }
                         if both.is_false() || !reported_pairs.insert((a, b)) {
                             continue;
                         }
                         let event = m.event_name(cell.event);
                         let path = bdd.sat_one(both).unwrap_or_default();
-                        let witness = self.witness(&[a, b], &path);
+                        let mut witness = self.witness(&[a, b], &path);
+                        witness.extend(counter_witness(m, &path));
                         let mut d = Diagnostic::new(
                             Lint::OverlappingRules,
                             Some(m.rules[b.index()].span),
@@ -342,11 +348,22 @@ impl Checker<'_> {
             let witness = self.witness(&rules, &path);
             let when = match at {
                 Uncovered::Always => None,
-                Uncovered::Config(i) => self
-                    .configs
-                    .as_ref()
-                    .and_then(|g| crate::configs::timers_text(m, &g.configs[i]))
-                    .map(|t| format!("in state `{state_name}` with {t}")),
+                Uncovered::Config(i) => self.configs.as_ref().and_then(|g| {
+                    let c = &g.configs[i];
+                    match (
+                        crate::configs::timers_text(m, c),
+                        crate::configs::counters_text(m, c),
+                    ) {
+                        (None, None) => None,
+                        (Some(t), None) => Some(format!("in state `{state_name}` with {t}")),
+                        (None, Some(k)) => {
+                            Some(format!("in state `{state_name}` with the counters at {k}"))
+                        }
+                        (Some(t), Some(k)) => Some(format!(
+                            "in state `{state_name}` with {t}, and the counters at {k}"
+                        )),
+                    }
+                }),
                 Uncovered::Variant(0) => None,
                 Uncovered::Variant(k) => Some(format!(
                     "in state `{state_name}` (no configuration reaches it) when {} due",
@@ -531,6 +548,88 @@ impl Checker<'_> {
     /// choice of a reachable state whose operation sequence runs an action twice. Both
     /// read the lowered form only; reachability is the successor graph's, as for
     /// `unreachable_state`.
+    /// `counter_range`: a reachable step whose operations take a counter outside
+    /// `0..=N`, with the shortest trace (the configurations are in breadth-first order
+    /// and their edges in order, so the first such step found ends a shortest trace).
+    fn counter_range(&mut self) {
+        let Some(g) = self.configs.take() else {
+            return;
+        };
+        self.counter_range_in(&g);
+        self.configs = Some(g);
+    }
+
+    fn counter_range_in(&mut self, g: &crate::configs::ConfigGraph) {
+        let m = self.m;
+        if m.counters.is_empty() {
+            return;
+        }
+        let lowered = &m.lowered;
+        let mut reported: FxSet<RuleId> = FxSet::default();
+        for (i, c) in g.configs.iter().enumerate() {
+            for edge in g.out(i) {
+                let Some(k) = edge.choice else {
+                    continue;
+                };
+                let cell = lowered.cell(edge.cell);
+                let choice = &cell.choices[k as usize];
+                let ops = lowered.seq(choice.ops);
+                let mut counters = c.counters.clone();
+                let Some(bad) = crate::interp::apply_counter_ops(m, ops, &mut counters) else {
+                    continue;
+                };
+                if !reported.insert(choice.rule) {
+                    continue;
+                }
+                let crate::model::Op::Counter(op) = ops[bad] else {
+                    continue;
+                };
+                // The counter's value just before the operation.
+                let mut before = c.counters.clone();
+                crate::interp::apply_counter_ops(m, &ops[..bad], &mut before);
+                let counter = &m.counters[op.counter.index()];
+                let v = before[op.counter.index()];
+                let mut trace = crate::check::property::trace_of_edges(m, g, &g.path_to(i));
+                trace.push((
+                    cell.event,
+                    crate::model::steps::valuation(m.inputs.len(), &m.bdd, edge.region),
+                ));
+                let n = trace.len();
+                let rule = &m.rules[choice.rule.index()];
+                let whose = if rule.actions.contains(&ops[bad]) {
+                    "the rule's".to_string()
+                } else {
+                    "an enter or leave list of this move".to_string()
+                };
+                let mut d = Diagnostic::new(
+                    Lint::CounterRange,
+                    Some(rule.span),
+                    format!(
+                        "`{}` can take counter `{}` outside 0..={} at step {n}",
+                        m.op_text(&ops[bad]),
+                        counter.name,
+                        counter.max
+                    ),
+                )
+                .with_state(m.state_name(c.state))
+                .with_event(m.event_name(cell.event))
+                .note(format!(
+                    "at step {n} the counter is {v} when {whose} `{}` runs, in state `{}` on \
+                     event `{}`",
+                    m.op_text(&ops[bad]),
+                    m.state_name(c.state),
+                    m.event_name(cell.event)
+                ));
+                d.trace = Some(property::trace_steps(m, &trace));
+                d.helps.push(format!(
+                    "guard the rule with a comparison (`if {} < {}`), or widen the range",
+                    counter.name, counter.max
+                ));
+                self.emit(d, m.rule_site(choice.rule));
+            }
+        }
+    }
+
     fn dead_rules_and_repeated_actions(&mut self) {
         let m = self.m;
         let lowered = &m.lowered;
@@ -814,7 +913,7 @@ impl Checker<'_> {
             for o in &r.mealy {
                 output_used[o.index()] = true;
             }
-            for a in &r.actions {
+            for a in crate::model::actions_of(&r.actions) {
                 action_used[a.index()] = true;
             }
         }
@@ -822,7 +921,12 @@ impl Checker<'_> {
             for o in &st.emit {
                 output_used[o.index()] = true;
             }
-            for a in st.enter.iter().chain(&st.leave) {
+            for a in st
+                .enter
+                .iter()
+                .chain(&st.leave)
+                .filter_map(|op| op.action())
+            {
                 action_used[a.index()] = true;
             }
         }
@@ -830,7 +934,7 @@ impl Checker<'_> {
             for o in &g.emit {
                 output_used[o.index()] = true;
             }
-            for a in g.enter.iter().chain(&g.leave) {
+            for a in g.enter.iter().chain(&g.leave).filter_map(|op| op.action()) {
                 action_used[a.index()] = true;
             }
         }
@@ -927,6 +1031,44 @@ impl Checker<'_> {
 }
 
 /// Where a cell's coverage gap was found.
+/// Counter values that make the comparisons of a BDD path (a partial valuation of
+/// inputs and comparisons) hold: one `(name, value)` per counter the path compares,
+/// the smallest value that fits.
+fn counter_witness(m: &Machine, path: &[(u32, bool)]) -> Vec<(String, bool)> {
+    let mut out = Vec::new();
+    for (ci, c) in m.counters.iter().enumerate() {
+        let lits: Vec<(crate::model::AtomId, bool)> = path
+            .iter()
+            .filter_map(|&(v, b)| m.atom_of_var(v).map(|a| (a, b)))
+            .filter(|(a, _)| m.atoms[a.index()].counter.index() == ci)
+            .collect();
+        if lits.is_empty() {
+            continue;
+        }
+        if let Some(v) =
+            (0..=c.max).find(|&v| lits.iter().all(|(a, b)| m.atoms[a.index()].holds(v) == *b))
+        {
+            // A witness entry is a name and a flag; the value rides in the name.
+            out.push((format!("{} = {v}", c.name), true));
+        }
+    }
+    out
+}
+
+/// Can some counter values give the comparison values of a variant?
+fn variant_feasible(
+    m: &Machine,
+    cell: &crate::model::lower::Cell,
+    v: &crate::model::lower::Variant,
+) -> bool {
+    cell.atoms.is_empty()
+        || m.bdd.sat_under(m.atom_domain, &|var| {
+            m.atom_of_var(var)
+                .and_then(|a| cell.atoms.binary_search(&a).ok())
+                .map(|k| v.atoms[k])
+        })
+}
+
 #[derive(Clone, Copy, Debug)]
 enum Uncovered {
     /// No timers: the cell's own `unhandled`.

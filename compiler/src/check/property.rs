@@ -40,7 +40,9 @@
 use crate::configs::{self, ConfigGraph, ConfigLimit};
 use crate::diag::{Diagnostic, Lint, TraceStep};
 use crate::model::lower::{CellEvents, Op};
-use crate::model::{ActionId, Bdd, BddStore, EventId, Machine, OutputId, Prop, Property, StateId};
+use crate::model::{
+    ActionId, Bdd, BddStore, Deadline, EventId, Machine, OutputId, Prop, Property, StateId,
+};
 use std::collections::VecDeque;
 
 const NONE: u32 = u32::MAX;
@@ -57,6 +59,8 @@ pub struct NeverViolation {
     pub state: StateId,
     /// The timer values after it (one per timer of the machine; empty without timers).
     pub timers: Vec<u32>,
+    /// The counter values after it (one per counter; empty without counters).
+    pub counters: Vec<u16>,
     /// Outputs high after the violating step, ascending.
     pub outputs: Vec<OutputId>,
     /// Actions run in the violating step, in order.
@@ -71,6 +75,8 @@ pub struct RecoverViolation {
     /// Its timer values in the configuration that cannot recover (empty without
     /// timers).
     pub timers: Vec<u32>,
+    /// Its counter values there (empty without counters).
+    pub counters: Vec<u16>,
     /// The shortest trace from the start to it that avoids exempted states.
     pub trace: Trace,
     /// Every state with a reachable, non-exempt configuration that cannot reach S, in
@@ -89,6 +95,8 @@ struct Facts<'a> {
     step0: bool,
     /// The event the step consumed (`None` at step 0).
     event: Option<EventId>,
+    /// The counters after the step.
+    counters: &'a [u16],
 }
 
 /// P on one step, as a BDD over the inputs P names (a constant when it names none).
@@ -106,6 +114,10 @@ fn prop_bdd(m: &Machine, bdd: &mut BddStore, p: &Prop, f: &Facts) -> Bdd {
         Prop::Event(e) => bdd.constant(f.event == Some(*e)),
         Prop::InState(s) => bdd.constant(f.to == *s),
         Prop::InGroup(g) => bdd.constant(m.group_contains(*g, f.to)),
+        Prop::Compare(c, cmp, k) => bdd.constant(cmp.holds(
+            u64::from(f.counters.get(c.index()).copied().unwrap_or(0)),
+            u64::from(*k),
+        )),
         Prop::Const(b) => bdd.constant(*b),
         Prop::Not(a) => {
             let x = prop_bdd(m, bdd, a, f);
@@ -135,6 +147,11 @@ fn valuation(m: &Machine, bdd: &BddStore, region: Bdd) -> Vec<bool> {
 }
 
 /// The trace from the start along `edges` of the configuration graph.
+pub fn trace_of_edges(m: &Machine, g: &ConfigGraph, edges: &[u32]) -> Trace {
+    trace_of(m, &m.bdd, g, edges)
+}
+
+/// The trace from the start along `edges` of the configuration graph.
 fn trace_of(m: &Machine, bdd: &BddStore, g: &ConfigGraph, edges: &[u32]) -> Trace {
     edges
         .iter()
@@ -161,6 +178,41 @@ fn prop_events(p: &Prop, out: &mut Vec<EventId>) {
     }
 }
 
+/// The events a step of `cell` (in state `s`) can stand for, as far as a property
+/// can tell them apart: the cell's one event, or, for the rest class, each event of it
+/// that the property names (`named`) and one that it does not.
+fn class_events(
+    m: &Machine,
+    s: StateId,
+    cell_id: crate::model::lower::CellId,
+    named: &[EventId],
+    events: &mut Vec<EventId>,
+) {
+    let lowered = &m.lowered;
+    let cell = lowered.cell(cell_id);
+    events.clear();
+    match cell.events {
+        CellEvents::One(e) => events.push(e),
+        CellEvents::Rest => {
+            events.extend(
+                named
+                    .iter()
+                    .copied()
+                    .filter(|&e| lowered.cell_id(s, e) == cell_id),
+            );
+            if !named.contains(&cell.event) {
+                events.push(cell.event);
+            } else if let Some(e) = lowered
+                .rest_events(m.events.len(), s)
+                .into_iter()
+                .find(|e| !named.contains(e))
+            {
+                events.push(e);
+            }
+        }
+    }
+}
+
 /// Proves `never P`, or returns the shortest counterexample; an error when the
 /// machine has more reachable configurations than exact analysis explores.
 pub fn check_never(m: &Machine, prop: &Prop) -> Result<Option<NeverViolation>, ConfigLimit> {
@@ -178,6 +230,7 @@ fn check_never_in(
     let lowered = &m.lowered;
     let start = m.start;
     let start_moore = lowered.outputs(lowered.moore(start));
+    let start_config = m.start_config();
     let step0 = Facts {
         to: start,
         moore: start_moore,
@@ -185,12 +238,14 @@ fn check_never_in(
         ops: &[],
         step0: true,
         event: None,
+        counters: &start_config.counters,
     };
     if prop_bdd(m, bdd, prop, &step0).is_true() {
         return Some(NeverViolation {
             trace: Vec::new(),
             state: start,
-            timers: m.start_config().timers,
+            timers: start_config.timers,
+            counters: start_config.counters,
             outputs: start_moore.to_vec(),
             actions: Vec::new(),
         });
@@ -209,30 +264,9 @@ fn check_never_in(
                 Some(c) => (lowered.outputs(c.mealy), lowered.seq(c.ops)),
                 None => (&[], &[]),
             };
-            let to = g.configs[edge.to as usize].state;
-            // The events the step stands for differ only in the event atoms of P: try
-            // each event of the cell's class that P names, and one that it does not.
-            events.clear();
-            match cell.events {
-                CellEvents::One(e) => events.push(e),
-                CellEvents::Rest => {
-                    events.extend(
-                        named
-                            .iter()
-                            .copied()
-                            .filter(|&e| lowered.cell_id(s, e) == edge.cell),
-                    );
-                    if !named.contains(&cell.event) {
-                        events.push(cell.event);
-                    } else if let Some(e) = lowered
-                        .rest_events(m.events.len(), s)
-                        .into_iter()
-                        .find(|e| !named.contains(e))
-                    {
-                        events.push(e);
-                    }
-                }
-            }
+            let after = &g.configs[edge.to as usize];
+            let to = after.state;
+            class_events(m, s, edge.cell, &named, &mut events);
             let mut hit = None;
             for &event in &events {
                 let facts = Facts {
@@ -242,6 +276,7 @@ fn check_never_in(
                     ops,
                     step0: false,
                     event: Some(event),
+                    counters: &after.counters,
                 };
                 let p = prop_bdd(m, bdd, prop, &facts);
                 let h = bdd.and(p, edge.region);
@@ -264,7 +299,8 @@ fn check_never_in(
                 return Some(NeverViolation {
                     trace,
                     state: to,
-                    timers: g.configs[edge.to as usize].timers.clone(),
+                    timers: after.timers.clone(),
+                    counters: after.counters.clone(),
                     outputs,
                     actions,
                 });
@@ -272,6 +308,207 @@ fn check_never_in(
         }
     }
     None
+}
+
+/// A violated `ensure R within SPAN after T`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct EnsureViolation {
+    /// The shortest trace whose last step completes the span with `R` never true since
+    /// the step that made `T` true.
+    pub trace: Trace,
+    /// The step that made `T` true (0: the start).
+    pub trigger_step: usize,
+    /// The state after the last step.
+    pub state: StateId,
+}
+
+/// Proves `ensure response within SPAN after trigger`, or returns the shortest
+/// counterexample; an error past the configuration limit.
+pub fn check_ensure(
+    m: &Machine,
+    response: &Prop,
+    within: Deadline,
+    trigger: &Prop,
+) -> Result<Option<EnsureViolation>, ConfigLimit> {
+    let mut bdd = m.bdd.clone();
+    let g = configs::explore(m)?;
+    check_ensure_in(m, &mut bdd, &g, response, within, trigger)
+}
+
+/// The deadline monitor of one search node: 0 when no obligation is open, else the
+/// number of counted steps (time-base events, or any steps) that may still pass, the
+/// last of them included, before the response is late. Only the oldest open
+/// obligation matters: a response discharges every open one, and a later trigger's
+/// deadline is never earlier.
+type Budget = u32;
+
+/// One node of the search over (configuration, monitor).
+struct Node {
+    config: u32,
+    budget: Budget,
+    /// The node it was reached from (`NONE` for the root), by which edge, event and
+    /// input region.
+    parent: u32,
+    event: EventId,
+    region: Bdd,
+    /// The step at which the open obligation began (meaningful when `budget > 0`).
+    since: u32,
+    depth: u32,
+}
+
+/// Breadth first over pairs of a configuration and the deadline monitor: the first
+/// step found that completes a span with no response is the end of a shortest
+/// counterexample. Each edge of the configuration graph is split by the input
+/// valuations that make the response and the trigger true or false.
+fn check_ensure_in(
+    m: &Machine,
+    bdd: &mut BddStore,
+    g: &ConfigGraph,
+    response: &Prop,
+    within: Deadline,
+    trigger: &Prop,
+) -> Result<Option<EnsureViolation>, ConfigLimit> {
+    let lowered = &m.lowered;
+    let (span, counts): (u32, Box<dyn Fn(EventId) -> bool>) = match within {
+        Deadline::Steps(k) => (k, Box::new(|_| true)),
+        Deadline::Ticks(t) => {
+            let tb = m.timebase.as_ref().map(|t| t.event);
+            (t, Box::new(move |e| Some(e) == tb))
+        }
+    };
+    let mut named = Vec::new();
+    prop_events(response, &mut named);
+    prop_events(trigger, &mut named);
+    if let Some(tb) = m.timebase.as_ref().map(|t| t.event) {
+        if !named.contains(&tb) {
+            named.push(tb);
+        }
+    }
+    let start = m.start;
+    let start_config = m.start_config();
+    let step0 = Facts {
+        to: start,
+        moore: lowered.outputs(lowered.moore(start)),
+        mealy: &[],
+        ops: &[],
+        step0: true,
+        event: None,
+        counters: &start_config.counters,
+    };
+    let r0 = prop_bdd(m, bdd, response, &step0).is_true();
+    let t0 = prop_bdd(m, bdd, trigger, &step0).is_true();
+    let budget0 = if !r0 && t0 {
+        if span == 0 {
+            return Ok(Some(EnsureViolation {
+                trace: Vec::new(),
+                trigger_step: 0,
+                state: start,
+            }));
+        }
+        span
+    } else {
+        0
+    };
+    let limit = configs::MAX_CONFIGS;
+    let mut nodes: Vec<Node> = vec![Node {
+        config: 0,
+        budget: budget0,
+        parent: NONE,
+        event: EventId(0),
+        region: Bdd::TRUE,
+        since: 0,
+        depth: 0,
+    }];
+    let mut seen: crate::fxhash::FxMap<(u32, Budget), ()> = Default::default();
+    seen.insert((0, budget0), ());
+    let mut events = Vec::new();
+    let mut head = 0;
+    while head < nodes.len() {
+        let (ci, budget, since, depth) = {
+            let n = &nodes[head];
+            (n.config as usize, n.budget, n.since, n.depth)
+        };
+        let s = g.configs[ci].state;
+        for edge in g.out(ci) {
+            let cell = lowered.cell(edge.cell);
+            let fired = edge.choice.map(|c| &cell.choices[c as usize]);
+            let (mealy, ops): (&[OutputId], &[Op]) = match fired {
+                Some(c) => (lowered.outputs(c.mealy), lowered.seq(c.ops)),
+                None => (&[], &[]),
+            };
+            let after = &g.configs[edge.to as usize];
+            class_events(m, s, edge.cell, &named, &mut events);
+            for &event in &events {
+                let facts = Facts {
+                    to: after.state,
+                    moore: lowered.outputs(lowered.moore(after.state)),
+                    mealy,
+                    ops,
+                    step0: false,
+                    event: Some(event),
+                    counters: &after.counters,
+                };
+                let r = prop_bdd(m, bdd, response, &facts);
+                let t = prop_bdd(m, bdd, trigger, &facts);
+                let not_r = bdd.not(r);
+                let not_t = bdd.not(t);
+                let counted = counts(event);
+                // (response, trigger) for each part of the edge's region.
+                for (resp, trig) in [(true, false), (true, true), (false, false), (false, true)] {
+                    let a = bdd.and(edge.region, if resp { r } else { not_r });
+                    let part = bdd.and(a, if trig { t } else { not_t });
+                    if part.is_false() {
+                        continue;
+                    }
+                    let step = depth + 1;
+                    let (next, next_since, late) = if resp {
+                        (0, 0, false)
+                    } else if budget > 0 {
+                        let left = if counted { budget - 1 } else { budget };
+                        (left, since, left == 0)
+                    } else if trig {
+                        (span, step, span == 0)
+                    } else {
+                        (0, 0, false)
+                    };
+                    if late {
+                        let mut steps = vec![(event, valuation(m, bdd, part))];
+                        let mut cur = head;
+                        while nodes[cur].parent != NONE {
+                            let n = &nodes[cur];
+                            steps.push((n.event, valuation(m, bdd, n.region)));
+                            cur = n.parent as usize;
+                        }
+                        steps.reverse();
+                        return Ok(Some(EnsureViolation {
+                            trace: steps,
+                            trigger_step: next_since as usize,
+                            state: after.state,
+                        }));
+                    }
+                    if seen.insert((edge.to, next), ()).is_none() {
+                        if nodes.len() >= limit {
+                            return Err(ConfigLimit {
+                                machine: m.name.clone(),
+                                limit,
+                            });
+                        }
+                        nodes.push(Node {
+                            config: edge.to,
+                            budget: next,
+                            parent: head as u32,
+                            event,
+                            region: part,
+                            since: next_since,
+                            depth: step,
+                        });
+                    }
+                }
+            }
+        }
+        head += 1;
+    }
+    Ok(None)
 }
 
 /// Proves `recover to target except ...`, or returns the closest configuration that
@@ -379,6 +616,7 @@ fn check_recover_in(
     Some(RecoverViolation {
         state: g.configs[first].state,
         timers: g.configs[first].timers.clone(),
+        counters: g.configs[first].counters.clone(),
         trace: trace_of(m, bdd, g, &edges),
         stuck,
     })
@@ -449,19 +687,61 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                     name_list(v.outputs.iter().map(|o| m.outputs[o.index()].name.clone())),
                     name_list(v.actions.iter().map(|a| m.actions[a.index()].name.clone())),
                 ));
-                if let Some(t) = configs::timers_text(
-                    m,
-                    &crate::interp::Config {
-                        state: v.state,
-                        timers: v.timers.clone(),
-                    },
-                ) {
+                let after = crate::interp::Config {
+                    state: v.state,
+                    timers: v.timers.clone(),
+                    counters: v.counters.clone(),
+                };
+                if let Some(t) = configs::timers_text(m, &after) {
                     d = d.note(format!("after step {n}, {t}"));
+                }
+                if let Some(k) = configs::counters_text(m, &after) {
+                    d = d.note(format!("after step {n}, the counters are {k}"));
                 }
                 if n == 0 {
                     d = d
                         .note("step 0 is the start state before any event, with every input false");
                 } else if let Some((e, _)) = v.trace.last() {
+                    d = d.with_event(m.event_name(*e));
+                }
+                d.trace = Some(trace_steps(m, &v.trace));
+                d.helps
+                    .push("replay the trace with `detent run --trace` to see each step".into());
+                out.push(d);
+            }
+            Property::Ensure {
+                response,
+                within,
+                trigger,
+                span,
+                text,
+            } => {
+                let v = match check_ensure_in(m, &mut bdd, &g, response, *within, trigger) {
+                    Ok(None) => continue,
+                    Ok(Some(v)) => v,
+                    Err(limit) => {
+                        out.push(limit_diagnostic(m, &limit, "the properties"));
+                        continue;
+                    }
+                };
+                let n = v.trace.len();
+                let state = m.state_name(v.state);
+                let span_text = match within {
+                    Deadline::Ticks(t) => m.duration_text(*t),
+                    Deadline::Steps(k) => format!("{k} steps"),
+                };
+                let mut d = Diagnostic::new(
+                    Lint::Property,
+                    Some(*span),
+                    format!("property `{text}` is violated at step {n}"),
+                )
+                .with_state(state)
+                .note(format!(
+                    "the condition after `after` holds at step {}, and the response does not \
+                     hold at any step from there to step {n}, which completes {span_text}",
+                    v.trigger_step
+                ));
+                if let Some((e, _)) = v.trace.last() {
                     d = d.with_event(m.event_name(*e));
                 }
                 d.trace = Some(trace_steps(m, &v.trace));
@@ -492,14 +772,16 @@ pub fn check_properties(m: &Machine) -> Vec<Diagnostic> {
                     "`{state}` is reached in {} step(s), and no input sequence leads from it to `{goal}`",
                     v.trace.len()
                 ));
-                if let Some(t) = configs::timers_text(
-                    m,
-                    &crate::interp::Config {
-                        state: v.state,
-                        timers: v.timers.clone(),
-                    },
-                ) {
+                let at = crate::interp::Config {
+                    state: v.state,
+                    timers: v.timers.clone(),
+                    counters: v.counters.clone(),
+                };
+                if let Some(t) = configs::timers_text(m, &at) {
                     d = d.note(format!("`{state}` cannot recover with {t}"));
+                }
+                if let Some(k) = configs::counters_text(m, &at) {
+                    d = d.note(format!("`{state}` cannot recover with the counters at {k}"));
                 }
                 if v.stuck.len() > 1 {
                     const SHOWN: usize = 8;

@@ -35,7 +35,7 @@
 //! O(states x events x choices per cell).
 
 use super::svg::{Cluster, Diagram, Edge, Node};
-use crate::model::{ActionId, EventId, GroupId, Machine, OutputId, RuleId, StateId, Trigger};
+use crate::model::{EventId, GroupId, Machine, OutputId, RuleId, StateId, Trigger};
 use crate::table::guard_text;
 
 /// One edge of the drawing: every rule that leads from `from` to `to`, one label line
@@ -60,11 +60,8 @@ fn output_list(m: &Machine, outs: &[OutputId]) -> String {
         .join(", ")
 }
 
-fn action_list(m: &Machine, acts: &[ActionId]) -> String {
-    acts.iter()
-        .map(|a| m.actions[a.index()].name.as_str())
-        .collect::<Vec<_>>()
-        .join(", ")
+fn action_list(m: &Machine, acts: &[crate::model::Op]) -> String {
+    m.ops_text(acts)
 }
 
 /// The label of a rule as used by some state for `events`:

@@ -100,6 +100,7 @@ fn number_table(rows: impl Iterator<Item = Vec<usize>>) -> String {
 fn test_text(g: &Guard) -> String {
     match g {
         Guard::Input(i) => format!("inp({})", i.index()),
+        Guard::Atom(a) => format!("atom({})", a.index()),
         Guard::Const(b) => b.to_string(),
         Guard::Not(a) => format!("!{}", atom(a)),
         Guard::And(a, b) => {
@@ -193,6 +194,9 @@ pub fn to_js(m: &Machine) -> String {
             s.iter()
                 .map(|op| match op {
                     crate::model::lower::Op::Action(a) => a.index(),
+                    // Counter operations are not in the page's simulator yet; the page
+                    // refuses machines with counters (see `emit::page`).
+                    crate::model::lower::Op::Counter(_) => usize::MAX,
                 })
                 .collect()
         }))

@@ -136,10 +136,30 @@ pub struct Alphabet {
     pub n_inputs: usize,
 }
 
-/// Rebuilds a guard over reference BDD variables.
+/// Rebuilds a BDD of machine `m`'s store over the reference BDD variables (its
+/// cubes are disjoint, so their union is the function).
+fn translate(m: &Machine, a: Bdd, to_ref: &[u32], store: &mut BddStore) -> Bdd {
+    let mut out = Bdd::FALSE;
+    for cube in m.bdd.cubes(a) {
+        let mut c = Bdd::TRUE;
+        for (var, value) in cube {
+            let x = store.var(to_ref[var as usize]);
+            let lit = if value { x } else { store.not(x) };
+            c = store.and(c, lit);
+        }
+        out = store.or(out, c);
+    }
+    out
+}
+
+/// Rebuilds a guard over reference BDD variables. A counter comparison has no
+/// reference variable: cells whose guards read counters are taken from their
+/// input-only variant regions instead ([`Alphabet::build`]), so it never reaches here
+/// but reads as `true` if it did.
 fn guard_bdd(g: &Guard, to_ref: &[u32], store: &mut BddStore) -> Bdd {
     match g {
         Guard::Input(i) => store.var(to_ref[i.index()]),
+        Guard::Atom(_) => Bdd::TRUE,
         Guard::Const(b) => store.constant(*b),
         Guard::Not(a) => {
             let x = guard_bdd(a, to_ref, store);
@@ -204,6 +224,23 @@ impl Alphabet {
                 let mut seen_rule = FxSet::default();
                 for si in 0..m.states.len() {
                     let cell = m.lowered.cell_of(StateId::from_index(si), local);
+                    if !cell.atoms.is_empty() {
+                        // Guards that read counters: the input regions of every
+                        // combination of comparison values (input-only, exact).
+                        for v in &cell.variants {
+                            for &region in &v.regions {
+                                let g = if k == 0 {
+                                    region
+                                } else {
+                                    translate(m, region, &side.input_to_ref, &mut store)
+                                };
+                                if !g.is_true() && !g.is_false() && seen_guard.insert(g) {
+                                    guards.push(g);
+                                }
+                            }
+                        }
+                        continue;
+                    }
                     for r in cell.choices.iter().map(|c| c.rule) {
                         if !seen_rule.insert(r) {
                             continue;

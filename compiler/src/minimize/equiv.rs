@@ -266,7 +266,7 @@ pub fn equiv(a: &Machine, b: &Machine) -> Result<Option<Difference>, EquivError>
         diffs: vec![("declarations", Vec::new(), Vec::new())],
     })?;
     let alphabet = Alphabet::build(&[sa.clone(), sb.clone()]);
-    let found = if a.has_timers() || b.has_timers() {
+    let found = if a.has_configs() || b.has_configs() {
         search_configs(&sa, &sb, &alphabet)?
     } else {
         search(&sa, a.start, &sb, b.start, &alphabet)

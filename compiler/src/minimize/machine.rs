@@ -93,7 +93,7 @@ impl Minimization {
 
 /// Computes the state equivalence of `m` (see the module doc).
 pub fn minimize(m: &Machine) -> Minimization {
-    if m.has_timers() {
+    if m.has_configs() {
         return minimize_timed(m);
     }
     let side = Side::reference(m);
@@ -263,10 +263,36 @@ pub fn guard_expr(m: &Machine, g: &Guard) -> Expr {
     let sp = Span::call_site();
     match g {
         Guard::Input(i) => Expr::Name(ident(&m.inputs[i.index()].name)),
+        Guard::Atom(a) => {
+            let atom = &m.atoms[a.index()];
+            Expr::Compare {
+                name: ident(&m.counters[atom.counter.index()].name),
+                cmp: atom.cmp,
+                value: u64::from(atom.value),
+                value_span: sp,
+            }
+        }
         Guard::Const(b) => Expr::Const(*b, sp),
         Guard::Not(a) => Expr::Not(Box::new(guard_expr(m, a)), sp),
         Guard::And(a, b) => Expr::And(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
         Guard::Or(a, b) => Expr::Or(Box::new(guard_expr(m, a)), Box::new(guard_expr(m, b))),
+    }
+}
+
+/// A deadline's span as the spec writes it (`100 ms`, `3 steps`).
+pub fn within_ast(m: &Machine, w: crate::model::Deadline) -> ast::Within {
+    match w {
+        crate::model::Deadline::Steps(k) => ast::Within::Steps(u64::from(k), Span::call_site()),
+        crate::model::Deadline::Ticks(t) => {
+            ast::Within::Time(match m.timebase.as_ref().and_then(|tb| tb.period_us) {
+                Some(us) => duration_in_units(us, t),
+                None => ast::Duration {
+                    value: u64::from(t),
+                    unit: ast::TimeUnit::Ticks,
+                    span: Span::call_site(),
+                },
+            })
+        }
     }
 }
 
@@ -280,6 +306,12 @@ fn prop_expr(m: &Machine, p: &Prop) -> Expr {
         Prop::Event(e) => Expr::Name(ident(m.event_name(*e))),
         Prop::InState(s) => Expr::In(ident(m.state_name(*s))),
         Prop::InGroup(g) => Expr::In(ident(&m.groups[g.index()].name)),
+        Prop::Compare(c, cmp, v) => Expr::Compare {
+            name: ident(&m.counters[c.index()].name),
+            cmp: *cmp,
+            value: u64::from(*v),
+            value_span: sp,
+        },
         Prop::Const(b) => Expr::Const(*b, sp),
         Prop::Not(a) => Expr::Not(Box::new(prop_expr(m, a)), sp),
         Prop::And(a, b) => Expr::And(Box::new(prop_expr(m, a)), Box::new(prop_expr(m, b))),
@@ -322,9 +354,12 @@ fn class_prop(m: &Machine, min: &Minimization, p: &Prop) -> Prop {
         Prop::Not(a) => Prop::Not(go(a)),
         Prop::And(a, b) => Prop::And(go(a), go(b)),
         Prop::Or(a, b) => Prop::Or(go(a), go(b)),
-        Prop::Input(_) | Prop::Output(_) | Prop::Action(_) | Prop::Event(_) | Prop::Const(_) => {
-            p.clone()
-        }
+        Prop::Input(_)
+        | Prop::Output(_)
+        | Prop::Action(_)
+        | Prop::Event(_)
+        | Prop::Compare(..)
+        | Prop::Const(_) => p.clone(),
     }
 }
 
@@ -543,13 +578,7 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     // from a reachable state; any target keeps the machine valid.
                     (true, None) | (false, _) => Target::Stay,
                 };
-                let actions = lowered
-                    .seq(choice.ops)
-                    .iter()
-                    .map(|op| match op {
-                        Op::Action(a) => *a,
-                    })
-                    .collect();
+                let actions = lowered.seq(choice.ops).to_vec();
                 add(
                     Rule {
                         span: sp,
@@ -659,6 +688,9 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         minimize: m.minimize,
         properties: Vec::new(),
         lints: m.lints.clone(),
+        counters: m.counters.clone(),
+        atoms: m.atoms.clone(),
+        atom_domain: m.atom_domain,
         bdd,
         lowered: Default::default(),
     };
@@ -672,6 +704,28 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                 );
                 q.properties.push(Property::Never {
                     prop,
+                    span: sp,
+                    text,
+                });
+            }
+            Property::Ensure {
+                response,
+                within,
+                trigger,
+                ..
+            } => {
+                let response = class_prop(m, min, response);
+                let trigger = class_prop(m, min, trigger);
+                let text = format!(
+                    "ensure {} within {} after {}",
+                    crate::syntax::print::print_expr(&prop_expr(&q, &response)),
+                    crate::syntax::print::print_within(&within_ast(&q, *within)),
+                    crate::syntax::print::print_expr(&prop_expr(&q, &trigger))
+                );
+                q.properties.push(Property::Ensure {
+                    response,
+                    within: *within,
+                    trigger,
                     span: sp,
                     text,
                 });
@@ -728,6 +782,19 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
     if !q.actions.is_empty() {
         decls.push(decl(DeclKind::Actions(doc_list(&q.actions))));
     }
+    if !q.counters.is_empty() {
+        decls.push(decl(DeclKind::Counters(
+            q.counters
+                .iter()
+                .map(|c| ast::CounterDecl {
+                    doc: Vec::new(),
+                    ident: ident(&c.name),
+                    max: u64::from(c.max),
+                    max_span: Span::call_site(),
+                })
+                .collect(),
+        )));
+    }
     if let Some(tb) = &q.timebase {
         decls.push(decl(DeclKind::Timebase {
             // A clocked machine's time base is its clock: the event is left out.
@@ -744,6 +811,18 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
             Property::Never { prop, .. } => {
                 decls.push(decl(DeclKind::Never(prop_expr(q, prop))));
             }
+            Property::Ensure {
+                response,
+                within,
+                trigger,
+                ..
+            } => {
+                decls.push(decl(DeclKind::Ensure {
+                    response: prop_expr(q, response),
+                    within: within_ast(q, *within),
+                    trigger: prop_expr(q, trigger),
+                }));
+            }
             Property::Recover { target, except, .. } => {
                 decls.push(decl(DeclKind::Recover {
                     target: ident(q.state_name(*target)),
@@ -758,9 +837,17 @@ pub fn quotient_ast(q: &Machine) -> MachineAst {
             .map(|o| ident(&q.outputs[o.index()].name))
             .collect()
     };
-    let action_names = |list: &[crate::model::ActionId]| -> Vec<Ident> {
+    let action_names = |list: &[Op]| -> Vec<ast::OpAst> {
         list.iter()
-            .map(|a| ident(&q.actions[a.index()].name))
+            .map(|op| match op {
+                Op::Action(a) => ast::OpAst::Action(ident(&q.actions[a.index()].name)),
+                Op::Counter(c) => ast::OpAst::Counter {
+                    name: ident(&q.counters[c.counter.index()].name),
+                    kind: c.kind,
+                    value: u64::from(c.value),
+                    value_span: Span::call_site(),
+                },
+            })
             .collect()
     };
     let mut bodies: Vec<Vec<Body>> = vec![Vec::new(); q.states.len()];

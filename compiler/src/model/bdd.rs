@@ -235,6 +235,70 @@ impl BddStore {
         r
     }
 
+    /// The function with some variables fixed (`value(var)`: `Some(b)` fixes `var` to
+    /// `b`, `None` leaves it free): the cofactor.
+    pub fn restrict(&mut self, a: Bdd, value: &dyn Fn(u32) -> Option<bool>) -> Bdd {
+        let mut memo: FxMap<Bdd, Bdd> = FxMap::default();
+        self.restrict_memo(a, value, &mut memo)
+    }
+
+    fn restrict_memo(
+        &mut self,
+        a: Bdd,
+        value: &dyn Fn(u32) -> Option<bool>,
+        memo: &mut FxMap<Bdd, Bdd>,
+    ) -> Bdd {
+        if a.is_false() || a.is_true() || self.overflowed {
+            return a;
+        }
+        if let Some(&r) = memo.get(&a) {
+            return r;
+        }
+        let n = self.node(a);
+        let r = match value(n.var) {
+            Some(true) => self.restrict_memo(n.hi, value, memo),
+            Some(false) => self.restrict_memo(n.lo, value, memo),
+            None => {
+                let lo = self.restrict_memo(n.lo, value, memo);
+                let hi = self.restrict_memo(n.hi, value, memo);
+                self.mk(n.var, lo, hi)
+            }
+        };
+        memo.insert(a, r);
+        r
+    }
+
+    /// Is `a` satisfiable with some variables fixed (`value(var)` as in
+    /// [`BddStore::restrict`])? Builds no node.
+    pub fn sat_under(&self, a: Bdd, value: &dyn Fn(u32) -> Option<bool>) -> bool {
+        let mut memo: FxMap<Bdd, bool> = FxMap::default();
+        self.sat_under_memo(a, value, &mut memo)
+    }
+
+    fn sat_under_memo(
+        &self,
+        a: Bdd,
+        value: &dyn Fn(u32) -> Option<bool>,
+        memo: &mut FxMap<Bdd, bool>,
+    ) -> bool {
+        if a.is_false() || a.is_true() {
+            return a.is_true();
+        }
+        if let Some(&r) = memo.get(&a) {
+            return r;
+        }
+        let n = self.node(a);
+        let r = match value(n.var) {
+            Some(true) => self.sat_under_memo(n.hi, value, memo),
+            Some(false) => self.sat_under_memo(n.lo, value, memo),
+            None => {
+                self.sat_under_memo(n.lo, value, memo) || self.sat_under_memo(n.hi, value, memo)
+            }
+        };
+        memo.insert(a, r);
+        r
+    }
+
     /// Evaluates under a valuation.
     pub fn eval(&self, mut a: Bdd, value: impl Fn(u32) -> bool) -> bool {
         while !a.is_false() && !a.is_true() {

@@ -73,9 +73,10 @@
 //! regions pass the decision-diagram limit is refused here with an error, never left
 //! to answer `false` later.
 
+pub use super::Op;
 use super::{
-    ActionId, Bdd, BddStore, EventId, Guard, InputId, Machine, OutputId, RuleId, Scope, StateId,
-    Target, TimerId, Trigger,
+    ActionId, AtomId, Bdd, BddStore, EventId, Guard, InputId, Machine, OutputId, RuleId, Scope,
+    StateId, Target, TimerId, Trigger,
 };
 
 /// Most due-timeout combinations one cell may have (the product over the state's
@@ -95,13 +96,6 @@ pub enum LookupStep {
     Named,
     /// `_` rules (every rule of a clocked machine), in the scope the lookup uses.
     Wildcard,
-}
-
-/// One operation of a transition's sequence, run in order.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum Op {
-    /// Call an action hook.
-    Action(ActionId),
 }
 
 /// The number of an interned operation sequence ([`Lowered::seq`]); 0 is the empty one.
@@ -213,10 +207,14 @@ pub struct Cell {
     /// The timers whose timeouts this cell can consider (the time-base cell of a state
     /// whose scopes have timers: those timers, innermost scope first; empty otherwise).
     pub timers: Vec<TimerId>,
-    /// The exact regions for each combination of due timeouts ([`Variant`]); one
-    /// variant (nothing due) in a cell without timers. Indexed in mixed radix over
-    /// `timers`: digit `k` is 0 when timer `timers[k]` has nothing due, `j` when its
-    /// `j`th duration (ascending, from 1) is due ([`Lowered::variant_index`]).
+    /// The counter comparisons the guards of the reached rules read, ascending.
+    pub atoms: Vec<AtomId>,
+    /// The exact regions for each combination of due timeouts and values of the
+    /// counter comparisons ([`Variant`]); one variant (nothing due) in a cell without
+    /// timers and comparisons. Indexed in mixed radix: first over `timers` (digit `k` is
+    /// 0 when timer `timers[k]` has nothing due, `j` when its `j`th duration, ascending
+    /// from 1, is due), then one binary digit per comparison of `atoms` (1: it holds)
+    /// ([`Lowered::variant_index_with`]).
     pub variants: Vec<Variant>,
 }
 
@@ -225,6 +223,8 @@ pub struct Cell {
 pub struct Variant {
     /// The due timeouts, one per timer at most.
     pub due: Vec<(TimerId, u32)>,
+    /// The value of each counter comparison of [`Cell::atoms`] in this variant.
+    pub atoms: Vec<bool>,
     /// Per choice (parallel to [`Cell::choices`]): where it fires, given this due set
     /// (`FALSE` for a timeout choice that is not due).
     pub regions: Vec<Bdd>,
@@ -296,11 +296,9 @@ impl Lowered {
         &self.seqs
     }
 
-    /// The actions of a sequence, in order.
+    /// The actions of a sequence, in order (counter operations left out).
     pub fn actions(&self, id: SeqId) -> impl Iterator<Item = ActionId> + '_ {
-        self.seq(id).iter().map(|op| match op {
-            Op::Action(a) => *a,
-        })
+        self.seq(id).iter().filter_map(Op::action)
     }
 
     /// An interned output set, ascending.
@@ -371,13 +369,25 @@ impl Lowered {
     }
 
     /// The variant of `cell` for a due set given per timer of [`Cell::timers`] as the
-    /// due duration (`None`: nothing due). Durations that are not the timer's are read
-    /// as nothing due.
+    /// due duration (`None`: nothing due), every counter comparison false. Durations
+    /// that are not the timer's are read as nothing due.
     pub fn variant_index(
         &self,
         m: &Machine,
         cell: &Cell,
         due: &dyn Fn(TimerId) -> Option<u32>,
+    ) -> usize {
+        self.variant_index_with(m, cell, due, &|_| false)
+    }
+
+    /// The variant of `cell` for a due set (as [`Lowered::variant_index`]) and the
+    /// values of the counter comparisons ([`Cell::atoms`]) at the start of the step.
+    pub fn variant_index_with(
+        &self,
+        m: &Machine,
+        cell: &Cell,
+        due: &dyn Fn(TimerId) -> Option<u32>,
+        atom: &dyn Fn(AtomId) -> bool,
     ) -> usize {
         let mut index = 0;
         let mut stride = 1;
@@ -388,6 +398,12 @@ impl Lowered {
                 .map_or(0, |j| j + 1);
             index += digit * stride;
             stride *= durations.len() + 1;
+        }
+        for &a in &cell.atoms {
+            if atom(a) {
+                index += stride;
+            }
+            stride *= 2;
         }
         index
     }
@@ -445,6 +461,7 @@ pub struct Sampler<'a> {
     values: Vec<Option<bool>>,
     read: &'a mut dyn FnMut(InputId) -> bool,
     order: Vec<InputId>,
+    atoms: Vec<bool>,
 }
 
 impl<'a> Sampler<'a> {
@@ -454,7 +471,15 @@ impl<'a> Sampler<'a> {
             values: vec![None; n_inputs],
             read,
             order: Vec::new(),
+            atoms: Vec::new(),
         }
+    }
+
+    /// The same sampler, with the value of each counter comparison
+    /// ([`Machine::atoms`]) at the start of the step (missing ones read false).
+    pub fn with_atoms(mut self, atoms: Vec<bool>) -> Self {
+        self.atoms = atoms;
+        self
     }
 
     /// The input's value in this step: read now if no test has needed it yet.
@@ -477,6 +502,7 @@ impl<'a> Sampler<'a> {
     pub fn holds(&mut self, g: &Guard) -> bool {
         match g {
             Guard::Input(i) => self.get(*i),
+            Guard::Atom(a) => self.atoms.get(a.index()).copied().unwrap_or(false),
             Guard::Const(b) => *b,
             Guard::Not(a) => !self.holds(a),
             Guard::And(a, b) => self.holds(a) && self.holds(b),
@@ -501,7 +527,7 @@ impl<'a> Sampler<'a> {
 pub fn fold(g: &Guard) -> Result<Guard, bool> {
     match g {
         Guard::Const(b) => Err(*b),
-        Guard::Input(_) => Ok(g.clone()),
+        Guard::Input(_) | Guard::Atom(_) => Ok(g.clone()),
         Guard::Not(a) => match fold(a) {
             Err(b) => Err(!b),
             Ok(Guard::Not(inner)) => Ok(*inner),
@@ -573,7 +599,8 @@ impl Interner {
 pub enum LowerError {
     /// The firing regions need more decision-diagram nodes than the limit.
     TooManyNodes,
-    /// A state's timers have more due combinations than [`MAX_VARIANTS`].
+    /// A state's cell has more combinations of due timeouts and counter comparisons
+    /// than [`MAX_VARIANTS`].
     TooManyVariants(StateId),
 }
 
@@ -624,7 +651,7 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
                 e,
                 reached,
                 timers,
-            ));
+            )?);
         }
         if named.len() < n_events {
             // The rest class: the first event no scope of the chain names.
@@ -642,7 +669,7 @@ pub fn lower(m: &Machine, bdd: &mut BddStore) -> Result<Lowered, LowerError> {
                 rep,
                 reached,
                 Vec::new(),
-            ));
+            )?);
         }
         if bdd.overflowed() {
             return Err(LowerError::TooManyNodes);
@@ -787,7 +814,16 @@ fn build_cell(
     event: EventId,
     reached: Vec<Reached>,
     timers: Vec<TimerId>,
-) -> Cell {
+) -> Result<Cell, LowerError> {
+    // The counter comparisons the reached rules' guards read.
+    let mut atoms: Vec<AtomId> = reached
+        .iter()
+        .flat_map(|g| &g.rules)
+        .filter_map(|r| m.rules[r.index()].guard_expr.as_ref())
+        .flat_map(|g| g.atoms())
+        .collect();
+    atoms.sort_unstable();
+    atoms.dedup();
     // The due sets, in mixed radix over `timers` (variant 0: nothing due).
     let mut due_sets: Vec<Vec<(TimerId, u32)>> = vec![Vec::new()];
     for &t in &timers {
@@ -804,6 +840,22 @@ fn build_cell(
         }
         due_sets = next;
     }
+    // Then one binary digit per comparison: the variants are (due set, comparison
+    // values), the due sets varying fastest.
+    let n_due = due_sets.len();
+    let n_variants = Some(atoms.len())
+        .filter(|&n| n <= 12)
+        .map(|n| n_due << n)
+        .filter(|&n| n <= MAX_VARIANTS)
+        .ok_or(LowerError::TooManyVariants(s))?;
+    let atom_sets: Vec<Vec<bool>> = (0..n_variants / n_due)
+        .map(|bits| (0..atoms.len()).map(|k| bits >> k & 1 == 1).collect())
+        .collect();
+    let due_sets: Vec<Vec<(TimerId, u32)>> = (0..n_variants)
+        .map(|v| due_sets[v % n_due].clone())
+        .collect();
+    // Each rule's guard with the comparisons of each comparison set fixed.
+    let mut fixed: FxMap<(RuleId, usize), Bdd> = FxMap::default();
     // Per variant, what no earlier choice takes, kept as it shrinks (complementing the
     // growing union for every rule would cost as much as the union each time).
     let mut untaken = vec![Bdd::TRUE; due_sets.len()];
@@ -830,13 +882,31 @@ fn build_cell(
             let mut any = false;
             let mut needs_test = false;
             let mut here = Vec::with_capacity(due_sets.len());
-            let not_guard = bdd.not(rule.guard);
             for (v, set) in due_sets.iter().enumerate() {
                 if untaken[v].is_false() || due.is_some_and(|d| !set.contains(&d)) {
                     here.push(Bdd::FALSE);
                     continue;
                 }
-                let region = bdd.and(rule.guard, untaken[v]);
+                let a = v / n_due;
+                let guard = match fixed.get(&(r, a)) {
+                    Some(&g) => g,
+                    None => {
+                        let values = &atom_sets[a];
+                        let g = if atoms.is_empty() {
+                            rule.guard
+                        } else {
+                            bdd.restrict(rule.guard, &|var| {
+                                m.atom_of_var(var).map(|id| {
+                                    atoms.binary_search(&id).map(|k| values[k]).unwrap_or(false)
+                                })
+                            })
+                        };
+                        fixed.insert((r, a), g);
+                        g
+                    }
+                };
+                let not_guard = bdd.not(guard);
+                let region = bdd.and(guard, untaken[v]);
                 if region.is_false() {
                     // Reached in this variant but never taking anything: the test must
                     // stay, or the choice would take what this variant leaves.
@@ -863,10 +933,7 @@ fn build_cell(
                 Target::Stay => (s, false),
                 Target::To(t) => (t, true),
             };
-            let ops = transition_ops(m, s, r)
-                .into_iter()
-                .map(Op::Action)
-                .collect();
+            let ops = transition_ops(m, s, r);
             choices.push(Choice {
                 rule: r,
                 step: group.step,
@@ -890,13 +957,15 @@ fn build_cell(
         .into_iter()
         .zip(regions)
         .zip(untaken.iter().copied())
-        .map(|((due, regions), unhandled)| Variant {
+        .enumerate()
+        .map(|(v, ((due, regions), unhandled))| Variant {
             due,
+            atoms: atom_sets[v / n_due].clone(),
             regions,
             unhandled,
         })
         .collect();
-    Cell {
+    Ok(Cell {
         state: s,
         events,
         event,
@@ -904,8 +973,9 @@ fn build_cell(
         choices,
         unhandled: untaken[0],
         timers,
+        atoms,
         variants,
-    }
+    })
 }
 
 /// The timers a move from `from` to `to` sets to 0: those of the scopes it enters (`to`
@@ -927,7 +997,7 @@ pub fn entered_timers(m: &Machine, from: StateId, to: StateId) -> Vec<TimerId> {
 /// does not contain `from` (outermost first), then the target's. `stay` runs only the
 /// rule's actions; a rule back to `from` runs `from`'s leave and enter actions but not
 /// its groups' (LANGUAGE.md, "Action order").
-fn transition_ops(m: &Machine, from: StateId, rule: RuleId) -> Vec<ActionId> {
+fn transition_ops(m: &Machine, from: StateId, rule: RuleId) -> Vec<Op> {
     let r = &m.rules[rule.index()];
     let to = match r.target {
         Target::Stay => return r.actions.clone(),

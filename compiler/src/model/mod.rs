@@ -22,6 +22,7 @@ pub use resolve::{
 };
 
 use crate::diag::Lint;
+pub use crate::syntax::ast::{Cmp, CounterOpKind};
 use crate::syntax::ast::{DispatchStyle, LevelAttr, Policy, Vis};
 use proc_macro2::Span;
 
@@ -78,6 +79,121 @@ id_type!(
     /// of the scopes.
     TimerId
 );
+
+id_type!(
+    /// A counter, numbered in declaration order.
+    CounterId
+);
+id_type!(
+    /// A comparison of a counter with a constant that some guard makes (an atom of the
+    /// guards), numbered in order of first use; its BDD variable is
+    /// [`ATOM_VAR_BASE`] plus its number.
+    AtomId
+);
+
+/// The BDD variable of the first counter comparison: inputs are variables
+/// `0..MAX_INPUTS`, comparisons come after them in the order.
+pub const ATOM_VAR_BASE: u32 = resolve::MAX_INPUTS as u32;
+
+/// A bounded counter (`counters strikes to 3;`): `0..=max`, starting at 0.
+#[derive(Clone, Debug)]
+pub struct Counter {
+    /// The name.
+    pub name: String,
+    /// Where it is declared.
+    pub span: Span,
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// The largest value.
+    pub max: u16,
+}
+
+/// A counter compared with a constant, as a guard reads it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct Atom {
+    /// The counter.
+    pub counter: CounterId,
+    /// The comparison.
+    pub cmp: Cmp,
+    /// The constant.
+    pub value: u16,
+}
+
+impl Atom {
+    /// Does the comparison hold when the counter is `v`?
+    pub fn holds(&self, v: u16) -> bool {
+        self.cmp.holds(u64::from(v), u64::from(self.value))
+    }
+
+    /// The atom's BDD variable.
+    pub fn var(id: AtomId) -> u32 {
+        ATOM_VAR_BASE + id.0
+    }
+}
+
+/// A counter operation: `strikes += 1`, `strikes -= 1`, `strikes = 0`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct CounterOp {
+    /// The counter.
+    pub counter: CounterId,
+    /// The operation.
+    pub kind: CounterOpKind,
+    /// The constant.
+    pub value: u16,
+}
+
+impl CounterOp {
+    /// The counter's value after the operation, from `v`, kept in `0..=max` (an
+    /// operation that would leave the range stops at its end, the generated code's
+    /// saturating behaviour), and whether it would have left the range.
+    pub fn apply(&self, v: u16, max: u16) -> (u16, bool) {
+        match self.kind {
+            CounterOpKind::Add => {
+                let x = u32::from(v) + u32::from(self.value);
+                if x > u32::from(max) {
+                    (max, true)
+                } else {
+                    (x as u16, false)
+                }
+            }
+            CounterOpKind::Sub => match v.checked_sub(self.value) {
+                Some(x) => (x, false),
+                None => (0, true),
+            },
+            CounterOpKind::Set => {
+                if self.value > max {
+                    (max, true)
+                } else {
+                    (self.value, false)
+                }
+            }
+        }
+    }
+}
+
+/// One operation of a transition's sequence, run in order.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Op {
+    /// Call an action hook.
+    Action(ActionId),
+    /// Change a counter.
+    Counter(CounterOp),
+}
+
+impl Op {
+    /// The action, when the operation is one.
+    pub fn action(&self) -> Option<ActionId> {
+        match self {
+            Op::Action(a) => Some(*a),
+            Op::Counter(_) => None,
+        }
+    }
+}
+
+/// The actions of an operation list, in order.
+pub fn actions_of(ops: &[Op]) -> impl Iterator<Item = ActionId> + '_ {
+    ops.iter().filter_map(Op::action)
+}
 
 /// The time base: the event that marks time, and what one such event stands for.
 #[derive(Clone, Debug)]
@@ -162,10 +278,10 @@ pub struct State {
     pub emit: Vec<OutputId>,
     /// All Moore outputs: the state's and every enclosing group's, ascending.
     pub moore: Vec<OutputId>,
-    /// `enter do` actions, in order.
-    pub enter: Vec<ActionId>,
-    /// `leave do` actions, in order.
-    pub leave: Vec<ActionId>,
+    /// `enter do` actions and counter operations, in order.
+    pub enter: Vec<Op>,
+    /// `leave do` actions and counter operations, in order.
+    pub leave: Vec<Op>,
     /// The state's own rules.
     pub rules: ScopeRules,
     /// Lint attributes on the state.
@@ -185,10 +301,10 @@ pub struct Group {
     pub parent: Option<GroupId>,
     /// Moore outputs shared by every member.
     pub emit: Vec<OutputId>,
-    /// `enter do` actions.
-    pub enter: Vec<ActionId>,
-    /// `leave do` actions.
-    pub leave: Vec<ActionId>,
+    /// `enter do` actions and counter operations.
+    pub enter: Vec<Op>,
+    /// `leave do` actions and counter operations.
+    pub leave: Vec<Op>,
     /// The group's rules.
     pub rules: ScopeRules,
     /// Every state inside the group, nested groups included, ascending.
@@ -211,18 +327,53 @@ pub enum Guard {
     And(Box<Guard>, Box<Guard>),
     /// Disjunction.
     Or(Box<Guard>, Box<Guard>),
+    /// A counter compared with a constant ([`Machine::atoms`]), read as the counter was
+    /// at the start of the step.
+    Atom(AtomId),
 }
 
 impl Guard {
-    /// Evaluates the guard under a valuation of the inputs.
+    /// Evaluates the guard under a valuation of the inputs, every counter comparison
+    /// false (see [`Guard::eval_with`]).
     pub fn eval(&self, inputs: &dyn Fn(InputId) -> bool) -> bool {
+        self.eval_with(inputs, &|_| false)
+    }
+
+    /// Evaluates the guard under a valuation of the inputs and of the counter
+    /// comparisons.
+    pub fn eval_with(
+        &self,
+        inputs: &dyn Fn(InputId) -> bool,
+        atoms: &dyn Fn(AtomId) -> bool,
+    ) -> bool {
         match self {
+            Guard::Atom(a) => atoms(*a),
+            Guard::Not(g) => !g.eval_with(inputs, atoms),
+            Guard::And(a, b) => a.eval_with(inputs, atoms) && b.eval_with(inputs, atoms),
+            Guard::Or(a, b) => a.eval_with(inputs, atoms) || b.eval_with(inputs, atoms),
             Guard::Input(i) => inputs(*i),
             Guard::Const(b) => *b,
-            Guard::Not(g) => !g.eval(inputs),
-            Guard::And(a, b) => a.eval(inputs) && b.eval(inputs),
-            Guard::Or(a, b) => a.eval(inputs) || b.eval(inputs),
         }
+    }
+
+    /// The counter comparisons the guard reads, ascending, without duplicates.
+    pub fn atoms(&self) -> Vec<AtomId> {
+        fn go(g: &Guard, out: &mut Vec<AtomId>) {
+            match g {
+                Guard::Atom(a) => out.push(*a),
+                Guard::Not(x) => go(x, out),
+                Guard::And(a, b) | Guard::Or(a, b) => {
+                    go(a, out);
+                    go(b, out);
+                }
+                Guard::Input(_) | Guard::Const(_) => {}
+            }
+        }
+        let mut out = Vec::new();
+        go(self, &mut out);
+        out.sort_unstable();
+        out.dedup();
+        out
     }
 }
 
@@ -272,8 +423,8 @@ pub struct Rule {
     pub target: Target,
     /// Mealy outputs of the rule, ascending.
     pub mealy: Vec<OutputId>,
-    /// The rule's own actions, in written order.
-    pub actions: Vec<ActionId>,
+    /// The rule's own actions and counter operations, in written order.
+    pub actions: Vec<Op>,
 }
 
 impl Rule {
@@ -298,6 +449,8 @@ pub enum Prop {
     InState(StateId),
     /// The state after the step is inside this group.
     InGroup(GroupId),
+    /// A counter after the step compared with a constant.
+    Compare(CounterId, Cmp, u16),
     /// A constant.
     Const(bool),
     /// Negation.
@@ -320,6 +473,19 @@ pub enum Property {
         /// The property as written, for messages.
         text: String,
     },
+    /// `ensure R within SPAN after T;`
+    Ensure {
+        /// What must become true.
+        response: Prop,
+        /// The span.
+        within: Deadline,
+        /// What starts the obligation.
+        trigger: Prop,
+        /// The declaration's span.
+        span: Span,
+        /// The property as written, for messages.
+        text: String,
+    },
     /// `recover to S except T, U;`
     Recover {
         /// The state that must stay reachable.
@@ -331,6 +497,15 @@ pub enum Property {
         /// The property as written, for messages.
         text: String,
     },
+}
+
+/// The span of an `ensure` deadline, resolved.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Deadline {
+    /// Time-base events (a duration, in ticks).
+    Ticks(u32),
+    /// Steps of any event.
+    Steps(u32),
 }
 
 /// A resolved machine.
@@ -378,6 +553,14 @@ pub struct Machine {
     pub timebase: Option<Timebase>,
     /// The timers of the scopes with `after` rules.
     pub timers: Vec<Timer>,
+    /// The counters, in declaration order.
+    pub counters: Vec<Counter>,
+    /// The counter comparisons the guards make (each once).
+    pub atoms: Vec<Atom>,
+    /// The valuations of the comparisons' BDD variables that some counter values give
+    /// (`TRUE` without comparisons): what "every valuation of inputs and counters"
+    /// ranges over.
+    pub atom_domain: Bdd,
     /// The node table of every guard (and of the lowered form's regions).
     pub bdd: BddStore,
     /// The lowered transition table: the one definition of which rule fires
@@ -553,8 +736,71 @@ impl Machine {
         !self.timers.is_empty()
     }
 
-    /// The input ids a BDD depends on.
+    /// True when the machine has counters.
+    pub fn has_counters(&self) -> bool {
+        !self.counters.is_empty()
+    }
+
+    /// True when a state alone does not say what the machine does next (timers or
+    /// counters): analyses then run over configurations ([`crate::configs`]).
+    pub fn has_configs(&self) -> bool {
+        self.has_timers() || self.has_counters()
+    }
+
+    /// The input ids a BDD depends on (counter comparisons left out).
     pub fn guard_inputs(&self, guard: Bdd) -> Vec<InputId> {
-        self.bdd.support(guard).into_iter().map(InputId).collect()
+        self.bdd
+            .support(guard)
+            .into_iter()
+            .filter(|&v| v < ATOM_VAR_BASE)
+            .map(InputId)
+            .collect()
+    }
+
+    /// The value of each counter comparison for the given counter values.
+    pub fn atom_values(&self, counters: &[u16]) -> Vec<bool> {
+        self.atoms
+            .iter()
+            .map(|a| a.holds(counters.get(a.counter.index()).copied().unwrap_or(0)))
+            .collect()
+    }
+
+    /// The counter comparison a BDD variable stands for, if it stands for one.
+    pub fn atom_of_var(&self, var: u32) -> Option<AtomId> {
+        var.checked_sub(ATOM_VAR_BASE)
+            .filter(|&k| (k as usize) < self.atoms.len())
+            .map(AtomId)
+    }
+
+    /// An operation as written: `beep`, `strikes += 1`.
+    pub fn op_text(&self, op: &Op) -> String {
+        match op {
+            Op::Action(a) => self.actions[a.index()].name.clone(),
+            Op::Counter(c) => format!(
+                "{} {} {}",
+                self.counters[c.counter.index()].name,
+                c.kind.symbol(),
+                c.value
+            ),
+        }
+    }
+
+    /// A `do` list as written: `beep, strikes += 1`.
+    pub fn ops_text(&self, ops: &[Op]) -> String {
+        ops.iter()
+            .map(|op| self.op_text(op))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
+    /// A counter comparison as written: `strikes < 3`.
+    pub fn atom_text(&self, a: AtomId) -> String {
+        let atom = &self.atoms[a.index()];
+        format!(
+            "{} {} {}",
+            self.counters[atom.counter.index()].name,
+            atom.cmp.symbol(),
+            atom.value
+        )
     }
 }

@@ -62,7 +62,22 @@ enum Signal {
     Input(InputId),
     Output(OutputId),
     Action(ActionId),
+    Counter(CounterId),
 }
+
+impl Signal {
+    fn kind(self) -> &'static str {
+        match self {
+            Signal::Input(_) => "an input",
+            Signal::Output(_) => "an output",
+            Signal::Action(_) => "an action",
+            Signal::Counter(_) => "a counter",
+        }
+    }
+}
+
+/// The largest counter bound and comparison constant (LANGUAGE.md, "Limits").
+pub const MAX_COUNTER: u64 = u16::MAX as u64;
 
 /// What a name in the state/group namespace denotes.
 #[derive(Clone, Copy)]
@@ -78,6 +93,7 @@ enum Kind {
     Input,
     Output,
     Action,
+    Counter,
     State,
     Group,
 }
@@ -108,6 +124,11 @@ struct Resolver<'a> {
     timebase_written: bool,
     /// The timers, in source order of their scopes.
     timers: Vec<Timer>,
+    /// The counters, in declaration order.
+    counters: Vec<Counter>,
+    /// The counter comparisons guards make, in order of first use.
+    atoms: Vec<Atom>,
+    atom_ids: FxMap<Atom, AtomId>,
 }
 
 /// The longest duration, in ticks (LANGUAGE.md, "Limits").
@@ -144,6 +165,9 @@ pub fn resolve(ast: &MachineAst) -> Result<Machine, Vec<Diagnostic>> {
         timebase: None,
         timebase_written: false,
         timers: Vec::new(),
+        counters: Vec::new(),
+        atoms: Vec::new(),
+        atom_ids: FxMap::default(),
     };
     r.run()
 }
@@ -171,6 +195,7 @@ impl<'a> Resolver<'a> {
                 Kind::Input => names.extend(self.inputs.iter().map(|e| e.name.as_str())),
                 Kind::Output => names.extend(self.outputs.iter().map(|e| e.name.as_str())),
                 Kind::Action => names.extend(self.actions.iter().map(|e| e.name.as_str())),
+                Kind::Counter => names.extend(self.counters.iter().map(|e| e.name.as_str())),
                 Kind::State => names.extend(
                     self.places
                         .iter()
@@ -200,6 +225,7 @@ impl<'a> Resolver<'a> {
         let mut never = Vec::new();
         let mut recover = Vec::new();
         let mut timebase = None;
+        let mut ensure = Vec::new();
         for d in &ast.decls {
             let key = match &d.kind {
                 DeclKind::Events(_) => "events",
@@ -211,8 +237,10 @@ impl<'a> Resolver<'a> {
                 DeclKind::Never(_) => "never",
                 DeclKind::Recover { .. } => "recover",
                 DeclKind::Timebase { .. } => "timebase",
+                DeclKind::Counters(_) => "counters",
+                DeclKind::Ensure { .. } => "ensure",
             };
-            if key != "never" && key != "recover" {
+            if key != "never" && key != "recover" && key != "ensure" {
                 if let Some(first) = seen_decl.get(key) {
                     let mut e = Diagnostic::name_error(
                         d.span,
@@ -291,17 +319,46 @@ impl<'a> Resolver<'a> {
                 DeclKind::Never(e) => never.push((e, d.span)),
                 DeclKind::Recover { target, except } => recover.push((target, except, d.span)),
                 DeclKind::Timebase { event, period } => timebase = Some((event, period, d.span)),
+                DeclKind::Counters(list) => {
+                    for c in list {
+                        let id = CounterId::from_index(self.counters.len());
+                        if c.max == 0 || c.max > MAX_COUNTER {
+                            self.err(
+                                c.max_span,
+                                format!(
+                                    "counter `{}` to {}: a counter's largest value is from 1 \
+                                     to {MAX_COUNTER}",
+                                    c.ident.name, c.max
+                                ),
+                            );
+                            continue;
+                        }
+                        let doc = ast::DocIdent {
+                            doc: c.doc.clone(),
+                            ident: c.ident.clone(),
+                        };
+                        if self.declare_signal(&doc, Signal::Counter(id)) {
+                            self.counters.push(Counter {
+                                name: c.ident.name.clone(),
+                                span: c.ident.span,
+                                doc: c.doc.clone(),
+                                max: c.max as u16,
+                            });
+                        }
+                    }
+                }
+                DeclKind::Ensure {
+                    response,
+                    within,
+                    trigger,
+                } => ensure.push((response, within, trigger, d.span)),
             }
         }
         // An event shares no namespace with inputs, outputs and actions, but a property
         // names both kinds: one name for both would be ambiguous there.
         for ev in &self.events {
             if let Some((sig, first)) = self.signals.get(&ev.name) {
-                let kind = match sig {
-                    Signal::Input(_) => "an input",
-                    Signal::Output(_) => "an output",
-                    Signal::Action(_) => "an action",
-                };
+                let kind = sig.kind();
                 let mut diag = Diagnostic::name_error(
                     ev.span,
                     format!("`{}` is both an event and {kind}", ev.name),
@@ -415,6 +472,38 @@ impl<'a> Resolver<'a> {
             }
         }
 
+        for (response, within, trigger, span) in ensure {
+            let text = format!(
+                "ensure {} within {} after {}",
+                crate::syntax::print::print_expr(response),
+                crate::syntax::print::print_within(within),
+                crate::syntax::print::print_expr(trigger)
+            );
+            let r = self.prop(response);
+            let t = self.prop(trigger);
+            let w = match within {
+                ast::Within::Steps(n, at) => match u32::try_from(*n) {
+                    Ok(n) => Some(Deadline::Steps(n)),
+                    Err(_) => {
+                        self.err(*at, "a deadline of more than 2^32 - 1 steps");
+                        None
+                    }
+                },
+                ast::Within::Time(d) => self.duration_ticks(d, "a deadline").map(Deadline::Ticks),
+            };
+            if let (Some(response), Some(trigger), Some(within)) = (r, t, w) {
+                properties.push(Property::Ensure {
+                    response,
+                    within,
+                    trigger,
+                    span,
+                    text,
+                });
+            }
+        }
+
+        let atom_domain = self.atom_domain();
+
         let mut lints = Vec::new();
         let mut dispatch = DispatchStyle::Table;
         let mut minimize = false;
@@ -458,6 +547,9 @@ impl<'a> Resolver<'a> {
             lints,
             timebase: self.timebase,
             timers: self.timers,
+            counters: self.counters,
+            atoms: self.atoms,
+            atom_domain,
             bdd: self.bdd,
             lowered: super::lower::Lowered::default(),
         }
@@ -466,11 +558,7 @@ impl<'a> Resolver<'a> {
 
     fn declare_signal(&mut self, e: &ast::DocIdent, sig: Signal) -> bool {
         if let Some((prev, first)) = self.signals.get(&e.ident.name) {
-            let kind = match prev {
-                Signal::Input(_) => "an input",
-                Signal::Output(_) => "an output",
-                Signal::Action(_) => "an action",
-            };
+            let kind = prev.kind();
             let mut diag = Diagnostic::name_error(
                 e.ident.span,
                 format!("`{}` is already declared as {kind}", e.ident.name),
@@ -644,18 +732,142 @@ impl<'a> Resolver<'a> {
         out
     }
 
-    fn actions_ref(&mut self, list: &[ast::Ident]) -> Vec<ActionId> {
+    /// A `do` list: actions and counter operations, in order.
+    fn ops_ref(&mut self, list: &[ast::OpAst]) -> Vec<Op> {
         let mut out = Vec::new();
-        for i in list {
-            match self.signals.get(&i.name) {
-                Some((Signal::Action(a), _)) => out.push(*a),
-                Some(_) => self.err(i.span, format!("`{}` is not an action", i.name)),
-                None => {
-                    self.undefined(i, format!("undefined action `{}`", i.name), &[Kind::Action])
+        for op in list {
+            match op {
+                ast::OpAst::Action(i) => match self.signals.get(&i.name) {
+                    Some((Signal::Action(a), _)) => out.push(Op::Action(*a)),
+                    Some((Signal::Counter(_), _)) => {
+                        let mut d = Diagnostic::name_error(
+                            i.span,
+                            format!("`{}` is a counter, not an action", i.name),
+                        );
+                        d.helps.push(format!(
+                            "change it with `{0} += 1`, `{0} -= 1` or `{0} = 0`",
+                            i.name
+                        ));
+                        self.errors.push(d);
+                    }
+                    Some(_) => self.err(i.span, format!("`{}` is not an action", i.name)),
+                    None => self.undefined(
+                        i,
+                        format!("undefined action `{}`", i.name),
+                        &[Kind::Action, Kind::Counter],
+                    ),
+                },
+                ast::OpAst::Counter {
+                    name,
+                    kind,
+                    value,
+                    value_span,
+                } => {
+                    let Some(c) = self.counter_ref(name) else {
+                        continue;
+                    };
+                    let max = self.counters[c.index()].max;
+                    if *kind == CounterOpKind::Set && *value > u64::from(max) {
+                        self.err(
+                            *value_span,
+                            format!(
+                                "`{} = {value}`: counter `{}` ranges over 0..={max}",
+                                name.name, name.name
+                            ),
+                        );
+                        continue;
+                    }
+                    if *value > MAX_COUNTER {
+                        self.err(
+                            *value_span,
+                            format!("{value} is over {MAX_COUNTER}, the largest counter value"),
+                        );
+                        continue;
+                    }
+                    out.push(Op::Counter(CounterOp {
+                        counter: c,
+                        kind: *kind,
+                        value: *value as u16,
+                    }));
                 }
             }
         }
         out
+    }
+
+    /// A counter named in an operation or a comparison.
+    fn counter_ref(&mut self, i: &ast::Ident) -> Option<CounterId> {
+        match self.signals.get(&i.name) {
+            Some((Signal::Counter(c), _)) => Some(*c),
+            Some((sig, _)) => {
+                let kind = sig.kind();
+                self.err(
+                    i.span,
+                    format!("`{}` is {kind}, not a counter; only counters are compared with numbers or changed with `+=`, `-=`, `=`", i.name),
+                );
+                None
+            }
+            None => {
+                self.undefined(
+                    i,
+                    format!("undefined counter `{}`", i.name),
+                    &[Kind::Counter],
+                );
+                None
+            }
+        }
+    }
+
+    /// The counter comparison `name cmp value`, interned.
+    fn atom_ref(&mut self, name: &ast::Ident, cmp: Cmp, value: u64, at: Span) -> Option<Atom> {
+        let c = self.counter_ref(name)?;
+        if value > MAX_COUNTER {
+            self.err(
+                at,
+                format!("{value} is over {MAX_COUNTER}, the largest counter value"),
+            );
+            return None;
+        }
+        Some(Atom {
+            counter: c,
+            cmp,
+            value: value as u16,
+        })
+    }
+
+    /// The valuations of the comparisons' variables that some counter values give:
+    /// per counter, the union over its values of the comparisons they make true.
+    fn atom_domain(&mut self) -> Bdd {
+        let mut domain = Bdd::TRUE;
+        for (ci, c) in self.counters.iter().enumerate() {
+            let mine: Vec<(AtomId, Atom)> = self
+                .atoms
+                .iter()
+                .enumerate()
+                .filter(|(_, a)| a.counter.index() == ci)
+                .map(|(k, a)| (AtomId::from_index(k), *a))
+                .collect();
+            if mine.is_empty() {
+                continue;
+            }
+            let mut rows: Vec<Vec<bool>> = (0..=c.max)
+                .map(|v| mine.iter().map(|(_, a)| a.holds(v)).collect())
+                .collect();
+            rows.sort_unstable();
+            rows.dedup();
+            let mut union = Bdd::FALSE;
+            for row in rows {
+                let mut cube = Bdd::TRUE;
+                for ((id, _), &b) in mine.iter().zip(&row) {
+                    let v = self.bdd.var(Atom::var(*id));
+                    let lit = if b { v } else { self.bdd.not(v) };
+                    cube = self.bdd.and(cube, lit);
+                }
+                union = self.bdd.or(union, cube);
+            }
+            domain = self.bdd.and(domain, union);
+        }
+        domain
     }
 
     fn state_ref(&mut self, i: &ast::Ident, what: &str) -> Option<StateId> {
@@ -677,11 +889,7 @@ impl<'a> Resolver<'a> {
         }
     }
 
-    fn resolve_body(
-        &mut self,
-        body: &[Body],
-        scope: Scope,
-    ) -> (Vec<ActionId>, Vec<ActionId>, ScopeRules) {
+    fn resolve_body(&mut self, body: &[Body], scope: Scope) -> (Vec<Op>, Vec<Op>, ScopeRules) {
         let mut enter = Vec::new();
         let mut leave = Vec::new();
         let mut named: FxMap<EventId, Vec<RuleId>> = FxMap::default();
@@ -693,11 +901,11 @@ impl<'a> Resolver<'a> {
         for b in body {
             match b {
                 Body::Enter(list, _) => {
-                    let mut a = self.actions_ref(list);
+                    let mut a = self.ops_ref(list);
                     enter.append(&mut a);
                 }
                 Body::Leave(list, _) => {
-                    let mut a = self.actions_ref(list);
+                    let mut a = self.ops_ref(list);
                     leave.append(&mut a);
                 }
                 Body::Rule(ast_rule) => {
@@ -908,7 +1116,7 @@ impl<'a> Resolver<'a> {
             },
         };
         let mealy = self.outputs_ref(&rule.emit);
-        let actions = self.actions_ref(&rule.actions);
+        let actions = self.ops_ref(&rule.actions);
         if self.errors.len() > before {
             return None;
         }
@@ -1109,10 +1317,23 @@ impl<'a> Resolver<'a> {
                     let id = *id;
                     (Guard::Input(id), self.bdd.var(id.0))
                 }
+                Some((Signal::Counter(_), _)) => {
+                    let mut d = Diagnostic::name_error(
+                        i.span,
+                        format!("`{}` is a counter: compare it with a number", i.name),
+                    );
+                    d.helps
+                        .push(format!("write `{} > 0`, `{} == 3`, ...", i.name, i.name));
+                    self.errors.push(d);
+                    return None;
+                }
                 Some(_) => {
                     self.err(
                         i.span,
-                        format!("`{}` is not an input; guards read inputs only", i.name),
+                        format!(
+                            "`{}` is not an input; guards read inputs and counters only",
+                            i.name
+                        ),
                     );
                     return None;
                 }
@@ -1126,6 +1347,24 @@ impl<'a> Resolver<'a> {
             Expr::In(i) => {
                 self.err(i.span, "`in` is only allowed in properties");
                 return None;
+            }
+            Expr::Compare {
+                name,
+                cmp,
+                value,
+                value_span,
+            } => {
+                let atom = self.atom_ref(name, *cmp, *value, *value_span)?;
+                let id = match self.atom_ids.get(&atom) {
+                    Some(&id) => id,
+                    None => {
+                        let id = AtomId::from_index(self.atoms.len());
+                        self.atoms.push(atom);
+                        self.atom_ids.insert(atom, id);
+                        id
+                    }
+                };
+                (Guard::Atom(id), self.bdd.var(Atom::var(id)))
             }
             Expr::Const(b, _) => (Guard::Const(*b), self.bdd.constant(*b)),
             Expr::Not(inner, _) => {
@@ -1157,6 +1396,16 @@ impl<'a> Resolver<'a> {
                 Some((Signal::Input(x), _)) => Prop::Input(*x),
                 Some((Signal::Output(x), _)) => Prop::Output(*x),
                 Some((Signal::Action(x), _)) => Prop::Action(*x),
+                Some((Signal::Counter(_), _)) => {
+                    let mut d = Diagnostic::name_error(
+                        i.span,
+                        format!("`{}` is a counter: compare it with a number", i.name),
+                    );
+                    d.helps
+                        .push(format!("write `{} >= 3`, `{} == 0`, ...", i.name, i.name));
+                    self.errors.push(d);
+                    return None;
+                }
                 None => match self.events.iter().position(|e| e.name == i.name) {
                     Some(e) => Prop::Event(EventId::from_index(e)),
                     None if self.inputs_over_limit => return None,
@@ -1185,6 +1434,15 @@ impl<'a> Resolver<'a> {
                     return None;
                 }
             },
+            Expr::Compare {
+                name,
+                cmp,
+                value,
+                value_span,
+            } => {
+                let a = self.atom_ref(name, *cmp, *value, *value_span)?;
+                Prop::Compare(a.counter, a.cmp, a.value)
+            }
             Expr::Const(b, _) => Prop::Const(*b),
             Expr::Not(inner, _) => Prop::Not(Box::new(self.prop(inner)?)),
             Expr::Paren(inner, _) => self.prop(inner)?,

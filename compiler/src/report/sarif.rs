@@ -101,6 +101,13 @@ pub fn lint_help(lint: Lint) -> &'static str {
              The note gives the state, the event and the whole sequence. Run the action in one \
              place."
         }
+        Lint::CounterRange => {
+            "A counter operation (`n += k`, `n -= k`, `n = k`) can take its counter outside \
+             `0..=N` in some reachable configuration. The message gives the shortest trace \
+             that does it. Guard the rule with a comparison (`if n < N`) or widen the \
+             counter's range; generated code would stop the counter at the end of its \
+             range."
+        }
     }
 }
 

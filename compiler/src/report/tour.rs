@@ -38,7 +38,7 @@ impl TourReport {
             plural(t.resets(), "reset"),
             t.covers,
             plural(t.transitions, "transition"),
-            if m.has_timers() {
+            if m.has_configs() {
                 "timers: greedy cover over configurations"
             } else if t.strongly_connected {
                 "strongly connected: postman tour"

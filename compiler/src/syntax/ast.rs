@@ -127,6 +127,17 @@ pub enum DeclKind {
         /// States exempted from the obligation.
         except: Vec<Ident>,
     },
+    /// `counters strikes to 3, retries to 5;`
+    Counters(Vec<CounterDecl>),
+    /// `ensure R within SPAN after T;`
+    Ensure {
+        /// What must happen (`R`).
+        response: Expr,
+        /// How soon.
+        within: Within,
+        /// What starts the obligation (`T`).
+        trigger: Expr,
+    },
     /// `timebase Tick 1 ms;` (event-driven) or `timebase 10 us;` (clocked); the event
     /// and the period may each be left out.
     Timebase {
@@ -180,6 +191,130 @@ impl TimeUnit {
             "s" => TimeUnit::S,
             _ => return None,
         })
+    }
+}
+
+/// One counter of a `counters` declaration: `strikes to 3`.
+#[derive(Clone, Debug)]
+pub struct CounterDecl {
+    /// Doc comment lines.
+    pub doc: Vec<String>,
+    /// The counter's name.
+    pub ident: Ident,
+    /// Its largest value (`N` of `0..=N`).
+    pub max: u64,
+    /// Where the bound is written.
+    pub max_span: Span,
+}
+
+/// The span of an `ensure` deadline.
+#[derive(Clone, Copy, Debug)]
+pub enum Within {
+    /// A duration of the time base.
+    Time(Duration),
+    /// `N steps`: steps of any event.
+    Steps(u64, Span),
+}
+
+impl Within {
+    /// Where the span is written.
+    pub fn span(&self) -> Span {
+        match self {
+            Within::Time(d) => d.span,
+            Within::Steps(_, s) => *s,
+        }
+    }
+}
+
+/// A counter operation's kind.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum CounterOpKind {
+    /// `+= k`
+    Add,
+    /// `-= k`
+    Sub,
+    /// `= k`
+    Set,
+}
+
+impl CounterOpKind {
+    /// The operator as written.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            CounterOpKind::Add => "+=",
+            CounterOpKind::Sub => "-=",
+            CounterOpKind::Set => "=",
+        }
+    }
+}
+
+/// An item of a `do` list: an action, or a counter operation.
+#[derive(Clone, Debug)]
+pub enum OpAst {
+    /// An action hook.
+    Action(Ident),
+    /// `name += k`, `name -= k`, `name = k`.
+    Counter {
+        /// The counter.
+        name: Ident,
+        /// The operation.
+        kind: CounterOpKind,
+        /// The constant.
+        value: u64,
+        /// Where the constant is written.
+        value_span: Span,
+    },
+}
+
+impl OpAst {
+    /// The name the item starts with (the action or the counter).
+    pub fn name(&self) -> &Ident {
+        match self {
+            OpAst::Action(i) | OpAst::Counter { name: i, .. } => i,
+        }
+    }
+}
+
+/// A comparison of a counter with a constant.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Cmp {
+    /// `==`
+    Eq,
+    /// `!=`
+    Ne,
+    /// `<`
+    Lt,
+    /// `<=`
+    Le,
+    /// `>`
+    Gt,
+    /// `>=`
+    Ge,
+}
+
+impl Cmp {
+    /// The operator as written.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Cmp::Eq => "==",
+            Cmp::Ne => "!=",
+            Cmp::Lt => "<",
+            Cmp::Le => "<=",
+            Cmp::Gt => ">",
+            Cmp::Ge => ">=",
+        }
+    }
+
+    /// Does `value CMP k` hold?
+    pub fn holds(self, value: u64, k: u64) -> bool {
+        match self {
+            Cmp::Eq => value == k,
+            Cmp::Ne => value != k,
+            Cmp::Lt => value < k,
+            Cmp::Le => value <= k,
+            Cmp::Gt => value > k,
+            Cmp::Ge => value >= k,
+        }
     }
 }
 
@@ -266,10 +401,10 @@ pub struct GroupAst {
 /// An item in a state or group body.
 #[derive(Clone, Debug)]
 pub enum Body {
-    /// `enter do a, b;`
-    Enter(Vec<Ident>, Span),
+    /// `enter do a, b;` (actions and counter operations, in order)
+    Enter(Vec<OpAst>, Span),
     /// `leave do a, b;`
-    Leave(Vec<Ident>, Span),
+    Leave(Vec<OpAst>, Span),
     /// A rule.
     Rule(RuleAst),
 }
@@ -309,8 +444,8 @@ pub struct RuleAst {
     pub target: Target,
     /// Mealy outputs (`, emit a`).
     pub emit: Vec<Ident>,
-    /// Actions (`, do f`).
-    pub actions: Vec<Ident>,
+    /// Actions and counter operations (`, do f, n += 1`), in order.
+    pub actions: Vec<OpAst>,
     /// Span of the rule's first token.
     pub span: Span,
 }
@@ -333,13 +468,24 @@ pub enum Expr {
     /// `(e)`: kept so that printing round-trips the author's grouping. The span covers
     /// both parentheses.
     Paren(Box<Expr>, Span),
+    /// `counter CMP k`: a counter compared with a constant.
+    Compare {
+        /// The counter.
+        name: Ident,
+        /// The comparison.
+        cmp: Cmp,
+        /// The constant.
+        value: u64,
+        /// Where the constant is written.
+        value_span: Span,
+    },
 }
 
 impl Expr {
     /// The span of the expression's first token (the whole group for `( .. )`).
     pub fn span(&self) -> Span {
         match self {
-            Expr::Name(i) | Expr::In(i) => i.span,
+            Expr::Name(i) | Expr::In(i) | Expr::Compare { name: i, .. } => i.span,
             Expr::Const(_, s) | Expr::Not(_, s) | Expr::Paren(_, s) => *s,
             Expr::And(a, _) | Expr::Or(a, _) => a.span(),
         }
@@ -349,6 +495,7 @@ impl Expr {
     pub fn last_span(&self) -> Span {
         match self {
             Expr::Name(i) | Expr::In(i) => i.span,
+            Expr::Compare { value_span, .. } => *value_span,
             Expr::Const(_, s) | Expr::Paren(_, s) => *s,
             Expr::Not(inner, _) => inner.last_span(),
             Expr::And(_, b) | Expr::Or(_, b) => b.last_span(),

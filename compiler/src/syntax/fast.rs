@@ -184,7 +184,7 @@ impl<'a> P<'a> {
         if (self.word("enter") || self.word("leave")) && self.word2("do") {
             let enter = self.word("enter");
             self.i += 2;
-            let list = self.list()?;
+            let list: Vec<OpAst> = self.list()?.into_iter().map(OpAst::Action).collect();
             self.semi()?;
             return Some(if enter {
                 Body::Enter(list, span)
@@ -232,7 +232,7 @@ impl<'a> P<'a> {
         }
         if self.punct(',') && self.word2("do") {
             self.i += 2;
-            actions = self.list()?;
+            actions = self.list()?.into_iter().map(OpAst::Action).collect();
         }
         if self.punct(',') {
             return None;

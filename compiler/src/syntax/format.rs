@@ -491,11 +491,11 @@ impl Formatter<'_, '_> {
         indent(&mut s, level);
         let span = match b {
             Body::Enter(list, span) => {
-                s.push_str(&format!("enter do {};", names(list)));
+                s.push_str(&format!("enter do {};", super::print::print_ops(list)));
                 *span
             }
             Body::Leave(list, span) => {
-                s.push_str(&format!("leave do {};", names(list)));
+                s.push_str(&format!("leave do {};", super::print::print_ops(list)));
                 *span
             }
             Body::Rule(r) => {
@@ -563,13 +563,6 @@ impl Formatter<'_, '_> {
         }
         out
     }
-}
-
-fn names(list: &[Ident]) -> String {
-    list.iter()
-        .map(|i| i.name.as_str())
-        .collect::<Vec<_>>()
-        .join(", ")
 }
 
 #[cfg(test)]

@@ -40,6 +40,10 @@ mod kw {
     syn::custom_keyword!(preempt);
     syn::custom_keyword!(timebase);
     syn::custom_keyword!(after);
+    syn::custom_keyword!(counters);
+    syn::custom_keyword!(ensure);
+    syn::custom_keyword!(within);
+    syn::custom_keyword!(steps);
 }
 
 /// Parses a token stream (macro input, or a tokenized file) into a [`File`].
@@ -701,6 +705,29 @@ fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
             Vec::new()
         };
         DeclKind::Recover { target, except }
+    } else if is("counters") {
+        input.parse::<kw::counters>()?;
+        DeclKind::Counters(parse_counters(input)?)
+    } else if is("ensure") {
+        input.parse::<kw::ensure>()?;
+        let response = parse_expr(input, true, 0, &mut 0)?;
+        if !input.peek(kw::within) {
+            return Err(
+                input.error("expected `within` and a span (`within 100 ms`, `within 3 steps`)")
+            );
+        }
+        input.parse::<kw::within>()?;
+        let within = parse_within(input)?;
+        if !input.peek(kw::after) {
+            return Err(input.error("expected `after` and the condition that starts the deadline"));
+        }
+        input.parse::<kw::after>()?;
+        let trigger = parse_expr(input, true, 0, &mut 0)?;
+        DeclKind::Ensure {
+            response,
+            within,
+            trigger,
+        }
     } else if is("timebase") {
         input.parse::<kw::timebase>()?;
         let event = if input.cursor().ident().is_some() {
@@ -719,6 +746,156 @@ fn try_parse_decl(input: ParseStream) -> syn::Result<Option<Decl>> {
     };
     expect_semi(input)?;
     Ok(Some(Decl { kind, span }))
+}
+
+/// `counter (',' counter)* ','?` with `counter := doc* IDENT 'to' INT`.
+fn parse_counters(input: ParseStream) -> syn::Result<Vec<CounterDecl>> {
+    let mut items = Vec::new();
+    loop {
+        let attrs = input.call(Attribute::parse_outer)?;
+        let doc = doc_lines(attrs)?;
+        let ident = parse_name(input, "a counter name")?;
+        if !input.peek(kw::to) {
+            return Err(input.error(format!(
+                "expected `to` and the counter's largest value (`{} to 3`)",
+                ident.name
+            )));
+        }
+        input.parse::<kw::to>()?;
+        if !input.peek(syn::LitInt) {
+            return Err(input.error("expected the counter's largest value (a whole number)"));
+        }
+        let lit: syn::LitInt = input.parse()?;
+        let max_span = lit.span();
+        if !lit.suffix().is_empty() {
+            return Err(syn::Error::new(
+                max_span,
+                "a counter bound is a plain whole number",
+            ));
+        }
+        let max: u64 = lit
+            .base10_parse()
+            .map_err(|_| syn::Error::new(max_span, "this bound does not fit in 64 bits"))?;
+        items.push(CounterDecl {
+            doc,
+            ident,
+            max,
+            max_span,
+        });
+        if input.peek(Token![,]) {
+            input.parse::<Token![,]>()?;
+            if input.peek(Token![;]) {
+                break;
+            }
+        } else {
+            break;
+        }
+    }
+    Ok(items)
+}
+
+/// `duration | INT 'steps'`.
+fn parse_within(input: ParseStream) -> syn::Result<Within> {
+    if input.peek(syn::LitInt) && input.peek2(kw::steps) {
+        let lit: syn::LitInt = input.parse()?;
+        let span = lit.span();
+        if !lit.suffix().is_empty() {
+            return Err(syn::Error::new(
+                span,
+                "a number of steps is a plain whole number",
+            ));
+        }
+        let n: u64 = lit
+            .base10_parse()
+            .map_err(|_| syn::Error::new(span, "this number does not fit in 64 bits"))?;
+        input.parse::<kw::steps>()?;
+        return Ok(Within::Steps(n, span));
+    }
+    parse_duration(input).map(Within::Time)
+}
+
+/// The lines of doc-comment attributes; any other attribute is an error.
+fn doc_lines(attrs: Vec<Attribute>) -> syn::Result<Vec<String>> {
+    let mut doc = Vec::new();
+    for attr in attrs {
+        let is_doc = attr.path().is_ident("doc");
+        let text = match (&attr.meta, is_doc) {
+            (
+                syn::Meta::NameValue(syn::MetaNameValue {
+                    value:
+                        syn::Expr::Lit(syn::ExprLit {
+                            lit: syn::Lit::Str(s),
+                            ..
+                        }),
+                    ..
+                }),
+                true,
+            ) => s.value(),
+            _ => {
+                return Err(syn::Error::new(
+                    attr.pound_token.span,
+                    "only doc comments may stand before a name in a list",
+                ))
+            }
+        };
+        for line in text.split('\n') {
+            doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
+        }
+    }
+    Ok(doc)
+}
+
+/// A `do` list: `op (',' op)* ','?` with `op := IDENT | IDENT ('+=' | '-=' | '=') INT`,
+/// stopping before `;` or `{`.
+fn parse_ops(input: ParseStream) -> syn::Result<Vec<OpAst>> {
+    let mut items = vec![parse_op(input)?];
+    while input.peek(Token![,]) && !is_one_of(&word2(input), &["do", "emit"]) {
+        input.parse::<Token![,]>()?;
+        if input.peek(Token![;]) || input.peek(syn::token::Brace) {
+            break;
+        }
+        items.push(parse_op(input)?);
+    }
+    Ok(items)
+}
+
+fn parse_op(input: ParseStream) -> syn::Result<OpAst> {
+    let name = parse_name(input, "an action or counter name")?;
+    let kind = if input.peek(Token![+=]) {
+        input.parse::<Token![+=]>()?;
+        CounterOpKind::Add
+    } else if input.peek(Token![-=]) {
+        input.parse::<Token![-=]>()?;
+        CounterOpKind::Sub
+    } else if input.peek(Token![=]) && !input.peek(Token![==]) && !input.peek(Token![=>]) {
+        input.parse::<Token![=]>()?;
+        CounterOpKind::Set
+    } else {
+        return Ok(OpAst::Action(name));
+    };
+    let (value, value_span) = parse_count(input, "the operation's constant")?;
+    Ok(OpAst::Counter {
+        name,
+        kind,
+        value,
+        value_span,
+    })
+}
+
+/// A plain whole number (no suffix, no sign).
+fn parse_count(input: ParseStream, what: &str) -> syn::Result<(u64, Span)> {
+    if !input.peek(syn::LitInt) {
+        return Err(input.error(format!("expected {what} (a whole number)")));
+    }
+    let lit: syn::LitInt = input.parse()?;
+    let span = lit.span();
+    if !lit.suffix().is_empty() {
+        return Err(syn::Error::new(span, "expected a plain whole number"));
+    }
+    let v: u64 = lit
+        .base10_parse()
+        .map_err(|_| syn::Error::new(span, "this number does not fit in 64 bits"))?;
+    Ok((v, span))
 }
 
 fn expect_semi(input: ParseStream) -> syn::Result<()> {
@@ -888,7 +1065,7 @@ fn parse_body(input: ParseStream) -> syn::Result<Body> {
             input.parse::<kw::leave>()?;
         }
         input.parse::<Token![do]>()?;
-        let list = parse_list(input, "an action name")?;
+        let list = parse_ops(input)?;
         expect_semi(input)?;
         return Ok(if enter {
             Body::Enter(list, span)
@@ -1057,7 +1234,7 @@ fn finish_rule(
     if input.peek(Token![,]) && input.peek2(Token![do]) {
         input.parse::<Token![,]>()?;
         input.parse::<Token![do]>()?;
-        actions = parse_list(input, "an action name")?;
+        actions = parse_ops(input)?;
     }
     if input.peek(Token![,]) {
         return Err(input.error("expected `, emit ...` before `, do ...`, then `;`"));
@@ -1166,11 +1343,39 @@ fn parse_not(
         return Ok(Expr::In(name));
     }
     let what = if props {
-        "an input, output or action name, `in STATE`, `!`, `(`, `true` or `false`"
+        "an input, output, action or counter name, `in STATE`, `!`, `(`, `true` or `false`"
     } else {
-        "an input name, `!`, `(`, `true` or `false`"
+        "an input or counter name, `!`, `(`, `true` or `false`"
     };
-    parse_name(input, what).map(Expr::Name)
+    let name = parse_name(input, what)?;
+    let cmp = if input.peek(Token![==]) {
+        input.parse::<Token![==]>()?;
+        Cmp::Eq
+    } else if input.peek(Token![!=]) {
+        input.parse::<Token![!=]>()?;
+        Cmp::Ne
+    } else if input.peek(Token![<=]) {
+        input.parse::<Token![<=]>()?;
+        Cmp::Le
+    } else if input.peek(Token![>=]) {
+        input.parse::<Token![>=]>()?;
+        Cmp::Ge
+    } else if input.peek(Token![<]) {
+        input.parse::<Token![<]>()?;
+        Cmp::Lt
+    } else if input.peek(Token![>]) {
+        input.parse::<Token![>]>()?;
+        Cmp::Gt
+    } else {
+        return Ok(Expr::Name(name));
+    };
+    let (value, value_span) = parse_count(input, "a constant to compare the counter with")?;
+    Ok(Expr::Compare {
+        name,
+        cmp,
+        value,
+        value_span,
+    })
 }
 
 #[cfg(test)]

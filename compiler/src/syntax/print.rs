@@ -81,6 +81,27 @@ fn names(list: &[Ident]) -> String {
         .join(", ")
 }
 
+/// A `do` list as written: `beep, strikes += 1`.
+pub fn print_ops(list: &[OpAst]) -> String {
+    list.iter()
+        .map(|op| match op {
+            OpAst::Action(i) => i.name.clone(),
+            OpAst::Counter {
+                name, kind, value, ..
+            } => format!("{} {} {value}", name.name, kind.symbol()),
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// An `ensure` span as written: `100 ms`, `3 steps`.
+pub fn print_within(w: &Within) -> String {
+    match w {
+        Within::Time(d) => print_duration(d),
+        Within::Steps(n, _) => format!("{n} steps"),
+    }
+}
+
 fn print_doc_list(out: &mut String, keyword: &str, list: &[DocIdent]) {
     if list.iter().all(|d| d.doc.is_empty()) {
         let joined = list
@@ -125,6 +146,33 @@ pub(crate) fn print_decl(out: &mut String, d: &Decl) {
                     names(except)
                 );
             }
+        }
+        DeclKind::Counters(list) => {
+            let item = |c: &CounterDecl| format!("{} to {}", c.ident.name, c.max);
+            if list.iter().all(|c| c.doc.is_empty()) {
+                let joined = list.iter().map(item).collect::<Vec<_>>().join(", ");
+                let _ = writeln!(out, "    counters {joined};");
+            } else {
+                let _ = writeln!(out, "    counters");
+                for (i, c) in list.iter().enumerate() {
+                    print_doc(out, &c.doc, 2);
+                    let sep = if i + 1 == list.len() { ";" } else { "," };
+                    let _ = writeln!(out, "        {}{sep}", item(c));
+                }
+            }
+        }
+        DeclKind::Ensure {
+            response,
+            within,
+            trigger,
+        } => {
+            let _ = writeln!(
+                out,
+                "    ensure {} within {} after {};",
+                print_expr(response),
+                print_within(within),
+                print_expr(trigger)
+            );
         }
         DeclKind::Timebase { event, period } => {
             out.push_str("    timebase");
@@ -197,10 +245,10 @@ fn print_body(out: &mut String, b: &Body, level: usize) {
     indent(out, level);
     match b {
         Body::Enter(list, _) => {
-            let _ = writeln!(out, "enter do {};", names(list));
+            let _ = writeln!(out, "enter do {};", print_ops(list));
         }
         Body::Leave(list, _) => {
-            let _ = writeln!(out, "leave do {};", names(list));
+            let _ = writeln!(out, "leave do {};", print_ops(list));
         }
         Body::Rule(r) => {
             out.push_str(&print_rule(r));
@@ -245,7 +293,7 @@ pub fn print_rule(r: &RuleAst) -> String {
         let _ = write!(s, ", emit {}", names(&r.emit));
     }
     if !r.actions.is_empty() {
-        let _ = write!(s, ", do {}", names(&r.actions));
+        let _ = write!(s, ", do {}", print_ops(&r.actions));
     }
     s.push(';');
     s
@@ -258,6 +306,11 @@ pub fn print_expr(e: &Expr) -> String {
         // ctx: 0 = top / inside `||`, 1 = inside `&&`, 2 = under `!`
         match e {
             Expr::Name(i) => out.push_str(&i.name),
+            Expr::Compare {
+                name, cmp, value, ..
+            } => {
+                out.push_str(&format!("{} {} {value}", name.name, cmp.symbol()));
+            }
             Expr::In(i) => {
                 out.push_str("in ");
                 out.push_str(&i.name);

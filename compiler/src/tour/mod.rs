@@ -110,7 +110,7 @@ pub struct Transition {
 /// with timers, reachability and the valuations come from the configuration graph, and
 /// a transition's `inputs` fire it from the first configuration that can.
 pub fn transitions(m: &Machine) -> Vec<Transition> {
-    if m.has_timers() {
+    if m.has_configs() {
         return match crate::configs::explore(m) {
             Ok(g) => timed_transitions(m, &g).0,
             Err(_) => Vec::new(),
@@ -550,7 +550,7 @@ fn greedy(n: usize, start: usize, edges: &[Transition]) -> Vec<u32> {
 
 /// A tour of `m` (see the module doc).
 pub fn tour(m: &Machine) -> Tour {
-    if m.has_timers() {
+    if m.has_configs() {
         return tour_timed(m);
     }
     let edges = transitions(m);

@@ -7,28 +7,37 @@ use super::text::{banner, c_string, comment_text, number_rows};
 use crate::model::{Guard, Machine};
 use std::fmt::Write;
 
-fn guard_c(g: &Guard, p: &str) -> String {
+fn guard_c(m: &Machine, g: &Guard, p: &str) -> String {
     match g {
         Guard::Input(i) => format!("{p}_input_(in, {}u, hooks, ctx)", i.index()),
+        Guard::Atom(a) => {
+            let atom = &m.atoms[a.index()];
+            format!(
+                "(m->counters.{} {} {}u)",
+                m.counters[atom.counter.index()].name,
+                atom.cmp.symbol(),
+                atom.value
+            )
+        }
         Guard::Const(true) => "true".into(),
         Guard::Const(false) => "false".into(),
-        Guard::Not(a) => format!("!{}", guard_c(a, p)),
-        Guard::And(a, b) => format!("({} && {})", guard_c(a, p), guard_c(b, p)),
-        Guard::Or(a, b) => format!("({} || {})", guard_c(a, p), guard_c(b, p)),
+        Guard::Not(a) => format!("!{}", guard_c(m, a, p)),
+        Guard::And(a, b) => format!("({} && {})", guard_c(m, a, p), guard_c(m, b, p)),
+        Guard::Or(a, b) => format!("({} || {})", guard_c(m, a, p), guard_c(m, b, p)),
     }
 }
 
 /// A transition's test in C: the due timeout first (it reads no input: `before[k]` is
 /// timer `k` before this time-base event, clamped to its largest duration), then the
 /// guard.
-fn test_c(t: &Test, p: &str) -> String {
+fn test_c(m: &Machine, t: &Test, p: &str) -> String {
     let due = t
         .due
         .map(|(timer, d)| format!("before[{}u] == {}u", timer.index(), d.saturating_sub(1)));
     match (due, &t.guard) {
-        (Some(d), Some(g)) => format!("{d} && {}", guard_c(g, p)),
+        (Some(d), Some(g)) => format!("{d} && {}", guard_c(m, g, p)),
         (Some(d), None) => d,
-        (None, Some(g)) => guard_c(g, p),
+        (None, Some(g)) => guard_c(m, g, p),
         (None, None) => "true".into(),
     }
 }
@@ -291,7 +300,12 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         }
         let _ = writeln!(c, "    switch (g) {{");
         for (i, g) in l.guards.iter().enumerate() {
-            let _ = writeln!(c, "    case {}u:\n        return {};", i + 1, test_c(g, p));
+            let _ = writeln!(
+                c,
+                "    case {}u:\n        return {};",
+                i + 1,
+                test_c(m, g, p)
+            );
         }
         let _ = writeln!(c, "    default:\n        return true;\n    }}\n}}\n");
     }

@@ -251,7 +251,7 @@ impl Layout {
 fn mark_inputs(g: &Guard, used: &mut [bool]) {
     match g {
         Guard::Input(i) => used[i.index()] = true,
-        Guard::Const(_) => {}
+        Guard::Const(_) | Guard::Atom(_) => {}
         Guard::Not(a) => mark_inputs(a, used),
         Guard::And(a, b) | Guard::Or(a, b) => {
             mark_inputs(a, used);

@@ -84,7 +84,7 @@ fn count_inputs(g: &Guard, count: &mut [usize]) {
                 *c += 1;
             }
         }
-        Guard::Const(_) => {}
+        Guard::Const(_) | Guard::Atom(_) => {}
         Guard::Not(a) => count_inputs(a, count),
         Guard::And(a, b) | Guard::Or(a, b) => {
             count_inputs(a, count);
@@ -126,6 +126,13 @@ impl Gen<'_> {
                 } else {
                     (quote!(hooks.#f()), Prec::Unary)
                 }
+            }
+            Guard::Atom(a) => {
+                let atom = &self.m.atoms[a.index()];
+                let f = ident(&self.m.counters[atom.counter.index()].name);
+                let k = proc_macro2::Literal::u16_unsuffixed(atom.value);
+                let op: TokenStream = atom.cmp.symbol().parse().unwrap_or_default();
+                (quote!((self.counters.#f #op #k)), Prec::Unary)
             }
             Guard::Const(b) => (quote!(#b), Prec::Unary),
             Guard::Not(a) => {
