@@ -16,6 +16,15 @@
 //! the named rules), to other states, to the same state (an external self-transition
 //! that restarts the timer) or `stay`.
 //!
+//! With [`GenConfig::counters`], that many counters (`counters c0 to M, ...`, M from 1
+//! to 7) and partitions that compare them (`c0 < k` / `c0 >= k`, `c0 == 0` / `c0 > 0`,
+//! `x && c0 == k` / `x && c0 != k` / `!x`) beside the input partitions. Operations are
+//! safe by construction, so no spec has a `counter_range` error: `c = k` anywhere
+//! (`c = 0` only in enter/leave lists), `c += 1` only on a part whose guard implies
+//! `c < M`, `c -= 1` only on a part that implies `c > 0` and only in machines whose
+//! enter/leave lists never set counters (a leave list's `c = 0` runs before the rule's
+//! operations, from the value the guard read).
+//!
 //! Seeded and reproducible: the same seed and config give the same text.
 
 use std::fmt::Write;
@@ -42,6 +51,8 @@ pub struct GenConfig {
     pub policy: Option<&'static str>,
     /// Declare a time base and write `after` rules.
     pub timeouts: bool,
+    /// Number of counters (compared in guards, changed in `do` lists).
+    pub counters: usize,
 }
 
 impl Default for GenConfig {
@@ -55,6 +66,7 @@ impl Default for GenConfig {
             groups: true,
             policy: None,
             timeouts: false,
+            counters: 0,
         }
     }
 }
@@ -94,7 +106,14 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         out: String::new(),
         period_us: None,
         timeouts: cfg.timeouts,
+        counters: Vec::new(),
+        counter_lists: false,
     };
+    for i in 0..cfg.counters {
+        let max = [1, 2, 3, 5, 7][g.rng.index(5)];
+        g.counters.push((format!("c{i}"), max));
+    }
+    g.counter_lists = cfg.counters > 0 && g.rng.chance(0.5);
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -112,6 +131,14 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     }
     if !g.actions.is_empty() {
         let _ = writeln!(s, "    actions {};", g.actions.join(", "));
+    }
+    if !g.counters.is_empty() {
+        let list: Vec<String> = g
+            .counters
+            .iter()
+            .map(|(n, m)| format!("{n} to {m}"))
+            .collect();
+        let _ = writeln!(s, "    counters {};", list.join(", "));
     }
     let _ = writeln!(s, "    start S0;");
     let _ = writeln!(s, "    unhandled {policy};");
@@ -182,6 +209,18 @@ struct Gen {
     /// The time base's period, when it has one (durations are then written in time).
     period_us: Option<u64>,
     timeouts: bool,
+    /// The counters and their largest values.
+    counters: Vec<(String, u16)>,
+    /// Enter/leave lists may set counters (to 0); rules then never decrement.
+    counter_lists: bool,
+}
+
+/// A part of a partition: its guard (`None`: always) and the counters its guard
+/// keeps below their largest value (`+= 1` is safe) and above 0 (`-= 1` is safe).
+struct Part {
+    guard: Option<String>,
+    inc: Vec<usize>,
+    dec: Vec<usize>,
 }
 
 impl Gen {
@@ -197,6 +236,70 @@ impl Gen {
             .filter(|_| self.rng.chance(p))
             .cloned()
             .collect()
+    }
+
+    /// An exact partition of the inputs and counter values, each part with the counter
+    /// operations its guard makes safe.
+    fn parts(&mut self) -> Vec<Part> {
+        let plain = |guard| Part {
+            guard,
+            inc: Vec::new(),
+            dec: Vec::new(),
+        };
+        if self.counters.is_empty() || self.rng.chance(0.5) {
+            return self.partition().into_iter().map(plain).collect();
+        }
+        let ci = self.rng.index(self.counters.len());
+        let (c, max) = self.counters[ci].clone();
+        let part = |guard: String, inc: bool, dec: bool| Part {
+            guard: Some(guard),
+            inc: if inc { vec![ci] } else { Vec::new() },
+            dec: if dec { vec![ci] } else { Vec::new() },
+        };
+        match self.rng.index(3) {
+            0 => {
+                let k = self.rng.range(1, usize::from(max)) as u16;
+                vec![
+                    part(format!("{c} < {k}"), k <= max, false),
+                    part(format!("{c} >= {k}"), false, true),
+                ]
+            }
+            1 => vec![
+                part(format!("{c} == 0"), true, false),
+                part(format!("{c} > 0"), false, true),
+            ],
+            _ => match self.inputs.first().cloned() {
+                Some(x) => {
+                    let k = self.rng.range(0, usize::from(max)) as u16;
+                    vec![
+                        part(format!("{x} && {c} == {k}"), k < max, k > 0),
+                        part(format!("{x} && {c} != {k}"), false, false),
+                        part(format!("!{x}"), false, false),
+                    ]
+                }
+                None => vec![
+                    part(format!("{c} <= {max}"), false, false),
+                    part(format!("{c} > {max}"), false, false),
+                ],
+            },
+        }
+    }
+
+    /// Counter operations for a rule on `part`: sometimes `c = k`, `c += 1` where the
+    /// guard keeps `c` below its largest value, `c -= 1` where it keeps it above 0.
+    fn counter_ops(&mut self, part: &Part) -> Vec<String> {
+        let mut out = Vec::new();
+        for (i, (c, max)) in self.counters.clone().into_iter().enumerate() {
+            if part.inc.contains(&i) && self.rng.chance(0.6) {
+                out.push(format!("{c} += 1"));
+            } else if part.dec.contains(&i) && !self.counter_lists && self.rng.chance(0.5) {
+                out.push(format!("{c} -= 1"));
+            } else if self.rng.chance(0.12) {
+                let k = self.rng.range(0, usize::from(max));
+                out.push(format!("{c} = {k}"));
+            }
+        }
+        out
     }
 
     /// An exact partition of the input space as guard texts (`None` = always).
@@ -226,15 +329,24 @@ impl Gen {
     /// any parts of a partition (the rest falls through to the later lookup steps),
     /// never `else`.
     fn rules(&mut self, trigger: &str, level: usize, preempt: bool) {
-        let mut parts = self.partition();
+        let mut parts = self.parts();
         let otherwise = !preempt && self.rng.chance(0.25);
         let n = parts.len();
+        let else_part = || Part {
+            guard: Some("else".into()),
+            inc: Vec::new(),
+            dec: Vec::new(),
+        };
         if otherwise && n > 1 && self.rng.chance(0.7) {
-            parts[n - 1] = Some("else".into());
+            // The complement of the other rules written: dropped parts fall to it
+            // too, so it allows no increment or decrement.
+            parts[n - 1] = else_part();
         } else if otherwise {
-            parts.push(Some("else".into()));
+            parts.push(else_part());
         }
-        for guard in parts {
+        for part in parts {
+            let ops = self.counter_ops(&part);
+            let guard = part.guard;
             let is_else = guard.as_deref() == Some("else");
             if !is_else
                 && (preempt || self.policy != "complete")
@@ -250,7 +362,11 @@ impl Gen {
             let outputs = self.outputs.clone();
             let actions = self.actions.clone();
             let emit = self.pick_some(&outputs, 0.25);
-            let act = self.pick_some(&actions, 0.3);
+            let mut act = self.pick_some(&actions, 0.3);
+            for op in ops {
+                let at = self.rng.range(0, act.len());
+                act.insert(at, op);
+            }
             self.indent(level);
             let mut line = String::new();
             if preempt {
@@ -409,7 +525,15 @@ impl Gen {
         let actions = self.actions.clone();
         for kw in ["enter", "leave"] {
             if self.rng.chance(0.25) {
-                let list = self.pick_some(&actions, 0.5);
+                let mut list = self.pick_some(&actions, 0.5);
+                if self.counter_lists {
+                    for (c, _) in self.counters.clone() {
+                        if self.rng.chance(0.4) {
+                            let at = self.rng.range(0, list.len());
+                            list.insert(at, format!("{c} = 0"));
+                        }
+                    }
+                }
                 if !list.is_empty() {
                     self.indent(level);
                     let _ = writeln!(self.out, "{kw} do {};", list.join(", "));

@@ -23,6 +23,16 @@ fn random_specs_check_without_errors() {
             inputs: 4,
             ..GenConfig::default()
         },
+        GenConfig {
+            counters: 2,
+            ..GenConfig::default()
+        },
+        GenConfig {
+            counters: 1,
+            timeouts: true,
+            events: 0,
+            ..GenConfig::default()
+        },
     ];
     let mut checked = 0;
     for (ci, cfg) in configs.iter().enumerate() {
@@ -38,7 +48,7 @@ fn random_specs_check_without_errors() {
             checked += 1;
         }
     }
-    assert_eq!(checked, 600);
+    assert_eq!(checked, 900);
 }
 
 #[test]
@@ -63,5 +73,28 @@ fn generator_is_deterministic_and_varied() {
         "_ else =>",
     ] {
         assert!(all.contains(needle), "no spec contains `{needle}`");
+    }
+}
+
+#[test]
+fn counter_specs_use_every_operation_and_comparison() {
+    let cfg = GenConfig {
+        counters: 2,
+        ..GenConfig::default()
+    };
+    let all: String = (0..80).map(|s| random_spec(s, &cfg)).collect();
+    for needle in [
+        "counters c0 to ",
+        " += 1",
+        " -= 1",
+        "enter do",
+        " = 0",
+        " < ",
+        " >= ",
+        " == 0",
+        " > 0",
+        " != ",
+    ] {
+        assert!(all.contains(needle), "no counter spec contains `{needle}`");
     }
 }
