@@ -372,6 +372,62 @@ fn interpreter_matches_the_written_counter_rules_on_random_machines() {
     );
 }
 
+/// The lowered form's `resets` is the whole of what a step zeroes (the interpreter,
+/// the configuration graph, the code generators and the hardware port read it and
+/// derive nothing): for a move, every timer but those of the groups holding both the
+/// state it fires in and the target, written here from the scopes; nothing for `stay`.
+/// Before, `resets` listed only the entered scopes and each consumer added the scopes
+/// left on its own.
+#[test]
+fn every_choice_lists_every_timer_its_step_zeroes() {
+    let cfg = GenConfig {
+        timeouts: true,
+        states: (4, 12),
+        ..GenConfig::default()
+    };
+    let (mut moves, mut leaving) = (0usize, 0usize);
+    for seed in 0..60u64 {
+        let text = random_spec(31_000 + seed, &cfg);
+        let m = resolve(&text);
+        for cell in m.lowered.cells() {
+            let from = cell.state;
+            for ch in &cell.choices {
+                let want: Vec<TimerId> = if ch.moves {
+                    let kept: Vec<TimerId> = m
+                        .scope_chain(ch.target)
+                        .into_iter()
+                        .filter(|sc| match sc {
+                            Scope::Group(g) => m.groups[g.index()].states.contains(&from),
+                            Scope::State(_) => false,
+                        })
+                        .filter_map(|sc| m.scope_rules(sc).timer)
+                        .collect();
+                    moves += 1;
+                    let active_after = m.chain_timers(ch.target);
+                    if m.chain_timers(from)
+                        .iter()
+                        .any(|t| !active_after.contains(t))
+                    {
+                        leaving += 1;
+                    }
+                    (0..m.timers.len())
+                        .map(TimerId::from_index)
+                        .filter(|t| !kept.contains(t))
+                        .collect()
+                } else {
+                    Vec::new()
+                };
+                assert_eq!(ch.resets, want, "seed {seed}, rule {:?}\n{text}", ch.rule);
+            }
+        }
+    }
+    // Moves that leave a scope with a timer are there (the case `resets` once missed).
+    assert!(
+        leaving > 50 && moves > leaving,
+        "{moves} moves, {leaving} leave a timer"
+    );
+}
+
 const BLINK: &str = "
 machine Blink {
     events Tick, Press;
