@@ -2,7 +2,10 @@
 //! through the CLI: the burner's one-trial property holds with its 20 s window; with a
 //! 25 s window the checker finds the shortest counterexample, 2,301 steps printed as
 //! two lines (`Demand`, `Tick *2300`), which `detent run` replays to the violation; the
-//! debouncer confirms a press after 20 ms of equal samples and not before.
+//! debouncer confirms a press after 20 ms of equal samples and not before. The burner's
+//! safety-time deadline (`ensure ... within 3 s after in Trial`) holds with a margin
+//! of zero ticks, and a trial one tick (10 ms) longer is refused with the shortest
+//! trace, which `detent run` replays.
 
 use std::path::PathBuf;
 use std::process::Command;
@@ -85,6 +88,53 @@ fn the_burner_window_proof_and_its_long_counterexample() {
             lines[2_301]
         );
         assert!(lines[2_300].contains(r#""to":"Repurge""#));
+    }
+}
+
+#[test]
+fn the_burner_safety_time_holds_to_the_tick_and_one_tick_more_fails() {
+    let burner = example("timed/burner.detent");
+    let text = std::fs::read_to_string(&burner).unwrap();
+    assert!(text.contains("ensure !gas_valve || in Running within 3 s after in Trial;"));
+    assert!(text.contains("after 3 s => Repurge"));
+    // The trial ends exactly at the deadline: proved (the check passes, above and here).
+    let out = detent(&["check", burner.to_str().unwrap()], None);
+    assert_eq!(out.status.code(), Some(0));
+    // One 10 ms tick longer: refused.
+    let slower = text.replace("after 3 s => Repurge", "after 3010 ms => Repurge");
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("burner_slow.detent");
+    std::fs::write(&spec, slower).unwrap();
+    let spec = spec.to_str().unwrap();
+    let out = detent(&["check", "--format", "json", spec], None);
+    assert_eq!(out.status.code(), Some(1));
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let diag = report["machines"][0]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["lint"] == "property")
+        .expect("the deadline is violated")
+        .clone();
+    assert_eq!(
+        diag["message"],
+        "property `ensure !gas_valve || in Running within 3 s after in Trial` is violated at step 1301"
+    );
+    // Demand, 1,000 ticks of purge (the 1,000th enters the trial), 300 ticks of trial
+    // with the gas open and no flame: the 300th completes the 3 s.
+    let trace = diag["trace"].as_array().unwrap();
+    assert_eq!(trace.len(), 2, "{trace:?}");
+    assert_eq!(trace[0]["event"], "Demand");
+    assert_eq!(trace[1]["repeat"], 1300);
+    let out = detent(&["run", spec, "--trace", "-"], Some("Demand\nTick *1300\n"));
+    assert_eq!(out.status.code(), Some(0));
+    let lines: Vec<&str> = std::str::from_utf8(&out.stdout).unwrap().lines().collect();
+    assert_eq!(lines.len(), 1_302);
+    assert!(lines[1_001].contains(r#""to":"Trial""#), "{}", lines[1_001]);
+    // From the trial's entry to the last step the gas is open and no flame is proven.
+    for line in &lines[1_001..] {
+        assert!(line.contains(r#""to":"Trial""#), "{line}");
+        assert!(line.contains("gas_valve"), "{line}");
     }
 }
 
