@@ -27,8 +27,8 @@
 //! (state, event, input valuation).
 
 use crate::syntax::ast::{
-    Attr, Body, Decl, DeclKind, DispatchStyle, DocIdent, Expr, File, Ident, MachineAst, Member,
-    OpAst, Policy, RuleAst, StateAst, Target, Trigger, Vis,
+    Attr, Body, CounterDecl, CounterOpKind, Decl, DeclKind, DispatchStyle, DocIdent, Expr, File,
+    Ident, MachineAst, Member, OpAst, Policy, RuleAst, StateAst, Target, Trigger, Vis, Within,
 };
 use proc_macro2::Span;
 use std::collections::HashMap;
@@ -230,6 +230,71 @@ fn names(field: &str, row: usize, column: usize, what: &str) -> Result<Vec<Strin
     Ok(list)
 }
 
+/// `@counters`: `NAME to MAX, ...` (as `counters` is written in a spec).
+fn read_counters(value: &str, row: usize) -> Result<Vec<(String, u64)>, ImportError> {
+    let mut out = Vec::new();
+    for item in value.split(',').map(str::trim).filter(|x| !x.is_empty()) {
+        let words: Vec<&str> = item.split_whitespace().collect();
+        let (name, max) = match words.as_slice() {
+            [name, "to", max] => (*name, *max),
+            _ => {
+                return err(
+                    row,
+                    2,
+                    format!("`{item}`: a counter is written `NAME to MAX` (`strikes to 3`)"),
+                )
+            }
+        };
+        check_name(name, row, 2, "counter")?;
+        let max: u64 = max.parse().map_err(|_| ImportError {
+            row,
+            column: 2,
+            message: format!("`{max}` is not a whole number (counter `{name}`)"),
+        })?;
+        out.push((name.to_owned(), max));
+    }
+    Ok(out)
+}
+
+/// An `actions` field: whitespace-separated actions and counter operations written
+/// without spaces (`strikes+=1`, `strikes-=1`, `strikes=0`), in order.
+fn read_ops(field: &str, row: usize, column: usize, n: &Names) -> Result<Vec<OpAst>, ImportError> {
+    let mut out = Vec::new();
+    for word in field.split_whitespace() {
+        let split = ["+=", "-=", "="]
+            .iter()
+            .find_map(|op| word.split_once(op).map(|(a, b)| (*op, a, b)));
+        match split {
+            None => {
+                check_name(word, row, column, "action")?;
+                n.check_list(&[word.to_owned()], &n.actions, "action", row, column)?;
+                out.push(OpAst::Action(ident(word)));
+            }
+            Some((op, name, value)) => {
+                check_name(name, row, column, "counter")?;
+                n.check_list(&[name.to_owned()], &n.counters, "counter", row, column)?;
+                let value: u64 = value.parse().map_err(|_| ImportError {
+                    row,
+                    column,
+                    message: format!("`{word}`: expected a whole number after `{op}`"),
+                })?;
+                let kind = match op {
+                    "+=" => CounterOpKind::Add,
+                    "-=" => CounterOpKind::Sub,
+                    _ => CounterOpKind::Set,
+                };
+                out.push(OpAst::Counter {
+                    name: ident(name),
+                    kind,
+                    value,
+                    value_span: Span::call_site(),
+                });
+            }
+        }
+    }
+    Ok(out)
+}
+
 /// What a name in an expression may refer to.
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum ExprKind {
@@ -265,6 +330,7 @@ struct Names {
     inputs: Vec<String>,
     outputs: Vec<String>,
     actions: Vec<String>,
+    counters: Vec<String>,
     states: HashMap<String, usize>,
 }
 
@@ -300,14 +366,17 @@ impl Names {
                 }
                 Ok(())
             }
-            Expr::Compare { name, .. } => err(
-                row,
-                column,
-                format!(
-                    "`{}`: counter comparisons are not read from the table format yet",
-                    name.name
-                ),
-            ),
+            Expr::Compare { name, .. } => {
+                if self.counters.contains(&name.name) {
+                    Ok(())
+                } else {
+                    err(
+                        row,
+                        column,
+                        format!("`{}` is not a declared counter (`@counters`)", name.name),
+                    )
+                }
+            }
             Expr::In(s) => {
                 if kind == ExprKind::Guard {
                     return err(
@@ -381,7 +450,7 @@ fn read_duration(
 }
 
 /// Declaration keys in the order `docs/table-csv.md` lists them.
-const DECLS: [&str; 13] = [
+const DECLS: [&str; 15] = [
     "@machine",
     "@vis",
     "@dispatch",
@@ -390,11 +459,13 @@ const DECLS: [&str; 13] = [
     "@inputs",
     "@outputs",
     "@actions",
+    "@counters",
     "@start",
     "@unhandled",
     "@timebase",
     "@never",
     "@recover",
+    "@ensure",
 ];
 
 /// Reads a CSV state table into a syntax tree with one machine (see the module docs).
@@ -463,6 +534,8 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     let mut start: Option<(String, usize)> = None;
     let mut policy = None;
     let mut nevers: Vec<(String, usize)> = Vec::new();
+    let mut ensures: Vec<(String, usize)> = Vec::new();
+    let mut counters: Vec<(String, u64)> = Vec::new();
     let mut recovers: Vec<(String, usize)> = Vec::new();
     let mut timebase: Option<(String, usize)> = None;
     for r in decl_rows {
@@ -482,7 +555,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         if let Some(c) = (2..7).find(|&c| !r.fields[c].trim().is_empty()) {
             return err(row, c + 1, format!("a `{key}` record has its value in the `event` field and the other fields empty"));
         }
-        if key != "@never" && key != "@recover" {
+        if key != "@never" && key != "@recover" && key != "@ensure" {
             if let Some(first) = seen.insert(key, row) {
                 return err(
                     row,
@@ -565,6 +638,8 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
                 })
             }
             "@never" => nevers.push((value.to_owned(), row)),
+            "@ensure" => ensures.push((value.to_owned(), row)),
+            "@counters" => counters = read_counters(value, row)?,
             "@timebase" => timebase = Some((value.to_owned(), row)),
             _ => recovers.push((value.to_owned(), row)),
         }
@@ -594,14 +669,16 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
     // Names in one namespace must be distinct.
     let mut declared: HashMap<&str, usize> = HashMap::new();
     let decl_row = |key: &str| seen.get(key).copied().unwrap_or(0);
+    let counter_names: Vec<String> = counters.iter().map(|(n, _)| n.clone()).collect();
     for (key, list) in [
         ("@inputs", &inputs),
         ("@outputs", &outputs),
         ("@actions", &actions),
+        ("@counters", &counter_names),
     ] {
         for n in list {
             if let Some(first) = declared.insert(n, decl_row(key)) {
-                return err(decl_row(key), 2, format!("`{n}` is declared twice (inputs, outputs and actions share one namespace; first at row {first})"));
+                return err(decl_row(key), 2, format!("`{n}` is declared twice (inputs, outputs, actions and counters share one namespace; first at row {first})"));
             }
         }
     }
@@ -623,6 +700,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         inputs,
         outputs,
         actions,
+        counters: counter_names,
         states: HashMap::new(),
     };
 
@@ -850,8 +928,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
         };
         let mealy = names(&f[4], row, 5, "output")?;
         names_.check_list(&mealy, &names_.outputs, "output", row, 5)?;
-        let acts = names(&f[5], row, 6, "action")?;
-        names_.check_list(&acts, &names_.actions, "action", row, 6)?;
+        let acts = read_ops(&f[5], row, 6, &names_)?;
         let mut moore = names(&f[6], row, 7, "output")?;
         let mut want = states[si].moore.clone();
         moore.sort();
@@ -885,7 +962,7 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             guard,
             target,
             emit: mealy.iter().map(|n| ident(n)).collect(),
-            actions: acts.iter().map(|n| OpAst::Action(ident(n))).collect(),
+            actions: acts,
             span: Span::call_site(),
         });
     }
@@ -920,10 +997,52 @@ pub fn import_csv(text: &str) -> Result<File, ImportError> {
             decls.push(decl(make(doc_list(list))));
         }
     }
+    if !counters.is_empty() {
+        decls.push(decl(DeclKind::Counters(
+            counters
+                .iter()
+                .map(|(n, max)| CounterDecl {
+                    doc: Vec::new(),
+                    ident: ident(n),
+                    max: *max,
+                    max_span: Span::call_site(),
+                })
+                .collect(),
+        )));
+    }
     decls.push(decl(DeclKind::Start(ident(&start))));
     decls.push(decl(DeclKind::Unhandled(policy)));
     if let Some(tb) = timebase_decl {
         decls.push(decl(tb));
+    }
+    for (text, row) in &ensures {
+        // `R within SPAN after T`, as `ensure` is written in a spec.
+        let form = "the form is `RESPONSE within SPAN after TRIGGER`";
+        let Some((response, rest)) = text.split_once(" within ") else {
+            return err(*row, 2, format!("`@ensure` has no ` within `; {form}"));
+        };
+        let Some((span, trigger)) = rest.split_once(" after ") else {
+            return err(*row, 2, format!("`@ensure` has no ` after `; {form}"));
+        };
+        let r = read_expr(response, ExprKind::Property, *row, 2)?;
+        names_.check_expr(&r, ExprKind::Property, *row, 2)?;
+        let t = read_expr(trigger, ExprKind::Property, *row, 2)?;
+        names_.check_expr(&t, ExprKind::Property, *row, 2)?;
+        let span = span.trim();
+        let within = match span.strip_suffix(" steps") {
+            Some(n) => match n.trim().parse::<u64>() {
+                Ok(n) => Within::Steps(n, Span::call_site()),
+                Err(_) => {
+                    return err(*row, 2, format!("`{span}` is not a number of steps"));
+                }
+            },
+            None => Within::Time(read_duration(span, *row, 2)?),
+        };
+        decls.push(decl(DeclKind::Ensure {
+            response: r,
+            within,
+            trigger: t,
+        }));
     }
     for (text, row) in &nevers {
         let e = read_expr(text, ExprKind::Property, *row, 2)?;

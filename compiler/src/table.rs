@@ -358,6 +358,14 @@ fn action_names(m: &Machine, list: &[Op]) -> Vec<String> {
     list.iter().map(|op| m.op_text(op)).collect()
 }
 
+/// The operations as the CSV writes them: one token each (`strikes+=1`), since the
+/// field's items are separated by spaces.
+fn op_tokens(m: &Machine, list: &[Op]) -> Vec<String> {
+    list.iter()
+        .map(|op| m.op_text(op).replace(' ', ""))
+        .collect()
+}
+
 fn refs(list: &[String]) -> Vec<&str> {
     list.iter().map(String::as_str).collect()
 }
@@ -684,7 +692,7 @@ pub fn to_csv(m: &Machine) -> String {
                 r.guard.as_deref().unwrap_or(""),
                 next,
                 &join(output_names(m, &r.mealy)),
-                &join(refs(&action_names(m, &r.actions))),
+                &join(refs(&op_tokens(m, &r.actions))),
                 &moore,
             ]);
         }
