@@ -1,15 +1,17 @@
 //! The size of detent's own SVG drawing against Graphviz's `dot -Tsvg` of detent's DOT
 //! output of the same machine (the anchor): on every example and on random machines of
 //! 5 to 30 states, the SVG's area (width x height of the `<svg>` element) is compared
-//! with dot's. The goal is 1.5x: every example meets it and so do 38 of the 40 random
-//! machines; two dense ones (seeds 20 and 36, 1.65x and 1.56x) do not yet, so the
-//! random test holds every machine to [`MAX_RANDOM`] and the median to [`MAX_RATIO`],
-//! and fails if more than two machines pass 1.5x.
+//! with dot's. The goal is 1.5x: every example meets it; of the random machines (seeds
+//! 0..[`RANDOM`]) at most [`OVER_GOAL`] may pass it (two of 287 do, 1.52x and 1.56x), and
+//! none may pass [`MAX_RANDOM`]; the median is held to 1.0x. Graphviz 2.43 cannot lay
+//! out some machines ("trouble in init_rank", a dot fault with clusters); they are
+//! counted and left out.
 //!
 //! Units: Graphviz writes its `<svg>` size in points (`width="432pt"`), detent in CSS
 //! pixels (a bare number); a browser shows 1pt as 4/3 px, so dot's figures are converted
-//! to px before the ratio is taken. The figures are printed (run with `--nocapture`)
-//! and recorded in BENCHMARKS.md ("Diagram size").
+//! to px before the ratio is taken. The figures are printed (run with `--no-capture`)
+//! and recorded in BENCHMARKS.md ("Diagram size"). `DETENT_SVG_OUT=<dir>` also writes
+//! each random machine's spec, detent's SVG and dot's SVG there.
 
 use detent_compiler::emit::{diagram, dot, svg};
 use detent_compiler::model::{resolve_file, Machine};
@@ -20,12 +22,14 @@ use std::process::{Command, Stdio};
 
 /// The bound of the brief: our area at most this many times dot's.
 const MAX_RATIO: f64 = 1.5;
-/// The bound every random machine is held to until the two dense ones above get there.
-const MAX_RANDOM: f64 = 1.7;
+/// The bound every random machine is held to.
+const MAX_RANDOM: f64 = 1.6;
 /// At most this many random machines may pass [`MAX_RATIO`].
-const OVER_GOAL: usize = 2;
+const OVER_GOAL: usize = 3;
 /// Random machines measured (seeds 0..RANDOM).
-const RANDOM: u64 = 40;
+/// The median the random machines are held to.
+const MAX_MEDIAN: f64 = 1.0;
+const RANDOM: u64 = 300;
 
 fn machine(text: &str) -> Machine {
     let file = detent_compiler::syntax::parse_source(text).expect("parses");
@@ -58,7 +62,7 @@ fn svg_size(text: &str) -> (f64, f64) {
     )
 }
 
-fn dot_svg(source: &str) -> String {
+fn dot_svg(source: &str) -> Option<String> {
     let mut child = Command::new("dot")
         .arg("-Tsvg")
         .stdin(Stdio::piped())
@@ -75,20 +79,25 @@ fn dot_svg(source: &str) -> String {
         .write_all(source.as_bytes())
         .expect("write to dot");
     let out = child.wait_with_output().expect("dot runs");
-    assert!(
-        out.status.success(),
-        "dot failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).expect("UTF-8")
+    if !out.status.success() {
+        eprintln!(
+            "dot failed: {}",
+            String::from_utf8_lossy(&out.stderr)
+                .lines()
+                .next()
+                .unwrap_or("")
+        );
+        return None;
+    }
+    Some(String::from_utf8(out.stdout).expect("UTF-8"))
 }
 
 /// (our w, our h, dot w, dot h, area ratio) for `m`.
-fn measure(m: &Machine) -> (f64, f64, f64, f64, f64) {
+fn measure(m: &Machine) -> Option<(f64, f64, f64, f64, f64)> {
     let ours = svg_size(&svg::render_svg(&diagram::to_diagram(m)));
-    let theirs = svg_size(&dot_svg(&dot::to_dot(m)));
+    let theirs = svg_size(&dot_svg(&dot::to_dot(m))?);
     let ratio = (ours.0 * ours.1) / (theirs.0 * theirs.1);
-    (ours.0, ours.1, theirs.0, theirs.1, ratio)
+    Some((ours.0, ours.1, theirs.0, theirs.1, ratio))
 }
 
 fn line(name: &str, states: usize, f: (f64, f64, f64, f64, f64)) -> String {
@@ -101,18 +110,33 @@ fn line(name: &str, states: usize, f: (f64, f64, f64, f64, f64)) -> String {
 #[test]
 fn svg_area_is_within_1_5x_of_graphviz_on_every_example() {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples");
-    let mut paths: Vec<_> = std::fs::read_dir(&dir)
-        .expect("examples/")
-        .filter_map(|e| e.ok().map(|e| e.path()))
-        .filter(|p| p.extension().is_some_and(|x| x == "detent"))
-        .collect();
+    // examples/ and its folders (the timed examples sit in examples/timed/).
+    let mut paths: Vec<_> = Vec::new();
+    let mut dirs = vec![dir.clone()];
+    while let Some(dir) = dirs.pop() {
+        for p in std::fs::read_dir(&dir)
+            .expect("examples/")
+            .filter_map(|e| e.ok().map(|e| e.path()))
+        {
+            if p.is_dir() {
+                dirs.push(p);
+            } else if p.extension().is_some_and(|x| x == "detent") {
+                paths.push(p);
+            }
+        }
+    }
     paths.sort();
     assert!(paths.len() >= 6);
     let mut bad = Vec::new();
     for p in paths {
         let m = machine(&std::fs::read_to_string(&p).expect("readable"));
-        let name = p.file_stem().expect("stem").to_string_lossy().to_string();
-        let f = measure(&m);
+        let name = p
+            .strip_prefix(&dir)
+            .unwrap_or(&p)
+            .with_extension("")
+            .to_string_lossy()
+            .to_string();
+        let f = measure(&m).expect("dot lays out every example");
         let l = line(&name, m.states.len(), f);
         println!("{l}");
         if f.4 > MAX_RATIO {
@@ -134,9 +158,28 @@ fn svg_area_against_graphviz_on_random_machines() {
     };
     let mut ratios = Vec::new();
     let mut bad = Vec::new();
+    let mut dot_failed = 0;
     for seed in 0..RANDOM {
         let m = machine(&random_spec(seed, &cfg));
-        let f = measure(&m);
+        let Some(f) = measure(&m) else {
+            dot_failed += 1;
+            continue;
+        };
+        if let Some(dir) = std::env::var_os("DETENT_SVG_OUT") {
+            let dir = std::path::PathBuf::from(dir);
+            std::fs::create_dir_all(&dir).unwrap();
+            std::fs::write(
+                dir.join(format!("s{seed}.svg")),
+                svg::render_svg(&diagram::to_diagram(&m)),
+            )
+            .unwrap();
+            std::fs::write(
+                dir.join(format!("s{seed}.dot.svg")),
+                dot_svg(&dot::to_dot(&m)).unwrap(),
+            )
+            .unwrap();
+            std::fs::write(dir.join(format!("s{seed}.detent")), random_spec(seed, &cfg)).unwrap();
+        }
         let l = line(&format!("random seed {seed}"), m.states.len(), f);
         println!("{l}");
         if f.4 > MAX_RANDOM {
@@ -146,11 +189,16 @@ fn svg_area_against_graphviz_on_random_machines() {
     }
     ratios.sort_by(f64::total_cmp);
     println!(
-        "random machines: {} measured, area ratio min {:.2} median {:.2} max {:.2}",
+        "random machines: {} measured ({dot_failed} that dot cannot lay out left out), area ratio min {:.2} median {:.2} max {:.2}, {} over {MAX_RATIO}x",
         ratios.len(),
         ratios[0],
         ratios[ratios.len() / 2],
-        ratios[ratios.len() - 1]
+        ratios[ratios.len() - 1],
+        ratios.iter().filter(|&&r| r > MAX_RATIO).count()
+    );
+    assert!(
+        dot_failed * 10 <= RANDOM as usize,
+        "dot failed on {dot_failed} machines"
     );
     assert!(
         bad.is_empty(),
@@ -163,7 +211,7 @@ fn svg_area_against_graphviz_on_random_machines() {
         "{over} machines over {MAX_RATIO}x dot's area"
     );
     assert!(
-        ratios[ratios.len() / 2] <= MAX_RATIO,
-        "median over {MAX_RATIO}x"
+        ratios[ratios.len() / 2] <= MAX_MEDIAN,
+        "median over {MAX_MEDIAN}x"
     );
 }

@@ -6,7 +6,9 @@
 //! Set `DETENT_SVG_OUT=<dir>` to also write the sample drawings there (for looking at
 //! them, e.g. after `rsvg-convert -o x.png x.svg`).
 
-use detent_compiler::emit::svg::{layout, render_svg, Cluster, Diagram, Edge, Layout, Node};
+use detent_compiler::emit::svg::{
+    layout, render_svg, Cluster, Diagram, Edge, EdgeGeometry, Layout, Node, PathSeg, Point, Rect,
+};
 use proptest::prelude::*;
 
 fn node(name: &str, detail: &[&str], cluster: Option<usize>, terminal: bool) -> Node {
@@ -284,7 +286,65 @@ fn check_geometry(d: &Diagram, lay: &Layout) -> Result<(), String> {
             }
         }
     }
+    // Each label is attached to its own edge: the edge's path passes within
+    // [`ATTACH`] px of the label's box.
+    for (i, e) in lay.edges.iter().enumerate() {
+        if let Some(b) = e.label_box {
+            let dist = path_points(e)
+                .iter()
+                .map(|p| box_distance(&b, *p))
+                .fold(f64::INFINITY, f64::min);
+            if dist > ATTACH {
+                return Err(format!(
+                    "label of edge {i} ({:?}) is {dist:.1} px from its edge",
+                    e.labels
+                ));
+            }
+        }
+    }
     Ok(())
+}
+
+/// How far a label may sit from its own edge, in px.
+const ATTACH: f64 = 8.0;
+
+/// Points along an edge's path (each segment sampled), the arrowhead's tip included.
+fn path_points(e: &EdgeGeometry) -> Vec<Point> {
+    let mut pts = vec![e.start];
+    let mut cur = e.start;
+    for seg in &e.segs {
+        const STEPS: usize = 24;
+        for k in 1..=STEPS {
+            let t = k as f64 / STEPS as f64;
+            let p = match *seg {
+                PathSeg::Line(p) => Point {
+                    x: cur.x + (p.x - cur.x) * t,
+                    y: cur.y + (p.y - cur.y) * t,
+                },
+                PathSeg::Cubic(a, b, p) => {
+                    let u = 1.0 - t;
+                    let w = [u * u * u, 3.0 * u * u * t, 3.0 * u * t * t, t * t * t];
+                    Point {
+                        x: w[0] * cur.x + w[1] * a.x + w[2] * b.x + w[3] * p.x,
+                        y: w[0] * cur.y + w[1] * a.y + w[2] * b.y + w[3] * p.y,
+                    }
+                }
+            };
+            pts.push(p);
+        }
+        cur = match *seg {
+            PathSeg::Line(p) | PathSeg::Cubic(_, _, p) => p,
+        };
+    }
+    pts.push(e.arrow[0]);
+    pts
+}
+
+/// Distance from `p` to the rectangle `r` (0 inside).
+fn box_distance(r: &Rect, p: Point) -> f64 {
+    let dx = (r.x - p.x).max(p.x - r.right()).max(0.0);
+    let dy = (r.y - p.y).max(p.y - r.bottom()).max(0.0);
+    dx.hypot(dy)
 }
 
 #[test]
@@ -455,6 +515,40 @@ proptest! {
         let lay = layout(&d);
         if let Err(msg) = check_geometry(&d, &lay) {
             prop_assert!(false, "{}", msg);
+        }
+    }
+}
+
+/// The diagrams of random machines (`tests/src/gen.rs`: 5 to 30 states, groups nested up
+/// to three deep, group rules drawn once from the border, `_` rules) keep every
+/// invariant of [`check_geometry`]: labels beside their own edge, overlapping no node
+/// and no other label; and no label line is a lone `_`.
+#[test]
+fn random_machines_keep_the_layout_invariants() {
+    use detent_compiler::emit::diagram;
+    use detent_tests::gen::{random_spec, GenConfig};
+    let cfg = GenConfig {
+        states: (5, 30),
+        ..GenConfig::default()
+    };
+    for seed in 0..60 {
+        let text = random_spec(seed, &cfg);
+        let file = detent_compiler::syntax::parse_source(&text).expect("parses");
+        let (ms, errors) = detent_compiler::model::resolve_file(&file);
+        assert!(errors.is_empty(), "{errors:?}");
+        let d = diagram::to_diagram(&ms[0]);
+        let lay = layout(&d);
+        if let Err(msg) = check_geometry(&d, &lay) {
+            panic!("seed {seed}: {msg}");
+        }
+        for e in &lay.edges {
+            assert!(
+                e.labels
+                    .iter()
+                    .all(|l| l.trim() != "_" && !l.starts_with("_ ") && !l.contains("| _")),
+                "seed {seed}: a bare `_` label: {:?}",
+                e.labels
+            );
         }
     }
 }

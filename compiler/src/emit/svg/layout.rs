@@ -43,6 +43,17 @@
 //!    with their label beside them (their room is part of the node's width), and parallel
 //!    edges of one direction are merged into one edge with stacked labels.
 //!
+//! **Candidates.** [`layout`] runs the phases six times, with three ways of layering
+//! ([`Layering`]: depth bands; each unit beside the cluster it leaves from; flat edges
+//! turned into downward ones) and two of placing horizontally (free, or held between two
+//! walls as far apart as the narrowest drawing the rank orders allow), and keeps the
+//! drawing of least area (the first on a tie). Free placement straightens edges best but
+//! lets a drawing drift into a diagonal (a cluster top left, the states it leads to
+//! bottom right); between walls the same median rounds straighten edges inside the
+//! narrowest width. Measured against Graphviz (BENCHMARKS.md, "Diagram size") the walls
+//! took the random median from 0.84x to 0.68x of dot's area and the worst machine from
+//! 2.41x to 1.56x.
+//!
 //! Text is measured as `characters * font size * 0.61`, which holds for the monospace
 //! font the SVG asks for (DejaVu Sans Mono advances 0.602 em). Output depends only on
 //! the input order: no hash-map iteration anywhere.
@@ -270,6 +281,26 @@ struct Scope<'a> {
     /// Members of each cluster, nested ones included.
     members: &'a [Vec<usize>],
     start: Option<usize>,
+    /// How depths become layers.
+    mode: Layering,
+}
+
+/// The ways [`Scope::layers`] turns the units of a scope into layers; [`layout`] draws
+/// the diagram with each and keeps the smallest drawing.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Layering {
+    /// The units at one breadth-first depth share a band of layers as tall as the
+    /// tallest of them.
+    Bands,
+    /// Each unit starts one layer below the node that leads into it from the unit that
+    /// reached it: a unit reached from the middle of a cluster sits beside the rest of
+    /// that cluster, not below all of it.
+    Beside,
+    /// Bands, with the depth of a unit the longest path to it along the edges that lead
+    /// forward in breadth-first order: an edge between units of one depth leads one
+    /// layer down instead of running flat, which trades width (the U's of flat edges and
+    /// their labels side by side) for depth.
+    Deep,
 }
 
 impl Scope<'_> {
@@ -324,22 +355,27 @@ impl Scope<'_> {
             .chain((0..nu).filter(|&u| entered[u]))
             .chain(0..nu);
         let mut depth = vec![usize::MAX; nu];
+        // Units in the order the searches reach them.
+        let mut order: Vec<usize> = Vec::with_capacity(nu);
         for root in roots {
             if depth[root] != usize::MAX {
                 continue;
             }
             depth[root] = 0;
+            order.push(root);
             let mut queue = VecDeque::from([root]);
             while let Some(v) = queue.pop_front() {
                 for &w in &next[v] {
                     if depth[w] == usize::MAX {
                         depth[w] = depth[v] + 1;
+                        order.push(w);
                         queue.push_back(w);
                     }
                 }
             }
         }
-        // Heights: a node is one layer; a cluster lays itself out.
+        // Heights: a node is one layer; a cluster lays itself out (its members' layers
+        // are then relative to its top).
         let mut height = vec![1usize; nu];
         for (u, &code) in units.iter().enumerate() {
             if code >= layer.len() && usize::MAX - code < self.members.len() {
@@ -349,19 +385,63 @@ impl Scope<'_> {
                 layer[code] = 0;
             }
         }
-        let levels = depth.iter().map(|&d| d + 1).max().unwrap_or(0);
-        let mut band = vec![0usize; levels];
-        for u in 0..nu {
-            band[depth[u]] = band[depth[u]].max(height[u]);
+        // Each unit starts one layer below the node that leads into it from the unit
+        // that reached it (the nearest such node, entering at the node the edge enters):
+        // a unit reached from the middle of a cluster sits beside the rest of that
+        // cluster, not below all of it, so the drawing grows as deep as the paths
+        // through it, not as deep as the sum of the clusters' heights.
+        let mut into: Vec<Vec<(usize, usize, usize)>> = vec![Vec::new(); nu];
+        for &i in nodes {
+            let ui = index[&unit_of(i)];
+            for &w in self.adj[i].iter().filter(|&&w| in_scope[w]) {
+                let uw = index[&unit_of(w)];
+                if ui != uw && depth[ui] != usize::MAX && depth[ui] + 1 == depth[uw] {
+                    into[uw].push((ui, i, w));
+                }
+            }
         }
-        let mut offset = vec![0usize; levels + 1];
-        for d in 0..levels {
-            offset[d + 1] = offset[d] + band[d];
+        let mut top = vec![0usize; nu];
+        if self.mode == Layering::Beside {
+            for &u in &order {
+                top[u] = into[u]
+                    .iter()
+                    .map(|&(v, i, w)| (top[v] + layer[i] + 1).saturating_sub(layer[w]))
+                    .min()
+                    .unwrap_or(0);
+            }
+        } else {
+            if self.mode == Layering::Deep {
+                // Longest paths over the edges that lead forward in the search order
+                // (acyclic: the order is a topological order of them).
+                let mut rank = vec![0usize; nu];
+                for (p, &u) in order.iter().enumerate() {
+                    rank[u] = p;
+                }
+                for &v in &order {
+                    for &w in &next[v] {
+                        if rank[w] > rank[v] {
+                            depth[w] = depth[w].max(depth[v] + 1);
+                        }
+                    }
+                }
+            }
+            let levels = depth.iter().map(|&d| d + 1).max().unwrap_or(0);
+            let mut band = vec![0usize; levels];
+            for u in 0..nu {
+                band[depth[u]] = band[depth[u]].max(height[u]);
+            }
+            let mut offset = vec![0usize; levels + 1];
+            for d in 0..levels {
+                offset[d + 1] = offset[d] + band[d];
+            }
+            for u in 0..nu {
+                top[u] = offset[depth[u]];
+            }
         }
         for &i in nodes {
-            layer[i] += offset[depth[index[&unit_of(i)]]];
+            layer[i] += top[index[&unit_of(i)]];
         }
-        offset[levels]
+        (0..nu).map(|u| top[u] + height[u]).max().unwrap_or(0)
     }
 }
 
@@ -423,6 +503,23 @@ fn sanitize_parents(d: &Diagram) -> Vec<Option<usize>> {
 /// Computes the layered layout of `d`. Indices out of range (edge ends, node clusters,
 /// cluster parents) are ignored; a cluster parent cycle is cut.
 pub fn layout(d: &Diagram) -> Layout {
+    let mut best: Option<Layout> = None;
+    let modes = [Layering::Bands, Layering::Beside, Layering::Deep];
+    let bounds = [None, Some(1.0)];
+    for (mode, bound) in modes.into_iter().flat_map(|m| bounds.map(|b| (m, b))) {
+        let lay = layout_with(d, mode, bound);
+        if best
+            .as_ref()
+            .is_none_or(|b| lay.width * lay.height < b.width * b.height - 1e-6)
+        {
+            best = Some(lay);
+        }
+    }
+    best.unwrap_or_else(|| layout_with(d, Layering::Bands, None))
+}
+
+/// [`layout`] with one way of layering.
+fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
     let n = d.nodes.len();
     let nc = d.clusters.len();
     let cparent = sanitize_parents(d);
@@ -546,6 +643,7 @@ pub fn layout(d: &Diagram) -> Layout {
             adj: &adj,
             members: &members,
             start,
+            mode,
         };
         scope.layers(&all, 0, &mut layer);
     }
@@ -843,7 +941,7 @@ pub fn layout(d: &Diagram) -> Layout {
     orderer.refresh_pos();
 
     // 5. Horizontal coordinates.
-    let xs = place_x(&items, &orderer, &up, &down, &cpath, &cparent, d);
+    let xs = place_x(&items, &orderer, &up, &down, &cpath, &cparent, d, bound);
     let lvar = |c: usize| ni + 2 * c;
     let rvar = |c: usize| ni + 2 * c + 1;
 
@@ -1622,6 +1720,7 @@ fn place_x(
     cpath: &[Vec<usize>],
     cparent: &[Option<usize>],
     d: &Diagram,
+    bound: Option<f64>,
 ) -> Vec<f64> {
     let ni = items.len();
     let nc = cpath.len();
@@ -1676,17 +1775,32 @@ fn place_x(
         cons.push((lvar(c), rvar(c), header + 2.0 * CL_PAD));
     }
 
+    // With a bound, two more variables are the drawing's walls, held (by a large
+    // weight) at most `bound` times the narrowest width the orders allow apart: the
+    // median rounds then straighten edges inside that width instead of letting the
+    // drawing spread sideways.
+    let (left, right, nx) = (nv, nv + 1, nv + 2);
+    if bound.is_some() {
+        for (i, it) in items.iter().enumerate() {
+            cons.push((left, i, it.lext));
+            cons.push((i, right, it.rext));
+        }
+        for c in 0..nc {
+            cons.push((left, lvar(c), 0.0));
+            cons.push((rvar(c), right, 0.0));
+        }
+    }
     // Variables: one per slot. (Merging the inner items of a long edge into one variable
     // would draw it as one straight vertical run, at the price of a column as wide as its
     // label through every rank it crosses; measured against Graphviz that doubled the
     // width of dense machines, so each item of a long edge moves on its own.)
-    let var: Vec<usize> = (0..nv).collect();
-    let (incoming, outgoing) = var_graph(&var, &cons, nv);
-    let topo = match topo_order(&var, &cons, nv) {
+    let var: Vec<usize> = (0..nx).collect();
+    let (incoming, outgoing) = var_graph(&var, &cons, nx);
+    let topo = match topo_order(&var, &cons, nx) {
         Some(t) => t,
         None => {
             debug_assert!(false, "horizontal constraints must be acyclic");
-            (0..nv).filter(|&v| var[v] == v).collect()
+            (0..nx).filter(|&v| var[v] == v).collect()
         }
     };
     let push_right = |x: &mut [f64]| {
@@ -1698,13 +1812,19 @@ fn place_x(
     };
     // Weight of a variable in the projection: the items it stands for; cluster walls
     // follow their contents.
-    let mut weight = vec![0.0; nv];
-    for s in 0..nv {
-        weight[var[s]] += if s < ni { 1.0 } else { 1e-3 };
+    let mut weight = vec![0.0; nx];
+    for s in 0..nx {
+        weight[var[s]] += if s < ni {
+            1.0
+        } else if s < nv {
+            1e-3
+        } else {
+            1e6
+        };
     }
     // Neighbour variables of each variable, above and below.
-    let mut nb_up: Vec<Vec<usize>> = vec![Vec::new(); nv];
-    let mut nb_down: Vec<Vec<usize>> = vec![Vec::new(); nv];
+    let mut nb_up: Vec<Vec<usize>> = vec![Vec::new(); nx];
+    let mut nb_down: Vec<Vec<usize>> = vec![Vec::new(); nx];
     // A leaf (the start dot, a state with one edge) follows its neighbour but does not
     // pull it: it has nothing else to be aligned with.
     let leaf: Vec<bool> = (0..ni)
@@ -1730,15 +1850,16 @@ fn place_x(
                 .filter(|&u| u != v),
         );
     }
-    let is_node: Vec<bool> = (0..nv)
+    let is_node: Vec<bool> = (0..nx)
         .map(|v| v < ni && matches!(items[v].kind, Kind::Node(_)))
         .collect();
 
-    let mut x = vec![0.0; nv];
+    let mut x = vec![0.0; nx];
     push_right(&mut x);
+    let bound_w = x[right] * bound.unwrap_or(1.0);
     let mut depth_order: Vec<usize> = (0..nc).collect();
     depth_order.sort_by_key(|&c| std::cmp::Reverse(cpath[c].len()));
-    let mut wish = vec![0.0; nv];
+    let mut wish = vec![0.0; nx];
     let mut nbx: Vec<f64> = Vec::new();
     for round in 0..ROUNDS {
         // The last rounds only straighten edges and align leaves with their neighbour.
@@ -1802,6 +1923,8 @@ fn place_x(
                 wish[rvar(c)] = x[rvar(c)];
             }
         }
+        wish[left] = 0.0;
+        wish[right] = bound_w;
         satisfy(&topo, &incoming, &wish, &weight, &mut x);
         // Satisfy never splits a block, so an item merged into a block it would rather
         // leave stays stuck to it; one sweep each way moves every variable as close to
