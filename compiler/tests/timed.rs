@@ -250,7 +250,10 @@ fn every_choice_lists_every_timer_its_step_zeroes() {
         }
     }
     // Moves that leave a scope with a timer are there (the case `resets` once missed).
-    assert!(leaving > 50 && moves > leaving, "{moves} moves, {leaving} leave a timer");
+    assert!(
+        leaving > 50 && moves > leaving,
+        "{moves} moves, {leaving} leave a timer"
+    );
 }
 
 const BLINK: &str = "
