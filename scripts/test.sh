@@ -98,4 +98,4 @@ say "Editor package: the grammar tokenizes every example (editors/vscode)"
   npx vsce package --skip-license -o "$(mktemp -d)/detent.vsix")
 
 say "Examples: the README's main command"
-cargo run -q -p detent-cli -- check examples/*.detent examples/timed/*.detent
+cargo run -q -p detent-cli -- check examples/*.detent

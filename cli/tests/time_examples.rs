@@ -1,4 +1,4 @@
-//! The bundled examples with time (`examples/timed/burner.detent`, `examples/timed/debounce.detent`)
+//! The bundled examples with time (`examples/burner.detent`, `examples/debounce.detent`)
 //! through the CLI: the burner's one-trial property holds with its 20 s window; with a
 //! 25 s window the checker finds the shortest counterexample, 2,301 steps printed as
 //! two lines (`Demand`, `Tick *2300`), which `detent run` replays to the violation; the
@@ -39,7 +39,7 @@ fn example(name: &str) -> PathBuf {
 
 #[test]
 fn the_burner_window_proof_and_its_long_counterexample() {
-    let burner = example("timed/burner.detent");
+    let burner = example("burner.detent");
     let out = detent(&["check", burner.to_str().unwrap()], None);
     assert_eq!(
         out.status.code(),
@@ -140,7 +140,7 @@ fn the_burner_safety_time_holds_to_the_tick_and_one_tick_more_fails() {
 
 #[test]
 fn the_debouncer_waits_twenty_milliseconds() {
-    let debounce = example("timed/debounce.detent");
+    let debounce = example("debounce.detent");
     let spec = debounce.to_str().unwrap();
     // A bounce after 10 ms starts the wait again; then 21 high samples confirm.
     let trace = "Tick raw=1 *10\nTick\nTick raw=1 *20\nTick raw=1\n";

@@ -378,7 +378,7 @@ fn a_save_reloads_the_served_page_and_keeps_the_trace() {
 fn a_repeated_trace_line_replays_on_a_timed_page() {
     let tmp = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("repeat");
     std::fs::create_dir_all(&tmp).unwrap();
-    let spec = root().join("examples/timed/debounce.detent");
+    let spec = root().join("examples/debounce.detent");
     let page = tmp.join("debounce.html");
     assert!(Command::new(env!("CARGO_BIN_EXE_detent"))
         .args(["view", spec.to_str().unwrap(), "-o"])

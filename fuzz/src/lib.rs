@@ -186,6 +186,7 @@ fn logic(m: &Machine, enc: u8, ff: u8, tour_steps: &[TourStep]) {
 
 /// The specs the trace target runs traces on: the examples and the test specs.
 pub const TRACE_SPECS: &[(&str, &str)] = &[
+    ("burner", include_str!("../../examples/burner.detent")),
     ("debounce", include_str!("../../examples/debounce.detent")),
     (
         "frame_parser",

@@ -4,12 +4,15 @@
 //! Machines: every `examples/*.detent`, the rule-lookup cases of `tests/specs/inherit/`
 //! (preempt, else, a named rule over a `_`) and random specs from [`random_spec`] over a
 //! spread of [`GenConfig`]s (event-driven and clocked; no inputs to six; groups on and
-//! off; each `unhandled` policy; with and without outputs and actions). Traces: random
-//! ones, plus the machine's transition tour once one exists. Each back end runs the
-//! trace from the start state and reports, after every step, the state number, every
-//! output, the actions in the order they ran, and whether the event was handled or
-//! rejected, as far as that back end can show them; every field must equal the
-//! interpreter's. Back ends covered: C (through the C test harness of
+//! off; each `unhandled` policy; with and without outputs and actions), and, in the
+//! all-back-ends test, the random machines with timeouts of `tests/build.rs`. Traces:
+//! random ones (for a machine with timers, longer and mostly time-base events, so that
+//! timeouts come due), plus the machine's transition tour once one exists. Each back
+//! end runs the trace from the start state and reports, after every step, the state
+//! number, every output, the actions in the order they ran, whether the event was
+//! handled or rejected, and for a machine with timers every timer and `next_timeout`,
+//! as far as that back end can show them; every field must equal the interpreter's
+//! (the Verilog testbench compares the registers of the active timers itself). Back ends covered: C (through the C test harness of
 //! `detent_tests::c_harness`, built with gcc's address and undefined-behaviour
 //! sanitizers), Verilog under Icarus Verilog (the self-checking testbench of the hardware
 //! port), and the four Rust forms (`gen rust` table and match, inline and file-form
@@ -38,9 +41,9 @@ use detent_compiler::model::{EventId, Machine};
 use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
 use detent_tests::c_harness::{
-    build_harness, expected_lines, random_cmds, require_tool, run_harness, Cmd,
+    build_harness, expected_lines, random_cmds, random_timed_cmds, require_tool, run_harness, Cmd,
 };
-use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
+use detent_tests::gen::{random_spec, random_timed_trace, random_trace, GenConfig, Rng};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -64,6 +67,12 @@ struct Seen {
     /// Input numbers in the order the step called their hooks, one entry per call
     /// (`None` when the back end cannot tell: the hardware samples pins).
     reads: Option<Vec<usize>>,
+    /// Every timer after the step, in timer order (empty without timers); `None` for
+    /// a timer the back end does not show (the C harness prints only the timers that
+    /// count in the current state; the interpreter's others are 0).
+    timers: Vec<Option<u32>>,
+    /// `next_timeout` after the step (0: none pending, or no timers).
+    next_timeout: u32,
 }
 
 /// A machine under test: the spec text it came from, and the checked machine.
@@ -119,6 +128,8 @@ fn interpret(m: &Machine, trace: &Trace) -> Vec<Seen> {
             handled: Some(r.handled()),
             rejected: !r.handled() && m.policy == Policy::Reject,
             reads: Some(r.inputs_read.iter().map(|i| i.index()).collect()),
+            timers: config.timers.iter().map(|&v| Some(v)).collect(),
+            next_timeout: m.next_timeout(&config).unwrap_or(0),
         });
     }
     out
@@ -132,6 +143,8 @@ struct CBackend;
 struct CRunner {
     exe: PathBuf,
     reject: bool,
+    /// The machine has timers: each harness line ends in ` t=.. n=..`.
+    timed: bool,
 }
 
 impl Backend for CBackend {
@@ -145,6 +158,7 @@ impl Backend for CBackend {
         Ok(Box::new(CRunner {
             exe,
             reject: case.machine.policy == Policy::Reject,
+            timed: case.machine.has_timers(),
         }))
     }
 }
@@ -157,7 +171,12 @@ impl Backend for CBackend {
 /// restored).
 fn faults_agree(exe: &Path, m: &Machine, label: &str) -> Result<(), String> {
     let seed = 0xFA17 ^ (label.len() as u64) << 16 ^ m.states.len() as u64;
-    let cmds = random_cmds(&mut Rng::new(seed), m, 400, true);
+    let cmds = if m.has_timers() {
+        // Mostly time-base events (timeouts come due), with corrupt timer values too.
+        random_timed_cmds(&mut Rng::new(seed), m, 400, 0.7, true)
+    } else {
+        random_cmds(&mut Rng::new(seed), m, 400, true)
+    };
     let got = run_harness(exe, &cmds)?;
     let want = expected_lines(m, &cmds);
     match got.iter().zip(&want).position(|(g, w)| g != w) {
@@ -185,14 +204,38 @@ impl Runner for CRunner {
             .map(|(e, ins)| Cmd::Step(*e as i64, ins.clone()))
             .collect();
         let lines = run_harness(&self.exe, &cmds)?;
-        // `STATE RC OUTBITS ACTIONS READS` per step (see c_harness).
+        // `STATE RC OUTBITS ACTIONS READS` per step, then ` t=T0,T1,.. n=NEXT` for a
+        // machine with timers (`_`: a timer that does not count in the state; see
+        // c_harness).
         lines
             .iter()
             .map(|l| {
                 let f: Vec<&str> = l.split(' ').collect();
-                if f.len() != 5 {
+                if f.len() != 5 + 2 * usize::from(self.timed) {
                     return Err(format!("bad harness line `{l}`"));
                 }
+                let (timers, next_timeout) = if self.timed {
+                    let t = f[5]
+                        .strip_prefix("t=")
+                        .ok_or_else(|| format!("no timers in `{l}`"))?;
+                    let timers = t
+                        .split(',')
+                        .map(|v| match v {
+                            "_" => Ok(None),
+                            v => v
+                                .parse()
+                                .map(Some)
+                                .map_err(|_| format!("bad timer in `{l}`")),
+                        })
+                        .collect::<Result<Vec<_>, _>>()?;
+                    let next = f[6]
+                        .strip_prefix("n=")
+                        .and_then(|n| n.parse().ok())
+                        .ok_or_else(|| format!("bad next timeout in `{l}`"))?;
+                    (timers, next)
+                } else {
+                    (Vec::new(), 0)
+                };
                 let state = f[0].parse().map_err(|_| format!("bad state in `{l}`"))?;
                 let handled = match f[1] {
                     "0" => true,
@@ -225,6 +268,8 @@ impl Runner for CRunner {
                     handled: Some(handled),
                     rejected: !handled && self.reject,
                     reads: Some(reads),
+                    timers,
+                    next_timeout,
                 })
             })
             .collect()
@@ -467,6 +512,8 @@ fn configs() -> Vec<GenConfig> {
 const SEEDS_PER_CONFIG: u64 = 3;
 const RANDOM_TRACES: usize = 6;
 const TRACE_LEN: usize = 200;
+/// Steps per random trace of a machine with timers (mostly time-base events).
+const TIMED_TRACE_LEN: usize = 600;
 
 fn cases() -> Vec<Case> {
     let mut all = Vec::new();
@@ -497,10 +544,29 @@ fn traces_for(m: &Machine, seed: u64) -> Vec<(String, Trace)> {
     let mut rng = Rng::new(seed);
     let mut out: Vec<(String, Trace)> = (0..RANDOM_TRACES)
         .map(|k| {
-            (
-                format!("random trace {k}"),
-                random_trace(&mut rng, m.events.len(), m.inputs.len(), TRACE_LEN),
-            )
+            let trace = match &m.timebase {
+                // Timed: longer traces with the time base on most steps, so that
+                // timeouts come due (the generator's event 0 stands for the time base).
+                Some(tb) if m.has_timers() => {
+                    let tb = tb.event.index();
+                    random_timed_trace(
+                        &mut rng,
+                        m.events.len(),
+                        m.inputs.len(),
+                        TIMED_TRACE_LEN,
+                        0.8,
+                    )
+                    .into_iter()
+                    .map(|(e, ins)| match e {
+                        0 => (tb, ins),
+                        e if e == tb => (0, ins),
+                        e => (e, ins),
+                    })
+                    .collect()
+                }
+                _ => random_trace(&mut rng, m.events.len(), m.inputs.len(), TRACE_LEN),
+            };
+            (format!("random trace {k}"), trace)
         })
         .collect();
     let t = tour(m);
@@ -535,6 +601,13 @@ fn first_difference(want: &[Seen], got: &[Seen]) -> Option<(usize, String)> {
         }
         if g.reads.is_none() {
             g.reads.clone_from(&w.reads);
+        }
+        for (k, t) in g.timers.iter_mut().enumerate() {
+            if t.is_none() {
+                // Not shown (a timer that does not count in the state): the
+                // interpreter keeps it at 0, which the C harness does not print.
+                *t = w.timers.get(k).copied().flatten();
+            }
         }
         if let Some(reads) = &g.reads {
             if let Some(twice) = reads
@@ -775,6 +848,8 @@ impl Runner for RustForm {
                 handled: None,
                 rejected: o.rejected,
                 reads: Some(o.reads),
+                timers: o.timers.into_iter().map(Some).collect(),
+                next_timeout: o.next_timeout.unwrap_or(0),
             })
             .collect())
     }
@@ -794,13 +869,6 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
             panic!("{} has no machine", rc.name);
         };
         let m = &case.machine;
-        if m.has_timers() {
-            // Timed machines: the Rust forms and C are compared with timers and
-            // `next_timeout` in `differential.rs` and `c_backend.rs`, the hardware port
-            // under Icarus Verilog in `compiler/tests/logic_timed.rs`, the JavaScript in
-            // `js_browser.rs`.
-            continue;
-        }
         let mut runners: Vec<(String, Box<dyn Runner>)> = rc
             .runners
             .iter()

@@ -459,17 +459,32 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
             );
         }
         let tb = m.timebase.as_ref().map_or(0, |t| t.event.index());
+        // A machine whose only event is the time base (a clocked one) counts on every
+        // step: no test of `ev` that could only be true (cppcheck's
+        // knownConditionTrueFalse).
+        let when = if m.events.len() == 1 {
+            "every event is the time base: ".to_string()
+        } else {
+            String::new()
+        };
+        let open = if m.events.len() == 1 {
+            "{".to_string()
+        } else {
+            format!("if ((unsigned int)ev == {tb}u) {{")
+        };
         let _ = writeln!(
             c,
-            "    /* The time-base event: each timer of the state's scopes adds one, stopping at\n       its largest duration. */\n    if ((unsigned int)ev == {tb}u) {{"
+            "    /* The time-base event ({when}each timer of the state's scopes adds one,\n       stopping at its largest duration; a corrupt value above it becomes it). */\n    {open}"
         );
         for (k, timer) in m.timers.iter().enumerate() {
             let max = timer.max();
             let f = &n.timers[k];
             let ty = uint_for(u64::from(max)).0;
+            // min(before + 1, max), read from the field itself: the same value, with
+            // no condition on `before` that a value-flow checker could call constant.
             let _ = writeln!(
                 c,
-                "        if (({p}_active_[s][{}] & 0x{:x}u) != 0u) {{\n            m->{f} = ({ty})(before[{k}] < {max}u ? before[{k}] + 1u : {max}u);\n        }}",
+                "        if (({p}_active_[s][{}] & 0x{:x}u) != 0u) {{\n            m->{f} = ({ty})(m->{f} < {max}u ? m->{f} + 1u : {max}u);\n        }}",
                 k / 8,
                 1u32 << (k % 8),
             );
