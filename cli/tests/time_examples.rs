@@ -93,7 +93,7 @@ fn the_burner_window_proof_and_its_long_counterexample() {
 
 #[test]
 fn the_burner_safety_time_holds_to_the_tick_and_one_tick_more_fails() {
-    let burner = example("timed/burner.detent");
+    let burner = example("burner.detent");
     let text = std::fs::read_to_string(&burner).unwrap();
     assert!(text.contains("ensure !gas_valve || in Running within 3 s after in Trial;"));
     assert!(text.contains("after 3 s => Repurge"));

@@ -110,7 +110,7 @@ fn line(name: &str, states: usize, f: (f64, f64, f64, f64, f64)) -> String {
 #[test]
 fn svg_area_is_within_1_5x_of_graphviz_on_every_example() {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples");
-    // examples/ and its folders (the timed examples sit in examples/timed/).
+    // examples/ and its folders.
     let mut paths: Vec<_> = Vec::new();
     let mut dirs = vec![dir.clone()];
     while let Some(dir) = dirs.pop() {
