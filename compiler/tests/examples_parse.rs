@@ -553,7 +553,7 @@ fn examples_tables_render_consistently() {
         );
         let properties = records
             .iter()
-            .filter(|r| r[0] == "@never" || r[0] == "@recover")
+            .filter(|r| r[0] == "@never" || r[0] == "@recover" || r[0] == "@ensure")
             .count();
         assert_eq!(properties, m.properties.len(), "{name}");
     }
