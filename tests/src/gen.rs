@@ -93,7 +93,7 @@ impl Choices for Bytes<'_> {
         let v = match self.byte() {
             None => return 0,
             Some(b) if n <= 256 => usize::from(b),
-            Some(b) => usize::from(b) << 8 | usize::from(self.byte().unwrap_or(0)),
+            Some(b) => (usize::from(b) << 8) | usize::from(self.byte().unwrap_or(0)),
         };
         v % n
     }
