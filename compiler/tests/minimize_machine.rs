@@ -225,6 +225,55 @@ fn groups_flatten_with_moore_sets_and_group_properties() {
     assert!(equiv(&m, &q).unwrap().is_none());
 }
 
+/// Found by the structured fuzz target: A (outside G) and B (in G) behave alike and
+/// were merged, so `in G` became `in A` on the minimized machine, which holds at the
+/// start: the minimized spec failed its own property. States the properties tell apart
+/// are now kept apart (by `in` a group, `in` a state, and `recover`'s states), and the
+/// minimized spec checks clean and keeps each property's meaning.
+#[test]
+fn states_that_properties_tell_apart_are_not_merged() {
+    for (prop, kept) in [
+        (
+            "never in G && !Go;",
+            vec![names(&["A", "C"]), names(&["B"])],
+        ),
+        (
+            "never in B && !Go;",
+            vec![names(&["A", "C"]), names(&["B"])],
+        ),
+        ("recover to B;", vec![names(&["A", "C"]), names(&["B"])]),
+        (
+            "recover to A except B;",
+            vec![names(&["A"]), names(&["B"]), names(&["C"])],
+        ),
+        (
+            "never in C && !Go;",
+            vec![names(&["A"]), names(&["B"]), names(&["C"])],
+        ),
+    ] {
+        let text = format!(
+            "machine M {{
+                events Go; start A;
+                {prop}
+                state A {{ Go => B; }}
+                group G {{ state B {{ Go => C; }} }}
+                state C {{ Go => B; }}
+            }}"
+        );
+        let m = machine(&text);
+        assert_eq!(class_names(&m), kept, "{prop}");
+        let spec = minimized_spec(&m);
+        let q = machine(&spec);
+        assert!(equiv(&m, &q).unwrap().is_none(), "{spec}");
+    }
+    // Without properties the three states are one class.
+    let m = machine(
+        "machine M { events Go; start A;
+            state A { Go => B; } group G { state B { Go => C; } } state C { Go => B; } }",
+    );
+    assert_eq!(class_names(&m), vec![names(&["A", "B", "C"])]);
+}
+
 #[test]
 fn equivalent_states_lint_lists_each_class() {
     let report = check_source(

@@ -9,8 +9,13 @@
 
 #![forbid(unsafe_code)]
 
+/// The random spec generator of the differential tests (`tests/src/gen.rs`, crate
+/// `detent-tests`), included by path as `tests/build.rs` and `bench/build.rs` do: one
+/// generator, whose choices here come from the fuzz input ([`gen::Bytes`]).
+#[path = "../../tests/src/gen.rs"]
 pub mod gen;
 
+use detent_compiler::diag::Lint;
 use detent_compiler::driver::check_source;
 use detent_compiler::emit::rust::generate_file;
 use detent_compiler::logic::assign::Encoding;
@@ -25,11 +30,17 @@ use detent_compiler::tour::{tour, TourStep};
 /// How far [`exercise_machine`] goes.
 #[derive(Clone, Copy, Debug, Default)]
 pub struct Depth {
-    /// Also the code emitters (Rust table and match, C, JavaScript).
+    /// Also the code emitters C and JavaScript.
     pub code: bool,
+    /// Also the Rust emitter, in this dispatch style.
+    pub rust: Option<DispatchStyle>,
     /// Also logic synthesis and Verilog (module and testbench), with this encoding
-    /// (0 binary, 1 Gray, 2 one-hot) and flip-flop (0 D, 1 T, 2 JK, 3 SR).
-    pub logic: Option<(u8, u8)>,
+    /// (0 binary, 1 Gray, 2 one-hot) and flip-flop (0 D, 1 T, 2 JK, 3 SR), and with the
+    /// complement covers (NOR-NOR) when the flag is set.
+    pub logic: Option<(u8, u8, bool)>,
+    /// The machine may declare a property that does not hold (the checker's `property`
+    /// error): its minimized spec may then have that error too, and no other.
+    pub violated_property: bool,
 }
 
 /// Bounds that keep one run fast: machines past them go through the checker only.
@@ -38,11 +49,11 @@ pub const MAX_STATES: usize = 48;
 pub const MAX_EVENTS: usize = 12;
 /// See [`MAX_STATES`].
 pub const MAX_INPUTS: usize = 8;
-/// Logic synthesis (its cost grows with state bits, event bits and inputs) only on
-/// machines of at most this many states and [`MAX_LOGIC_INPUTS`] inputs.
-pub const MAX_LOGIC_STATES: usize = 12;
-/// See [`MAX_LOGIC_STATES`].
-pub const MAX_LOGIC_INPUTS: usize = 4;
+/// Logic synthesis only when its functions have at most this many variables (state
+/// bits, event bits, inputs and timer due variables): two-level minimization is
+/// exponential in them (a 12-state one-hot machine with 4 inputs and 4 events, 19
+/// variables, took 57 s), and the fuzz target is for breadth.
+pub const MAX_LOGIC_VARS: usize = 8;
 
 /// True when a machine is small enough for [`exercise_machine`].
 pub fn small(m: &Machine) -> bool {
@@ -66,36 +77,137 @@ pub fn exercise_spec(text: &str, depth: Depth) -> usize {
     n
 }
 
+/// What the structured target builds from its input.
+#[derive(Clone, Debug)]
+pub struct Structured {
+    /// The spec and whether it declares a property.
+    pub built: gen::Built,
+    /// The back ends' choices.
+    pub depth: Depth,
+}
+
+/// Most states of a built machine.
+pub const MAX_BUILT_STATES: usize = 10;
+
+/// The structured target's machine: the back-end choices and the machine's shape from
+/// the first bytes of `data` (1 to [`MAX_BUILT_STATES`] states, 0 to 4 events (0:
+/// clocked), inputs, 0 to 3 outputs and actions, groups or not, timeouts or not), the
+/// rest read by the generator with its extras (`gen::spec_from` with `rich`).
+pub fn build_structured(data: &[u8]) -> Structured {
+    use gen::Choices;
+    let mut b = gen::Bytes::new(data);
+    let encoding = b.index(3) as u8;
+    let flip_flop = b.index(4) as u8;
+    let complements = b.chance(0.5);
+    // The Rust emitter on about one input in three, in the style the input picks: with
+    // its formatting (syn, prettyplease) it costs as much as the other stages together.
+    let rust = match b.index(6) {
+        0 => Some(DispatchStyle::Table),
+        1 => Some(DispatchStyle::Match),
+        _ => None,
+    };
+    let cfg = gen::GenConfig {
+        states: (1, MAX_BUILT_STATES),
+        events: b.index(5),
+        inputs: b.index(5),
+        outputs: b.index(4),
+        actions: b.index(4),
+        groups: !b.chance(0.25),
+        policy: None,
+        timeouts: b.chance(0.3),
+        counters: b.index(3),
+    };
+    let built = gen::spec_from(&mut b, "Fuzz", &cfg, true);
+    let depth = Depth {
+        code: true,
+        rust,
+        logic: Some((encoding, flip_flop, complements)),
+        violated_property: built.has_property,
+    };
+    Structured { built, depth }
+}
+
+/// The structured target on one input: the built spec must check with no error (a
+/// `property` error only when it declares a property), then every machine goes through
+/// [`exercise_machine_with`] with code and logic (a machine whose property does not
+/// hold too: the error is about the spec's claim, not the machine).
+pub fn exercise_structured(data: &[u8], stage: Stages<'_>) {
+    let s = build_structured(data);
+    let mut report = None;
+    stage("check", &mut || {
+        report = Some(check_source("structured.detent", &s.built.text));
+    });
+    let Some(report) = report else {
+        return;
+    };
+    let errors: Vec<String> = report
+        .diagnostics()
+        .filter(|d| d.is_error() && !(s.built.has_property && d.lint == Lint::Property))
+        .map(|d| format!("{:?}: {}", d.lint, d.message))
+        .collect();
+    assert!(
+        errors.is_empty(),
+        "a built spec has errors {errors:?}:\n{}",
+        s.built.text
+    );
+    for m in report.machines.iter().filter_map(|r| r.machine.as_ref()) {
+        exercise_machine_with(m, s.depth, stage);
+    }
+}
+
+/// Runs one named stage of [`exercise_machine_with`]: the fuzz targets just call it
+/// ([`exercise_machine`]), the `stage_times` example times it.
+pub type Stages<'r> = &'r mut dyn FnMut(&'static str, &mut dyn FnMut());
+
 /// Every consumer of a checked machine, with the promises each one makes.
 pub fn exercise_machine(m: &Machine, depth: Depth) {
-    // Tables in every format.
-    for f in [TableFormat::Text, TableFormat::Json, TableFormat::Csv] {
-        let _ = render(m, f);
-    }
+    exercise_machine_with(m, depth, &mut |_, run| run());
+}
+
+/// [`exercise_machine`], each stage run through `stage`.
+pub fn exercise_machine_with(m: &Machine, depth: Depth, stage: Stages<'_>) {
+    stage("tables", &mut || {
+        for f in [TableFormat::Text, TableFormat::Json, TableFormat::Csv] {
+            let _ = render(m, f);
+        }
+    });
     // A group's timer has no flat form: `minimize --format spec` and the CSV table
     // refuse such a machine with a message (docs/language-decisions.md), so the
     // round trips below apply to the others only.
     let flat = !detent_compiler::minimize::machine::has_group_timer(m);
     if flat {
-        flat_round_trips(m);
+        stage("minimize, equiv", &mut || {
+            minimize_round_trip(m, depth.violated_property);
+        });
+        stage("csv, import, equiv", &mut || {
+            csv_round_trip(m, depth.violated_property);
+        });
     }
     // Tour: fires every reachable transition.
-    let t = tour(m);
-    assert_eq!(t.covers, t.transitions, "the tour misses transitions");
-    // Drawings.
-    let _ = detent_compiler::emit::dot::to_dot(m);
-    let _ = detent_compiler::emit::svg::render_svg(&detent_compiler::emit::diagram::to_diagram(m));
-    exercise_code(m, depth, &t.steps);
+    let mut steps = Vec::new();
+    stage("tour", &mut || {
+        let t = tour(m);
+        assert_eq!(t.covers, t.transitions, "the tour misses transitions");
+        steps = t.steps;
+    });
+    stage("dot", &mut || {
+        let _ = detent_compiler::emit::dot::to_dot(m);
+    });
+    stage("svg", &mut || {
+        let _ =
+            detent_compiler::emit::svg::render_svg(&detent_compiler::emit::diagram::to_diagram(m));
+    });
+    exercise_code(m, depth, &steps, stage);
 }
 
-/// The minimized spec and the CSV table, each back into a machine equivalent to `m`.
-fn flat_round_trips(m: &Machine) {
-    // Minimize: the printed spec checks again, and the minimized machine is equivalent.
+/// Minimize: the printed spec checks again, and the minimized machine is equivalent.
+/// With `violated_property`, a `property` error is allowed.
+fn minimize_round_trip(m: &Machine, violated_property: bool) {
     let spec = detent_compiler::minimize::minimized_spec(m);
     let again = check_source("minimized.detent", &spec);
     let errors: Vec<&str> = again
         .diagnostics()
-        .filter(|d| d.is_error())
+        .filter(|d| d.is_error() && !(violated_property && d.lint == Lint::Property))
         .map(|d| d.message.as_str())
         .collect();
     assert!(
@@ -108,8 +220,12 @@ fn flat_round_trips(m: &Machine) {
         matches!(d, Ok(None)),
         "the minimized machine differs: {d:?}\n{spec}"
     );
-    // The CSV table imports back into a spec that checks clean and behaves as the
-    // original (import.rs: "Its behaviour is the original's").
+}
+
+/// The CSV table imports back into a spec that checks clean and behaves as the
+/// original (import.rs: "Its behaviour is the original's").
+/// With `violated_property`, a `property` error is allowed.
+fn csv_round_trip(m: &Machine, violated_property: bool) {
     let csv = render(m, TableFormat::Csv);
     let imported = match detent_compiler::import::import_spec(&csv) {
         Ok(text) => text,
@@ -118,7 +234,7 @@ fn flat_round_trips(m: &Machine) {
     let back = check_source("imported.detent", &imported);
     let errors: Vec<&str> = back
         .diagnostics()
-        .filter(|d| d.is_error())
+        .filter(|d| d.is_error() && !(violated_property && d.lint == Lint::Property))
         .map(|d| d.message.as_str())
         .collect();
     assert!(
@@ -136,23 +252,38 @@ fn flat_round_trips(m: &Machine) {
 
 /// Every code generator (Rust in both styles, C, JavaScript, the hardware port), when
 /// `depth` asks for them.
-fn exercise_code(m: &Machine, depth: Depth, tour_steps: &[TourStep]) {
-    if depth.code {
-        for style in [DispatchStyle::Table, DispatchStyle::Match] {
-            let _ = generate_file("fuzz.detent", std::slice::from_ref(m), Some(style));
-        }
-        let _ = detent_compiler::emit::c::generate_c(m, "fuzz.detent");
-        let _ = detent_compiler::emit::js::to_js(m);
+fn exercise_code(m: &Machine, depth: Depth, tour_steps: &[TourStep], stage: Stages<'_>) {
+    if let Some(style) = depth.rust {
+        stage(
+            match style {
+                DispatchStyle::Table => "rust table",
+                DispatchStyle::Match => "rust match",
+            },
+            &mut || {
+                let _ = generate_file("fuzz.detent", std::slice::from_ref(m), Some(style));
+            },
+        );
     }
-    if let Some((enc, ff)) = depth.logic {
-        if m.states.len() <= MAX_LOGIC_STATES && m.inputs.len() <= MAX_LOGIC_INPUTS {
-            logic(m, enc, ff, tour_steps);
-        }
+    if depth.code {
+        stage("c", &mut || {
+            let _ = detent_compiler::emit::c::generate_c(m, "fuzz.detent");
+        });
+        stage("javascript", &mut || {
+            let _ = detent_compiler::emit::js::to_js(m);
+        });
+    }
+    if let Some((enc, ff, complements)) = depth.logic {
+        logic(m, (enc, ff, complements), tour_steps, stage);
     }
 }
 
 /// Logic synthesis and Verilog of one machine.
-fn logic(m: &Machine, enc: u8, ff: u8, tour_steps: &[TourStep]) {
+fn logic(
+    m: &Machine,
+    (enc, ff, complements): (u8, u8, bool),
+    tour_steps: &[TourStep],
+    stage: Stages<'_>,
+) {
     let Ok(spec) = LogicSpec::from_machine(m) else {
         return;
     };
@@ -164,24 +295,34 @@ fn logic(m: &Machine, enc: u8, ff: u8, tour_steps: &[TourStep]) {
     let Ok(encoding) = encoding else {
         return;
     };
+    if encoding.bits + spec.ev_bits + spec.inputs.len() + spec.dues.len() > MAX_LOGIC_VARS {
+        return;
+    }
     let ff = [FlipFlop::D, FlipFlop::T, FlipFlop::JK, FlipFlop::SR][usize::from(ff % 4)];
-    let design = match synthesize(&spec, &encoding, ff, enc % 2 == 1) {
-        Ok(d) => d,
-        Err(_) => return,
+    let mut design = None;
+    stage("logic synthesis", &mut || {
+        design = synthesize(&spec, &encoding, ff, complements).ok();
+    });
+    let Some(design) = design else {
+        return;
     };
-    let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
-    let _ = generate_module(&spec, &design, &names, "fuzz.detent");
-    let steps: Vec<TbStep> = tour_steps
-        .iter()
-        .map(|s| match s {
-            TourStep::Reset => TbStep::Reset,
-            TourStep::Step { event, inputs } => TbStep::Step {
-                event: event.index(),
-                inputs: inputs.clone(),
-            },
-        })
-        .collect();
-    let _ = generate_testbench(m, &spec, &design, &steps, "fuzz.detent");
+    stage("verilog module", &mut || {
+        let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
+        let _ = generate_module(&spec, &design, &names, "fuzz.detent");
+    });
+    stage("verilog testbench", &mut || {
+        let steps: Vec<TbStep> = tour_steps
+            .iter()
+            .map(|s| match s {
+                TourStep::Reset => TbStep::Reset,
+                TourStep::Step { event, inputs } => TbStep::Step {
+                    event: event.index(),
+                    inputs: inputs.clone(),
+                },
+            })
+            .collect();
+        let _ = generate_testbench(m, &spec, &design, &steps, "fuzz.detent");
+    });
 }
 
 /// The specs the trace target runs traces on: the examples and the test specs.

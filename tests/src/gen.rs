@@ -26,11 +26,90 @@
 //! operations, from the value the guard read).
 //!
 //! Seeded and reproducible: the same seed and config give the same text.
+//!
+//! The same generator serves the structured fuzz target (`fuzz/`, which includes this
+//! file by path): [`spec_from`] takes its choices from any [`Choices`], such as the
+//! bytes of a fuzz input ([`Bytes`]), so libFuzzer's mutations steer the machine's
+//! shape, and with `rich` it also writes what only the fuzz target checks: optional
+//! `never`/`recover` properties (which may not hold: a `property` error is the one error
+//! such a spec can have), a doc comment, `#[dispatch(match)]` or `#[minimize]`, the
+//! visibility, an implicit `unhandled complete`, and guards with constants and
+//! exclusive-or forms. [`random_spec`] is `spec_from` with a seeded [`Rng`] and no
+//! extras, and writes what it always wrote.
 
 use std::fmt::Write;
 
 /// The workspace's one seeded generator (SplitMix64), `detent_compiler::rng`.
 pub use detent_compiler::rng::Rng;
+
+/// Where the generator's choices come from: a seeded [`Rng`] or a fuzz input's
+/// [`Bytes`].
+pub trait Choices {
+    /// A number in `0..n` (`0` when `n` is 0).
+    fn index(&mut self, n: usize) -> usize;
+    /// True with probability about `p`.
+    fn chance(&mut self, p: f64) -> bool;
+    /// A number in `lo..=hi`.
+    fn range(&mut self, lo: usize, hi: usize) -> usize {
+        lo + self.index(hi - lo + 1)
+    }
+}
+
+impl Choices for Rng {
+    fn index(&mut self, n: usize) -> usize {
+        Rng::index(self, n)
+    }
+    fn chance(&mut self, p: f64) -> bool {
+        Rng::chance(self, p)
+    }
+}
+
+impl<C: Choices + ?Sized> Choices for &mut C {
+    fn index(&mut self, n: usize) -> usize {
+        (**self).index(n)
+    }
+    fn chance(&mut self, p: f64) -> bool {
+        (**self).chance(p)
+    }
+}
+
+/// Choices read from a byte string (a fuzz input), one byte a choice (two for more
+/// than 256 options). Once the bytes run out every choice is the first one (`0`,
+/// `false`): a short input makes a small machine.
+#[derive(Clone, Debug)]
+pub struct Bytes<'a> {
+    data: &'a [u8],
+}
+
+impl<'a> Bytes<'a> {
+    /// Choices from `data`, front to back.
+    pub fn new(data: &'a [u8]) -> Bytes<'a> {
+        Bytes { data }
+    }
+
+    fn byte(&mut self) -> Option<u8> {
+        let (&b, rest) = self.data.split_first()?;
+        self.data = rest;
+        Some(b)
+    }
+}
+
+impl Choices for Bytes<'_> {
+    fn index(&mut self, n: usize) -> usize {
+        if n <= 1 {
+            return 0;
+        }
+        let v = match self.byte() {
+            None => return 0,
+            Some(b) if n <= 256 => usize::from(b),
+            Some(b) => (usize::from(b) << 8) | usize::from(self.byte().unwrap_or(0)),
+        };
+        v % n
+    }
+    fn chance(&mut self, p: f64) -> bool {
+        self.byte().is_some_and(|b| f64::from(b) < p * 256.0)
+    }
+}
 
 /// What kind of spec to generate.
 #[derive(Clone, Debug)]
@@ -79,7 +158,22 @@ enum Node {
 
 /// Generates one spec named `Random<seed>`.
 pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
-    let mut rng = Rng::new(seed);
+    spec_from(Rng::new(seed), &format!("Random{seed}"), cfg, false).text
+}
+
+/// A spec written by [`spec_from`].
+#[derive(Clone, Debug)]
+pub struct Built {
+    /// The spec.
+    pub text: String,
+    /// It declares a `never` or `recover` property (only with `rich`), which may not
+    /// hold.
+    pub has_property: bool,
+}
+
+/// Generates one spec, machine `name`, with choices from `rng`; `rich` adds the fuzz
+/// target's extras (module documentation).
+pub fn spec_from<C: Choices>(mut rng: C, name: &str, cfg: &GenConfig, rich: bool) -> Built {
     let n_states = rng.range(cfg.states.0.max(1), cfg.states.1.max(cfg.states.0.max(1)));
     let policy = cfg
         .policy
@@ -93,6 +187,23 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
     // Member tree: states in order, some wrapped in groups.
     let mut n_groups = 0usize;
     let tree = build_tree(&mut rng, 0, n_states, cfg.groups, 0, &mut n_groups);
+    let mut s = String::new();
+    let mut vis = "pub ";
+    let mut allow_more = "";
+    if rich {
+        if rng.chance(0.3) {
+            s.push_str("/// A machine the fuzzer built.\n");
+        }
+        // A constant guard (`false`) and states that are equal are fine here.
+        allow_more = ", never_true_guard, equivalent_states";
+        match rng.index(4) {
+            1 => s.push_str("#[dispatch(match)]\n"),
+            2 => s.push_str("#[minimize]\n"),
+            _ => {}
+        }
+        vis = ["", "pub ", "pub(crate) "][rng.index(3)];
+    }
+    let write_policy = !rich || policy != "complete" || rng.chance(0.5);
 
     let mut g = Gen {
         rng,
@@ -103,6 +214,8 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         outputs,
         actions,
         n_states,
+        n_groups,
+        rich,
         out: String::new(),
         period_us: None,
         timeouts: cfg.timeouts,
@@ -114,12 +227,11 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         g.counters.push((format!("c{i}"), max));
     }
     g.counter_lists = cfg.counters > 0 && g.rng.chance(0.5);
-    let mut s = String::new();
     let _ = writeln!(
         s,
-        "#[allow(unreachable_state, dead_end, unused_declaration, dead_rule, repeated_action)]"
+        "#[allow(unreachable_state, dead_end, unused_declaration, dead_rule, repeated_action{allow_more})]"
     );
-    let _ = writeln!(s, "pub machine Random{seed} {{");
+    let _ = writeln!(s, "{vis}machine {name} {{");
     if !clocked {
         let _ = writeln!(s, "    events {};", g.events.join(", "));
     }
@@ -141,7 +253,9 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         let _ = writeln!(s, "    counters {};", list.join(", "));
     }
     let _ = writeln!(s, "    start S0;");
-    let _ = writeln!(s, "    unhandled {policy};");
+    if write_policy {
+        let _ = writeln!(s, "    unhandled {policy};");
+    }
     if cfg.timeouts {
         let event = if clocked {
             String::new()
@@ -163,15 +277,19 @@ pub fn random_spec(seed: u64, cfg: &GenConfig) -> String {
         }
     }
     g.out = s;
+    let has_property = rich && g.properties();
     for node in &tree {
         g.node(node, 1, false);
     }
     g.out.push_str("}\n");
-    g.out
+    Built {
+        text: g.out,
+        has_property,
+    }
 }
 
-fn build_tree(
-    rng: &mut Rng,
+fn build_tree<C: Choices>(
+    rng: &mut C,
     lo: usize,
     hi: usize,
     groups: bool,
@@ -196,8 +314,8 @@ fn build_tree(
     out
 }
 
-struct Gen {
-    rng: Rng,
+struct Gen<C> {
+    rng: C,
     policy: &'static str,
     clocked: bool,
     events: Vec<String>,
@@ -205,6 +323,9 @@ struct Gen {
     outputs: Vec<String>,
     actions: Vec<String>,
     n_states: usize,
+    n_groups: usize,
+    /// The fuzz target's extras ([`spec_from`]).
+    rich: bool,
     out: String,
     /// The time base's period, when it has one (durations are then written in time).
     period_us: Option<u64>,
@@ -223,7 +344,7 @@ struct Part {
     dec: Vec<usize>,
 }
 
-impl Gen {
+impl<C: Choices> Gen<C> {
     fn indent(&mut self, level: usize) {
         for _ in 0..level {
             self.out.push_str("    ");
@@ -302,6 +423,55 @@ impl Gen {
         out
     }
 
+    /// One atom of a property: an output, action, input, event or `in` a state or
+    /// group, sometimes negated.
+    fn atom(&mut self) -> String {
+        let mut pool: Vec<String> = Vec::new();
+        pool.extend(self.outputs.iter().cloned());
+        pool.extend(self.actions.iter().cloned());
+        pool.extend(self.inputs.iter().cloned());
+        pool.extend(self.events.iter().cloned());
+        pool.push(format!("in S{}", self.rng.index(self.n_states)));
+        if self.n_groups > 0 {
+            pool.push(format!("in G{}", self.rng.index(self.n_groups)));
+        }
+        let a = pool[self.rng.index(pool.len())].clone();
+        if self.rng.chance(0.3) {
+            format!("!{a}")
+        } else {
+            a
+        }
+    }
+
+    /// Optional `never` and `recover` declarations; true when one was written.
+    fn properties(&mut self) -> bool {
+        let mut any = false;
+        if self.rng.chance(0.3) {
+            let mut p = self.atom();
+            for _ in 0..self.rng.index(3) {
+                let op = if self.rng.chance(0.6) { "&&" } else { "||" };
+                let b = self.atom();
+                p = format!("({p}) {op} {b}");
+            }
+            let _ = writeln!(self.out, "    never {p};");
+            any = true;
+        }
+        if self.rng.chance(0.2) {
+            let to = self.rng.index(self.n_states);
+            let _ = write!(self.out, "    recover to S{to}");
+            if self.n_states > 1 && self.rng.chance(0.5) {
+                let mut except = self.rng.index(self.n_states);
+                if except == to {
+                    except = (except + 1) % self.n_states;
+                }
+                let _ = write!(self.out, " except S{except}");
+            }
+            self.out.push_str(";\n");
+            any = true;
+        }
+        any
+    }
+
     /// An exact partition of the input space as guard texts (`None` = always).
     fn partition(&mut self) -> Vec<Option<String>> {
         let n = self.inputs.len();
@@ -310,7 +480,7 @@ impl Gen {
         }
         let x = self.inputs[self.rng.index(n)].clone();
         let y = self.inputs[self.rng.index(n)].clone();
-        match self.rng.index(4) {
+        match self.rng.index(if self.rich { 6 } else { 4 }) {
             0 => vec![Some(x.clone()), Some(format!("!{x}"))],
             1 if x != y => vec![
                 Some(format!("{x} && {y}")),
@@ -318,6 +488,11 @@ impl Gen {
                 Some(format!("!{x}")),
             ],
             2 if x != y => vec![Some(format!("{x} || {y}")), Some(format!("!({x} || {y})"))],
+            3 if self.rich => vec![Some(format!("{x} || true")), Some("false".into())],
+            4 if self.rich && x != y => vec![
+                Some(format!("({x} || {y}) && !({x} && {y})")),
+                Some(format!("({x} && {y}) || !({x} || {y})")),
+            ],
             _ => vec![Some(format!("!!{x}")), Some(format!("!{x}"))],
         }
     }

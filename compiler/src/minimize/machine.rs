@@ -33,7 +33,9 @@
 //! unhandled instead of falling to them. The policy, attributes and properties are kept
 //! (state names mapped to classes; `in Group` becomes the disjunction of `in` the
 //! classes of its reachable members; a `recover` whose target is unreachable is
-//! dropped, since no class stands for it).
+//! dropped, since no class stands for it). So that they keep their meaning, states the
+//! properties tell apart (by `in S`, `in G`, a `recover`'s target and exempted states)
+//! are never merged: they start in different blocks of the refinement.
 //!
 //! **The quotient as a spec** ([`quotient_ast`], [`minimized_spec`]): the quotient
 //! machine printed as a syntax tree, which resolves to the same machine again.
@@ -100,7 +102,12 @@ pub fn minimize(m: &Machine) -> Minimization {
     let alphabet = Alphabet::build(std::slice::from_ref(&side));
     let mut interner = Interner::default();
     let enc = encode(&side, &alphabet, &mut interner);
-    let restricted = restrict_to_reachable(&enc.dfa, m.start.0);
+    let mut restricted = restrict_to_reachable(&enc.dfa, m.start.0);
+    let labels = property_labels(m);
+    let old_of_new = &restricted.old_of_new;
+    refine_initial(&mut restricted.dfa.initial, |i| {
+        labels[old_of_new[i] as usize]
+    });
     let partition = hopcroft(&restricted.dfa);
     let classes: Vec<Vec<StateId>> = partition
         .classes()
@@ -113,6 +120,75 @@ pub fn minimize(m: &Machine) -> Minimization {
         })
         .collect();
     finish(m, classes)
+}
+
+/// Per state, an id of the property atoms it satisfies: `in S` and `in G` of the
+/// machine's `never` properties, a `recover`'s target and its exempted states. States
+/// with different ids are not merged (they start in different blocks of the
+/// refinement, so the classes are the coarsest equivalence that also keeps them
+/// apart), so that a property of the minimized machine, written over its classes
+/// ([`class_prop`]), means what it meant: merging a member of a group with a state
+/// outside it would make `in G` hold where it did not. All zeros without properties.
+fn property_labels(m: &Machine) -> Vec<u32> {
+    fn atoms(m: &Machine, p: &Prop, out: &mut Vec<Vec<bool>>) {
+        match p {
+            Prop::InState(s) => {
+                out.push((0..m.states.len()).map(|t| t == s.index()).collect());
+            }
+            Prop::InGroup(g) => {
+                let mut set = vec![false; m.states.len()];
+                for s in &m.groups[g.index()].states {
+                    set[s.index()] = true;
+                }
+                out.push(set);
+            }
+            Prop::Not(a) => atoms(m, a, out),
+            Prop::And(a, b) | Prop::Or(a, b) => {
+                atoms(m, a, out);
+                atoms(m, b, out);
+            }
+            Prop::Input(_)
+            | Prop::Output(_)
+            | Prop::Action(_)
+            | Prop::Event(_)
+            | Prop::Compare(..)
+            | Prop::Const(_) => {}
+        }
+    }
+    let mut sets: Vec<Vec<bool>> = Vec::new();
+    for p in &m.properties {
+        match p {
+            Property::Never { prop, .. } => atoms(m, prop, &mut sets),
+            Property::Ensure {
+                response, trigger, ..
+            } => {
+                atoms(m, response, &mut sets);
+                atoms(m, trigger, &mut sets);
+            }
+            Property::Recover { target, except, .. } => {
+                for s in std::iter::once(target).chain(except) {
+                    sets.push((0..m.states.len()).map(|t| t == s.index()).collect());
+                }
+            }
+        }
+    }
+    let mut ids: crate::fxhash::FxMap<Vec<bool>, u32> = Default::default();
+    (0..m.states.len())
+        .map(|s| {
+            let key: Vec<bool> = sets.iter().map(|set| set[s]).collect();
+            let next = ids.len() as u32;
+            *ids.entry(key).or_insert(next)
+        })
+        .collect()
+}
+
+/// Splits the blocks of `initial` by `label(i)` of each DFA state `i`.
+fn refine_initial(initial: &mut [u32], label: impl Fn(usize) -> u32) {
+    let mut ids: crate::fxhash::FxMap<(u32, u32), u32> = Default::default();
+    for (i, block) in initial.iter_mut().enumerate() {
+        let next = ids.len() as u32;
+        *block = *ids.entry((*block, label(i))).or_insert(next);
+    }
 }
 
 /// The shape of a state's timers, as merging compares them: per timer of its scopes
@@ -181,10 +257,15 @@ fn minimize_timed(m: &Machine) -> Minimization {
     let side = Side::reference(m);
     let alphabet = Alphabet::build(std::slice::from_ref(&side));
     let mut interner = Interner::default();
-    let Ok(enc) = super::encode::encode_configs(&side, &alphabet, &mut interner, &roots, limit)
+    let Ok(mut enc) = super::encode::encode_configs(&side, &alphabet, &mut interner, &roots, limit)
     else {
         return singletons();
     };
+    let labels = property_labels(m);
+    let configs = &enc.configs;
+    refine_initial(&mut enc.enc.dfa.initial, |i| {
+        labels[configs[i].state.index()]
+    });
     let partition = hopcroft(&enc.enc.dfa);
     // States with the same key merge; a state that must not merge keys on itself.
     type Key = (Option<Vec<Vec<u32>>>, Vec<u32>, Option<StateId>);
