@@ -127,13 +127,7 @@ impl Gen<'_> {
                     (quote!(hooks.#f()), Prec::Unary)
                 }
             }
-            Guard::Atom(a) => {
-                let atom = &self.m.atoms[a.index()];
-                let f = ident(&self.m.counters[atom.counter.index()].name);
-                let k = proc_macro2::Literal::u16_unsuffixed(atom.value);
-                let op: TokenStream = atom.cmp.symbol().parse().unwrap_or_default();
-                (quote!((self.counters.#f #op #k)), Prec::Unary)
-            }
+            Guard::Atom(a) => (self.atom_expr(*a), Prec::Unary),
             Guard::Const(b) => (quote!(#b), Prec::Unary),
             Guard::Not(a) => {
                 let inner = self.test_at(a, reads, Prec::Unary);
