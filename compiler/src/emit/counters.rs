@@ -134,7 +134,7 @@ mod tests {
     fn written_forms_agree_with_the_model() {
         let m = crate::test_support::machine(
             "machine M { counters a to 1, b to 3, c to 255, d to 256, e to 65535; \
-             events go; state S { go => S; } }",
+             events Go; start S; state S { Go => S; } }",
         );
         for ci in 0..m.counters.len() {
             let c = CounterId::from_index(ci);

@@ -101,7 +101,8 @@ impl Gen<'_> {
         quote!(#(#fields)*)
     }
 
-    /// A guard's comparison: `(self.counter_a < 2)`, or a constant when it has one value
+    /// A guard's comparison: `self.counter_a < 2` (the caller parenthesizes it under
+    /// `!`), or a constant when it has one value
     /// over the whole range ([`crate::emit::counters`]).
     pub(super) fn atom_expr(&self, a: AtomId) -> TokenStream {
         match atom_code(self.m, &self.m.atoms[a.index()]) {
@@ -113,7 +114,7 @@ impl Gen<'_> {
                     Ok(op) => op,
                     Err(_) => quote!(==),
                 };
-                quote!((self.#f #op #k))
+                quote!(self.#f #op #k)
             }
         }
     }

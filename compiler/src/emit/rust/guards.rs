@@ -34,6 +34,8 @@ use quote::quote;
 enum Prec {
     Or,
     And,
+    /// A counter comparison: binds tighter than `&&`, looser than `!`.
+    Cmp,
     Unary,
 }
 
@@ -127,7 +129,14 @@ impl Gen<'_> {
                     (quote!(hooks.#f()), Prec::Unary)
                 }
             }
-            Guard::Atom(a) => (self.atom_expr(*a), Prec::Unary),
+            Guard::Atom(a) => {
+                let prec = if self.reads_counter(g) {
+                    Prec::Cmp
+                } else {
+                    Prec::Unary
+                };
+                (self.atom_expr(*a), prec)
+            }
             Guard::Const(b) => (quote!(#b), Prec::Unary),
             Guard::Not(a) => {
                 let inner = self.test_at(a, reads, Prec::Unary);
