@@ -100,6 +100,27 @@ fn write_differential_machines() {
             ..gen::GenConfig::default()
         },
     ];
+    // Counters (issue 20): comparisons in guards, operations in rules and in enter and
+    // leave lists; alone, clocked, and with timeouts.
+    let counted = [
+        gen::GenConfig {
+            counters: 2,
+            ..gen::GenConfig::default()
+        },
+        gen::GenConfig {
+            events: 0,
+            counters: 1,
+            ..gen::GenConfig::default()
+        },
+        gen::GenConfig {
+            states: (4, 10),
+            events: 4,
+            inputs: 3,
+            counters: 3,
+            timeouts: true,
+            ..gen::GenConfig::default()
+        },
+    ];
     let mut all = String::new();
     let mut index = String::from(
         "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
@@ -119,6 +140,12 @@ fn write_differential_machines() {
         for k in 0..5 {
             let seed = 5000 + k * 10 + ci as u64;
             specs.push((format!("t{seed}"), gen::random_spec(seed, cfg)));
+        }
+    }
+    for (ci, cfg) in counted.iter().enumerate() {
+        for k in 0..5 {
+            let seed = 7000 + k * 10 + ci as u64;
+            specs.push((format!("c{seed}"), gen::random_spec(seed, cfg)));
         }
     }
     if let Some(n) = soak {
@@ -284,6 +311,26 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
             fields.join(", ")
         )
     };
+    // The counters as `u16`s, in declaration order.
+    let counters = if m.counters.is_empty() {
+        "vec![]".to_string()
+    } else {
+        let fields: Vec<String> = m
+            .counters
+            .iter()
+            .map(|c| {
+                if c.max > 255 {
+                    format!("c.{}", c.name)
+                } else {
+                    format!("u16::from(c.{})", c.name)
+                }
+            })
+            .collect();
+        format!(
+            "{{ let c = machine.counters(); vec![{}] }}",
+            fields.join(", ")
+        )
+    };
     let next = if m.timers.is_empty() {
         "None"
     } else {
@@ -296,14 +343,14 @@ fn runner(m: &Machine, form: &str, path: &str) -> String {
         let mut machine = Machine::new();
         let mut rec = crate::Recorder::default();
         let o = machine.outputs();
-        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![], reads: vec![], timers: {timers}, next_timeout: {next} }}];
+        let mut out = vec![crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected: false, actions: vec![], reads: vec![], timers: {timers}, next_timeout: {next}, counters: {counters} }}];
         for (e, ins) in trace {{
             rec.begin(ins);
             let (o, rejected) = match machine.step(Event::ALL[*e], &mut rec) {{
                 Ok(o) => (o, false),
                 Err(::detent::Rejected) => (machine.outputs(), true),
             }};
-            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take(), reads: rec.take_reads(), timers: {timers}, next_timeout: {next} }});
+            out.push(crate::Observed {{ state: machine.state() as usize, outputs: vec![{outs}], rejected, actions: rec.take(), reads: rec.take_reads(), timers: {timers}, next_timeout: {next}, counters: {counters} }});
         }}
         out
     }}",

@@ -43,3 +43,21 @@ fn timed_header_and_source() {
     insta::assert_snapshot!("timed_sampled_h", files.header);
     insta::assert_snapshot!("timed_sampled_c", files.source);
 }
+
+/// Counters (issue 20): members of the machine struct, set to 0 by `_init`, a stored
+/// value past a bound refused with -1, comparisons in the guard switch reading the
+/// machine, operations in the action table beside the actions, in order.
+#[test]
+fn counted_header_and_source() {
+    let path = format!(
+        "{}/../tests/specs/keypad_counted.detent",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let text = std::fs::read_to_string(&path).expect("spec exists");
+    let report = detent_compiler::driver::check_source("keypad_counted.detent", &text);
+    assert!(!report.has_errors(), "keypad_counted.detent checks clean");
+    let m = report.machines.into_iter().next().unwrap().machine.unwrap();
+    let files = generate_c(&m, "keypad_counted.detent");
+    insta::assert_snapshot!("keypad_counted_h", files.header);
+    insta::assert_snapshot!("keypad_counted_c", files.source);
+}

@@ -178,3 +178,23 @@ fn the_banner_names_the_source_and_the_safety_caution() {
     assert!(head.contains("IEC 61508"), "{head}");
     assert!(head.contains("reviewed by qualified people"), "{head}");
 }
+
+/// Counters: a `u8` and a `u16` counter, comparisons in guards (the cell's tests read
+/// them), operations in rules and in enter and leave lists, in order with actions.
+fn keypad() -> String {
+    std::fs::read_to_string(format!(
+        "{}/../tests/specs/keypad_counted.detent",
+        env!("CARGO_MANIFEST_DIR")
+    ))
+    .expect("tests/specs/keypad_counted.detent")
+}
+
+#[test]
+fn keypad_counted_table() {
+    insta::assert_snapshot!(generate(&keypad(), DispatchStyle::Table));
+}
+
+#[test]
+fn keypad_counted_match() {
+    insta::assert_snapshot!(generate(&keypad(), DispatchStyle::Match));
+}

@@ -24,21 +24,27 @@ impl core::error::Error for Rejected {}
 
 crate::__derive_extras! {
     /// A persisted state number (read back from flash, EEPROM or a retained
-    /// register) that names no state of the machine.
+    /// register) that names no state of the machine, or, from `restore_with`, a
+    /// persisted counter past its bound or timer past its longest timeout.
     ///
     /// State numbers are declaration order, the same numbers the C and Verilog back
     /// ends use; a number at or past the machine's state count is invalid. Treat it as
     /// corrupt storage: start the machine afresh with `Machine::new()`.
     #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
     pub struct InvalidState {
-        /// The number that was read back.
+        /// The number that was read back: the state number, or the counter's or
+        /// timer's value (`u16::MAX` for a timer value that does not fit).
         pub raw: u16,
     }
 }
 
 impl fmt::Display for InvalidState {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "persisted state number {} names no state", self.raw)
+        write!(
+            f,
+            "persisted value {} is out of range (no such state, or a counter or timer past its bound)",
+            self.raw
+        )
     }
 }
 

@@ -96,7 +96,7 @@ fn generated_shape_steps_and_persists_through_the_trait() {
 fn error_values_display_readably() {
     assert_eq!(
         InvalidState { raw: 7 }.to_string(),
-        "persisted state number 7 names no state"
+        "persisted value 7 is out of range (no such state, or a counter or timer past its bound)"
     );
     assert!(Rejected.to_string().contains("rejected"));
     let boxed: Box<dyn std::error::Error> = Box::new(Rejected);

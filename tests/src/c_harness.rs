@@ -10,7 +10,11 @@
 //! o EV        the same with out = NULL
 //! m EV        the same with m = NULL
 //! S N         store N in the machine's state byte (a corrupt value when N >= states)
+//! T K N       store N in timer K
+//! C K N       store N in counter K (a corrupt value when N is past its bound)
 //! ```
+//!
+//! With counters, each result line ends in ` c=` and the counters, in declaration order.
 //!
 //! Printed: `STATE RC OUTBITS ACTIONS READS` (`-` for no outputs / no actions / no
 //! inputs read; `x` for the outputs of `o`), or `set N` for `S`. READS lists the input
@@ -50,6 +54,9 @@ pub enum Cmd {
     /// Writes a raw value into timer `k` of the machine struct (a corrupt or restored
     /// byte; may exceed the timer's largest duration).
     SetTimer(usize, u32),
+    /// Writes a raw value into counter `k` of the machine struct (a restored or corrupt
+    /// value; may exceed the counter's bound, up to the largest value of its C type).
+    SetCounter(usize, u32),
 }
 
 /// gcc's strict warning flags every generated file must pass.
@@ -97,6 +104,7 @@ pub fn trace_text(cmds: &[Cmd]) -> String {
             Cmd::NullMachine(e) => writeln!(out, "m {e}"),
             Cmd::SetState(n) => writeln!(out, "S {n}"),
             Cmd::SetTimer(k, v) => writeln!(out, "T{k} {v}"),
+            Cmd::SetCounter(k, v) => writeln!(out, "C{k} {v}"),
         };
     }
     out
@@ -172,10 +180,42 @@ pub fn random_timed_cmds(
         .collect()
 }
 
+/// Adds counter writes to a command list for a machine with counters: with
+/// probability `p` before each command, counter `k` gets a value in its range (a
+/// restored counter), just past its bound or the largest value of its C type (corrupt:
+/// `step` must return -1 until a later write puts it back in range).
+pub fn with_counter_faults(rng: &mut Rng, m: &Machine, cmds: Vec<Cmd>, p: f64) -> Vec<Cmd> {
+    if m.counters.is_empty() {
+        return cmds;
+    }
+    let mut out = Vec::with_capacity(cmds.len() * 2);
+    for c in cmds {
+        if rng.chance(p) {
+            let k = rng.index(m.counters.len());
+            let max = u32::from(m.counters[k].max);
+            let type_max: u32 = if max <= 255 { 255 } else { 65535 };
+            let v = match rng.index(4) {
+                0 | 1 => rng.index(max as usize + 1) as u32,
+                2 => (max + 1 + rng.index(3) as u32).min(type_max),
+                _ => type_max,
+            };
+            out.push(Cmd::SetCounter(k, v));
+            // A corrupt value is usually put right a few commands later.
+            if v > max && rng.chance(0.8) {
+                out.push(c);
+                out.push(Cmd::SetCounter(k, rng.index(max as usize + 1) as u32));
+                continue;
+            }
+        }
+        out.push(c);
+    }
+    out
+}
+
 /// The timer part of a result line for a machine with timers: ` t=` and, per timer, its
 /// value when it counts in the current state (`_` when it does not, or the state is
 /// corrupt), then ` n=` and `next_timeout` (0: none). Empty without timers.
-fn timer_suffix(m: &Machine, raw: u32, timers: &[u32]) -> String {
+fn timer_suffix(m: &Machine, raw: u32, timers: &[u32], counters: &[u32]) -> String {
     if m.timers.is_empty() {
         return String::new();
     }
@@ -198,13 +238,22 @@ fn timer_suffix(m: &Machine, raw: u32, timers: &[u32]) -> String {
         m.next_timeout(&Config {
             state: StateId(raw),
             timers: timers.to_vec(),
-            counters: vec![0; m.counters.len()],
+            counters: counters.iter().map(|&v| v as u16).collect(),
         })
         .unwrap_or(0)
     } else {
         0
     };
     format!(" t={} n={next}", vals.join(","))
+}
+
+/// The counter part of a result line: ` c=` and the counters (empty without counters).
+fn counter_suffix(counters: &[u32]) -> String {
+    if counters.is_empty() {
+        return String::new();
+    }
+    let vals: Vec<String> = counters.iter().map(u32::to_string).collect();
+    format!(" c={}", vals.join(","))
 }
 
 fn bad_line(state: u32, m: &Machine) -> String {
@@ -221,11 +270,19 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
     let hooks_needed = needs_hooks(m);
     let mut raw: u32 = m.start.0;
     let mut timers: Vec<u32> = vec![0; m.timers.len()];
-    let mut counters: Vec<u16> = vec![0; m.counters.len()];
+    let mut counters: Vec<u32> = vec![0; m.counters.len()];
     let mut out = Vec::new();
     for c in cmds {
-        let valid =
-            |e: i64| (0..m.events.len() as i64).contains(&e) && (raw as usize) < m.states.len();
+        // A counter past its bound makes `step` return -1, as a corrupt state does.
+        let counters_ok = counters
+            .iter()
+            .zip(&m.counters)
+            .all(|(&v, c)| v <= u32::from(c.max));
+        let valid = |e: i64| {
+            (0..m.events.len() as i64).contains(&e)
+                && (raw as usize) < m.states.len()
+                && counters_ok
+        };
         let line = match c {
             Cmd::SetState(n) => {
                 raw = *n;
@@ -235,6 +292,11 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
             Cmd::SetTimer(k, v) => {
                 timers[*k] = *v;
                 out.push(format!("timer {k} {v}"));
+                continue;
+            }
+            Cmd::SetCounter(k, v) => {
+                counters[*k] = *v;
+                out.push(format!("counter {k} {v}"));
                 continue;
             }
             Cmd::NullOut(e) => {
@@ -251,12 +313,12 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                 let mut config = Config {
                     state: StateId(raw),
                     timers: timers.clone(),
-                    counters: counters.clone(),
+                    counters: counters.iter().map(|&v| v as u16).collect(),
                 };
                 let r = m.step_config(&mut config, EventId(*e as u32), ins);
                 raw = r.to.0;
                 timers = config.timers;
-                counters = config.counters;
+                counters = config.counters.iter().map(|&v| u32::from(v)).collect();
                 let outs = r.outputs();
                 let ob = if m.outputs.is_empty() {
                     "-".to_string()
@@ -295,7 +357,11 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                 )
             }
         };
-        out.push(format!("{line}{}", timer_suffix(m, raw, &timers)));
+        out.push(format!(
+            "{line}{}{}",
+            timer_suffix(m, raw, &timers, &counters),
+            counter_suffix(&counters)
+        ));
     }
     out
 }
@@ -388,16 +454,54 @@ pub fn harness_main(m: &Machine) -> String {
     }
     let _ = writeln!(
         c,
-        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar(' ');\n    if (c->n_reads == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->reads[i]);\n    }}\n{timer_print}    putchar('\\n');\n}}\n",
-        timer_print = timer_print.replace("STATE_COUNT_", &format!("{}_STATE_COUNT", n.up))
+        "    putchar(' ');\n    if (c->n_actions == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_actions && i < MAX_ACTIONS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->actions[i]);\n    }}\n    putchar(' ');\n    if (c->n_reads == 0u) {{\n        putchar('-');\n    }}\n    for (i = 0u; i < c->n_reads && i < MAX_READS; ++i) {{\n        printf(\"%s%u\", i == 0u ? \"\" : \",\", c->reads[i]);\n    }}\n{timer_print}{counter_print}    putchar('\\n');\n}}\n",
+        timer_print = timer_print.replace("STATE_COUNT_", &format!("{}_STATE_COUNT", n.up)),
+        counter_print = counter_print(&n)
     );
     let _ = writeln!(
         c,
-        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        hc.n_reads = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x - -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n{set_timer}        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
+        "int main(void)\n{{\n    const struct {p}_hooks hooks = {{ {} }};\n    struct {p}_hooks zero_hooks;\n    struct {p}_machine m;\n    struct {p}_outputs out;\n    static char line[8192];\n    static struct harness_ctx hc;\n    {p}_init(&m);\n    while (fgets(line, (int)sizeof line, stdin) != NULL) {{\n        char *end = NULL;\n        long ev = strtol(line + 1, &end, 10);\n        int rc;\n        while (*end == ' ') {{\n            ++end;\n        }}\n        hc.bits = end;\n        hc.n_bits = strcspn(end, \" \\r\\n\");\n        hc.n_actions = 0u;\n        hc.n_reads = 0u;\n        memset(&out, 1, sizeof out);\n        switch (line[0]) {{\n        case 's':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'h':\n            rc = {p}_step(&m, (enum {p}_event)ev, NULL, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'z':\n            memset(&zero_hooks, 0, sizeof zero_hooks);\n            rc = {p}_step(&m, (enum {p}_event)ev, &zero_hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'o':\n            rc = {p}_step(&m, (enum {p}_event)ev, &hooks, &hc, NULL);\n            printf(\"%u %d x - -\\n\", (unsigned int)m.state, rc);\n            break;\n        case 'm':\n            rc = {p}_step(NULL, (enum {p}_event)ev, &hooks, &hc, &out);\n            print_result(&m, rc, &out, &hc);\n            break;\n        case 'S':\n            m.state = ({st_ty})ev;\n            printf(\"set %ld\\n\", ev);\n            break;\n{set_timer}{set_counter}        default:\n            fprintf(stderr, \"bad command: %s\", line);\n            return 2;\n        }}\n        if ({p}_state_name((enum {p}_state)m.state) == NULL || {p}_event_name((enum {p}_event)ev) == NULL) {{\n            return 3;\n        }}\n    }}\n    return 0;\n}}",
         inits.join(", "),
-        set_timer = set_timer_case(m, &n)
+        set_timer = set_timer_case(m, &n),
+        set_counter = set_counter_case(m, &n)
     );
     c
+}
+
+/// Prints ` c=` and the counters after a result line (nothing without counters).
+fn counter_print(n: &CNames) -> String {
+    if n.counters.is_empty() {
+        return String::new();
+    }
+    let mut t = String::from("    fputs(\" c=\", stdout);\n");
+    for (k, f) in n.counters.iter().enumerate() {
+        let sep = if k == 0 { "" } else { "," };
+        let _ = writeln!(t, "    printf(\"{sep}%lu\", (unsigned long)m->{f});");
+    }
+    t
+}
+
+/// The harness's `C<k> <v>` command: writes `v` into counter `k` (cast to its C type).
+fn set_counter_case(m: &Machine, n: &CNames) -> String {
+    if m.counters.is_empty() {
+        return String::new();
+    }
+    let mut t = String::from(
+        "        case 'C': {\n            unsigned long v = strtoul(end, NULL, 10);\n            switch (ev) {\n",
+    );
+    for (k, f) in n.counters.iter().enumerate() {
+        let ty = if m.counters[k].max <= 255 {
+            "uint8_t"
+        } else {
+            "uint16_t"
+        };
+        let _ = writeln!(
+            t,
+            "            case {k}:\n                m.{f} = ({ty})v;\n                break;"
+        );
+    }
+    t.push_str("            default:\n                break;\n            }\n            printf(\"counter %ld %lu\\n\", ev, v);\n            break;\n        }\n");
+    t
 }
 
 /// The harness's `T<k> <v>` command: writes `v` into timer `k` (cast to its C type).

@@ -21,6 +21,8 @@ pub struct Observed {
     pub timers: Vec<u32>,
     /// `next_timeout` after the step (`None` without timers).
     pub next_timeout: Option<u32>,
+    /// The counters after the step, in declaration order (empty without counters).
+    pub counters: Vec<u16>,
 }
 
 /// The test's `Hooks`: hostile inputs, actions recorded.

@@ -10,8 +10,8 @@ use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::{generate_c, table_sizes, CFiles};
 use detent_compiler::model::Machine;
 use detent_tests::c_harness::{
-    build_harness, expected_lines, random_cmds, random_timed_cmds, require_tool, run_harness, Cmd,
-    STRICT_FLAGS,
+    build_harness, expected_lines, random_cmds, random_timed_cmds, require_tool, run_harness,
+    with_counter_faults, Cmd, STRICT_FLAGS,
 };
 use detent_tests::gen::{random_spec, GenConfig, Rng};
 use detent_tests::workspace_root;
@@ -363,6 +363,101 @@ fn c_matches_the_interpreter_on_random_timed_machines() {
         timeouts * 20 > steps,
         "{timeouts} timeouts in {steps} commands"
     );
+}
+
+/// Random machines with counters (comparisons in guards, operations in rules and in
+/// enter and leave lists), alone, clocked and with timeouts, under every policy.
+fn random_counted_machines() -> Vec<(String, Machine)> {
+    let mut out = Vec::new();
+    for (ci, policy) in [None, Some("ignore"), Some("reject")]
+        .into_iter()
+        .enumerate()
+    {
+        for (di, (events, counters, timeouts)) in [
+            (3usize, 2usize, false),
+            (0, 1, false),
+            (4, 3, true),
+            (0, 2, true),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            for seed in 0..3u64 {
+                let cfg = GenConfig {
+                    events,
+                    counters,
+                    timeouts,
+                    policy,
+                    ..GenConfig::default()
+                };
+                let name = format!("counted_{ci}_{di}_{seed}.detent");
+                let text = random_spec(seed * 173 + (ci * 11 + di) as u64 + 900, &cfg);
+                let report = check_source(&name, &text);
+                assert!(!report.has_errors(), "{text}");
+                for m in report.machines.into_iter().filter_map(|m| m.machine) {
+                    out.push((name.clone(), m));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// C against the interpreter on machines with counters: every step compares the
+/// state, outputs, actions, handled, the inputs read (hostile hooks), the timers and
+/// every counter. Half the command lists write counters: values in range (a restored
+/// machine: the interpreter goes on from them) and corrupt ones past the bound, up to
+/// the largest value of the member's type, on which `step` must return -1 with every
+/// output low and no hook called, until a later write puts the counter back in range.
+/// ASan and UBSan watch every run.
+#[test]
+fn c_matches_the_interpreter_on_random_counted_machines() {
+    let machines = random_counted_machines();
+    let (mut steps, mut changed, mut refused) = (0usize, 0usize, 0usize);
+    for (i, (file, m)) in machines.iter().enumerate() {
+        let files = generate_c(m, file);
+        let dir = scratch(&format!("counted-{i}"));
+        let exe =
+            build_harness(&dir, m, &files).unwrap_or_else(|e| panic!("{e}\n{}", files.source));
+        let mut rng = Rng::new(0xC0_0A7 + i as u64);
+        for k in 0..4 {
+            let mut cmds = random_timed_cmds(&mut rng, m, 300, 0.5, k % 2 == 1);
+            if k % 2 == 1 {
+                cmds = with_counter_faults(&mut rng, m, cmds, 0.05);
+                cmds.extend(random_cmds(&mut rng, m, 40, true));
+            }
+            let got = run_harness(&exe, &cmds).unwrap_or_else(|e| panic!("{file}: {e}"));
+            let want = expected_lines(m, &cmds);
+            assert_eq!(got.len(), want.len(), "{file}: line count");
+            for (j, (g, w)) in got.iter().zip(&want).enumerate() {
+                assert_eq!(
+                    g, w,
+                    "{file} / {}: command {j} `{:?}` differs (C left, interpreter right)\n{}",
+                    m.name, cmds[j], files.source
+                );
+            }
+            steps += cmds.len();
+            let mut last = String::new();
+            for (c, line) in cmds.iter().zip(&want) {
+                if let Cmd::Step(..) = c {
+                    let counters = line.rsplit(" c=").next().unwrap_or("").to_string();
+                    changed += usize::from(!last.is_empty() && counters != last);
+                    refused += usize::from(line.split(' ').nth(1) == Some("-1"));
+                    last = counters;
+                }
+            }
+        }
+    }
+    eprintln!(
+        "{} counter machines, {steps} commands, {changed} steps changed a counter, {refused} refused (C)",
+        machines.len()
+    );
+    assert!(machines.len() >= 30, "{}", machines.len());
+    assert!(
+        changed * 20 > steps,
+        "{changed} counter changes in {steps} commands"
+    );
+    assert!(refused > 20, "{refused} steps returned -1");
 }
 
 #[test]

@@ -37,6 +37,7 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
         reads: vec![],
         timers: config.timers.clone(),
         next_timeout: m.next_timeout(&config),
+        counters: config.counters.clone(),
     }];
     for (e, ins) in trace {
         let r = m.step_config(&mut config, EventId::from_index(*e), ins);
@@ -48,6 +49,7 @@ fn interpret(spec: &str, trace: &[(usize, Vec<bool>)]) -> Vec<Observed> {
             reads: r.inputs_read.iter().map(|i| i.index()).collect(),
             timers: config.timers.clone(),
             next_timeout: m.next_timeout(&config),
+            counters: config.counters.clone(),
         });
     }
     out
@@ -62,11 +64,15 @@ fn generated_rust_agrees_with_the_interpreter() {
     let mut timed = 0usize;
     let mut timed_steps = 0usize;
     let mut timeouts = 0usize;
+    // Counter machines: their steps, the steps that changed a counter, and those that
+    // left a counter at its bound (the whole range is exercised).
+    let (mut counted, mut counted_steps, mut counter_changes, mut at_bound) = (0, 0, 0, 0);
     for case in CASES {
         let report = check_source("case.detent", case.spec);
         let m = report.machines.into_iter().find_map(|m| m.machine).unwrap();
         let mut rng = Rng::new(case.name.len() as u64 * 7919 + case.spec.len() as u64);
         timed += usize::from(m.has_timers());
+        counted += usize::from(!m.counters.is_empty());
         for t in 0..12 {
             let trace = if m.has_timers() {
                 random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.7)
@@ -98,6 +104,16 @@ fn generated_rust_agrees_with_the_interpreter() {
                 assert_eq!(got.len(), expected.len());
             }
             for w in expected.windows(2) {
+                if !m.counters.is_empty() {
+                    counted_steps += 1;
+                    counter_changes += usize::from(w[0].counters != w[1].counters);
+                    at_bound += usize::from(
+                        w[1].counters
+                            .iter()
+                            .zip(&m.counters)
+                            .any(|(&v, c)| v == c.max),
+                    );
+                }
                 steps += 1;
                 moved += usize::from(w[0].state != w[1].state);
                 rejected += usize::from(w[1].rejected);
@@ -109,7 +125,20 @@ fn generated_rust_agrees_with_the_interpreter() {
         "{} cases ({timed} timed: {timed_steps} steps, {timeouts} timeouts fired), {steps} steps, 4 Rust forms each",
         CASES.len()
     );
+    eprintln!(
+        "{counted} counter cases: {counted_steps} steps, {counter_changes} changed a counter, \
+         {at_bound} ended with a counter at its bound"
+    );
     assert!(timed >= 12, "{timed} timed cases");
+    assert!(counted >= 15, "{counted} counter cases");
+    assert!(
+        counter_changes * 10 > counted_steps,
+        "{counter_changes} of {counted_steps} steps changed a counter"
+    );
+    assert!(
+        at_bound * 20 > counted_steps,
+        "{at_bound} of {counted_steps} steps left a counter at its bound"
+    );
     assert!(
         timeouts * 20 > timed_steps,
         "{timeouts} timeouts in {timed_steps} steps"

@@ -128,3 +128,132 @@ fn past_256_states_the_state_is_two_bytes() {
     assert_eq!(Machine::restore(299).unwrap().state(), State::W299);
     assert_eq!(Machine::restore(300), Err(InvalidState { raw: 300 }));
 }
+
+detent::machine! {
+    /// Counters and a timer: `restore_with` takes both.
+    #[allow(equivalent_states, unused_declaration)]
+    machine Strikes {
+        events Bad, Good, Tick;
+        timebase Tick;
+        counters
+            /// Wrong tries.
+            strikes to 3,
+            big to 300;
+        start Open;
+        unhandled ignore;
+        state Open {
+            Bad if strikes < 2 => stay, do strikes += 1;
+            Bad if strikes >= 2 => Locked, do strikes += 1;
+            Good => stay, do strikes = 0, big = 300;
+        }
+        state Locked {
+            after 5 ticks => Open, do strikes -= 3;
+        }
+    }
+
+    #[dispatch(match)]
+    #[allow(equivalent_states, unused_declaration)]
+    machine StrikesMatch {
+        events Bad, Good, Tick;
+        timebase Tick;
+        counters strikes to 3, big to 300;
+        start Open;
+        unhandled ignore;
+        state Open {
+            Bad if strikes < 2 => stay, do strikes += 1;
+            Bad if strikes >= 2 => Locked, do strikes += 1;
+            Good => stay, do strikes = 0, big = 300;
+        }
+        state Locked {
+            after 5 ticks => Open, do strikes -= 3;
+        }
+    }
+}
+
+/// `restore_with` refuses every counter and timer value out of range (carrying it) and
+/// takes every value in range; the restored machine goes on from there.
+#[test]
+fn restore_with_validates_counters_and_timers() {
+    macro_rules! check {
+        ($m:ident) => {{
+            use $m::{Counters, Event, Machine, State, Timers};
+            let m = Machine::new();
+            assert_eq!(m.counters(), Counters { strikes: 0, big: 0 });
+            let _: (u8, u16) = (m.counters().strikes, m.counters().big);
+            // Every counter value: in range restores, past the bound is refused.
+            for v in 0..=u8::MAX {
+                let c = Counters { strikes: v, big: 0 };
+                let r = Machine::restore_with(0, c, Timers::default());
+                if v <= 3 {
+                    assert_eq!(r.map(|m| m.counters()), Ok(c));
+                } else {
+                    assert_eq!(r, Err(InvalidState { raw: u16::from(v) }));
+                }
+            }
+            for v in [299u16, 300, 301, 1000, u16::MAX] {
+                let c = Counters { strikes: 0, big: v };
+                let r = Machine::restore_with(0, c, Timers::default());
+                if v <= 300 {
+                    assert!(r.is_ok());
+                } else {
+                    assert_eq!(r, Err(InvalidState { raw: v }));
+                }
+            }
+            // A bad state number first.
+            assert_eq!(
+                Machine::restore_with(9, Counters::default(), Timers::default()),
+                Err(InvalidState { raw: 9 })
+            );
+            // Timers: past the longest timeout, or running in a state that has none.
+            let locked = State::Locked as u8;
+            for v in 0..=u8::MAX {
+                let t = Timers { locked: v };
+                let r = Machine::restore_with(locked, Counters::default(), t);
+                if v <= 5 {
+                    assert_eq!(r.map(|m| m.timers()), Ok(t));
+                } else {
+                    assert_eq!(r, Err(InvalidState { raw: u16::from(v) }));
+                }
+                let open = Machine::restore_with(0, Counters::default(), t);
+                assert_eq!(open.is_ok(), v == 0);
+            }
+            // Restored at strikes 2 in Open: one more Bad locks, the timeout unlocks
+            // and takes the strikes back to 0 (saturating at 0 from 3).
+            let mut m = Machine::restore_with(
+                0,
+                Counters {
+                    strikes: 2,
+                    big: 300,
+                },
+                Timers::default(),
+            )
+            .unwrap();
+            m.step(Event::Bad, &mut ()).unwrap();
+            assert_eq!(m.state(), State::Locked);
+            assert_eq!(
+                m.counters(),
+                Counters {
+                    strikes: 3,
+                    big: 300
+                }
+            );
+            // restore(raw) alone: everything at 0.
+            let r = Machine::restore(locked).unwrap();
+            assert_eq!(
+                (r.counters(), r.timers()),
+                (Counters::default(), Timers::default())
+            );
+            let mut m = Machine::restore_with(
+                locked,
+                Counters { strikes: 3, big: 7 },
+                Timers { locked: 4 },
+            )
+            .unwrap();
+            m.step(Event::Tick, &mut ()).unwrap();
+            assert_eq!(m.state(), State::Open);
+            assert_eq!(m.counters(), Counters { strikes: 0, big: 7 });
+        }};
+    }
+    check!(strikes);
+    check!(strikes_match);
+}

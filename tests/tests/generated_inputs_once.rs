@@ -318,3 +318,23 @@ fn timeouts_test_due_first_and_read_each_input_once() {
         || Box::new(timed_match::Machine::new()),
     );
 }
+
+#[detent::machine_file(file = "specs/keypad_counted.detent", dispatch = "table")]
+mod keypad_table {}
+#[detent::machine_file(file = "specs/keypad_counted.detent", dispatch = "match")]
+mod keypad_match {}
+form!(keypad_table, inputs: [code_ok = 0], actions: [beep = 0, clear = 1], outputs: [unlocked, locked_out]);
+form!(keypad_match, inputs: [code_ok = 0], actions: [beep = 0, clear = 1], outputs: [unlocked, locked_out]);
+
+/// Counter comparisons beside an input in every test of a cell (`code_ok && uses <
+/// 1000`, `!code_ok && strikes < 2`, ..): the input is read once, before the
+/// comparison, as the interpreter reads it, and the counters steer the choice.
+#[test]
+fn counter_comparisons_read_each_input_once() {
+    both_styles(
+        "keypad_counted.detent",
+        include_str!("../specs/keypad_counted.detent"),
+        || Box::new(keypad_table::Machine::new()),
+        || Box::new(keypad_match::Machine::new()),
+    );
+}

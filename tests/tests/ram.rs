@@ -16,6 +16,8 @@ const SHAPES: &[(&str, &str)] = &[
     ("a u16 timer and a u8 group timer", U16_AND_GROUP_U8),
     ("30 s at 1 ms (u16)", THIRTY_S_1MS),
     ("30 s at 10 us (u32)", THIRTY_S_10US),
+    ("one u8 counter", ONE_COUNTER),
+    ("a u8 timer, a u16 and a u8 counter", MIXED),
 ];
 
 macro_rules! shapes {
@@ -30,6 +32,8 @@ shapes! {
     U16_AND_GROUP_U8 = "machine Two { events Go, Tick; timebase Tick 1 ms; start A; unhandled ignore; state A { Go => B; } group G { after 200 ms => A; state B { after 1 s => C; } state C { Go => B; } } }";
     THIRTY_S_1MS = "machine Thirty { events Go, Tick; timebase Tick 1 ms; start A; unhandled ignore; state A { Go => B; } state B { after 30 s => A; } }";
     THIRTY_S_10US = "machine Fine { events Go, Tick; timebase Tick 10 us; start A; unhandled ignore; state A { Go => B; } state B { after 30 s => A; } }";
+    ONE_COUNTER = "machine OneCounter { events Go, Tick; counters n to 3; start A; unhandled ignore; state A { Go if n < 3 => B, do n += 1; } state B { Go => A; } }";
+    MIXED = "machine Mixed { events Go, Tick; timebase Tick 10 ms; counters big to 1000, small to 5; start A; unhandled ignore; state A { Go if big < 1000 && small < 5 => B, do big += 1, small += 1; } state B { after 2 s => A; Go => A, do small = 0; } }";
 }
 
 detent::machine! {
@@ -45,6 +49,10 @@ detent::machine! {
     machine Thirty { events Go, Tick; timebase Tick 1 ms; start A; unhandled ignore; state A { Go => B; } state B { after 30 s => A; } }
     #[allow(equivalent_states, unused_declaration)]
     machine Fine { events Go, Tick; timebase Tick 10 us; start A; unhandled ignore; state A { Go => B; } state B { after 30 s => A; } }
+    #[allow(equivalent_states, unused_declaration)]
+    machine OneCounter { events Go, Tick; counters n to 3; start A; unhandled ignore; state A { Go if n < 3 => B, do n += 1; } state B { Go => A; } }
+    #[allow(equivalent_states, unused_declaration)]
+    machine Mixed { events Go, Tick; timebase Tick 10 ms; counters big to 1000, small to 5; start A; unhandled ignore; state A { Go if big < 1000 && small < 5 => B, do big += 1, small += 1; } state B { after 2 s => A; Go => A, do small = 0; } }
 }
 
 /// `sizeof(struct <stem>_machine)` of the generated C, compiled by gcc for this host.
@@ -96,6 +104,8 @@ fn ram_per_machine() {
         core::mem::size_of::<two::Machine>(),
         core::mem::size_of::<thirty::Machine>(),
         core::mem::size_of::<fine::Machine>(),
+        core::mem::size_of::<one_counter::Machine>(),
+        core::mem::size_of::<mixed::Machine>(),
     ];
     let c: Vec<usize> = SHAPES.iter().map(|(_, spec)| c_size(spec)).collect();
     eprintln!("| shape | Rust `size_of::<Machine>()` | C `sizeof(struct _machine)` |");
@@ -107,8 +117,14 @@ fn ram_per_machine() {
     // timeout), rounded up to the alignment of the widest: the timers are fields of
     // `Machine` itself, which lets the compiler pack the state byte beside a `u8`
     // timer (a nested `Timers` struct would cost 6 bytes for the third shape).
-    assert_eq!(rust, [1, 2, 4, 4, 8]);
-    assert_eq!(c, [1, 2, 4, 4, 8]);
+    // Counters are fields too (`u8` up to 255, else `u16`): one byte of state and one
+    // of counter; state, a `u8` timer, a `u16` and a `u8` counter in 6 (5 rounded up to
+    // the `u16`'s alignment).
+    assert_eq!(rust, [1, 2, 4, 4, 8, 2, 6]);
+    assert_eq!(c, [1, 2, 4, 4, 8, 2, 6]);
+    let k = mixed::Machine::new().counters();
+    let _: (u16, u8) = (k.big, k.small);
+    let _: u8 = one_counter::Machine::new().counters().n;
     // The timer types: u8 for 200 ticks, u16 for 1,000 and 30,000, u32 for 3,000,000.
     let t = two::Machine::new().timers();
     let _: (u16, u8) = (t.b, t.g);

@@ -5,6 +5,7 @@
 //! `no_std` Rust with table or `match` dispatch.
 
 pub mod c;
+pub mod counters;
 pub mod diagram;
 pub mod dot;
 pub mod js;

@@ -108,7 +108,12 @@ pub(super) fn header(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     };
     let _ = writeln!(
         h,
-        "/** A running machine: the current state number (and its timers, when it has\n    timeouts). It may be stored (for example in flash) and written back; `{p}_step`\n    rejects a value that is not a state. */"
+        "{}",
+        if m.counters.is_empty() {
+            format!("/** A running machine: the current state number (and its timers, when it has\n    timeouts). It may be stored (for example in flash) and written back; `{p}_step`\n    rejects a value that is not a state. */")
+        } else {
+            format!("/** A running machine: the current state number, its timers (when it has\n    timeouts) and its counters. It may be stored (for example in flash) and written\n    back; `{p}_step` rejects a value that is not a state and a counter past its\n    bound. */")
+        }
     );
     let _ = write!(h, "struct {p}_machine {{\n    /** The current state (`enum {p}_state`). */\n    {st_ty} state;\n");
     for (k, f) in n.timers.iter().enumerate() {
@@ -118,6 +123,30 @@ pub(super) fn header(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
             crate::emit::timers::timer_doc(m, crate::model::TimerId::from_index(k))
         );
         let doc: Vec<String> = wrap(&text, "\n").lines().map(str::to_string).collect();
+        doc_block(&mut h, "    ", &doc);
+        let _ = writeln!(h, "    {ty} {f};");
+    }
+    for (k, f) in n.counters.iter().enumerate() {
+        let max = m.counters[k].max;
+        let ty = super::tables::uint_for(u64::from(max)).0;
+        let mut text =
+            crate::emit::counters::counter_doc(m, crate::model::CounterId::from_index(k))
+                .join("\n");
+        text.push_str(&format!(
+            " `{p}_init` sets it to 0; `{p}_step` returns -1 while it is above {max}."
+        ));
+        let doc: Vec<String> = text
+            .split('\n')
+            .flat_map(|para| {
+                let w = wrap(para, "\n");
+                let lines: Vec<String> = w.lines().map(str::to_string).collect();
+                if lines.is_empty() {
+                    vec![String::new()]
+                } else {
+                    lines
+                }
+            })
+            .collect();
         doc_block(&mut h, "    ", &doc);
         let _ = writeln!(h, "    {ty} {f};");
     }

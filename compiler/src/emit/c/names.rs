@@ -168,6 +168,8 @@ pub struct CNames {
     pub actions: Vec<String>,
     /// Timer members of `struct <p>_machine` (`timer_<scope>`).
     pub timers: Vec<String>,
+    /// Counter members of `struct <p>_machine` (`counter_<name>`).
+    pub counters: Vec<String>,
 }
 
 impl CNames {
@@ -217,6 +219,11 @@ impl CNames {
             timers: crate::emit::timers::timer_names(m)
                 .iter()
                 .map(|n| format!("timer_{}", c_ident(n)))
+                .collect(),
+            counters: m
+                .counters
+                .iter()
+                .map(|c| format!("counter_{}", c_ident(&c.name)))
                 .collect(),
         }
     }

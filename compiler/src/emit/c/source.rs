@@ -4,41 +4,70 @@
 use super::names::CNames;
 use super::tables::{uint_for, Layout, Test};
 use super::text::{banner, c_string, comment_text, number_rows};
-use crate::model::{Guard, Machine};
+use crate::emit::counters::{atom_code, op_code, AtomCode, OpCode};
+use crate::model::{CounterOp, Guard, Machine};
 use std::fmt::Write;
 
-fn guard_c(m: &Machine, g: &Guard, p: &str) -> String {
+fn guard_c(m: &Machine, g: &Guard, n: &CNames) -> String {
+    let p = &n.p;
     match g {
         Guard::Input(i) => format!("{p}_input_(in, {}u, hooks, ctx)", i.index()),
-        Guard::Atom(a) => {
-            let atom = &m.atoms[a.index()];
-            format!(
-                "(m->counters.{} {} {}u)",
-                m.counters[atom.counter.index()].name,
-                atom.cmp.symbol(),
-                atom.value
-            )
-        }
+        // A counter as stored at the start of the step (no operation has run yet),
+        // the comparison folded over the counter's range (`emit::counters`).
+        Guard::Atom(a) => match atom_code(m, &m.atoms[a.index()]) {
+            AtomCode::Const(b) => b.to_string(),
+            AtomCode::Cmp(c, cmp, k) => {
+                format!("(m->{} {} {k}u)", n.counters[c.index()], cmp.symbol())
+            }
+        },
         Guard::Const(true) => "true".into(),
         Guard::Const(false) => "false".into(),
-        Guard::Not(a) => format!("!{}", guard_c(m, a, p)),
-        Guard::And(a, b) => format!("({} && {})", guard_c(m, a, p), guard_c(m, b, p)),
-        Guard::Or(a, b) => format!("({} || {})", guard_c(m, a, p), guard_c(m, b, p)),
+        Guard::Not(a) => format!("!{}", guard_c(m, a, n)),
+        Guard::And(a, b) => format!("({} && {})", guard_c(m, a, n), guard_c(m, b, n)),
+        Guard::Or(a, b) => format!("({} || {})", guard_c(m, a, n), guard_c(m, b, n)),
+    }
+}
+
+/// The C statement of a counter operation on `m`, saturating at the ends of the
+/// counter's range (the stored value is in range: `step` checked it).
+fn counter_op_c(m: &Machine, op: &CounterOp, n: &CNames) -> String {
+    let c = &m.counters[op.counter.index()];
+    let f = &n.counters[op.counter.index()];
+    let ty = uint_for(u64::from(c.max)).0;
+    let max = c.max;
+    match op_code(m, op) {
+        OpCode::Nothing => format!("/* {} += 0 or -= 0: no change */", c.name),
+        OpCode::Set(k) => format!("m->{f} = ({ty}){k}u;"),
+        OpCode::Add(k) => format!(
+            "m->{f} = ({ty})(m->{f} < {}u ? m->{f} + {k}u : {max}u);",
+            max - k
+        ),
+        OpCode::Sub(k) => format!("m->{f} = ({ty})(m->{f} > {k}u ? m->{f} - {k}u : 0u);"),
     }
 }
 
 /// A transition's test in C: the due timeout first (it reads no input: `before[k]` is
 /// timer `k` before this time-base event, clamped to its largest duration), then the
 /// guard.
-fn test_c(m: &Machine, t: &Test, p: &str) -> String {
+fn test_c(m: &Machine, t: &Test, n: &CNames) -> String {
     let due = t
         .due
         .map(|(timer, d)| format!("before[{}u] == {}u", timer.index(), d.saturating_sub(1)));
     match (due, &t.guard) {
-        (Some(d), Some(g)) => format!("{d} && {}", guard_c(m, g, p)),
+        (Some(d), Some(g)) => format!("{d} && {}", guard_c(m, g, n)),
         (Some(d), None) => d,
-        (None, Some(g)) => guard_c(m, g, p),
+        (None, Some(g)) => guard_c(m, g, n),
         (None, None) => "true".into(),
+    }
+}
+
+/// The largest value of the C type [`uint_for`] picks for `max`.
+fn uint_type_max(max: u64) -> u64 {
+    match uint_for(max).1 {
+        1 => u64::from(u8::MAX),
+        2 => u64::from(u16::MAX),
+        4 => u64::from(u32::MAX),
+        _ => u64::MAX,
     }
 }
 
@@ -198,7 +227,7 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         );
         number_rows(&mut c, &vals, false);
         let _ = writeln!(c, "}};\n");
-        let vals: Vec<u64> = l.act_list.iter().map(|a| a.0 as u64).collect();
+        let vals: Vec<u64> = l.act_list.iter().map(|&a| a as u64).collect();
         let _ = writeln!(
             c,
             "static const {} {p}_act_[{}] = {{",
@@ -288,9 +317,14 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         } else {
             ""
         };
+        let m_param = if l.guards_read_counters {
+            format!("const struct {p}_machine *m, ")
+        } else {
+            String::new()
+        };
         let _ = writeln!(
             c,
-            "static bool {p}_guard_holds_(unsigned int g, {before_param}{in_param}const struct {p}_hooks *hooks,\n    void *ctx)\n{{"
+            "static bool {p}_guard_holds_(unsigned int g, {m_param}{before_param}{in_param}const struct {p}_hooks *hooks,\n    void *ctx)\n{{"
         );
         if !used_inputs {
             let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
@@ -304,16 +338,29 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
                 c,
                 "    case {}u:\n        return {};",
                 i + 1,
-                test_c(m, g, p)
+                test_c(m, g, n)
             );
         }
         let _ = writeln!(c, "    default:\n        return true;\n    }}\n}}\n");
     }
+    let counted_ops = !l.counter_ops.is_empty();
     if has_actions {
+        let (doc, m_param) = if counted_ops {
+            (
+                format!("/* Runs operation `a`: action `a` below {}, else a counter operation (it\n   stops at the end of the counter's range). */\n", m.actions.len()),
+                format!("struct {p}_machine *m, "),
+            )
+        } else {
+            (String::new(), String::new())
+        };
         let _ = writeln!(
             c,
-            "static void {p}_run_action_(unsigned int a, const struct {p}_hooks *hooks, void *ctx)\n{{\n    switch (a) {{"
+            "{doc}static void {p}_run_action_({m_param}unsigned int a, const struct {p}_hooks *hooks, void *ctx)\n{{"
         );
+        if !l.actions_used.iter().any(|&u| u) {
+            let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
+        }
+        let _ = writeln!(c, "    switch (a) {{");
         for (i, cname) in n.actions.iter().enumerate() {
             if l.actions_used[i] {
                 let _ = writeln!(
@@ -321,6 +368,15 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
                     "    case {i}u:\n        hooks->{cname}(ctx);\n        break;"
                 );
             }
+        }
+        for (k, op) in l.counter_ops.iter().enumerate() {
+            let text = comment_text(&m.op_text(&crate::model::Op::Counter(*op)));
+            let _ = writeln!(
+                c,
+                "    case {}u: /* {text} */\n        {}\n        break;",
+                m.actions.len() + k,
+                counter_op_c(m, op, n)
+            );
         }
         let _ = writeln!(c, "    default:\n        break;\n    }}\n}}\n");
     }
@@ -374,6 +430,9 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         n.states[m.start.index()]
     );
     for f in &n.timers {
+        let _ = writeln!(c, "        m->{f} = 0u;");
+    }
+    for f in &n.counters {
         let _ = writeln!(c, "        m->{f} = 0u;");
     }
     let _ = writeln!(c, "    }}\n}}\n");
@@ -444,6 +503,22 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
     } else {
         let _ = writeln!(c, "    (void)hooks;\n    (void)ctx;");
     }
+    // A stored counter past its bound (a corrupt or hand-written value) is a bad
+    // argument, like a state number that names no state.
+    let checks: Vec<String> = m
+        .counters
+        .iter()
+        .zip(&n.counters)
+        .filter(|(c, _)| u64::from(c.max) < uint_type_max(u64::from(c.max)))
+        .map(|(c, f)| format!("m->{f} > {}u", c.max))
+        .collect();
+    if !checks.is_empty() {
+        let _ = writeln!(
+            c,
+            "    if ({}) {{\n        return -1;\n    }}",
+            checks.join("\n        || ")
+        );
+    }
     let _ = writeln!(c, "    s = (unsigned int)m->state;");
     if timed {
         let _ = writeln!(
@@ -505,9 +580,10 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         if used_inputs {
             let _ = writeln!(c, "    in.known = 0u;\n    in.value = 0u;");
         }
+        let m_arg = if l.guards_read_counters { "m, " } else { "" };
         let _ = writeln!(
             c,
-            "    while (t < t_end && !{p}_guard_holds_((unsigned int){p}_guard_[t], {in_arg}hooks, ctx)) {{\n        ++t;\n    }}"
+            "    while (t < t_end && !{p}_guard_holds_((unsigned int){p}_guard_[t], {m_arg}{in_arg}hooks, ctx)) {{\n        ++t;\n    }}"
         );
     }
     let _ = writeln!(
@@ -516,9 +592,10 @@ pub(super) fn source(m: &Machine, l: &Layout, n: &CNames, source_name: &str) -> 
         moore_row("s")
     );
     if has_actions {
+        let m_arg = if counted_ops { "m, " } else { "" };
         let _ = writeln!(
             c,
-            "    {{\n        const unsigned int q = (unsigned int){p}_seq_[t];\n        unsigned int a;\n        for (a = (unsigned int){p}_seq_start_[q]; a < (unsigned int){p}_seq_start_[q + 1u]; ++a) {{\n            {p}_run_action_((unsigned int){p}_act_[a], hooks, ctx);\n        }}\n    }}"
+            "    {{\n        const unsigned int q = (unsigned int){p}_seq_[t];\n        unsigned int a;\n        for (a = (unsigned int){p}_seq_start_[q]; a < (unsigned int){p}_seq_start_[q + 1u]; ++a) {{\n            {p}_run_action_({m_arg}(unsigned int){p}_act_[a], hooks, ctx);\n        }}\n    }}"
         );
     }
     let zero_call = if l.has_zero() {

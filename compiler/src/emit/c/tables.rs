@@ -9,7 +9,7 @@
 
 use crate::fxhash::FxMap;
 use crate::model::lower::{OutSetId, SeqId};
-use crate::model::{ActionId, EventId, Guard, Machine, OutputId, StateId, TimerId};
+use crate::model::{CounterOp, EventId, Guard, Machine, Op, OutputId, StateId, TimerId};
 
 /// One transition: a choice of the lowered form as one cell has it.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
@@ -46,7 +46,13 @@ pub(super) struct Layout {
     pub zero_sets: Vec<Vec<TimerId>>,
     /// First action entry of each used sequence, plus the end; sequence 0 is empty.
     pub seq_start: Vec<usize>,
-    pub act_list: Vec<ActionId>,
+    /// The operations of the used sequences: `a < actions` is action `a`, `a >= actions`
+    /// counter operation `counter_ops[a - actions]`.
+    pub act_list: Vec<usize>,
+    /// The distinct counter operations some sequence runs.
+    pub counter_ops: Vec<CounterOp>,
+    /// Some guard compares a counter (the guard function then reads the machine).
+    pub guards_read_counters: bool,
     /// Moore mask words of each state.
     pub moore: Vec<Vec<u64>>,
     /// Output mask words per row (0 when the machine has no outputs).
@@ -109,7 +115,9 @@ impl Layout {
         let mut seq_index: FxMap<SeqId, usize> = FxMap::default();
         seq_index.insert(SeqId::EMPTY, 0);
         let mut seq_start = vec![0usize, 0usize];
-        let mut act_list: Vec<ActionId> = Vec::new();
+        let mut act_list: Vec<usize> = Vec::new();
+        let mut counter_ops: Vec<CounterOp> = Vec::new();
+        let mut counter_op_ids: FxMap<CounterOp, usize> = FxMap::default();
         let mut inputs_used = vec![false; m.inputs.len()];
         let mut actions_used = vec![false; m.actions.len()];
         // Cells with the same transitions (the rest class of a state, or states with
@@ -161,9 +169,21 @@ impl Layout {
                     let next = seq_start.len() - 1;
                     let seq = *seq_index.entry(ch.ops).or_insert(next);
                     if seq == next {
-                        for a in lowered.actions(ch.ops) {
-                            actions_used[a.index()] = true;
-                            act_list.push(a);
+                        for op in lowered.seq(ch.ops) {
+                            match op {
+                                Op::Action(a) => {
+                                    actions_used[a.index()] = true;
+                                    act_list.push(a.index());
+                                }
+                                Op::Counter(op) => {
+                                    let next = counter_ops.len();
+                                    let k = *counter_op_ids.entry(*op).or_insert(next);
+                                    if k == next {
+                                        counter_ops.push(*op);
+                                    }
+                                    act_list.push(m.actions.len() + k);
+                                }
+                            }
                         }
                         seq_start.push(act_list.len());
                     }
@@ -207,7 +227,18 @@ impl Layout {
             target_ty: uint_for(m.states.len().saturating_sub(1) as u64),
             seq_ty: uint_for(n_seqs.saturating_sub(1) as u64),
             seq_start_ty: uint_for(act_list.len() as u64),
-            action_ty: uint_for(m.actions.len().saturating_sub(1) as u64),
+            action_ty: uint_for((m.actions.len() + counter_ops.len()).saturating_sub(1) as u64),
+            guards_read_counters: guards.iter().any(|t| {
+                t.guard.as_ref().is_some_and(|g| {
+                    g.atoms().iter().any(|a| {
+                        matches!(
+                            crate::emit::counters::atom_code(m, &m.atoms[a.index()]),
+                            crate::emit::counters::AtomCode::Cmp(..)
+                        )
+                    })
+                })
+            }),
+            counter_ops,
             zero_ty: uint_for(zero_sets.len() as u64),
             range_start,
             trans,

@@ -104,16 +104,27 @@ impl Gen<'_> {
         } else {
             "two bytes"
         };
-        let machine_doc = doc_text(&if self.timed() {
-            format!(
+        let machine_doc = doc_text(&match (self.timed(), self.counted()) {
+            (true, false) => format!(
                 "The `{name}` machine: its current state ({state_bytes}) and its timers \
                  (`Timers`)."
-            )
-        } else {
-            format!("The `{name}` machine: its current state, {state_bytes} of RAM.")
+            ),
+            (false, true) => format!(
+                "The `{name}` machine: its current state ({state_bytes}) and its counters \
+                 (`Counters`)."
+            ),
+            (true, true) => format!(
+                "The `{name}` machine: its current state ({state_bytes}), its timers \
+                 (`Timers`) and its counters (`Counters`)."
+            ),
+            (false, false) => {
+                format!("The `{name}` machine: its current state, {state_bytes} of RAM.")
+            }
         });
         let timers_struct = self.timers_struct();
         let timers_field = self.timer_slots();
+        let counters_struct = self.counters_struct();
+        let counters_field = self.counter_slots();
         quote! {
             ::detent::__derive_extras! {
                 #state_doc
@@ -142,9 +153,11 @@ impl Gen<'_> {
                 pub struct Machine {
                     state: State,
                     #timers_field
+                    #counters_field
                 }
 
                 #timers_struct
+                #counters_struct
             }
 
             impl State {
@@ -271,15 +284,26 @@ impl Gen<'_> {
         } else {
             quote!(Machine::restore(raw))
         };
-        let timers_init = self.timers_zero();
-        let restore_doc = if self.timed() {
-            quote! {
+        let timers_zero = self.timers_zero();
+        let counters_zero = self.counters_zero();
+        let timers_init = quote!(#timers_zero #counters_zero);
+        let restore_doc = match (self.timed(), self.counted()) {
+            (true, false) => quote! {
                 ///
                 /// Every timer starts at 0, as if the state had just been entered.
-            }
-        } else {
-            quote!()
+            },
+            (false, true) => quote! {
+                ///
+                /// Every counter starts at 0 (`restore_with` takes stored counters).
+            },
+            (true, true) => quote! {
+                ///
+                /// Every timer starts at 0, as if the state had just been entered, and
+                /// every counter at 0 (`restore_with` takes stored counters and timers).
+            },
+            (false, false) => quote!(),
         };
+        let counter_methods = self.counter_methods();
         quote! {
             impl Machine {
                 /// The start state.
@@ -312,6 +336,8 @@ impl Gen<'_> {
                     }
                 }
             }
+
+            #counter_methods
 
             impl Default for Machine {
                 fn default() -> Self {

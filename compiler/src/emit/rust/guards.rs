@@ -34,6 +34,8 @@ use quote::quote;
 enum Prec {
     Or,
     And,
+    /// A counter comparison: binds tighter than `&&`, looser than `!`.
+    Cmp,
     Unary,
 }
 
@@ -128,11 +130,12 @@ impl Gen<'_> {
                 }
             }
             Guard::Atom(a) => {
-                let atom = &self.m.atoms[a.index()];
-                let f = ident(&self.m.counters[atom.counter.index()].name);
-                let k = proc_macro2::Literal::u16_unsuffixed(atom.value);
-                let op: TokenStream = atom.cmp.symbol().parse().unwrap_or_default();
-                (quote!((self.counters.#f #op #k)), Prec::Unary)
+                let prec = if self.reads_counter(g) {
+                    Prec::Cmp
+                } else {
+                    Prec::Unary
+                };
+                (self.atom_expr(*a), prec)
             }
             Guard::Const(b) => (quote!(#b), Prec::Unary),
             Guard::Not(a) => {

@@ -245,10 +245,8 @@ impl Gen<'_> {
     fn fire(&self, choice: &Choice) -> TokenStream {
         let m = self.m;
         let lowered = &m.lowered;
-        let actions = lowered.actions(choice.ops).map(|a| {
-            let f = ident(&m.actions[a.index()].name);
-            quote!(hooks.#f();)
-        });
+        // Actions and counter operations, in order.
+        let ops = self.ops_stmts(choice.ops);
         let to_v = self.state_variant(choice.target);
         let assign = if choice.moves {
             quote!(self.state = to;)
@@ -263,7 +261,7 @@ impl Gen<'_> {
         let outputs = self.outputs_literal(&high);
         let trace = self.trace();
         quote! {
-            #(#actions)*
+            #ops
             let to = #to_v;
             #assign
             #zero

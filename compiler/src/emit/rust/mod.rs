@@ -39,6 +39,7 @@
 //! `unnecessary_wraps` on the `step` of a machine that never rejects.
 
 mod api;
+mod counters;
 mod file;
 mod guards;
 mod match_style;
@@ -169,6 +170,8 @@ struct Gen<'a> {
     mask_bytes: usize,
     /// The machine's timers (empty without timeout rules), in timer order.
     timers: Vec<TimerGen>,
+    /// The machine's counters, in declaration order.
+    counters: Vec<counters::CounterGen>,
 }
 
 /// How one timer appears in the generated code.
@@ -210,6 +213,9 @@ impl<'a> Gen<'a> {
                         states: timer_states(m, t),
                     }
                 })
+                .collect(),
+            counters: (0..m.counters.len())
+                .map(|i| counters::CounterGen::new(m, crate::model::CounterId::from_index(i)))
                 .collect(),
         }
     }

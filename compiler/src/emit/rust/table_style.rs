@@ -426,6 +426,18 @@ impl Gen<'_> {
         } else {
             quote!()
         };
+        // Some test compares a counter: `select` is a method of `Machine`.
+        let select_self = t
+            .guard_seqs
+            .iter()
+            .flatten()
+            .filter_map(|(_, g)| *g)
+            .any(|g| self.reads_counter(g));
+        let select_fn_path = if select_self {
+            quote!(self.select)
+        } else {
+            quote!(select)
+        };
         let choose = |seq: TokenStream, first: TokenStream, found: TokenStream| {
             let later = if has_rest {
                 quote! {
@@ -440,7 +452,7 @@ impl Gen<'_> {
                 quote!(Some(_) | None => return #unhandled,)
             };
             let selected = quote! {
-                match select(#seq, #before_arg hooks) {
+                match #select_fn_path(#seq, #before_arg hooks) {
                     Some(0) => #first,
                     #later
                 }
@@ -606,16 +618,39 @@ impl Gen<'_> {
         } else {
             quote!()
         };
-        let select_fn = quote! {
+        // A guard that compares a counter reads the machine: `select` is then a method
+        // (`&self`, before any operation of the step runs, so it sees the counters as
+        // they were at the start of the step).
+        let select_recv = if select_self {
+            quote!(&self,)
+        } else {
+            quote!()
+        };
+        let select_counted_doc = if select_self {
+            quote! {
+                ///
+                /// Counter comparisons read the counters as they were at the start of the
+                /// step: `select` runs before any operation of the step.
+            }
+        } else {
+            quote!()
+        };
+        let select_item = quote! {
             /// The position among a cell's rules of the first whose test holds (`0`:
             /// the cell's own first rule, `at`: `RULES[rest + at - 1]`), for the cell's
             /// test list `seq` (`0`: no rules), reading each input through `hooks` at
             /// most once; `None` when no test holds.
             #select_timed_doc
+            #select_counted_doc
             #select_allow
-            fn select<H: Hooks + ?Sized>(seq: #num, #select_before #select_hooks: &mut H) -> Option<usize> {
+            fn select<H: Hooks + ?Sized>(#select_recv seq: #num, #select_before #select_hooks: &mut H) -> Option<usize> {
                 #select_body
             }
+        };
+        let select_fn = if select_self {
+            quote!(impl Machine { #select_item })
+        } else {
+            select_item
         };
 
         let (actions_fn, run_actions) = if has_actions {
@@ -623,11 +658,8 @@ impl Gen<'_> {
                 .used_seqs
                 .iter()
                 .map(|&seq| {
-                    let calls = lowered.actions(seq).map(|a| {
-                        let f = ident(&m.actions[a.index()].name);
-                        quote!(hooks.#f();)
-                    });
-                    (seq.index(), quote!({ #(#calls)* }))
+                    let stmts = self.ops_stmts(seq);
+                    (seq.index(), quote!({ #stmts }))
                 })
                 .collect();
             let body = if let [(id, b)] = arms.as_slice() {
@@ -649,17 +681,37 @@ impl Gen<'_> {
                 line_estimate(&body) + 2,
                 "one match arm per distinct operation sequence of the spec",
             );
-            (
-                quote! {
-                    /// Runs operation sequence `actions` (`0`: none) through `hooks`: the
-                    /// leave actions, the rule's actions and the enter actions, in order.
-                    #run_actions_allow
-                    fn run_actions<H: Hooks + ?Sized>(actions: #num, hooks: &mut H) {
-                        #body
-                    }
-                },
-                quote!(run_actions(actions, hooks);),
-            )
+            let hooks = param("hooks", uses_ident(&body, "hooks"));
+            // Counter operations change the machine: `run_actions` is then a method.
+            if uses_ident(&body, "self") {
+                (
+                    quote! {
+                        impl Machine {
+                            /// Runs operation sequence `actions` (`0`: none): the leave
+                            /// actions, the rule's actions and the enter actions through
+                            /// `hooks`, and the counter operations between them, in order
+                            /// (each stops at the end of its counter's range).
+                            #run_actions_allow
+                            fn run_actions<H: Hooks + ?Sized>(&mut self, actions: #num, #hooks: &mut H) {
+                                #body
+                            }
+                        }
+                    },
+                    quote!(self.run_actions(actions, hooks);),
+                )
+            } else {
+                (
+                    quote! {
+                        /// Runs operation sequence `actions` (`0`: none) through `hooks`: the
+                        /// leave actions, the rule's actions and the enter actions, in order.
+                        #run_actions_allow
+                        fn run_actions<H: Hooks + ?Sized>(actions: #num, #hooks: &mut H) {
+                            #body
+                        }
+                    },
+                    quote!(run_actions(actions, hooks);),
+                )
+            }
         } else {
             (quote!(), quote!())
         };
