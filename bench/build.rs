@@ -47,6 +47,7 @@ fn specs() -> Vec<Spec> {
                 groups: true,
                 policy: Some(policy),
                 timeouts: false,
+                counters: 0,
             },
         )
     };

@@ -29,6 +29,10 @@ use std::fmt::Write;
 
 /// The baseline's source: `pub mod <snake_name> { .. }`.
 pub fn handwritten(m: &Machine) -> String {
+    assert!(
+        m.counters.is_empty(),
+        "the hand-written baseline is written for machines without counters"
+    );
     let snake = detent_compiler::emit::rust::module_name(m);
     let mut s = String::new();
     let _ = writeln!(
@@ -179,6 +183,7 @@ fn guard_text(m: &Machine, g: &Guard) -> Option<String> {
     fn go(m: &Machine, g: &Guard, top: bool) -> String {
         match g {
             Guard::Input(i) => format!("hooks.{}()", m.inputs[i.index()].name),
+            Guard::Atom(_) => unreachable!("the hand-written baseline has no counters"),
             Guard::Const(b) => b.to_string(),
             Guard::Not(a) => match &**a {
                 Guard::Not(inner) => go(m, inner, top),
@@ -216,7 +221,7 @@ fn guard_text(m: &Machine, g: &Guard) -> Option<String> {
 /// The constant value of a guard, when it has one whatever the inputs.
 fn fold(g: &Guard) -> Option<bool> {
     match g {
-        Guard::Input(_) => None,
+        Guard::Input(_) | Guard::Atom(_) => None,
         Guard::Const(b) => Some(*b),
         Guard::Not(a) => fold(a).map(|b| !b),
         Guard::And(a, b) => match (fold(a), fold(b)) {

@@ -44,6 +44,7 @@ fn machines() -> Vec<(&'static str, LogicSpec)> {
             groups: true,
             policy: Some("ignore"),
             timeouts: false,
+            counters: 0,
         },
     );
     vec![("charger9", load(charger)), ("gen16", load(&generated))]

@@ -232,9 +232,6 @@ pub fn next_config(m: &Machine, cell: &Cell, choice: Option<usize>, c: &Config) 
             next.timers[t.index()] = 0;
         }
         next.state = ch.target;
-        if ch.moves {
-            m.zero_inactive_timers(&mut next);
-        }
     }
     next
 }

@@ -25,8 +25,9 @@
 //! timer per scope with timeouts (LANGUAGE.md, "Time and counts"). On the time-base
 //! event, each timer of the state's scopes first adds one (stopping at its largest
 //! duration); a timeout is due when that brings its timer to its duration. A rule that
-//! moves sets the timers of the scopes it enters to 0. Timers of scopes that are not
-//! active are kept at 0, so that equal configurations compare equal.
+//! fires sets the timers of its choice's `resets` to 0 (for a move: the scopes it
+//! enters, and every scope not active after it), and nothing else is zeroed, so timers
+//! of scopes that are not active stay at 0 and equal configurations compare equal.
 //!
 //! # Counters
 //!
@@ -195,24 +196,8 @@ impl Machine {
                 config.timers[t.index()] = 0;
             }
             config.state = choice.target;
-            if choice.moves {
-                self.zero_inactive_timers(config);
-            }
         }
         result
-    }
-
-    /// Sets the timers of scopes that are not active in the configuration's state to 0.
-    pub fn zero_inactive_timers(&self, config: &mut Config) {
-        if self.timers.is_empty() {
-            return;
-        }
-        let active = self.chain_timers(config.state);
-        for (i, v) in config.timers.iter_mut().enumerate() {
-            if !active.contains(&TimerId::from_index(i)) {
-                *v = 0;
-            }
-        }
     }
 
     /// The number of time-base events after which a timeout of the configuration comes

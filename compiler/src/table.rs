@@ -33,7 +33,7 @@
 
 use crate::model::lower::LookupStep;
 use crate::model::{
-    ActionId, Bdd, BddStore, EventId, Guard, Machine, OutputId, Prop, Property, RuleId, StateId,
+    Bdd, BddStore, EventId, Guard, Machine, Op, OutputId, Prop, Property, RuleId, StateId,
 };
 use crate::syntax::ast::{self, DispatchStyle, Expr, Policy, Vis};
 use crate::syntax::print::print_expr;
@@ -95,8 +95,8 @@ pub struct Row {
     pub kind: RowKind,
     /// The rule's Mealy outputs, ascending.
     pub mealy: Vec<OutputId>,
-    /// Every action the step runs, in order.
-    pub actions: Vec<ActionId>,
+    /// Every operation the step runs, in order: actions and counter operations.
+    pub actions: Vec<Op>,
     /// The present state's Moore outputs, ascending.
     pub moore: Vec<OutputId>,
 }
@@ -165,17 +165,17 @@ pub fn rows(m: &Machine) -> Vec<Row> {
                     next: choice.target,
                     kind,
                     mealy: lowered.outputs(choice.mealy).to_vec(),
-                    actions: lowered.actions(choice.ops).collect(),
+                    actions: lowered.seq(choice.ops).to_vec(),
                     moore: moore.to_vec(),
                 });
             }
-            if !cell.unhandled.is_false() {
+            let (store, uncovered) = uncovered_region(m, cell);
+            if !uncovered.is_false() {
                 out.push(Row {
                     state: s,
                     event: e,
                     rule: None,
-                    guard: (!cell.unhandled.is_true())
-                        .then(|| cubes_text(m, &m.bdd, cell.unhandled)),
+                    guard: (!uncovered.is_true()).then(|| cubes_text(m, &store, uncovered)),
                     next: s,
                     kind: unhandled,
                     mealy: Vec::new(),
@@ -186,6 +186,33 @@ pub fn rows(m: &Machine) -> Vec<Row> {
         }
     }
     out
+}
+
+/// Where no rule of `cell` fires, over the inputs and (when its guards compare
+/// counters) the counter comparisons: the union, over the combinations of comparison
+/// values some counter values give, of that combination with its variant's unhandled
+/// region (nothing due). Without comparisons, the cell's `unhandled` region in the
+/// machine's own store.
+fn uncovered_region<'m>(
+    m: &'m Machine,
+    cell: &crate::model::lower::Cell,
+) -> (std::borrow::Cow<'m, BddStore>, Bdd) {
+    if cell.atoms.is_empty() {
+        return (std::borrow::Cow::Borrowed(&m.bdd), cell.unhandled);
+    }
+    let mut store = m.bdd.clone();
+    let mut out = Bdd::FALSE;
+    for v in cell.variants.iter().filter(|v| v.due.is_empty()) {
+        let mut cube = v.unhandled;
+        for (&a, &value) in cell.atoms.iter().zip(&v.atoms) {
+            let x = store.var(crate::model::Atom::var(a));
+            let lit = if value { x } else { store.not(x) };
+            cube = store.and(cube, lit);
+        }
+        out = store.or(out, cube);
+    }
+    let feasible = store.and(out, m.atom_domain);
+    (std::borrow::Cow::Owned(store), feasible)
 }
 
 /// The guard column of a choice's row: the guard as written; `else` for an `else`
@@ -253,6 +280,17 @@ fn cubes_text(m: &Machine, store: &BddStore, f: Bdd) -> String {
         .map(|cube| {
             cube.iter()
                 .map(|&(v, value)| {
+                    if let Some(a) = m.atom_of_var(v) {
+                        // A comparison, or its opposite.
+                        let atom = &m.atoms[a.index()];
+                        let cmp = if value { atom.cmp } else { atom.cmp.negated() };
+                        return format!(
+                            "{} {} {}",
+                            m.counters[atom.counter.index()].name,
+                            cmp.symbol(),
+                            atom.value
+                        );
+                    }
                     let name = &m.inputs[v as usize].name;
                     if value {
                         name.clone()
@@ -316,10 +354,12 @@ fn output_names<'a>(m: &'a Machine, list: &[OutputId]) -> Vec<&'a str> {
         .collect()
 }
 
-fn action_names<'a>(m: &'a Machine, list: &[ActionId]) -> Vec<&'a str> {
-    list.iter()
-        .map(|a| m.actions[a.index()].name.as_str())
-        .collect()
+fn action_names(m: &Machine, list: &[Op]) -> Vec<String> {
+    list.iter().map(|op| m.op_text(op)).collect()
+}
+
+fn refs(list: &[String]) -> Vec<&str> {
+    list.iter().map(String::as_str).collect()
 }
 
 fn terminal_states(m: &Machine) -> Vec<&str> {
@@ -374,7 +414,7 @@ pub fn to_text(m: &Machine) -> String {
             m.state_name(r.next).to_string(),
             r.kind.name().to_string(),
             cell(output_names(m, &r.mealy)),
-            cell(action_names(m, &r.actions)),
+            cell(refs(&action_names(m, &r.actions))),
             cell(output_names(m, &r.moore)),
         ]);
     }
@@ -467,7 +507,7 @@ impl TableReport {
                     next: m.state_name(r.next).to_string(),
                     kind: r.kind.name(),
                     mealy: owned(output_names(m, &r.mealy)),
-                    actions: owned(action_names(m, &r.actions)),
+                    actions: owned(refs(&action_names(m, &r.actions))),
                     moore: owned(output_names(m, &r.moore)),
                 })
                 .collect(),
@@ -560,6 +600,16 @@ pub fn to_csv(m: &Machine) -> String {
         "@actions",
         &join(m.actions.iter().map(|e| e.name.as_str()).collect()),
     );
+    if !m.counters.is_empty() {
+        out.decl(
+            "@counters",
+            &m.counters
+                .iter()
+                .map(|c| format!("{} to {}", c.name, c.max))
+                .collect::<Vec<_>>()
+                .join(", "),
+        );
+    }
     out.decl("@start", m.state_name(m.start));
     out.decl("@unhandled", m.policy.keyword());
     if let Some(tb) = &m.timebase {
@@ -634,7 +684,7 @@ pub fn to_csv(m: &Machine) -> String {
                 r.guard.as_deref().unwrap_or(""),
                 next,
                 &join(output_names(m, &r.mealy)),
-                &join(action_names(m, &r.actions)),
+                &join(refs(&action_names(m, &r.actions))),
                 &moore,
             ]);
         }

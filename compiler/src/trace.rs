@@ -186,7 +186,7 @@ pub fn run_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<RunLine> {
             TraceEntry::Step(s) => {
                 let r = m.step_config(&mut config, s.event, &s.inputs);
                 n += 1;
-                out.push(RunLine::step(m, n, &r));
+                out.push(RunLine::step(m, n, &r).with_counters(m, &config.counters));
             }
             TraceEntry::Reset { .. } => {
                 config = m.start_config();
@@ -201,6 +201,21 @@ pub fn run_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<RunLine> {
 /// `{"step":0,"state":..,"moore":[..]}`, then one line per step or restart.
 pub fn run_json_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
     run_lines(m, entries).iter().map(RunLine::to_json).collect()
+}
+
+/// Counter values by name, in declaration order: a JSON object.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CounterValues(pub Vec<(String, u16)>);
+
+impl Serialize for CounterValues {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut map = s.serialize_map(Some(self.0.len()))?;
+        for (k, v) in &self.0 {
+            map.serialize_entry(k, v)?;
+        }
+        map.end()
+    }
 }
 
 /// One JSON line of `detent run` (DESIGN.md): the start line, or one step.
@@ -235,6 +250,10 @@ pub enum RunLine {
         moore: Vec<String>,
         /// Actions, in the order they ran.
         actions: Vec<String>,
+        /// The counters after the step, in declaration order (only for a machine with
+        /// counters: `"counters":{"strikes":2}`).
+        #[serde(skip_serializing_if = "Option::is_none")]
+        counters: Option<CounterValues>,
     },
     /// `{"step":k,"reset":true,"state":..,"moore":[..]}`: a restart after step `k`.
     Reset {
@@ -286,7 +305,25 @@ impl RunLine {
                 .iter()
                 .map(|a| m.actions[a.index()].name.clone())
                 .collect(),
+            counters: None,
         }
+    }
+
+    /// The line with the counters after the step (a machine without counters keeps
+    /// DESIGN.md's line unchanged).
+    pub fn with_counters(mut self, m: &Machine, values: &[u16]) -> RunLine {
+        if let RunLine::Step { counters, .. } = &mut self {
+            if !m.counters.is_empty() {
+                *counters = Some(CounterValues(
+                    m.counters
+                        .iter()
+                        .zip(values)
+                        .map(|(c, v)| (c.name.clone(), *v))
+                        .collect(),
+                ));
+            }
+        }
+        self
     }
 
     /// The line as one line of JSON.

@@ -13,7 +13,8 @@
 //! `ignored` or `rejected` when no rule handled the event, every output high after the
 //! step (Moore and Mealy together, declaration order) and the actions in the order they
 //! ran. A `reset` line of the trace prints the restart with the number of the step
-//! before it, as the JSON reset record does. The JSON lines of DESIGN.md stay the default and the stable format; this one is
+//! before it, as the JSON reset record does. A machine with counters ends each step
+//! line with their values after the step (`; counters: strikes = 2`). The JSON lines of DESIGN.md stay the default and the stable format; this one is
 //! for reading.
 
 use crate::interp::{Outcome, StepResult};
@@ -32,7 +33,11 @@ pub fn run_text_lines(m: &Machine, entries: &[TraceEntry]) -> Vec<String> {
             TraceEntry::Step(s) => {
                 let r = m.step_config(&mut config, s.event, &s.inputs);
                 n += 1;
-                out.push(step_line(m, n, s, &r));
+                let mut line = step_line(m, n, s, &r);
+                if let Some(k) = crate::configs::counters_text(m, &config) {
+                    line.push_str(&format!("; counters: {k}"));
+                }
+                out.push(line);
             }
             TraceEntry::Reset { .. } => {
                 config = m.start_config();

@@ -6,7 +6,7 @@
 
 use detent_compiler::driver::check_source;
 use detent_compiler::interp::{Config, StepResult};
-use detent_compiler::model::{EventId, Machine, Prop, Property, StateId};
+use detent_compiler::model::{Deadline, EventId, Machine, Prop, Property, StateId};
 use detent_compiler::trace::parse_trace;
 use std::collections::{HashMap, VecDeque};
 use std::path::PathBuf;
@@ -226,6 +226,8 @@ struct StepView<'a> {
     to: StateId,
     inputs: &'a [bool],
     result: Option<&'a StepResult>,
+    /// The counters after the step.
+    counters: &'a [u16],
 }
 
 fn eval(p: &Prop, v: &StepView) -> bool {
@@ -239,6 +241,7 @@ fn eval(p: &Prop, v: &StepView) -> bool {
         Prop::Event(e) => v.result.is_some_and(|r| r.event == *e),
         Prop::InState(s) => v.to == *s,
         Prop::InGroup(g) => v.m.group_contains(*g, v.to),
+        Prop::Compare(c, cmp, k) => cmp.holds(u64::from(v.counters[c.index()]), u64::from(*k)),
         Prop::Const(b) => *b,
         Prop::Not(a) => !eval(a, v),
         Prop::And(a, b) => eval(a, v) && eval(b, v),
@@ -331,14 +334,16 @@ fn examples_satisfy_their_properties_exhaustively() {
                         to: m.start,
                         inputs: &[],
                         result: None,
+                        counters: &configs[0].counters,
                     };
                     assert!(!eval(prop, &start), "{name}: `{text}` holds at step 0");
-                    for (a, inputs, r, _) in &edges {
+                    for (a, inputs, r, b) in &edges {
                         let v = StepView {
                             m: &m,
                             to: r.to,
                             inputs,
                             result: Some(r),
+                            counters: &configs[*b].counters,
                         };
                         assert!(
                             !eval(prop, &v),
@@ -348,6 +353,75 @@ fn examples_satisfy_their_properties_exhaustively() {
                             m.state_name(r.to),
                             configs[*a]
                         );
+                    }
+                }
+                Property::Ensure {
+                    response,
+                    within,
+                    trigger,
+                    text,
+                    ..
+                } => {
+                    // Every (configuration, steps left for an open obligation) the
+                    // machine can be in, by brute force over the steps; no step may
+                    // use up the last one without the response.
+                    let (span, tb) = match within {
+                        Deadline::Ticks(t) => (*t, m.timebase.as_ref().map(|t| t.event)),
+                        Deadline::Steps(k) => (*k, None),
+                    };
+                    let counts = |e| match within {
+                        Deadline::Ticks(_) => Some(e) == tb,
+                        Deadline::Steps(_) => true,
+                    };
+                    let start = StepView {
+                        m: &m,
+                        to: m.start,
+                        inputs: &[],
+                        result: None,
+                        counters: &configs[0].counters,
+                    };
+                    let open0 = !eval(response, &start) && eval(trigger, &start);
+                    assert!(!(open0 && span == 0), "{name}: `{text}` fails at step 0");
+                    let first = if open0 { span } else { 0 };
+                    let mut seen: std::collections::HashSet<(usize, u32)> =
+                        std::collections::HashSet::from([(0, first)]);
+                    let mut queue = VecDeque::from([(0usize, first)]);
+                    let mut out_edges: Vec<Vec<usize>> = vec![Vec::new(); configs.len()];
+                    for (k, (a, _, _, _)) in edges.iter().enumerate() {
+                        out_edges[*a].push(k);
+                    }
+                    while let Some((c, left)) = queue.pop_front() {
+                        for &k in &out_edges[c] {
+                            let (_, inputs, r, b) = &edges[k];
+                            let v = StepView {
+                                m: &m,
+                                to: r.to,
+                                inputs,
+                                result: Some(r),
+                                counters: &configs[*b].counters,
+                            };
+                            let next = if eval(response, &v) {
+                                0
+                            } else if left > 0 {
+                                let l = if counts(r.event) { left - 1 } else { left };
+                                assert!(
+                                    l > 0,
+                                    "{name}: `{text}` is late after {} --{}--> {}",
+                                    m.state_name(r.from),
+                                    m.event_name(r.event),
+                                    m.state_name(r.to)
+                                );
+                                l
+                            } else if eval(trigger, &v) {
+                                assert!(span > 0, "{name}: `{text}` fails at once");
+                                span
+                            } else {
+                                0
+                            };
+                            if seen.insert((*b, next)) {
+                                queue.push_back((*b, next));
+                            }
+                        }
                     }
                 }
                 Property::Recover {

@@ -67,6 +67,7 @@ fn random_machines() -> Vec<(String, Machine)> {
                 groups: seed % 2 == 0,
                 policy: Some("ignore"),
                 timeouts: false,
+                counters: 0,
             };
             let name = format!("random seed {seed}");
             (name.clone(), load(&name, &random_spec(1000 + seed, &cfg)))

@@ -252,6 +252,7 @@ fn exhaustive_search_matches_brute_force_over_all_assignments() {
             groups: false,
             policy: Some("ignore"),
             timeouts: false,
+            counters: 0,
         },
     );
     let m = load("random", &text);
@@ -313,6 +314,7 @@ fn random_machines_simulate_like_the_interpreter() {
             groups: true,
             policy: None,
             timeouts: false,
+            counters: 0,
         };
         let text = random_spec(seed, &cfg);
         let m = load(&format!("random{seed}"), &text);
@@ -341,6 +343,7 @@ fn wide_machines_use_cube_lists_and_still_simulate() {
             groups: true,
             policy: Some("ignore"),
             timeouts: false,
+            counters: 0,
         };
         let text = random_spec(seed, &cfg);
         let m = load("wide", &text);

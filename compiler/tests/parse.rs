@@ -216,7 +216,7 @@ fn syntax_errors_have_locations() {
         ),
         (
             "machine M { start S; state S { Go if => S; } }",
-            "expected an input name",
+            "expected an input or counter name",
             1,
             38,
         ),

@@ -1,11 +1,13 @@
-//! Time in the spec (LANGUAGE.md, "Time and counts"): the interpreter, which steps
-//! through the lowered form, against a direct reading of the timer rules written from
-//! LANGUAGE.md on the resolved model (no lowered form), on random machines with
-//! timeouts and long random traces; hand-checked runs; and the errors a spec with
-//! time can get.
+//! Time and counts in the spec (LANGUAGE.md, "Time and counts"): the interpreter,
+//! which steps through the lowered form, against a direct reading of the timer and
+//! counter rules written from LANGUAGE.md on the resolved model (no lowered form), on
+//! random machines with timeouts and counters and long random traces; hand-checked
+//! runs; and the errors a spec with time can get.
 
 use detent_compiler::interp::{Config, Outcome};
-use detent_compiler::model::{EventId, Guard, Machine, RuleId, Scope, StateId, Target, TimerId};
+use detent_compiler::model::{
+    CounterOpKind, EventId, Guard, Machine, Op, RuleId, Scope, StateId, Target, TimerId,
+};
 use detent_tests::gen::{random_spec, random_timed_trace, GenConfig, Rng};
 
 fn resolve(text: &str) -> Machine {
@@ -24,16 +26,54 @@ fn errors(text: &str) -> Vec<String> {
         .collect()
 }
 
-/// The first rule of `rules` (an `else` rule last) whose guard holds.
-fn first_holding(m: &Machine, rules: &[RuleId], inputs: &[bool]) -> Option<RuleId> {
+/// The first rule of `rules` (an `else` rule last) whose guard holds, counters
+/// compared as they are at the start of the step.
+fn first_holding(
+    m: &Machine,
+    rules: &[RuleId],
+    inputs: &[bool],
+    counters: &[u16],
+) -> Option<RuleId> {
     let (plain, otherwise): (Vec<RuleId>, Vec<RuleId>) =
         rules.iter().partition(|r| !m.rules[r.index()].otherwise);
     plain.into_iter().chain(otherwise).find(|r| {
         m.rules[r.index()]
             .guard_expr
             .as_ref()
-            .is_none_or(|g: &Guard| g.eval(&|i| inputs.get(i.index()).copied().unwrap_or(false)))
+            .is_none_or(|g: &Guard| {
+                g.eval_with(&|i| inputs.get(i.index()).copied().unwrap_or(false), &|a| {
+                    let atom = &m.atoms[a.index()];
+                    let v = u64::from(counters[atom.counter.index()]);
+                    let k = u64::from(atom.value);
+                    match atom.cmp.symbol() {
+                        "==" => v == k,
+                        "!=" => v != k,
+                        "<" => v < k,
+                        "<=" => v <= k,
+                        ">" => v > k,
+                        _ => v >= k,
+                    }
+                })
+            })
     })
+}
+
+/// Runs the counter operations of a list, in order: each stops at 0 and at its
+/// counter's bound.
+fn run_ops(m: &Machine, ops: &[Op], counters: &mut [u16]) {
+    for op in ops {
+        if let Op::Counter(c) = op {
+            let max = i64::from(m.counters[c.counter.index()].max);
+            let v = i64::from(counters[c.counter.index()]);
+            let k = i64::from(c.value);
+            let next = match c.kind {
+                CounterOpKind::Add => v + k,
+                CounterOpKind::Sub => v - k,
+                CounterOpKind::Set => k,
+            };
+            counters[c.counter.index()] = next.clamp(0, max) as u16;
+        }
+    }
 }
 
 /// One step, read directly off LANGUAGE.md: timers count first on the time base; then
@@ -44,9 +84,12 @@ fn oracle_step(
     m: &Machine,
     state: &mut StateId,
     timers: &mut [u32],
+    counters: &mut [u16],
     event: EventId,
     inputs: &[bool],
 ) -> Option<RuleId> {
+    let at_start = counters.to_vec();
+    let holding = |rules: &[RuleId]| first_holding(m, rules, inputs, &at_start);
     let chain = m.scope_chain(*state);
     let is_tb = m.timebase.as_ref().is_some_and(|t| t.event == event);
     let before = timers.to_vec();
@@ -64,7 +107,7 @@ fn oracle_step(
             break;
         }
         if let Some((_, rules)) = m.scope_rules(*sc).preempt.iter().find(|(e, _)| *e == event) {
-            fired = first_holding(m, rules, inputs);
+            fired = holding(rules);
         }
     }
     if fired.is_none() && is_tb {
@@ -73,7 +116,7 @@ fn oracle_step(
             let Some(t) = rules.timer else { continue };
             for (d, list) in &rules.timeouts {
                 if before[t.index()] + 1 == *d {
-                    fired = fired.or_else(|| first_holding(m, list, inputs));
+                    fired = fired.or_else(|| holding(list));
                 }
             }
             if fired.is_some() {
@@ -90,14 +133,38 @@ fn oracle_step(
                 .map(|(_, l)| l.clone())
         });
         fired = match named {
-            Some(list) => first_holding(m, &list, inputs),
+            Some(list) => holding(&list),
             None => chain
                 .iter()
                 .find(|sc| !m.scope_rules(**sc).wildcard.is_empty())
-                .and_then(|sc| first_holding(m, &m.scope_rules(*sc).wildcard, inputs)),
+                .and_then(|sc| holding(&m.scope_rules(*sc).wildcard)),
         };
     }
     if let Some(r) = fired {
+        let rule = &m.rules[r.index()];
+        // Operations in the order of "Action order": leave lists of the source and of
+        // its groups that do not hold the target (innermost first), the rule's, enter
+        // lists of the target's groups that do not hold the source (outermost first),
+        // the target's. `stay` runs only the rule's.
+        match rule.target {
+            Target::Stay => run_ops(m, &rule.actions, counters),
+            Target::To(to) => {
+                let from = *state;
+                run_ops(m, &m.states[from.index()].leave, counters);
+                for g in m.ancestors(from) {
+                    if !m.group_contains(g, to) {
+                        run_ops(m, &m.groups[g.index()].leave, counters);
+                    }
+                }
+                run_ops(m, &rule.actions, counters);
+                for g in m.ancestors(to).into_iter().rev() {
+                    if !m.group_contains(g, from) {
+                        run_ops(m, &m.groups[g.index()].enter, counters);
+                    }
+                }
+                run_ops(m, &m.states[to.index()].enter, counters);
+            }
+        }
         if let Target::To(to) = m.rules[r.index()].target {
             let from = *state;
             // Entered: the target, and its groups that do not hold the source.
@@ -168,10 +235,11 @@ fn interpreter_matches_the_written_timer_rules_on_random_machines() {
                 let mut config: Config = m.start_config();
                 let mut state = m.start;
                 let mut timers = vec![0u32; m.timers.len()];
+                let mut counters = vec![0u16; m.counters.len()];
                 for (n, (e, ins)) in trace.iter().enumerate() {
                     let e = EventId::from_index(*e);
                     let r = m.step_config(&mut config, e, ins);
-                    let want = oracle_step(&m, &mut state, &mut timers, e, ins);
+                    let want = oracle_step(&m, &mut state, &mut timers, &mut counters, e, ins);
                     let got = match r.outcome {
                         Outcome::Fired(rule) => Some(rule),
                         _ => None,
@@ -197,6 +265,166 @@ fn interpreter_matches_the_written_timer_rules_on_random_machines() {
     assert!(
         timeouts_fired > 1_000,
         "{timeouts_fired} timeouts fired in {steps} steps"
+    );
+}
+
+#[test]
+fn interpreter_matches_the_written_counter_rules_on_random_machines() {
+    let d = GenConfig {
+        counters: 2,
+        ..GenConfig::default()
+    };
+    let configs = [
+        d.clone(),
+        GenConfig {
+            events: 0,
+            ..d.clone()
+        },
+        GenConfig {
+            timeouts: true,
+            counters: 1,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (6, 16),
+            events: 4,
+            inputs: 3,
+            counters: 3,
+            ..d.clone()
+        },
+        GenConfig {
+            policy: Some("ignore"),
+            ..d.clone()
+        },
+    ];
+    let mut machines = 0;
+    let mut steps = 0usize;
+    let mut changes = 0usize;
+    let mut at_bound = 0usize;
+    let mut guarded_fired = 0usize;
+    for (k, cfg) in configs.iter().enumerate() {
+        for seed in 0..40u64 {
+            let seed = 19_000 + k as u64 * 1_000 + seed;
+            let text = random_spec(seed, cfg);
+            let errs = errors(&text);
+            assert!(errs.is_empty(), "seed {seed}: {errs:?}\n{text}");
+            let m = resolve(&text);
+            machines += 1;
+            let mut rng = Rng::new(seed);
+            for _ in 0..3 {
+                let trace = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.3);
+                let mut config: Config = m.start_config();
+                let mut state = m.start;
+                let mut timers = vec![0u32; m.timers.len()];
+                let mut counters = vec![0u16; m.counters.len()];
+                for (n, (e, ins)) in trace.iter().enumerate() {
+                    let e = EventId::from_index(*e);
+                    let before = config.counters.clone();
+                    let r = m.step_config(&mut config, e, ins);
+                    let want = oracle_step(&m, &mut state, &mut timers, &mut counters, e, ins);
+                    let got = match r.outcome {
+                        Outcome::Fired(rule) => Some(rule),
+                        _ => None,
+                    };
+                    assert_eq!(got, want, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.state, state, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.timers, timers, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.counters, counters, "seed {seed}, step {n}\n{text}");
+                    if before != config.counters {
+                        changes += 1;
+                    }
+                    if config
+                        .counters
+                        .iter()
+                        .zip(&m.counters)
+                        .any(|(v, c)| *v == c.max && *v > 0)
+                    {
+                        at_bound += 1;
+                    }
+                    if let Some(rule) = got {
+                        if m.rules[rule.index()]
+                            .guard_expr
+                            .as_ref()
+                            .is_some_and(|g| !g.atoms().is_empty())
+                        {
+                            guarded_fired += 1;
+                        }
+                    }
+                    steps += 1;
+                }
+            }
+        }
+    }
+    assert_eq!(machines, 200);
+    // The traces change counters, reach their bounds and fire rules whose guards
+    // compare them (a test where none of that happens proves nothing).
+    assert!(
+        changes > 2_000,
+        "{changes} counter changes in {steps} steps"
+    );
+    assert!(
+        at_bound > 2_000,
+        "{at_bound} steps at a bound in {steps} steps"
+    );
+    assert!(
+        guarded_fired > 2_000,
+        "{guarded_fired} comparing rules fired in {steps} steps"
+    );
+}
+
+/// The lowered form's `resets` is the whole of what a step zeroes (the interpreter,
+/// the configuration graph, the code generators and the hardware port read it and
+/// derive nothing): for a move, every timer but those of the groups holding both the
+/// state it fires in and the target, written here from the scopes; nothing for `stay`.
+/// Before, `resets` listed only the entered scopes and each consumer added the scopes
+/// left on its own.
+#[test]
+fn every_choice_lists_every_timer_its_step_zeroes() {
+    let cfg = GenConfig {
+        timeouts: true,
+        states: (4, 12),
+        ..GenConfig::default()
+    };
+    let (mut moves, mut leaving) = (0usize, 0usize);
+    for seed in 0..60u64 {
+        let text = random_spec(31_000 + seed, &cfg);
+        let m = resolve(&text);
+        for cell in m.lowered.cells() {
+            let from = cell.state;
+            for ch in &cell.choices {
+                let want: Vec<TimerId> = if ch.moves {
+                    let kept: Vec<TimerId> = m
+                        .scope_chain(ch.target)
+                        .into_iter()
+                        .filter(|sc| match sc {
+                            Scope::Group(g) => m.groups[g.index()].states.contains(&from),
+                            Scope::State(_) => false,
+                        })
+                        .filter_map(|sc| m.scope_rules(sc).timer)
+                        .collect();
+                    moves += 1;
+                    let active_after = m.chain_timers(ch.target);
+                    if m.chain_timers(from)
+                        .iter()
+                        .any(|t| !active_after.contains(t))
+                    {
+                        leaving += 1;
+                    }
+                    (0..m.timers.len())
+                        .map(TimerId::from_index)
+                        .filter(|t| !kept.contains(t))
+                        .collect()
+                } else {
+                    Vec::new()
+                };
+                assert_eq!(ch.resets, want, "seed {seed}, rule {:?}\n{text}", ch.rule);
+            }
+        }
+    }
+    // Moves that leave a scope with a timer are there (the case `resets` once missed).
+    assert!(
+        leaving > 50 && moves > leaving,
+        "{moves} moves, {leaving} leave a timer"
     );
 }
 

@@ -198,6 +198,7 @@ fn timer_suffix(m: &Machine, raw: u32, timers: &[u32]) -> String {
         m.next_timeout(&Config {
             state: StateId(raw),
             timers: timers.to_vec(),
+            counters: vec![0; m.counters.len()],
         })
         .unwrap_or(0)
     } else {
@@ -220,6 +221,7 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
     let hooks_needed = needs_hooks(m);
     let mut raw: u32 = m.start.0;
     let mut timers: Vec<u32> = vec![0; m.timers.len()];
+    let mut counters: Vec<u16> = vec![0; m.counters.len()];
     let mut out = Vec::new();
     for c in cmds {
         let valid =
@@ -249,10 +251,12 @@ pub fn expected_lines(m: &Machine, cmds: &[Cmd]) -> Vec<String> {
                 let mut config = Config {
                     state: StateId(raw),
                     timers: timers.clone(),
+                    counters: counters.clone(),
                 };
                 let r = m.step_config(&mut config, EventId(*e as u32), ins);
                 raw = r.to.0;
                 timers = config.timers;
+                counters = config.counters;
                 let outs = r.outputs();
                 let ob = if m.outputs.is_empty() {
                     "-".to_string()

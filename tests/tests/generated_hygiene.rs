@@ -93,6 +93,7 @@ fn random_machines() -> Vec<(String, Vec<Machine>)> {
             groups: false,
             policy: Some("reject"),
             timeouts: false,
+            counters: 0,
         },
         GenConfig {
             policy: Some("complete"),

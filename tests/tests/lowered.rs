@@ -76,6 +76,12 @@ fn oracle_rule(m: &Machine, s: StateId, e: EventId, inputs: &[bool]) -> Option<R
 
 /// The actions of a rule firing in `from`, by LANGUAGE.md "Action order".
 fn oracle_actions(m: &Machine, from: StateId, r: RuleId) -> Vec<ActionId> {
+    detent_compiler::model::actions_of(&oracle_ops(m, from, r)).collect()
+}
+
+/// The operations (actions and counter operations) of a rule firing in `from`, by
+/// LANGUAGE.md "Action order".
+fn oracle_ops(m: &Machine, from: StateId, r: RuleId) -> Vec<detent_compiler::model::Op> {
     let rule = &m.rules[r.index()];
     let Target::To(to) = rule.target else {
         return rule.actions.clone();
@@ -110,7 +116,7 @@ fn oracle_actions(m: &Machine, from: StateId, r: RuleId) -> Vec<ActionId> {
 fn mentions(g: &Guard, out: &mut Vec<InputId>) {
     match g {
         Guard::Input(i) => out.push(*i),
-        Guard::Const(_) => {}
+        Guard::Const(_) | Guard::Atom(_) => {}
         Guard::Not(a) => mentions(a, out),
         Guard::And(a, b) | Guard::Or(a, b) => {
             mentions(a, out);

@@ -78,8 +78,19 @@ fn fingerprint(m: &Machine) -> String {
                 text,
                 ..
             } => s += &format!("recover {target:?} {except:?} {text}\n"),
+            detent_compiler::model::Property::Ensure {
+                response,
+                within,
+                trigger,
+                text,
+                ..
+            } => s += &format!("ensure {response:?} {within:?} {trigger:?} {text}\n"),
         }
     }
+    for c in &m.counters {
+        s += &format!("counter {} {} {:?}\n", c.name, c.max, c.doc);
+    }
+    s += &format!("atoms {:?}\n", m.atoms);
     s
 }
 
@@ -103,6 +114,7 @@ fn config(kind: u8) -> GenConfig {
             inputs: 4,
             outputs: 3,
             actions: 3,
+            counters: 2,
             ..GenConfig::default()
         },
         _ => GenConfig {

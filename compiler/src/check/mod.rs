@@ -596,10 +596,22 @@ impl Checker<'_> {
                 ));
                 let n = trace.len();
                 let rule = &m.rules[choice.rule.index()];
-                let whose = if rule.actions.contains(&ops[bad]) {
-                    "the rule's".to_string()
+                // The sequence is the leave lists, the rule's list, the enter lists.
+                let leave_len = match rule.target {
+                    crate::model::Target::Stay => 0,
+                    crate::model::Target::To(to) => {
+                        m.states[c.state.index()].leave.len()
+                            + m.ancestors(c.state)
+                                .into_iter()
+                                .filter(|g| !m.group_contains(*g, to))
+                                .map(|g| m.groups[g.index()].leave.len())
+                                .sum::<usize>()
+                    }
+                };
+                let whose = if (leave_len..leave_len + rule.actions.len()).contains(&bad) {
+                    "the rule's"
                 } else {
-                    "an enter or leave list of this move".to_string()
+                    "an enter or leave list of this move"
                 };
                 let mut d = Diagnostic::new(
                     Lint::CounterRange,

@@ -42,7 +42,7 @@
 //! time-base event each timer of the state's scopes adds one first (stopping at its
 //! largest duration), a timeout choice is due when its timer was at its duration minus
 //! one before that, and a choice that fires sets the timers of the scopes it enters and
-//! leaves to 0 ([`crate::emit::timers::zeroed_timers`]).
+//! leaves to 0 (its `resets`, [`crate::model::lower::Choice::resets`]).
 //!
 //! `step` returns `{from, event, to, rule, handled, rejected, mealy, moore, outputs,
 //! actions, reads, values}`: `rule` is the rule's number (`null` when none fired),
@@ -57,7 +57,7 @@
 //! The text is deterministic and self-contained (no import, no network), so that the
 //! page of `detent view -o` can inline it. Cost: linear in the size of the lowered form.
 
-use crate::emit::timers::{scope_name, timer_states, zeroed_timers};
+use crate::emit::timers::{scope_name, timer_states};
 use crate::model::lower::{CellEvents, Choice, Lowered};
 use crate::model::{Cmp, CounterOpKind, Guard, Machine, Op};
 use crate::syntax::ast::Policy;
@@ -334,7 +334,7 @@ pub fn to_js(m: &Machine) -> String {
                 }
             }
             for c in &cell.choices {
-                let zeroed: Vec<usize> = zeroed_timers(m, c).iter().map(|t| t.index()).collect();
+                let zeroed: Vec<usize> = c.resets.iter().map(|t| t.index()).collect();
                 let zero = match zero_sets.iter().position(|z| *z == zeroed) {
                     Some(k) => k,
                     None => {

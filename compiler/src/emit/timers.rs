@@ -8,15 +8,15 @@
 //! current state's scopes adds one, stopping at its largest duration; a timeout choice
 //! is due when its timer's value *before* that increment is its duration minus one (the
 //! due test comes before the choice's guard and reads no input); a choice that fires
-//! sets the timers in its `resets` to 0. Generated code also sets the timers of the
-//! scopes a move leaves to 0 ([`zeroed_timers`]), as the interpreter does, so that a
-//! timer is 0 whenever its scope is not active and two machines in the same
-//! configuration compare equal.
+//! sets the timers in its `resets` ([`crate::model::lower::Choice::resets`]: for a move,
+//! the scopes it enters and every scope not active after it) to 0 and no others, so that
+//! a timer is 0 whenever its scope is not active and two machines in the same
+//! configuration compare equal. Generated code reads that list; it does not work out
+//! its own.
 //!
 //! Cost: a move writes every timer that does not keep counting (a few byte stores);
 //! `stay` writes none.
 
-use crate::model::lower::Choice;
 use crate::model::{Machine, Scope, StateId, TimerId};
 use crate::naming::to_snake;
 
@@ -96,22 +96,4 @@ pub fn timer_doc(m: &Machine, t: TimerId) -> String {
         timer.max(),
         durations.join(", ")
     )
-}
-
-/// The timers a choice sets to 0 when it fires: for a move, every timer but
-/// those of the target's scopes that it does not enter (the groups holding both the
-/// state it fires in and the target keep counting). That is the choice's `resets` (the scopes it enters)
-/// and the timers of the scopes it leaves, as the interpreter has it; timers of scopes
-/// that were not active are 0 already, unless a stored value was corrupted, and
-/// setting them to 0 again keeps a corrupt value from lasting. Ascending; empty for
-/// `stay`.
-pub fn zeroed_timers(m: &Machine, choice: &Choice) -> Vec<TimerId> {
-    if !choice.moves {
-        return Vec::new();
-    }
-    let after = m.chain_timers(choice.target);
-    (0..m.timers.len())
-        .map(TimerId::from_index)
-        .filter(|t| !after.contains(t) || choice.resets.contains(t))
-        .collect()
 }

@@ -21,10 +21,12 @@
 //! two durations of one timer due together. Due variables of timers that are not
 //! active in a state are left free there (the hardware's inactive timers keep counting;
 //! nothing in that state reads them). Each timer also has a clear function
-//! `clear_<scope>`, minimized like the others: 1 where the choice that fires enters the
-//! scope (its `resets`), 0 where the next state is in the scope and the choice does not
-//! enter it, don't-care where the next state is outside the scope (the value of an
-//! inactive timer never matters: entering the scope clears it).
+//! `clear_<scope>`, minimized like the others, read from the lowered choice's
+//! `resets` (the one list of timers a step sets to 0): 1 where the next state is in the
+//! scope and the timer is in the list (the choice enters the scope), 0 where the next
+//! state is in the scope and it is not, don't-care where the next state is outside the
+//! scope (the list zeroes it, but the value of an inactive timer never matters:
+//! entering the scope clears it).
 //!
 //! **Counters** (LANGUAGE.md, "Counters"; DESIGN.md, "Hardware port"). Each counter
 //! is a register of the datapath beside the state register ([`CounterSpec`]). Each
@@ -107,8 +109,8 @@ pub struct Region {
     pub mealy: Vec<usize>,
     /// The actions pulsed, in the order they run.
     pub actions: Vec<usize>,
-    /// The timers (indices into [`LogicSpec::timers`]) the step clears: the scopes with
-    /// timers that the choice enters.
+    /// The timers (indices into [`LogicSpec::timers`]) the step sets to 0: the lowered
+    /// choice's `resets` (the scopes it enters, and every scope not active after it).
     pub resets: Vec<usize>,
     /// The counter controls (indices into [`LogicSpec::controls`]) the step raises: at
     /// most one per counter.
@@ -1188,12 +1190,14 @@ pub(crate) fn function_sets(
             on[act_index(a)].extend_from_slice(&cubes);
         }
         for (t, timer) in spec.timers.iter().enumerate() {
-            if r.resets.contains(&t) {
-                on[clear_index(t)].extend_from_slice(&cubes);
-            } else if !timer.active[r.next] {
+            if !timer.active[r.next] {
                 // The next state is outside the scope: its timer is not read until the
-                // scope is entered again, which clears it.
+                // scope is entered again, which clears it (the choice's `resets` list
+                // it, but the register may skip the clear).
                 dc[clear_index(t)].extend_from_slice(&cubes);
+            } else if r.resets.contains(&t) {
+                // The lowered choice's `resets`: a scope the step enters restarts.
+                on[clear_index(t)].extend_from_slice(&cubes);
             }
         }
         for &j in &r.controls {

@@ -51,7 +51,10 @@
 //! that many ticks, which a back end tests first (it reads no input). Counting is part
 //! of the step: on the time-base event, each timer of the cell ([`Cell::timers`]) adds
 //! one, stopping at its largest duration, before the choice; a choice that fires sets
-//! the timers of the scopes it enters ([`Choice::resets`]) to 0.
+//! the timers in its [`Choice::resets`] to 0: for a move, those of the scopes it enters
+//! (they restart) and every timer whose scope is not active after it, so that a timer
+//! is 0 whenever its scope is not active. That list is the whole of it: no consumer
+//! zeroes anything else (a step where nothing fires, or `stay`, zeroes nothing).
 //!
 //! Which timeouts are due depends on the timers, so a time-base cell has one exact set
 //! of regions per combination of due timeouts ([`Variant`]; variant 0: nothing due,
@@ -182,8 +185,11 @@ pub struct Choice {
     /// time-base event for the choice to be considered (tested before `test`, reads no
     /// input).
     pub due: Option<(TimerId, u32)>,
-    /// The timers this choice sets to 0 (the scopes it enters that have timers: the
-    /// target, and its groups that do not hold the current state). Empty for `stay`.
+    /// Every timer this choice sets to 0 when it fires, ascending ([`zeroed_timers`]):
+    /// for a move, the timers of the scopes it enters (the target, and its groups that
+    /// do not hold the current state) and of every scope not active after it. Empty
+    /// for `stay`. The interpreter, the configuration graph, every code generator and
+    /// the hardware port read this list and zero nothing else.
     pub resets: Vec<TimerId>,
 }
 
@@ -946,7 +952,7 @@ fn build_cell(
                 ops: intern.seq(ops),
                 due,
                 resets: if moves {
-                    entered_timers(m, s, target)
+                    zeroed_timers(m, s, target)
                 } else {
                     Vec::new()
                 },
@@ -978,17 +984,23 @@ fn build_cell(
     })
 }
 
-/// The timers a move from `from` to `to` sets to 0: those of the scopes it enters (`to`
-/// itself, and its groups that do not hold `from`), innermost first.
-pub fn entered_timers(m: &Machine, from: StateId, to: StateId) -> Vec<TimerId> {
-    let mut out = Vec::new();
-    out.extend(m.states[to.index()].rules.timer);
+/// The timers a move from `from` to `to` sets to 0, ascending: those of the scopes it
+/// enters (`to` itself, and its groups that do not hold `from`), which restart, and
+/// every timer whose scope is not active in `to` (those of the scopes it leaves, and
+/// the rest, which are 0 already unless a stored value was corrupted; zeroing them
+/// again keeps a corrupt value from lasting). Only the timers of the groups holding
+/// both `from` and `to` keep counting.
+pub fn zeroed_timers(m: &Machine, from: StateId, to: StateId) -> Vec<TimerId> {
+    let mut keep = Vec::new();
     for g in m.ancestors(to) {
-        if !m.group_contains(g, from) {
-            out.extend(m.groups[g.index()].rules.timer);
+        if m.group_contains(g, from) {
+            keep.extend(m.groups[g.index()].rules.timer);
         }
     }
-    out
+    (0..m.timers.len())
+        .map(TimerId::from_index)
+        .filter(|t| !keep.contains(t))
+        .collect()
 }
 
 /// The actions a rule runs when it fires in state `from`, in order: leave actions of

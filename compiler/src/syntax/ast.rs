@@ -305,6 +305,18 @@ impl Cmp {
         }
     }
 
+    /// The comparison that holds exactly when this one does not.
+    pub fn negated(self) -> Cmp {
+        match self {
+            Cmp::Eq => Cmp::Ne,
+            Cmp::Ne => Cmp::Eq,
+            Cmp::Lt => Cmp::Ge,
+            Cmp::Le => Cmp::Gt,
+            Cmp::Gt => Cmp::Le,
+            Cmp::Ge => Cmp::Lt,
+        }
+    }
+
     /// Does `value CMP k` hold?
     pub fn holds(self, value: u64, k: u64) -> bool {
         match self {

@@ -7,7 +7,6 @@
 //! whose guard holds, which is [`crate::model::lower::Lowered::choose`], and reads each
 //! input at most once through its sampler, as `choose` does.
 
-use crate::emit::timers::zeroed_timers;
 use crate::fxhash::FxMap;
 use crate::model::lower::{OutSetId, SeqId};
 use crate::model::{ActionId, EventId, Guard, Machine, OutputId, StateId, TimerId};
@@ -148,7 +147,7 @@ impl Layout {
                         }
                         gid
                     };
-                    let zeroed = zeroed_timers(m, ch);
+                    let zeroed = ch.resets.clone();
                     let zero = if zeroed.is_empty() {
                         0
                     } else {

@@ -10,7 +10,6 @@ use super::tokens::{
     by_ref_allow, ident, line_estimate, long_fn_allow, merge_arms, param, uses_ident,
 };
 use super::Gen;
-use crate::emit::timers::zeroed_timers;
 use crate::model::lower::{Cell, Choice, OutSetId};
 use crate::model::{EventId, OutputId, StateId};
 use proc_macro2::TokenStream;
@@ -256,7 +255,7 @@ impl Gen<'_> {
         } else {
             quote!()
         };
-        let zero = self.zero_stmts(&zeroed_timers(m, choice));
+        let zero = self.zero_stmts(&choice.resets);
         let high = union(
             lowered.outputs(lowered.moore(choice.target)),
             lowered.outputs(choice.mealy),

@@ -32,7 +32,6 @@ use super::tokens::{
     by_ref_allow, doc_text, ident, line_estimate, lit, long_fn_allow, param, uint, uses_ident,
 };
 use super::Gen;
-use crate::emit::timers::zeroed_timers;
 use crate::model::lower::{Choice, SeqId};
 use crate::model::{EventId, Guard, OutputId, StateId, TimerId};
 use proc_macro2::{Literal, TokenStream};
@@ -804,7 +803,7 @@ impl<'g> Tables<'g> {
         // The row of every lowered cell, built the first time a pair uses it.
         let mut built: Vec<Option<CellRow>> = vec![None; lowered.cells().len()];
         let mut row_of = |choice: &Choice| {
-            let zeroed = zeroed_timers(m, choice);
+            let zeroed = choice.resets.clone();
             let zero = if zeroed.is_empty() {
                 0
             } else {
