@@ -56,7 +56,10 @@ fn require(tool: &str) -> PathBuf {
 }
 
 fn scratch(tag: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("detent-logic-counters-{}-{tag}", std::process::id()));
+    let dir = std::env::temp_dir().join(format!(
+        "detent-logic-counters-{}-{tag}",
+        std::process::id()
+    ));
     std::fs::create_dir_all(&dir).unwrap();
     dir
 }
@@ -256,7 +259,10 @@ fn random_counter_machines_simulate_like_the_interpreter() {
     // The traces do move the counters, to their ends (a run that never changes one
     // proves nothing about the datapath).
     assert!(changed > 2000, "only {changed} steps changed a counter");
-    assert!(topped * 3 > counters, "only {topped} of {counters} counters topped out");
+    assert!(
+        topped * 3 > counters,
+        "only {topped} of {counters} counters topped out"
+    );
     assert!(compares > 70, "only {compares} comparison variables");
     assert!(timed >= 15, "only {timed} machines with timers");
     let _ = std::fs::remove_dir_all(&dir);
@@ -341,14 +347,17 @@ fn comparisons_are_named_variables_and_effects_are_controls() {
         .unwrap();
     // Idle (0), Wrong (01), strikes == 1: the add control is high.
     let (on, _) = add.minterms.as_ref().unwrap();
-    assert!(on.contains(&minterm("001010101")));
+    assert!(on.contains(&minterm("001010100")));
     let cost = d.cost(Map::Sop).unwrap();
     let report = LogicReport::new(&m, &d, &cost, Map::Sop, None, 0.0);
     let json = serde_json::to_value(&report).unwrap();
     assert_eq!(json["inputs"][3], "strikes_lt_2");
     assert_eq!(json["counters"][0]["register"], "strikes");
     assert_eq!(json["counters"][0]["compares"][0]["text"], "strikes < 2");
-    assert_eq!(json["counters"][0]["controls"][3]["effect"], "-= 1 within 1..=2");
+    assert_eq!(
+        json["counters"][0]["controls"][3]["effect"],
+        "-= 1 within 1..=2"
+    );
     assert!(json.get("timers").is_none());
     let text = report.lines().join("\n");
     assert!(
@@ -367,7 +376,9 @@ fn every_logic_path_keeps_the_counters() {
     let d = synthesize(&spec, &Encoding::one_hot(2).unwrap(), FlipFlop::JK, true).unwrap();
     for map in [Map::Sop, Map::Nand, Map::Nor] {
         let cost = d.cost(map).unwrap();
-        let text = LogicReport::new(&m, &d, &cost, map, None, 0.0).lines().join("\n");
+        let text = LogicReport::new(&m, &d, &cost, map, None, 0.0)
+            .lines()
+            .join("\n");
         assert!(text.contains("strikes_add_1"), "{map:?}: {text}");
     }
     let (auto, _) = auto_assign_with(
@@ -393,8 +404,8 @@ fn every_logic_path_keeps_the_counters() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
-/// A wrong counter datapath is caught by the testbench: a comparison off by one, and
-/// an add that wraps instead of saturating.
+/// A wrong counter datapath is caught by the testbench: a comparison off by one, an
+/// add of the wrong amount, a composite effect taken as its plain part.
 #[test]
 fn a_wrong_counter_datapath_is_caught() {
     let m = load("keypad.detent", KEYPAD);
@@ -402,7 +413,16 @@ fn a_wrong_counter_datapath_is_caught() {
     let d = synthesize(&spec, &Encoding::binary(2), FlipFlop::D, false).unwrap();
     let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
     let module = generate_module(&spec, &d, &names, "keypad.detent").unwrap();
-    let steps = testbench_steps(&m);
+    // The tour, then three wrong codes (locked at 3) and three more in Locked (3 -> 2
+    // -> 1, the last one ignored).
+    let mut steps = testbench_steps(&m);
+    steps.push(TbStep::Reset);
+    for _ in 0..6 {
+        steps.push(TbStep::Step {
+            event: 1,
+            inputs: vec![false],
+        });
+    }
     let tb = generate_testbench(&m, &spec, &d, &steps, "keypad.detent").unwrap();
     let dir = scratch("wrong");
     let (printed, passed) = simulate(&dir, &module, &tb);
@@ -410,8 +430,78 @@ fn a_wrong_counter_datapath_is_caught() {
     for (from, to) in [
         ("(strikes == 2'd2)", "(strikes == 2'd1)"),
         ("(strikes == 2'd3)", "(strikes == 2'd2)"),
-        ("(strikes > 2'd2) ? 2'd3 : strikes + 2'd1", "strikes + 2'd1"),
-        ("(strikes < 2'd1) ? 2'd0 : strikes - 2'd1", "strikes - 2'd1"),
+        ("? 2'd3 : strikes + 2'd1", "? 2'd3 : strikes + 2'd2"),
+        (
+            "(strikes < 2'd2) ? 2'd1 : strikes - 2'd1",
+            "(strikes < 2'd2) ? 2'd1 : strikes - 2'd2",
+        ),
+    ] {
+        let wrong = module.replace(from, to);
+        assert_ne!(wrong, module, "{from}");
+        let (printed, passed) = simulate(&dir, &wrong, &tb);
+        assert!(!passed && printed.contains("MISMATCH"), "{from}: {printed}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// Saturation: the checker refuses a spec whose operations can leave a counter's
+/// range (`counter_range`), so no valid machine saturates; the interpreter still
+/// defines the step (each operation stops at the end of the range), and the datapath
+/// does the same. On a refused spec, the module simulates like the interpreter, and
+/// an add or subtract that wraps instead is caught.
+#[test]
+fn the_datapath_saturates_like_the_interpreter() {
+    let text = "machine Sat {
+        events Up, Down, Jump;
+        outputs top;
+        counters n to 2;
+        start S;
+        unhandled ignore;
+        state S {
+            Up if n == 2 => T, do n += 1;
+            Up => stay, do n += 1;
+            Down => stay, do n -= 1;
+            Jump => stay, do n = 1, n += 3;
+        }
+        state T emit top {
+            Down => S, do n -= 2, n -= 1;
+            Up => stay, do n -= 1, n += 1;
+        }
+    }";
+    let report = check_source("sat.detent", text);
+    assert!(report
+        .diagnostics()
+        .any(|d| d.is_error() && d.lint.name() == "counter_range"));
+    let m = report
+        .machines
+        .into_iter()
+        .find_map(|m| m.machine)
+        .expect("the machine resolves");
+    let spec = LogicSpec::from_machine(&m).unwrap();
+    let controls: Vec<&str> = spec.controls.iter().map(|c| c.name.as_str()).collect();
+    // `= 1, += 3` on 0..=2 ends at 2 whatever the value; `-= 2, -= 1` at 0; `-= 1,
+    // += 1` keeps 1 and 2 and takes 0 to 1.
+    assert_eq!(
+        controls,
+        [
+            "n_add_1",
+            "n_sub_1",
+            "n_set_2",
+            "n_add_0_within_1_2",
+            "n_set_0"
+        ]
+    );
+    let d = synthesize(&spec, &Encoding::gray(2), FlipFlop::SR, false).unwrap();
+    let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
+    let module = generate_module(&spec, &d, &names, "sat.detent").unwrap();
+    let steps = testbench_steps(&m);
+    let tb = generate_testbench(&m, &spec, &d, &steps, "sat.detent").unwrap();
+    let dir = scratch("sat");
+    let (printed, passed) = simulate(&dir, &module, &tb);
+    assert!(passed, "{printed}\n{module}");
+    for (from, to) in [
+        ("(n > 2'd1) ? 2'd2 : n + 2'd1", "n + 2'd1"),
+        ("(n < 2'd1) ? 2'd0 : n - 2'd1", "n - 2'd1"),
     ] {
         let wrong = module.replace(from, to);
         assert_ne!(wrong, module, "{from}");

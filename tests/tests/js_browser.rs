@@ -345,7 +345,10 @@ fn counter_simulator_agrees_with_the_interpreter_in_chromium() {
     );
     assert_eq!(cases.len(), 80);
     assert!(changed > 3000, "only {changed} steps changed a counter");
-    assert!(topped * 3 > counters, "only {topped} of {counters} counters topped out");
+    assert!(
+        topped * 3 > counters,
+        "only {topped} of {counters} counters topped out"
+    );
     run_cases(&cases, "js_counters");
 }
 
@@ -428,11 +431,19 @@ fn a_wrong_counter_simulator_is_caught() {
         "out[c] = (out[c] + v) % (max + 1);",
     );
     assert_ne!(wraps, js);
-    assert_ne!(run(&wraps, "wraps")[0]["steps"], want["steps"], "wrapping went unnoticed");
+    assert_ne!(
+        run(&wraps, "wraps")[0]["steps"],
+        want["steps"],
+        "wrapping went unnoticed"
+    );
     let late = js.replace(
         "const c = choose(state, event, s.inp, before, cnt);",
         "const c = choose(state, event, s.inp, before, cnt.map((v, k) => Math.min(v + 1, COUNTERS[k].max)));",
     );
     assert_ne!(late, js);
-    assert_ne!(run(&late, "late")[0]["steps"], want["steps"], "a late read went unnoticed");
+    assert_ne!(
+        run(&late, "late")[0]["steps"],
+        want["steps"],
+        "a late read went unnoticed"
+    );
 }

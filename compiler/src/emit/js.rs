@@ -209,12 +209,11 @@ pub fn to_js(m: &Machine) -> String {
     let _ = writeln!(
         js,
         "const SEQS = {};",
-        number_table(low.seqs().iter().map(|s| {
-            s.iter()
-                .filter_map(Op::action)
-                .map(|a| a.index())
-                .collect()
-        }))
+        number_table(
+            low.seqs()
+                .iter()
+                .map(|s| { s.iter().filter_map(Op::action).map(|a| a.index()).collect() })
+        )
     );
     js.push_str(
         "// The counter operations of each sequence, in order: [counter, kind, value], kind\n\

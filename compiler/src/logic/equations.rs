@@ -173,7 +173,11 @@ pub enum CounterEffect {
 impl CounterEffect {
     /// The composite effect on counter `counter` (largest value `max`) of an operation
     /// sequence; `None` when it leaves the counter as it is.
-    pub fn of(ops: &[crate::model::Op], counter: crate::model::CounterId, max: u16) -> Option<Self> {
+    pub fn of(
+        ops: &[crate::model::Op],
+        counter: crate::model::CounterId,
+        max: u16,
+    ) -> Option<Self> {
         use crate::model::{CounterOpKind, Op};
         let n = i64::from(max);
         let clamp = |x: i64, lo: i64, hi: i64| x.max(lo).min(hi);
@@ -526,7 +530,10 @@ impl LogicSpec {
                         due_care |= due_bit(j);
                     }
                 }
-                let cmp_care = cell.atoms.iter().fold(0u64, |acc, a| acc | cmp_bit(a.index()));
+                let cmp_care = cell
+                    .atoms
+                    .iter()
+                    .fold(0u64, |acc, a| acc | cmp_bit(a.index()));
                 let passes: Vec<(Cube, Vec<Bdd>, Bdd)> = cell
                     .variants
                     .iter()

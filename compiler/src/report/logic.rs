@@ -454,7 +454,13 @@ impl<'a> LogicReport<'a> {
             let controls: Vec<String> = c
                 .controls
                 .iter()
-                .map(|&j| format!("{} ({})", d.controls[j].name, d.controls[j].effect.text(c.max)))
+                .map(|&j| {
+                    format!(
+                        "{} ({})",
+                        d.controls[j].name,
+                        d.controls[j].effect.text(c.max)
+                    )
+                })
                 .collect();
             out.push(format!(
                 "counter {}: register {} ({}), 0..={}, saturating; compares: {}; controls: {}",
