@@ -21,3 +21,29 @@ fn greenhouse_simulator() {
 fn clocked_debounce_simulator() {
     insta::assert_snapshot!("debounce_js", to_js(&machine("debounce.detent")));
 }
+
+/// A machine with a counter: comparisons inline in the tests (`cnt[0] < 2`), the
+/// operation table and the counters' ranges.
+#[test]
+fn counter_simulator() {
+    let text = "machine Keypad {
+    events Digit, Wrong, Right;
+    inputs tamper;
+    actions alarm;
+    counters strikes to 3;
+    start Idle;
+    unhandled ignore;
+    state Idle {
+        Wrong if strikes < 2 => Idle, do strikes += 1;
+        Wrong if strikes == 2 => Locked, do strikes += 1, alarm;
+        Digit if tamper && strikes != 0 => stay, do strikes -= 1;
+    }
+    state Locked {
+        Right if strikes == 3 => Idle, do strikes = 0;
+    }
+}";
+    let report = detent_compiler::driver::check_source("keypad.detent", text);
+    assert!(!report.has_errors(), "keypad checks clean");
+    let m = report.machines.into_iter().next().unwrap().machine.unwrap();
+    insta::assert_snapshot!("keypad_js", to_js(&m));
+}

@@ -8,8 +8,9 @@
 //! call (as a bouncing pin or a register cleared on read does) and every call is
 //! recorded. At every step the hook calls (which inputs, in what order: each at most
 //! once, as the interpreter's sampler reads them), the next state, the rule that fired,
-//! the rejection, the outputs and the actions must equal the interpreter's, stepped
-//! through `Machine::step_reading` over the same flipping levels. The running object's
+//! the rejection, the outputs, the actions, the timers and the counters must equal the
+//! interpreter's, stepped through `Machine::step_config_reading` over the same flipping
+//! levels. The running object's
 //! `reset()` must bring the machine back to the start state.
 //!
 //! All machines go on one page (one browser start), so the test takes seconds. Nothing
@@ -74,6 +75,7 @@ fn expected(c: &Case) -> Value {
             "actions": r.actions.iter().map(|a| a.index()).collect::<Vec<_>>(),
             "calls": calls,
             "timers": config.timers,
+            "counters": config.counters,
             "next": m.next_timeout(&config),
         }));
     }
@@ -85,20 +87,24 @@ window.detentResults = CASES.map(([sim, steps]) => {
   try {
     let state = sim.start;
     let timers = [];
+    let counters = [];
     const out = steps.map(([event, start]) => {
       const levels = start.slice();
       const calls = [];
       const read = (i) => { calls.push(i); const v = levels[i]; levels[i] = !v; return v; };
-      const r = sim.step(state, event, read, timers);
+      const r = sim.step(state, event, read, timers, counters);
       state = r.to;
       timers = r.timers;
+      counters = r.counters;
       return { to: r.to, rule: r.rule, rejected: r.rejected, outputs: r.outputs,
-               actions: r.actions, calls, timers: r.timers, next: r.nextTimeout };
+               actions: r.actions, calls, timers: r.timers, counters: r.counters,
+               next: r.nextTimeout };
     });
     const running = sim.create();
     for (const [event, start] of steps) running.step(event, (i) => start[i]);
     running.reset();
     if (running.timers.some((t) => t !== 0)) throw new Error("reset kept a timer");
+    if (running.counters.some((c) => c !== 0)) throw new Error("reset kept a counter");
     return { steps: out, reset: running.state };
   } catch (e) {
     return { error: String(e && e.stack || e) };
@@ -280,6 +286,72 @@ fn timed_simulator_agrees_with_the_interpreter_in_chromium() {
     run_cases(&cases, "js_timed");
 }
 
+/// Machines with counters (issue 20): random specs with one or two counters compared
+/// in guards (alone and with inputs) and changed by `+=`, `-=` and `=` in rules and in
+/// enter/leave lists, some also with timers, every policy, clocked and event-driven,
+/// over traces of 300 steps; at every step the counters after the step (read as
+/// at its start by the guards, changed by the operations of the rule that fired,
+/// saturating) must equal the interpreter's, with everything else.
+#[test]
+fn counter_simulator_agrees_with_the_interpreter_in_chromium() {
+    let mut rng = Rng::new(0x5eed_0020);
+    let mut cases = Vec::new();
+    let policies = [None, Some("ignore"), Some("reject")];
+    for seed in 0..80u64 {
+        let cfg = GenConfig {
+            events: [0usize, 3, 5, 2][seed as usize % 4],
+            policy: policies[(seed / 4) as usize % 3],
+            counters: 1 + (seed as usize / 2) % 2,
+            timeouts: seed % 5 == 0,
+            ..GenConfig::default()
+        };
+        let text = random_spec(20_000 + seed, &cfg);
+        for m in machines_of(&format!("Counted{seed}"), &text) {
+            assert!(m.has_counters(), "Counted{seed}: no counter\n{text}");
+            let steps = if m.has_timers() {
+                random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.6)
+            } else {
+                trace(&mut rng, &m, 300)
+            };
+            cases.push(Case {
+                label: format!("Counted{seed} ({cfg:?})"),
+                machine: m,
+                steps,
+            });
+        }
+    }
+    // The traces move the counters: steps where some counter changed, and counters
+    // that reached their largest value, in the interpreter's run.
+    let (mut changed, mut topped, mut counters) = (0usize, 0usize, 0usize);
+    for c in &cases {
+        let m = &c.machine;
+        let mut config = m.start_config();
+        let mut top = vec![false; m.counters.len()];
+        for (e, levels) in &c.steps {
+            let before = config.counters.clone();
+            m.step_config(&mut config, EventId::from_index(*e), levels);
+            changed += usize::from(before != config.counters);
+            for (k, &v) in config.counters.iter().enumerate() {
+                top[k] |= v == m.counters[k].max;
+            }
+        }
+        topped += top.iter().filter(|&&t| t).count();
+        counters += m.counters.len();
+    }
+    eprintln!(
+        "{} machines with {counters} counters: {changed} steps changed a counter, {topped} \
+         counters reached their largest value",
+        cases.len()
+    );
+    assert_eq!(cases.len(), 80);
+    assert!(changed > 1000, "only {changed} steps changed a counter");
+    assert!(
+        topped * 4 > counters,
+        "only {topped} of {counters} counters topped out"
+    );
+    run_cases(&cases, "js_counters");
+}
+
 /// The comparison fails when the simulator differs: a simulator with one rule's target
 /// changed, or one that reads an input twice, is caught.
 #[test]
@@ -310,5 +382,68 @@ fn a_wrong_simulator_is_caught() {
     assert_ne!(
         got[0]["steps"], want["steps"],
         "a double read went unnoticed"
+    );
+}
+
+/// A simulator that subtracts one too many, or whose guards read the counters after
+/// the step's operations instead of before, is caught.
+#[test]
+fn a_wrong_counter_simulator_is_caught() {
+    let text = "machine Tries {
+        events Fail, Ok;
+        outputs stuck;
+        counters tries to 2;
+        start Run;
+        unhandled ignore;
+        state Run {
+            Fail if tries < 2 => stay, do tries += 1;
+            Fail if tries == 2 => Stuck;
+            Ok if tries > 0 => stay, do tries -= 1, tries = 0;
+        }
+        state Stuck emit stuck {
+            Ok => Run, do tries = 0;
+            Fail => stay, do tries -= 1, tries += 1;
+        }
+    }";
+    let m = machines_of("tries", text).remove(0);
+    let mut rng = Rng::new(11);
+    let steps = trace(&mut rng, &m, 200);
+    let case = Case {
+        label: "tries".into(),
+        machine: m,
+        steps,
+    };
+    let want = expected(&case);
+    let js = to_js(&case.machine);
+    let steps: Vec<Value> = case.steps.iter().map(|(e, l)| json!([e, l])).collect();
+    let run = |js: &str, tag: &str| -> Value {
+        let html = format!(
+            "<!DOCTYPE html><html><body><script>\"use strict\";\nconst CASES = [[{js}, {}]];\n{RUNNER}</script></body></html>",
+            Value::Array(steps.clone())
+        );
+        let file = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("js_wrong_{tag}.html"));
+        std::fs::write(&file, html).unwrap();
+        serde_json::from_str(&browser(&["results", file.to_str().unwrap()])).unwrap()
+    };
+    assert_eq!(run(&js, "counter_ok")[0]["steps"], want["steps"]);
+    let wrong_sub = js.replace(
+        "out[c] = Math.max(out[c] - v, 0);",
+        "out[c] = Math.max(out[c] - v - 1, 0);",
+    );
+    assert_ne!(wrong_sub, js);
+    assert_ne!(
+        run(&wrong_sub, "sub")[0]["steps"],
+        want["steps"],
+        "a wrong subtraction went unnoticed"
+    );
+    let late = js.replace(
+        "const c = choose(state, event, s.inp, before, cnt);",
+        "const c = choose(state, event, s.inp, before, cnt.map((v, k) => Math.min(v + 1, COUNTERS[k].max)));",
+    );
+    assert_ne!(late, js);
+    assert_ne!(
+        run(&late, "late")[0]["steps"],
+        want["steps"],
+        "a late read went unnoticed"
     );
 }

@@ -22,13 +22,21 @@
 //! policy                                           "complete" | "ignore" | "reject"
 //! clocked                                          true for a clocked machine
 //! moore(state)                                     its Moore outputs, ascending
-//! step(state, event, read, timers)                 one step; `read(i)` is input i's hook
+//! step(state, event, read, timers, counters)       one step; `read(i)` is input i's hook
 //! timers, timeBase                                 the timers ({scope, durations, max,
 //!                                                  states}) and the time-base event
+//! counters                                         the counters ({name, max})
 //! nextTimeout(state, timers)                       time-base events to the next timeout
-//! create()                                         { state, timers, step(event, read),
-//!                                                    reset() }
+//! create()                                         { state, timers, counters,
+//!                                                    step(event, read), reset() }
 //! ```
+//!
+//! Counters follow the interpreter too ([`crate::interp::apply_counter_ops`]): tests
+//! compare the counters as they were at the start of the step (`cnt[k] < 2`, inline in
+//! the test, evaluated in its place in the short-circuit order), and the operations of
+//! the choice that fires then run in sequence order, each stopping at 0 and the
+//! counter's largest value ([`crate::model::CounterOp::apply`]). A step that no rule
+//! handles changes no counter.
 //!
 //! Timers follow the interpreter ([`crate::interp::Machine::step_config`]): on the
 //! time-base event each timer of the state's scopes adds one first (stopping at its
@@ -40,7 +48,8 @@
 //! actions, reads, values}`: `rule` is the rule's number (`null` when none fired),
 //! `outputs` the Moore and Mealy outputs together, ascending, `reads` the inputs read in
 //! the order they were read, `values` the value each input had in the step (`null`:
-//! not read), `timers` the timers after the step and `nextTimeout` what
+//! not read), `timers` and `counters` the timers and counters after the step and
+//! `nextTimeout` what
 //! `nextTimeout` says after it. A state or event out of range throws a `RangeError`. `create().reset()`
 //! restarts at the start state without running any action, as the generated code's
 //! constructor does.
@@ -50,7 +59,7 @@
 
 use crate::emit::timers::{scope_name, timer_states};
 use crate::model::lower::{CellEvents, Choice, Lowered};
-use crate::model::{Guard, Machine};
+use crate::model::{Cmp, CounterOpKind, Guard, Machine, Op};
 use crate::syntax::ast::Policy;
 use std::fmt::Write as _;
 
@@ -97,36 +106,46 @@ fn number_table(rows: impl Iterator<Item = Vec<usize>>) -> String {
 /// [`crate::model::lower::Sampler::holds`] does; the parentheses follow the tree (only a
 /// left operand with the same operator goes without), so the order of reads is the
 /// tree's.
-fn test_text(g: &Guard) -> String {
+fn test_text(m: &Machine, g: &Guard) -> String {
     match g {
         Guard::Input(i) => format!("inp({})", i.index()),
-        Guard::Atom(a) => format!("atom({})", a.index()),
+        Guard::Atom(a) => {
+            // The counter as it was at the start of the step (`cnt`, not updated by
+            // the step's operations, which run after the choice).
+            let atom = &m.atoms[a.index()];
+            let op = match atom.cmp {
+                Cmp::Eq => "===",
+                Cmp::Ne => "!==",
+                c => c.symbol(),
+            };
+            format!("cnt[{}] {op} {}", atom.counter.index(), atom.value)
+        }
         Guard::Const(b) => b.to_string(),
-        Guard::Not(a) => format!("!{}", atom(a)),
+        Guard::Not(a) => format!("!{}", atom(m, a)),
         Guard::And(a, b) => {
             let l = if matches!(**a, Guard::And(..)) {
-                test_text(a)
+                test_text(m, a)
             } else {
-                atom(a)
+                atom(m, a)
             };
-            format!("{l} && {}", atom(b))
+            format!("{l} && {}", atom(m, b))
         }
         Guard::Or(a, b) => {
             let l = if matches!(**a, Guard::Or(..)) {
-                test_text(a)
+                test_text(m, a)
             } else {
-                atom(a)
+                atom(m, a)
             };
-            format!("{l} || {}", atom(b))
+            format!("{l} || {}", atom(m, b))
         }
     }
 }
 
 /// An operand: parenthesized unless it is an input, a constant or a negation.
-fn atom(g: &Guard) -> String {
+fn atom(m: &Machine, g: &Guard) -> String {
     match g {
-        Guard::Input(_) | Guard::Const(_) | Guard::Not(_) => test_text(g),
-        _ => format!("({})", test_text(g)),
+        Guard::Input(_) | Guard::Const(_) | Guard::Not(_) => test_text(m, g),
+        _ => format!("({})", test_text(m, g)),
     }
 }
 
@@ -190,16 +209,51 @@ pub fn to_js(m: &Machine) -> String {
     let _ = writeln!(
         js,
         "const SEQS = {};",
+        number_table(
+            low.seqs()
+                .iter()
+                .map(|s| { s.iter().filter_map(Op::action).map(|a| a.index()).collect() })
+        )
+    );
+    js.push_str(
+        "// The counter operations of each sequence, in order: [counter, kind, value], kind\n\
+         // 0: `+=`, 1: `-=`, 2: `=` (each stops at 0 and the counter's largest value).\n",
+    );
+    let _ = writeln!(
+        js,
+        "const COUNTER_OPS = {};",
         number_table(low.seqs().iter().map(|s| {
             s.iter()
-                .map(|op| match op {
-                    crate::model::lower::Op::Action(a) => a.index(),
-                    // Counter operations are not in the page's simulator yet; the page
-                    // refuses machines with counters (see `emit::page`).
-                    crate::model::lower::Op::Counter(_) => usize::MAX,
+                .filter_map(|op| match op {
+                    Op::Counter(c) => Some(c),
+                    Op::Action(_) => None,
+                })
+                .flat_map(|c| {
+                    let kind = match c.kind {
+                        CounterOpKind::Add => 0,
+                        CounterOpKind::Sub => 1,
+                        CounterOpKind::Set => 2,
+                    };
+                    [c.counter.index(), kind, usize::from(c.value)]
                 })
                 .collect()
         }))
+    );
+    let counters: Vec<String> = m
+        .counters
+        .iter()
+        .map(|c| {
+            format!(
+                "Object.freeze({{ name: {}, max: {} }})",
+                js_string(&c.name),
+                c.max
+            )
+        })
+        .collect();
+    let _ = writeln!(
+        js,
+        "// The counters: name and largest value (each starts at 0).\nconst COUNTERS = Object.freeze([{}]);",
+        counters.join(", ")
     );
     let moore: Vec<String> = (0..m.states.len())
         .map(|s| {
@@ -254,8 +308,9 @@ pub fn to_js(m: &Machine) -> String {
     js.push_str(
         "\n// The choice that fires: [rule, target, mealy set, sequence, timers set to 0], or\n\
          // null when no rule handles the step. The first choice whose due timeout (if any,\n\
-         // `before` holds the timers before this event) and then test hold fires.\n\
-         function choose(state, event, inp, before) {\n  switch (state) {\n",
+         // `before` holds the timers before this event) and then test hold fires; tests\n\
+         // read the counters `cnt` as they were at the start of the step.\n\
+         function choose(state, event, inp, before, cnt) {\n  switch (state) {\n",
     );
     for (si, st) in m.states.iter().enumerate() {
         let _ = writeln!(js, "    case {si}: // {}", st.name.replace('\n', " "));
@@ -292,8 +347,8 @@ pub fn to_js(m: &Machine) -> String {
                 let cond = match (due, &c.test) {
                     (None, None) => None,
                     (Some(d), None) => Some(d),
-                    (None, Some(t)) => Some(test_text(t)),
-                    (Some(d), Some(t)) => Some(format!("{d} && {}", atom(t))),
+                    (None, Some(t)) => Some(test_text(m, t)),
+                    (Some(d), Some(t)) => Some(format!("{d} && {}", atom(m, t))),
                 };
                 match cond {
                     None => {
@@ -366,13 +421,36 @@ function nextTimeout(state, timers) {
   return next;
 }
 
+// The counters after the operations of sequence `seq`, in order, from `cnt`.
+function countersAfter(seq, cnt) {
+  const out = cnt.slice();
+  const ops = COUNTER_OPS[seq];
+  for (let k = 0; k < ops.length; k += 3) {
+    const [c, kind, v] = [ops[k], ops[k + 1], ops[k + 2]];
+    const max = COUNTERS[c].max;
+    if (kind === 0) out[c] = Math.min(out[c] + v, max);
+    else if (kind === 1) out[c] = Math.max(out[c] - v, 0);
+    else out[c] = Math.min(v, max);
+  }
+  return out;
+}
+
 // One step from `state` on `event` with `timers` (one count per timer, all 0 when left
-// out); `read(i)` is the hook of input i. On the time-base event each timer of the
-// state's scopes first adds one, stopping at its largest duration; the result holds
-// the timers after the step.
-function step(state, event, read, timers) {
+// out) and `counters` (one value per counter, all 0 when left out); `read(i)` is the
+// hook of input i. On the time-base event each timer of the state's scopes first adds
+// one, stopping at its largest duration; guards read the counters as they are now,
+// and the operations of the rule that fires then change them. The result holds the
+// timers and counters after the step.
+function step(state, event, read, timers, counters) {
   check("state", state, STATES.length);
   check("event", event, EVENTS.length);
+  const cnt = COUNTERS.map((c, k) => {
+    const v = (counters && counters[k]) || 0;
+    if (!Number.isInteger(v) || v < 0 || v > c.max) {
+      throw new RangeError(`counter ${c.name} = ${v} is out of range (0..${c.max})`);
+    }
+    return v;
+  });
   const before = TIMERS.map((_, k) => (timers && timers[k]) || 0);
   const after = before.slice();
   if (event === TIME_BASE) {
@@ -381,13 +459,13 @@ function step(state, event, read, timers) {
     });
   }
   const s = sampler(read);
-  const c = choose(state, event, s.inp, before);
+  const c = choose(state, event, s.inp, before, cnt);
   if (c === null) {
     const moore = OUT_SETS[MOORE[state]].slice();
     return {
       from: state, event, to: state, rule: null, handled: false,
       rejected: POLICY === "reject", mealy: [], moore, outputs: moore.slice(),
-      actions: [], reads: s.reads, values: s.values, timers: after,
+      actions: [], reads: s.reads, values: s.values, timers: after, counters: cnt,
       nextTimeout: nextTimeout(state, after),
     };
   }
@@ -398,7 +476,8 @@ function step(state, event, read, timers) {
   return {
     from: state, event, to, rule, handled: true, rejected: false, mealy, moore,
     outputs: union(moore, mealy), actions: SEQS[seq].slice(), reads: s.reads,
-    values: s.values, timers: after, nextTimeout: nextTimeout(to, after),
+    values: s.values, timers: after, counters: countersAfter(seq, cnt),
+    nextTimeout: nextTimeout(to, after),
   };
 }
 
@@ -407,15 +486,18 @@ function create() {
   const sim = {
     state: START,
     timers: TIMERS.map(() => 0),
+    counters: COUNTERS.map(() => 0),
     step(event, read) {
-      const r = step(sim.state, event, read, sim.timers);
+      const r = step(sim.state, event, read, sim.timers, sim.counters);
       sim.state = r.to;
       sim.timers = r.timers;
+      sim.counters = r.counters;
       return r;
     },
     reset() {
       sim.state = START;
       sim.timers = TIMERS.map(() => 0);
+      sim.counters = COUNTERS.map(() => 0);
     },
   };
   return sim;
@@ -428,7 +510,7 @@ function create() {
         "return Object.freeze({{\n  name: NAME, states: STATES, events: EVENTS, inputs: INPUTS,\n  \
          outputs: OUTPUTS, actions: ACTIONS, start: START, policy: POLICY, clocked: {},\n  \
          moore: (state) => {{ check(\"state\", state, STATES.length); return OUT_SETS[MOORE[state]].slice(); }},\n  \
-         timers: TIMERS, timeBase: TIME_BASE, nextTimeout, step, create,\n}});\n}})()",
+         timers: TIMERS, timeBase: TIME_BASE, counters: COUNTERS, nextTimeout, step, create,\n}});\n}})()",
         m.clocked
     );
     js

@@ -174,12 +174,13 @@ pub fn auto_assign_baseline(
 }
 
 /// Functions per design: the flip-flop inputs of the dense encoding, outputs, actions,
-/// timer clears.
+/// timer clears, counter controls.
 fn spec_function_count(spec: &LogicSpec, ff: FlipFlop) -> usize {
     super::assign::dense_bits(spec.n_states) * ff.input_names().len()
         + spec.outputs.len()
         + spec.actions.len()
         + spec.timers.len()
+        + spec.controls.len()
 }
 
 /// The `auto` table: binary, gray, one-hot (up to 64 states) and the searched

@@ -4,8 +4,9 @@
 //! the state bits `q_{k-1} .. q_0`, the event bus `ev_{b-1} .. ev_0` with
 //! `b = ceil(log2 E)` (none for clocked machines or a single event; event `i` in
 //! declaration order has code `i`, codes `>= E` are don't-cares), then the inputs as
-//! pins in declaration order, then the due variables of the timers (below). Moore-only
-//! outputs are functions of the state bits alone.
+//! pins in declaration order, then the due variables of the timers, then the comparison
+//! variables of the counters (below). Moore-only outputs are functions of the state bits
+//! alone.
 //!
 //! **Timers** (LANGUAGE.md, "Time and counts"; DESIGN.md, "Hardware port"). Each scope
 //! with `after` rules has a timer register beside the state register: a counter of the
@@ -26,6 +27,23 @@
 //! state is in the scope and it is not, don't-care where the next state is outside the
 //! scope (the list zeroes it, but the value of an inactive timer never matters:
 //! entering the scope clears it).
+//!
+//! **Counters** (LANGUAGE.md, "Counters"; DESIGN.md, "Hardware port"). Each counter
+//! is a register of the datapath beside the state register ([`CounterSpec`]). Each
+//! comparison a guard makes ([`Machine::atoms`]) is a variable, `<counter>_<op>_<k>`
+//! (`strikes_lt_2`), the register compared with the constant at the start of the step,
+//! as guards read counters. A cell whose rules read comparisons is cut per combination
+//! of their values (its variants, as for due timeouts), each variant's regions times the
+//! cube fixing those variables; comparisons the cell does not read are free there.
+//! Combinations of one counter's comparisons that no value of the counter gives are
+//! don't-cares. The FSM drives each counter through *control* functions: for each
+//! counter, one per distinct composite effect that the operation sequences of the
+//! lowered form have on it ([`CounterEffect`]: the sequence's operations on that
+//! counter composed, each saturating as [`crate::model::CounterOp::apply`] does), named
+//! after it (`strikes_add_1`, `strikes_sub_1`, `strikes_set_0`), 1 where the choice that
+//! fires applies that effect and 0 elsewhere (a choice that leaves the counter as it is,
+//! and an unhandled step, raise none). At most one control of a counter is high in a
+//! care valuation.
 //!
 //! **Functions.** For each state bit the input(s) of the chosen flip-flop (D; T; J and
 //! K; S and R) from its excitation table, with every don't-care the flip-flop allows;
@@ -80,9 +98,10 @@ pub struct Region {
     pub state: usize,
     /// The event codes (declaration order numbers).
     pub events: Vec<u64>,
-    /// Disjoint cubes over the condition bits: the inputs, then the due variables
-    /// (input `i` at bit `I + U - 1 - i`, due variable `j` at bit `U - 1 - j`, with `I`
-    /// inputs and `U` due variables).
+    /// Disjoint cubes over the condition bits: the inputs, the due variables, then the
+    /// comparison variables (input `i` at bit `I + U + C - 1 - i`, due variable `j` at
+    /// bit `U + C - 1 - j`, comparison `a` at bit `C - 1 - a`, with `I` inputs, `U` due
+    /// variables and `C` comparisons).
     pub guards: Vec<Cube>,
     /// The next state.
     pub next: usize,
@@ -93,6 +112,9 @@ pub struct Region {
     /// The timers (indices into [`LogicSpec::timers`]) the step sets to 0: the lowered
     /// choice's `resets` (the scopes it enters, and every scope not active after it).
     pub resets: Vec<usize>,
+    /// The counter controls (indices into [`LogicSpec::controls`]) the step raises: at
+    /// most one per counter.
+    pub controls: Vec<usize>,
 }
 
 /// A timer register of the datapath: one per scope with `after` rules.
@@ -129,6 +151,170 @@ pub struct DueVar {
     pub ticks: u32,
 }
 
+/// What a step does to one counter: its operations in the step's sequence, composed.
+/// Each operation saturates at 0 and the counter's largest value `N`, so the
+/// composition is `v -> clamp(v + add, lo, hi)` over `0..=N` (a constant when
+/// `lo == hi`); the identity (no operation, or operations that cancel) is no effect.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum CounterEffect {
+    /// The counter becomes `k`.
+    Set(u16),
+    /// The counter becomes `clamp(v + add, lo, hi)`, with `lo = f(0) < hi = f(N)`.
+    Shift {
+        /// What is added (negative: subtracted).
+        add: i32,
+        /// The value at 0.
+        lo: u16,
+        /// The value at `N`.
+        hi: u16,
+    },
+}
+
+impl CounterEffect {
+    /// The composite effect on counter `counter` (largest value `max`) of an operation
+    /// sequence; `None` when it leaves the counter as it is.
+    pub fn of(
+        ops: &[crate::model::Op],
+        counter: crate::model::CounterId,
+        max: u16,
+    ) -> Option<Self> {
+        use crate::model::{CounterOpKind, Op};
+        let n = i64::from(max);
+        let clamp = |x: i64, lo: i64, hi: i64| x.max(lo).min(hi);
+        // f(v) = clamp(v + d, lo, hi); starts as the identity.
+        let (mut d, mut lo, mut hi) = (0i64, 0i64, n);
+        for op in ops {
+            let Op::Counter(c) = op else { continue };
+            if c.counter != counter {
+                continue;
+            }
+            let k = i64::from(c.value);
+            match c.kind {
+                CounterOpKind::Set => {
+                    let k = k.min(n);
+                    (d, lo, hi) = (0, k, k);
+                }
+                CounterOpKind::Add | CounterOpKind::Sub => {
+                    let a = if c.kind == CounterOpKind::Add { k } else { -k };
+                    // clamp(clamp(x, lo, hi) + a, 0, N) = clamp(x + a, clamp(lo + a),
+                    // clamp(hi + a)) for lo <= hi.
+                    (d, lo, hi) = (d + a, clamp(lo + a, 0, n), clamp(hi + a, 0, n));
+                }
+            }
+        }
+        let f0 = clamp(d, lo, hi);
+        let f_n = clamp(n + d, lo, hi);
+        if f0 == f_n {
+            return Some(CounterEffect::Set(f0 as u16));
+        }
+        if d == 0 && f0 == 0 && f_n == n {
+            return None;
+        }
+        Some(CounterEffect::Shift {
+            add: d as i32,
+            lo: f0 as u16,
+            hi: f_n as u16,
+        })
+    }
+
+    /// The counter's value after the effect, from `v` in `0..=max`.
+    pub fn apply(self, v: u16) -> u16 {
+        match self {
+            CounterEffect::Set(k) => k,
+            CounterEffect::Shift { add, lo, hi } => {
+                (i64::from(v) + i64::from(add)).clamp(i64::from(lo), i64::from(hi)) as u16
+            }
+        }
+    }
+
+    /// Whether the effect is one plain saturating `+=`/`-=` on a counter of largest
+    /// value `max` (no other bound than 0 and `max`).
+    fn plain(self, max: u16) -> bool {
+        match self {
+            CounterEffect::Set(_) => true,
+            CounterEffect::Shift { add, lo, hi } => {
+                let n = i64::from(max);
+                let a = i64::from(add);
+                i64::from(lo) == a.clamp(0, n) && i64::from(hi) == (n + a).clamp(0, n)
+            }
+        }
+    }
+
+    /// The name part after the counter's: `add_1`, `sub_2`, `set_0`, `add_0_within_1_3`.
+    fn suffix(self, max: u16) -> String {
+        let base = match self {
+            CounterEffect::Set(k) => return format!("set_{k}"),
+            CounterEffect::Shift { add, .. } if add < 0 => format!("sub_{}", -i64::from(add)),
+            CounterEffect::Shift { add, .. } => format!("add_{add}"),
+        };
+        match self {
+            CounterEffect::Shift { lo, hi, .. } if !self.plain(max) => {
+                format!("{base}_within_{lo}_{hi}")
+            }
+            _ => base,
+        }
+    }
+
+    /// The effect as a reader writes it: `+= 1`, `-= 2`, `= 0`, `+= 0 within 1..=3`.
+    pub fn text(self, max: u16) -> String {
+        let base = match self {
+            CounterEffect::Set(k) => return format!("= {k}"),
+            CounterEffect::Shift { add, .. } if add < 0 => format!("-= {}", -i64::from(add)),
+            CounterEffect::Shift { add, .. } => format!("+= {add}"),
+        };
+        match self {
+            CounterEffect::Shift { lo, hi, .. } if !self.plain(max) => {
+                format!("{base} within {lo}..={hi}")
+            }
+            _ => base,
+        }
+    }
+}
+
+/// A counter register of the datapath: one per counter of the machine.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CounterSpec {
+    /// The counter's name in the spec.
+    pub name: String,
+    /// The register's name (the counter's name, unless that clashes with a port).
+    pub register: String,
+    /// Width: the narrowest that holds `max` (at least 1).
+    pub bits: usize,
+    /// Its largest value.
+    pub max: u16,
+    /// Its comparison variables (indices into [`LogicSpec::compares`]).
+    pub compares: Vec<usize>,
+    /// Its control functions (indices into [`LogicSpec::controls`]).
+    pub controls: Vec<usize>,
+}
+
+/// A comparison variable: a counter compared with a constant, as guards read it (the
+/// counter's value at the start of the step).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CompareVar {
+    /// The variable's name (`strikes_lt_2`).
+    pub name: String,
+    /// The counter (index into [`LogicSpec::counters`]).
+    pub counter: usize,
+    /// The comparison.
+    pub cmp: crate::model::Cmp,
+    /// The constant.
+    pub value: u16,
+    /// As written in the spec: `strikes < 2`.
+    pub text: String,
+}
+
+/// A control function of a counter: high in a step that applies its effect.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CounterControl {
+    /// The function's name (`strikes_add_1`).
+    pub name: String,
+    /// The counter (index into [`LogicSpec::counters`]).
+    pub counter: usize,
+    /// What it does to the counter.
+    pub effect: CounterEffect,
+}
+
 /// What the equations are built from: the machine cut into regions, independent of
 /// the state assignment.
 #[derive(Clone, Debug)]
@@ -156,6 +342,14 @@ pub struct LogicSpec {
     /// The time base's event code when it is read from the event bus (`None`: every
     /// cycle counts, as in a clocked machine or one whose only event is the time base).
     pub timebase_code: Option<u64>,
+    /// The counter registers, in the machine's counter order ([`Machine::counters`]).
+    pub counters: Vec<CounterSpec>,
+    /// The comparison variables, one per comparison of [`Machine::atoms`], in that
+    /// order.
+    pub compares: Vec<CompareVar>,
+    /// The counter control functions: per counter, per distinct effect in order of
+    /// first use.
+    pub controls: Vec<CounterControl>,
     /// Moore outputs of each state.
     moore: Vec<Vec<usize>>,
     /// Whether each output is raised by some rule (then it depends on ev and inputs).
@@ -181,6 +375,8 @@ pub enum Role {
     Action(usize),
     /// The clear input of timer register `t` ([`LogicSpec::timers`]).
     TimerClear(usize),
+    /// Counter control `c` ([`LogicSpec::controls`]).
+    CounterControl(usize),
 }
 
 /// One minimized function.
@@ -225,16 +421,22 @@ pub struct LogicDesign {
     pub flip_flop: FlipFlop,
     /// State-bit variable names, `q_{k-1}` first.
     pub state_vars: Vec<String>,
-    /// Pin variables: event bus bits (`ev_{b-1}` first), inputs, then the timers' due
-    /// variables.
+    /// Pin variables: event bus bits (`ev_{b-1}` first), inputs, the timers' due
+    /// variables, then the counters' comparison variables.
     pub pin_vars: Vec<String>,
     /// Every function: flip-flop inputs (most significant bit first), outputs, actions,
-    /// then the clear function of each timer.
+    /// the clear function of each timer, then the counter controls.
     pub functions: Vec<LogicFunction>,
     /// The timer registers of the datapath ([`LogicSpec::timers`]).
     pub timers: Vec<TimerSpec>,
-    /// The due variables ([`LogicSpec::dues`]), the last pin variables.
+    /// The due variables ([`LogicSpec::dues`]), pin variables after the inputs.
     pub dues: Vec<DueVar>,
+    /// The counter registers of the datapath ([`LogicSpec::counters`]).
+    pub counters: Vec<CounterSpec>,
+    /// The comparison variables ([`LogicSpec::compares`]), the last pin variables.
+    pub compares: Vec<CompareVar>,
+    /// The counter controls ([`LogicSpec::controls`]).
+    pub controls: Vec<CounterControl>,
 }
 
 /// Cubes covering the codes `lo..hi` of a `b`-bit field: aligned power-of-two blocks.
@@ -263,10 +465,13 @@ impl LogicSpec {
         let k = super::assign::dense_bits(n_states);
         let (timers, dues) = timer_specs(m);
         let n_dues = dues.len();
-        if k + ev_bits + n_inputs + n_dues > 64 {
+        let (counters, compares, controls, seq_controls) = counter_specs(m, &timers, &dues);
+        let n_cmp = compares.len();
+        if k + ev_bits + n_inputs + n_dues + n_cmp > 64 {
             return Err(format!(
                 "{k} state bits + {ev_bits} event bits + {n_inputs} inputs + {n_dues} timer due \
-                 variables exceed the 64 variables the logic layer supports"
+                 variables + {n_cmp} counter comparisons exceed the 64 variables the logic \
+                 layer supports"
             ));
         }
         let timebase_code = match (&m.timebase, timers.is_empty()) {
@@ -277,9 +482,10 @@ impl LogicSpec {
             (Some(_), false) if ev_bits == 0 => None,
             (Some(tb), false) => Some(tb.event.index() as u64),
         };
-        let n_cond = n_inputs + n_dues;
+        let n_cond = n_inputs + n_dues + n_cmp;
         let input_bit = |v: u32| 1u64 << (n_cond - 1 - v as usize);
-        let due_bit = |j: usize| 1u64 << (n_dues - 1 - j);
+        let due_bit = |j: usize| 1u64 << (n_dues + n_cmp - 1 - j);
+        let cmp_bit = |a: usize| 1u64 << (n_cmp - 1 - a);
         let to_cubes = |g: Bdd, due: Cube| -> Vec<Cube> {
             m.bdd
                 .cubes(g)
@@ -314,33 +520,40 @@ impl LogicSpec {
                 if events.is_empty() {
                     continue;
                 }
-                // One pass per combination of due timeouts (one pass, nothing fixed,
-                // for a cell without timers): the variant's exact regions, each cube
-                // with the state's due variables fixed to the combination.
-                let passes: Vec<(Cube, Vec<Bdd>, Bdd)> = if cell.timers.is_empty() {
-                    vec![(
-                        Cube::UNIVERSE,
-                        cell.choices.iter().map(|c| c.region).collect(),
-                        cell.unhandled,
-                    )]
-                } else {
-                    cell.variants
-                        .iter()
-                        .map(|v| {
-                            let mut care = 0u64;
-                            for &t in &cell.timers {
-                                for &j in &timers[t.index()].dues {
-                                    care |= due_bit(j);
-                                }
+                // One pass per combination of due timeouts and comparison values (one
+                // pass, nothing fixed, for a cell without timers and comparisons): the
+                // variant's exact regions, each cube with the state's due variables and
+                // the cell's comparisons fixed to the combination.
+                let mut due_care = 0u64;
+                for &t in &cell.timers {
+                    for &j in &timers[t.index()].dues {
+                        due_care |= due_bit(j);
+                    }
+                }
+                let cmp_care = cell
+                    .atoms
+                    .iter()
+                    .fold(0u64, |acc, a| acc | cmp_bit(a.index()));
+                let passes: Vec<(Cube, Vec<Bdd>, Bdd)> = cell
+                    .variants
+                    .iter()
+                    .map(|v| {
+                        let mut value = v
+                            .due
+                            .iter()
+                            .fold(0u64, |acc, &(t, d)| acc | due_bit(due_index(t, d)));
+                        for (a, &holds) in cell.atoms.iter().zip(&v.atoms) {
+                            if holds {
+                                value |= cmp_bit(a.index());
                             }
-                            let value = v
-                                .due
-                                .iter()
-                                .fold(0u64, |acc, &(t, d)| acc | due_bit(due_index(t, d)));
-                            (Cube::new(value, care), v.regions.clone(), v.unhandled)
-                        })
-                        .collect()
-                };
+                        }
+                        (
+                            Cube::new(value, due_care | cmp_care),
+                            v.regions.clone(),
+                            v.unhandled,
+                        )
+                    })
+                    .collect();
                 for (due, choice_regions, unhandled) in passes {
                     for (choice, &region) in cell.choices.iter().zip(&choice_regions) {
                         if region.is_false() {
@@ -358,6 +571,7 @@ impl LogicSpec {
                                 .collect(),
                             actions: lowered.actions(choice.ops).map(|a| a.index()).collect(),
                             resets: choice.resets.iter().map(|t| t.index()).collect(),
+                            controls: seq_controls[choice.ops.index()].clone(),
                         });
                     }
                     if !unhandled.is_false() {
@@ -369,6 +583,7 @@ impl LogicSpec {
                             mealy: Vec::new(),
                             actions: Vec::new(),
                             resets: Vec::new(),
+                            controls: Vec::new(),
                         });
                     }
                 }
@@ -409,6 +624,9 @@ impl LogicSpec {
             timers,
             dues,
             timebase_code,
+            counters,
+            compares,
+            controls,
             moore,
             mealy_output,
             regions,
@@ -486,6 +704,116 @@ fn timer_specs(m: &Machine) -> (Vec<TimerSpec>, Vec<DueVar>) {
         });
     }
     (timers, dues)
+}
+
+/// The counter registers, comparison variables and control functions of a machine,
+/// and per interned operation sequence of the lowered form the controls it raises.
+/// Names are made distinct from every port, timer name and each other (a clash gets
+/// `_` appended).
+#[allow(clippy::type_complexity)]
+fn counter_specs(
+    m: &Machine,
+    timers: &[TimerSpec],
+    dues: &[DueVar],
+) -> (
+    Vec<CounterSpec>,
+    Vec<CompareVar>,
+    Vec<CounterControl>,
+    Vec<Vec<usize>>,
+) {
+    use crate::model::{Cmp, CounterId};
+    let plain = |n: &str| n.trim_start_matches("r#").to_string();
+    let mut used: HashSet<String> = ["clk", "rst", "ev", "state", "tb"]
+        .iter()
+        .map(|s| s.to_string())
+        .chain(m.inputs.iter().map(|i| plain(&i.name)))
+        .chain(m.outputs.iter().map(|i| plain(&i.name)))
+        .chain(m.actions.iter().map(|i| plain(&i.name)))
+        .chain(
+            timers
+                .iter()
+                .flat_map(|t| [t.register.clone(), t.clear.clone()]),
+        )
+        .chain(dues.iter().map(|d| d.name.clone()))
+        .collect();
+    let mut fresh = |base: String| -> String {
+        let mut name = base;
+        while !used.insert(name.clone()) {
+            name.push('_');
+        }
+        name
+    };
+    let mut counters: Vec<CounterSpec> = m
+        .counters
+        .iter()
+        .map(|c| CounterSpec {
+            name: plain(&c.name),
+            register: fresh(plain(&c.name)),
+            bits: (16 - c.max.leading_zeros() as usize).max(1),
+            max: c.max,
+            compares: Vec::new(),
+            controls: Vec::new(),
+        })
+        .collect();
+    let compares: Vec<CompareVar> = m
+        .atoms
+        .iter()
+        .enumerate()
+        .map(|(a, atom)| {
+            let c = atom.counter.index();
+            counters[c].compares.push(a);
+            let op = match atom.cmp {
+                Cmp::Eq => "eq",
+                Cmp::Ne => "ne",
+                Cmp::Lt => "lt",
+                Cmp::Le => "le",
+                Cmp::Gt => "gt",
+                Cmp::Ge => "ge",
+            };
+            CompareVar {
+                name: fresh(format!("{}_{op}_{}", counters[c].name, atom.value)),
+                counter: c,
+                cmp: atom.cmp,
+                value: atom.value,
+                text: m.atom_text(crate::model::AtomId::from_index(a)),
+            }
+        })
+        .collect();
+    let mut controls: Vec<CounterControl> = Vec::new();
+    let seq_controls = m
+        .lowered
+        .seqs()
+        .iter()
+        .map(|ops| {
+            let mut raised = Vec::new();
+            for (c, spec) in counters.iter_mut().enumerate() {
+                let Some(effect) = CounterEffect::of(ops, CounterId::from_index(c), spec.max)
+                else {
+                    continue;
+                };
+                let found = spec
+                    .controls
+                    .iter()
+                    .copied()
+                    .find(|&j| controls[j].effect == effect);
+                let j = match found {
+                    Some(j) => j,
+                    None => {
+                        controls.push(CounterControl {
+                            name: fresh(format!("{}_{}", spec.name, effect.suffix(spec.max))),
+                            counter: c,
+                            effect,
+                        });
+                        spec.controls.push(controls.len() - 1);
+                        controls.len() - 1
+                    }
+                };
+                raised.push(j);
+            }
+            raised
+        })
+        .collect();
+    (counters, compares, controls, seq_controls)
 }
 
 /// The classic adjacency rules as weights: states with the same next state under the
@@ -659,6 +987,9 @@ pub fn synthesize(
         functions: out,
         timers: spec.timers.clone(),
         dues: spec.dues.clone(),
+        counters: spec.counters.clone(),
+        compares: spec.compares.clone(),
+        controls: spec.controls.clone(),
     })
 }
 
@@ -682,9 +1013,10 @@ pub(crate) struct FunctionSet {
 pub(crate) struct FunctionSets {
     /// State-bit variable names, `q_{k-1}` first.
     pub state_vars: Vec<String>,
-    /// Pin variables: event bus bits, inputs, then due variables.
+    /// Pin variables: event bus bits, inputs, due variables, then comparisons.
     pub pin_vars: Vec<String>,
-    /// Flip-flop inputs (most significant bit first), outputs, actions, timer clears.
+    /// Flip-flop inputs (most significant bit first), outputs, actions, timer clears,
+    /// counter controls.
     pub functions: Vec<FunctionSet>,
 }
 
@@ -699,13 +1031,14 @@ pub(crate) fn function_sets(
     let b = spec.ev_bits;
     let ni = spec.inputs.len();
     let nu = spec.dues.len();
-    // Condition variables: the inputs, then the due variables.
-    let nc = ni + nu;
+    let na = spec.compares.len();
+    // Condition variables: the inputs, the due variables, then the comparisons.
+    let nc = ni + nu + na;
     let n = k + b + nc;
     if n > 64 {
         return Err(format!(
-            "{k} state bits + {b} event bits + {ni} inputs + {nu} timer due variables exceed \
-             the 64 variables the logic layer supports"
+            "{k} state bits + {b} event bits + {ni} inputs + {nu} timer due variables + {na} \
+             counter comparisons exceed the 64 variables the logic layer supports"
         ));
     }
     if encoding.codes.len() != spec.n_states {
@@ -719,6 +1052,7 @@ pub(crate) fn function_sets(
     let mut pin_vars: Vec<String> = (0..b).rev().map(|j| format!("ev{j}")).collect();
     pin_vars.extend(spec.inputs.iter().cloned());
     pin_vars.extend(spec.dues.iter().map(|d| d.name.clone()));
+    pin_vars.extend(spec.compares.iter().map(|c| c.name.clone()));
     let all_vars: Vec<String> = state_vars.iter().chain(pin_vars.iter()).cloned().collect();
     let state_shift = b + nc;
 
@@ -756,7 +1090,7 @@ pub(crate) fn function_sets(
     );
     // Due combinations that cannot happen: a due variable high outside a time-base cycle
     // (event codes other than the time base's), two durations of one timer due at once.
-    let due_bit = |j: usize| 1u64 << (nu - 1 - j);
+    let due_bit = |j: usize| 1u64 << (nu + na - 1 - j);
     if let Some(code) = spec.timebase_code {
         let others: Vec<Cube> = range_cubes(0, code, b)
             .into_iter()
@@ -777,15 +1111,55 @@ pub(crate) fn function_sets(
             }
         }
     }
+    // Values of one counter's comparisons that no value of the counter gives (`c < 2`
+    // and `c == 3` together). Counters with more than `CMP_DC_MAX` comparisons leave
+    // them as care points (correct, only less minimized).
+    const CMP_DC_MAX: usize = 10;
+    let cmp_bit = |a: usize| 1u64 << (na - 1 - a);
+    for c in &spec.counters {
+        let kc = c.compares.len();
+        if kc == 0 || kc > CMP_DC_MAX {
+            continue;
+        }
+        let pattern = |v: u16| -> usize {
+            c.compares
+                .iter()
+                .enumerate()
+                .filter(|&(_, &a)| {
+                    let x = &spec.compares[a];
+                    x.cmp.holds(u64::from(v), u64::from(x.value))
+                })
+                .fold(0usize, |acc, (i, _)| acc | 1 << i)
+        };
+        let mut feasible = vec![false; 1 << kc];
+        for v in 0..=c.max {
+            feasible[pattern(v)] = true;
+        }
+        let care = c.compares.iter().fold(0u64, |acc, &a| acc | cmp_bit(a));
+        for (p, _) in feasible.iter().enumerate().filter(|(_, &f)| !f) {
+            let value = c
+                .compares
+                .iter()
+                .enumerate()
+                .filter(|&(i, _)| p >> i & 1 == 1)
+                .fold(0u64, |acc, (_, &a)| acc | cmp_bit(a));
+            global_dc.push(Cube::new(value, care));
+        }
+    }
 
     let n_ff_inputs = ff.input_names().len();
-    let n_fns = k * n_ff_inputs + spec.outputs.len() + spec.actions.len() + spec.timers.len();
+    let n_fns = k * n_ff_inputs
+        + spec.outputs.len()
+        + spec.actions.len()
+        + spec.timers.len()
+        + spec.controls.len();
     let mut on: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
     let mut dc: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
     let ff_index = |bit: usize, input: usize| (k - 1 - bit) * n_ff_inputs + input;
     let out_index = |o: usize| k * n_ff_inputs + o;
     let act_index = |a: usize| k * n_ff_inputs + spec.outputs.len() + a;
     let clear_index = |t: usize| k * n_ff_inputs + spec.outputs.len() + spec.actions.len() + t;
+    let control_index = |j: usize| clear_index(spec.timers.len()) + j;
 
     for r in &spec.regions {
         let sc = lift(&state_cube(r.state), state_shift);
@@ -833,6 +1207,9 @@ pub(crate) fn function_sets(
                 on[clear_index(t)].extend_from_slice(&cubes);
             }
         }
+        for &j in &r.controls {
+            on[control_index(j)].extend_from_slice(&cubes);
+        }
     }
 
     let mut functions = Vec::with_capacity(n_fns);
@@ -850,6 +1227,13 @@ pub(crate) fn function_sets(
     }
     for (t, timer) in spec.timers.iter().enumerate() {
         functions.push((timer.clear.clone(), Role::TimerClear(t), clear_index(t)));
+    }
+    for (j, control) in spec.controls.iter().enumerate() {
+        functions.push((
+            control.name.clone(),
+            Role::CounterControl(j),
+            control_index(j),
+        ));
     }
     let mut out = Vec::with_capacity(n_fns);
     for (name, role, idx) in functions {
@@ -978,6 +1362,81 @@ impl LogicSpec {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The composite effect equals running the operations one by one with
+    /// [`crate::model::CounterOp::apply`], on every value, for every sequence of up to
+    /// three operations over small constants.
+    #[test]
+    fn counter_effects_compose_like_the_operations() {
+        use crate::model::{CounterId, CounterOp, CounterOpKind, Op};
+        let c = CounterId::from_index(0);
+        let kinds = [CounterOpKind::Add, CounterOpKind::Sub, CounterOpKind::Set];
+        let mut singles = Vec::new();
+        for kind in kinds {
+            for value in 0..=4u16 {
+                singles.push(Op::Counter(CounterOp {
+                    counter: c,
+                    kind,
+                    value,
+                }));
+            }
+        }
+        let other = Op::Counter(CounterOp {
+            counter: CounterId::from_index(1),
+            kind: CounterOpKind::Set,
+            value: 1,
+        });
+        let mut seqs: Vec<Vec<Op>> = vec![Vec::new(), vec![other]];
+        for a in &singles {
+            seqs.push(vec![*a]);
+            for b in &singles {
+                seqs.push(vec![*a, other, *b]);
+                for d in singles.iter().step_by(2) {
+                    seqs.push(vec![*a, *b, *d]);
+                }
+            }
+        }
+        let mut distinct = std::collections::HashSet::new();
+        for max in 1..=5u16 {
+            for ops in &seqs {
+                let effect = CounterEffect::of(ops, c, max);
+                distinct.insert((max, effect));
+                for v in 0..=max {
+                    let mut x = v;
+                    for op in ops {
+                        if let Op::Counter(o) = op {
+                            if o.counter == c {
+                                x = o.apply(x, max).0;
+                            }
+                        }
+                    }
+                    let got = effect.map_or(v, |e| e.apply(v));
+                    assert_eq!(got, x, "max {max} ops {ops:?} from {v}: {effect:?}");
+                }
+                if let Some(CounterEffect::Shift { lo, hi, .. }) = effect {
+                    assert!(lo < hi, "{effect:?}");
+                }
+            }
+        }
+        // The canonical form is unique: distinct effects act differently somewhere.
+        for &(max, a) in &distinct {
+            for &(max2, b) in &distinct {
+                if max == max2 && a != b {
+                    let act = |e: Option<CounterEffect>, v| e.map_or(v, |e| e.apply(v));
+                    assert!((0..=max).any(|v| act(a, v) != act(b, v)), "{a:?} {b:?}");
+                }
+            }
+        }
+        let add = |k| {
+            Op::Counter(CounterOp {
+                counter: c,
+                kind: CounterOpKind::Add,
+                value: k,
+            })
+        };
+        let e = CounterEffect::of(&[add(1)], c, 3).unwrap();
+        assert_eq!((e.suffix(3), e.text(3)), ("add_1".into(), "+= 1".into()));
+    }
 
     #[test]
     fn range_cubes_cover_exactly() {

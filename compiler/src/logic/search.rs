@@ -549,7 +549,7 @@ pub fn search_assignment(
     let adj = spec.adjacency();
     let mut stats = SearchStats::default();
     let (pool, complete) = build_pool(spec, adj, &mut stats);
-    let vars = bits + spec.ev_bits + spec.inputs.len() + spec.dues.len();
+    let vars = bits + spec.ev_bits + spec.inputs.len() + spec.dues.len() + spec.compares.len();
     // A complete pool is costed in full when its equations are narrow, or when it is no
     // larger than the exact evaluations the guided search would spend anyway.
     let exhaustive =

@@ -27,6 +27,15 @@
 //! decides whether the timeout is due). The clear has priority over the count, as in
 //! the interpreter, which counts first and then clears the scopes the rule enters.
 //!
+//! **Counters**: each counter is a register beside the state register, named after
+//! it, of the narrowest width that holds its largest value, set to 0 by `rst`. Its
+//! comparison wires (`strikes_lt_2 = strikes < 2`) are variables of the equations,
+//! read at the start of the step as guards read counters; its control wires (minimized
+//! functions, one per composite effect: `strikes_add_1`, `strikes_set_0`, ...) select
+//! the register's next value in an `if / else if` chain, each a saturating update
+//! (`clamp(v + a, lo, hi)`, [`CounterEffect`]); with none high the register holds.
+//! The testbench checks every counter register before each clock edge.
+//!
 //! Names: the ports `clk`, `rst`, `ev`, `state` are fixed; inputs, outputs and actions
 //! keep their spec names; a name that is a Verilog (or SystemVerilog) keyword becomes an
 //! escaped identifier (`\begin `); a spec name equal to a fixed port, or an output and an
@@ -34,7 +43,7 @@
 //! (module) and in the number of steps (testbench).
 
 use super::assign::code_string;
-use super::equations::{LogicDesign, LogicSpec, Role};
+use super::equations::{CounterEffect, LogicDesign, LogicSpec, Role};
 use super::excitation::FlipFlop;
 use super::Cover;
 use crate::model::{EventId, Machine};
@@ -226,6 +235,11 @@ fn ident(name: &str) -> String {
     }
 }
 
+/// Bits needed to write `v` (at least 1).
+fn width_of(v: u64) -> usize {
+    (64 - v.leading_zeros() as usize).max(1)
+}
+
 /// The module name: the machine name in snake_case.
 pub fn module_name(machine: &str) -> String {
     ident(&to_snake(machine.trim_start_matches("r#")))
@@ -246,16 +260,17 @@ pub enum TbStep {
 }
 
 /// Most steps of the timed sequence [`testbench_steps`] appends for a machine with
-/// timers.
+/// timers or counters.
 pub const TIMED_STEPS_MAX: usize = 4096;
 
 /// The steps `detent logic --testbench` drives: the transition tour (every reachable
 /// rule fired at least once, resets where the machine is not strongly connected); for a
-/// machine with timers, then a reset and a seeded random timed sequence (the time base
-/// on three steps of four, other events and inputs uniform; `64 + 4 x` the sum of the
-/// timers' largest durations steps, at most [`TIMED_STEPS_MAX`]) so that timeouts come
-/// due and the timer registers are exercised whatever the tour reaches. Deterministic:
-/// the same machine gives the same steps.
+/// machine with timers or counters, then a reset and a seeded random sequence (with
+/// timers, the time base on three steps of four; other events and inputs uniform; `64 +
+/// 4 x` the sum of the timers' largest durations and the counters' largest values
+/// steps, at most [`TIMED_STEPS_MAX`]) so that timeouts come due, counters climb to
+/// their ends and the registers are exercised whatever the tour reaches.
+/// Deterministic: the same machine gives the same steps.
 pub fn testbench_steps(m: &Machine) -> Vec<TbStep> {
     use crate::tour::{tour, TourStep};
     let mut steps: Vec<TbStep> = tour(m)
@@ -269,23 +284,27 @@ pub fn testbench_steps(m: &Machine) -> Vec<TbStep> {
             },
         })
         .collect();
-    if let (Some(tb), false) = (&m.timebase, m.timers.is_empty()) {
-        let total: usize = m.timers.iter().map(|t| t.max() as usize).sum();
+    if m.has_timers() || m.has_counters() {
+        let total: usize = m.timers.iter().map(|t| t.max() as usize).sum::<usize>()
+            + m.counters.iter().map(|c| usize::from(c.max)).sum::<usize>();
         let len = total
             .saturating_mul(4)
             .saturating_add(64)
             .min(TIMED_STEPS_MAX);
         let n_events = m.events.len().max(1);
-        let tb_event = tb.event.index();
+        let tb_event = m
+            .timebase
+            .as_ref()
+            .filter(|_| m.has_timers())
+            .map(|tb| tb.event.index());
         let mut rng = crate::rng::Rng::new(0x7E57_BE4C);
         if !steps.is_empty() {
             steps.push(TbStep::Reset);
         }
         for _ in 0..len {
-            let event = if n_events == 1 || rng.chance(0.75) {
-                tb_event.min(n_events - 1)
-            } else {
-                rng.index(n_events)
+            let event = match tb_event {
+                Some(tb) if n_events == 1 || rng.chance(0.75) => tb.min(n_events - 1),
+                _ => rng.index(n_events),
             };
             let inputs = (0..m.inputs.len()).map(|_| rng.chance(0.5)).collect();
             steps.push(TbStep::Step { event, inputs });
@@ -303,6 +322,10 @@ struct Names {
     timers: Vec<String>,
     /// The time-base cycle wire (used only when there are timers).
     tb: String,
+    /// Comparison wires, in [`LogicSpec::compares`] order.
+    compares: Vec<String>,
+    /// Counter registers, in [`LogicSpec::counters`] order.
+    counters: Vec<String>,
     outputs: Vec<String>,
     actions: Vec<String>,
     /// Internal wire per function, in `design.functions` order.
@@ -354,6 +377,21 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         .iter()
         .map(|t| claim("timer clear", &t.clear))
         .collect::<Result<Vec<_>, _>>()?;
+    let compares = spec
+        .compares
+        .iter()
+        .map(|c| claim("counter comparison", &c.name))
+        .collect::<Result<Vec<_>, _>>()?;
+    let counters = spec
+        .counters
+        .iter()
+        .map(|c| claim("counter register", &c.register))
+        .collect::<Result<Vec<_>, _>>()?;
+    let controls = spec
+        .controls
+        .iter()
+        .map(|c| claim("counter control", &c.name))
+        .collect::<Result<Vec<_>, _>>()?;
     let mut fresh = |base: String| -> String {
         let mut name = base;
         while KEYWORDS.contains(&name.as_str()) || !used.insert(name.clone()) {
@@ -371,6 +409,7 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
             Role::Output(o) => outputs[o].clone(),
             Role::Action(a) => actions[a].clone(),
             Role::TimerClear(t) => clears[t].clone(),
+            Role::CounterControl(j) => controls[j].clone(),
         })
         .collect();
     Ok(Names {
@@ -378,6 +417,8 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
         dues,
         timers,
         tb,
+        compares,
+        counters,
         outputs,
         actions,
         wires,
@@ -391,7 +432,8 @@ fn names(spec: &LogicSpec, design: &LogicDesign) -> Result<Names, String> {
 fn expression(design: &LogicDesign, n: &Names, vars: usize, cover: &Cover) -> String {
     let k = design.state_vars.len();
     let ni = n.inputs.len();
-    let b = design.pin_vars.len() - ni - n.dues.len();
+    let nu = n.dues.len();
+    let b = design.pin_vars.len() - ni - nu - n.compares.len();
     let var = |i: usize| -> String {
         if i < k {
             format!("{}[{}]", n.reg, k - 1 - i)
@@ -399,8 +441,10 @@ fn expression(design: &LogicDesign, n: &Names, vars: usize, cover: &Cover) -> St
             format!("ev[{}]", b - 1 - (i - k))
         } else if i < k + b + ni {
             n.inputs[i - k - b].clone()
-        } else {
+        } else if i < k + b + ni + nu {
             n.dues[i - k - b - ni].clone()
+        } else {
+            n.compares[i - k - b - ni - nu].clone()
         }
     };
     if cover.cubes.is_empty() {
@@ -546,6 +590,34 @@ pub fn generate_module(
             }
         }
     }
+    if !spec.counters.is_empty() {
+        out.push_str(
+            "\n    // Counters (the datapath): one register per counter, changed by its control\n    \
+             // lines (one per composite effect a step can have on it, at most one high),\n    \
+             // saturating at 0 and its largest value. A comparison wire reads the register\n    \
+             // at the start of the step, as guards do.\n",
+        );
+        for (c, counter) in spec.counters.iter().enumerate() {
+            let _ = writeln!(
+                out,
+                "    reg [{}:0] {}; // {}: 0..={}",
+                counter.bits - 1,
+                n.counters[c],
+                counter.name,
+                counter.max
+            );
+            for &a in &counter.compares {
+                let x = &spec.compares[a];
+                let op = x.cmp.symbol();
+                let w = counter.bits.max(width_of(u64::from(x.value)));
+                let _ = writeln!(
+                    out,
+                    "    wire {} = ({} {op} {w}'d{}); // {}",
+                    n.compares[a], n.counters[c], x.value, x.text
+                );
+            }
+        }
+    }
     out.push_str("\n    // Flip-flop input equations.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
         if let Role::FlipFlop { .. } = f.role {
@@ -568,6 +640,21 @@ pub fn generate_module(
             }
         }
     }
+    if !spec.controls.is_empty() {
+        out.push_str("\n    // Counter control equations (the step applies the effect).\n");
+        for (f, w) in design.functions.iter().zip(&n.wires) {
+            if let Role::CounterControl(j) = f.role {
+                let c = &spec.counters[spec.controls[j].counter];
+                let _ = writeln!(
+                    out,
+                    "    wire {w} = {}; // {} {}",
+                    expression(design, &n, f.vars.len(), &f.cover),
+                    c.name,
+                    spec.controls[j].effect.text(c.max)
+                );
+            }
+        }
+    }
     out.push_str("\n    always @(posedge clk) begin\n        if (rst) begin\n");
     let _ = writeln!(
         out,
@@ -578,6 +665,9 @@ pub fn generate_module(
     );
     for (t, timer) in spec.timers.iter().enumerate() {
         let _ = writeln!(out, "            {} <= {}'d0;", n.timers[t], timer.bits);
+    }
+    for (c, counter) in spec.counters.iter().enumerate() {
+        let _ = writeln!(out, "            {} <= {}'d0;", n.counters[c], counter.bits);
     }
     out.push_str("        end else begin\n");
     for bit in (0..k).rev() {
@@ -613,6 +703,42 @@ pub fn generate_module(
             n.tb, timer.max
         );
     }
+    for (c, counter) in spec.counters.iter().enumerate() {
+        let r = &n.counters[c];
+        let w = counter.bits;
+        for (x, &j) in counter.controls.iter().enumerate() {
+            let wire = design
+                .functions
+                .iter()
+                .position(|f| f.role == Role::CounterControl(j))
+                .map_or("1'b0", |i| n.wires[i].as_str());
+            let value = match spec.controls[j].effect {
+                CounterEffect::Set(k) => format!("{w}'d{k}"),
+                CounterEffect::Shift { add, lo, hi } => {
+                    let (a, max) = (i64::from(add), i64::from(counter.max));
+                    let (lo, hi) = (i64::from(lo), i64::from(hi));
+                    let mut e = if a < 0 {
+                        format!("{r} - {w}'d{}", -a)
+                    } else {
+                        format!("{r} + {w}'d{a}")
+                    };
+                    // Clamp where the sum leaves `lo..=hi` for some value of the counter.
+                    if hi < max + a {
+                        e = format!("({r} > {w}'d{}) ? {w}'d{hi} : {e}", hi - a);
+                    }
+                    if lo > a {
+                        e = format!("({r} < {w}'d{}) ? {w}'d{lo} : {e}", lo - a);
+                    }
+                    e
+                }
+            };
+            let _ = writeln!(
+                out,
+                "            {}if ({wire})\n                {r} <= {value};",
+                if x == 0 { "" } else { "else " }
+            );
+        }
+    }
     out.push_str("        end\n    end\n");
     out.push_str("\n    // Outputs (Moore part of the current state, Mealy part of the rule taken)\n    // and action pulses.\n");
     for (f, w) in design.functions.iter().zip(&n.wires) {
@@ -631,10 +757,11 @@ pub fn generate_module(
 /// A self-checking testbench driving `steps` cycle by cycle: before each clock edge it
 /// compares `state`, every output and every action pulse with what the interpreter
 /// ([`Machine::step_config`], from the start configuration) computed for that step
-/// (embedded as constants), and the register of every timer whose scope is active
+/// (embedded as constants), the register of every timer whose scope is active
 /// with the interpreter's timer (read through the hierarchical name `dut.timer_..`;
-/// the value of an inactive timer does not matter and is not checked), and after the
-/// last step the final state. It prints `PASS` and calls `$finish` (exit status 0), or
+/// the value of an inactive timer does not matter and is not checked) and every
+/// counter register with the interpreter's counter, and after the last step the final
+/// state and counters. It prints `PASS` and calls `$finish` (exit status 0), or
 /// prints the first mismatch as `MISMATCH cycle N signal S expected E got G` and calls
 /// `$fatal(1, ..)`, which ends the simulation with a non-zero exit status (Icarus
 /// Verilog's `vvp` exits with 1; `$fatal` is a system task of IEEE 1800 that Icarus
@@ -733,6 +860,17 @@ pub fn generate_testbench(
             timer.bits - 1
         );
     }
+    for (c, counter) in spec.counters.iter().enumerate() {
+        let r = &n.counters[c];
+        let _ = writeln!(
+            out,
+            "    task check_{r};\n        input integer cycle;\n        input [{}:0] exp;\n        \
+             begin\n            if (dut.{r} !== exp) begin\n                \
+             $display(\"MISMATCH cycle %0d signal {r} expected %0d got %0d\", cycle, exp, dut.{r});\n                \
+             $fatal(1, \"testbench mismatch\");\n            end\n        end\n    endtask\n",
+            counter.bits - 1
+        );
+    }
     out.push_str("    task tick;\n        begin\n            #4 clk = 1'b1;\n            #5 clk = 1'b0;\n        end\n    endtask\n\n");
 
     out.push_str("    initial begin\n");
@@ -761,6 +899,7 @@ pub fn generate_testbench(
                 cycle += 1;
                 let state = config.state;
                 let timers_before = config.timers.clone();
+                let counters_before = config.counters.clone();
                 let r = m.step_config(&mut config, EventId::from_index(*event), inputs);
                 let from = design.encoding.code_string(state.index());
                 let mut expect = String::new();
@@ -794,6 +933,13 @@ pub fn generate_testbench(
                         );
                     }
                 }
+                for (c, counter) in spec.counters.iter().enumerate() {
+                    let _ = write!(
+                        line,
+                        "check_{}({cycle}, {}'d{}); ",
+                        n.counters[c], counter.bits, counters_before[c]
+                    );
+                }
                 if n_out > 0 {
                     let _ = write!(
                         line,
@@ -806,9 +952,20 @@ pub fn generate_testbench(
             }
         }
     }
+    let mut last = String::new();
+    for (c, counter) in spec.counters.iter().enumerate() {
+        let _ = write!(
+            last,
+            " check_{}({}, {}'d{});",
+            n.counters[c],
+            cycle + 1,
+            counter.bits,
+            config.counters[c]
+        );
+    }
     let _ = writeln!(
         out,
-        "        #1; check_state({}, {k}'b{});\n        $display(\"PASS\");\n        $finish;\n    end\nendmodule",
+        "        #1; check_state({}, {k}'b{});{last}\n        $display(\"PASS\");\n        $finish;\n    end\nendmodule",
         cycle + 1,
         code_string(design.encoding.codes[config.state.index()], k)
     );

@@ -84,6 +84,43 @@ pub struct TimerEntry {
     pub clear: String,
 }
 
+/// One counter register of the datapath.
+#[derive(Debug, Serialize)]
+pub struct CounterEntry {
+    /// The counter's name in the spec.
+    pub name: String,
+    /// The register's name in the Verilog module.
+    pub register: String,
+    /// Its width in bits (the narrowest that holds `max`).
+    pub bits: usize,
+    /// Its largest value.
+    pub max: u16,
+    /// Its comparison variables (variables of the equations, listed in `inputs`).
+    pub compares: Vec<CompareEntry>,
+    /// Its control functions (in `functions`): each high in a step that applies its
+    /// effect.
+    pub controls: Vec<ControlEntry>,
+}
+
+/// A comparison variable: a counter compared with a constant.
+#[derive(Debug, Serialize)]
+pub struct CompareEntry {
+    /// The variable's name.
+    pub name: String,
+    /// The comparison as written in the spec (`strikes < 2`).
+    pub text: String,
+}
+
+/// A counter control function.
+#[derive(Debug, Serialize)]
+pub struct ControlEntry {
+    /// The function's name.
+    pub name: String,
+    /// The effect: `+= 1`, `-= 1`, `= 0`, or `+= k within lo..=hi` for a composite
+    /// effect bounded inside `0..=max`.
+    pub effect: String,
+}
+
 /// The cost summary of DESIGN.md.
 #[derive(Debug, Serialize)]
 pub struct CostEntry {
@@ -135,7 +172,8 @@ pub struct LogicReport<'a> {
     pub encoding: super::Codes,
     /// State bits.
     pub state_bits: usize,
-    /// Pin variables: event bus bits, inputs, then the timers' due variables.
+    /// Pin variables: event bus bits, inputs, the timers' due variables, then the
+    /// counters' comparison variables.
     pub inputs: Vec<String>,
     /// The functions.
     pub functions: Vec<FunctionEntry>,
@@ -145,6 +183,9 @@ pub struct LogicReport<'a> {
     /// documented keys keep their order).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub timers: Vec<TimerEntry>,
+    /// The counter registers (left out without counters; after `timers`).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub counters: Vec<CounterEntry>,
     /// The machine.
     pub machine: String,
     /// The encoding's kind.
@@ -254,6 +295,32 @@ impl<'a> LogicReport<'a> {
                         .map(|&j| design.dues[j].name.clone())
                         .collect(),
                     clear: t.clear.clone(),
+                })
+                .collect(),
+            counters: design
+                .counters
+                .iter()
+                .map(|c| CounterEntry {
+                    name: c.name.clone(),
+                    register: c.register.clone(),
+                    bits: c.bits,
+                    max: c.max,
+                    compares: c
+                        .compares
+                        .iter()
+                        .map(|&a| CompareEntry {
+                            name: design.compares[a].name.clone(),
+                            text: design.compares[a].text.clone(),
+                        })
+                        .collect(),
+                    controls: c
+                        .controls
+                        .iter()
+                        .map(|&j| ControlEntry {
+                            name: design.controls[j].name.clone(),
+                            effect: design.controls[j].effect.text(c.max),
+                        })
+                        .collect(),
                 })
                 .collect(),
             functions,
@@ -376,6 +443,41 @@ impl<'a> LogicReport<'a> {
                     ))
                     .collect::<Vec<_>>()
                     .join(", ")
+            ));
+        }
+        for c in &d.counters {
+            let compares: Vec<String> = c
+                .compares
+                .iter()
+                .map(|&a| format!("{} ({})", d.compares[a].name, d.compares[a].text))
+                .collect();
+            let controls: Vec<String> = c
+                .controls
+                .iter()
+                .map(|&j| {
+                    format!(
+                        "{} ({})",
+                        d.controls[j].name,
+                        d.controls[j].effect.text(c.max)
+                    )
+                })
+                .collect();
+            out.push(format!(
+                "counter {}: register {} ({}), 0..={}, saturating; compares: {}; controls: {}",
+                c.name,
+                c.register,
+                plural(c.bits, "bit"),
+                c.max,
+                if compares.is_empty() {
+                    "none".to_string()
+                } else {
+                    compares.join(", ")
+                },
+                if controls.is_empty() {
+                    "none".to_string()
+                } else {
+                    controls.join(", ")
+                }
             ));
         }
         out.push(String::new());

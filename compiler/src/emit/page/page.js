@@ -53,6 +53,7 @@
   let results = [];
   let state = SIM.start;
   let timers = SIM.timers.map(() => 0);
+  let counters = SIM.counters.map(() => 0);
   let pending = []; // replay steps not yet taken
   let replayTotal = 0;
 
@@ -63,11 +64,12 @@
   };
 
   function doStep(event, inputs, replayed) {
-    const r = SIM.step(state, event, (i) => inputs[i], timers);
+    const r = SIM.step(state, event, (i) => inputs[i], timers, counters);
     history.push({ event, inputs: inputs.slice(), replayed: !!replayed });
     results.push(r);
     state = r.to;
     timers = r.timers;
+    counters = r.counters;
   }
 
   function back() {
@@ -82,6 +84,7 @@
     results = [];
     state = SIM.start;
     timers = SIM.timers.map(() => 0);
+    counters = SIM.counters.map(() => 0);
   }
 
   // ---- controls -----------------------------------------------------------------
@@ -182,6 +185,17 @@
       const next = SIM.nextTimeout(state, timers);
       items.push(text("li", next === null ? "no timeout pending" : `next timeout in ${next} ${SIM.events[SIM.timeBase]}`));
       $("timers").replaceChildren(...items);
+    }
+    // Counters: each one's value and range (they keep their values in every state).
+    if (SIM.counters.length > 0) {
+      $("counters-heading").hidden = false;
+      $("counters").hidden = false;
+      $("counters").replaceChildren(...SIM.counters.map((c, k) => {
+        const li = text("li", `${c.name}: ${counters[k]} of ${c.max}`);
+        li.dataset.counter = c.name;
+        li.dataset.value = String(counters[k]);
+        return li;
+      }));
     }
     const tr = $("trace");
     tr.replaceChildren(...results.map((r, n) => {
