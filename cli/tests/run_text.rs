@@ -24,7 +24,7 @@ fn detent(args: &[&str], stdin: &str) -> Output {
 
 #[test]
 fn text_lines_are_exact() {
-    let trace = "Digit\nEnter attempts_left=1\nDigit\nEnter code_matches=1\n";
+    let trace = "Digit\nEnter\nDigit\nEnter code_matches=1\n";
     let out = detent(
         &[
             "run",
@@ -44,10 +44,10 @@ fn text_lines_are_exact() {
     assert_eq!(
         String::from_utf8(out.stdout).unwrap(),
         "step 0: start in Locked; outputs: none\n\
-         step 1: Digit (no inputs) Locked -> Entering; outputs: keypad_lit; actions: buffer_digit\n\
-         step 2: Enter (attempts_left=1) Entering -> Locked; outputs: none; actions: clear_buffer, count_failure, beep_error\n\
-         step 3: Digit (no inputs) Locked -> Entering; outputs: keypad_lit; actions: buffer_digit\n\
-         step 4: Enter (code_matches=1) Entering -> Unlocked; outputs: bolt_released; actions: clear_buffer, reset_failures, release_bolt\n"
+         step 1: Digit (no inputs) Locked -> Entering; outputs: keypad_lit; actions: buffer_digit; counters: strikes = 0\n\
+         step 2: Enter (no inputs) Entering -> Locked; outputs: none; actions: clear_buffer, beep_error; counters: strikes = 1\n\
+         step 3: Digit (no inputs) Locked -> Entering; outputs: keypad_lit; actions: buffer_digit; counters: strikes = 1\n\
+         step 4: Enter (code_matches=1) Entering -> Unlocked; outputs: bolt_released; actions: clear_buffer, release_bolt; counters: strikes = 0\n"
     );
 }
 

@@ -135,16 +135,14 @@ mod locker_table {}
 #[detent::machine_file(file = "../examples/locker.detent", dispatch = "match")]
 mod locker_match {}
 form!(locker_table,
-    inputs: [code_matches = 0, attempts_left = 1, entry_timeout = 2, lockout_over = 3,
-             door_closed = 4, relock_due = 5],
-    actions: [buffer_digit = 0, clear_buffer = 1, count_failure = 2, reset_failures = 3,
-              beep_error = 4, release_bolt = 5, engage_bolt = 6, start_lockout_timer = 7],
+    inputs: [code_matches = 0, door_closed = 1],
+    actions: [buffer_digit = 0, clear_buffer = 1, beep_error = 2, release_bolt = 3,
+              engage_bolt = 4],
     outputs: [bolt_released, keypad_lit, lockout_lamp]);
 form!(locker_match,
-    inputs: [code_matches = 0, attempts_left = 1, entry_timeout = 2, lockout_over = 3,
-             door_closed = 4, relock_due = 5],
-    actions: [buffer_digit = 0, clear_buffer = 1, count_failure = 2, reset_failures = 3,
-              beep_error = 4, release_bolt = 5, engage_bolt = 6, start_lockout_timer = 7],
+    inputs: [code_matches = 0, door_closed = 1],
+    actions: [buffer_digit = 0, clear_buffer = 1, beep_error = 2, release_bolt = 3,
+              engage_bolt = 4],
     outputs: [bolt_released, keypad_lit, lockout_lamp]);
 
 #[detent::machine_file(file = "specs/sampled_guards.detent", dispatch = "table")]

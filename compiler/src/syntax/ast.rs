@@ -411,6 +411,9 @@ pub struct GroupAst {
 }
 
 /// An item in a state or group body.
+// A rule is much larger than an enter/leave list; the tree is built once per parse
+// and read in place, so boxing every rule would cost allocations for nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Clone, Debug)]
 pub enum Body {
     /// `enter do a, b;` (actions and counter operations, in order)
