@@ -28,7 +28,7 @@ pub use layout::{layout, EdgeGeometry, Layout, PathSeg, Point, Rect};
 
 use layout::{
     DETAIL_GAP, HEADER_FONT, NAME_FONT, NAME_LH, NODE_PAD_Y, START_R, TEXT_FONT, TEXT_LH,
-    TITLE_FONT,
+    TITLE_FONT, WRAP_INDENT,
 };
 use std::fmt::Write as _;
 
@@ -212,7 +212,12 @@ fn write_label(svg: &mut String, e: &EdgeGeometry) {
             continue;
         }
         let _ = write!(svg, "<text {attrs}>");
-        for piece in line.split('\n') {
+        for (i, piece) in line.split('\n').enumerate() {
+            let x = if i == 0 {
+                x.clone()
+            } else {
+                num(lb.x + 1.0 + WRAP_INDENT)
+            };
             let _ = write!(
                 svg,
                 r#"<tspan x="{x}" y="{}">{}</tspan>"#,

@@ -471,12 +471,20 @@ fn label_lines(label: &str) -> impl Iterator<Item = String> + '_ {
         .map(str::to_string)
 }
 
-/// The widest drawn line of `lines` (a wrapped label counts by its pieces).
+/// How far the second and later pieces of a wrapped label are indented, in px, so that
+/// a continuation reads apart from the next rule's line.
+pub(crate) const WRAP_INDENT: f64 = 2.0 * TEXT_FONT * 0.61;
+
+/// The widest drawn line of `lines` (a wrapped label counts by its pieces, the later
+/// ones with their indent).
 fn max_width(lines: &[String], font: f64) -> f64 {
     lines
         .iter()
-        .flat_map(|l| l.split('\n'))
-        .map(|l| text_width(l, font))
+        .flat_map(|l| {
+            l.split('\n')
+                .enumerate()
+                .map(|(i, p)| text_width(p, font) + if i > 0 { WRAP_INDENT } else { 0.0 })
+        })
         .fold(0.0, f64::max)
 }
 
