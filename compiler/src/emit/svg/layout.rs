@@ -50,9 +50,14 @@
 //! drawing of least area (the first on a tie). Free placement straightens edges best but
 //! lets a drawing drift into a diagonal (a cluster top left, the states it leads to
 //! bottom right); between walls the same median rounds straighten edges inside the
-//! narrowest width. Measured against Graphviz (BENCHMARKS.md, "Diagram size") the walls
-//! took the random median from 0.84x to 0.68x of dot's area and the worst machine from
-//! 2.41x to 1.56x.
+//! narrowest width. When some label line is longer than [`WRAP_CHARS`] and has a place
+//! to break ([`wrap_label`]: before the guard, before ` / `, after `; `), the six run
+//! again with long lines broken into pieces drawn one under the other, so twelve
+//! candidates: side by side on one label rank, long labels otherwise make a dense
+//! machine as wide as their sum. Measured against Graphviz (BENCHMARKS.md, "Diagram
+//! size") the walls took the random median from 0.84x to 0.68x of dot's area and the
+//! worst machine from 2.41x to 1.56x; the wrapped candidates took them to 0.63x and
+//! 1.47x (251 of 287 drawings keep a wrapped candidate).
 //!
 //! Text is measured as `characters * font size * 0.61`, which holds for the monospace
 //! font the SVG asks for (DejaVu Sans Mono advances 0.602 em). Output depends only on
