@@ -611,10 +611,24 @@ fn random_machines_keep_the_layout_invariants() {
         if let Err(msg) = check_geometry(&d, &lay) {
             panic!("seed {seed}: {msg}");
         }
+        // A wrapped label's pieces, joined with a space, are a rule's line of the
+        // diagram, and no piece is empty.
+        let lines: Vec<&str> = d.edges.iter().flat_map(|e| e.label.split('\n')).collect();
+        for l in lay.edges.iter().flat_map(|e| &e.labels) {
+            assert!(
+                lines.contains(&l.replace('\n', " ").as_str()),
+                "seed {seed}: {l:?} is no label line"
+            );
+            assert!(
+                l.split('\n').all(|p| !p.trim().is_empty()),
+                "seed {seed}: {l:?}"
+            );
+        }
         for e in &lay.edges {
             assert!(
                 e.labels
                     .iter()
+                    .flat_map(|l| l.split('\n'))
                     .all(|l| l.trim() != "_" && !l.starts_with("_ ") && !l.contains("| _")),
                 "seed {seed}: a bare `_` label: {:?}",
                 e.labels
