@@ -1,11 +1,10 @@
 //! The size of detent's own SVG drawing against Graphviz's `dot -Tsvg` of detent's DOT
 //! output of the same machine (the anchor): on every example and on random machines of
 //! 5 to 30 states, the SVG's area (width x height of the `<svg>` element) is compared
-//! with dot's. The goal is 1.5x: every example meets it; of the random machines (seeds
-//! 0..[`RANDOM`]) at most [`OVER_GOAL`] may pass it (two of 287 do, 1.52x and 1.56x), and
-//! none may pass [`MAX_RANDOM`]; the median is held to 1.0x. Graphviz 2.43 cannot lay
-//! out some machines ("trouble in init_rank", a dot fault with clusters); they are
-//! counted and left out.
+//! with dot's. The goal is 1.5x: every example and every random machine (seeds
+//! 0..[`RANDOM`]) meets it (the worst of 287 is 1.46x), and the median of the random
+//! machines is held to 1.0x. Graphviz 2.43 cannot lay out some machines ("trouble in
+//! init_rank", a dot fault with clusters); they are counted and left out.
 //!
 //! Units: Graphviz writes its `<svg>` size in points (`width="432pt"`), detent in CSS
 //! pixels (a bare number); a browser shows 1pt as 4/3 px, so dot's figures are converted
@@ -22,13 +21,9 @@ use std::process::{Command, Stdio};
 
 /// The bound of the brief: our area at most this many times dot's.
 const MAX_RATIO: f64 = 1.5;
-/// The bound every random machine is held to.
-const MAX_RANDOM: f64 = 1.6;
-/// At most this many random machines may pass [`MAX_RATIO`].
-const OVER_GOAL: usize = 3;
-/// Random machines measured (seeds 0..RANDOM).
 /// The median the random machines are held to.
 const MAX_MEDIAN: f64 = 1.0;
+/// Random machines measured (seeds 0..RANDOM).
 const RANDOM: u64 = 300;
 
 fn machine(text: &str) -> Machine {
@@ -182,7 +177,7 @@ fn svg_area_against_graphviz_on_random_machines() {
         }
         let l = line(&format!("random seed {seed}"), m.states.len(), f);
         println!("{l}");
-        if f.4 > MAX_RANDOM {
+        if f.4 > MAX_RATIO {
             bad.push(l);
         }
         ratios.push(f.4);
@@ -202,13 +197,8 @@ fn svg_area_against_graphviz_on_random_machines() {
     );
     assert!(
         bad.is_empty(),
-        "area over {MAX_RANDOM}x dot's:\n{}",
+        "area over {MAX_RATIO}x dot's:\n{}",
         bad.join("\n")
-    );
-    let over = ratios.iter().filter(|&&r| r > MAX_RATIO).count();
-    assert!(
-        over <= OVER_GOAL,
-        "{over} machines over {MAX_RATIO}x dot's area"
     );
     assert!(
         ratios[ratios.len() / 2] <= MAX_MEDIAN,

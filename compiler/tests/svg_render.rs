@@ -203,9 +203,22 @@ fn texts(svg: &str) -> Vec<String> {
         Err(e) => panic!("SVG is not well-formed XML: {e}\n{svg}"),
     };
     assert_eq!(doc.root_element().tag_name().name(), "svg");
+    // A wrapped label is one `<text>` of `<tspan>` pieces: joined with a space they
+    // give the label line back.
     doc.descendants()
         .filter(|n| n.is_element() && n.tag_name().name() == "text")
-        .filter_map(|n| n.text().map(str::to_string))
+        .filter_map(|n| {
+            let spans: Vec<&str> = n
+                .children()
+                .filter(|c| c.has_tag_name("tspan"))
+                .filter_map(|c| c.text())
+                .collect();
+            if spans.is_empty() {
+                n.text().map(str::to_string)
+            } else {
+                Some(spans.join(" "))
+            }
+        })
         .collect()
 }
 
@@ -436,6 +449,62 @@ fn parallel_edges_merge_into_stacked_labels() {
     assert_eq!(lay.edges.len(), 12);
 }
 
+/// A state with a dozen successors, each edge carrying a long label: side by side on one
+/// label rank the labels make the drawing as wide as their sum, so the layout breaks them
+/// (before the guard, before ` / `, after `; `) and keeps the smaller drawing. Every
+/// piece is one line of one `<text>`; joined with a space the pieces give the label back.
+#[test]
+fn long_labels_of_a_wide_rank_are_wrapped() {
+    let n = 12;
+    let mut nodes = vec![node("Hub", &[], None, false)];
+    let mut edges = Vec::new();
+    let mut labels = Vec::new();
+    for i in 0..n {
+        nodes.push(node(&format!("S{i}"), &[], None, false));
+        let label = format!(
+            "Ev{i} | Ev{} [in0 && !in1] / out0, out1; do act0, act1",
+            i + 1
+        );
+        edges.push(edge(0, i + 1, &label));
+        labels.push(label);
+    }
+    let d = Diagram {
+        title: "Fan".into(),
+        nodes,
+        clusters: vec![],
+        edges,
+        start: Some(0),
+    };
+    let lay = layout(&d);
+    check_geometry(&d, &lay).unwrap_or_else(|m| panic!("{m}"));
+    let wrapped: Vec<&String> = lay
+        .edges
+        .iter()
+        .flat_map(|e| &e.labels)
+        .filter(|l| l.contains('\n'))
+        .collect();
+    assert_eq!(
+        wrapped.len(),
+        n,
+        "every long label wrapped: {:?}",
+        lay.edges
+    );
+    for l in &wrapped {
+        assert!(labels.contains(&l.replace('\n', " ")), "{l:?} reads back");
+        assert!(
+            l.split('\n').all(|p| p.chars().count() <= 24),
+            "{l:?} pieces at most 24 characters"
+        );
+    }
+    // One line of 50 characters is about 460 px; twelve side by side would be over
+    // 5,500 px wide.
+    assert!(lay.width < 4000.0, "width {}", lay.width);
+    let found = texts(&render_svg(&d));
+    for l in &labels {
+        assert!(found.contains(l), "label {l} is one text element");
+    }
+}
+
 #[test]
 fn rendering_is_deterministic() {
     for (_, d) in samples() {
@@ -531,7 +600,8 @@ fn random_machines_keep_the_layout_invariants() {
         states: (5, 30),
         ..GenConfig::default()
     };
-    for seed in 0..60 {
+    // 0..60, and the two dense machines whose drawings wrap labels (draw_size).
+    for seed in (0..60).chain([107, 257]) {
         let text = random_spec(seed, &cfg);
         let file = detent_compiler::syntax::parse_source(&text).expect("parses");
         let (ms, errors) = detent_compiler::model::resolve_file(&file);
@@ -541,10 +611,24 @@ fn random_machines_keep_the_layout_invariants() {
         if let Err(msg) = check_geometry(&d, &lay) {
             panic!("seed {seed}: {msg}");
         }
+        // A wrapped label's pieces, joined with a space, are a rule's line of the
+        // diagram, and no piece is empty.
+        let lines: Vec<&str> = d.edges.iter().flat_map(|e| e.label.split('\n')).collect();
+        for l in lay.edges.iter().flat_map(|e| &e.labels) {
+            assert!(
+                lines.contains(&l.replace('\n', " ").as_str()),
+                "seed {seed}: {l:?} is no label line"
+            );
+            assert!(
+                l.split('\n').all(|p| !p.trim().is_empty()),
+                "seed {seed}: {l:?}"
+            );
+        }
         for e in &lay.edges {
             assert!(
                 e.labels
                     .iter()
+                    .flat_map(|l| l.split('\n'))
                     .all(|l| l.trim() != "_" && !l.starts_with("_ ") && !l.contains("| _")),
                 "seed {seed}: a bare `_` label: {:?}",
                 e.labels

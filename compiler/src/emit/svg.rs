@@ -28,7 +28,7 @@ pub use layout::{layout, EdgeGeometry, Layout, PathSeg, Point, Rect};
 
 use layout::{
     DETAIL_GAP, HEADER_FONT, NAME_FONT, NAME_LH, NODE_PAD_Y, START_R, TEXT_FONT, TEXT_LH,
-    TITLE_FONT,
+    TITLE_FONT, WRAP_INDENT,
 };
 use std::fmt::Write as _;
 
@@ -189,17 +189,44 @@ fn edge_group(svg: &mut String, e: &EdgeGeometry) {
     );
 }
 
+/// One `<text>` per label line; a wrapped line (pieces separated by `\n`) is one
+/// `<text>` whose pieces are `<tspan>`s one under the other, so that the line stays
+/// one element.
 fn write_label(svg: &mut String, e: &EdgeGeometry) {
     let Some(lb) = e.label_box else { return };
-    for (i, line) in e.labels.iter().enumerate() {
-        let _ = writeln!(
-            svg,
-            r##"<text x="{}" y="{}" font-size="{}" fill="#1a202c" stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke">{}</text>"##,
-            num(lb.x + 1.0),
-            num(baseline(lb.y, TEXT_LH, TEXT_FONT, i)),
-            num(TEXT_FONT),
-            escape(line)
+    let x = num(lb.x + 1.0);
+    let mut row = 0;
+    for line in &e.labels {
+        let attrs = format!(
+            r##"font-size="{}" fill="#1a202c" stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke""##,
+            num(TEXT_FONT)
         );
+        if !line.contains('\n') {
+            let _ = writeln!(
+                svg,
+                r#"<text x="{x}" y="{}" {attrs}>{}</text>"#,
+                num(baseline(lb.y, TEXT_LH, TEXT_FONT, row)),
+                escape(line)
+            );
+            row += 1;
+            continue;
+        }
+        let _ = write!(svg, "<text {attrs}>");
+        for (i, piece) in line.split('\n').enumerate() {
+            let x = if i == 0 {
+                x.clone()
+            } else {
+                num(lb.x + 1.0 + WRAP_INDENT)
+            };
+            let _ = write!(
+                svg,
+                r#"<tspan x="{x}" y="{}">{}</tspan>"#,
+                num(baseline(lb.y, TEXT_LH, TEXT_FONT, row)),
+                escape(piece)
+            );
+            row += 1;
+        }
+        let _ = writeln!(svg, "</text>");
     }
 }
 

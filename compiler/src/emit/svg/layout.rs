@@ -50,9 +50,14 @@
 //! drawing of least area (the first on a tie). Free placement straightens edges best but
 //! lets a drawing drift into a diagonal (a cluster top left, the states it leads to
 //! bottom right); between walls the same median rounds straighten edges inside the
-//! narrowest width. Measured against Graphviz (BENCHMARKS.md, "Diagram size") the walls
-//! took the random median from 0.84x to 0.68x of dot's area and the worst machine from
-//! 2.41x to 1.56x.
+//! narrowest width. When some label line is longer than [`WRAP_CHARS`] and has a place
+//! to break ([`wrap_label`]: before the guard, before ` / `, after `; `), the six run
+//! again with long lines broken into pieces drawn one under the other, so twelve
+//! candidates: side by side on one label rank, long labels otherwise make a dense
+//! machine as wide as their sum. Measured against Graphviz (BENCHMARKS.md, "Diagram
+//! size") the walls took the random median from 0.84x to 0.68x of dot's area and the
+//! worst machine from 2.41x to 1.56x; the wrapped candidates took them to 0.63x and
+//! 1.47x (251 of 287 drawings keep a wrapped candidate).
 //!
 //! Text is measured as `characters * font size * 0.61`, which holds for the monospace
 //! font the SVG asks for (DejaVu Sans Mono advances 0.602 em). Output depends only on
@@ -186,7 +191,9 @@ pub struct EdgeGeometry {
     pub sources: Vec<usize>,
     /// Target node index.
     pub to: usize,
-    /// Label lines, one per merged edge that had a label, in input order.
+    /// Label lines, one per merged edge that had a label, in input order. A long line
+    /// may be wrapped: its pieces are separated by `\n` and drawn one under the other
+    /// (joined with a space they give the line back).
     pub labels: Vec<String>,
     /// First point of the path.
     pub start: Point,
@@ -454,7 +461,7 @@ fn label_item_shape(labels: &[String]) -> (f64, f64, Kind, f64) {
     } else {
         (
             LABEL_DX + max_width(labels, TEXT_FONT) + 2.0,
-            labels.len() as f64 * TEXT_LH,
+            line_count(labels) as f64 * TEXT_LH,
             Kind::Label,
             8.0,
         )
@@ -469,11 +476,87 @@ fn label_lines(label: &str) -> impl Iterator<Item = String> + '_ {
         .map(str::to_string)
 }
 
+/// How far the second and later pieces of a wrapped label are indented, in px, so that
+/// a continuation reads apart from the next rule's line.
+pub(crate) const WRAP_INDENT: f64 = 2.0 * TEXT_FONT * 0.61;
+
+/// The widest drawn line of `lines` (a wrapped label counts by its pieces, the later
+/// ones with their indent).
 fn max_width(lines: &[String], font: f64) -> f64 {
     lines
         .iter()
-        .map(|l| text_width(l, font))
+        .flat_map(|l| {
+            l.split('\n')
+                .enumerate()
+                .map(|(i, p)| text_width(p, font) + if i > 0 { WRAP_INDENT } else { 0.0 })
+        })
         .fold(0.0, f64::max)
+}
+
+/// Drawn lines of `labels`: a wrapped label counts once per piece.
+fn line_count(labels: &[String]) -> usize {
+    labels.iter().map(|l| l.split('\n').count()).sum()
+}
+
+/// A label line longer than this many characters is broken when labels are wrapped.
+const WRAP_CHARS: usize = 24;
+
+/// `line` broken into pieces joined by `\n` when it is longer than [`WRAP_CHARS`]:
+/// before the guard (` [`), before the effects (` / `) and after each `; ` between
+/// outputs and actions, pieces packed greedily up to [`WRAP_CHARS`] (or the longest
+/// unbreakable piece). Joining the pieces with one space gives `line` back, so a reader
+/// (or a test) reads the same text. A line without such a place stays whole.
+fn wrap_label(line: &str) -> String {
+    if line.chars().count() <= WRAP_CHARS {
+        return line.to_string();
+    }
+    // Unbreakable pieces; a break replaces the single space between two of them.
+    let mut pieces: Vec<&str> = Vec::new();
+    let mut rest = line;
+    loop {
+        let cut = [" [", " / ", "; "]
+            .iter()
+            .filter_map(|sep| {
+                // ` [` and ` / ` break before the bracket or slash; `; ` after the `;`.
+                let at = rest.find(sep)?;
+                Some(if *sep == "; " { at + 1 } else { at })
+            })
+            .filter(|&at| at > 0)
+            .min();
+        match cut {
+            Some(at) => {
+                pieces.push(&rest[..at]);
+                rest = &rest[at + 1..];
+            }
+            None => {
+                pieces.push(rest);
+                break;
+            }
+        }
+    }
+    let limit = pieces
+        .iter()
+        .map(|p| p.chars().count())
+        .max()
+        .unwrap_or(0)
+        .max(WRAP_CHARS);
+    let mut out = String::new();
+    let mut len = 0;
+    for (i, p) in pieces.iter().enumerate() {
+        let n = p.chars().count();
+        if i > 0 {
+            if len + 1 + n <= limit {
+                out.push(' ');
+                len += 1;
+            } else {
+                out.push('\n');
+                len = 0;
+            }
+        }
+        out.push_str(p);
+        len += n;
+    }
+    out
 }
 
 /// Parents with an out-of-range index, or that lead round a cycle, become `None`.
@@ -506,8 +589,22 @@ pub fn layout(d: &Diagram) -> Layout {
     let mut best: Option<Layout> = None;
     let modes = [Layering::Bands, Layering::Beside, Layering::Deep];
     let bounds = [None, Some(1.0)];
-    for (mode, bound) in modes.into_iter().flat_map(|m| bounds.map(|b| (m, b))) {
-        let lay = layout_with(d, mode, bound);
+    // Wrapped labels are tried only when wrapping breaks some label.
+    let wraps: &[bool] = if d
+        .edges
+        .iter()
+        .any(|e| label_lines(&e.label).any(|l| wrap_label(&l).contains('\n')))
+    {
+        &[false, true]
+    } else {
+        &[false]
+    };
+    for (wrap, mode, bound) in wraps.iter().flat_map(|&w| {
+        modes
+            .into_iter()
+            .flat_map(move |m| bounds.map(move |b| (w, m, b)))
+    }) {
+        let lay = layout_with(d, mode, bound, wrap);
         if best
             .as_ref()
             .is_none_or(|b| lay.width * lay.height < b.width * b.height - 1e-6)
@@ -515,11 +612,12 @@ pub fn layout(d: &Diagram) -> Layout {
             best = Some(lay);
         }
     }
-    best.unwrap_or_else(|| layout_with(d, Layering::Bands, None))
+    best.unwrap_or_else(|| layout_with(d, Layering::Bands, None, false))
 }
 
-/// [`layout`] with one way of layering.
-fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
+/// [`layout`] with one way of layering and placing; `wrap` breaks long labels
+/// ([`wrap_label`]).
+fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>, wrap: bool) -> Layout {
     let n = d.nodes.len();
     let nc = d.clusters.len();
     let cparent = sanitize_parents(d);
@@ -588,7 +686,9 @@ fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
             });
             merged.len() - 1
         });
-        merged[id].labels.extend(label_lines(&e.label));
+        merged[id]
+            .labels
+            .extend(label_lines(&e.label).map(|l| if wrap { wrap_label(&l) } else { l }));
     }
     let mut loop_labels: Vec<Option<Vec<String>>> = vec![None; n];
     for m in &merged {
@@ -716,7 +816,7 @@ fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
             } else {
                 LOOP_LABEL_DX + max_width(labels, TEXT_FONT) + 4.0
             };
-            height = height.max(labels.len() as f64 * TEXT_LH + 4.0);
+            height = height.max(line_count(labels) as f64 * TEXT_LH + 4.0);
         }
         items.push(Item {
             kind: Kind::Node(i),
@@ -1253,7 +1353,7 @@ fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
             Some(m) => {
                 let lb = ch.label_item.map(|v| {
                     let it = &items[v];
-                    let h = merged[m].labels.len() as f64 * TEXT_LH;
+                    let h = line_count(&merged[m].labels) as f64 * TEXT_LH;
                     // A flat edge's label hangs from the bottom of its U; other labels hang
                     // from the top of their rank, so that U's can pass below them.
                     let top = if ch.flat {
@@ -1324,7 +1424,7 @@ fn layout_with(d: &Diagram, mode: Layering, bound: Option<f64>) -> Layout {
         let label_box = if mg.labels.is_empty() {
             None
         } else {
-            let h = mg.labels.len() as f64 * TEXT_LH;
+            let h = line_count(&mg.labels) as f64 * TEXT_LH;
             Some(Rect {
                 x: xr + LOOP_LABEL_DX,
                 y: cy - h / 2.0,
