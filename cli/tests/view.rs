@@ -59,7 +59,7 @@ fn the_written_page_is_self_contained() {
             "{example}: the diagram is inline"
         );
         assert!(
-            html.contains("function choose(state, event, inp, before)"),
+            html.contains("function choose(state, event, inp, before, cnt)"),
             "{example}: the simulator is inline"
         );
         assert_eq!(
