@@ -1032,6 +1032,13 @@ fn minimized_machines_behave_like_the_originals_on_every_trace() {
         let m = &case.machine;
         let min = minimize(m);
         let q = minimized_machine(m);
+        if detent_compiler::minimize::machine::has_group_timer(m) {
+            // A group timer is never minimized: the machine is generated as written
+            // (docs/language-decisions.md, "Minimizing machines with timers").
+            assert_eq!(q.states.len(), m.states.len(), "{}", case.label);
+            assert!(matches!(equiv(m, &q), Ok(None)), "{}", case.label);
+            continue;
+        }
         assert_eq!(q.states.len(), min.states_after(), "{}", case.label);
         for (s, c) in min.class_of.iter().enumerate() {
             if let Some(c) = c {
