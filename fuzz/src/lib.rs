@@ -50,7 +50,7 @@ pub const MAX_EVENTS: usize = 12;
 /// See [`MAX_STATES`].
 pub const MAX_INPUTS: usize = 8;
 /// Logic synthesis only when its functions have at most this many variables (state
-/// bits, event bits, inputs and timer due variables): two-level minimization is
+/// bits, event bits, inputs, timer due variables and counter comparisons): two-level minimization is
 /// exponential in them (a 12-state one-hot machine with 4 inputs and 4 events, 19
 /// variables, took 57 s), and the fuzz target is for breadth.
 pub const MAX_LOGIC_VARS: usize = 8;
@@ -295,7 +295,9 @@ fn logic(
     let Ok(encoding) = encoding else {
         return;
     };
-    if encoding.bits + spec.ev_bits + spec.inputs.len() + spec.dues.len() > MAX_LOGIC_VARS {
+    if encoding.bits + spec.ev_bits + spec.inputs.len() + spec.dues.len() + spec.compares.len()
+        > MAX_LOGIC_VARS
+    {
         return;
     }
     let ff = [FlipFlop::D, FlipFlop::T, FlipFlop::JK, FlipFlop::SR][usize::from(ff % 4)];
