@@ -62,11 +62,18 @@
 //! the variant of a configuration ([`crate::configs::variant_at`]); a choice's test is
 //! left out only when it takes everything left in every variant that reaches it.
 //!
-//! # Room for what comes next
+//! # Counters
 //!
-//! Operations are [`Op`]s rather than bare actions so that counter operations take
-//! their place in the same sequences, and a configuration is more than a state
-//! ([`crate::interp::Config`]) so that counters join the timers there.
+//! Operations are [`Op`]s: counter operations (`strikes += 1`) take their place in the
+//! same interned sequences as the actions, in the order of LANGUAGE.md "Action order".
+//! A guard that compares a counter reads it as it was at the start of the step, so
+//! which choice fires depends on the values of the comparisons its cell's rules read
+//! ([`Cell::atoms`]): like due timeouts, each combination of them is a [`Variant`]
+//! whose regions are exact and over the inputs only (the rule's guard with the
+//! comparisons fixed). A back end evaluates the comparisons in the tests in order, as
+//! written; analyses pick the variant of a configuration
+//! ([`crate::configs::variant_at`]), whose counters are part of it
+//! ([`crate::interp::Config`]).
 //!
 //! # Cost
 //!
@@ -716,7 +723,7 @@ fn named_events(m: &Machine, chain: &[Scope]) -> Vec<EventId> {
 ///
 /// 1. *Preempt*: the `preempt` rules naming the event in each group of the chain,
 ///    outermost group first (one [`Reached`] per group).
-/// 2. *Timeouts*: not in the language yet.
+/// 2. *Timeouts*: added for the time-base event by [`insert_timeouts`].
 /// 3. *Named*: the innermost scope with a (non-preempt) rule naming the event; only
 ///    its rules naming the event.
 /// 4. *Wildcard*: only when no scope names the event in step 3: the innermost scope
