@@ -178,7 +178,9 @@ pub struct Choice {
     /// fires): the guard with constants folded away; `None` when nothing needs testing.
     pub test: Option<Guard>,
     /// Exactly the valuations where this choice fires: its test minus every earlier
-    /// choice's region. Disjoint from the other regions of the cell.
+    /// choice's region. Disjoint from the other regions of the cell. In a cell with
+    /// timers or counter comparisons this is variant 0 (nothing due, every comparison
+    /// false); analyses of such machines read [`Cell::variants`] instead.
     pub region: Bdd,
     /// The state after the step (the current one for `stay`).
     pub target: StateId,
