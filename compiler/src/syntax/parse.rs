@@ -762,20 +762,7 @@ fn parse_counters(input: ParseStream) -> syn::Result<Vec<CounterDecl>> {
             )));
         }
         input.parse::<kw::to>()?;
-        if !input.peek(syn::LitInt) {
-            return Err(input.error("expected the counter's largest value (a whole number)"));
-        }
-        let lit: syn::LitInt = input.parse()?;
-        let max_span = lit.span();
-        if !lit.suffix().is_empty() {
-            return Err(syn::Error::new(
-                max_span,
-                "a counter bound is a plain whole number",
-            ));
-        }
-        let max: u64 = lit
-            .base10_parse()
-            .map_err(|_| syn::Error::new(max_span, "this bound does not fit in 64 bits"))?;
+        let (max, max_span) = parse_count(input, "the counter's largest value")?;
         items.push(CounterDecl {
             doc,
             ident,
@@ -797,17 +784,7 @@ fn parse_counters(input: ParseStream) -> syn::Result<Vec<CounterDecl>> {
 /// `duration | INT 'steps'`.
 fn parse_within(input: ParseStream) -> syn::Result<Within> {
     if input.peek(syn::LitInt) && input.peek2(kw::steps) {
-        let lit: syn::LitInt = input.parse()?;
-        let span = lit.span();
-        if !lit.suffix().is_empty() {
-            return Err(syn::Error::new(
-                span,
-                "a number of steps is a plain whole number",
-            ));
-        }
-        let n: u64 = lit
-            .base10_parse()
-            .map_err(|_| syn::Error::new(span, "this number does not fit in 64 bits"))?;
+        let (n, span) = parse_count(input, "a number of steps")?;
         input.parse::<kw::steps>()?;
         return Ok(Within::Steps(n, span));
     }
@@ -848,15 +825,7 @@ fn doc_lines(attrs: Vec<Attribute>) -> syn::Result<Vec<String>> {
 /// A `do` list: `op (',' op)* ','?` with `op := IDENT | IDENT ('+=' | '-=' | '=') INT`,
 /// stopping before `;` or `{`.
 fn parse_ops(input: ParseStream) -> syn::Result<Vec<OpAst>> {
-    let mut items = vec![parse_op(input)?];
-    while input.peek(Token![,]) && !is_one_of(&word2(input), &["do", "emit"]) {
-        input.parse::<Token![,]>()?;
-        if input.peek(Token![;]) || input.peek(syn::token::Brace) {
-            break;
-        }
-        items.push(parse_op(input)?);
-    }
-    Ok(items)
+    parse_list_of(input, parse_op)
 }
 
 fn parse_op(input: ParseStream) -> syn::Result<OpAst> {
@@ -911,33 +880,7 @@ fn expect_semi(input: ParseStream) -> syn::Result<()> {
 fn parse_doc_list(input: ParseStream, what: &str) -> syn::Result<Vec<DocIdent>> {
     let mut items = Vec::new();
     loop {
-        let attrs = input.call(Attribute::parse_outer)?;
-        let mut doc = Vec::new();
-        for attr in attrs {
-            let is_doc = attr.path().is_ident("doc");
-            let text = match (&attr.meta, is_doc) {
-                (
-                    syn::Meta::NameValue(syn::MetaNameValue {
-                        value:
-                            syn::Expr::Lit(syn::ExprLit {
-                                lit: syn::Lit::Str(s),
-                                ..
-                            }),
-                        ..
-                    }),
-                    true,
-                ) => s.value(),
-                _ => {
-                    return Err(syn::Error::new(
-                        attr.pound_token.span,
-                        "only doc comments may stand before a name in a list",
-                    ))
-                }
-            };
-            for line in text.split('\n') {
-                doc.push(line.strip_prefix(' ').unwrap_or(line).to_string());
-            }
-        }
+        let doc = doc_lines(input.call(Attribute::parse_outer)?)?;
         let ident = parse_name(input, what)?;
         items.push(DocIdent { doc, ident });
         if input.peek(Token![,]) {
@@ -954,13 +897,21 @@ fn parse_doc_list(input: ParseStream, what: &str) -> syn::Result<Vec<DocIdent>> 
 
 /// `IDENT (',' IDENT)* ','?`, stopping before `;`, `{`, or `, do`.
 fn parse_list(input: ParseStream, what: &str) -> syn::Result<Vec<Ident>> {
-    let mut items = vec![parse_name(input, what)?];
+    parse_list_of(input, |i| parse_name(i, what))
+}
+
+/// `item (',' item)* ','?`, stopping before `;`, `{`, or `, do` / `, emit`.
+fn parse_list_of<T>(
+    input: ParseStream,
+    item: impl Fn(ParseStream) -> syn::Result<T>,
+) -> syn::Result<Vec<T>> {
+    let mut items = vec![item(input)?];
     while input.peek(Token![,]) && !is_one_of(&word2(input), &["do", "emit"]) {
         input.parse::<Token![,]>()?;
         if input.peek(Token![;]) || input.peek(syn::token::Brace) {
             break;
         }
-        items.push(parse_name(input, what)?);
+        items.push(item(input)?);
     }
     Ok(items)
 }
