@@ -80,47 +80,10 @@ fn write_differential_machines() {
             ..gen::GenConfig::default()
         },
     ];
-    // Timeouts (issue 19): a time base with `after` rules in states and nested groups,
-    // guarded, to self and `stay`; event-driven and clocked.
-    let timed = [
-        gen::GenConfig {
-            timeouts: true,
-            ..gen::GenConfig::default()
-        },
-        gen::GenConfig {
-            events: 0,
-            timeouts: true,
-            ..gen::GenConfig::default()
-        },
-        gen::GenConfig {
-            states: (6, 12),
-            events: 4,
-            inputs: 3,
-            timeouts: true,
-            ..gen::GenConfig::default()
-        },
-    ];
-    // Counters (issue 20): comparisons in guards, operations in rules and in enter and
-    // leave lists; alone, clocked, and with timeouts.
-    let counted = [
-        gen::GenConfig {
-            counters: 2,
-            ..gen::GenConfig::default()
-        },
-        gen::GenConfig {
-            events: 0,
-            counters: 1,
-            ..gen::GenConfig::default()
-        },
-        gen::GenConfig {
-            states: (4, 10),
-            events: 4,
-            inputs: 3,
-            counters: 3,
-            timeouts: true,
-            ..gen::GenConfig::default()
-        },
-    ];
+    // Timeouts (issue 19) and counters (issue 20): the configurations all the
+    // differential suites share.
+    let timed = gen::timed_configs();
+    let counted = gen::counter_configs();
     let mut all = String::new();
     let mut index = String::from(
         "/// Every differential case: (name, spec, runners).\npub const CASES: &[Case] = &[\n",
@@ -149,12 +112,17 @@ fn write_differential_machines() {
         }
     }
     if let Some(n) = soak {
-        // The small configurations only (the big one takes minutes per machine to build).
-        let small = &configs[..3];
+        // The small configurations only (the big ones take minutes per machine to
+        // build), timed and counting ones among them.
+        let small: Vec<&gen::GenConfig> = configs[..3]
+            .iter()
+            .chain(timed[..2].iter())
+            .chain(counted[..2].iter())
+            .collect();
         let per = n.div_ceil(small.len() as u64);
         for (ci, cfg) in small.iter().enumerate() {
             for k in SEEDS..per.max(SEEDS) {
-                let seed = 0x50A4_0000 + k * 10 + ci as u64;
+                let seed = 0x50A4_0000 + k * 16 + ci as u64;
                 soak_specs.push((format!("soak{seed}"), gen::random_spec(seed, cfg)));
             }
         }

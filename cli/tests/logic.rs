@@ -1,6 +1,7 @@
 //! `detent logic`: the JSON shape of DESIGN.md, text equations, gate forms, and the
 //! Verilog files it writes (run under Icarus Verilog).
 
+use detent_tests::icarus::simulate_files;
 use std::path::PathBuf;
 use std::process::Command;
 
@@ -183,17 +184,8 @@ fn writes_verilog_that_passes_its_testbench_and_reports_bad_usage() {
     assert!(text.contains("module kiln ("));
     assert!(text.contains("not a certified component"));
     assert!(text.contains("IEC 61508"));
-    let exe = dir.join("kiln.vvp");
-    let c = Command::new("iverilog")
-        .args(["-g2005", "-o"])
-        .arg(&exe)
-        .arg(&v)
-        .arg(&tb)
-        .status()
-        .expect("iverilog is missing: run scripts/test.sh, which installs it");
-    assert!(c.success());
-    let sim = Command::new("vvp").arg("-n").arg(&exe).output().unwrap();
-    assert!(String::from_utf8_lossy(&sim.stdout).contains("PASS"));
+    let sim = simulate_files(&v, &tb, &dir.join("kiln.vvp")).unwrap();
+    assert!(sim.passed, "{}", sim.printed);
     let bad = detent()
         .arg("logic")
         .arg(example("kiln.detent"))
@@ -315,23 +307,8 @@ fn timers_go_through_every_path() {
         let module = std::fs::read_to_string(&v).unwrap();
         assert!(module.contains("reg [2:0] timer_Running;"), "{module}");
         assert!(module.contains("timer_Running <= 3'd0;"), "{module}");
-        let exe = dir.join("blink.vvp");
-        let c = Command::new("iverilog")
-            .args(["-g2005", "-Wall", "-o"])
-            .arg(&exe)
-            .arg(&v)
-            .arg(&tb)
-            .output()
-            .expect("iverilog is missing: run scripts/test.sh, which installs it");
-        assert!(
-            c.status.success() && !String::from_utf8_lossy(&c.stderr).contains("warning"),
-            "{}",
-            String::from_utf8_lossy(&c.stderr)
-        );
-        let sim = Command::new("vvp").arg("-n").arg(&exe).output().unwrap();
-        assert!(sim.status.success());
-        let printed = String::from_utf8_lossy(&sim.stdout);
-        assert!(printed.contains("PASS"), "{enc} {ff}: {printed}");
+        let sim = simulate_files(&v, &tb, &dir.join("blink.vvp")).unwrap();
+        assert!(sim.passed, "{enc} {ff}: {}", sim.printed);
         // The testbench drives time: some cycle checks a timer past 0.
         let tb_text = std::fs::read_to_string(&tb).unwrap();
         assert!(tb_text.contains("check_timer_On("), "{tb_text}");

@@ -14,111 +14,22 @@
 //! comparison off by one, an add that wraps instead of saturating) is caught, so the
 //! check can fail.
 
-use detent_compiler::driver::check_source;
 use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::auto::auto_assign_with;
-use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map, Role};
+use detent_compiler::logic::equations::{synthesize, LogicSpec, Map, Role};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::SearchOptions;
 use detent_compiler::logic::verilog::{
     generate_module, generate_testbench, testbench_steps, TbStep,
 };
-use detent_compiler::logic::{check_cover, check_cube_cover, CubeFunction, Function};
 use detent_compiler::model::{EventId, Machine};
 use detent_compiler::report::logic::LogicReport;
+use detent_tests::checked_machine as load;
 use detent_tests::gen::{random_spec, random_timed_trace, random_trace, GenConfig, Rng};
-use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn load(label: &str, text: &str) -> Machine {
-    let report = check_source(label, text);
-    let errors: Vec<String> = report
-        .diagnostics()
-        .filter(|d| d.is_error())
-        .map(|d| d.message.clone())
-        .collect();
-    assert!(errors.is_empty(), "{label}: {errors:?}\n{text}");
-    report
-        .machines
-        .into_iter()
-        .find_map(|m| m.machine)
-        .expect("a machine")
-}
-
-fn require(tool: &str) -> PathBuf {
-    let ok = Command::new(tool).arg("-V").output().is_ok();
-    assert!(
-        ok,
-        "`{tool}` (Icarus Verilog) is not installed or not on PATH; run scripts/test.sh, \
-         which installs the Debian package iverilog"
-    );
-    PathBuf::from(tool)
-}
-
-fn scratch(tag: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!(
-        "detent-logic-counters-{}-{tag}",
-        std::process::id()
-    ));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-/// Compiles and runs module + testbench; returns (stdout, exit success).
-fn simulate(dir: &Path, module: &str, tb: &str) -> (String, bool) {
-    let (v, t, exe) = (dir.join("m.v"), dir.join("m_tb.v"), dir.join("m.vvp"));
-    std::fs::write(&v, module).unwrap();
-    std::fs::write(&t, tb).unwrap();
-    let out = Command::new(require("iverilog"))
-        .args(["-g2005", "-Wall", "-o"])
-        .arg(&exe)
-        .arg(&v)
-        .arg(&t)
-        .output()
-        .expect("run iverilog");
-    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
-    assert!(
-        out.status.success() && !stderr.contains("warning"),
-        "iverilog:\n{stderr}\n--- module ---\n{module}"
-    );
-    let run = Command::new(require("vvp"))
-        .arg("-n")
-        .arg(&exe)
-        .output()
-        .expect("run vvp");
-    let printed = String::from_utf8_lossy(&run.stdout).to_string();
-    let passed = printed.lines().any(|l| l.trim() == "PASS");
-    assert_eq!(
-        passed,
-        run.status.success(),
-        "exit status and output disagree:\n{printed}"
-    );
-    (printed, passed)
-}
-
-/// Every cover against its on- and off-set, independently of `synthesize`'s own check.
-fn check_all_covers(d: &LogicDesign) {
-    for f in &d.functions {
-        match &f.minterms {
-            Some((on, dc)) => {
-                let func = Function {
-                    vars: f.vars.clone(),
-                    on: on.clone(),
-                    dc: dc.clone(),
-                };
-                check_cover(&func, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-            None => {
-                let cf = CubeFunction {
-                    vars: f.vars.clone(),
-                    on: f.on_cubes.clone(),
-                    dc: f.dc_cubes.clone(),
-                };
-                check_cube_cover(&cf, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-        }
-    }
-}
+use detent_tests::icarus::{
+    check_all_covers, port_and_simulate, port_choice, simulate, Simulation,
+};
+use detent_tests::scratch;
 
 fn configs() -> Vec<GenConfig> {
     let d = GenConfig {
@@ -189,7 +100,7 @@ fn counter_activity(m: &Machine, steps: &[TbStep]) -> (usize, usize) {
 
 #[test]
 fn random_counter_machines_simulate_like_the_interpreter() {
-    let dir = scratch("random");
+    let dir = scratch("logic-counters-random");
     let (mut machines, mut cycles, mut changed, mut counters, mut topped) = (0, 0, 0, 0, 0);
     let (mut compares, mut controls, mut timed) = (0, 0, 0);
     let mut covered = std::collections::BTreeSet::new();
@@ -199,20 +110,7 @@ fn random_counter_machines_simulate_like_the_interpreter() {
             let text = random_spec(seed, cfg);
             let m = load(&format!("counted_{seed}.detent"), &text);
             assert!(!m.counters.is_empty(), "seed {seed}: no counter\n{text}");
-            let spec = LogicSpec::from_machine(&m).unwrap();
-            let n = m.states.len();
-            let pick = machines;
-            let encoding = match pick % 3 {
-                0 => Encoding::binary(n),
-                1 => Encoding::gray(n),
-                _ => Encoding::one_hot(n).unwrap(),
-            };
-            let ff = FlipFlop::ALL[(pick / 3) % 4];
-            let d = synthesize(&spec, &encoding, ff, false)
-                .unwrap_or_else(|e| panic!("seed {seed}: {e}\n{text}"));
-            check_all_covers(&d);
-            assert_eq!(d.counters.len(), m.counters.len());
-            assert_eq!(d.compares.len(), m.atoms.len());
+            let (encoding, ff) = port_choice(m.states.len(), machines);
             let mut rng = Rng::new(seed ^ 0x5EED);
             let n_events = m.events.len().max(1);
             let trace = if m.has_timers() {
@@ -225,15 +123,16 @@ fn random_counter_machines_simulate_like_the_interpreter() {
                 .map(|(event, inputs)| TbStep::Step { event, inputs })
                 .collect();
             steps.insert(TRACE_LEN / 2, TbStep::Reset);
-            let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
-            let module = generate_module(&spec, &d, &names, "test").unwrap();
-            let tb = generate_testbench(&m, &spec, &d, &steps, "test").unwrap();
-            let (printed, passed) = simulate(&dir, &module, &tb);
+            let p = port_and_simulate(&m, &encoding, ff, &steps, &dir)
+                .unwrap_or_else(|e| panic!("seed {seed}: {e}\n{text}"));
+            let d = &p.design;
+            assert_eq!(d.counters.len(), m.counters.len());
+            assert_eq!(d.compares.len(), m.atoms.len());
             assert!(
-                passed,
-                "seed {seed} {:?} {ff:?}: simulation said:\n{printed}\n--- spec ---\n{text}\n\
-                 --- module ---\n{module}",
-                encoding.kind
+                p.simulation.passed,
+                "seed {seed} {:?} {ff:?}: simulation said:\n{}\n--- spec ---\n{text}\n\
+                 --- module ---\n{}",
+                encoding.kind, p.simulation.printed, p.module
             );
             machines += 1;
             cycles += steps.len() + 2;
@@ -393,12 +292,14 @@ fn every_logic_path_keeps_the_counters() {
     let steps = testbench_steps(&m);
     let (changed, topped) = counter_activity(&m, &steps);
     assert!(changed > 20 && topped == 1, "{changed} changes, {topped}");
-    let dir = scratch("auto");
+    let dir = scratch("logic-counters-auto");
     let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
     for design in [&auto, &d] {
         let module = generate_module(&spec, design, &names, "keypad.detent").unwrap();
         let tb = generate_testbench(&m, &spec, design, &steps, "keypad.detent").unwrap();
-        let (printed, passed) = simulate(&dir, &module, &tb);
+        let Simulation {
+            printed, passed, ..
+        } = simulate(&dir, &module, &tb).unwrap();
         assert!(passed, "{printed}\n{module}");
     }
     let _ = std::fs::remove_dir_all(&dir);
@@ -424,8 +325,10 @@ fn a_wrong_counter_datapath_is_caught() {
         });
     }
     let tb = generate_testbench(&m, &spec, &d, &steps, "keypad.detent").unwrap();
-    let dir = scratch("wrong");
-    let (printed, passed) = simulate(&dir, &module, &tb);
+    let dir = scratch("logic-counters-wrong");
+    let Simulation {
+        printed, passed, ..
+    } = simulate(&dir, &module, &tb).unwrap();
     assert!(passed, "{printed}\n{module}");
     for (from, to) in [
         ("(strikes == 2'd2)", "(strikes == 2'd1)"),
@@ -438,7 +341,9 @@ fn a_wrong_counter_datapath_is_caught() {
     ] {
         let wrong = module.replace(from, to);
         assert_ne!(wrong, module, "{from}");
-        let (printed, passed) = simulate(&dir, &wrong, &tb);
+        let Simulation {
+            printed, passed, ..
+        } = simulate(&dir, &wrong, &tb).unwrap();
         assert!(!passed && printed.contains("MISMATCH"), "{from}: {printed}");
     }
     let _ = std::fs::remove_dir_all(&dir);
@@ -468,7 +373,7 @@ fn the_datapath_saturates_like_the_interpreter() {
             Up => stay, do n -= 1, n += 1;
         }
     }";
-    let report = check_source("sat.detent", text);
+    let report = detent_compiler::driver::check_source("sat.detent", text);
     assert!(report
         .diagnostics()
         .any(|d| d.is_error() && d.lint.name() == "counter_range"));
@@ -496,8 +401,10 @@ fn the_datapath_saturates_like_the_interpreter() {
     let module = generate_module(&spec, &d, &names, "sat.detent").unwrap();
     let steps = testbench_steps(&m);
     let tb = generate_testbench(&m, &spec, &d, &steps, "sat.detent").unwrap();
-    let dir = scratch("sat");
-    let (printed, passed) = simulate(&dir, &module, &tb);
+    let dir = scratch("logic-counters-sat");
+    let Simulation {
+        printed, passed, ..
+    } = simulate(&dir, &module, &tb).unwrap();
     assert!(passed, "{printed}\n{module}");
     for (from, to) in [
         ("(n > 2'd1) ? 2'd2 : n + 2'd1", "n + 2'd1"),
@@ -505,7 +412,9 @@ fn the_datapath_saturates_like_the_interpreter() {
     ] {
         let wrong = module.replace(from, to);
         assert_ne!(wrong, module, "{from}");
-        let (printed, passed) = simulate(&dir, &wrong, &tb);
+        let Simulation {
+            printed, passed, ..
+        } = simulate(&dir, &wrong, &tb).unwrap();
         assert!(!passed && printed.contains("MISMATCH"), "{from}: {printed}");
     }
     let _ = std::fs::remove_dir_all(&dir);

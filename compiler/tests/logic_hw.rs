@@ -9,27 +9,18 @@ use detent_compiler::logic::assign::{
     canonical_assignments, dense_bits, raw_assignment_count, Encoding, EncodingKind,
 };
 use detent_compiler::logic::auto::auto_assign;
-use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map};
+use detent_compiler::logic::equations::{synthesize, LogicSpec, Map};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
-use detent_compiler::logic::{check_cover, check_cube_cover, CubeFunction, Function};
 use detent_compiler::model::Machine;
+use detent_tests::checked_machine as load;
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
+use detent_tests::icarus::{port_and_simulate, simulate, Simulation};
+use detent_tests::scratch;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 fn examples_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples")
-}
-
-fn load(name: &str, text: &str) -> Machine {
-    let report = detent_compiler::driver::check_source(name, text);
-    assert!(!report.has_errors(), "{name} has errors");
-    report
-        .machines
-        .into_iter()
-        .find_map(|m| m.machine)
-        .expect("a machine")
 }
 
 fn examples() -> Vec<(String, Machine)> {
@@ -48,95 +39,6 @@ fn examples() -> Vec<(String, Machine)> {
             (name.clone(), load(&name, &text))
         })
         .collect()
-}
-
-/// Finds a tool on PATH or fails with the advice to run scripts/test.sh.
-fn require(tool: &str) -> PathBuf {
-    let path = std::env::var_os("PATH").unwrap_or_default();
-    std::env::split_paths(&path)
-        .map(|d| d.join(tool))
-        .find(|p| p.is_file())
-        .unwrap_or_else(|| {
-            panic!(
-                "`{tool}` (Icarus Verilog) is not installed or not on PATH; run scripts/test.sh, \
-                 which installs the Debian package iverilog"
-            )
-        })
-}
-
-fn scratch(tag: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("detent-hw-{}-{tag}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-/// Compiles module + testbench with Icarus and returns what the simulation printed.
-fn simulate(dir: &Path, module: &str, tb: &str) -> String {
-    let (printed, status) = simulate_status(dir, module, tb);
-    // The testbench ends the simulation with a non-zero status exactly on a mismatch.
-    assert_eq!(
-        status.success(),
-        printed.lines().any(|l| l.trim() == "PASS") && !printed.contains("MISMATCH"),
-        "exit status {status} does not match what the testbench printed:\n{printed}"
-    );
-    printed
-}
-
-/// Runs the testbench; returns what it printed and the simulator's exit status.
-fn simulate_status(dir: &Path, module: &str, tb: &str) -> (String, std::process::ExitStatus) {
-    let iverilog = require("iverilog");
-    let vvp = require("vvp");
-    let (v, t, exe) = (dir.join("m.v"), dir.join("m_tb.v"), dir.join("m.vvp"));
-    std::fs::write(&v, module).unwrap();
-    std::fs::write(&t, tb).unwrap();
-    let out = Command::new(iverilog)
-        .args(["-g2005", "-Wall", "-o"])
-        .arg(&exe)
-        .arg(&v)
-        .arg(&t)
-        .output()
-        .expect("run iverilog");
-    assert!(
-        out.status.success(),
-        "iverilog failed:\n{}\n--- module ---\n{module}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let warnings = String::from_utf8_lossy(&out.stderr).to_string();
-    assert!(
-        !warnings.contains("warning"),
-        "iverilog warnings:\n{warnings}\n--- module ---\n{module}"
-    );
-    let run = Command::new(vvp)
-        .arg("-n")
-        .arg(&exe)
-        .output()
-        .expect("run vvp");
-    (String::from_utf8_lossy(&run.stdout).to_string(), run.status)
-}
-
-/// Re-checks every cover against its on-set and off-set (independently of the check
-/// `synthesize` already made), by minterms when small, by tautology otherwise.
-fn check_all_covers(d: &LogicDesign) {
-    for f in &d.functions {
-        match &f.minterms {
-            Some((on, dc)) => {
-                let func = Function {
-                    vars: f.vars.clone(),
-                    on: on.clone(),
-                    dc: dc.clone(),
-                };
-                check_cover(&func, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-            None => {
-                let cf = CubeFunction {
-                    vars: f.vars.clone(),
-                    on: f.on_cubes.clone(),
-                    dc: f.dc_cubes.clone(),
-                };
-                check_cube_cover(&cf, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-        }
-    }
 }
 
 fn trace_steps(rng: &mut Rng, m: &Machine, len: usize) -> Vec<TbStep> {
@@ -158,27 +60,21 @@ fn encodings(m: usize) -> Vec<Encoding> {
 }
 
 fn run_case(tag: &str, m: &Machine, enc: &Encoding, ff: FlipFlop, steps: &[TbStep], dir: &Path) {
-    let spec = LogicSpec::from_machine(m).unwrap();
-    let d = synthesize(&spec, enc, ff, false).unwrap();
-    check_all_covers(&d);
+    let p = port_and_simulate(m, enc, ff, steps, dir).unwrap_or_else(|e| panic!("{tag}: {e}"));
     if enc.kind != EncodingKind::OneHot {
         // The binary-encoding lower bound: ceil(log2 m) state bits (common practice).
-        assert_eq!(d.encoding.bits, dense_bits(m.states.len()));
+        assert_eq!(p.design.encoding.bits, dense_bits(m.states.len()));
     }
-    let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
-    let module = generate_module(&spec, &d, &names, "test").unwrap();
-    let tb = generate_testbench(m, &spec, &d, steps, "test").unwrap();
-    let printed = simulate(dir, &module, &tb);
     assert!(
-        printed.lines().any(|l| l.trim() == "PASS"),
-        "{tag} {:?} {ff:?}: simulation said:\n{printed}\n--- module ---\n{module}",
-        enc.kind
+        p.simulation.passed,
+        "{tag} {:?} {ff:?}: simulation said:\n{}\n--- module ---\n{}",
+        enc.kind, p.simulation.printed, p.module
     );
 }
 
 #[test]
 fn examples_simulate_like_the_interpreter_for_every_encoding_and_flip_flop() {
-    let dir = scratch("examples");
+    let dir = scratch("hw-examples");
     let mut rng = Rng::new(5);
     for (name, m) in examples() {
         let steps = trace_steps(&mut rng, &m, 200);
@@ -193,7 +89,7 @@ fn examples_simulate_like_the_interpreter_for_every_encoding_and_flip_flop() {
 
 #[test]
 fn auto_encoding_is_no_worse_than_the_fixed_ones_and_simulates() {
-    let dir = scratch("auto");
+    let dir = scratch("hw-auto");
     let mut rng = Rng::new(11);
     for (name, m) in examples() {
         let spec = LogicSpec::from_machine(&m).unwrap();
@@ -232,7 +128,7 @@ fn auto_encoding_is_no_worse_than_the_fixed_ones_and_simulates() {
         let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
         let module = generate_module(&spec, &d, &names, "test").unwrap();
         let tb = generate_testbench(&m, &spec, &d, &steps, "test").unwrap();
-        assert!(simulate(&dir, &module, &tb).contains("PASS"), "{name}");
+        assert!(simulate(&dir, &module, &tb).unwrap().passed, "{name}");
     }
     std::fs::remove_dir_all(&dir).ok();
 }
@@ -302,7 +198,7 @@ fn exhaustive_search_matches_brute_force_over_all_assignments() {
 
 #[test]
 fn random_machines_simulate_like_the_interpreter() {
-    let dir = scratch("random");
+    let dir = scratch("hw-random");
     let mut rng = Rng::new(77);
     for seed in 0..12u64 {
         let cfg = GenConfig {
@@ -331,7 +227,7 @@ fn random_machines_simulate_like_the_interpreter() {
 /// by tautology), and the guards' cubes are walked instead of 2^inputs valuations.
 #[test]
 fn wide_machines_use_cube_lists_and_still_simulate() {
-    let dir = scratch("wide");
+    let dir = scratch("hw-wide");
     let mut rng = Rng::new(3);
     for seed in 100..103u64 {
         let cfg = GenConfig {
@@ -372,7 +268,7 @@ fn wide_machines_use_cube_lists_and_still_simulate() {
 /// The testbench can fail: a wrong equation is caught and reported with cycle and signal.
 #[test]
 fn testbench_reports_the_first_mismatch() {
-    let dir = scratch("mutant");
+    let dir = scratch("hw-mutant");
     let (_, m) = examples()
         .into_iter()
         .find(|(n, _)| n == "pattern_detector.detent")
@@ -393,7 +289,7 @@ fn testbench_reports_the_first_mismatch() {
         .collect();
     let module = generate_module(&spec, &d, &names, "test").unwrap();
     let tb = generate_testbench(&m, &spec, &d, &steps, "test").unwrap();
-    let (printed, status) = simulate_status(&dir, &module, &tb);
+    let Simulation { printed, code, .. } = simulate(&dir, &module, &tb).unwrap();
     // 1011 reaches Found after the 4th bit; cycle 1 is the reset, so the state is Found
     // during cycle 6 (the 5th bit), where `found` must be high.
     assert!(
@@ -403,13 +299,13 @@ fn testbench_reports_the_first_mismatch() {
     assert!(!printed.contains("PASS"));
     // The planted fault ends the simulation with a non-zero exit status ($fatal), so a
     // CI job fails without grepping the output.
-    assert_eq!(status.code(), Some(1), "{printed}");
+    assert_eq!(code, Some(1), "{printed}");
     // The same testbench against the correct design passes with status 0.
     let good = synthesize(&spec, &Encoding::binary(5), FlipFlop::D, false).unwrap();
     let module = generate_module(&spec, &good, &names, "test").unwrap();
-    let (printed, status) = simulate_status(&dir, &module, &tb);
+    let Simulation { printed, code, .. } = simulate(&dir, &module, &tb).unwrap();
     assert!(printed.lines().any(|l| l.trim() == "PASS"), "{printed}");
-    assert!(status.success(), "{printed}");
+    assert_eq!(code, Some(0), "{printed}");
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -466,7 +362,7 @@ fn counter_worked_by_hand() {
             ],
         ),
     ];
-    let dir = scratch("counter");
+    let dir = scratch("hw-counter");
     for (ff, fns) in expect {
         let d = synthesize(&spec, &Encoding::binary(4), ff, false).unwrap();
         assert_eq!(d.state_vars, ["q1", "q0"]);
@@ -504,7 +400,7 @@ fn single_state_machine_has_one_bit() {
         assert_eq!(d.encoding.bits, 1);
         let lit = d.functions.iter().find(|f| f.name == "lit").unwrap();
         assert_eq!(lit.cover.cube_strings(2), ["-1"]);
-        let dir = scratch("lamp");
+        let dir = scratch("hw-lamp");
         let steps = vec![
             TbStep::Step {
                 event: 0,

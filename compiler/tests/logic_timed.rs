@@ -13,106 +13,20 @@
 //! taken in turn, machine by machine. A wrong timer datapath (the due comparison off by
 //! one, no saturation) is caught, so the check can fail.
 
-use detent_compiler::driver::check_source;
 use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::auto::auto_assign_with;
-use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec, Map, Role};
+use detent_compiler::logic::equations::{synthesize, LogicSpec, Map, Role};
 use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::search::SearchOptions;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
-use detent_compiler::logic::{check_cover, check_cube_cover, CubeFunction, Function};
 use detent_compiler::model::{EventId, Machine};
 use detent_compiler::report::logic::LogicReport;
+use detent_tests::checked_machine as load;
 use detent_tests::gen::{random_spec, random_timed_trace, GenConfig, Rng};
-use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn load(label: &str, text: &str) -> Machine {
-    let report = check_source(label, text);
-    let errors: Vec<String> = report
-        .diagnostics()
-        .filter(|d| d.is_error())
-        .map(|d| d.message.clone())
-        .collect();
-    assert!(errors.is_empty(), "{label}: {errors:?}\n{text}");
-    report
-        .machines
-        .into_iter()
-        .find_map(|m| m.machine)
-        .expect("a machine")
-}
-
-fn require(tool: &str) -> PathBuf {
-    let ok = Command::new(tool).arg("-V").output().is_ok();
-    assert!(
-        ok,
-        "`{tool}` (Icarus Verilog) is not installed or not on PATH; run scripts/test.sh, \
-         which installs the Debian package iverilog"
-    );
-    PathBuf::from(tool)
-}
-
-fn scratch(tag: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("detent-logic-timed-{}-{tag}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
-/// Compiles and runs module + testbench; returns (stdout, exit success).
-fn simulate(dir: &Path, module: &str, tb: &str) -> (String, bool) {
-    let (v, t, exe) = (dir.join("m.v"), dir.join("m_tb.v"), dir.join("m.vvp"));
-    std::fs::write(&v, module).unwrap();
-    std::fs::write(&t, tb).unwrap();
-    let out = Command::new(require("iverilog"))
-        .args(["-g2005", "-Wall", "-o"])
-        .arg(&exe)
-        .arg(&v)
-        .arg(&t)
-        .output()
-        .expect("run iverilog");
-    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
-    assert!(
-        out.status.success() && !stderr.contains("warning"),
-        "iverilog:\n{stderr}\n--- module ---\n{module}"
-    );
-    let run = Command::new(require("vvp"))
-        .arg("-n")
-        .arg(&exe)
-        .output()
-        .expect("run vvp");
-    let printed = String::from_utf8_lossy(&run.stdout).to_string();
-    let passed = printed.lines().any(|l| l.trim() == "PASS");
-    assert_eq!(
-        passed,
-        run.status.success(),
-        "exit status and output disagree:\n{printed}"
-    );
-    (printed, passed)
-}
-
-/// Every cover against its on- and off-set, independently of `synthesize`'s own check.
-fn check_all_covers(d: &LogicDesign) {
-    for f in &d.functions {
-        match &f.minterms {
-            Some((on, dc)) => {
-                let func = Function {
-                    vars: f.vars.clone(),
-                    on: on.clone(),
-                    dc: dc.clone(),
-                };
-                check_cover(&func, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-            None => {
-                let cf = CubeFunction {
-                    vars: f.vars.clone(),
-                    on: f.on_cubes.clone(),
-                    dc: f.dc_cubes.clone(),
-                };
-                check_cube_cover(&cf, &f.cover).unwrap_or_else(|e| panic!("{}: {e}", f.name));
-            }
-        }
-    }
-}
+use detent_tests::icarus::{
+    check_all_covers, port_and_simulate, port_choice, simulate, Simulation,
+};
+use detent_tests::scratch;
 
 fn configs() -> Vec<GenConfig> {
     let d = GenConfig {
@@ -179,7 +93,7 @@ fn timeouts_fired(m: &Machine, steps: &[TbStep]) -> usize {
 
 #[test]
 fn random_timed_machines_simulate_like_the_interpreter() {
-    let dir = scratch("random");
+    let dir = scratch("logic-timed-random");
     let (mut machines, mut cycles, mut fired, mut timers) = (0usize, 0usize, 0usize, 0usize);
     let mut covered = std::collections::BTreeSet::new();
     for (ci, cfg) in configs().iter().enumerate() {
@@ -190,19 +104,7 @@ fn random_timed_machines_simulate_like_the_interpreter() {
             if m.timers.is_empty() {
                 continue;
             }
-            let spec = LogicSpec::from_machine(&m).unwrap();
-            let n = m.states.len();
-            let pick = machines;
-            let encoding = match pick % 3 {
-                0 => Encoding::binary(n),
-                1 => Encoding::gray(n),
-                _ => Encoding::one_hot(n).unwrap(),
-            };
-            let ff = FlipFlop::ALL[(pick / 3) % 4];
-            let d = synthesize(&spec, &encoding, ff, false)
-                .unwrap_or_else(|e| panic!("seed {seed}: {e}\n{text}"));
-            check_all_covers(&d);
-            assert_eq!(d.timers.len(), m.timers.len());
+            let (encoding, ff) = port_choice(m.states.len(), machines);
             let mut rng = Rng::new(seed ^ 0x5EED);
             let n_events = m.events.len().max(1);
             let mut steps: Vec<TbStep> =
@@ -211,15 +113,14 @@ fn random_timed_machines_simulate_like_the_interpreter() {
                     .map(|(event, inputs)| TbStep::Step { event, inputs })
                     .collect();
             steps.insert(TRACE_LEN / 2, TbStep::Reset);
-            let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
-            let module = generate_module(&spec, &d, &names, "test").unwrap();
-            let tb = generate_testbench(&m, &spec, &d, &steps, "test").unwrap();
-            let (printed, passed) = simulate(&dir, &module, &tb);
+            let p = port_and_simulate(&m, &encoding, ff, &steps, &dir)
+                .unwrap_or_else(|e| panic!("seed {seed}: {e}\n{text}"));
+            assert_eq!(p.design.timers.len(), m.timers.len());
             assert!(
-                passed,
-                "seed {seed} {:?} {ff:?}: simulation said:\n{printed}\n--- spec ---\n{text}\n\
-                 --- module ---\n{module}",
-                encoding.kind
+                p.simulation.passed,
+                "seed {seed} {:?} {ff:?}: simulation said:\n{}\n--- spec ---\n{text}\n\
+                 --- module ---\n{}",
+                encoding.kind, p.simulation.printed, p.module
             );
             machines += 1;
             cycles += steps.len() + 2;
@@ -359,7 +260,7 @@ fn every_logic_path_keeps_the_timers() {
     assert!(auto.functions.iter().any(|f| f.name == "clear_Dark"));
     assert!(table.rows.len() >= 3);
     // The searched design simulates like the interpreter on a timed trace.
-    let dir = scratch("auto");
+    let dir = scratch("logic-timed-auto");
     let mut rng = Rng::new(7);
     let steps: Vec<TbStep> = random_timed_trace(&mut rng, 3, 1, 400, 0.7)
         .into_iter()
@@ -371,7 +272,9 @@ fn every_logic_path_keeps_the_timers() {
     for design in [&auto, &d] {
         let module = generate_module(&spec, design, &names, "blink.detent").unwrap();
         let tb = generate_testbench(&m, &spec, design, &steps, "blink.detent").unwrap();
-        let (printed, passed) = simulate(&dir, &module, &tb);
+        let Simulation {
+            printed, passed, ..
+        } = simulate(&dir, &module, &tb).unwrap();
         assert!(passed, "{printed}\n{module}");
     }
     let _ = std::fs::remove_dir_all(&dir);
@@ -409,18 +312,24 @@ fn a_wrong_timer_datapath_is_caught() {
         });
     }
     let tb = generate_testbench(&m, &spec, &d, &steps, "blink.detent").unwrap();
-    let dir = scratch("wrong");
-    let (printed, passed) = simulate(&dir, &module, &tb);
+    let dir = scratch("logic-timed-wrong");
+    let Simulation {
+        printed, passed, ..
+    } = simulate(&dir, &module, &tb).unwrap();
     assert!(passed, "{printed}\n{module}");
     let late = module.replace("(timer_On == 2'd1)", "(timer_On == 2'd2)");
     assert_ne!(late, module);
-    let (printed, passed) = simulate(&dir, &late, &tb);
+    let Simulation {
+        printed, passed, ..
+    } = simulate(&dir, &late, &tb).unwrap();
     assert!(!passed && printed.contains("MISMATCH"), "{printed}");
     // On's timer stands at 3 for ticks 4 and 5 (the group leaves at 5): wrapping to 0
     // changes no output here, only the register, which the testbench also checks.
     let wraps = module.replace("timer_On != 2'd3", "1'b1");
     assert_ne!(wraps, module);
-    let (printed, passed) = simulate(&dir, &wraps, &tb);
+    let Simulation {
+        printed, passed, ..
+    } = simulate(&dir, &wraps, &tb).unwrap();
     assert!(!passed && printed.contains("MISMATCH"), "{printed}");
     let _ = std::fs::remove_dir_all(&dir);
 }

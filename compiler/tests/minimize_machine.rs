@@ -274,6 +274,44 @@ fn states_that_properties_tell_apart_are_not_merged() {
     assert_eq!(class_names(&m), vec![names(&["A", "B", "C"])]);
 }
 
+/// Found by the structured fuzz target: in B the time base is named (`Tick if false`,
+/// which never holds) and B has a timeout and a `_` rule. Tick in B is rejected when
+/// the timeout is not due: the named rule shadows `_` (LANGUAGE.md, the lookup order).
+/// The quotient wrote the timeout as B's `after` rule and nothing named Tick, so Tick
+/// fell to `_` and moved to A. A cell whose only choices are timeouts now keeps its
+/// event named with a rule that never fires, as an empty cell already did.
+#[test]
+fn a_named_event_whose_only_choices_are_timeouts_does_not_fall_to_the_wildcard() {
+    let text = "#[allow(never_true_guard, dead_rule)]
+        machine M {
+            events Tick, Go;
+            outputs b;
+            timebase Tick 1 ms;
+            start A;
+            unhandled reject;
+            state A { Go => B; }
+            state B emit b {
+                after 5 ms => stay;
+                Tick if false => A;
+                _ => A;
+            }
+        }";
+    let m = machine(text);
+    let q = minimized_machine(&m);
+    assert!(equiv(&m, &q).unwrap().is_none(), "{}", minimized_spec(&m));
+    // Go, then Tick: rejected in B on both.
+    for mm in [&m, &q] {
+        let mut c = mm.start_config();
+        mm.step_config(&mut c, EventId(1), &[]);
+        let r = mm.step_config(&mut c, EventId(0), &[]);
+        assert!(!r.handled(), "{}", mm.name);
+        assert_eq!(mm.state_name(c.state), "B");
+    }
+    let spec = minimized_spec(&m);
+    assert!(spec.contains("Tick if false => stay;"), "{spec}");
+    assert!(equiv(&m, &machine(&spec)).unwrap().is_none(), "{spec}");
+}
+
 #[test]
 fn equivalent_states_lint_lists_each_class() {
     let report = check_source(

@@ -191,6 +191,60 @@ fn oracle_step(
     fired
 }
 
+/// What [`against_the_oracle`] shows of each step: the machine, the configuration
+/// before and after, and the rule fired.
+type OnStep<'a> = dyn FnMut(&Machine, &Config, &Config, Option<RuleId>) + 'a;
+
+/// Runs the interpreter against [`oracle_step`] on 40 random machines of each
+/// configuration (seeds from `seed_base`), 3 random traces of 300 steps each with the
+/// time base on a share `p_time` of the steps, and asserts at every step that both
+/// fire the same rule and reach the same state, timers and counters. `seen` gets each
+/// step: the machine, the configuration before and after, and the rule fired. Returns
+/// the number of machines.
+fn against_the_oracle(
+    configs: &[GenConfig],
+    seed_base: u64,
+    p_time: f64,
+    seen: &mut OnStep<'_>,
+) -> usize {
+    let mut machines = 0;
+    for (k, cfg) in configs.iter().enumerate() {
+        for seed in 0..40u64 {
+            let seed = seed_base + k as u64 * 1_000 + seed;
+            let text = random_spec(seed, cfg);
+            let errs = errors(&text);
+            assert!(errs.is_empty(), "seed {seed}: {errs:?}\n{text}");
+            let m = resolve(&text);
+            machines += 1;
+            let mut rng = Rng::new(seed);
+            for _ in 0..3 {
+                let trace =
+                    random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, p_time);
+                let mut config: Config = m.start_config();
+                let mut state = m.start;
+                let mut timers = vec![0u32; m.timers.len()];
+                let mut counters = vec![0u16; m.counters.len()];
+                for (n, (e, ins)) in trace.iter().enumerate() {
+                    let e = EventId::from_index(*e);
+                    let before = config.clone();
+                    let r = m.step_config(&mut config, e, ins);
+                    let want = oracle_step(&m, &mut state, &mut timers, &mut counters, e, ins);
+                    let got = match r.outcome {
+                        Outcome::Fired(rule) => Some(rule),
+                        _ => None,
+                    };
+                    assert_eq!(got, want, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.state, state, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.timers, timers, "seed {seed}, step {n}\n{text}");
+                    assert_eq!(config.counters, counters, "seed {seed}, step {n}\n{text}");
+                    seen(&m, &before, &config, got);
+                }
+            }
+        }
+    }
+    machines
+}
+
 #[test]
 fn interpreter_matches_the_written_timer_rules_on_random_machines() {
     let d = GenConfig {
@@ -218,48 +272,18 @@ fn interpreter_matches_the_written_timer_rules_on_random_machines() {
             ..d.clone()
         },
     ];
-    let mut machines = 0;
-    let mut timeouts_fired = 0usize;
-    let mut steps = 0usize;
-    for (k, cfg) in configs.iter().enumerate() {
-        for seed in 0..40u64 {
-            let seed = 9_000 + k as u64 * 1_000 + seed;
-            let text = random_spec(seed, cfg);
-            let errs = errors(&text);
-            assert!(errs.is_empty(), "seed {seed}: {errs:?}\n{text}");
-            let m = resolve(&text);
-            machines += 1;
-            let mut rng = Rng::new(seed);
-            for _ in 0..3 {
-                let trace = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.7);
-                let mut config: Config = m.start_config();
-                let mut state = m.start;
-                let mut timers = vec![0u32; m.timers.len()];
-                let mut counters = vec![0u16; m.counters.len()];
-                for (n, (e, ins)) in trace.iter().enumerate() {
-                    let e = EventId::from_index(*e);
-                    let r = m.step_config(&mut config, e, ins);
-                    let want = oracle_step(&m, &mut state, &mut timers, &mut counters, e, ins);
-                    let got = match r.outcome {
-                        Outcome::Fired(rule) => Some(rule),
-                        _ => None,
-                    };
-                    assert_eq!(got, want, "seed {seed}, step {n}\n{text}");
-                    assert_eq!(config.state, state, "seed {seed}, step {n}\n{text}");
-                    assert_eq!(config.timers, timers, "seed {seed}, step {n}\n{text}");
-                    if let Some(rule) = got {
-                        if matches!(
-                            m.rules[rule.index()].trigger,
-                            detent_compiler::model::Trigger::After(_)
-                        ) {
-                            timeouts_fired += 1;
-                        }
-                    }
-                    steps += 1;
-                }
-            }
+    let (mut timeouts_fired, mut steps) = (0usize, 0usize);
+    let machines = against_the_oracle(&configs, 9_000, 0.7, &mut |m, _, _, fired| {
+        if fired.is_some_and(|rule| {
+            matches!(
+                m.rules[rule.index()].trigger,
+                detent_compiler::model::Trigger::After(_)
+            )
+        }) {
+            timeouts_fired += 1;
         }
-    }
+        steps += 1;
+    });
     assert_eq!(machines, 200);
     // The traces do reach the timeouts (a test that never fires one proves nothing).
     assert!(
@@ -297,64 +321,29 @@ fn interpreter_matches_the_written_counter_rules_on_random_machines() {
             ..d.clone()
         },
     ];
-    let mut machines = 0;
-    let mut steps = 0usize;
-    let mut changes = 0usize;
-    let mut at_bound = 0usize;
-    let mut guarded_fired = 0usize;
-    for (k, cfg) in configs.iter().enumerate() {
-        for seed in 0..40u64 {
-            let seed = 19_000 + k as u64 * 1_000 + seed;
-            let text = random_spec(seed, cfg);
-            let errs = errors(&text);
-            assert!(errs.is_empty(), "seed {seed}: {errs:?}\n{text}");
-            let m = resolve(&text);
-            machines += 1;
-            let mut rng = Rng::new(seed);
-            for _ in 0..3 {
-                let trace = random_timed_trace(&mut rng, m.events.len(), m.inputs.len(), 300, 0.3);
-                let mut config: Config = m.start_config();
-                let mut state = m.start;
-                let mut timers = vec![0u32; m.timers.len()];
-                let mut counters = vec![0u16; m.counters.len()];
-                for (n, (e, ins)) in trace.iter().enumerate() {
-                    let e = EventId::from_index(*e);
-                    let before = config.counters.clone();
-                    let r = m.step_config(&mut config, e, ins);
-                    let want = oracle_step(&m, &mut state, &mut timers, &mut counters, e, ins);
-                    let got = match r.outcome {
-                        Outcome::Fired(rule) => Some(rule),
-                        _ => None,
-                    };
-                    assert_eq!(got, want, "seed {seed}, step {n}\n{text}");
-                    assert_eq!(config.state, state, "seed {seed}, step {n}\n{text}");
-                    assert_eq!(config.timers, timers, "seed {seed}, step {n}\n{text}");
-                    assert_eq!(config.counters, counters, "seed {seed}, step {n}\n{text}");
-                    if before != config.counters {
-                        changes += 1;
-                    }
-                    if config
-                        .counters
-                        .iter()
-                        .zip(&m.counters)
-                        .any(|(v, c)| *v == c.max && *v > 0)
-                    {
-                        at_bound += 1;
-                    }
-                    if let Some(rule) = got {
-                        if m.rules[rule.index()]
-                            .guard_expr
-                            .as_ref()
-                            .is_some_and(|g| !g.atoms().is_empty())
-                        {
-                            guarded_fired += 1;
-                        }
-                    }
-                    steps += 1;
-                }
-            }
+    let (mut steps, mut changes, mut at_bound, mut guarded_fired) = (0usize, 0, 0, 0);
+    let machines = against_the_oracle(&configs, 19_000, 0.3, &mut |m, before, after, fired| {
+        if before.counters != after.counters {
+            changes += 1;
         }
-    }
+        if after
+            .counters
+            .iter()
+            .zip(&m.counters)
+            .any(|(v, c)| *v == c.max && *v > 0)
+        {
+            at_bound += 1;
+        }
+        if fired.is_some_and(|rule| {
+            m.rules[rule.index()]
+                .guard_expr
+                .as_ref()
+                .is_some_and(|g| !g.atoms().is_empty())
+        }) {
+            guarded_fired += 1;
+        }
+        steps += 1;
+    });
     assert_eq!(machines, 200);
     // The traces change counters, reach their bounds and fire rules whose guards
     // compare them (a test where none of that happens proves nothing).

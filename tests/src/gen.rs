@@ -150,6 +150,57 @@ impl Default for GenConfig {
     }
 }
 
+/// The timed configurations the differential suites draw machines from (issue 19): a
+/// time base with `after` rules in states and nested groups, guarded, to self and
+/// `stay`; event-driven, clocked, and larger.
+pub fn timed_configs() -> Vec<GenConfig> {
+    let d = GenConfig::default();
+    vec![
+        GenConfig {
+            timeouts: true,
+            ..d.clone()
+        },
+        GenConfig {
+            events: 0,
+            timeouts: true,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (6, 12),
+            events: 4,
+            inputs: 3,
+            timeouts: true,
+            ..d
+        },
+    ]
+}
+
+/// The counting configurations the differential suites draw machines from (issue 20):
+/// comparisons in guards, operations in rules and in enter and leave lists; alone,
+/// clocked, and with timeouts.
+pub fn counter_configs() -> Vec<GenConfig> {
+    let d = GenConfig::default();
+    vec![
+        GenConfig {
+            counters: 2,
+            ..d.clone()
+        },
+        GenConfig {
+            events: 0,
+            counters: 1,
+            ..d.clone()
+        },
+        GenConfig {
+            states: (4, 10),
+            events: 4,
+            inputs: 3,
+            counters: 3,
+            timeouts: true,
+            ..d
+        },
+    ]
+}
+
 /// A scope in the generated member tree.
 enum Node {
     State(usize),

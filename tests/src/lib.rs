@@ -6,6 +6,7 @@
 pub mod c_ffi;
 pub mod c_harness;
 pub mod gen;
+pub mod icarus;
 pub mod nostd;
 pub mod rust_forms;
 
@@ -54,6 +55,39 @@ pub fn machine_seed(base: u64, ci: usize, k: u64) -> u64 {
     } else {
         0x50A4_0000_0000 ^ (base << 8) ^ ((ci as u64) << 40) ^ k
     }
+}
+
+/// The one machine of a spec that must check with no error.
+///
+/// # Panics
+///
+/// When the spec has an error (listing them with the text), or no machine.
+pub fn checked_machine(label: &str, text: &str) -> detent_compiler::model::Machine {
+    let report = detent_compiler::driver::check_source(label, text);
+    let errors: Vec<String> = report
+        .diagnostics()
+        .filter(|d| d.is_error())
+        .map(|d| d.message.clone())
+        .collect();
+    assert!(errors.is_empty(), "{label}: {errors:?}\n{text}");
+    report
+        .machines
+        .into_iter()
+        .find_map(|m| m.machine)
+        .unwrap_or_else(|| panic!("{label}: no machine\n{text}"))
+}
+
+/// A fresh scratch folder `detent-<tag>-<process id>` in the system's temporary folder
+/// (emptied if an earlier run of this process id left it).
+///
+/// # Panics
+///
+/// When the folder cannot be made.
+pub fn scratch(tag: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("detent-{tag}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{}: {e}", dir.display()));
+    dir
 }
 
 /// The `.detent` files of a workspace folder (e.g. `"examples"`), sorted by path.

@@ -297,27 +297,31 @@ fn random_timed_machines() -> Vec<(String, Machine)> {
     out
 }
 
-/// C against the interpreter on timed machines: every step compares the state,
-/// outputs, actions, handled, the inputs read (hostile hooks), the timers of the active
-/// scopes and `next_timeout`; half the traces also write corrupt timer values (above
-/// the largest duration, up to the type's maximum) and corrupt states.
-#[test]
-fn c_matches_the_interpreter_on_random_timed_machines() {
-    let machines = random_timed_machines();
-    let mut steps = 0usize;
-    let mut timeouts = 0usize;
+/// Command list `k` for a machine (see [`c_agrees_on_commands`]).
+type Commands<'a> = dyn FnMut(&mut Rng, &Machine, usize) -> Vec<Cmd> + 'a;
+/// A machine, a command list and the lines the interpreter predicts for it.
+type OnList<'a> = dyn FnMut(&Machine, &[Cmd], &[String]) + 'a;
+
+/// Builds each machine's C harness (ASan and UBSan) and runs 4 command lists on it,
+/// `commands(rng, machine, k)` for list `k`; every line the C prints must be the line
+/// the interpreter predicts. `seen(machine, commands, predicted lines)` gets each list.
+/// Returns the number of commands run.
+fn c_agrees_on_commands(
+    machines: &[(String, Machine)],
+    tag: &str,
+    seed: u64,
+    commands: &mut Commands<'_>,
+    seen: &mut OnList<'_>,
+) -> usize {
+    let mut steps = 0;
     for (i, (file, m)) in machines.iter().enumerate() {
         let files = generate_c(m, file);
-        let dir = scratch(&format!("timed-{i}"));
+        let dir = scratch(&format!("{tag}-{i}"));
         let exe =
             build_harness(&dir, m, &files).unwrap_or_else(|e| panic!("{e}\n{}", files.source));
-        let mut rng = Rng::new(0x71_3ED + i as u64);
+        let mut rng = Rng::new(seed + i as u64);
         for k in 0..4 {
-            let mut cmds = random_timed_cmds(&mut rng, m, 400, 0.7, k % 2 == 1);
-            if k % 2 == 1 {
-                let faults = random_cmds(&mut rng, m, 60, true);
-                cmds.extend(faults);
-            }
+            let cmds = commands(&mut rng, m, k);
             let got = run_harness(&exe, &cmds).unwrap_or_else(|e| panic!("{file}: {e}"));
             let want = expected_lines(m, &cmds);
             assert_eq!(got.len(), want.len(), "{file}: line count");
@@ -329,9 +333,35 @@ fn c_matches_the_interpreter_on_random_timed_machines() {
                 );
             }
             steps += cmds.len();
+            seen(m, &cmds, &want);
+        }
+    }
+    steps
+}
+
+/// C against the interpreter on timed machines: every step compares the state,
+/// outputs, actions, handled, the inputs read (hostile hooks), the timers of the active
+/// scopes and `next_timeout`; half the traces also write corrupt timer values (above
+/// the largest duration, up to the type's maximum) and corrupt states.
+#[test]
+fn c_matches_the_interpreter_on_random_timed_machines() {
+    let machines = random_timed_machines();
+    let mut timeouts = 0usize;
+    let steps = c_agrees_on_commands(
+        &machines,
+        "timed",
+        0x71_3ED,
+        &mut |rng, m, k| {
+            let mut cmds = random_timed_cmds(rng, m, 400, 0.7, k % 2 == 1);
+            if k % 2 == 1 {
+                cmds.extend(random_cmds(rng, m, 60, true));
+            }
+            cmds
+        },
+        &mut |m, cmds, _| {
             // Steps where a timeout rule fired: the interpreter says which rule.
             let mut config = m.start_config();
-            for c in &cmds {
+            for c in cmds {
                 if let Cmd::Step(e, ins) = c {
                     if (*e as usize) < m.events.len() {
                         let r = m.step_config(
@@ -352,8 +382,8 @@ fn c_matches_the_interpreter_on_random_timed_machines() {
                     break;
                 }
             }
-        }
-    }
+        },
+    );
     eprintln!(
         "{} timed machines, {steps} commands, {timeouts} timeouts fired (C)",
         machines.len()
@@ -413,32 +443,22 @@ fn random_counted_machines() -> Vec<(String, Machine)> {
 #[test]
 fn c_matches_the_interpreter_on_random_counted_machines() {
     let machines = random_counted_machines();
-    let (mut steps, mut changed, mut refused) = (0usize, 0usize, 0usize);
-    for (i, (file, m)) in machines.iter().enumerate() {
-        let files = generate_c(m, file);
-        let dir = scratch(&format!("counted-{i}"));
-        let exe =
-            build_harness(&dir, m, &files).unwrap_or_else(|e| panic!("{e}\n{}", files.source));
-        let mut rng = Rng::new(0xC0_0A7 + i as u64);
-        for k in 0..4 {
-            let mut cmds = random_timed_cmds(&mut rng, m, 300, 0.5, k % 2 == 1);
+    let (mut changed, mut refused) = (0usize, 0usize);
+    let steps = c_agrees_on_commands(
+        &machines,
+        "counted",
+        0xC0_0A7,
+        &mut |rng, m, k| {
+            let mut cmds = random_timed_cmds(rng, m, 300, 0.5, k % 2 == 1);
             if k % 2 == 1 {
-                cmds = with_counter_faults(&mut rng, m, cmds, 0.05);
-                cmds.extend(random_cmds(&mut rng, m, 40, true));
+                cmds = with_counter_faults(rng, m, cmds, 0.05);
+                cmds.extend(random_cmds(rng, m, 40, true));
             }
-            let got = run_harness(&exe, &cmds).unwrap_or_else(|e| panic!("{file}: {e}"));
-            let want = expected_lines(m, &cmds);
-            assert_eq!(got.len(), want.len(), "{file}: line count");
-            for (j, (g, w)) in got.iter().zip(&want).enumerate() {
-                assert_eq!(
-                    g, w,
-                    "{file} / {}: command {j} `{:?}` differs (C left, interpreter right)\n{}",
-                    m.name, cmds[j], files.source
-                );
-            }
-            steps += cmds.len();
+            cmds
+        },
+        &mut |_, cmds, want| {
             let mut last = String::new();
-            for (c, line) in cmds.iter().zip(&want) {
+            for (c, line) in cmds.iter().zip(want) {
                 if let Cmd::Step(..) = c {
                     let counters = line.rsplit(" c=").next().unwrap_or("").to_string();
                     changed += usize::from(!last.is_empty() && counters != last);
@@ -446,8 +466,8 @@ fn c_matches_the_interpreter_on_random_counted_machines() {
                     last = counters;
                 }
             }
-        }
-    }
+        },
+    );
     eprintln!(
         "{} counter machines, {steps} commands, {changed} steps changed a counter, {refused} refused (C)",
         machines.len()

@@ -31,9 +31,7 @@
 
 use detent_compiler::driver::check_source;
 use detent_compiler::emit::c::generate_c;
-use detent_compiler::logic::assign::Encoding;
 use detent_compiler::logic::equations::{synthesize, LogicDesign, LogicSpec};
-use detent_compiler::logic::excitation::FlipFlop;
 use detent_compiler::logic::verilog::{generate_module, generate_testbench, TbStep};
 use detent_compiler::minimize::equiv::equiv;
 use detent_compiler::minimize::{minimize, minimized_machine};
@@ -41,11 +39,11 @@ use detent_compiler::model::{EventId, Machine};
 use detent_compiler::syntax::ast::Policy;
 use detent_compiler::tour::{tour, TourStep};
 use detent_tests::c_harness::{
-    build_harness, expected_lines, random_cmds, random_timed_cmds, require_tool, run_harness, Cmd,
+    build_harness, expected_lines, random_cmds, random_timed_cmds, run_harness,
+    with_counter_faults, Cmd,
 };
 use detent_tests::gen::{random_spec, random_timed_trace, random_trace, GenConfig, Rng};
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 /// A trace: (event number, input values) per step.
 type Trace = Vec<(usize, Vec<bool>)>;
@@ -73,6 +71,8 @@ struct Seen {
     timers: Vec<Option<u32>>,
     /// `next_timeout` after the step (0: none pending, or no timers).
     next_timeout: u32,
+    /// Every counter after the step, in declaration order (empty without counters).
+    counters: Vec<u32>,
 }
 
 /// A machine under test: the spec text it came from, and the checked machine.
@@ -93,6 +93,11 @@ trait Runner {
             Ok(got) => first_difference(&interpret(m, trace), &got),
             Err(e) => Some((0, format!("the back end failed: {e}"))),
         }
+    }
+
+    /// How many fault commands its build ran (the C harness's hostile run).
+    fn fault_commands(&self) -> usize {
+        0
     }
 
     /// The first (trace number, step) where it disagrees over several traces.
@@ -130,6 +135,7 @@ fn interpret(m: &Machine, trace: &Trace) -> Vec<Seen> {
             reads: Some(r.inputs_read.iter().map(|i| i.index()).collect()),
             timers: config.timers.iter().map(|&v| Some(v)).collect(),
             next_timeout: m.next_timeout(&config).unwrap_or(0),
+            counters: config.counters.iter().map(|&v| u32::from(v)).collect(),
         });
     }
     out
@@ -143,8 +149,12 @@ struct CBackend;
 struct CRunner {
     exe: PathBuf,
     reject: bool,
-    /// The machine has timers: each harness line ends in ` t=.. n=..`.
+    /// The machine has timers: each harness line has ` t=.. n=..`.
     timed: bool,
+    /// The machine has counters: each harness line ends in ` c=..`.
+    counted: bool,
+    /// The commands of its faults run.
+    fault_commands: usize,
 }
 
 impl Backend for CBackend {
@@ -154,33 +164,40 @@ impl Backend for CBackend {
     fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String> {
         let files = generate_c(&case.machine, &case.label);
         let exe = build_harness(dir, &case.machine, &files)?;
-        faults_agree(&exe, &case.machine, &case.label)?;
+        let fault_commands = faults_agree(&exe, &case.machine, &case.label)?;
         Ok(Box::new(CRunner {
             exe,
             reject: case.machine.policy == Policy::Reject,
             timed: case.machine.has_timers(),
+            counted: !case.machine.counters.is_empty(),
+            fault_commands,
         }))
     }
 }
 
 /// The hostile world beyond traces: 400 commands of which about one in seven is a fault
 /// (a corrupt or restored state byte, an event number out of range, NULL hooks, a hooks
-/// struct of NULL pointers, NULL `out`, NULL machine), on the sanitizer build; the C
+/// struct of NULL pointers, NULL `out`, NULL machine), with corrupt and restored timer
+/// and counter values for machines that have them, on the sanitizer build; the C
 /// must print exactly what the interpreter predicts (`-1` and no change for every bad
 /// call and every step from a corrupt byte, normal steps again once a valid byte is
 /// restored).
-fn faults_agree(exe: &Path, m: &Machine, label: &str) -> Result<(), String> {
+const FAULT_COMMANDS: usize = 400;
+
+fn faults_agree(exe: &Path, m: &Machine, label: &str) -> Result<usize, String> {
     let seed = 0xFA17 ^ (label.len() as u64) << 16 ^ m.states.len() as u64;
+    let mut rng = Rng::new(seed);
     let cmds = if m.has_timers() {
         // Mostly time-base events (timeouts come due), with corrupt timer values too.
-        random_timed_cmds(&mut Rng::new(seed), m, 400, 0.7, true)
+        random_timed_cmds(&mut rng, m, FAULT_COMMANDS, 0.7, true)
     } else {
-        random_cmds(&mut Rng::new(seed), m, 400, true)
+        random_cmds(&mut rng, m, FAULT_COMMANDS, true)
     };
+    let cmds = with_counter_faults(&mut rng, m, cmds, 0.05);
     let got = run_harness(exe, &cmds)?;
     let want = expected_lines(m, &cmds);
     match got.iter().zip(&want).position(|(g, w)| g != w) {
-        None if got.len() == want.len() => Ok(()),
+        None if got.len() == want.len() => Ok(cmds.len()),
         at => {
             let i = at.unwrap_or(got.len().min(want.len()));
             Err(format!(
@@ -198,6 +215,10 @@ fn trace_of_cmds(cmds: &[Cmd]) -> String {
 }
 
 impl Runner for CRunner {
+    fn fault_commands(&self) -> usize {
+        self.fault_commands
+    }
+
     fn run(&self, trace: &Trace) -> Result<Vec<Seen>, String> {
         let cmds: Vec<Cmd> = trace
             .iter()
@@ -206,16 +227,24 @@ impl Runner for CRunner {
         let lines = run_harness(&self.exe, &cmds)?;
         // `STATE RC OUTBITS ACTIONS READS` per step, then ` t=T0,T1,.. n=NEXT` for a
         // machine with timers (`_`: a timer that does not count in the state; see
-        // c_harness), then ` c=..` with counters (compared value by value in
-        // `c_backend.rs`).
+        // c_harness), then ` c=C0,C1,..` for a machine with counters.
         lines
             .iter()
             .map(|l| {
                 let f: Vec<&str> = l.split(' ').collect();
-                let counted = f.last().is_some_and(|x| x.starts_with("c="));
-                if f.len() != 5 + 2 * usize::from(self.timed) + usize::from(counted) {
+                if f.len() != 5 + 2 * usize::from(self.timed) + usize::from(self.counted) {
                     return Err(format!("bad harness line `{l}`"));
                 }
+                let counters = if self.counted {
+                    f[f.len() - 1]
+                        .strip_prefix("c=")
+                        .ok_or_else(|| format!("no counters in `{l}`"))?
+                        .split(',')
+                        .map(|v| v.parse().map_err(|_| format!("bad counter in `{l}`")))
+                        .collect::<Result<Vec<u32>, _>>()?
+                } else {
+                    Vec::new()
+                };
                 let (timers, next_timeout) = if self.timed {
                     let t = f[5]
                         .strip_prefix("t=")
@@ -272,6 +301,7 @@ impl Runner for CRunner {
                     reads: Some(reads),
                     timers,
                     next_timeout,
+                    counters,
                 })
             })
             .collect()
@@ -303,14 +333,8 @@ impl Backend for VerilogBackend {
     fn build(&self, case: &Case, dir: &Path) -> Result<Box<dyn Runner>, String> {
         let m = &case.machine;
         let spec = LogicSpec::from_machine(m)?;
-        let n = m.states.len();
-        let pick = case.label.len() + m.states.len();
-        let encoding = match pick % 3 {
-            0 => Encoding::binary(n),
-            1 => Encoding::gray(n),
-            _ => Encoding::one_hot(n).unwrap_or_else(|_| Encoding::binary(n)),
-        };
-        let ff = FlipFlop::ALL[pick % 4];
+        let (encoding, ff) =
+            detent_tests::icarus::port_choice(m.states.len(), case.label.len() + m.states.len());
         let design = synthesize(&spec, &encoding, ff, false)?;
         let names: Vec<String> = m.states.iter().map(|s| s.name.clone()).collect();
         let module = generate_module(&spec, &design, &names, &case.label)?;
@@ -340,53 +364,16 @@ impl VerilogRunner {
             }));
         }
         let tb = generate_testbench(&self.machine, &self.spec, &self.design, &steps, "case")?;
-        let (v, t, exe) = (
-            self.dir.join("m.v"),
-            self.dir.join("m_tb.v"),
-            self.dir.join("m.vvp"),
-        );
-        std::fs::write(&v, &self.module).map_err(|e| e.to_string())?;
-        std::fs::write(&t, &tb).map_err(|e| e.to_string())?;
-        let out = Command::new(require_tool("iverilog")?)
-            .args(["-g2005", "-Wall", "-o"])
-            .arg(&exe)
-            .arg(&v)
-            .arg(&t)
-            .output()
-            .map_err(|e| format!("cannot run iverilog: {e}"))?;
-        let stderr = String::from_utf8_lossy(&out.stderr);
-        if !out.status.success() || stderr.contains("warning") {
-            return Err(format!("iverilog: {stderr}"));
-        }
-        let run = Command::new(require_tool("vvp")?)
-            .arg("-n")
-            .arg(&exe)
-            .output()
-            .map_err(|e| format!("cannot run vvp: {e}"))?;
-        let printed = String::from_utf8_lossy(&run.stdout);
-        let passed = printed.lines().any(|l| l.trim() == "PASS");
-        // The testbench's exit status says the same as its output ($fatal on a mismatch).
-        if passed != run.status.success() {
-            return Err(format!(
-                "the testbench exited with {} but printed:\n{printed}",
-                run.status
-            ));
-        }
-        if passed {
+        let sim = detent_tests::icarus::simulate(&self.dir, &self.module, &tb)?;
+        if sim.passed {
             return Ok(None);
         }
-        // `MISMATCH cycle N signal ...`; cycle 1 is the first reset pulse.
-        let line = printed
-            .lines()
-            .find(|l| l.contains("MISMATCH"))
-            .ok_or_else(|| {
-                format!("the testbench printed neither PASS nor MISMATCH:\n{printed}")
-            })?;
-        let cycle: usize = line
-            .split_whitespace()
-            .nth(2)
-            .and_then(|c| c.parse().ok())
-            .ok_or_else(|| format!("cannot read `{line}`"))?;
+        let (cycle, line) = sim.mismatch().ok_or_else(|| {
+            format!(
+                "the testbench printed neither PASS nor MISMATCH:\n{}",
+                sim.printed
+            )
+        })?;
         Ok(Some((cycle, line.to_string())))
     }
 }
@@ -508,6 +495,8 @@ fn configs() -> Vec<GenConfig> {
             ..d.clone()
         });
     }
+    v.extend(detent_tests::gen::timed_configs());
+    v.extend(detent_tests::gen::counter_configs());
     v
 }
 
@@ -702,6 +691,7 @@ struct Figures {
     machines: usize,
     traces: usize,
     steps: usize,
+    fault_commands: usize,
 }
 
 /// Runs every case through one back end; returns the figures, or the shrunk failures.
@@ -769,6 +759,7 @@ fn check_backend(
                 f.machines += 1;
                 f.traces += traces.len();
                 f.steps += steps;
+                f.fault_commands += runner.fault_commands();
             });
         }
     });
@@ -802,7 +793,7 @@ fn assert_backend_agrees(backend: &dyn Backend) {
             f.traces,
             f.steps,
             if backend.name() == "C" {
-                format!(", {} fault commands", f.machines * 400)
+                format!(", {} fault commands", f.fault_commands)
             } else {
                 String::new()
             }
@@ -852,6 +843,7 @@ impl Runner for RustForm {
                 reads: Some(o.reads),
                 timers: o.timers.into_iter().map(Some).collect(),
                 next_timeout: o.next_timeout.unwrap_or(0),
+                counters: o.counters.into_iter().map(u32::from).collect(),
             })
             .collect())
     }
@@ -885,10 +877,6 @@ fn every_back_end_agrees_on_the_same_machines_and_traces() {
         // and Verilog run the soak count in their own tests above.
         let backends: &[&dyn Backend] = if rc.name.starts_with("soak") {
             &[]
-        } else if !m.counters.is_empty() {
-            // The hardware port of counters lands on its own branch; C runs them here
-            // (and with every counter compared in `c_backend.rs`).
-            &[&CBackend]
         } else {
             &[&CBackend, &VerilogBackend]
         };

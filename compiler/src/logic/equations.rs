@@ -463,9 +463,10 @@ impl LogicSpec {
         let ev_bits = bus_bits(n_events);
         let n_inputs = m.inputs.len();
         let k = super::assign::dense_bits(n_states);
-        let (timers, dues) = timer_specs(m);
+        let mut names = Names::ports_of(m);
+        let (timers, dues) = timer_specs(m, &mut names);
         let n_dues = dues.len();
-        let (counters, compares, controls, seq_controls) = counter_specs(m, &timers, &dues);
+        let (counters, compares, controls, seq_controls) = counter_specs(m, &mut names);
         let n_cmp = compares.len();
         if k + ev_bits + n_inputs + n_dues + n_cmp > 64 {
             return Err(format!(
@@ -651,24 +652,43 @@ impl LogicSpec {
     }
 }
 
-/// The timer registers and due variables of a machine, named after their scopes and
-/// made distinct from every port and from each other (a clash gets `_` appended).
-fn timer_specs(m: &Machine) -> (Vec<TimerSpec>, Vec<DueVar>) {
-    let plain = |n: &str| n.trim_start_matches("r#").to_string();
-    let mut used: HashSet<String> = ["clk", "rst", "ev", "state", "tb"]
-        .iter()
-        .map(|s| s.to_string())
-        .chain(m.inputs.iter().map(|i| plain(&i.name)))
-        .chain(m.outputs.iter().map(|i| plain(&i.name)))
-        .chain(m.actions.iter().map(|i| plain(&i.name)))
-        .collect();
-    let mut fresh = |base: String| -> String {
+/// A name as a Verilog identifier: without a raw identifier's `r#`.
+fn plain(n: &str) -> String {
+    n.trim_start_matches("r#").to_string()
+}
+
+/// The datapath's names handed out so far, starting with the module's ports; each new
+/// name is made distinct from all of them (a clash gets `_` appended).
+struct Names(HashSet<String>);
+
+impl Names {
+    /// The ports of `m`'s module: clock, reset, event bus, state, time base, inputs,
+    /// outputs and actions.
+    fn ports_of(m: &Machine) -> Names {
+        Names(
+            ["clk", "rst", "ev", "state", "tb"]
+                .iter()
+                .map(|s| s.to_string())
+                .chain(m.inputs.iter().map(|i| plain(&i.name)))
+                .chain(m.outputs.iter().map(|i| plain(&i.name)))
+                .chain(m.actions.iter().map(|i| plain(&i.name)))
+                .collect(),
+        )
+    }
+
+    /// `base`, or `base` with `_` appended until it is new; taken.
+    fn fresh(&mut self, base: String) -> String {
         let mut name = base;
-        while !used.insert(name.clone()) {
+        while !self.0.insert(name.clone()) {
             name.push('_');
         }
         name
-    };
+    }
+}
+
+/// The timer registers and due variables of a machine, named after their scopes.
+fn timer_specs(m: &Machine, names: &mut Names) -> (Vec<TimerSpec>, Vec<DueVar>) {
+    let mut fresh = |base: String| names.fresh(base);
     let mut timers = Vec::with_capacity(m.timers.len());
     let mut dues = Vec::new();
     for (t, timer) in m.timers.iter().enumerate() {
@@ -708,13 +728,11 @@ fn timer_specs(m: &Machine) -> (Vec<TimerSpec>, Vec<DueVar>) {
 
 /// The counter registers, comparison variables and control functions of a machine,
 /// and per interned operation sequence of the lowered form the controls it raises.
-/// Names are made distinct from every port, timer name and each other (a clash gets
-/// `_` appended).
+/// Names are made distinct from every port, timer name and each other.
 #[allow(clippy::type_complexity)]
 fn counter_specs(
     m: &Machine,
-    timers: &[TimerSpec],
-    dues: &[DueVar],
+    names: &mut Names,
 ) -> (
     Vec<CounterSpec>,
     Vec<CompareVar>,
@@ -722,27 +740,7 @@ fn counter_specs(
     Vec<Vec<usize>>,
 ) {
     use crate::model::{Cmp, CounterId};
-    let plain = |n: &str| n.trim_start_matches("r#").to_string();
-    let mut used: HashSet<String> = ["clk", "rst", "ev", "state", "tb"]
-        .iter()
-        .map(|s| s.to_string())
-        .chain(m.inputs.iter().map(|i| plain(&i.name)))
-        .chain(m.outputs.iter().map(|i| plain(&i.name)))
-        .chain(m.actions.iter().map(|i| plain(&i.name)))
-        .chain(
-            timers
-                .iter()
-                .flat_map(|t| [t.register.clone(), t.clear.clone()]),
-        )
-        .chain(dues.iter().map(|d| d.name.clone()))
-        .collect();
-    let mut fresh = |base: String| -> String {
-        let mut name = base;
-        while !used.insert(name.clone()) {
-            name.push('_');
-        }
-        name
-    };
+    let mut fresh = |base: String| names.fresh(base);
     let mut counters: Vec<CounterSpec> = m
         .counters
         .iter()

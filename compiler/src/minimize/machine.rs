@@ -574,9 +574,11 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
         let me = Scope::State(StateId::from_index(c));
         let st = &m.states[rep.index()];
         let cells = lowered.cells_of(rep);
-        let wildcard_fires = cells
-            .iter()
-            .any(|cell| cell.events == CellEvents::Rest && !cell.choices.is_empty());
+        // The class state gets `_` rules: a choice of the rest cell that is not a timeout
+        // (timeouts become `after` rules).
+        let wildcard_fires = cells.iter().any(|cell| {
+            cell.events == CellEvents::Rest && cell.choices.iter().any(|c| c.due.is_none())
+        });
         let mut own = ScopeRules::default();
         for cell in cells {
             let trigger = match cell.events {
@@ -592,25 +594,6 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                 rules.push(rule);
                 fired.push(due);
             };
-            if cell.choices.is_empty() && cell.events != CellEvents::Rest && wildcard_fires {
-                // Named, yet nothing fires: keep it named so it does not fall to `_`.
-                add(
-                    Rule {
-                        span: sp,
-                        guard_span: sp,
-                        scope: me,
-                        preempt: false,
-                        otherwise: false,
-                        trigger: trigger.clone(),
-                        guard_expr: Some(Guard::Const(false)),
-                        guard: Bdd::FALSE,
-                        target: Target::Stay,
-                        mealy: Vec::new(),
-                        actions: Vec::new(),
-                    },
-                    None,
-                );
-            }
             // The quotient has no groups, so a cell's choices all become rules of one
             // state scope. Choices of one lookup step and scope are exclusive (or the
             // last is `else`, which stays `else`: it takes what the others leave); a
@@ -693,9 +676,30 @@ fn build_quotient(m: &Machine, min: &Minimization) -> Machine {
                     None => plain.push(id),
                 }
             }
-            let ids = plain;
+            let mut ids = plain;
             if ids.is_empty() {
-                continue;
+                match cell.events {
+                    CellEvents::One(_) if !m.clocked && wildcard_fires => {
+                        // Named, yet no rule naming the event fires (none does, or
+                        // only timeouts do, which become `after` rules): keep it named
+                        // with a rule that never fires, so it does not fall to `_`.
+                        ids.push(RuleId::from_index(rules.len()));
+                        rules.push(Rule {
+                            span: sp,
+                            guard_span: sp,
+                            scope: me,
+                            preempt: false,
+                            otherwise: false,
+                            trigger: trigger.clone(),
+                            guard_expr: Some(Guard::Const(false)),
+                            guard: Bdd::FALSE,
+                            target: Target::Stay,
+                            mealy: Vec::new(),
+                            actions: Vec::new(),
+                        });
+                    }
+                    _ => continue,
+                }
             }
             match cell.events {
                 CellEvents::One(e) if !m.clocked => own.named.push((e, ids)),
