@@ -175,15 +175,16 @@ impl Backend for CBackend {
     }
 }
 
-/// The hostile world beyond traces: 400 commands of which about one in seven is a fault
-/// (a corrupt or restored state byte, an event number out of range, NULL hooks, a hooks
-/// struct of NULL pointers, NULL `out`, NULL machine), with corrupt and restored timer
-/// and counter values for machines that have them, on the sanitizer build; the C
-/// must print exactly what the interpreter predicts (`-1` and no change for every bad
-/// call and every step from a corrupt byte, normal steps again once a valid byte is
-/// restored).
+/// Commands of the C harness's faults run per machine (before counter writes).
 const FAULT_COMMANDS: usize = 400;
 
+/// The hostile world beyond traces: [`FAULT_COMMANDS`] commands of which about one in
+/// seven is a fault (a corrupt or restored state byte, an event number out of range,
+/// NULL hooks, a hooks struct of NULL pointers, NULL `out`, NULL machine), with corrupt
+/// and restored timer and counter values for machines that have them, on the sanitizer
+/// build; the C must print exactly what the interpreter predicts (`-1` and no change
+/// for every bad call and every step from a corrupt byte, normal steps again once a
+/// valid byte is restored). Returns the number of commands run.
 fn faults_agree(exe: &Path, m: &Machine, label: &str) -> Result<usize, String> {
     let seed = 0xFA17 ^ (label.len() as u64) << 16 ^ m.states.len() as u64;
     let mut rng = Rng::new(seed);
