@@ -64,7 +64,7 @@ say "Fuzz targets (fuzz/, libFuzzer through cargo-fuzz; RELIABILITY.md, \"Fuzzin
 # is repeatable. Builds with debug assertions (overflow checks) and without the
 # address sanitizer (the compiler has no unsafe code). A crash fails the script and
 # leaves the input in fuzz/artifacts/TARGET/.
-FUZZ_SECONDS=${FUZZ_SECONDS:-45}
+FUZZ_SECONDS=${FUZZ_SECONDS:-60}
 if ! cargo +nightly --version >/dev/null 2>&1; then
   rustup toolchain install nightly --profile minimal
 fi
