@@ -129,6 +129,20 @@ fn write_differential_machines() {
             .chain(timed[..2].iter())
             .chain(counted[..2].iter())
             .collect();
+        // Machines one build compiles; past it, rustc's memory grows past what a
+        // small machine has (about 2.4 MB per machine in four forms, measured: 10,000
+        // took more than 24 GiB).
+        const MAX_SOAK_PER_BUILD: u64 = 2_000;
+        let in_build = n.div_ceil(chunk.1);
+        assert!(
+            in_build <= MAX_SOAK_PER_BUILD,
+            "DETENT_SOAK_MACHINES={n} in chunk {}/{} compiles {in_build} machines in one build, \
+             more than {MAX_SOAK_PER_BUILD}; set DETENT_SOAK_CHUNK=k/n with n at least {} \
+             (scripts/soak.sh does)",
+            chunk.0,
+            chunk.1,
+            n.div_ceil(MAX_SOAK_PER_BUILD)
+        );
         let per = n.div_ceil(small.len() as u64);
         let mut number = 0u64;
         for (ci, cfg) in small.iter().enumerate() {
