@@ -47,7 +47,7 @@ fn write_differential_machines() {
     // forms of the extra ones are `gen rust` table and match only (the macros expand the
     // same generator), compiled into the differential test.
     println!("cargo:rerun-if-env-changed=DETENT_SOAK_MACHINES");
-    // One crate of 10,000 machines in four forms does not fit in 24 GiB for rustc:
+    // One crate of 10,000 machines in two forms does not fit in 24 GiB for rustc:
     // `DETENT_SOAK_CHUNK=k/n` compiles only the soak machines whose number is k modulo
     // n (scripts/soak.sh builds and runs the chunks one after the other).
     println!("cargo:rerun-if-env-changed=DETENT_SOAK_CHUNK");
@@ -130,8 +130,8 @@ fn write_differential_machines() {
             .chain(counted[..2].iter())
             .collect();
         // Machines one build compiles; past it, rustc's memory grows past what a
-        // small machine has (about 2.4 MB per machine in four forms, measured: 10,000
-        // took more than 24 GiB).
+        // small machine has (10,000 machines in two forms took more than 24 GiB, so
+        // more than 2.4 MB each; 1,000 fit).
         const MAX_SOAK_PER_BUILD: u64 = 2_000;
         let in_build = n.div_ceil(chunk.1);
         assert!(
