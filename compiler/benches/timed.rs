@@ -9,7 +9,7 @@
 //! `python3 scripts/bench_ratios.py timed --base ticks30` prints the ratios.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use detent_compiler::model::Machine;
+use detent_tests::resolved_machine as resolve;
 use std::time::Duration;
 
 // The allocator of the `detent` binary (cli/src/main.rs), so the figures are the CLI's.
@@ -39,13 +39,6 @@ fn pump(timebase: &str, timeout: &str) -> String {
             state Fault emit alarm {{ Stop => Idle; Start | Primed | Tick => stay; }}
         }}"
     )
-}
-
-fn resolve(text: &str) -> Machine {
-    let file = detent_compiler::syntax::parse_source(text).expect("parses");
-    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
-    assert!(errors.is_empty(), "{errors:#?}");
-    machines.remove(0)
 }
 
 fn timed(c: &mut Criterion) {

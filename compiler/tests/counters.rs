@@ -7,13 +7,7 @@
 use detent_compiler::check::property::check_ensure;
 use detent_compiler::diag::{Diagnostic, Lint};
 use detent_compiler::model::{Machine, Property};
-
-fn resolve(text: &str) -> Machine {
-    let file = detent_compiler::syntax::parse_source(text).expect("parses");
-    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
-    assert!(errors.is_empty(), "{text}\n{errors:#?}");
-    machines.remove(0)
-}
+use detent_tests::resolved_machine as resolve;
 
 fn check(text: &str) -> Vec<Diagnostic> {
     detent_compiler::check::check_machine(&resolve(text))

@@ -24,15 +24,8 @@ use detent_compiler::syntax::ast::{LevelAttr, Policy};
 use detent_compiler::table::{rows, RowKind};
 use detent_compiler::tour::transitions;
 use detent_tests::gen::{random_spec, random_trace, GenConfig, Rng};
+use detent_tests::resolved_machine as resolve;
 use std::collections::{BTreeMap, BTreeSet, VecDeque};
-
-/// Parses and resolves one machine; the checker's verdict does not matter here.
-fn resolve(text: &str) -> Machine {
-    let file = detent_compiler::syntax::parse_source(text).expect("parses");
-    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
-    assert!(errors.is_empty(), "{text}\n{errors:#?}");
-    machines.remove(0)
-}
 
 /// Overlapping and shadowed rules, a never-true guard, a state's `_` that takes over
 /// its group's named rules (the lookup of today's resolver), an event (`C` in `S`) named

@@ -9,13 +9,7 @@ use detent_compiler::model::{
     CounterOpKind, EventId, Guard, Machine, Op, RuleId, Scope, StateId, Target, TimerId,
 };
 use detent_tests::gen::{random_spec, random_timed_trace, GenConfig, Rng};
-
-fn resolve(text: &str) -> Machine {
-    let file = detent_compiler::syntax::parse_source(text).expect("parses");
-    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
-    assert!(errors.is_empty(), "{text}\n{errors:#?}");
-    machines.remove(0)
-}
+use detent_tests::resolved_machine as resolve;
 
 fn errors(text: &str) -> Vec<String> {
     let report = detent_compiler::driver::check_source("t.detent", text);

@@ -57,6 +57,19 @@ pub fn machine_seed(base: u64, ci: usize, k: u64) -> u64 {
     }
 }
 
+/// The first machine of a spec, parsed and resolved but not checked (for tests and
+/// benchmarks of the checker's own findings, which a checked machine would not reach).
+///
+/// # Panics
+///
+/// When the spec does not parse or resolve (with the text and the errors).
+pub fn resolved_machine(text: &str) -> detent_compiler::model::Machine {
+    let file = detent_compiler::syntax::parse_source(text).expect("parses");
+    let (mut machines, errors) = detent_compiler::model::resolve_file(&file);
+    assert!(errors.is_empty(), "{text}\n{errors:#?}");
+    machines.remove(0)
+}
+
 /// The one machine of a spec that must check with no error.
 ///
 /// # Panics
