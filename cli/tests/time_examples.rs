@@ -37,6 +37,34 @@ fn example(name: &str) -> PathBuf {
         .join(name)
 }
 
+/// The burner with `from` replaced by `to` (which must be in it), written as `file` in
+/// a fresh folder; `check --format json` on it must exit 1 with a property diagnostic.
+/// Returns the folder (kept while the caller uses the spec), the spec's path, and the
+/// diagnostic.
+fn burner_violation(
+    from: &str,
+    to: &str,
+    file: &str,
+) -> (tempfile::TempDir, String, serde_json::Value) {
+    let text = std::fs::read_to_string(example("burner.detent")).unwrap();
+    assert!(text.contains(from), "the burner has `{from}`");
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join(file);
+    std::fs::write(&spec, text.replace(from, to)).unwrap();
+    let spec = spec.to_str().unwrap().to_string();
+    let out = detent(&["check", "--format", "json", &spec], None);
+    assert_eq!(out.status.code(), Some(1));
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let diag = report["machines"][0]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["lint"] == "property")
+        .expect("a property is violated")
+        .clone();
+    (dir, spec, diag)
+}
+
 #[test]
 fn the_burner_window_proof_and_its_long_counterexample() {
     let burner = example("burner.detent");
@@ -49,23 +77,12 @@ fn the_burner_window_proof_and_its_long_counterexample() {
     );
 
     // One line longer window: a second trial fits in it.
-    let text = std::fs::read_to_string(&burner).unwrap();
-    assert!(text.contains("after 20 s => Lockout"));
-    let longer = text.replace("after 20 s => Lockout", "after 25 s => Lockout");
-    let dir = tempfile::tempdir().unwrap();
-    let spec = dir.path().join("burner25.detent");
-    std::fs::write(&spec, longer).unwrap();
-    let spec = spec.to_str().unwrap();
-    let out = detent(&["check", "--format", "json", spec], None);
-    assert_eq!(out.status.code(), Some(1));
-    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let diag = report["machines"][0]["diagnostics"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|d| d["lint"] == "property")
-        .expect("the property is violated")
-        .clone();
+    let (_dir, spec, diag) = burner_violation(
+        "after 20 s => Lockout",
+        "after 25 s => Lockout",
+        "burner25.detent",
+    );
+    let spec = spec.as_str();
     let trace = diag["trace"].as_array().unwrap();
     // Shortest: Demand, then 1,000 ticks of purge, 300 of trial, 1,000 of purge again.
     assert_eq!(trace.len(), 2, "{trace:?}");
@@ -101,21 +118,12 @@ fn the_burner_safety_time_holds_to_the_tick_and_one_tick_more_fails() {
     let out = detent(&["check", burner.to_str().unwrap()], None);
     assert_eq!(out.status.code(), Some(0));
     // One 10 ms tick longer: refused.
-    let slower = text.replace("after 3 s => Repurge", "after 3010 ms => Repurge");
-    let dir = tempfile::tempdir().unwrap();
-    let spec = dir.path().join("burner_slow.detent");
-    std::fs::write(&spec, slower).unwrap();
-    let spec = spec.to_str().unwrap();
-    let out = detent(&["check", "--format", "json", spec], None);
-    assert_eq!(out.status.code(), Some(1));
-    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let diag = report["machines"][0]["diagnostics"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|d| d["lint"] == "property")
-        .expect("the deadline is violated")
-        .clone();
+    let (_dir, spec, diag) = burner_violation(
+        "after 3 s => Repurge",
+        "after 3010 ms => Repurge",
+        "burner_slow.detent",
+    );
+    let spec = spec.as_str();
     assert_eq!(
         diag["message"],
         "property `ensure !gas_valve || in Running within 3 s after in Trial` is violated at step 1301"
