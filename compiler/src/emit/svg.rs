@@ -196,11 +196,11 @@ fn write_label(svg: &mut String, e: &EdgeGeometry) {
     let Some(lb) = e.label_box else { return };
     let x = num(lb.x + 1.0);
     let mut row = 0;
+    let attrs = format!(
+        r##"font-size="{}" fill="#1a202c" stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke""##,
+        num(TEXT_FONT)
+    );
     for line in &e.labels {
-        let attrs = format!(
-            r##"font-size="{}" fill="#1a202c" stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke""##,
-            num(TEXT_FONT)
-        );
         if !line.contains('\n') {
             let _ = writeln!(
                 svg,
