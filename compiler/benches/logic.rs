@@ -3,12 +3,18 @@
 //! functions `examples/logic_export.rs` exports for `tests/python/bench_sopform.py`),
 //! and the heuristic on 20-, 24- and 32-variable cube-list functions. Literal counts
 //! (and, for exact, whether the minimum was proven) are printed once per group.
+//! `off_set`: the heuristic on the wide functions of a one-hot machine with the off-set
+//! complemented from the on- and don't-care sets (the baseline, as before) and taken
+//! from the machine's regions (what `synthesize` does now), in the same run.
 //!
 //! `cargo bench -p detent-compiler --bench logic`
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use detent_compiler::logic::assign::Encoding;
+use detent_compiler::logic::equations::{synthesize, LogicSpec};
 use detent_compiler::logic::exact::{minimize_exact, DEFAULT_NODE_BUDGET};
-use detent_compiler::logic::heuristic::minimize_heuristic;
+use detent_compiler::logic::excitation::FlipFlop;
+use detent_compiler::logic::heuristic::{minimize_heuristic, minimize_heuristic_against};
 use detent_compiler::testing::logic::{
     benchmark_functions, planted_cube_function, random_cube_function, Rng,
 };
@@ -70,5 +76,58 @@ fn heuristic(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, exact, heuristic);
+/// The wide (heuristic) functions of the charger fixture under one-hot with D
+/// flip-flops (9 state bits + 2 event bits + 6 inputs = 17 variables), minimized with
+/// the complement as the off-set and with the regions' off-set.
+fn off_set(c: &mut Criterion) {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/charger.detent");
+    let m =
+        detent_tests::checked_machine("charger.detent", &std::fs::read_to_string(path).unwrap());
+    let spec = LogicSpec::from_machine(&m).unwrap();
+    let encoding = Encoding::one_hot(m.states.len()).unwrap();
+    let design = synthesize(&spec, &encoding, FlipFlop::D, false).unwrap();
+    let wide: Vec<_> = design
+        .functions
+        .iter()
+        .filter(|f| f.vars.len() > detent_compiler::logic::EXACT_MAX_VARS)
+        .collect();
+    let count = |f: &dyn Fn(
+        &detent_compiler::logic::equations::LogicFunction,
+    ) -> Vec<detent_compiler::logic::Cube>|
+     -> usize {
+        wide.iter()
+            .map(|x| f(x).iter().map(|c| c.literals()).sum::<usize>())
+            .sum()
+    };
+    println!(
+        "off_set: {} functions of {} variables; literals with the complement {}, with the regions {}",
+        wide.len(),
+        wide.first().map_or(0, |f| f.vars.len()),
+        count(&|f| minimize_heuristic(&f.on_cubes, &f.dc_cubes).0),
+        count(&|f| minimize_heuristic_against(&f.on_cubes, &f.dc_cubes, &f.off_cubes).0),
+    );
+    let mut group = c.benchmark_group("off_set");
+    group.sample_size(10);
+    group.bench_function("complement", |b| {
+        b.iter(|| {
+            for f in &wide {
+                std::hint::black_box(minimize_heuristic(&f.on_cubes, &f.dc_cubes));
+            }
+        })
+    });
+    group.bench_function("regions", |b| {
+        b.iter(|| {
+            for f in &wide {
+                std::hint::black_box(minimize_heuristic_against(
+                    &f.on_cubes,
+                    &f.dc_cubes,
+                    &f.off_cubes,
+                ));
+            }
+        })
+    });
+    group.finish();
+}
+
+criterion_group!(benches, exact, heuristic, off_set);
 criterion_main!(benches);

@@ -761,6 +761,16 @@ fn check_backend(
                 f.traces += traces.len();
                 f.steps += steps;
                 f.fault_commands += runner.fault_commands();
+                // A soak runs for an hour or more: say how far it got, so that a machine
+                // that takes long shows up while it runs.
+                if specs.len() > 1_000 && f.machines % 500 == 0 {
+                    eprintln!(
+                        "differential {}: {} of {} machines done",
+                        backend.name(),
+                        f.machines,
+                        specs.len()
+                    );
+                }
             });
         }
     });

@@ -70,12 +70,13 @@
 //! form, so the huge don't-care space is never enumerated.
 
 use super::assign::{bus_bits, Adjacency, Encoding};
-use super::cube::{full_mask, Cube};
+use super::cube::{full_mask, remove_contained, Cube};
 use super::excitation::{Excite, FlipFlop};
 use super::gates::{two_level_cost, Form, GateCost};
+use super::heuristic::cut_where_cared;
 use super::{
-    check_cover, check_cube_cover, minimize, minimize_cubes, minimize_with_cubes, Cover,
-    CubeFunction, Function, EXACT_MAX_VARS,
+    check_cover, check_cube_cover_against, minimize, minimize_cubes_against, minimize_with_cubes,
+    Cover, CubeFunction, Function, EXACT_MAX_VARS,
 };
 use crate::model::{Bdd, Machine};
 use std::collections::{HashMap, HashSet};
@@ -392,6 +393,10 @@ pub struct LogicFunction {
     pub on_cubes: Vec<Cube>,
     /// The don't-care set as cubes.
     pub dc_cubes: Vec<Cube>,
+    /// The off-set as cubes, disjoint from `on_cubes` outside `dc_cubes` (taken from
+    /// the regions where the function is 0, not by complementing; it may overlap
+    /// `dc_cubes`; together the three cover the space).
+    pub off_cubes: Vec<Cube>,
     /// On and dc minterms (disjoint), when there are at most [`MINTERM_MAX_VARS`]
     /// variables.
     pub minterms: Option<Minterms>,
@@ -884,21 +889,27 @@ pub(crate) fn tabulate(vars: &[String], on: &[Cube], dc: &[Cube]) -> Option<Func
 }
 
 /// The cover [`synthesize`] gives a function: exact from minterms (primes from the cube
-/// lists) up to [`EXACT_MAX_VARS`] variables, the heuristic on the cube lists beyond.
-/// `table` is [`tabulate`] of the same function.
-pub(crate) fn minimize_sets(cf: &CubeFunction, table: Option<&Function>) -> Result<Cover, String> {
+/// lists) up to [`EXACT_MAX_VARS`] variables, the heuristic on the cube lists beyond,
+/// expanding against `off` (the function's off-set, from [`function_sets`]). `table` is
+/// [`tabulate`] of the same function.
+pub(crate) fn minimize_sets(
+    cf: &CubeFunction,
+    off: &[Cube],
+    table: Option<&Function>,
+) -> Result<Cover, String> {
     match table {
         Some(f) if f.vars.len() <= EXACT_MAX_VARS => minimize_with_cubes(f, Some(cf)),
-        _ => minimize_cubes(cf),
+        _ => minimize_cubes_against(cf, off),
     }
 }
 
-/// Minimizes one function given as cube lists, tabulating it as minterms when small,
-/// and checks the cover against the on- and off-set.
+/// Minimizes one function given as cube lists (`off` its off-set), tabulating it as
+/// minterms when small, and checks the cover against the on- and off-set.
 fn minimize_function(
     vars: &[String],
     on: &[Cube],
     dc: &[Cube],
+    off: &[Cube],
 ) -> Result<(Option<Minterms>, Cover), String> {
     let cf = CubeFunction {
         vars: vars.to_vec(),
@@ -906,20 +917,24 @@ fn minimize_function(
         dc: dc.to_vec(),
     };
     let table = tabulate(vars, on, dc);
-    let cover = minimize_sets(&cf, table.as_ref())?;
+    let cover = minimize_sets(&cf, off, table.as_ref())?;
     match table {
         Some(f) => {
             check_cover(&f, &cover)?;
             Ok((Some((f.on, f.dc)), cover))
         }
         None => {
-            check_cube_cover(&cf, &cover)?;
+            check_cube_cover_against(&cf, off, &cover)?;
             Ok((None, cover))
         }
     }
 }
 
 /// Minimizes the complement of a function (for NOR-NOR).
+///
+/// Wide functions: the complement's on-set is the function's off-set, and its off-set
+/// the on-set (cut by the don't-cares where they constrain it), so no cube list is
+/// complemented.
 fn minimize_complement(f: &LogicFunction) -> Result<Cover, String> {
     let n = f.vars.len();
     match &f.minterms {
@@ -935,14 +950,14 @@ fn minimize_complement(f: &LogicFunction) -> Result<Cover, String> {
             Ok(cover)
         }
         _ => {
-            let cf = CubeFunction {
+            let comp = CubeFunction {
                 vars: f.vars.clone(),
-                on: f.on_cubes.clone(),
+                on: f.off_cubes.clone(),
                 dc: f.dc_cubes.clone(),
             };
-            let comp = cf.complement()?;
-            let cover = minimize_cubes(&comp)?;
-            check_cube_cover(&comp, &cover)?;
+            let comp_off = cut_where_cared(&f.on_cubes, &f.dc_cubes);
+            let cover = minimize_cubes_against(&comp, &comp_off)?;
+            check_cube_cover_against(&comp, &comp_off, &cover)?;
             Ok(cover)
         }
     }
@@ -960,7 +975,7 @@ pub fn synthesize(
     let sets = function_sets(spec, encoding, ff)?;
     let mut out = Vec::with_capacity(sets.functions.len());
     for set in sets.functions {
-        let (minterms, cover) = minimize_function(&set.vars, &set.on, &set.dc)
+        let (minterms, cover) = minimize_function(&set.vars, &set.on, &set.dc, &set.off)
             .map_err(|e| format!("function {}: {e}", set.name))?;
         let mut f = LogicFunction {
             name: set.name,
@@ -968,6 +983,7 @@ pub fn synthesize(
             vars: set.vars,
             on_cubes: set.on,
             dc_cubes: set.dc,
+            off_cubes: set.off,
             minterms,
             cover,
             complement: None,
@@ -1004,6 +1020,10 @@ pub(crate) struct FunctionSet {
     pub on: Vec<Cube>,
     /// The don't-care cubes.
     pub dc: Vec<Cube>,
+    /// The off-set cubes: the regions where the function is 0, with exact state codes,
+    /// cut by the structural don't-cares (see [`function_sets`]); what the heuristic
+    /// expands against.
+    pub off: Vec<Cube>,
 }
 
 /// Every function of a machine under one assignment, unminimized.
@@ -1018,8 +1038,16 @@ pub(crate) struct FunctionSets {
     pub functions: Vec<FunctionSet>,
 }
 
-/// The on- and don't-care sets of every function of `spec` under `encoding` with
+/// The on-, don't-care and off-sets of every function of `spec` under `encoding` with
 /// flip-flop type `ff` (what [`synthesize`] minimizes).
+///
+/// The off-set comes from the regions too, never from complementing the other two: the
+/// regions where the function is 0, each with its state's whole code (one-hot included,
+/// so no off cube meets another state's on cubes), cut by the structural don't-cares
+/// (impossible due or comparison values, unused codes) where they constrain a variable
+/// the region cares for ([`cut_where_cared`]). The regions of a state partition its
+/// events and conditions, so on, don't-care and off cover the space; the off-set may
+/// overlap the don't-cares where a region leaves all their variables free.
 pub(crate) fn function_sets(
     spec: &LogicSpec,
     encoding: &Encoding,
@@ -1153,6 +1181,9 @@ pub(crate) fn function_sets(
         + spec.controls.len();
     let mut on: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
     let mut dc: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
+    let mut off: Vec<Vec<Cube>> = vec![Vec::new(); n_fns];
+    // A state's whole code over the k state bits (for the off-sets).
+    let code_cube = |s: usize| Cube::new(encoding.codes[s], full_mask(k));
     let ff_index = |bit: usize, input: usize| (k - 1 - bit) * n_ff_inputs + input;
     let out_index = |o: usize| k * n_ff_inputs + o;
     let act_index = |a: usize| k * n_ff_inputs + spec.outputs.len() + a;
@@ -1160,17 +1191,25 @@ pub(crate) fn function_sets(
     let control_index = |j: usize| clear_index(spec.timers.len()) + j;
 
     for r in &spec.regions {
-        let sc = lift(&state_cube(r.state), state_shift);
-        let mut cubes = Vec::with_capacity(r.events.len() * r.guards.len());
-        for &e in &r.events {
-            let ec = Cube::new(e << nc, full_mask(b) << nc);
-            for g in &r.guards {
-                cubes.push(Cube::new(
-                    sc.value | ec.value | g.value,
-                    sc.care | ec.care | g.care,
-                ));
+        let region_cubes = |sc: Cube| -> Vec<Cube> {
+            let mut cubes = Vec::with_capacity(r.events.len() * r.guards.len());
+            for &e in &r.events {
+                let ec = Cube::new(e << nc, full_mask(b) << nc);
+                for g in &r.guards {
+                    cubes.push(Cube::new(
+                        sc.value | ec.value | g.value,
+                        sc.care | ec.care | g.care,
+                    ));
+                }
             }
-        }
+            cubes
+        };
+        let cubes = region_cubes(lift(&state_cube(r.state), state_shift));
+        let exact = if encoding.is_one_hot() {
+            region_cubes(lift(&code_cube(r.state), state_shift))
+        } else {
+            cubes.clone()
+        };
         let (from, to) = (encoding.codes[r.state], encoding.codes[r.next]);
         for bit in 0..k {
             let need = ff.excitation(from >> bit & 1 == 1, to >> bit & 1 == 1);
@@ -1179,20 +1218,23 @@ pub(crate) fn function_sets(
                 match e {
                     Excite::One => on[idx].extend_from_slice(&cubes),
                     Excite::DontCare => dc[idx].extend_from_slice(&cubes),
-                    Excite::Zero => {}
+                    Excite::Zero => off[idx].extend_from_slice(&exact),
                 }
             }
         }
         for o in 0..spec.outputs.len() {
             if spec.mealy_output[o] && (r.mealy.contains(&o) || spec.moore[r.state].contains(&o)) {
                 on[out_index(o)].extend_from_slice(&cubes);
+            } else {
+                off[out_index(o)].extend_from_slice(&exact);
             }
         }
-        let mut acts = r.actions.clone();
-        acts.sort_unstable();
-        acts.dedup();
-        for a in acts {
-            on[act_index(a)].extend_from_slice(&cubes);
+        for a in 0..spec.actions.len() {
+            if r.actions.contains(&a) {
+                on[act_index(a)].extend_from_slice(&cubes);
+            } else {
+                off[act_index(a)].extend_from_slice(&exact);
+            }
         }
         for (t, timer) in spec.timers.iter().enumerate() {
             if !timer.active[r.next] {
@@ -1203,10 +1245,16 @@ pub(crate) fn function_sets(
             } else if r.resets.contains(&t) {
                 // The lowered choice's `resets`: a scope the step enters restarts.
                 on[clear_index(t)].extend_from_slice(&cubes);
+            } else {
+                off[clear_index(t)].extend_from_slice(&exact);
             }
         }
-        for &j in &r.controls {
-            on[control_index(j)].extend_from_slice(&cubes);
+        for j in 0..spec.controls.len() {
+            if r.controls.contains(&j) {
+                on[control_index(j)].extend_from_slice(&cubes);
+            } else {
+                off[control_index(j)].extend_from_slice(&exact);
+            }
         }
     }
 
@@ -1235,18 +1283,20 @@ pub(crate) fn function_sets(
     }
     let mut out = Vec::with_capacity(n_fns);
     for (name, role, idx) in functions {
-        let (vars, on_cubes, dc_cubes) = match role {
+        let (vars, on_cubes, dc_cubes, off_cubes) = match role {
             Role::Output(o) if !spec.mealy_output[o] => {
-                let on: Vec<Cube> = (0..spec.n_states)
-                    .filter(|&s| spec.moore[s].contains(&o))
-                    .map(state_cube)
-                    .collect();
-                (state_vars.clone(), on, state_dc.clone())
+                let (on, off): (Vec<usize>, Vec<usize>) =
+                    (0..spec.n_states).partition(|&s| spec.moore[s].contains(&o));
+                let on: Vec<Cube> = on.into_iter().map(state_cube).collect();
+                let mut off: Vec<Cube> = off.into_iter().map(code_cube).collect();
+                remove_contained(&mut off);
+                (state_vars.clone(), on, state_dc.clone(), off)
             }
             _ => {
                 let mut d = std::mem::take(&mut dc[idx]);
                 d.extend_from_slice(&global_dc);
-                (all_vars.clone(), std::mem::take(&mut on[idx]), d)
+                let off = cut_where_cared(&off[idx], &global_dc);
+                (all_vars.clone(), std::mem::take(&mut on[idx]), d, off)
             }
         };
         out.push(FunctionSet {
@@ -1255,6 +1305,7 @@ pub(crate) fn function_sets(
             vars,
             on: on_cubes,
             dc: dc_cubes,
+            off: off_cubes,
         });
     }
     Ok(FunctionSets {

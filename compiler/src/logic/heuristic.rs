@@ -7,7 +7,10 @@
 //! * **complement**: the off-set `R` is the complement of `F ∪ D`, computed by the
 //!   unate-recursive paradigm: Shannon expansion on the most binate variable, a
 //!   De Morgan expansion at single cubes, and merging of the two halves (a cube found in
-//!   both halves loses the splitting literal). Never by enumerating minterms.
+//!   both halves loses the splitting literal). Never by enumerating minterms. The
+//!   recursion is exponential in the worst case, so a caller that knows the off-set
+//!   passes it ([`minimize_heuristic_against`]): the logic port takes it from the
+//!   machine's regions ([`cut_where_cared`]), and complements nothing.
 //! * **expand**: each cube, largest first, drops literals one at a time as long as it
 //!   stays disjoint from `R`; the literal order favours literals whose removal lets the
 //!   cube swallow other cubes of the cover. Every expanded cube is prime. Cost
@@ -16,7 +19,9 @@
 //!   of the cofactor) is dropped, trying cubes with the most literals first.
 //! * **reduce**: each cube shrinks to the smallest cube containing the part of it that no
 //!   other cube (nor `D`) covers (the supercube of the complement of the cofactor), which
-//!   lets the next expand move in another direction.
+//!   lets the next expand move in another direction. That supercube is found by the
+//!   same recursion, with a node budget ([`SUPERCUBE_NODE_BUDGET`]): past it the cube
+//!   stays as it is (the cover stays correct, perhaps a literal larger).
 //!
 //! The loop stops when a pass (reduce, expand, irredundant) no longer lowers the cost
 //! (literals, then products). The result is a prime and irredundant cover, not
@@ -72,7 +77,8 @@ pub fn cofactor(cubes: &[Cube], by: &Cube) -> Vec<Cube> {
 /// Whether the union of the cubes is the whole space (unate-recursive tautology check).
 pub fn tautology(cubes: &[Cube]) -> bool {
     let mut buf = cubes.to_vec();
-    tautology_in(&mut buf, 0)
+    let mut unbounded = usize::MAX;
+    tautology_in(&mut buf, 0, &mut unbounded) == Ok(true)
 }
 
 /// Sum of the cube volumes as a fraction of the space, in units of `2^-64` (a cube of
@@ -86,15 +92,21 @@ fn volume(cubes: &[Cube]) -> u128 {
 
 /// [`tautology`] of `buf[start..]`, using the end of `buf` as scratch for the cofactors
 /// of the recursion (no allocation per node); `buf` is left as it was.
-fn tautology_in(buf: &mut Vec<Cube>, start: usize) -> bool {
+///
+/// `Err(())` when `budget` (recursion nodes left) runs out.
+fn tautology_in(buf: &mut Vec<Cube>, start: usize, budget: &mut usize) -> Result<bool, ()> {
+    if *budget == 0 {
+        return Err(());
+    }
+    *budget -= 1;
     let end = buf.len();
     let cubes = &buf[start..end];
     if cubes.iter().any(|c| c.care == 0) {
-        return true;
+        return Ok(true);
     }
     // Too little volume to cover the space (also catches the empty list).
     if volume(cubes) < 1u128 << 64 {
-        return false;
+        return Ok(false);
     }
     let (mut ones, mut zeros) = (0u64, 0u64);
     for c in cubes {
@@ -112,13 +124,17 @@ fn tautology_in(buf: &mut Vec<Cube>, start: usize) -> bool {
                 buf.push(c);
             }
         }
-        let holds = buf.len() > end && tautology_in(buf, end);
+        let holds = if buf.len() > end {
+            tautology_in(buf, end, budget)
+        } else {
+            Ok(false)
+        };
         buf.truncate(end);
         return holds;
     }
     match split_variable(cubes) {
-        None => true,
-        Some((_, false)) => false,
+        None => Ok(true),
+        Some((_, false)) => Ok(false),
         Some((bit, true)) => {
             for value in [0, bit] {
                 let by = Cube { value, care: bit };
@@ -127,27 +143,28 @@ fn tautology_in(buf: &mut Vec<Cube>, start: usize) -> bool {
                         buf.push(c);
                     }
                 }
-                let holds = tautology_in(buf, end);
+                let holds = tautology_in(buf, end, budget);
                 buf.truncate(end);
-                if !holds {
-                    return false;
+                if holds != Ok(true) {
+                    return holds;
                 }
             }
-            true
+            Ok(true)
         }
     }
 }
 
 /// Whether the union of `cover` (the cubes with `keep` true, all of them when `keep`
 /// is `None`) and `extra` contains cube `c`: the tautology of their cofactor by `c`,
-/// built in `buf` (cleared first).
+/// built in `buf` (cleared first). `Err(())` when `budget` runs out.
 fn covered_by(
     c: &Cube,
     cover: &[Cube],
     keep: Option<&[bool]>,
     extra: &[Cube],
     buf: &mut Vec<Cube>,
-) -> bool {
+    budget: &mut usize,
+) -> Result<bool, ()> {
     buf.clear();
     for (j, d) in cover.iter().enumerate() {
         if keep.is_none_or(|k| k[j]) {
@@ -157,12 +174,13 @@ fn covered_by(
         }
     }
     buf.extend(extra.iter().filter_map(|d| d.cofactor(c)));
-    tautology_in(buf, 0)
+    tautology_in(buf, 0, budget)
 }
 
 /// Whether cube `c` lies within the union of `cubes`.
 pub fn cube_covered(c: &Cube, cubes: &[Cube]) -> bool {
-    covered_by(c, cubes, None, &[], &mut Vec::new())
+    let mut unbounded = usize::MAX;
+    covered_by(c, cubes, None, &[], &mut Vec::new(), &mut unbounded) == Ok(true)
 }
 
 /// The complement of the union of `cubes`, as a cube list (unate-recursive paradigm),
@@ -260,30 +278,73 @@ fn merge_halves(bit: u64, neg: Vec<Cube>, pos: Vec<Cube>) -> Vec<Cube> {
     out
 }
 
+/// Recursion nodes one tautology check of irredundant may visit before the cube counts
+/// as needed (kept: the cover stays correct, perhaps a cube larger). Unbounded for
+/// [`tautology`] and [`cube_covered`], whose answers must be exact.
+pub const TAUTOLOGY_NODE_BUDGET: usize = 200_000;
+
+/// Recursion nodes one [`complement_supercube`] may visit before reduce gives up on
+/// the cube (and leaves it as it is: the cover stays correct, perhaps less small).
+/// The recursion is exponential in the worst case; random 41-variable one-hot machines
+/// of the soak ran for hours without a bound. Most calls need a few hundred nodes.
+pub const SUPERCUBE_NODE_BUDGET: usize = 200_000;
+
 /// The smallest cube containing the complement of the union of `buf[start..]`, `None`
 /// when that union is the whole space. The same recursion as [`complement`] without
 /// building the complement: the supercube of `x'·A + x·B` is the supercube of the two
 /// halves' supercubes (Brayton et al. 1984, the reduce step's "smallest cube containing
-/// the complement"). `buf` is scratch as in [`tautology_in`].
-fn complement_supercube(buf: &mut Vec<Cube>, start: usize) -> Option<Cube> {
+/// the complement"). Cubes that share no variable with the rest form components of
+/// their own: `(F1 + F2)' = F1'·F2'`, whose supercube is the two supercubes together
+/// (over disjoint variables), each found alone. `buf` is scratch as in
+/// [`tautology_in`]. `Err(())` when `budget` (nodes left) runs out.
+fn complement_supercube(
+    buf: &mut Vec<Cube>,
+    start: usize,
+    budget: &mut usize,
+) -> Result<Option<Cube>, ()> {
+    if *budget == 0 {
+        return Err(());
+    }
+    *budget -= 1;
     let end = buf.len();
     let cubes = &buf[start..end];
     if cubes.is_empty() {
-        return Some(Cube::UNIVERSE);
+        return Ok(Some(Cube::UNIVERSE));
     }
     if cubes.iter().any(|c| c.care == 0) {
-        return None;
+        return Ok(None);
     }
     if cubes.len() == 1 {
         // One literal: its opposite; more: the opposite literals span every variable.
         let c = cubes[0];
-        return Some(if c.care.count_ones() == 1 {
+        return Ok(Some(if c.care.count_ones() == 1 {
             Cube::new(!c.value, c.care)
         } else {
             Cube::UNIVERSE
-        });
+        }));
     }
-    let (bit, _) = split_variable(cubes)?;
+    let components = components(cubes);
+    if components.len() > 1 {
+        let mut together = Cube::UNIVERSE;
+        for vars in components {
+            for i in start..end {
+                if buf[i].care & vars != 0 {
+                    let c = buf[i];
+                    buf.push(c);
+                }
+            }
+            let part = complement_supercube(buf, end, budget);
+            buf.truncate(end);
+            match part? {
+                None => return Ok(None),
+                Some(p) => together = Cube::new(together.value | p.value, together.care | p.care),
+            }
+        }
+        return Ok(Some(together));
+    }
+    let Some((bit, _)) = split_variable(cubes) else {
+        return Ok(None);
+    };
     let mut halves = [None; 2];
     for (half, value) in [0, bit].into_iter().enumerate() {
         let by = Cube { value, care: bit };
@@ -292,15 +353,39 @@ fn complement_supercube(buf: &mut Vec<Cube>, start: usize) -> Option<Cube> {
                 buf.push(c);
             }
         }
-        halves[half] = complement_supercube(buf, end);
+        let result = complement_supercube(buf, end, budget);
         buf.truncate(end);
+        halves[half] = result?;
     }
-    match halves {
+    Ok(match halves {
         [None, None] => None,
         [Some(a), None] => Some(Cube::new(a.value, a.care | bit)),
         [None, Some(b)] => Some(Cube::new(b.value | bit, b.care | bit)),
         [Some(a), Some(b)] => Some(a.supercube(&b)),
+    })
+}
+
+/// The variable sets (as masks) of the connected components of `cubes`, two cubes
+/// being connected when they share a variable.
+fn components(cubes: &[Cube]) -> Vec<u64> {
+    let mut sets: Vec<u64> = Vec::new();
+    for c in cubes {
+        let mut merged = c.care;
+        sets.retain(|&s| {
+            if s & merged != 0 {
+                merged |= s;
+                false
+            } else {
+                true
+            }
+        });
+        // A merged set may now meet sets kept before it: merge until none does.
+        while let Some(i) = sets.iter().position(|&s| s & merged != 0) {
+            merged |= sets.swap_remove(i);
+        }
+        sets.push(merged);
     }
+    sets
 }
 
 /// Expands every cube of `cover` to a prime against the off-set `off`, removing cubes
@@ -369,7 +454,9 @@ pub fn irredundant(cover: &mut Vec<Cube>, dc: &[Cube]) {
     let mut buf = Vec::new();
     for i in order {
         alive[i] = false;
-        if !covered_by(&cover[i], cover, Some(&alive), dc, &mut buf) {
+        // Past the budget the cube counts as needed: kept, the cover stays correct.
+        let mut budget = TAUTOLOGY_NODE_BUDGET;
+        if covered_by(&cover[i], cover, Some(&alive), dc, &mut buf, &mut budget) != Ok(true) {
             alive[i] = true;
         }
     }
@@ -400,14 +487,96 @@ pub fn reduce(cover: &mut Vec<Cube>, dc: &[Cube]) {
             }
         }
         buf.extend(dc.iter().filter_map(|d| d.cofactor(&c)));
-        let Some(sup) = complement_supercube(&mut buf, 0) else {
-            cover.remove(i);
-            continue;
+        let mut budget = SUPERCUBE_NODE_BUDGET;
+        let sup = match complement_supercube(&mut buf, 0, &mut budget) {
+            Ok(Some(sup)) => sup,
+            Ok(None) => {
+                cover.remove(i);
+                continue;
+            }
+            // Too costly to tell: the cube stays as it is.
+            Err(()) => {
+                i += 1;
+                continue;
+            }
         };
         // Back into the space of c: the cofactor space lacks c's own literals.
         cover[i] = Cube::new(sup.value | c.value, (sup.care & !c.care) | c.care);
         i += 1;
     }
+}
+
+/// The part of the union of `cubes` outside the union of `by` (the sharp operation):
+/// each cube of `by` in turn cuts every cube it meets into the disjoint pieces outside
+/// it (`a # b` is `a` with one literal of `b` opposed, for each literal of `b` that `a`
+/// leaves free, the earlier ones held to `b`'s value). The pieces of one cube are
+/// disjoint; pieces of different cubes may overlap (no containment pass: the list is
+/// read as a set).
+///
+/// The cuts go largest cube of `by` first (fewest literals): a one-hot state pair
+/// `q_i q_j` turns `q_i x` into the single cube of the exact code before the narrower
+/// cubes of other states would cut it into pieces. The result is the same set in any
+/// order.
+pub fn sharp(cubes: &[Cube], by: &[Cube]) -> Vec<Cube> {
+    cut(cubes, by, false)
+}
+
+/// [`sharp`], except that a piece is cut only by the cubes of `by` that constrain one of
+/// its literals (share a variable it cares for): a cube of `by` over variables the piece
+/// leaves free is left overlapping it. In the result every piece is disjoint from each
+/// cube of `by` or shares no variable with it; the result lies between `cubes # by`
+/// and `cubes`.
+///
+/// This is how the logic port takes a function's off-set from the regions where it is
+/// 0 (instead of complementing the on- and don't-care sets, which is exponential in the
+/// worst case; one-hot machines of 41 variables ran for minutes): the exact sharp by
+/// the structural don't-cares multiplies each region by the "at most one due" patterns
+/// of every timer outside its scope (160,000 cubes for one function of a 12-state
+/// machine), while those don't-cares only ever sit over variables the region leaves
+/// free. The off-set then overlaps the don't-care set there, which keeps covers
+/// correct; that the covers stay the ones the complement gives is tested on random
+/// machines (`compiler/tests/logic_off_sets.rs`).
+pub fn cut_where_cared(cubes: &[Cube], by: &[Cube]) -> Vec<Cube> {
+    cut(cubes, by, true)
+}
+
+fn cut(cubes: &[Cube], by: &[Cube], only_cared: bool) -> Vec<Cube> {
+    let mut by = by.to_vec();
+    by.sort_unstable_by_key(size_order);
+    by.dedup();
+    let mut out: Vec<Cube> = cubes.to_vec();
+    let mut next = Vec::with_capacity(out.len());
+    // One pass cuts by every cube of `by`; only cared, a later cut can fix a variable
+    // that an earlier cube of `by` constrains, so passes repeat until none cuts.
+    let mut cutting = true;
+    while cutting {
+        cutting = false;
+        for b in &by {
+            next.clear();
+            for a in &out {
+                if a.conflict(b) != 0 || (only_cared && a.care & b.care == 0) {
+                    next.push(*a);
+                    continue;
+                }
+                // `a` meets `b`: the literals of `b` that `a` leaves free split it.
+                cutting = true;
+                let mut held = *a;
+                let mut free = b.care & !a.care;
+                while free != 0 {
+                    let bit = free & free.wrapping_neg();
+                    free &= !bit;
+                    let lit = b.value & bit;
+                    next.push(Cube::new(held.value | (lit ^ bit), held.care | bit));
+                    held = Cube::new(held.value | lit, held.care | bit);
+                }
+            }
+            std::mem::swap(&mut out, &mut next);
+        }
+        cutting &= only_cared;
+    }
+    out.sort_unstable_by_key(size_order);
+    out.dedup();
+    out
 }
 
 /// Statistics of a heuristic run.
@@ -422,20 +591,34 @@ pub struct HeuristicStats {
 /// Minimizes the function whose on-set is the union of `on` and whose don't-care set is
 /// the union of `dc` (cubes where both overlap count as don't-care for the cover and
 /// the on-set part outside `dc` must be covered). Returns a prime, irredundant cover.
+///
+/// The off-set is computed by [`complement`]; a caller that knows it already (see
+/// [`minimize_heuristic_against`]) should pass it instead.
 pub fn minimize_heuristic(on: &[Cube], dc: &[Cube]) -> (Vec<Cube>, HeuristicStats) {
-    let mut stats = HeuristicStats::default();
     let all: Vec<Cube> = on.iter().chain(dc.iter()).copied().collect();
-    let off = complement(&all);
+    minimize_heuristic_against(on, dc, &complement(&all))
+}
+
+/// [`minimize_heuristic`] with the off-set `off` given: it must cover every point
+/// outside `on ∪ dc` and meet no point of `on` outside `dc`. Only expand reads it, and
+/// only as a set (whether a cube meets it), so every cube list of the same set gives
+/// the same cover; a larger one (overlapping `dc`) gives a correct, maybe larger cover.
+pub fn minimize_heuristic_against(
+    on: &[Cube],
+    dc: &[Cube],
+    off: &[Cube],
+) -> (Vec<Cube>, HeuristicStats) {
+    let mut stats = HeuristicStats::default();
     stats.off_cubes = off.len();
     let mut cover: Vec<Cube> = on.to_vec();
     remove_contained(&mut cover);
-    expand(&mut cover, &off);
+    expand(&mut cover, off);
     irredundant(&mut cover, dc);
     let mut best = cover.clone();
     let mut best_cost = CoverCost::of(&best);
     loop {
         reduce(&mut cover, dc);
-        expand(&mut cover, &off);
+        expand(&mut cover, off);
         irredundant(&mut cover, dc);
         stats.passes += 1;
         let cost = CoverCost::of(&cover);
@@ -531,7 +714,9 @@ mod tests {
                 .map(|m| Cube::minterm(n, m))
                 .reduce(|a, b| a.supercube(&b));
             let mut buf = f.clone();
-            let got = complement_supercube(&mut buf, 0)
+            let mut unbounded = usize::MAX;
+            let got = complement_supercube(&mut buf, 0, &mut unbounded)
+                .unwrap()
                 .map(|c| Cube::new(c.value, c.care & full_mask(n)));
             assert_eq!(got, expected, "{f:?}");
             assert_eq!(buf, f, "the scratch buffer is restored");
@@ -668,6 +853,51 @@ mod tests {
         }
         remove_contained(&mut out);
         out
+    }
+
+    /// The sharp (and the cut only where cared) against enumeration; and the heuristic
+    /// given the off-set as a sharp gives the cover the complement gives, cube for cube.
+    #[test]
+    fn sharp_matches_enumeration_and_serves_as_the_off_set() {
+        let mut rng = SplitMix64::from_state(14);
+        for _ in 0..3000 {
+            let n = 1 + rng.below(9) as usize;
+            let a = random_list(&mut rng, n);
+            let b = random_list(&mut rng, n);
+            let d = sharp(&a, &b);
+            for m in 0..1u64 << n {
+                let want = in_union(&a, m) && !in_union(&b, m);
+                assert_eq!(in_union(&d, m), want, "{a:?} # {b:?} minterm {m}");
+            }
+            // Cutting only where cared: between the sharp and the cubes, and a cube of
+            // `by` is left over a piece only where the piece leaves all its variables free.
+            let c = cut_where_cared(&a, &b);
+            for m in 0..1u64 << n {
+                if in_union(&d, m) {
+                    assert!(in_union(&c, m), "{a:?} cut by {b:?}: minterm {m} lost");
+                }
+                if in_union(&c, m) {
+                    assert!(in_union(&a, m), "{a:?} cut by {b:?}: minterm {m} added");
+                }
+            }
+            for p in &c {
+                for x in &b {
+                    assert!(
+                        p.conflict(x) != 0 || p.care & x.care == 0,
+                        "{a:?} cut by {b:?}: piece {p:?} meets {x:?} on its own variables"
+                    );
+                }
+            }
+            // On-set a, don't-care b: the off-set is the universe minus both, here
+            // written as a sharp of the universe.
+            let all: Vec<Cube> = a.iter().chain(&b).copied().collect();
+            let off = sharp(&[Cube::UNIVERSE], &all);
+            assert_eq!(
+                minimize_heuristic_against(&a, &b, &off).0,
+                minimize_heuristic(&a, &b).0,
+                "{a:?} with don't-cares {b:?}"
+            );
+        }
     }
 
     #[test]

@@ -313,7 +313,7 @@ impl<'a> Evaluator<'a> {
         } else {
             None
         };
-        let cover = minimize_sets(&cf, table.as_ref())
+        let cover = minimize_sets(&cf, &set.off, table.as_ref())
             .map_err(|e| format!("function {}: {e}", set.name))?;
         self.lock_memo().insert(key, cover.literals);
         Ok(cover.literals)
