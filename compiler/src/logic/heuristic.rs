@@ -608,8 +608,10 @@ pub fn minimize_heuristic_against(
     dc: &[Cube],
     off: &[Cube],
 ) -> (Vec<Cube>, HeuristicStats) {
-    let mut stats = HeuristicStats::default();
-    stats.off_cubes = off.len();
+    let mut stats = HeuristicStats {
+        off_cubes: off.len(),
+        ..HeuristicStats::default()
+    };
     let mut cover: Vec<Cube> = on.to_vec();
     remove_contained(&mut cover);
     expand(&mut cover, off);
