@@ -339,17 +339,25 @@ pub fn check_cover(f: &Function, cover: &Cover) -> Result<(), String> {
     Ok(())
 }
 
+/// Validates `f` and checks that every on-cube lies in cover ∪ dc (a tautology check of
+/// the cover and don't-cares cofactored by the on-cube).
+fn check_on_set_covered(f: &CubeFunction, cover: &Cover) -> Result<(), String> {
+    f.validate()?;
+    let with_dc: Vec<Cube> = cover.cubes.iter().chain(f.dc.iter()).copied().collect();
+    match f.on.iter().find(|c| !heuristic::cube_covered(c, &with_dc)) {
+        Some(c) => Err(format!(
+            "on-set cube {} is not covered",
+            c.to_string(f.vars.len())
+        )),
+        None => Ok(()),
+    }
+}
+
 /// Checks a cover of a cube-list function with tautology checks: every on-cube lies in
 /// cover ∪ dc and every cover cube lies in on ∪ dc.
 pub fn check_cube_cover(f: &CubeFunction, cover: &Cover) -> Result<(), String> {
-    f.validate()?;
+    check_on_set_covered(f, cover)?;
     let n = f.vars.len();
-    let with_dc: Vec<Cube> = cover.cubes.iter().chain(f.dc.iter()).copied().collect();
-    for c in &f.on {
-        if !heuristic::cube_covered(c, &with_dc) {
-            return Err(format!("on-set cube {} is not covered", c.to_string(n)));
-        }
-    }
     let allowed: Vec<Cube> = f.on.iter().chain(f.dc.iter()).copied().collect();
     for c in &cover.cubes {
         if !heuristic::cube_covered(c, &allowed) {
@@ -371,14 +379,8 @@ pub fn check_cube_cover_against(
     off: &[Cube],
     cover: &Cover,
 ) -> Result<(), String> {
-    f.validate()?;
+    check_on_set_covered(f, cover)?;
     let n = f.vars.len();
-    let with_dc: Vec<Cube> = cover.cubes.iter().chain(f.dc.iter()).copied().collect();
-    for c in &f.on {
-        if !heuristic::cube_covered(c, &with_dc) {
-            return Err(format!("on-set cube {} is not covered", c.to_string(n)));
-        }
-    }
     for c in &cover.cubes {
         if let Some(o) = off.iter().find(|o| o.conflict(c) == 0) {
             return Err(format!(
@@ -400,6 +402,29 @@ mod tests {
 
     fn names(n: usize) -> Vec<String> {
         (0..n).map(|i| format!("x{i}")).collect()
+    }
+
+    /// The off-set check accepts the heuristic's cover and rejects a cover that meets
+    /// the off-set or leaves an on-cube out.
+    #[test]
+    fn the_cover_check_against_the_off_set_rejects_broken_covers() {
+        let cube = |s: &str| Cube::parse(s).unwrap();
+        // f = x0 x1 + x2 over 3 variables, off-set written as the regions would.
+        let f = CubeFunction {
+            vars: names(3),
+            on: vec![cube("11-"), cube("--1")],
+            dc: Vec::new(),
+        };
+        let off = vec![cube("0-0"), cube("100")];
+        let good = minimize_cubes_against(&f, &off).unwrap();
+        assert_eq!(good.cubes, minimize_cubes(&f).unwrap().cubes);
+        check_cube_cover_against(&f, &off, &good).unwrap();
+        let meets = Cover::new(vec![cube("1--"), cube("--1")], Method::Heuristic);
+        let err = check_cube_cover_against(&f, &off, &meets).unwrap_err();
+        assert!(err.contains("meets off-set cube 100"), "{err}");
+        let short = Cover::new(vec![cube("11-")], Method::Heuristic);
+        let err = check_cube_cover_against(&f, &off, &short).unwrap_err();
+        assert!(err.contains("on-set cube --1 is not covered"), "{err}");
     }
 
     #[test]
