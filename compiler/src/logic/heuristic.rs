@@ -16,7 +16,8 @@
 //!   cube swallow other cubes of the cover. Every expanded cube is prime. Cost
 //!   O(|F| n |R|) cube operations.
 //! * **irredundant**: a cube covered by the rest of the cover and `D` (a tautology check
-//!   of the cofactor) is dropped, trying cubes with the most literals first.
+//!   of the cofactor) is dropped, trying cubes with the most literals first; a check
+//!   past [`TAUTOLOGY_NODE_BUDGET`] keeps the cube.
 //! * **reduce**: each cube shrinks to the smallest cube containing the part of it that no
 //!   other cube (nor `D`) covers (the supercube of the complement of the cofactor), which
 //!   lets the next expand move in another direction. That supercube is found by the
@@ -286,7 +287,7 @@ pub const TAUTOLOGY_NODE_BUDGET: usize = 200_000;
 /// Recursion nodes one [`complement_supercube`] may visit before reduce gives up on
 /// the cube (and leaves it as it is: the cover stays correct, perhaps less small).
 /// The recursion is exponential in the worst case; random 41-variable one-hot machines
-/// of the soak ran for hours without a bound. Most calls need a few hundred nodes.
+/// of the soak ran for hours without a bound.
 pub const SUPERCUBE_NODE_BUDGET: usize = 200_000;
 
 /// The smallest cube containing the complement of the union of `buf[start..]`, `None`
