@@ -32,19 +32,7 @@ fn counterexample_replays_to_the_violation() {
     let spec = spec.to_str().unwrap();
 
     let out = detent(&["check", "--format", "json", spec]);
-    assert_eq!(
-        out.status.code(),
-        Some(1),
-        "a violated property is an error"
-    );
-    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let diag = report["machines"][0]["diagnostics"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|d| d["lint"] == "property")
-        .expect("a property diagnostic")
-        .clone();
+    let diag = detent_tests::property_diagnostic(&out);
     let trace = diag["trace"].as_array().expect("the counterexample trace");
     // Shortest: Start (door closed), Heat, Vent.
     let events: Vec<&str> = trace.iter().map(|s| s["event"].as_str().unwrap()).collect();
@@ -99,15 +87,7 @@ fn a_timed_counterexample_prints_with_counts_and_replays_to_the_violation() {
 
     // JSON: two entries, the second with `repeat`.
     let out = detent(&["check", "--format", "json", spec]);
-    assert_eq!(out.status.code(), Some(1));
-    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let diag = report["machines"][0]["diagnostics"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|d| d["lint"] == "property")
-        .expect("a property diagnostic")
-        .clone();
+    let diag = detent_tests::property_diagnostic(&out);
     assert_eq!(
         diag["trace"],
         serde_json::json!([

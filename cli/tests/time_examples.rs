@@ -53,15 +53,7 @@ fn burner_violation(
     std::fs::write(&spec, text.replace(from, to)).unwrap();
     let spec = spec.to_str().unwrap().to_string();
     let out = detent(&["check", "--format", "json", &spec], None);
-    assert_eq!(out.status.code(), Some(1));
-    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let diag = report["machines"][0]["diagnostics"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|d| d["lint"] == "property")
-        .expect("a property is violated")
-        .clone();
+    let diag = detent_tests::property_diagnostic(&out);
     (dir, spec, diag)
 }
 

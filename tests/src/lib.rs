@@ -12,6 +12,30 @@ pub mod rust_forms;
 
 use std::path::{Path, PathBuf};
 
+/// The first `property` diagnostic of the first machine in the output of
+/// `detent check --format json` on a spec with a violated property.
+///
+/// # Panics
+///
+/// When the check did not exit with 1 (a violated property is an error), its output
+/// is not JSON, or it has no `property` diagnostic.
+pub fn property_diagnostic(out: &std::process::Output) -> serde_json::Value {
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "a violated property is an error: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    report["machines"][0]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["lint"] == "property")
+        .expect("a property diagnostic")
+        .clone()
+}
+
 /// The workspace root (the directory holding the top-level `Cargo.toml`).
 pub fn workspace_root() -> PathBuf {
     let manifest_dir = Path::new(env!("CARGO_MANIFEST_DIR"));

@@ -1205,56 +1205,53 @@ pub(crate) fn function_sets(
             cubes
         };
         let cubes = region_cubes(lift(&state_cube(r.state), state_shift));
-        let exact = if encoding.is_one_hot() {
-            region_cubes(lift(&code_cube(r.state), state_shift))
+        // The off-set's cubes carry the whole state code: only one-hot codes differ.
+        let one_hot_exact;
+        let exact: &[Cube] = if encoding.is_one_hot() {
+            one_hot_exact = region_cubes(lift(&code_cube(r.state), state_shift));
+            &one_hot_exact
         } else {
-            cubes.clone()
+            &cubes
         };
+        // What this region makes of function `idx`: its cubes join the on- or
+        // don't-care set, or its exact cubes the off-set.
+        let mut place = |idx: usize, e: Excite| match e {
+            Excite::One => on[idx].extend_from_slice(&cubes),
+            Excite::DontCare => dc[idx].extend_from_slice(&cubes),
+            Excite::Zero => off[idx].extend_from_slice(exact),
+        };
+        let raised = |yes: bool| if yes { Excite::One } else { Excite::Zero };
         let (from, to) = (encoding.codes[r.state], encoding.codes[r.next]);
         for bit in 0..k {
             let need = ff.excitation(from >> bit & 1 == 1, to >> bit & 1 == 1);
-            for (input, e) in need.iter().enumerate() {
-                let idx = ff_index(bit, input);
-                match e {
-                    Excite::One => on[idx].extend_from_slice(&cubes),
-                    Excite::DontCare => dc[idx].extend_from_slice(&cubes),
-                    Excite::Zero => off[idx].extend_from_slice(&exact),
-                }
+            for (input, &e) in need.iter().enumerate() {
+                place(ff_index(bit, input), e);
             }
         }
-        for o in 0..spec.outputs.len() {
-            if spec.mealy_output[o] && (r.mealy.contains(&o) || spec.moore[r.state].contains(&o)) {
-                on[out_index(o)].extend_from_slice(&cubes);
-            } else {
-                off[out_index(o)].extend_from_slice(&exact);
-            }
+        // Moore-only outputs are functions of the state bits alone, built below.
+        for o in (0..spec.outputs.len()).filter(|&o| spec.mealy_output[o]) {
+            let yes = r.mealy.contains(&o) || spec.moore[r.state].contains(&o);
+            place(out_index(o), raised(yes));
         }
         for a in 0..spec.actions.len() {
-            if r.actions.contains(&a) {
-                on[act_index(a)].extend_from_slice(&cubes);
-            } else {
-                off[act_index(a)].extend_from_slice(&exact);
-            }
+            place(act_index(a), raised(r.actions.contains(&a)));
         }
         for (t, timer) in spec.timers.iter().enumerate() {
-            if !timer.active[r.next] {
-                // The next state is outside the scope: its timer is not read until the
-                // scope is entered again, which clears it (the choice's `resets` list
-                // it, but the register may skip the clear).
-                dc[clear_index(t)].extend_from_slice(&cubes);
-            } else if r.resets.contains(&t) {
-                // The lowered choice's `resets`: a scope the step enters restarts.
-                on[clear_index(t)].extend_from_slice(&cubes);
-            } else {
-                off[clear_index(t)].extend_from_slice(&exact);
-            }
+            place(
+                clear_index(t),
+                if timer.active[r.next] {
+                    // The lowered choice's `resets`: a scope the step enters restarts.
+                    raised(r.resets.contains(&t))
+                } else {
+                    // The next state is outside the scope: its timer is not read until
+                    // the scope is entered again, which clears it (the choice's `resets`
+                    // list it, but the register may skip the clear).
+                    Excite::DontCare
+                },
+            );
         }
         for j in 0..spec.controls.len() {
-            if r.controls.contains(&j) {
-                on[control_index(j)].extend_from_slice(&cubes);
-            } else {
-                off[control_index(j)].extend_from_slice(&exact);
-            }
+            place(control_index(j), raised(r.controls.contains(&j)));
         }
     }
 

@@ -206,15 +206,7 @@ fn complement_in(buf: &mut Vec<Cube>, start: usize) -> Vec<Cube> {
         // De Morgan, made disjoint: x1' + x1 x2' + x1 x2 x3' + ...
         let c = cubes[0];
         let mut out = Vec::with_capacity(c.literals());
-        let mut prefix = Cube::UNIVERSE;
-        let mut bits = c.care;
-        while bits != 0 {
-            let bit = bits & bits.wrapping_neg();
-            bits &= !bit;
-            let lit = c.value & bit;
-            out.push(Cube::new(prefix.value | (lit ^ bit), prefix.care | bit));
-            prefix = Cube::new(prefix.value | lit, prefix.care | bit);
-        }
+        push_outside(&Cube::UNIVERSE, &c, &mut out);
         return out;
     }
     let Some((bit, _)) = split_variable(cubes) else {
@@ -233,6 +225,22 @@ fn complement_in(buf: &mut Vec<Cube>, start: usize) -> Vec<Cube> {
     }
     let [neg, pos] = halves;
     merge_halves(bit, neg, pos)
+}
+
+/// Pushes the disjoint pieces of cube `a` outside cube `b` (which meets it): for each
+/// literal of `b` that `a` leaves free, `a` with that literal opposed and the earlier
+/// ones held to `b`'s value (`x1' + x1 x2' + ...`; De Morgan made disjoint when `a` is
+/// the universe). Nothing when `b` contains `a`.
+fn push_outside(a: &Cube, b: &Cube, out: &mut Vec<Cube>) {
+    let mut held = *a;
+    let mut free = b.care & !a.care;
+    while free != 0 {
+        let bit = free & free.wrapping_neg();
+        free &= !bit;
+        let lit = b.value & bit;
+        out.push(Cube::new(held.value | (lit ^ bit), held.care | bit));
+        held = Cube::new(held.value | lit, held.care | bit);
+    }
 }
 
 /// The order [`remove_contained`] and [`complement`] leave cube lists in: fewest
@@ -559,17 +567,8 @@ fn cut(cubes: &[Cube], by: &[Cube], only_cared: bool) -> Vec<Cube> {
                     next.push(*a);
                     continue;
                 }
-                // `a` meets `b`: the literals of `b` that `a` leaves free split it.
                 cutting = true;
-                let mut held = *a;
-                let mut free = b.care & !a.care;
-                while free != 0 {
-                    let bit = free & free.wrapping_neg();
-                    free &= !bit;
-                    let lit = b.value & bit;
-                    next.push(Cube::new(held.value | (lit ^ bit), held.care | bit));
-                    held = Cube::new(held.value | lit, held.care | bit);
-                }
+                push_outside(a, b, &mut next);
             }
             std::mem::swap(&mut out, &mut next);
         }
